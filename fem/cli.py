@@ -1,0 +1,46 @@
+"""Command line: `quaver check DECK`, `quaver run DECK`. Heavy imports happen inside commands."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+__all__ = ["main"]
+
+CAUTION = ("Caution: results support, and never replace, the judgement of a qualified engineer; "
+           "local codes and licensed practice govern.")
+
+
+def _parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(prog="quaver", description="Frequencies, mode shapes and "
+                                "responses of 3D beam and truss structures from a text deck.")
+    sub = p.add_subparsers(dest="command", required=True)
+    c = sub.add_parser("check", help="parse and validate a deck, print a model summary")
+    c.add_argument("deck")
+    r = sub.add_parser("run", help="solve every case the deck asks for")
+    r.add_argument("deck")
+    r.add_argument("--out", help="results folder (default results/<deck name>/)")
+    return p
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = _parser().parse_args(argv)
+    from .errors import QuaverError
+
+    try:
+        if args.command == "check":
+            from .deck.reader import read_deck
+
+            model = read_deck(args.deck)
+            lo, hi = model.bounding_box()
+            print(f"{model.title or args.deck}: {model.n_nodes} nodes, {model.n_members} members, "
+                  f"total mass {model.total_mass():.6g} kg")
+            print(f"bounding box {lo} .. {hi} m")
+            print(CAUTION)
+            return 0
+        from .run import run_deck
+
+        return run_deck(args.deck, args.out)
+    except QuaverError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2

@@ -1,0 +1,101 @@
+"""Quantities with physical dimensions; everything is converted to SI on reading.
+
+A dimension is a tuple of exponents of (kg, m, s, rad-free). Angles are dimensionless
+(rad = 1, deg = pi/180).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+__all__ = ["Quantity", "UNITS", "DIMENSIONS", "dim_name", "unit_value"]
+
+# exponents of (mass, length, time)
+Dim = tuple[int, int, int]
+NONE: Dim = (0, 0, 0)
+
+
+@dataclass(frozen=True)
+class Quantity:
+    value: float
+    dim: Dim = NONE
+
+    def _same(self, other: "Quantity", op: str) -> None:
+        if self.dim != other.dim:
+            raise ArithmeticError(f"cannot {op} {dim_name(self.dim)} and {dim_name(other.dim)}")
+
+    def __add__(self, o):
+        self._same(o, "add")
+        return Quantity(self.value + o.value, self.dim)
+
+    def __sub__(self, o):
+        self._same(o, "subtract")
+        return Quantity(self.value - o.value, self.dim)
+
+    def __mul__(self, o):
+        return Quantity(self.value * o.value, tuple(a + b for a, b in zip(self.dim, o.dim)))
+
+    def __truediv__(self, o):
+        if o.value == 0:
+            raise ArithmeticError("division by zero")
+        return Quantity(self.value / o.value, tuple(a - b for a, b in zip(self.dim, o.dim)))
+
+    def __neg__(self):
+        return Quantity(-self.value, self.dim)
+
+    def __pow__(self, o):
+        if o.dim != NONE:
+            raise ArithmeticError("an exponent must be a plain number")
+        p = o.value
+        if self.dim != NONE and p != int(p):
+            raise ArithmeticError("a quantity with units can only be raised to a whole power")
+        return Quantity(self.value ** p, tuple(int(a * p) for a in self.dim))
+
+
+_k, _m, _s = (1, 0, 0), (0, 1, 0), (0, 0, 1)
+LENGTH, MASS, TIME = (0, 1, 0), (1, 0, 0), (0, 0, 1)
+FORCE = (1, 1, -2)
+PRESSURE = (1, -1, -2)
+DENSITY = (1, -3, 0)
+ACCEL = (0, 1, -2)
+MOMENT = (1, 2, -2)
+FREQ = (0, 0, -1)
+
+DIMENSIONS: dict[Dim, str] = {
+    NONE: "a plain number", LENGTH: "a length", MASS: "a mass", TIME: "a time",
+    FORCE: "a force", PRESSURE: "a stress or modulus", DENSITY: "a density",
+    ACCEL: "an acceleration", MOMENT: "a moment", FREQ: "a frequency",
+    (0, 2, 0): "an area", (0, 4, 0): "a second moment of area", (1, 0, -2): "a force per length",
+    (1, -1, 0): "a mass per length", (1, 2, 0): "a rotary inertia", (0, 1, -1): "a velocity",
+    (0, 3, 0): "a volume", (1, 0, -1): "a damping per length",
+}
+
+
+def dim_name(d: Dim) -> str:
+    if d in DIMENSIONS:
+        return DIMENSIONS[d]
+    names = ("kg", "m", "s")
+    return " ".join(f"{n}^{e}" for n, e in zip(names, d) if e) or "a plain number"
+
+
+# symbol -> (factor to SI, dimension)
+UNITS: dict[str, tuple[float, Dim]] = {
+    "m": (1.0, LENGTH), "mm": (1e-3, LENGTH), "cm": (1e-2, LENGTH), "km": (1e3, LENGTH),
+    "in": (0.0254, LENGTH), "ft": (0.3048, LENGTH),
+    "kg": (1.0, MASS), "g": (1e-3, MASS), "t": (1e3, MASS), "lb": (0.45359237, MASS),
+    "s": (1.0, TIME), "ms": (1e-3, TIME), "min": (60.0, TIME),
+    "N": (1.0, FORCE), "kN": (1e3, FORCE), "MN": (1e6, FORCE), "kip": (4448.2216152605, FORCE),
+    "lbf": (4.4482216152605, FORCE),
+    "Pa": (1.0, PRESSURE), "kPa": (1e3, PRESSURE), "MPa": (1e6, PRESSURE),
+    "GPa": (1e9, PRESSURE), "psi": (6894.757293168, PRESSURE), "ksi": (6894757.293168, PRESSURE),
+    "Hz": (1.0, FREQ), "rpm": (1.0 / 60.0, FREQ),
+    "rad": (1.0, NONE), "deg": (math.pi / 180.0, NONE), "percent": (0.01, NONE),
+    "gee": (9.80665, ACCEL),
+}
+
+
+def unit_value(symbol: str) -> Quantity | None:
+    """The SI quantity of one unit symbol, or None if unknown."""
+    entry = UNITS.get(symbol)
+    return Quantity(*entry) if entry else None

@@ -1,0 +1,27 @@
+"""Batched element matrices (frame and truss members), vectorised over elements."""
+
+from .frame import (
+    condense_load,
+    condense_releases,
+    frame_mass,
+    frame_stiffness,
+    local_axes,
+    to_global,
+    transform_matrix,
+    truss_mass,
+    truss_stiffness,
+    uniform_load_fixed_end,
+)
+
+__all__ = [
+    "condense_load",
+    "condense_releases",
+    "frame_mass",
+    "frame_stiffness",
+    "local_axes",
+    "to_global",
+    "transform_matrix",
+    "truss_mass",
+    "truss_stiffness",
+    "uniform_load_fixed_end",
+]

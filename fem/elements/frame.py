@@ -1,0 +1,364 @@
+"""Batched local matrices for 3D frame (beam) and truss members.
+
+Every function works on ``n`` elements at once: scalar inputs broadcast to
+length ``n``, matrices come back as ``(n, 12, 12)`` and load vectors as
+``(n, 12)``.  No Python loop runs over elements.
+
+Element DOF order (local and global), node i then node j::
+
+    0 ux_i  1 uy_i  2 uz_i  3 rx_i  4 ry_i  5 rz_i
+    6 ux_j  7 uy_j  8 uz_j  9 rx_j 10 ry_j 11 rz_j
+
+Local x runs from node i to node j.  ``Iy`` is the second moment about local
+y (bending in the x-z plane: displacement w along z, rotation ry = -dw/dx);
+``Iz`` is about local z (bending in the x-y plane: displacement v along y,
+rotation rz = +dv/dx).  Units are consistent SI (N, m, kg, rad).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = [
+    "condense_load",
+    "condense_releases",
+    "frame_mass",
+    "frame_stiffness",
+    "local_axes",
+    "to_global",
+    "transform_matrix",
+    "truss_mass",
+    "truss_stiffness",
+    "uniform_load_fixed_end",
+]
+
+_PARALLEL_TOL = 1.0 - 1e-9
+
+
+def _vec(a, n=None):
+    """1-D float array, broadcast to length n when n is given."""
+    a = np.atleast_1d(np.asarray(a, dtype=float))
+    if n is not None:
+        a = np.broadcast_to(a, (n,))
+    return a
+
+
+def _bcast(*arrays):
+    """Broadcast scalars / 1-D arrays to one common length n."""
+    arrs = np.broadcast_arrays(*[np.atleast_1d(np.asarray(a, dtype=float)) for a in arrays])
+    return [np.ascontiguousarray(a) for a in arrs]
+
+
+def local_axes(xi, xj, roll=None, up=None):
+    """Local axis triads and lengths of members.
+
+    Parameters
+    ----------
+    xi, xj : (n, 3) array_like
+        Coordinates of end i and end j (m).
+    roll : (n,) array_like, optional
+        Rotation of local y, z about local x (rad, right-hand positive).
+    up : (n, 3) array_like, optional
+        Reference vector per member; default global Z.  Members (near)
+        parallel to global Z use global X instead of the default.
+
+    Returns
+    -------
+    R : (n, 3, 3) ndarray
+        Rows are local x, y, z unit vectors in global coordinates.
+    L : (n,) ndarray
+        Member lengths (m).
+
+    Notes
+    -----
+    Local z is the normalised part of the reference vector perpendicular to
+    x; local y = z x x.  A horizontal member along +X thus has y = +Y,
+    z = +Z.  Raises ValueError for zero-length members or a given ``up``
+    parallel to the member.
+    """
+    xi = np.atleast_2d(np.asarray(xi, dtype=float))
+    xj = np.atleast_2d(np.asarray(xj, dtype=float))
+    d = xj - xi
+    n = d.shape[0]
+    L = np.linalg.norm(d, axis=1)
+    bad = np.flatnonzero(~(L > 0))
+    if bad.size:
+        raise ValueError(f"zero-length member(s) at element index {bad.tolist()}")
+    ex = d / L[:, None]
+    if up is None:
+        ref = np.tile([0.0, 0.0, 1.0], (n, 1))
+        vert = np.abs(ex[:, 2]) > _PARALLEL_TOL
+        ref[vert] = [1.0, 0.0, 0.0]
+    else:
+        ref = np.broadcast_to(np.asarray(up, dtype=float), (n, 3)).copy()
+        rn = np.linalg.norm(ref, axis=1)
+        bad = np.flatnonzero(~(rn > 0))
+        if bad.size:
+            raise ValueError(f"zero 'up' vector at element index {bad.tolist()}")
+        ref /= rn[:, None]
+        bad = np.flatnonzero(np.abs(np.einsum("ij,ij->i", ex, ref)) > _PARALLEL_TOL)
+        if bad.size:
+            raise ValueError(
+                "'up' vector is parallel to the member axis at element index "
+                f"{bad.tolist()}; choose an up vector not along the member")
+    ez = ref - np.einsum("ij,ij->i", ref, ex)[:, None] * ex
+    ez /= np.linalg.norm(ez, axis=1)[:, None]
+    ey = np.cross(ez, ex)
+    if roll is not None:
+        th = _vec(roll, n)
+        c, s = np.cos(th)[:, None], np.sin(th)[:, None]
+        ey, ez = c * ey + s * ez, -s * ey + c * ez
+    R = np.stack([ex, ey, ez], axis=1)
+    return R, L
+
+
+def _phi(E, I, G, As, L):
+    """Shear-flexibility ratio 12EI/(G As L^2); zero where As is absent or <= 0."""
+    if As is None:
+        return np.zeros_like(L)
+    As = np.broadcast_to(np.asarray(As, dtype=float), L.shape)
+    out = np.zeros_like(L)
+    ok = As > 0
+    out[ok] = 12.0 * E[ok] * I[ok] / (G[ok] * As[ok] * L[ok] ** 2)
+    return out
+
+
+def _sym_fill(k, idx, vals):
+    """Set k[:, a, b] = k[:, b, a] = v for each (a, b) in idx."""
+    for (a, b), v in zip(idx, vals):
+        k[:, a, b] = v
+        k[:, b, a] = v
+
+
+def _bending_blocks(k, EI, L, phi, v, r, sgn):
+    """Add 2-node bending stiffness for DOFs (v_i, r_i, v_j, r_j); sgn=-1 for x-z plane."""
+    vi, ri, vj, rj = v, r, v + 6, r + 6
+    c = EI / (L ** 3 * (1.0 + phi))
+    a = 12.0 * c
+    b = sgn * 6.0 * L * c
+    d = (4.0 + phi) * L ** 2 * c
+    e = (2.0 - phi) * L ** 2 * c
+    _sym_fill(k, [(vi, vi), (vj, vj), (vi, vj), (ri, ri), (rj, rj), (ri, rj),
+                  (vi, ri), (vi, rj), (vj, ri), (vj, rj)],
+              [a, a, -a, d, d, e, b, b, -b, -b])
+
+
+def frame_stiffness(L, E, G, A, Iy, Iz, J, Avy=None, Avz=None):
+    """Local stiffness of 3D two-node frame members.
+
+    Parameters
+    ----------
+    L, E, G, A, Iy, Iz, J : (n,) array_like or scalars
+        Length (m), Young's and shear moduli (Pa), area (m^2), second
+        moments about local y and z (m^4), torsion constant (m^4).
+    Avy, Avz : (n,) array_like, optional
+        Shear areas for shear along local y and z (m^2).  Entries > 0 add
+        Timoshenko shear flexibility: bending in x-y (Iz) uses
+        phi_y = 12 E Iz / (G Avy L^2); bending in x-z (Iy) uses
+        phi_z = 12 E Iy / (G Avz L^2).  Zero or None: Euler-Bernoulli.
+
+    Returns
+    -------
+    k : (n, 12, 12) ndarray, local axes (N/m, N, N m).
+    """
+    L, E, G, A, Iy, Iz, J = _bcast(L, E, G, A, Iy, Iz, J)
+    n = L.shape[0]
+    k = np.zeros((n, 12, 12))
+    ea = E * A / L
+    gj = G * J / L
+    _sym_fill(k, [(0, 0), (6, 6), (0, 6), (3, 3), (9, 9), (3, 9)],
+              [ea, ea, -ea, gj, gj, -gj])
+    phi_y = _phi(E, Iz, G, Avy, L)
+    phi_z = _phi(E, Iy, G, Avz, L)
+    _bending_blocks(k, E * Iz, L, phi_y, 1, 5, +1.0)
+    _bending_blocks(k, E * Iy, L, phi_z, 2, 4, -1.0)
+    return k
+
+
+def frame_mass(L, rho, A, Iy, Iz, J, nsm=0.0, lumped=False):
+    """Local mass of 3D frame members.
+
+    Parameters
+    ----------
+    L, rho, A, Iy, Iz, J : (n,) array_like or scalars
+        Length (m), density (kg/m^3), area (m^2), second moments (m^4);
+        ``J`` is accepted for a uniform signature but the torsional inertia
+        uses the polar moment Ip = Iy + Iz.
+    nsm : (n,) array_like or scalar
+        Non-structural mass per length (kg/m), added to rho*A in the
+        translational terms only.
+    lumped : bool
+        False: consistent mass (cubic Hermite bending, linear axial and
+        torsion; bending rotary inertia is neglected).  True: half the
+        member mass (rho*A + nsm)*L/2 on each node's three translations,
+        torsional inertia rho*Ip*L/2 on each rx, and zero for ry, rz.
+
+    Returns
+    -------
+    m : (n, 12, 12) ndarray, local axes (kg, kg m, kg m^2).
+    """
+    L, rho, A, Iy, Iz, nsm = _bcast(L, rho, A, Iy, Iz, nsm)
+    n = L.shape[0]
+    mL = (rho * A + nsm) * L
+    tL = rho * (Iy + Iz) * L
+    m = np.zeros((n, 12, 12))
+    if lumped:
+        for d in (0, 1, 2, 6, 7, 8):
+            m[:, d, d] = mL / 2.0
+        m[:, 3, 3] = m[:, 9, 9] = tL / 2.0
+        return m
+    _sym_fill(m, [(0, 0), (6, 6), (0, 6), (3, 3), (9, 9), (3, 9)],
+              [mL / 3, mL / 3, mL / 6, tL / 3, tL / 3, tL / 6])
+    c = mL / 420.0
+    for v, r, sgn in ((1, 5, 1.0), (2, 4, -1.0)):
+        vi, ri, vj, rj = v, r, v + 6, r + 6
+        _sym_fill(m, [(vi, vi), (vj, vj), (vi, vj), (ri, ri), (rj, rj), (ri, rj),
+                      (vi, ri), (vi, rj), (vj, ri), (vj, rj)],
+                  [156 * c, 156 * c, 54 * c, 4 * L ** 2 * c, 4 * L ** 2 * c,
+                   -3 * L ** 2 * c, sgn * 22 * L * c, sgn * -13 * L * c,
+                   sgn * 13 * L * c, sgn * -22 * L * c])
+    return m
+
+
+def truss_stiffness(L, E, A):
+    """Local stiffness of truss (axial-only) members, (n, 12, 12)."""
+    L, E, A = _bcast(L, E, A)
+    k = np.zeros((L.shape[0], 12, 12))
+    ea = E * A / L
+    _sym_fill(k, [(0, 0), (6, 6), (0, 6)], [ea, ea, -ea])
+    return k
+
+
+def truss_mass(L, rho, A, nsm=0.0, lumped=False):
+    """Local mass of truss members, (n, 12, 12).
+
+    Consistent: m L/6 [[2, 1], [1, 2]] for each of ux, uy, uz (the transverse
+    terms are the rigid-link mass of a bar with linear displacement).
+    Lumped: m L/2 on each translation.  Rotations carry no mass.
+    ``m = rho*A + nsm`` (kg/m).
+    """
+    L, rho, A, nsm = _bcast(L, rho, A, nsm)
+    mL = (rho * A + nsm) * L
+    m = np.zeros((L.shape[0], 12, 12))
+    for d in (0, 1, 2):
+        if lumped:
+            m[:, d, d] = m[:, d + 6, d + 6] = mL / 2.0
+        else:
+            _sym_fill(m, [(d, d), (d + 6, d + 6), (d, d + 6)], [mL / 3, mL / 3, mL / 6])
+    return m
+
+
+def _patterns(released, n):
+    rel = np.broadcast_to(np.asarray(released, dtype=bool), (n, 12))
+    pats, inv = np.unique(rel, axis=0, return_inverse=True)
+    return pats, np.asarray(inv).reshape(-1)
+
+
+def condense_releases(k, released):
+    """Statically condense released end DOFs (hinges) out of local stiffness.
+
+    Parameters
+    ----------
+    k : (n, 12, 12) ndarray
+        Local stiffness.
+    released : (n, 12) bool array_like
+        True where the member end force is zero.
+
+    Returns
+    -------
+    kc : (n, 12, 12) ndarray
+        K_aa - K_ab K_bb^-1 K_ba on retained DOFs a, zero rows and columns at
+        released DOFs b.  Elements are grouped by release pattern; only the
+        few distinct patterns are looped over.
+    """
+    k = np.asarray(k, dtype=float)
+    kc = k.copy()
+    pats, inv = _patterns(released, k.shape[0])
+    for p, pat in enumerate(pats):
+        if not pat.any():
+            continue
+        sel = np.flatnonzero(inv == p)
+        a, b = np.flatnonzero(~pat), np.flatnonzero(pat)
+        ks = k[sel]
+        kab = ks[:, a][:, :, b]
+        kbb = ks[:, b][:, :, b]
+        kba = ks[:, b][:, :, a]
+        kaa = ks[:, a][:, :, a]
+        out = np.zeros_like(ks)
+        out[np.ix_(np.arange(len(sel)), a, a)] = kaa - kab @ np.linalg.solve(kbb, kba)
+        kc[sel] = out
+    return kc
+
+
+def condense_load(k, f, released):
+    """Condense an element load vector consistently with condense_releases.
+
+    Returns f_a - K_ab K_bb^-1 f_b on retained DOFs and zero at released
+    DOFs; ``k`` (n, 12, 12) is the uncondensed local stiffness, ``f`` (n, 12).
+    """
+    k = np.asarray(k, dtype=float)
+    f = np.array(f, dtype=float, copy=True)
+    pats, inv = _patterns(released, k.shape[0])
+    for p, pat in enumerate(pats):
+        if not pat.any():
+            continue
+        sel = np.flatnonzero(inv == p)
+        a, b = np.flatnonzero(~pat), np.flatnonzero(pat)
+        ks = k[sel]
+        kab = ks[:, a][:, :, b]
+        kbb = ks[:, b][:, :, b]
+        fs = f[sel]
+        corr = (kab @ np.linalg.solve(kbb, fs[:, b][:, :, None]))[:, :, 0]
+        out = np.zeros_like(fs)
+        out[:, a] = fs[:, a] - corr
+        f[sel] = out
+    return f
+
+
+def transform_matrix(R):
+    """Block-diagonal (n, 12, 12) transform with R on the four 3x3 blocks (u_local = T u_global)."""
+    R = np.asarray(R, dtype=float)
+    T = np.zeros((R.shape[0], 12, 12))
+    for b in range(4):
+        T[:, 3 * b:3 * b + 3, 3 * b:3 * b + 3] = R
+    return T
+
+
+def to_global(k_local, R):
+    """Global matrix T^T k T, (n, 12, 12), by batched matmul."""
+    T = transform_matrix(R)
+    return np.swapaxes(T, 1, 2) @ np.asarray(k_local, dtype=float) @ T
+
+
+def uniform_load_fixed_end(L, w):
+    """Equivalent nodal loads of a uniform load along the member, local axes.
+
+    Parameters
+    ----------
+    L : (n,) array_like
+        Lengths (m).
+    w : (n, 3) array_like
+        Load per length along local x, y, z (N/m).
+
+    Returns
+    -------
+    f : (n, 12) ndarray
+        Loads applied to the nodes (fixed-end reactions with reversed sign):
+        w_x L/2 axially at each end; w_y L/2 and rz = +w_y L^2/12 at i,
+        -w_y L^2/12 at j; w_z L/2 and ry = -w_z L^2/12 at i, +w_z L^2/12 at j.
+    """
+    L = _vec(L)
+    w = np.atleast_2d(np.asarray(w, dtype=float))
+    n = max(L.shape[0], w.shape[0])
+    L = np.broadcast_to(L, (n,))
+    w = np.broadcast_to(w, (n, 3))
+    f = np.zeros((n, 12))
+    half = w * (L / 2.0)[:, None]
+    f[:, 0:3] = half
+    f[:, 6:9] = half
+    m = L ** 2 / 12.0
+    f[:, 5] = w[:, 1] * m
+    f[:, 11] = -w[:, 1] * m
+    f[:, 4] = -w[:, 2] * m
+    f[:, 10] = w[:, 2] * m
+    return f

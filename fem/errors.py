@@ -1,0 +1,83 @@
+"""Quaver's exception tree.
+
+::
+
+    QuaverError
+    +-- DeckError(QuaverError, ValueError)          a mistake in the deck, with its location
+    +-- ModelError(QuaverError, ValueError)         a model that cannot be analysed as given
+    |   +-- MechanismError(ModelError)              singular stiffness: free nodes and directions
+    +-- ResultsError(QuaverError, OSError)          results could not be written
+
+The CLI prints any QuaverError as one message and exits with status 2.
+"""
+
+from __future__ import annotations
+
+import difflib
+from dataclasses import dataclass
+
+__all__ = ["QuaverError", "DeckError", "ModelError", "MechanismError", "ResultsError",
+           "Location", "suggest"]
+
+
+class QuaverError(Exception):
+    """Base of every error Quaver reports to a user."""
+
+
+@dataclass(frozen=True)
+class Location:
+    file: str
+    line: int
+    column: int
+    source_line: str = ""
+
+    def __str__(self) -> str:
+        return f"{self.file}:{self.line}:{self.column}"
+
+
+class DeckError(QuaverError, ValueError):
+    """A mistake in the deck text; carries the file, line and column."""
+
+    def __init__(self, message: str, location: Location | None = None, hint: str = ""):
+        self.message = message
+        self.location = location
+        self.hint = hint
+        super().__init__(self.render())
+
+    def render(self) -> str:
+        head = f"{self.location}: {self.message}" if self.location else self.message
+        parts = [head]
+        if self.location and self.location.source_line:
+            parts.append("    " + self.location.source_line.rstrip("\n"))
+            parts.append("    " + " " * (self.location.column - 1) + "^")
+        if self.hint:
+            parts.append(f"hint: {self.hint}")
+        return "\n".join(parts)
+
+
+class ModelError(QuaverError, ValueError):
+    """A model that parses but cannot be analysed (for example no mass for a modes case)."""
+
+
+class MechanismError(ModelError):
+    """The stiffness matrix is singular; `free` lists (node, direction) pairs that are unrestrained."""
+
+    def __init__(self, message: str, free: list[tuple[str, str]]):
+        self.free = free
+        super().__init__(message)
+
+
+class ResultsError(QuaverError, OSError):
+    """Results could not be written."""
+
+
+def suggest(name: str, known, n: int = 3) -> str:
+    """'; did you mean X?' text for an unknown name, or a list of what exists."""
+    known = list(known)
+    close = difflib.get_close_matches(name, known, n=n, cutoff=0.5)
+    if close:
+        return "did you mean " + " or ".join(f"'{c}'" for c in close) + "?"
+    if not known:
+        return "none is defined yet"
+    shown = ", ".join(known[:8]) + (", ..." if len(known) > 8 else "")
+    return f"defined: {shown}"

@@ -1,0 +1,132 @@
+"""The validated model: plain dataclasses and arrays ready for vectorised assembly.
+
+Units are SI throughout (m, kg, s, N, Pa, rad). Node DOFs are ordered
+ux, uy, uz, rx, ry, rz; global DOF of node n, direction d is 6*n + d.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import Location
+from .sections import SectionProps
+
+__all__ = ["DIRECTIONS", "Material", "Section", "LoadItem", "LoadCase", "Combination", "Model"]
+
+DIRECTIONS = ("ux", "uy", "uz", "rx", "ry", "rz")
+
+
+@dataclass(frozen=True)
+class Material:
+    name: str
+    E: float        # Pa
+    G: float        # Pa
+    density: float  # kg/m^3
+
+
+@dataclass(frozen=True)
+class Section:
+    name: str
+    props: SectionProps
+
+
+@dataclass
+class LoadItem:
+    kind: str                 # "force", "moment", "line"
+    targets: np.ndarray       # node or member indices
+    vector: np.ndarray        # (3,) SI, global axes
+    location: Location | None = None
+
+
+@dataclass
+class LoadCase:
+    name: str
+    kind: str                               # "static", "modes", ...
+    loads: list[LoadItem] = field(default_factory=list)
+    gravity: np.ndarray | None = None       # (3,) m/s^2
+    options: dict = field(default_factory=dict)  # key -> (value, Location)
+    location: Location | None = None
+
+
+@dataclass
+class Combination:
+    name: str
+    factors: dict[str, float]
+    location: Location | None = None
+
+
+@dataclass
+class Model:
+    """Nodes, members and everything attached to them.
+
+    Attributes (n nodes, e members)
+    ----------
+    coords : (n, 3) node coordinates, m
+    conn : (e, 2) node indices of member ends i, j
+    truss : (e,) bool, axial-only members
+    E, G, rho : (e,) material per member, Pa, Pa, kg/m^3
+    A, Iy, Iz, J, Avy, Avz : (e,) section per member, m^2 / m^4
+    roll : (e,) rad; up : (e, 3) reference vectors (nan rows where none given)
+    nsm : (e,) non-structural mass per length, kg/m
+    releases : (e, 12) bool, released local end DOFs
+    restraint : (n, 6) bool, restrained DOFs
+    springs : (n, 6) spring stiffness to ground, N/m or N m/rad
+    point_mass : (n, 6) mass and rotary inertia at nodes, kg and kg m^2
+    """
+
+    title: str
+    node_names: list[str]
+    coords: np.ndarray
+    member_names: list[str]
+    conn: np.ndarray
+    truss: np.ndarray
+    E: np.ndarray
+    G: np.ndarray
+    rho: np.ndarray
+    A: np.ndarray
+    Iy: np.ndarray
+    Iz: np.ndarray
+    J: np.ndarray
+    Avy: np.ndarray
+    Avz: np.ndarray
+    roll: np.ndarray
+    up: np.ndarray
+    nsm: np.ndarray
+    releases: np.ndarray
+    restraint: np.ndarray
+    springs: np.ndarray
+    point_mass: np.ndarray
+    materials: dict[str, Material] = field(default_factory=dict)
+    sections: dict[str, Section] = field(default_factory=dict)
+    member_section: list[str] = field(default_factory=list)
+    member_material: list[str] = field(default_factory=list)
+    cases: list[LoadCase] = field(default_factory=list)
+    combinations: list[Combination] = field(default_factory=list)
+    settings: dict = field(default_factory=dict)
+    source: str = ""
+
+    @property
+    def n_nodes(self) -> int:
+        return len(self.node_names)
+
+    @property
+    def n_members(self) -> int:
+        return len(self.member_names)
+
+    @property
+    def lengths(self) -> np.ndarray:
+        d = self.coords[self.conn[:, 1]] - self.coords[self.conn[:, 0]]
+        return np.linalg.norm(d, axis=1)
+
+    def member_mass(self) -> np.ndarray:
+        """Mass of each member (structural plus non-structural), kg."""
+        return (self.rho * self.A + self.nsm) * self.lengths
+
+    def total_mass(self) -> float:
+        """Translational mass of the whole model: members plus point masses, kg."""
+        return float(self.member_mass().sum() + self.point_mass[:, 0].sum())
+
+    def bounding_box(self) -> tuple[np.ndarray, np.ndarray]:
+        return self.coords.min(axis=0), self.coords.max(axis=0)
