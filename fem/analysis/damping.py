@@ -1,0 +1,27 @@
+"""Rayleigh and modal damping ratios."""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = ["rayleigh_coefficients", "rayleigh_ratios"]
+
+
+def rayleigh_coefficients(f1, zeta1, f2, zeta2):
+    """a0 (1/s), a1 (s) of C = a0 M + a1 K giving zeta1 at f1 and zeta2 at f2 (Hz)."""
+    if not (f1 > 0 and f2 > 0 and f1 != f2):
+        raise ValueError(f"Rayleigh damping needs two distinct positive frequencies; got {f1}, {f2} Hz")
+    wi, wj = 2 * np.pi * f1, 2 * np.pi * f2
+    den = wj**2 - wi**2
+    a0 = 2 * wi * wj * (zeta1 * wj - zeta2 * wi) / den
+    a1 = 2 * (zeta2 * wj - zeta1 * wi) / den
+    return float(a0), float(a1)
+
+
+def rayleigh_ratios(omega, a0, a1):
+    """zeta = a0/(2w) + a1 w/2 per mode, shape (k,); rigid modes (w = 0) get 0."""
+    w = np.asarray(omega, dtype=float)
+    out = np.zeros_like(w)
+    pos = w > 0
+    out[pos] = a0 / (2 * w[pos]) + a1 * w[pos] / 2
+    return out

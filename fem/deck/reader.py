@@ -1,0 +1,625 @@
+"""Read a deck file into a validated Model.
+
+Parsing is lark LALR with the contextual lexer; meaning comes from our own walk over the tree
+(never Python eval). Every user error is a DeckError with file, line and column.
+"""
+
+from __future__ import annotations
+
+import fnmatch
+import math
+from functools import lru_cache
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+from lark import Lark, Token, Tree
+from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
+
+from ..errors import DeckError, Location, suggest
+from ..model import DIRECTIONS, Combination, LoadCase, LoadItem, Material, Model, Section
+from ..sections import make_section
+from . import units as U
+from .units import Quantity
+
+__all__ = ["read_deck", "read_text"]
+
+WILD = None  # dimension of a bare literal 0, which fits any dimension
+_FUNCS = {"sqrt": math.sqrt, "sin": math.sin, "cos": math.cos, "tan": math.tan,
+          "atan": math.atan, "abs": abs, "exp": math.exp, "log": math.log}
+_ASSUMABLE = {"length": U.LENGTH, "force": U.FORCE, "mass": U.MASS, "time": U.TIME,
+              "stress": U.PRESSURE, "density": U.DENSITY}
+_TOKEN_WORDS = {"NAME": "a name", "NUMBER": "a number", "QUANTITY": "a number with a unit",
+                "STRING": 'a quoted text', "LBRACE": "'{'", "RBRACE": "'}'", "LPAR": "'('",
+                "RPAR": "')'", "EQUAL": "'='", "COMMA": "','", "PATTERN": "a name pattern",
+                "COLON": "':'", "__ANON_0": "'->'", "__ANON_1": "'..'", "$END": "the end of the file"}
+
+
+@lru_cache(maxsize=1)
+def _parser() -> Lark:
+    here = Path(__file__).resolve().parents[2] / "grammar" / "deck.lark"
+    text = here.read_text() if here.exists() else \
+        resources.files("fem.grammar").joinpath("deck.lark").read_text()
+    return Lark(text, parser="lalr", lexer="contextual", propagate_positions=True)
+
+
+class _Reader:
+    def __init__(self, top: Path):
+        self.top_dir = top.resolve().parent
+        self.vars: dict[str, Quantity] = {"pi": Quantity(math.pi), "g0": Quantity(9.80665, U.ACCEL)}
+        self.assumed: dict[tuple, float] = {}
+        self.title = ""
+        self.nodes: dict[str, tuple[np.ndarray, Location]] = {}
+        self.members: dict[str, dict] = {}
+        self.materials: dict[str, Material] = {}
+        self.sections: dict[str, Section] = {}
+        self.groups: dict[str, list[str]] = {}
+        self.supports: list = []
+        self.springs: list = []
+        self.masses: list = []
+        self.cases: list = []
+        self.combos: list = []
+        self.settings: dict = {}
+        self.stack: list[Path] = []
+        self.lines: dict[Path, list[str]] = {}
+        self.token_file: dict[int, Path] = {}
+
+    # ---------- files and locations
+    def read_file(self, path: Path, where: Location | None = None) -> None:
+        path = path.resolve()
+        if path in self.stack:
+            raise DeckError(f"'{path.name}' includes itself (through {' -> '.join(p.name for p in self.stack)})", where)
+        if self.top_dir not in path.parents and path.parent != self.top_dir:
+            raise DeckError(f"include '{path}' is outside the deck's folder {self.top_dir}", where,
+                            "keep included decks in the same folder as the top deck or below it")
+        try:
+            text = path.read_text(encoding="utf-8")
+        except OSError as exc:
+            raise DeckError(f"cannot read deck '{path}': {exc.strerror}", where) from None
+        self.lines[path] = text.splitlines()
+        self.stack.append(path)
+        try:
+            tree = self.parse(text, path)
+            for stmt in tree.children:
+                self.statement(stmt)
+        finally:
+            self.stack.pop()
+
+    def loc(self, item) -> Location:
+        meta = getattr(item, "meta", None)
+        path = self.token_file.get(id(item)) or getattr(meta, "qfile", None) or self.stack[-1]
+        if isinstance(item, Token):
+            line, col = item.line, item.column
+        else:
+            meta = item.meta
+            line, col = getattr(meta, "line", 1), getattr(meta, "column", 1)
+        src = self.lines[path][line - 1] if 0 < line <= len(self.lines[path]) else ""
+        return Location(path.name, line, col, src)
+
+    def parse(self, text: str, path: Path) -> Tree:
+        try:
+            return _parser().parse(text)
+        except UnexpectedInput as exc:
+            lines = text.splitlines()
+            line, col = getattr(exc, "line", 1) or 1, getattr(exc, "column", 1) or 1
+            if isinstance(exc, UnexpectedEOF) or line < 1:
+                line = max(len(lines), 1)
+                col = len(lines[-1]) + 1 if lines else 1
+            src = lines[line - 1] if 0 < line <= len(lines) else ""
+            where = Location(path.name, line, col, src)
+            if isinstance(exc, UnexpectedCharacters):
+                raise DeckError(f"unexpected character {text[exc.pos_in_stream]!r}", where) from None
+            expected = sorted({_TOKEN_WORDS.get(t, repr(t.strip('"').lower())) for t in exc.expected})
+            found = "the end of the file" if isinstance(exc, UnexpectedEOF) else \
+                repr(str(exc.token)) if isinstance(exc, UnexpectedToken) else "this"
+            raise DeckError(f"unexpected {found}; expected {', '.join(expected[:8])}", where) from None
+
+    # ---------- expressions
+    def eval(self, t) -> Quantity:
+        if isinstance(t, Token):
+            raise DeckError(f"expected a value, found {t!s}", self.loc(t))
+        d = t.data
+        ch = t.children
+        try:
+            if d == "number":
+                v = float(ch[0])
+                return Quantity(v, WILD if v == 0 else U.NONE)
+            if d == "quantity":
+                return self.quantity(ch[0])
+            if d == "var":
+                name = str(ch[0])
+                if name not in self.vars:
+                    raise DeckError(f"'{name}' is not defined; {suggest(name, self.vars)}", self.loc(ch[0]))
+                return self.vars[name]
+            if d == "call":
+                fname = str(ch[0])
+                args = [self.eval(a) for a in ch[1:]]
+                return self.call(fname, args, ch[0])
+            ops = {"add": "__add__", "sub": "__sub__", "mul": "__mul__", "div": "__truediv__",
+                   "pow": "__pow__"}
+            if d in ops:
+                a, b = self.eval(ch[0]), self.eval(ch[1])
+                return _binary(a, b, ops[d])
+            if d == "neg":
+                return -self.eval(ch[0])
+            if len(ch) == 1:   # unary plus
+                return self.eval(ch[0])
+        except ArithmeticError as exc:
+            raise DeckError(str(exc), self.loc(t)) from None
+        raise DeckError(f"expected a single value here, found {d}", self.loc(t))
+
+    def quantity(self, tok: Token) -> Quantity:
+        text = str(tok)
+        i = 0
+        while i < len(text) and (text[i].isdigit() or text[i] in ".eE+-") and not (
+                text[i] in "eE" and (i + 1 >= len(text) or not (text[i + 1].isdigit() or text[i + 1] in "+-"))):
+            i += 1
+        value, unit = float(text[:i]), text[i:].strip()
+        q = Quantity(value)
+        for k, part in enumerate(_split_unit(unit)):
+            op, sym, power = part
+            base = U.unit_value(sym)
+            if base is None:
+                raise DeckError(f"unknown unit '{sym}'; {suggest(sym, U.UNITS)}", self.loc(tok))
+            base = base ** Quantity(power)
+            q = q * base if op == "*" else q / base
+        return q
+
+    def call(self, fname, args, tok) -> Quantity:
+        if fname not in _FUNCS:
+            raise DeckError(f"unknown function '{fname}'; {suggest(fname, _FUNCS)}", self.loc(tok))
+        if fname == "sqrt" and len(args) == 1:
+            a = args[0]
+            dim = a.dim if a.dim is not WILD else U.NONE
+            if any(e % 2 for e in dim):
+                raise DeckError(f"sqrt of {U.dim_name(dim)} has no whole-power unit", self.loc(tok))
+            if a.value < 0:
+                raise DeckError("sqrt of a negative number", self.loc(tok))
+            return Quantity(math.sqrt(a.value), tuple(e // 2 for e in dim))
+        if fname == "abs":
+            return Quantity(abs(args[0].value), args[0].dim)
+        for a in args:
+            if a.dim not in (U.NONE, WILD):
+                raise DeckError(f"{fname}() takes a plain number or an angle, got {U.dim_name(a.dim)}", self.loc(tok))
+        try:
+            return Quantity(_FUNCS[fname](*[a.value for a in args]))
+        except (ValueError, TypeError, OverflowError) as exc:
+            raise DeckError(f"{fname}(): {exc}", self.loc(tok)) from None
+
+    def value(self, t, dim, what: str) -> float:
+        """Evaluate t and check it has dimension `dim`; return the SI float."""
+        q = self.eval(t)
+        if q.dim is WILD or q.dim == dim:
+            v = q.value
+        elif q.dim == U.NONE and (f := self.assumed_factor(dim)) is not None:
+            v = q.value * f
+        elif q.dim == U.NONE:
+            raise DeckError(f"{what} needs {U.dim_name(dim)}, but a bare number was given", self.loc(t),
+                            "write the unit after the number, e.g. '6 m', or declare 'assume length in m'")
+        else:
+            raise DeckError(f"{what} needs {U.dim_name(dim)}, but {U.dim_name(q.dim)} was given", self.loc(t))
+        if not math.isfinite(v):
+            raise DeckError(f"{what} is not a finite number", self.loc(t))
+        return v
+
+    def vector(self, t, dim, what: str, n: int = 3) -> np.ndarray:
+        if not (isinstance(t, Tree) and t.data == "vector") or len(t.children) != n:
+            raise DeckError(f"{what} needs a vector of {n} values like (x, y, z)", self.loc(t))
+        return np.array([self.value(c, dim, what) for c in t.children])
+
+    def assumed_factor(self, dim):
+        if dim == U.NONE:
+            return 1.0
+        if dim in self.assumed:
+            return self.assumed[dim]
+        if not self.assumed:
+            return None
+        fl = self.assumed.get(U.LENGTH)
+        ft = self.assumed.get(U.TIME, 1.0)
+        fm = self.assumed.get(U.MASS)
+        if fm is None and U.FORCE in self.assumed and fl:
+            fm = self.assumed[U.FORCE] * ft ** 2 / fl
+        need = dict(zip((0, 1, 2), dim))
+        if (need[0] and fm is None) or (need[1] and fl is None):
+            return None
+        return (fm or 1.0) ** need[0] * (fl or 1.0) ** need[1] * ft ** need[2]
+
+    # ---------- names
+    def name(self, t) -> str:
+        if isinstance(t, Token):
+            return str(t)
+        base = str(t.children[0])
+        if len(t.children) > 1 and t.children[1] is not None:
+            parts = []
+            for e in t.children[1].children:
+                q = self.eval(e)
+                if q.dim not in (U.NONE, WILD) or q.value != int(q.value):
+                    raise DeckError("a name index must be a whole number", self.loc(e))
+                parts.append(str(int(q.value)))
+            base += "_".join(parts)
+        return base
+
+    def targets(self, t, table: dict, what: str) -> list[str]:
+        """Resolve a name, group or glob pattern to names defined in `table`."""
+        if isinstance(t, Token) and t.type == "PATTERN":
+            hit = [n for n in table if fnmatch.fnmatchcase(n, str(t))]
+            if not hit:
+                raise DeckError(f"pattern '{t}' matches no {what}", self.loc(t))
+            return hit
+        n = self.name(t)
+        if n in self.groups:
+            out = [m for m in self.groups[n] if m in table]
+            if not out:
+                raise DeckError(f"group '{n}' holds no {what}", self.loc(t))
+            return out
+        if n not in table:
+            raise DeckError(f"{what} '{n}' is not defined; {suggest(n, list(table) + list(self.groups))}", self.loc(t))
+        return [n]
+
+    # ---------- statements
+    def statement(self, s: Tree) -> None:
+        path = self.stack[-1]
+        for sub in s.iter_subtrees():
+            sub.meta.qfile = path
+            for c in sub.children:
+                if isinstance(c, Token):
+                    self.token_file[id(c)] = path
+        getattr(self, "st_" + s.data)(s)
+
+    def st_title(self, s):
+        self.title = str(s.children[0])[1:-1]
+
+    def st_let(self, s):
+        self.vars[str(s.children[0])] = self.eval(s.children[1])
+
+    def st_assume(self, s):
+        what, unit = str(s.children[0]), str(s.children[1])
+        if what not in _ASSUMABLE:
+            raise DeckError(f"cannot assume units for '{what}'; {suggest(what, _ASSUMABLE)}", self.loc(s.children[0]))
+        q = U.unit_value(unit)
+        if q is None or q.dim != _ASSUMABLE[what]:
+            raise DeckError(f"'{unit}' is not a unit of {what}", self.loc(s.children[1]))
+        self.assumed[_ASSUMABLE[what]] = q.value
+
+    def st_include(self, s):
+        rel = str(s.children[0])[1:-1]
+        self.read_file(self.stack[-1].parent / rel, self.loc(s))
+
+    def st_settings(self, s):
+        for opt in s.children:
+            if opt is None:
+                continue
+            key, val = str(opt.children[0]), opt.children[1]
+            word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
+            self.settings[key] = (word if word is not None else val, self.loc(opt))
+
+    def st_material(self, s):
+        name = self.name(s.children[0])
+        props = {}
+        for opt in s.children[1:]:
+            if opt is None:
+                continue
+            key = str(opt.children[0])
+            dims = {"E": U.PRESSURE, "G": U.PRESSURE, "nu": U.NONE, "density": U.DENSITY}
+            if key not in dims:
+                raise DeckError(f"material {name}: unknown property '{key}'; {suggest(key, dims)}", self.loc(opt))
+            props[key] = self.value(opt.children[1], dims[key], f"material {name}: {key}")
+        where = self.loc(s)
+        if "E" not in props:
+            raise DeckError(f"material {name} needs E (Young's modulus)", where)
+        if props["E"] <= 0:
+            raise DeckError(f"material {name}: E must be positive", where)
+        if "G" not in props:
+            if "nu" not in props:
+                raise DeckError(f"material {name} needs G or nu", where)
+            if not -1 < props["nu"] < 0.5:
+                raise DeckError(f"material {name}: nu must lie between -1 and 0.5", where)
+            props["G"] = props["E"] / (2 * (1 + props["nu"]))
+        if props["G"] <= 0:
+            raise DeckError(f"material {name}: G must be positive", where)
+        dens = props.get("density", 0.0)
+        if dens < 0:
+            raise DeckError(f"material {name}: density cannot be negative", where)
+        self.materials[name] = Material(name, props["E"], props["G"], dens)
+
+    def st_section(self, s):
+        name = self.name(s.children[0])
+        shape = str(s.children[1])
+        params = {}
+        for kw in s.children[2:]:
+            if kw is None:
+                continue
+            key = str(kw.children[0])
+            dim = {"A": (0, 2, 0), "Avy": (0, 2, 0), "Avz": (0, 2, 0), "Iy": (0, 4, 0),
+                   "Iz": (0, 4, 0), "J": (0, 4, 0)}.get(key, U.LENGTH)
+            params[key] = self.value(kw.children[1], dim, f"section {name}: {key}")
+        try:
+            self.sections[name] = Section(name, make_section(shape, params))
+        except ValueError as exc:
+            raise DeckError(f"section {name}: {exc}", self.loc(s)) from None
+
+    def st_node(self, s):
+        name = self.name(s.children[0])
+        if name in self.nodes:
+            raise DeckError(f"node {name} is defined twice (first at {self.nodes[name][1]})", self.loc(s))
+        self.nodes[name] = (self.vector(s.children[1], U.LENGTH, f"node {name}"), self.loc(s))
+
+    def st_member(self, s):
+        ch = s.children
+        name = self.name(ch[0])
+        if name in self.members:
+            raise DeckError(f"member {name} is defined twice", self.loc(s))
+        kind = str(ch[3])
+        if kind not in ("beam", "truss"):
+            raise DeckError(f"member {name}: kind must be 'beam' or 'truss', not '{kind}'", self.loc(ch[3]))
+        m = dict(name=name, i=(self.name(ch[1]), ch[1]), j=(self.name(ch[2]), ch[2]), kind=kind,
+                 section=(self.name(ch[4]), ch[4]), material=(self.name(ch[5]), ch[5]),
+                 roll=0.0, up=None, nsm=0.0, releases=np.zeros(12, bool), loc=self.loc(s))
+        for opt in ch[6:]:
+            if opt.data == "release":
+                end = str(opt.children[0])
+                if end not in ("i", "j"):
+                    raise DeckError(f"member {name}: release end must be 'i' or 'j', not '{end}'", self.loc(opt))
+                for d in opt.children[1].children:
+                    if str(d) not in DIRECTIONS:
+                        raise DeckError(f"unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
+                    m["releases"][DIRECTIONS.index(str(d)) + (6 if end == "j" else 0)] = True
+                continue
+            key, val = str(opt.children[0]), opt.children[1]
+            if key == "roll":
+                m["roll"] = self.value(val, U.NONE, f"member {name}: roll")
+            elif key == "up":
+                m["up"] = self.vector(val, U.NONE, f"member {name}: up")
+            elif key == "nsm":
+                m["nsm"] = self.value(val, (1, -1, 0), f"member {name}: nsm")
+            else:
+                raise DeckError(f"member {name}: unknown option '{key}'; {suggest(key, ['roll', 'up', 'nsm'])}", self.loc(opt))
+        self.members[name] = m
+
+    def st_support(self, s):
+        target, how = s.children
+        if isinstance(how, Token):
+            fixes = {"fixed": DIRECTIONS, "pinned": DIRECTIONS[:3]}
+            if str(how) not in fixes:
+                raise DeckError(f"support must be 'fixed', 'pinned' or a list like (ux, uy); {suggest(str(how), fixes)}", self.loc(how))
+            dirs = fixes[str(how)]
+        else:
+            dirs = []
+            for d in how.children:
+                if str(d) not in DIRECTIONS:
+                    raise DeckError(f"unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
+                dirs.append(str(d))
+        self.supports.append((target, dirs))
+
+    def st_spring(self, s):
+        target, *kws = s.children
+        vals = {}
+        for kw in kws:
+            d = str(kw.children[0])
+            if d not in DIRECTIONS:
+                raise DeckError(f"unknown direction '{d}'; {suggest(d, DIRECTIONS)}", self.loc(kw))
+            dim = (1, 0, -2) if d.startswith("u") else U.MOMENT
+            vals[d] = self.value(kw.children[1], dim, f"spring {d}")
+        self.springs.append((target, vals))
+
+    def st_mass(self, s):
+        target, value, *opts = s.children
+        m = self.value(value, U.MASS, "mass")
+        inertia = np.zeros(3)
+        for opt in opts:
+            if str(opt.children[0]) != "inertia":
+                raise DeckError(f"mass: unknown option '{opt.children[0]}'; use inertia = (Ixx, Iyy, Izz)", self.loc(opt))
+            inertia = self.vector(opt.children[1], (1, 2, 0), "mass inertia")
+        if m < 0 or (inertia < 0).any():
+            raise DeckError("a mass or inertia cannot be negative", self.loc(s))
+        self.masses.append((target, np.r_[m, m, m, inertia]))
+
+    def st_group(self, s):
+        name = self.name(s.children[0])
+        members = []
+        for t in s.children[1:]:
+            table = {**{k: 1 for k in self.nodes}, **{k: 1 for k in self.members}}
+            members += self.targets(t, table, "node or member")
+        self.groups[name] = members
+
+    def st_case(self, s):
+        name, kind, *items = s.children
+        self.cases.append((self.name(name), str(kind), [i for i in items if i is not None], self.loc(s)))
+
+    def st_combo(self, s):
+        self.combos.append((self.name(s.children[0]), s.children[1], self.loc(s)))
+
+    def st_loop(self, s):
+        var, lo, hi, *body = s.children
+        a, b = self.eval(lo), self.eval(hi)
+        for q in (a, b):
+            if q.dim not in (U.NONE, WILD) or q.value != int(q.value):
+                raise DeckError("loop bounds must be whole numbers", self.loc(s))
+        if b.value - a.value > 1_000_000:
+            raise DeckError("loop runs more than a million times", self.loc(s))
+        saved = self.vars.get(str(var))
+        for k in range(int(a.value), int(b.value) + 1):
+            self.vars[str(var)] = Quantity(float(k), WILD if k == 0 else U.NONE)
+            for st in body:
+                self.statement(st)
+        if saved is not None:
+            self.vars[str(var)] = saved
+
+    # ---------- building the model
+    def build(self) -> Model:
+        node_names = list(self.nodes)
+        nidx = {n: k for k, n in enumerate(node_names)}
+        coords = np.array([self.nodes[n][0] for n in node_names]).reshape(-1, 3)
+        mems = list(self.members.values())
+        e = len(mems)
+        conn = np.zeros((e, 2), int)
+        cols = {k: np.zeros(e) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "Avy", "Avz", "roll", "nsm")}
+        up = np.full((e, 3), np.nan)
+        releases = np.zeros((e, 12), bool)
+        truss = np.zeros(e, bool)
+        for k, m in enumerate(mems):
+            for end, col in (("i", 0), ("j", 1)):
+                nm, tok = m[end]
+                if nm not in nidx:
+                    raise DeckError(f"member {m['name']}: node '{nm}' is not defined; {suggest(nm, node_names)}", self.loc_of(tok, m))
+                conn[k, col] = nidx[nm]
+            sname, stok = m["section"]
+            if sname not in self.sections:
+                raise DeckError(f"member {m['name']} uses section '{sname}', which is not defined; {suggest(sname, self.sections)}", m["loc"])
+            mname, mtok = m["material"]
+            if mname not in self.materials:
+                raise DeckError(f"member {m['name']} uses material '{mname}', which is not defined; {suggest(mname, self.materials)}", m["loc"])
+            sp, mat = self.sections[sname].props, self.materials[mname]
+            for key, val in (("E", mat.E), ("G", mat.G), ("rho", mat.density), ("A", sp.A), ("Iy", sp.Iy),
+                             ("Iz", sp.Iz), ("J", sp.J), ("Avy", sp.Avy), ("Avz", sp.Avz),
+                             ("roll", m["roll"]), ("nsm", m["nsm"])):
+                cols[key][k] = val
+            if m["up"] is not None:
+                up[k] = m["up"]
+            releases[k] = m["releases"]
+            truss[k] = m["kind"] == "truss"
+            if conn[k, 0] == conn[k, 1] or np.linalg.norm(coords[conn[k, 1]] - coords[conn[k, 0]]) < 1e-9:
+                raise DeckError(f"member {m['name']} has zero length (its ends coincide)", m["loc"])
+        n = len(node_names)
+        restraint = np.zeros((n, 6), bool)
+        for target, dirs in self.supports:
+            for nm in self.targets(target, nidx, "node"):
+                restraint[nidx[nm], [DIRECTIONS.index(d) for d in dirs]] = True
+        springs = np.zeros((n, 6))
+        for target, vals in self.springs:
+            for nm in self.targets(target, nidx, "node"):
+                for d, v in vals.items():
+                    springs[nidx[nm], DIRECTIONS.index(d)] += v
+        pmass = np.zeros((n, 6))
+        for target, vec in self.masses:
+            for nm in self.targets(target, nidx, "node"):
+                pmass[nidx[nm]] += vec
+        midx = {m["name"]: k for k, m in enumerate(mems)}
+        cases = [self.build_case(c, nidx, midx) for c in self.cases]
+        names = {c.name for c in cases}
+        combos = [Combination(nm, _combo_factors(self, tree, names), where) for nm, tree, where in self.combos]
+        settings = {}
+        for key, (val, where) in self.settings.items():
+            if key == "mass":
+                if val not in ("consistent", "lumped"):
+                    raise DeckError("settings: mass must be 'consistent' or 'lumped'", where)
+                settings[key] = val
+            elif key == "shear":
+                if val not in ("on", "off"):
+                    raise DeckError("settings: shear must be 'on' or 'off'", where)
+                settings[key] = val == "on"
+            else:
+                raise DeckError(f"settings: unknown key '{key}'; {suggest(key, ['mass', 'shear'])}", where)
+        return Model(title=self.title, node_names=node_names, coords=coords,
+                     member_names=[m["name"] for m in mems], conn=conn, truss=truss,
+                     up=up, releases=releases, restraint=restraint, springs=springs,
+                     point_mass=pmass, materials=self.materials, sections=self.sections,
+                     member_section=[m["section"][0] for m in mems],
+                     member_material=[m["material"][0] for m in mems],
+                     cases=cases, combinations=combos, settings=settings, **cols)
+
+    def loc_of(self, tok, m) -> Location:
+        return m["loc"]
+
+    def build_case(self, c, nidx, midx) -> LoadCase:
+        name, kind, items, where = c
+        case = LoadCase(name, kind, location=where)
+        for it in items:
+            if it.data == "option":
+                key, val = str(it.children[0]), it.children[1]
+                if key == "gravity":
+                    case.gravity = self.vector(val, U.ACCEL, f"case {name}: gravity")
+                else:
+                    case.options[key] = (val, self.loc(it))
+                continue
+            kindname, target, val = it.children
+            kindname = str(kindname)
+            spec = {"force": (U.FORCE, nidx, "node"), "moment": (U.MOMENT, nidx, "node"),
+                    "line": ((1, 0, -2), midx, "member")}
+            if kindname not in spec:
+                raise DeckError(f"case {name}: unknown load '{kindname}'; {suggest(kindname, spec)}", self.loc(it))
+            dim, table, what = spec[kindname]
+            names = self.targets(target, table, what)
+            vec = self.vector(val, dim, f"case {name}: {kindname}")
+            case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it)))
+        return case
+
+
+def _binary(a: Quantity, b: Quantity, op: str) -> Quantity:
+    if op in ("__add__", "__sub__"):
+        if a.dim is WILD:
+            a = Quantity(a.value, b.dim)
+        if b.dim is WILD:
+            b = Quantity(b.value, a.dim)
+        if a.dim is WILD:
+            return Quantity(getattr(a.value, op)(b.value), WILD)
+    elif op == "__pow__":
+        a = Quantity(a.value, U.NONE if a.dim is WILD else a.dim)
+        b = Quantity(b.value, U.NONE)
+    else:
+        if a.dim is WILD or b.dim is WILD:
+            if op == "__truediv__" and b.value == 0:
+                raise ArithmeticError("division by zero")
+            return Quantity(0.0 if a.value == 0 else getattr(a.value, op)(b.value), WILD)
+    return getattr(a, op)(b)
+
+
+def _split_unit(unit: str):
+    """'kg/m^3' -> [('*','kg',1), ('/','m',3)]"""
+    out, op, buf = [], "*", ""
+    for ch in unit + "*":
+        if ch in "*/":
+            sym, _, p = buf.partition("^")
+            out.append((op, sym, int(p) if p else 1))
+            op, buf = ch, ""
+        else:
+            buf += ch
+    return out
+
+
+def _combo_factors(r: _Reader, t, cases: set[str]) -> dict[str, float]:
+    if isinstance(t, Tree) and t.data == "var":
+        n = str(t.children[0])
+        if n not in cases:
+            raise DeckError(f"combination refers to case '{n}', which is not defined; {suggest(n, cases)}", r.loc(t))
+        return {n: 1.0}
+    if isinstance(t, Tree) and t.data in ("add", "sub"):
+        a, b = (_combo_factors(r, c, cases) for c in t.children)
+        s = 1.0 if t.data == "add" else -1.0
+        for k, v in b.items():
+            a[k] = a.get(k, 0.0) + s * v
+        return a
+    if isinstance(t, Tree) and t.data == "neg":
+        return {k: -v for k, v in _combo_factors(r, t.children[0], cases).items()}
+    if isinstance(t, Tree) and t.data == "mul":
+        x, y = t.children
+        if isinstance(y, Tree) and y.data in ("var", "add", "sub", "neg", "mul"):
+            f = r.value(x, U.NONE, "combination factor")
+            return {k: f * v for k, v in _combo_factors(r, y, cases).items()}
+    raise DeckError("a combination is a sum of factor*CASE terms, e.g. 1.35*DEAD + 1.5*PIPES", r.loc(t))
+
+
+def read_deck(path) -> Model:
+    """Read and validate the deck at `path` (and its includes) into a Model."""
+    path = Path(path)
+    if not path.is_file():
+        raise DeckError(f"deck '{path}' does not exist")
+    r = _Reader(path)
+    r.read_file(path)
+    model = r.build()
+    model.source = str(path)
+    return model
+
+
+def read_text(text: str, name: str = "deck.deck", folder: str | Path = ".") -> Model:
+    """Read a deck from a string (used by tests); includes resolve relative to `folder`."""
+    path = Path(folder) / name
+    r = _Reader(path)
+    r.lines[path.resolve()] = text.splitlines()
+    r.stack.append(path.resolve())
+    for stmt in r.parse(text, path).children:
+        r.statement(stmt)
+    r.stack.pop()
+    r.stack.append(path.resolve())
+    model = r.build()
+    return model
