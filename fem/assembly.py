@@ -1,0 +1,78 @@
+"""DOF map and vectorised assembly of global K and M (COO triplets -> CSR once)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+
+from . import elements as el
+from .model import Model
+
+__all__ = ["Assembled", "assemble", "element_matrices"]
+
+
+@dataclass
+class Assembled:
+    """Global matrices over all 6 n DOFs, and the free/restrained split.
+
+    K, M : (6n, 6n) CSR; R : (e, 3, 3) member local axes; k_local : (e, 12, 12) condensed local K
+    free : (n_free,) indices of unrestrained DOFs
+    """
+
+    K: sp.csr_matrix
+    M: sp.csr_matrix
+    R: np.ndarray
+    L: np.ndarray
+    k_local: np.ndarray
+    free: np.ndarray
+    fixed: np.ndarray
+
+
+def element_matrices(model: Model):
+    """Batched local stiffness and mass (e, 12, 12), axes R (e, 3, 3) and lengths L (e,)."""
+    xi, xj = model.coords[model.conn[:, 0]], model.coords[model.conn[:, 1]]
+    up = np.where(np.isnan(model.up).any(axis=1, keepdims=True), np.nan, model.up)
+    has_up = ~np.isnan(up).any(axis=1)
+    R, L = el.local_axes(xi, xj, roll=model.roll)
+    if has_up.any():
+        R2, _ = el.local_axes(xi[has_up], xj[has_up], roll=model.roll[has_up], up=up[has_up])
+        R[has_up] = R2
+    shear = model.settings.get("shear", False)
+    lumped = model.settings.get("mass", "consistent") == "lumped"
+    k = el.frame_stiffness(L, model.E, model.G, model.A, model.Iy, model.Iz, model.J,
+                           model.Avy if shear else None, model.Avz if shear else None)
+    m = el.frame_mass(L, model.rho, model.A, model.Iy, model.Iz, model.J, model.nsm, lumped)
+    t = model.truss
+    if t.any():
+        k[t] = el.truss_stiffness(L[t], model.E[t], model.A[t])
+        m[t] = el.truss_mass(L[t], model.rho[t], model.A[t], model.nsm[t], lumped)
+    rel = model.releases & ~t[:, None]
+    if rel.any():
+        k = el.condense_releases(k, rel)
+    return k, m, R, L
+
+
+def assemble(model: Model) -> Assembled:
+    """Assemble K and M with springs and point masses; no Python loop over members."""
+    k, m, R, L = element_matrices(model)
+    kg, mg = el.to_global(k, R), el.to_global(m, R)
+    n = 6 * model.n_nodes
+    dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)   # (e, 12)
+    rows = np.repeat(dofs, 12, axis=1).ravel()
+    cols = np.tile(dofs, (1, 12)).ravel()
+    diag = np.arange(n)
+    K = sp.coo_matrix((np.r_[kg.ravel(), model.springs.ravel()], (np.r_[rows, diag], np.r_[cols, diag])),
+                      shape=(n, n)).tocsr()
+    M = sp.coo_matrix((np.r_[mg.ravel(), model.point_mass.ravel()], (np.r_[rows, diag], np.r_[cols, diag])),
+                      shape=(n, n)).tocsr()
+    restrained = model.restraint.ravel()
+    # a DOF no member, spring or mass touches (truss-only nodes' rotations) is fixed, not a mechanism
+    touched = np.zeros(n, bool)
+    touched[np.unique(dofs[~model.truss])] = True
+    if model.truss.any():
+        touched[(6 * model.conn[model.truss][:, :, None] + np.arange(3)).ravel()] = True
+    touched |= model.springs.ravel() > 0
+    fixed = restrained | ~touched
+    return Assembled(K, M, R, L, k, np.flatnonzero(~fixed), np.flatnonzero(fixed))
