@@ -35,11 +35,11 @@ def load_vector(model: Model, asm: Assembled, case: LoadCase):
     w = np.zeros((model.n_members, 3))       # global line load per member, N/m
     for item in case.loads:
         if item.kind == "force":
-            np.add.at(f, 6 * item.targets[:, None] + np.arange(3), item.vector)
+            _scatter(f, 6 * item.targets[:, None] + np.arange(3), item.vector)
         elif item.kind == "moment":
-            np.add.at(f, 6 * item.targets[:, None] + np.arange(3, 6), item.vector)
+            _scatter(f, 6 * item.targets[:, None] + np.arange(3, 6), item.vector)
         elif item.kind == "line":
-            np.add.at(w, item.targets, item.vector)
+            _scatter(w, item.targets[:, None], item.vector, rows=True)
     if case.gravity is not None:
         w += (model.rho * model.A + model.nsm)[:, None] * case.gravity
         f += np.c_[model.point_mass[:, :3] * case.gravity, np.zeros((model.n_nodes, 3))].ravel()
@@ -56,8 +56,24 @@ def load_vector(model: Model, asm: Assembled, case: LoadCase):
     T = el.transform_matrix(asm.R)
     fg = np.einsum("eba,eb->ea", T, fe)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
-    np.add.at(f, dofs, fg)
+    _scatter(f, dofs, fg)
     return f, fe
+
+
+def _scatter(out, idx, vals, rows=False):
+    """out[idx] += vals with repeated indices summed.
+
+    Values are broadcast to the index shape explicitly and summed with bincount: np.add.at with
+    a broadcast value array gave intermittent NaN on this stack (numpy 2.4).
+    """
+    if rows:       # idx (t, 1) row indices into a 2-D out, vals (3,) for every row
+        vals = np.broadcast_to(vals, (idx.shape[0], out.shape[1]))
+        for c in range(out.shape[1]):
+            out[:, c] += np.bincount(idx[:, 0], weights=np.ascontiguousarray(vals[:, c]),
+                                     minlength=out.shape[0])
+        return
+    vals = np.ascontiguousarray(np.broadcast_to(vals, idx.shape), dtype=float).ravel()
+    out += np.bincount(idx.ravel(), weights=vals, minlength=out.size)
 
 
 def _uncondensed(model, asm):
@@ -76,8 +92,8 @@ def factorise(model: Model, asm: Assembled):
     Kff = asm.K[asm.free][:, asm.free].tocsc()
     scale = abs(Kff.diagonal()).max() if Kff.shape[0] else 1.0
     try:
-        lu = spla.splu(Kff, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
-                       options=dict(SymmetricMode=True))
+        # partial pivoting: the symmetric no-pivot mode gave intermittent NaN solves here
+        lu = spla.splu(Kff, permc_spec="MMD_AT_PLUS_A")
         piv = np.abs(lu.U.diagonal())
         bad = np.flatnonzero(piv < 1e-10 * scale)
     except RuntimeError:
@@ -98,6 +114,9 @@ def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> Stati
     f, fe = load_vector(model, asm, case)
     u = np.zeros(6 * model.n_nodes)
     u[asm.free] = lu.solve(f[asm.free])
+    if not np.isfinite(u).all():
+        raise MechanismError(f"case {case.name}: the solve did not give finite displacements; "
+                             "the stiffness is singular or badly conditioned", [])
     r = asm.K @ u - f
     reactions = np.zeros_like(u)
     reactions[asm.fixed] = r[asm.fixed]
