@@ -32,7 +32,16 @@ _ASSUMABLE = {"length": U.LENGTH, "force": U.FORCE, "mass": U.MASS, "time": U.TI
 _TOKEN_WORDS = {"NAME": "a name", "NUMBER": "a number", "QUANTITY": "a number with a unit",
                 "STRING": 'a quoted text', "LBRACE": "'{'", "RBRACE": "'}'", "LPAR": "'('",
                 "RPAR": "')'", "EQUAL": "'='", "COMMA": "','", "PATTERN": "a name pattern",
-                "COLON": "':'", "__ANON_0": "'->'", "__ANON_1": "'..'", "$END": "the end of the file"}
+                "COLON": "':'", "$END": "the end of the file", "CIRCUMFLEX": "'^'",
+                "MINUS": "'-'", "PLUS": "'+'", "STAR": "'*'", "SLASH": "'/'", "LSQB": "'['",
+                "RSQB": "']'", "SEMICOLON": "';'"}
+
+
+def _token_word(t: str) -> str:
+    if t in _TOKEN_WORDS:
+        return _TOKEN_WORDS[t]
+    pattern = _parser().get_terminal(t).pattern.value if t.startswith("__") else t.lower()
+    return repr(pattern)
 
 
 @lru_cache(maxsize=1)
@@ -109,7 +118,7 @@ class _Reader:
             where = Location(path.name, line, col, src)
             if isinstance(exc, UnexpectedCharacters):
                 raise DeckError(f"unexpected character {text[exc.pos_in_stream]!r}", where) from None
-            expected = sorted({_TOKEN_WORDS.get(t, repr(t.strip('"').lower())) for t in exc.expected})
+            expected = sorted({_token_word(t) for t in exc.expected})
             found = "the end of the file" if isinstance(exc, UnexpectedEOF) else \
                 repr(str(exc.token)) if isinstance(exc, UnexpectedToken) else "this"
             raise DeckError(f"unexpected {found}; expected {', '.join(expected[:8])}", where) from None
