@@ -83,7 +83,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
         raise ValueError("ask for a number of modes or a frequency limit")
     want = min(n_modes or n, n)
     lam_max = (2 * np.pi * f_max) ** 2 if f_max is not None else np.inf
-    if n <= DENSE_LIMIT or want >= n - 1:
+    if n <= DENSE_LIMIT or (n_modes is not None and want >= n - 1):
         Kd = K.toarray() if sp.issparse(K) else np.asarray(K)
         Md = M.toarray() if sp.issparse(M) else np.asarray(M)
         lam, phi = sla.eigh(Kd, Md)
