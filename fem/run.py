@@ -15,6 +15,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.static import StaticResult, factorise, solve_static
 from .assembly import assemble
 from .deck.reader import read_deck
@@ -28,8 +29,13 @@ CAUTION = ("Results support, and never replace, the judgement of a qualified eng
 EQUILIBRIUM_TOL = 1e-8   # relative; a direct solve reaches ~1e-12, far looser means a bad model
 
 
-def solve_all(model: Model) -> list[StaticResult]:
+RESIDUAL_TOL = 1e-8      # backward error of an eigenpair; a double-precision solve gives ~1e-14
+ORTHO_TOL = 1e-8
+
+
+def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     asm = assemble(model)
+    modal = [solve_modes_case(model, asm, c) for c in model.cases if c.kind == "modes"]
     statics = [c for c in model.cases if c.kind == "static"]
     results = []
     if statics or model.combinations:
@@ -42,7 +48,23 @@ def solve_all(model: Model) -> list[StaticResult]:
                                           for a in ("u", "reactions", "member_forces", "applied")),
                             equilibrium=max(r.equilibrium for _, r in parts))
         results.append(comb)
-    return results
+    return results, modal
+
+
+def modal_checks(r: ModesCaseResult) -> dict:
+    m = r.modes
+    k = len(m.omega)
+    return {"max_residual": float(m.residual.max()), "residual_pass": bool(m.residual.max() < RESIDUAL_TOL),
+            "mass_orthogonality": m.orth_mass, "stiffness_orthogonality": m.orth_stiff,
+            "orthogonality_pass": bool(max(m.orth_mass, m.orth_stiff) < ORTHO_TOL),
+            "sturm_count": m.sturm_count, "modes_found": k,
+            "none_missed": None if m.sturm_count is None else bool(m.sturm_count == k),
+            "cumulative_mass_fraction": dict(zip(AXES[:3], map(float, r.part.cumulative[-1, :3])))}
+
+
+def _modal_ok(r: ModesCaseResult) -> bool:
+    c = modal_checks(r)
+    return c["residual_pass"] and c["orthogonality_pass"] and c["none_missed"] is not False
 
 
 def _write_csv(path: Path, header, rows) -> None:
@@ -52,7 +74,7 @@ def _write_csv(path: Path, header, rows) -> None:
         w.writerows(rows)
 
 
-def _write(model: Model, results: list[StaticResult], out: Path) -> None:
+def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> None:
     nodes, mems = model.node_names, model.member_names
     _write_csv(out / "displacements.csv", ["case", "node", *DIRECTIONS],
                [[r.name, n, *map(float, r.u[k])] for r in results for k, n in enumerate(nodes)])
@@ -63,6 +85,20 @@ def _write(model: Model, results: list[StaticResult], out: Path) -> None:
     _write_csv(out / "member_forces.csv", ["case", "member", "end", *labels],
                [[r.name, m, end, *map(float, r.member_forces[k, 6 * e:6 * e + 6])]
                 for r in results for k, m in enumerate(mems) for e, end in enumerate("ij")])
+    if modal:
+        head = ["case", "mode", "frequency_Hz", "omega_rad_s", "period_s"]
+        head += [f"gamma_{a}" for a in AXES] + [f"mass_fraction_{a}" for a in AXES]
+        head += [f"cumulative_{a}" for a in AXES]
+        rows = []
+        for r in modal:
+            m, p = r.modes, r.part
+            for j in range(len(m.omega)):
+                rows.append([r.name, j + 1, float(m.freq[j]), float(m.omega[j]), float(m.period[j]),
+                             *map(float, p.gamma[j]), *map(float, p.fraction[j]), *map(float, p.cumulative[j])])
+        _write_csv(out / "modes.csv", head, rows)
+        _write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
+                   [[r.name, j + 1, n, *map(float, r.shapes[k, :, j])]
+                    for r in modal for j in range(r.shapes.shape[2]) for k, n in enumerate(nodes)])
     lo, hi = model.bounding_box()
     doc = {
         "schema": "quaver-results/1",
@@ -76,7 +112,13 @@ def _write(model: Model, results: list[StaticResult], out: Path) -> None:
                    "applied_sum_N": r.applied[:, :3].sum(0).tolist(),
                    "checks": {"equilibrium_relative": r.equilibrium,
                               "equilibrium_pass": bool(r.equilibrium < EQUILIBRIUM_TOL)}}
-                  for r in results],
+                  for r in results] + [
+                  {"name": r.name, "kind": "modes", "solver": r.modes.solver,
+                   "frequency_Hz": r.modes.freq.tolist(), "period_s": r.modes.period.tolist(),
+                   "effective_mass_kg": r.part.effective_mass.tolist(),
+                   "participating_total_kg": r.part.total.tolist(),
+                   "reference_point_m": np.asarray(r.reference).tolist(),
+                   "checks": modal_checks(r)} for r in modal],
     }
     (out / "results.json").write_text(json.dumps(doc, indent=2))
 
@@ -84,11 +126,11 @@ def _write(model: Model, results: list[StaticResult], out: Path) -> None:
 def run_deck(deck: str, out: str | None = None) -> int:
     model = read_deck(deck)
     target = Path(out) if out else Path("results") / Path(deck).stem
-    results = solve_all(model)
+    results, modal = solve_all(model)
     target.parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix=".quaver-", dir=target.parent))
     try:
-        _write(model, results, tmp)
+        _write(model, results, modal, tmp)
         if target.exists():
             old = target.with_name(target.name + ".old")
             shutil.rmtree(old, ignore_errors=True)
@@ -106,6 +148,15 @@ def run_deck(deck: str, out: str | None = None) -> int:
         ok = "pass" if r.equilibrium < EQUILIBRIUM_TOL else "FAIL"
         print(f"  {r.name:<12} max translation {np.abs(r.u[:, :3]).max():.4g} m   "
               f"equilibrium {r.equilibrium:.1e} {ok}")
+    for r in modal:
+        c = modal_checks(r)
+        fr = ", ".join(f"{f:.4g}" for f in r.modes.freq[:6])
+        print(f"  {r.name:<12} {len(r.modes.freq)} modes ({r.modes.solver}); first Hz: {fr}")
+        cum = "  ".join(f"{a} {100 * v:.1f}%" for a, v in c["cumulative_mass_fraction"].items())
+        missed = "not run" if c["none_missed"] is None else ("pass" if c["none_missed"] else "FAIL")
+        print(f"               residual {c['max_residual']:.1e}  M-orthogonality {c['mass_orthogonality']:.1e}"
+              f"  Sturm count {missed}  effective mass {cum}")
     print(f"results in {target}/")
     print("Caution: " + CAUTION)
-    return 0 if all(r.equilibrium < EQUILIBRIUM_TOL for r in results) else 1
+    ok = all(r.equilibrium < EQUILIBRIUM_TOL for r in results) and all(map(_modal_ok, modal))
+    return 0 if ok else 1

@@ -69,7 +69,7 @@ BROKEN = [
     ("node A = (1, 0, 0)\n", 1, "bare number"),
     ("node A = (0, 0, 0)\nnode A = (1 m, 0, 0)\n", 2, "defined twice"),
     ("node A = (0, 0 0)\n", 1, "unexpected"),
-    ("let x = 3 furlong\n", 1, "unknown unit 'furlong'"),
+    ("let x = 3 furlong\n", 1, "unknown unit .furlong."),
     ("node A = (0, 0, 0)\nnode B = (1 m, 0, 0)\nmember M : A -> B beam Q S\n", 3, "section 'Q'"),
     ("node Alpha1 = (0, 0, 0)\nsupport Alpha2 fixed\n", 2, "did you mean 'Alpha1'"),
     ("node A = (0, 0, 0)\nsupport A clamped\n", 2, "'fixed', 'pinned'"),
@@ -112,3 +112,16 @@ def test_cli_check_exit_codes(tmp_path: Path, capsys):
     assert main(["check", str(bad)]) == 2
     err = capsys.readouterr().err
     assert "bad.deck:1:" in err and "Traceback" not in err
+
+
+def test_grammar_knows_every_unit():
+    from fem.deck.reader import read_text as rt
+    from fem.deck.units import UNITS
+    for sym in UNITS:
+        rt(f"let x = 2 {sym}\n")          # every table unit lexes as part of a quantity
+
+
+def test_unit_followed_by_operator_and_name():
+    # '5 m/n' divides 5 m by the parameter n; '2 m*cos(a)' multiplies (units are known symbols)
+    m = read_text(HEAD + "let n = 4\nlet a = 60 deg\nnode A = (5 m/n, 2 m*cos(a), 0)\n")
+    np.testing.assert_allclose(m.coords[0], [1.25, 1.0, 0.0], rtol=1e-15)

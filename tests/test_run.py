@@ -19,7 +19,9 @@ def test_run_writes_results_and_checks(tmp_path, capsys):
     assert main(["run", str(RACK), "--out", str(out)]) == 0
     doc = json.loads((out / "results.json").read_text())
     assert "qualified engineer" in doc["caution"]
-    assert all(c["checks"]["equilibrium_pass"] for c in doc["cases"])
+    assert all(c["checks"]["equilibrium_pass"] for c in doc["cases"] if c["kind"] == "static")
+    modal = next(c for c in doc["cases"] if c["kind"] == "modes")
+    assert modal["checks"]["residual_pass"] and modal["checks"]["none_missed"]
     # self-weight reaction = total mass x g (Newton's second law, no source needed)
     dead = next(c for c in doc["cases"] if c["name"] == "DEAD")
     assert abs(dead["reaction_sum_N"][2] - doc["model"]["total_mass_kg"] * 9.81) < 1e-6 * dead["reaction_sum_N"][2]

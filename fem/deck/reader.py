@@ -7,6 +7,7 @@ Parsing is lark LALR with the contextual lexer; meaning comes from our own walk 
 from __future__ import annotations
 
 import fnmatch
+import re
 import math
 from functools import lru_cache
 from importlib import resources
@@ -118,6 +119,10 @@ class _Reader:
             where = Location(path.name, line, col, src)
             if isinstance(exc, UnexpectedCharacters):
                 raise DeckError(f"unexpected character {text[exc.pos_in_stream]!r}", where) from None
+            if isinstance(exc, UnexpectedToken) and exc.token.type == "NAME" and \
+                    re.search(r"\d\s*$", text[:exc.token.start_pos]):
+                raise DeckError(f"unknown unit '{exc.token}'; {suggest(str(exc.token), U.UNITS)}", where,
+                                "known units are listed in docs/deck.md") from None
             expected = sorted({_token_word(t) for t in exc.expected})
             found = "the end of the file" if isinstance(exc, UnexpectedEOF) else \
                 repr(str(exc.token)) if isinstance(exc, UnexpectedToken) else "this"
@@ -551,7 +556,35 @@ class _Reader:
             names = self.targets(target, table, what)
             vec = self.vector(val, dim, f"case {name}: {kindname}")
             case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it)))
+        if kind == "modes":
+            self.modes_options(case)
+        elif kind != "static":
+            raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static or modes", where)
         return case
+
+    def modes_options(self, case: LoadCase) -> None:
+        """Turn a modes case's option trees into plain values: count, fmax (Hz), reference (m)."""
+        out = {}
+        for key, (val, where) in case.options.items():
+            what = f"case {case.name}: {key}"
+            if key == "count":
+                v = self.value(val, U.NONE, what)
+                if v != int(v) or v < 1:
+                    raise DeckError(f"{what} must be a whole number of at least 1", where)
+                out[key] = int(v)
+            elif key == "fmax":
+                out[key] = self.value(val, U.FREQ, what)
+                if out[key] <= 0:
+                    raise DeckError(f"{what} must be positive", where)
+            elif key == "reference":
+                out[key] = self.vector(val, U.LENGTH, what)
+            else:
+                raise DeckError(f"case {case.name}: unknown option '{key}' for modes; "
+                                f"{suggest(key, ['count', 'fmax', 'reference'])}", where)
+        if case.loads or case.gravity is not None:
+            raise DeckError(f"case {case.name}: a modes case takes no loads", case.location)
+        out.setdefault("count", None if "fmax" in out else 12)
+        case.options = out
 
 
 def _binary(a: Quantity, b: Quantity, op: str) -> Quantity:

@@ -1,0 +1,55 @@
+"""A `modes` case from the deck: the eigen solve on the model and its participation table."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..assembly import Assembled
+from ..errors import ModelError
+from ..model import LoadCase, Model
+from .modes import ModalResult, Participation, participation, solve_modes
+
+__all__ = ["ModesCaseResult", "influence_vectors", "solve_modes_case"]
+
+AXES = ("X", "Y", "Z", "RX", "RY", "RZ")
+
+
+@dataclass
+class ModesCaseResult:
+    name: str
+    modes: ModalResult
+    part: Participation
+    shapes: np.ndarray        # (n_nodes, 6, k) mode shapes on all nodes (zeros at fixed DOFs)
+    reference: np.ndarray     # (3,) point for rotational participation, m
+
+
+def influence_vectors(model: Model, point) -> np.ndarray:
+    """(6n, 6) rigid-body displacement fields: unit translations X, Y, Z and unit rotations
+    about axes through `point`."""
+    n = model.n_nodes
+    R = np.zeros((n, 6, 6))
+    r = model.coords - np.asarray(point)
+    for a in range(3):
+        R[:, a, a] = 1.0
+        axis = np.eye(3)[a]
+        R[:, 0:3, 3 + a] = np.cross(axis, r)
+        R[:, 3 + a, 3 + a] = 1.0
+    return R.reshape(6 * n, 6)
+
+
+def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseResult:
+    """Solve a modes case (options count, fmax, reference already checked by the reader)."""
+    count, fmax = case.options.get("count"), case.options.get("fmax")
+    point = case.options.get("reference", np.zeros(3))
+    f = asm.free
+    K, M = asm.K[f][:, f], asm.M[f][:, f]
+    if M.nnz == 0 or M.diagonal().max() <= 0:
+        raise ModelError(f"case {case.name}: the model has no mass; give materials a density or add masses")
+    modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=count, f_max=fmax)
+    R = influence_vectors(model, point)[f]
+    part = participation(modes.phi, M, R)
+    shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
+    shapes[f] = modes.phi
+    return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point)
