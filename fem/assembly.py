@@ -59,14 +59,13 @@ def assemble(model: Model) -> Assembled:
     k, m, R, L = element_matrices(model)
     kg, mg = el.to_global(k, R), el.to_global(m, R)
     n = 6 * model.n_nodes
-    dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)   # (e, 12)
+    dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12).astype(np.int32)  # (e, 12)
     rows = np.repeat(dofs, 12, axis=1).ravel()
     cols = np.tile(dofs, (1, 12)).ravel()
-    diag = np.arange(n)
-    K = sp.coo_matrix((np.r_[kg.ravel(), model.springs.ravel()], (np.r_[rows, diag], np.r_[cols, diag])),
-                      shape=(n, n)).tocsr()
-    M = sp.coo_matrix((np.r_[mg.ravel(), model.point_mass.ravel()], (np.r_[rows, diag], np.r_[cols, diag])),
-                      shape=(n, n)).tocsr()
+    K = sp.csr_matrix((kg.ravel(), (rows, cols)), shape=(n, n))
+    M = sp.csr_matrix((mg.ravel(), (rows, cols)), shape=(n, n))
+    K = (K + sp.diags(model.springs.ravel(), format="csr")).tocsr()
+    M = (M + sp.diags(model.point_mass.ravel(), format="csr")).tocsr()
     restrained = model.restraint.ravel()
     # a DOF no member, spring or mass touches (truss-only nodes' rotations) is fixed, not a mechanism
     touched = np.zeros(n, bool)
