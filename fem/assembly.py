@@ -8,6 +8,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from . import elements as el
+from .errors import ModelError
 from .model import Model
 
 __all__ = ["Assembled", "assemble", "element_matrices"]
@@ -37,7 +38,16 @@ def element_matrices(model: Model):
     has_up = ~np.isnan(up).any(axis=1)
     R, L = el.local_axes(xi, xj, roll=model.roll)
     if has_up.any():
-        R2, _ = el.local_axes(xi[has_up], xj[has_up], roll=model.roll[has_up], up=up[has_up])
+        sel = np.flatnonzero(has_up)
+        try:
+            R2, _ = el.local_axes(xi[sel], xj[sel], roll=model.roll[sel], up=up[sel])
+        except ValueError:
+            x = (xj[sel] - xi[sel]) / L[sel, None]
+            u = up[sel] / np.maximum(np.linalg.norm(up[sel], axis=1, keepdims=True), 1e-300)
+            bad = sel[np.abs(np.einsum("ij,ij->i", x, u)) > 1 - 1e-9]
+            names = ", ".join(model.member_names[k] for k in bad[:8])
+            raise ModelError(f"member(s) {names}: the 'up' vector is zero or parallel to the member "
+                             "axis; give a vector across the member") from None
         R[has_up] = R2
     shear = model.settings.get("shear", False)
     lumped = model.settings.get("mass", "consistent") == "lumped"

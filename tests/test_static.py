@@ -113,3 +113,16 @@ case X static { force C = (0, 0, -1 kN) }
     with pytest.raises(MechanismError, match="mechanism") as info:
         solve_static(m, assemble(m), m.cases[0])
     assert any(n == "A" and d.startswith("r") for n, d in info.value.free)
+
+
+def test_up_vector_parallel_to_member_is_a_model_error():
+    from fem.errors import ModelError
+    m = read_text(PIPE + """
+node A = (0, 0, 0)
+node B = (0, 0, 3 m)
+member COLX : A -> B beam P S up = (0, 0, 1)
+support A fixed
+case X static { force B = (1 kN, 0, 0) }
+""")
+    with pytest.raises(ModelError, match="COLX.*parallel"):
+        assemble(m)
