@@ -129,7 +129,7 @@ class _Reader:
             raise DeckError(f"unexpected {found}; expected {', '.join(expected[:8])}", where) from None
 
     # ---------- expressions
-    def eval(self, t) -> Quantity:
+    def evaluate(self, t) -> Quantity:
         if isinstance(t, Token):
             raise DeckError(f"expected a value, found {t!s}", self.loc(t))
         d = t.data
@@ -147,17 +147,17 @@ class _Reader:
                 return self.vars[name]
             if d == "call":
                 fname = str(ch[0])
-                args = [self.eval(a) for a in ch[1:]]
+                args = [self.evaluate(a) for a in ch[1:]]
                 return self.call(fname, args, ch[0])
             ops = {"add": "__add__", "sub": "__sub__", "mul": "__mul__", "div": "__truediv__",
                    "pow": "__pow__"}
             if d in ops:
-                a, b = self.eval(ch[0]), self.eval(ch[1])
+                a, b = self.evaluate(ch[0]), self.evaluate(ch[1])
                 return _binary(a, b, ops[d])
             if d == "neg":
-                return -self.eval(ch[0])
+                return -self.evaluate(ch[0])
             if len(ch) == 1:   # unary plus
-                return self.eval(ch[0])
+                return self.evaluate(ch[0])
         except ArithmeticError as exc:
             raise DeckError(str(exc), self.loc(t)) from None
         raise DeckError(f"expected a single value here, found {d}", self.loc(t))
@@ -202,7 +202,7 @@ class _Reader:
 
     def value(self, t, dim, what: str) -> float:
         """Evaluate t and check it has dimension `dim`; return the SI float."""
-        q = self.eval(t)
+        q = self.evaluate(t)
         if q.dim is WILD or q.dim == dim:
             v = q.value
         elif q.dim == U.NONE and (f := self.assumed_factor(dim)) is not None:
@@ -246,7 +246,7 @@ class _Reader:
         if len(t.children) > 1 and t.children[1] is not None:
             parts = []
             for e in t.children[1].children:
-                q = self.eval(e)
+                q = self.evaluate(e)
                 if q.dim not in (U.NONE, WILD) or q.value != int(q.value):
                     raise DeckError("a name index must be a whole number", self.loc(e))
                 parts.append(str(int(q.value)))
@@ -284,7 +284,7 @@ class _Reader:
         self.title = str(s.children[0])[1:-1]
 
     def st_let(self, s):
-        self.vars[str(s.children[0])] = self.eval(s.children[1])
+        self.vars[str(s.children[0])] = self.evaluate(s.children[1])
 
     def st_assume(self, s):
         what, unit = str(s.children[0]), str(s.children[1])
@@ -445,7 +445,7 @@ class _Reader:
 
     def st_loop(self, s):
         var, lo, hi, *body = s.children
-        a, b = self.eval(lo), self.eval(hi)
+        a, b = self.evaluate(lo), self.evaluate(hi)
         for q in (a, b):
             if q.dim not in (U.NONE, WILD) or q.value != int(q.value):
                 raise DeckError("loop bounds must be whole numbers", self.loc(s))
@@ -475,7 +475,7 @@ class _Reader:
             for end, col in (("i", 0), ("j", 1)):
                 nm, tok = m[end]
                 if nm not in nidx:
-                    raise DeckError(f"member {m['name']}: node '{nm}' is not defined; {suggest(nm, node_names)}", self.loc_of(tok, m))
+                    raise DeckError(f"member {m['name']}: node '{nm}' is not defined; {suggest(nm, node_names)}", m["loc"])
                 conn[k, col] = nidx[nm]
             sname, stok = m["section"]
             if sname not in self.sections:
@@ -531,9 +531,6 @@ class _Reader:
                      member_section=[m["section"][0] for m in mems],
                      member_material=[m["material"][0] for m in mems],
                      cases=cases, combinations=combos, settings=settings, **cols)
-
-    def loc_of(self, tok, m) -> Location:
-        return m["loc"]
 
     def build_case(self, c, nidx, midx) -> LoadCase:
         name, kind, items, where = c
