@@ -19,7 +19,7 @@ class Assembled:
     """Global matrices over all 6 n DOFs, and the free/restrained split.
 
     K, M : (6n, 6n) CSR; R : (e, 3, 3) member local axes; k_local : (e, 12, 12) condensed local K
-    free : (n_free,) indices of unrestrained DOFs
+    free : (n_free,) indices of unrestrained DOFs; fixed: restrained or inert DOFs
     """
 
     K: sp.csr_matrix
@@ -29,10 +29,13 @@ class Assembled:
     k_local: np.ndarray
     free: np.ndarray
     fixed: np.ndarray
+    inert: np.ndarray      # DOFs held because nothing (stiffness or mass) acts on them
 
 
-def element_matrices(model: Model):
-    """Batched local stiffness and mass (e, 12, 12), axes R (e, 3, 3) and lengths L (e,)."""
+def element_matrices(model: Model, condense: bool = True):
+    """Batched local stiffness and mass (e, 12, 12), axes R (e, 3, 3) and lengths L (e,).
+
+    With condense=False the stiffness is returned before end releases are condensed out."""
     xi, xj = model.coords[model.conn[:, 0]], model.coords[model.conn[:, 1]]
     up = np.where(np.isnan(model.up).any(axis=1, keepdims=True), np.nan, model.up)
     has_up = ~np.isnan(up).any(axis=1)
@@ -59,7 +62,7 @@ def element_matrices(model: Model):
         k[t] = el.truss_stiffness(L[t], model.E[t], model.A[t])
         m[t] = el.truss_mass(L[t], model.rho[t], model.A[t], model.nsm[t], lumped)
     rel = model.releases & ~t[:, None]
-    if rel.any():
+    if condense and rel.any():
         k = el.condense_releases(k, rel)
     return k, m, R, L
 
@@ -77,11 +80,10 @@ def assemble(model: Model) -> Assembled:
     K = (K + sp.diags(model.springs.ravel(), format="csr")).tocsr()
     M = (M + sp.diags(model.point_mass.ravel(), format="csr")).tocsr()
     restrained = model.restraint.ravel()
-    # a DOF no member, spring or mass touches (truss-only nodes' rotations) is fixed, not a mechanism
-    touched = np.zeros(n, bool)
-    touched[np.unique(dofs[~model.truss])] = True
-    if model.truss.any():
-        touched[(6 * model.conn[model.truss][:, :, None] + np.arange(3)).ravel()] = True
-    touched |= model.springs.ravel() > 0
-    fixed = restrained | ~touched
-    return Assembled(K, M, R, L, k, np.flatnonzero(~fixed), np.flatnonzero(fixed))
+    # a DOF with no stiffness at all (a truss-only node's rotations, a rotation that only
+    # released member ends meet) is held rather than reported as a mechanism, unless a load
+    # acts on it (checked by the static solve); its rotary mass, if any, is dropped with it
+    inert = (K.diagonal() == 0) & ~restrained
+    fixed = restrained | inert
+    return Assembled(K, M, R, L, k, np.flatnonzero(~fixed), np.flatnonzero(fixed),
+                     np.flatnonzero(inert))

@@ -126,3 +126,33 @@ case X static { force B = (1 kN, 0, 0) }
 """)
     with pytest.raises(ModelError, match="COLX.*parallel"):
         assemble(m)
+
+
+def test_propped_cantilever_by_end_release():
+    # Roark 7th ed. Table 8.1 (reference-values.md section 4): propped cantilever under UDL,
+    # prop reaction 3wL/8, fixed-end moment wL^2/8. The hinge is an end release at the prop;
+    # the rotations there then meet only released ends and are held, not a mechanism.
+    m, r = run("""
+node A = (0, 0, 0)
+node B = (5 m, 0, 0)
+member M : A -> B beam P S release j (ry, rz)
+support A fixed
+support B (uy, uz)
+case W static { line M = (0, 0, -2 kN/m) }
+""")
+    assert r.reactions[1, 2] == pytest.approx(3 * 2e3 * 5 / 8, rel=1e-12)
+    assert abs(r.member_forces[0, 4]) == pytest.approx(2e3 * 25 / 8, rel=1e-12)
+    assert abs(r.member_forces[0, 10]) < 1e-6        # released moment is zero
+
+
+def test_load_on_a_dof_nothing_resists():
+    m = read_text(PIPE + """
+node A = (0, 0, 0)
+node B = (5 m, 0, 0)
+member M : A -> B beam P S release j (ry, rz)
+support A fixed
+support B (uy, uz)
+case W static { moment B = (0, 1 kN*m, 0) }
+""")
+    with pytest.raises(MechanismError, match="nothing resists it: B ry"):
+        solve_static(m, assemble(m), m.cases[0])

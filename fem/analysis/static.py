@@ -8,7 +8,7 @@ import numpy as np
 import scipy.sparse.linalg as spla
 
 from .. import elements as el
-from ..assembly import Assembled
+from ..assembly import Assembled, element_matrices
 from ..errors import MechanismError
 from ..model import DIRECTIONS, LoadCase, Model
 
@@ -51,7 +51,7 @@ def load_vector(model: Model, asm: Assembled, case: LoadCase):
         fe[model.truss, 0:3] = w_local[model.truss] * asm.L[model.truss, None] / 2
         fe[model.truss, 6:9] = fe[model.truss, 0:3]
     if rel.any():
-        k_full, _, _, _ = _uncondensed(model, asm)
+        k_full = element_matrices(model, condense=False)[0]
         fe = el.condense_load(k_full, fe, rel)
     T = el.transform_matrix(asm.R)
     fg = np.einsum("eba,eb->ea", T, fe)
@@ -74,17 +74,6 @@ def _scatter(out, idx, vals, rows=False):
         return
     vals = np.ascontiguousarray(np.broadcast_to(vals, idx.shape), dtype=float).ravel()
     out += np.bincount(idx.ravel(), weights=vals, minlength=out.size)
-
-
-def _uncondensed(model, asm):
-    from ..assembly import element_matrices
-    rel = model.releases.copy()
-    saved = model.releases
-    model.releases = np.zeros_like(rel)
-    try:
-        return element_matrices(model)
-    finally:
-        model.releases = saved
 
 
 def factorise(model: Model, asm: Assembled):
@@ -112,6 +101,11 @@ def factorise(model: Model, asm: Assembled):
 def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> StaticResult:
     lu = lu or factorise(model, asm)
     f, fe = load_vector(model, asm, case)
+    loaded = asm.inert[np.abs(f[asm.inert]) > 0]
+    if loaded.size:
+        free = [(model.node_names[d // 6], DIRECTIONS[d % 6]) for d in loaded]
+        shown = ", ".join(f"{n} {d}" for n, d in free[:12])
+        raise MechanismError(f"case {case.name}: load acts where nothing resists it: {shown}", free)
     u = np.zeros(6 * model.n_nodes)
     u[asm.free] = lu.solve(f[asm.free])
     if not np.isfinite(u).all():
