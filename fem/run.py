@@ -33,8 +33,17 @@ RESIDUAL_TOL = 1e-8      # backward error of an eigenpair; a double-precision so
 ORTHO_TOL = 1e-8
 
 
+def assembled_mass(model: Model, asm) -> np.ndarray:
+    """Translational mass seen by the assembled M in X, Y, Z (rigid translations), kg."""
+    r = np.zeros((6 * model.n_nodes, 3))
+    for d in range(3):
+        r[d::6, d] = 1.0
+    return np.einsum("ij,ij->j", r, asm.M @ r)
+
+
 def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     asm = assemble(model)
+    model.settings["_assembled_mass"] = assembled_mass(model, asm)
     modal = [solve_modes_case(model, asm, c) for c in model.cases if c.kind == "modes"]
     statics = [c for c in model.cases if c.kind == "static"]
     results = []
@@ -60,6 +69,12 @@ def modal_checks(r: ModesCaseResult) -> dict:
             "sturm_count": m.sturm_count, "modes_found": k,
             "none_missed": None if m.sturm_count is None else bool(m.sturm_count == k),
             "cumulative_mass_fraction": dict(zip(AXES[:3], map(float, r.part.cumulative[-1, :3])))}
+
+
+def _mass_ok(model: Model) -> bool:
+    # members' consistent or lumped mass and point masses must add to the model's total
+    total = model.total_mass()
+    return bool(np.allclose(model.settings["_assembled_mass"], total, rtol=1e-10, atol=1e-9))
 
 
 def _modal_ok(r: ModesCaseResult) -> bool:
@@ -105,7 +120,9 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
         "caution": CAUTION,
         "model": {"title": model.title, "deck": model.source, "nodes": model.n_nodes,
                   "members": model.n_members, "total_mass_kg": model.total_mass(),
-                  "bounding_box_m": [lo.tolist(), hi.tolist()]},
+                  "bounding_box_m": [lo.tolist(), hi.tolist()],
+                  "assembled_mass_kg": model.settings["_assembled_mass"].tolist(),
+                  "mass_check_pass": _mass_ok(model)},
         "cases": [{"name": r.name, "kind": "static",
                    "max_translation_m": float(np.abs(r.u[:, :3]).max()),
                    "reaction_sum_N": r.reactions[:, :3].sum(0).tolist(),
@@ -144,6 +161,9 @@ def run_deck(deck: str, out: str | None = None) -> int:
         raise ResultsError(f"could not write results to {target}: {exc}") from None
     print(f"{model.title or deck}: {model.n_nodes} nodes, {model.n_members} members, "
           f"total mass {model.total_mass():.6g} kg")
+    am = model.settings["_assembled_mass"]
+    print(f"  mass check: assembled M gives {am[0]:.6g} kg in X, Y, Z "
+          f"({'pass' if _mass_ok(model) else 'FAIL'} against members + point masses)")
     for r in results:
         ok = "pass" if r.equilibrium < EQUILIBRIUM_TOL else "FAIL"
         print(f"  {r.name:<12} max translation {np.abs(r.u[:, :3]).max():.4g} m   "
@@ -159,4 +179,5 @@ def run_deck(deck: str, out: str | None = None) -> int:
     print(f"results in {target}/")
     print("Caution: " + CAUTION)
     ok = all(r.equilibrium < EQUILIBRIUM_TOL for r in results) and all(map(_modal_ok, modal))
+    ok = ok and _mass_ok(model)
     return 0 if ok else 1

@@ -19,6 +19,7 @@ def test_run_writes_results_and_checks(tmp_path, capsys):
     assert main(["run", str(RACK), "--out", str(out)]) == 0
     doc = json.loads((out / "results.json").read_text())
     assert "qualified engineer" in doc["caution"]
+    assert doc["model"]["mass_check_pass"]
     assert all(c["checks"]["equilibrium_pass"] for c in doc["cases"] if c["kind"] == "static")
     modal = next(c for c in doc["cases"] if c["kind"] == "modes")
     assert modal["checks"]["residual_pass"] and modal["checks"]["none_missed"]
