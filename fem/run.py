@@ -15,6 +15,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .analysis.free_case import FreeCaseResult, solve_free_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.static import StaticResult, factorise, solve_static
 from .assembly import assemble
@@ -57,10 +58,18 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
                                           for a in ("u", "reactions", "member_forces", "applied")),
                             equilibrium=max(r.equilibrium for _, r in parts))
         results.append(comb)
+    by_name = {r.name: r for r in results}
+    modal_by = {r.name: r for r in modal}
+    for c in model.cases:
+        if c.kind == "free":
+            start = by_name[c.options["start"]].u if c.options["start"] else None
+            modal.append(solve_free_case(model, asm, c, modal_by[c.options["modes"]], start))
     return results, modal
 
 
-def modal_checks(r: ModesCaseResult) -> dict:
+def modal_checks(r) -> dict:
+    if isinstance(r, FreeCaseResult):
+        return {"initial_displacement_captured": r.captured}
     m = r.modes
     k = len(m.omega)
     return {"max_residual": float(m.residual.max()), "residual_pass": bool(m.residual.max() < RESIDUAL_TOL),
@@ -77,7 +86,9 @@ def _mass_ok(model: Model) -> bool:
     return bool(np.allclose(model.settings["_assembled_mass"], total, rtol=1e-10, atol=1e-9))
 
 
-def _modal_ok(r: ModesCaseResult) -> bool:
+def _modal_ok(r) -> bool:
+    if isinstance(r, FreeCaseResult):
+        return True
     c = modal_checks(r)
     return c["residual_pass"] and c["orthogonality_pass"] and c["none_missed"] is not False
 
@@ -100,6 +111,12 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     _write_csv(out / "member_forces.csv", ["case", "member", "end", *labels],
                [[r.name, m, end, *map(float, r.member_forces[k, 6 * e:6 * e + 6])]
                 for r in results for k, m in enumerate(mems) for e, end in enumerate("ij")])
+    for r in [x for x in modal if isinstance(x, FreeCaseResult)]:
+        _write_csv(out / f"free_{r.name}.csv", ["time_s", "node", *DIRECTIONS],
+                   [[float(t), nodes[n], *map(float, r.u[i, j])] for i, t in enumerate(r.t)
+                    for j, n in enumerate(r.record)])
+    free = [x for x in modal if isinstance(x, FreeCaseResult)]
+    modal = [x for x in modal if not isinstance(x, FreeCaseResult)]
     if modal:
         head = ["case", "mode", "frequency_Hz", "omega_rad_s", "period_s"]
         head += [f"gamma_{a}" for a in AXES] + [f"mass_fraction_{a}" for a in AXES]
@@ -135,7 +152,13 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "effective_mass_kg": r.part.effective_mass.tolist(),
                    "participating_total_kg": r.part.total.tolist(),
                    "reference_point_m": np.asarray(r.reference).tolist(),
-                   "checks": modal_checks(r)} for r in modal],
+                   "checks": modal_checks(r)} for r in modal] + [
+                  {"name": r.name, "kind": "free", "damping_ratio": r.zeta.tolist(),
+                   "time_steps": len(r.t), "duration_s": float(r.t[-1]),
+                   "peak_translation_m": float(np.abs(r.peak[:, :3]).max()),
+                   "peaks": {nodes[k]: {"value": r.peak[k].tolist(), "time_s": r.peak_time[k].tolist()}
+                             for k in range(len(nodes))},
+                   "checks": modal_checks(r)} for r in free],
     }
     (out / "results.json").write_text(json.dumps(doc, indent=2))
 
@@ -170,6 +193,11 @@ def run_deck(deck: str, out: str | None = None) -> int:
               f"equilibrium {r.equilibrium:.1e} {ok}")
     for r in modal:
         c = modal_checks(r)
+        if isinstance(r, FreeCaseResult):
+            print(f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "
+                  f"{np.abs(r.peak[:, :3]).max():.4g} m; modes capture "
+                  f"{100 * r.captured:.2f}% of the initial displacement (M-norm)")
+            continue
         fr = ", ".join(f"{f:.4g}" for f in r.modes.freq[:6])
         print(f"  {r.name:<12} {len(r.modes.freq)} modes ({r.modes.solver}); first Hz: {fr}")
         cum = "  ".join(f"{a} {100 * v:.1f}%" for a, v in c["cumulative_mass_fraction"].items())

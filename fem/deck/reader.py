@@ -510,8 +510,24 @@ class _Reader:
                 pmass[nidx[nm]] += vec
         midx = {m["name"]: k for k, m in enumerate(mems)}
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
-        names = {c.name for c in cases}
+        names = {c.name for c in cases if c.kind == "static"}
         combos = [Combination(nm, _combo_factors(self, tree, names), where) for nm, tree, where in self.combos]
+        modal = [c.name for c in cases if c.kind == "modes"]
+        for c in cases:
+            if c.kind != "free":
+                continue
+            start = c.options.get("start")
+            if start and start[0] not in names | {cb.name for cb in combos}:
+                raise DeckError(f"case {c.name}: start '{start[0]}' is not a static case or combination; "
+                                f"{suggest(start[0], names)}", start[1])
+            mref = c.options.get("modes")
+            if mref and mref[0] not in modal:
+                raise DeckError(f"case {c.name}: '{mref[0]}' is not a modes case; {suggest(mref[0], modal)}", mref[1])
+            if not modal:
+                raise DeckError(f"case {c.name}: free vibration is computed from modes; add a modes case",
+                                c.location)
+            c.options["start"] = start[0] if start else None
+            c.options["modes"] = mref[0] if mref else modal[0]
         settings = {}
         for key, (val, where) in self.settings.items():
             if key == "mass":
@@ -547,6 +563,8 @@ class _Reader:
             kindname = str(kindname)
             spec = {"force": (U.FORCE, nidx, "node"), "moment": (U.MOMENT, nidx, "node"),
                     "line": ((1, 0, -2), midx, "member")}
+            if kind == "free":
+                spec = {"displacement": (U.LENGTH, nidx, "node"), "velocity": ((0, 1, -1), nidx, "node")}
             if kindname not in spec:
                 raise DeckError(f"case {name}: unknown load '{kindname}'; {suggest(kindname, spec)}", self.loc(it))
             dim, table, what = spec[kindname]
@@ -555,9 +573,51 @@ class _Reader:
             case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it)))
         if kind == "modes":
             self.modes_options(case)
+        elif kind == "free":
+            self.free_options(case, nidx)
         elif kind != "static":
-            raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static or modes", where)
+            raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes "
+                            "or free", where)
         return case
+
+    def free_options(self, case: LoadCase, nidx) -> None:
+        """Options of a free-vibration case: duration, step, damping, start, modes, record."""
+        out = {"damping": 0.0, "record": None}
+        for key, (val, where) in case.options.items():
+            what = f"case {case.name}: {key}"
+            word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
+            if key in ("duration", "step"):
+                out[key] = self.value(val, U.TIME, what)
+                if out[key] <= 0:
+                    raise DeckError(f"{what} must be positive", where)
+            elif key == "damping":
+                out[key] = self.value(val, U.NONE, what)
+                if not 0 <= out[key] < 1:
+                    raise DeckError(f"{what} is a ratio from 0 to below 1 (e.g. 2 percent)", where)
+            elif key in ("start", "modes"):
+                if word is None:
+                    raise DeckError(f"{what} names a case, e.g. {key} = WIND", where)
+                out[key] = (word, where)
+            elif key == "record":
+                if not (isinstance(val, Token) and val.type == "STRING"):
+                    raise DeckError(f'{what} is a quoted node name or pattern, e.g. record = "P10_*"', where)
+                pat = str(val)[1:-1]
+                hit = [n for n in nidx if fnmatch.fnmatchcase(n, pat)]
+                if not hit:
+                    raise DeckError(f"{what}: '{pat}' matches no node; {suggest(pat, nidx)}", where)
+                out[key] = np.array([nidx[n] for n in hit])
+            else:
+                raise DeckError(f"case {case.name}: unknown option '{key}' for free vibration; "
+                                f"{suggest(key, ['duration', 'step', 'damping', 'start', 'modes', 'record'])}", where)
+        for key in ("duration", "step"):
+            if key not in out:
+                raise DeckError(f"case {case.name}: a free-vibration case needs {key} = ... s", case.location)
+        if out["duration"] / out["step"] > 1e6:
+            raise DeckError(f"case {case.name}: more than a million time steps; use a longer step", case.location)
+        if not case.loads and "start" not in out:
+            raise DeckError(f"case {case.name}: give a start (a static case) or initial displacement/velocity",
+                            case.location)
+        case.options = out
 
     def modes_options(self, case: LoadCase) -> None:
         """Turn a modes case's option trees into plain values: count, fmax (Hz), reference (m)."""
