@@ -34,3 +34,74 @@ def test_step_load_dlf_s5():
     assert np.allclose(q[[5, 10, 20], 0], [0.951903, 1.854461, 0.269907], atol=1e-6)
     q0, _ = integrate_modal([w], 0.0, 0.05, np.full((21, 1), w**2))
     assert np.isclose(q0[10, 0], 2.0, atol=1e-12)  # undamped peak 2 at t = T/2, exact
+
+
+def _chopra_closed_form(w, z, dt, k):
+    """Chopra 2017 Table 5.2.1 closed forms (reference-values.md section 5), SDOF stiffness k."""
+    sq = np.sqrt(1 - z**2)
+    wd = w * sq
+    e = np.exp(-z * w * dt)
+    s, c = np.sin(wd * dt), np.cos(wd * dt)
+    zp = z / sq
+    return dict(
+        A=e * (zp * s + c), B=e * s / wd,
+        C=(2 * z / (w * dt) + e * (((1 - 2 * z**2) / (wd * dt) - zp) * s - (1 + 2 * z / (w * dt)) * c)) / k,
+        D=(1 - 2 * z / (w * dt) + e * ((2 * z**2 - 1) / (wd * dt) * s + 2 * z / (w * dt) * c)) / k)
+
+
+def test_expm_coefficients_equal_closed_form():
+    # the matrix-exponential coefficients must equal the published closed forms (round-off)
+    from fem.analysis.recurrence import recurrence_coefficients
+    w = np.array([0.5, 2 * np.pi, 40.0])
+    z = np.array([0.0, 0.05, 0.3])
+    c = recurrence_coefficients(w, z, 0.01)
+    ref = _chopra_closed_form(w, z, 0.01, w**2)
+    for key in "ABCD":
+        np.testing.assert_allclose(c[key], ref[key], rtol=1e-8)
+
+
+def test_chopra_example_half_sine_pulse():
+    # reference-values.md section 5 (Chopra 2017 Example 5.1, values C): m = 0.2533, k = 10,
+    # zeta = 0.05, half-sine p0 = 10, td = 0.6 s, dt = 0.1 s; recurrence row, 4 printed digits
+    from fem.analysis.recurrence import integrate_modal
+    m, k = 0.2533, 10.0
+    t = np.arange(11) * 0.1
+    p = np.where(t <= 0.6, 10 * np.sin(np.pi * t / 0.6), 0.0) / m
+    q, _ = integrate_modal(np.array([np.sqrt(k / m)]), np.array([0.05]), 0.1, p[:, None])
+    expect = [0.0318, 0.2274, 0.6336, 1.1339, 1.4896, 1.4480, 0.9037, 0.0579, -0.7577, -1.2432]
+    # one unit in the last printed digit: the table rounds (or truncates) at 4 decimals
+    np.testing.assert_allclose(q[1:, 0], expect, atol=1e-4)
+
+
+def test_lfilter_equals_step_loop_and_solve_ivp():
+    # the IIR-filter form must reproduce the plain step loop (round-off, 1e-10), and both the
+    # exact solution of the ODE for a piecewise-linear load (scipy solve_ivp at rtol 1e-11)
+    from scipy.integrate import solve_ivp
+    from fem.analysis.recurrence import integrate_modal, integrate_modal_steps
+    rng = np.random.default_rng(3)
+    w = np.array([0.0, 1.3, 7.0, 30.0])
+    z = np.array([0.0, 0.02, 0.1, 1.5])          # rigid, light, moderate, overdamped
+    dt, n = 0.02, 400
+    p = rng.normal(size=(n, 4))
+    q0, v0 = rng.normal(size=4), rng.normal(size=4)
+    q, v = integrate_modal(w, z, dt, p, q0, v0)
+    qs, vs = integrate_modal_steps(w, z, dt, p, q0, v0)
+    scale = np.abs(qs).max(axis=0)
+    np.testing.assert_allclose(q, qs, atol=1e-10 * scale.max())
+    np.testing.assert_allclose(v, vs, atol=1e-10 * np.abs(vs).max())
+    t = np.arange(n) * dt
+    for j in range(4):
+        f = lambda tt, y: [y[1], np.interp(tt, t, p[:, j]) - 2 * z[j] * w[j] * y[1] - w[j] ** 2 * y[0]]
+        sol = solve_ivp(f, (0, t[-1]), [q0[j], v0[j]], t_eval=t, rtol=1e-11, atol=1e-12,
+                        max_step=dt / 4)
+        np.testing.assert_allclose(q[:, j], sol.y[0], atol=1e-7 * max(1, scale[j]))
+
+
+def test_step_load_peak_dlf():
+    # reference-values.md section 5: step load, zeta = 0.05, T = 1 s: first peak 1.854468 of the
+    # static response at t = 0.500626 s; sampled at dt = 1e-4 s the peak is within 1e-7
+    from fem.analysis.recurrence import integrate_modal
+    w = 2 * np.pi
+    t = np.arange(0, 0.6, 1e-4)
+    q, _ = integrate_modal(np.array([w]), np.array([0.05]), 1e-4, np.ones((len(t), 1)) * w**2)
+    assert abs(q[:, 0].max() - 1.854468) < 1e-6

@@ -1,57 +1,91 @@
-"""Exact piecewise-linear recurrence coefficients for unit-mass modal equations.
+"""Exact piecewise-linear recurrence for unit-mass modal equations, vectorised over modes.
 
-q'' + 2 zeta w q' + w^2 q = p(t), p linear within each step (Nigam & Jennings 1969).
+q'' + 2 zeta w q' + w^2 q = p(t), p linear within each step (Nigam & Jennings 1969;
+Chopra 2017 Sec. 5.2). The coefficients come from the matrix exponential of the augmented
+system [q, v, p, p'], which is exact for every mode: rigid (w = 0), underdamped and overdamped.
 """
 
 from __future__ import annotations
 
 import numpy as np
+import scipy.linalg as sla
+from scipy.signal import lfilter, lfiltic
 
-__all__ = ["recurrence_coefficients", "integrate_modal"]
+__all__ = ["recurrence_coefficients", "integrate_modal", "integrate_modal_steps"]
 
 
 def recurrence_coefficients(omega, zeta, dt):
-    """Coefficients A, B, C, D, Ap, Bp, Cp, Dp, each (k,), for unit modal mass (k = w^2).
+    """Coefficients A, B, C, D, Ap, Bp, Cp, Dp, each (k,), for unit modal mass.
 
     q_{i+1} = A q_i + B v_i + C p_i + D p_{i+1}; v_{i+1} = Ap q_i + Bp v_i + Cp p_i + Dp p_{i+1}.
-    Requires w > 0 and 0 <= zeta < 1 (underdamped); raises ValueError otherwise.
     """
     w = np.atleast_1d(np.asarray(omega, dtype=float))
     z = np.broadcast_to(np.asarray(zeta, dtype=float), w.shape)
-    if np.any(w <= 0):
-        raise ValueError("recurrence_coefficients needs omega > 0 (rigid modes not handled yet)")
-    if np.any((z < 0) | (z >= 1)):
-        raise ValueError(f"damping ratio must satisfy 0 <= zeta < 1; got {z[(z < 0) | (z >= 1)]}")
-    sq = np.sqrt(1 - z**2)
-    wd = w * sq
-    e = np.exp(-z * w * dt)
-    s, c = np.sin(wd * dt), np.cos(wd * dt)
-    zp = z / sq
-    k = w**2
-    A = e * (zp * s + c)
-    B = e * s / wd
-    C = (2 * z / (w * dt) + e * (((1 - 2 * z**2) / (wd * dt) - zp) * s - (1 + 2 * z / (w * dt)) * c)) / k
-    D = (1 - 2 * z / (w * dt) + e * ((2 * z**2 - 1) / (wd * dt) * s + 2 * z / (w * dt) * c)) / k
-    Ap = -e * w * s / sq
-    Bp = e * (c - zp * s)
-    Cp = (-1 / dt + e * ((w / sq + zp / dt) * s + c / dt)) / k
-    Dp = (1 - e * (zp * s + c)) / (k * dt)
-    return dict(A=A, B=B, C=C, D=D, Ap=Ap, Bp=Bp, Cp=Cp, Dp=Dp)
+    if np.any(w < 0) or np.any(z < 0):
+        raise ValueError("omega and zeta must not be negative")
+    if dt <= 0:
+        raise ValueError("the time step must be positive")
+    F = np.zeros((len(w), 4, 4))
+    F[:, 0, 1] = 1.0
+    F[:, 1, 0] = -w**2
+    F[:, 1, 1] = -2 * z * w
+    F[:, 1, 2] = 1.0
+    F[:, 2, 3] = 1.0
+    E = sla.expm(F * dt)                     # batched over modes
+    # p(tau) = p_i + s tau with s = (p_{i+1} - p_i)/dt
+    A, B, G, H = E[:, 0, 0], E[:, 0, 1], E[:, 0, 2], E[:, 0, 3]
+    Ap, Bp, Gp, Hp = E[:, 1, 0], E[:, 1, 1], E[:, 1, 2], E[:, 1, 3]
+    return dict(A=A, B=B, C=G - H / dt, D=H / dt, Ap=Ap, Bp=Bp, Cp=Gp - Hp / dt, Dp=Hp / dt)
 
 
-def integrate_modal(omega, zeta, dt, p, q0=None, v0=None):
-    """Step the exact recurrence, vectorised over modes. p (n_steps, k) at t_i = i dt.
-
-    Returns q, v, each (n_steps, k). Python loop over time steps (lfilter path not written yet).
-    """
+def integrate_modal_steps(omega, zeta, dt, p, q0=None, v0=None):
+    """Reference stepper: a Python loop over time steps, vectorised over modes."""
     c = recurrence_coefficients(omega, zeta, dt)
     p = np.asarray(p, dtype=float)
     n, k = p.shape
-    q = np.zeros((n, k))
-    v = np.zeros((n, k))
+    q, v = np.zeros((n, k)), np.zeros((n, k))
     q[0] = 0.0 if q0 is None else q0
     v[0] = 0.0 if v0 is None else v0
     for i in range(n - 1):
         q[i + 1] = c["A"] * q[i] + c["B"] * v[i] + c["C"] * p[i] + c["D"] * p[i + 1]
         v[i + 1] = c["Ap"] * q[i] + c["Bp"] * v[i] + c["Cp"] * p[i] + c["Dp"] * p[i + 1]
     return q, v
+
+
+def integrate_modal(omega, zeta, dt, p, q0=None, v0=None):
+    """Modal response to loads p (n_steps, k) sampled at t_i = i dt; returns q, v (n_steps, k).
+
+    Each mode's recurrence is run as a second-order IIR filter (scipy.signal.lfilter):
+    q(z)/p(z) = (D + (C - Bp D + B Dp) z^-1 + (B Cp - Bp C) z^-2) / (1 - (A + Bp) z^-1
+    + (A Bp - B Ap) z^-2), plus the free evolution of the initial state corrected for the
+    filter's own start (x0 - [D, Dp] p_0).
+    """
+    c = recurrence_coefficients(omega, zeta, dt)
+    p = np.asarray(p, dtype=float)
+    n, k = p.shape
+    q0 = np.zeros(k) if q0 is None else np.broadcast_to(np.asarray(q0, float), (k,))
+    v0 = np.zeros(k) if v0 is None else np.broadcast_to(np.asarray(v0, float), (k,))
+    A, B, C, D = c["A"], c["B"], c["C"], c["D"]
+    Ap, Bp, Cp, Dp = c["Ap"], c["Bp"], c["Cp"], c["Dp"]
+    q, v = np.empty((n, k)), np.empty((n, k))
+    xq = q0 - D * p[0]
+    xv = v0 - Dp * p[0]
+    for j in range(k):          # loop over modes (tens to hundreds), not over time steps
+        a = [1.0, -(A[j] + Bp[j]), A[j] * Bp[j] - B[j] * Ap[j]]
+        bq = [D[j], C[j] - Bp[j] * D[j] + B[j] * Dp[j], B[j] * Cp[j] - Bp[j] * C[j]]
+        bv = [Dp[j], Cp[j] - A[j] * Dp[j] + Ap[j] * D[j], Ap[j] * C[j] - A[j] * Cp[j]]
+        q[:, j] = lfilter(bq, a, p[:, j]) + _free(a, A[j] * xq[j] + B[j] * xv[j], xq[j], n)
+        v[:, j] = lfilter(bv, a, p[:, j]) + _free(a, Ap[j] * xq[j] + Bp[j] * xv[j], xv[j], n)
+    return q, v
+
+
+def _free(a, y1, y0, n):
+    """Sequence y0, y1, ... of the homogeneous recursion with denominator a."""
+    out = np.empty(n)
+    out[0] = y0
+    if n > 1:
+        out[1] = y1
+    if n > 2:
+        zi = lfiltic([1.0], a, y=[y1, y0])
+        out[2:], _ = lfilter([1.0], a, np.zeros(n - 2), zi=zi)
+    return out
