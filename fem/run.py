@@ -16,6 +16,7 @@ from pathlib import Path
 import numpy as np
 
 from .analysis.free_case import FreeCaseResult, solve_free_case
+from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.static import StaticResult, factorise, solve_static
 from .assembly import assemble
@@ -64,10 +65,15 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
         if c.kind == "free":
             start = by_name[c.options["start"]].u if c.options["start"] else None
             modal.append(solve_free_case(model, asm, c, modal_by[c.options["modes"]], start))
+        elif c.kind == "history":
+            lu = factorise(model, asm) if c.options.get("correction") else None
+            modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]], lu))
     return results, modal
 
 
 def modal_checks(r) -> dict:
+    if isinstance(r, HistoryResult):
+        return {"static_correction": r.corrected}
     if isinstance(r, FreeCaseResult):
         return {"initial_displacement_captured": r.captured}
     m = r.modes
@@ -87,7 +93,7 @@ def _mass_ok(model: Model) -> bool:
 
 
 def _modal_ok(r) -> bool:
-    if isinstance(r, FreeCaseResult):
+    if isinstance(r, (FreeCaseResult, HistoryResult)):
         return True
     c = modal_checks(r)
     return c["residual_pass"] and c["orthogonality_pass"] and c["none_missed"] is not False
@@ -115,8 +121,13 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
         _write_csv(out / f"free_{r.name}.csv", ["time_s", "node", *DIRECTIONS],
                    [[float(t), nodes[n], *map(float, r.u[i, j])] for i, t in enumerate(r.t)
                     for j, n in enumerate(r.record)])
-    free = [x for x in modal if isinstance(x, FreeCaseResult)]
-    modal = [x for x in modal if not isinstance(x, FreeCaseResult)]
+    for r in [x for x in modal if isinstance(x, HistoryResult)]:
+        _write_csv(out / f"history_{r.name}.csv",
+                   ["time_s", "node", *DIRECTIONS, "vx", "vy", "vz", "ax_abs", "ay_abs", "az_abs"],
+                   [[float(t), nodes[n], *map(float, r.u[i, j]), *map(float, r.v[i, j, :3]),
+                     *map(float, r.a[i, j, :3])] for i, t in enumerate(r.t) for j, n in enumerate(r.record)])
+    free = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
+    modal = [x for x in modal if not isinstance(x, (FreeCaseResult, HistoryResult))]
     if modal:
         head = ["case", "mode", "frequency_Hz", "omega_rad_s", "period_s"]
         head += [f"gamma_{a}" for a in AXES] + [f"mass_fraction_{a}" for a in AXES]
@@ -153,7 +164,8 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "participating_total_kg": r.part.total.tolist(),
                    "reference_point_m": np.asarray(r.reference).tolist(),
                    "checks": modal_checks(r)} for r in modal] + [
-                  {"name": r.name, "kind": "free", "damping_ratio": r.zeta.tolist(),
+                  {"name": r.name, "kind": "free" if isinstance(r, FreeCaseResult) else "history",
+                   "damping_ratio": r.zeta.tolist(),
                    "time_steps": len(r.t), "duration_s": float(r.t[-1]),
                    "peak_translation_m": float(np.abs(r.peak[:, :3]).max()),
                    "peaks": {nodes[k]: {"value": r.peak[k].tolist(), "time_s": r.peak_time[k].tolist()}
@@ -193,6 +205,11 @@ def run_deck(deck: str, out: str | None = None) -> int:
               f"equilibrium {r.equilibrium:.1e} {ok}")
     for r in modal:
         c = modal_checks(r)
+        if isinstance(r, HistoryResult):
+            print(f"  {r.name:<12} time history, {len(r.t)} steps; peak translation "
+                  f"{np.abs(r.peak[:, :3]).max():.4g} m"
+                  + ("; static correction for truncated modes" if r.corrected else ""))
+            continue
         if isinstance(r, FreeCaseResult):
             print(f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "
                   f"{np.abs(r.peak[:, :3]).max():.4g} m; modes capture "

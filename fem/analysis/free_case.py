@@ -11,7 +11,7 @@ from ..model import LoadCase, Model
 from .free import free_response, modal_initial_conditions
 from .modal_case import ModesCaseResult
 
-__all__ = ["FreeCaseResult", "solve_free_case"]
+__all__ = ["FreeCaseResult", "peaks", "solve_free_case"]
 
 
 @dataclass
@@ -38,6 +38,24 @@ def _nodal(model: Model, items, kind) -> np.ndarray:
     return x.ravel()
 
 
+def peaks(q, shapes, t, static=None, g=None, block=2000):
+    """Largest |u| over time at every DOF and when, for u(t) = shapes q(t) (+ static g(t)).
+
+    q (m, k); shapes (N, k); static (N,) pattern scaled by g (m,); returns (N,), (N,).
+    Works through blocks of time steps so the full (m, N) history is never held."""
+    n = shapes.shape[0]
+    peak, peak_t = np.zeros(n), np.zeros(n)
+    for a in range(0, len(t), block):
+        u = q[a:a + block] @ shapes.T
+        if static is not None:
+            u += np.outer(g[a:a + block], static)
+        k = np.abs(u).argmax(axis=0)
+        val = np.abs(u[k, np.arange(n)])
+        better = val > peak
+        peak[better], peak_t[better] = val[better], t[a + k[better]]
+    return peak, peak_t
+
+
 def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
                     start_u: np.ndarray | None) -> FreeCaseResult:
     """start_u (n, 6) deflected shape of the start case, or None."""
@@ -56,16 +74,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     captured = float(q0 @ q0 / total) if total > 0 else 1.0
     t = np.arange(0.0, opt["duration"] + 0.5 * opt["step"], opt["step"])
     q, _ = free_response(omega, zeta, q0, qd0, t)
-    # peaks at every node without holding every DOF at every step: blocks of time steps
-    shapes = modal.shapes.reshape(6 * model.n_nodes, -1)
-    peak = np.zeros(6 * model.n_nodes)
-    peak_t = np.zeros(6 * model.n_nodes)
-    for a in range(0, len(t), 2000):
-        block = q[a:a + 2000] @ shapes.T            # (b, 6n)
-        k = np.abs(block).argmax(axis=0)
-        val = np.abs(block[k, np.arange(block.shape[1])])
-        better = val > peak
-        peak[better], peak_t[better] = val[better], t[a + k[better]]
+    peak, peak_t = peaks(q, modal.shapes.reshape(6 * model.n_nodes, -1), t)
     record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
     sel = modal.shapes[record]                       # (r, 6, k)
     u = np.einsum("tk,rdk->trd", q, sel)

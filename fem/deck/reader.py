@@ -514,7 +514,7 @@ class _Reader:
         combos = [Combination(nm, _combo_factors(self, tree, names), where) for nm, tree, where in self.combos]
         modal = [c.name for c in cases if c.kind == "modes"]
         for c in cases:
-            if c.kind != "free":
+            if c.kind not in ("free", "history"):
                 continue
             start = c.options.get("start")
             if start and start[0] not in names | {cb.name for cb in combos}:
@@ -524,7 +524,7 @@ class _Reader:
             if mref and mref[0] not in modal:
                 raise DeckError(f"case {c.name}: '{mref[0]}' is not a modes case; {suggest(mref[0], modal)}", mref[1])
             if not modal:
-                raise DeckError(f"case {c.name}: free vibration is computed from modes; add a modes case",
+                raise DeckError(f"case {c.name}: this case is computed from modes; add a modes case",
                                 c.location)
             c.options["start"] = start[0] if start else None
             c.options["modes"] = mref[0] if mref else modal[0]
@@ -563,6 +563,9 @@ class _Reader:
             kindname = str(kindname)
             spec = {"force": (U.FORCE, nidx, "node"), "moment": (U.MOMENT, nidx, "node"),
                     "line": ((1, 0, -2), midx, "member")}
+            if kind == "history":
+                spec.pop("line")
+                spec["line"] = ((1, 0, -2), midx, "member")
             if kind == "free":
                 spec = {"displacement": (U.LENGTH, nidx, "node"), "velocity": ((0, 1, -1), nidx, "node")}
             if kindname not in spec:
@@ -575,12 +578,94 @@ class _Reader:
             self.modes_options(case)
         elif kind == "free":
             self.free_options(case, nidx)
+        elif kind == "history":
+            self.history_options(case, nidx)
         elif kind != "static":
-            raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes "
-                            "or free", where)
+            raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes, "
+                            "free or history", where)
         return case
 
-    def free_options(self, case: LoadCase, nidx) -> None:
+    def history_options(self, case: LoadCase, nidx) -> None:
+        """Options of a time-history case: the free-case options plus time, table, ground,
+        correction."""
+        from ..analysis.timefn import SHAPES, TimeFunction
+
+        extra = {}
+        rest = {}
+        for key, (val, where) in case.options.items():
+            what = f"case {case.name}: {key}"
+            if key == "time":
+                if isinstance(val, Tree) and val.data == "var":
+                    name, args = str(val.children[0]), []
+                elif isinstance(val, Tree) and val.data == "call":
+                    name, args = str(val.children[0]), val.children[1:]
+                else:
+                    raise DeckError(f"{what} is a shape like halfsine(0.2 s) or step", where)
+                if name not in SHAPES:
+                    raise DeckError(f"{what}: unknown time function '{name}'; {suggest(name, SHAPES)}", where)
+                if len(args) != SHAPES[name]:
+                    raise DeckError(f"{what}: {name} takes {SHAPES[name]} value(s)", where)
+                param = 0.0
+                if args:
+                    dim = U.FREQ if name == "harmonic" else U.TIME
+                    param = self.value(args[0], dim, what)
+                    if param <= 0:
+                        raise DeckError(f"{what}: the {name} parameter must be positive", where)
+                extra["time"] = TimeFunction(name, param)
+            elif key == "table":
+                if not (isinstance(val, Token) and val.type == "STRING"):
+                    raise DeckError(f'{what} is a quoted CSV file name, e.g. table = "record.csv"', where)
+                extra["time"] = TimeFunction("table", table=self.read_table(str(val)[1:-1], where))
+            elif key == "ground":
+                extra["ground"] = self.vector(val, U.ACCEL, what)
+            elif key == "correction":
+                word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
+                if word not in ("on", "off"):
+                    raise DeckError(f"{what} is on or off", where)
+                extra["correction"] = word == "on"
+            else:
+                rest[key] = (val, where)
+        case.options = rest
+        self.free_options(case, nidx, history=True)
+        case.options.update(extra)
+        if "time" not in case.options:
+            raise DeckError(f"case {case.name}: a history case needs time = shape(...) or table = \"file.csv\"",
+                            case.location)
+        if not case.loads and "ground" not in case.options:
+            raise DeckError(f"case {case.name}: give loads or a ground acceleration", case.location)
+        if case.options.get("correction") and "ground" in case.options:
+            raise DeckError(f"case {case.name}: the static correction applies to force loads only",
+                            case.location)
+
+    def read_table(self, rel: str, where) -> np.ndarray:
+        """Two-column CSV (time s, factor), relative to the deck file and inside its folder tree."""
+        path = (self.stack[-1].parent / rel).resolve()
+        if self.top_dir not in path.parents:
+            raise DeckError(f"table '{rel}' is outside the deck's folder {self.top_dir}", where)
+        try:
+            lines = path.read_text(encoding="utf-8").splitlines()
+        except OSError as exc:
+            raise DeckError(f"cannot read table '{rel}': {exc.strerror}", where) from None
+        rows = []
+        for k, line in enumerate(lines, 1):
+            parts = [x.strip() for x in line.replace(";", ",").split(",") if x.strip()]
+            if not parts or parts[0].startswith("#"):
+                continue
+            try:
+                vals = [float(x) for x in parts]
+            except ValueError:
+                if not rows:
+                    continue              # a header line
+                raise DeckError(f"{path.name}:{k}: expected two numbers (time, value), found {line!r}") from None
+            if len(vals) != 2 or not all(map(math.isfinite, vals)):
+                raise DeckError(f"{path.name}:{k}: expected two finite numbers (time, value), found {line!r}")
+            rows.append(vals)
+        table = np.array(rows).reshape(-1, 2)
+        if len(table) < 2 or np.any(np.diff(table[:, 0]) <= 0):
+            raise DeckError(f"table '{rel}' needs at least two rows with increasing times", where)
+        return table
+
+    def free_options(self, case: LoadCase, nidx, history: bool = False) -> None:
         """Options of a free-vibration case: duration, step, damping, start, modes, record."""
         out = {"damping": 0.0, "record": None}
         for key, (val, where) in case.options.items():
@@ -594,7 +679,7 @@ class _Reader:
                 out[key] = self.value(val, U.NONE, what)
                 if not 0 <= out[key] < 1:
                     raise DeckError(f"{what} is a ratio from 0 to below 1 (e.g. 2 percent)", where)
-            elif key in ("start", "modes"):
+            elif key in ("start", "modes") and not (history and key == "start"):
                 if word is None:
                     raise DeckError(f"{what} names a case, e.g. {key} = WIND", where)
                 out[key] = (word, where)
@@ -607,14 +692,16 @@ class _Reader:
                     raise DeckError(f"{what}: '{pat}' matches no node; {suggest(pat, nidx)}", where)
                 out[key] = np.array([nidx[n] for n in hit])
             else:
-                raise DeckError(f"case {case.name}: unknown option '{key}' for free vibration; "
-                                f"{suggest(key, ['duration', 'step', 'damping', 'start', 'modes', 'record'])}", where)
+                known = ["duration", "step", "damping", "modes", "record"]
+                known += ["time", "table", "ground", "correction"] if history else ["start"]
+                raise DeckError(f"case {case.name}: unknown option '{key}' for a {case.kind} case; "
+                                f"{suggest(key, known)}", where)
         for key in ("duration", "step"):
             if key not in out:
-                raise DeckError(f"case {case.name}: a free-vibration case needs {key} = ... s", case.location)
+                raise DeckError(f"case {case.name}: a {case.kind} case needs {key} = ... s", case.location)
         if out["duration"] / out["step"] > 1e6:
             raise DeckError(f"case {case.name}: more than a million time steps; use a longer step", case.location)
-        if not case.loads and "start" not in out:
+        if not history and not case.loads and "start" not in out:
             raise DeckError(f"case {case.name}: give a start (a static case) or initial displacement/velocity",
                             case.location)
         case.options = out
