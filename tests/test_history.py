@@ -156,3 +156,15 @@ def test_history_errors(tmp_path):
     deck = (SDOF % ("step", "1 s", "0.01 s", "0")).replace("time = step", 'table = "rec.csv"')
     with pytest.raises(DeckError, match="increasing times"):
         read_text(deck, folder=tmp_path)
+
+
+def test_table_time_function_from_deck_file(tmp_path):
+    # a tabulated ramp to 1 at t = 0 and held: same as a step (exact for piecewise-linear input)
+    from fem.deck.reader import read_deck
+    (tmp_path / "rec").mkdir()
+    (tmp_path / "rec" / "f.csv").write_text("# time, factor\n0,1\n10,1\n")
+    deck = tmp_path / "d.deck"
+    deck.write_text((SDOF % ("step", "0.5 s", "0.001 s", "0")).replace("time = step", 'table = "rec/f.csv"'))
+    tab = solve_all(read_deck(deck))[1][-1]
+    step = sdof("step", "0.5 s", "0.001 s")
+    np.testing.assert_allclose(tab.u, step.u, atol=1e-15)

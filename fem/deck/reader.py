@@ -615,7 +615,8 @@ class _Reader:
             elif key == "table":
                 if not (isinstance(val, Token) and val.type == "STRING"):
                     raise DeckError(f'{what} is a quoted CSV file name, e.g. table = "record.csv"', where)
-                extra["time"] = TimeFunction("table", table=self.read_table(str(val)[1:-1], where))
+                base = self.token_file.get(id(val)) or self.stack[-1]
+                extra["time"] = TimeFunction("table", table=self.read_table(str(val)[1:-1], where, base))
             elif key == "ground":
                 extra["ground"] = self.vector(val, U.ACCEL, what)
             elif key == "correction":
@@ -637,9 +638,9 @@ class _Reader:
             raise DeckError(f"case {case.name}: the static correction applies to force loads only",
                             case.location)
 
-    def read_table(self, rel: str, where) -> np.ndarray:
+    def read_table(self, rel: str, where, deck_file: Path) -> np.ndarray:
         """Two-column CSV (time s, factor), relative to the deck file and inside its folder tree."""
-        path = (self.stack[-1].parent / rel).resolve()
+        path = (deck_file.parent / rel).resolve()
         if self.top_dir not in path.parents:
             raise DeckError(f"table '{rel}' is outside the deck's folder {self.top_dir}", where)
         try:
