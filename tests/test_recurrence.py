@@ -105,3 +105,12 @@ def test_step_load_peak_dlf():
     t = np.arange(0, 0.6, 1e-4)
     q, _ = integrate_modal(np.array([w]), np.array([0.05]), 1e-4, np.ones((len(t), 1)) * w**2)
     assert abs(q[:, 0].max() - 1.854468) < 1e-6
+
+
+def test_modal_ratios_rules():
+    from fem.analysis.damping import modal_ratios
+    w = 2 * np.pi * np.array([1.0, 2.0, 5.0, 9.0])
+    np.testing.assert_allclose(modal_ratios(w, [0.02]), 0.02)
+    np.testing.assert_allclose(modal_ratios(w, [0.02, 0.03]), [0.02, 0.03, 0.03, 0.03])
+    # Rayleigh anchored at 1 and 5 Hz with 5 %: reference-values.md section 8 table (2 Hz: 0.0375)
+    np.testing.assert_allclose(modal_ratios(w, rayleigh=(1, 0.05, 5, 0.05))[:3], [0.05, 0.0375, 0.05], rtol=1e-12)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["rayleigh_coefficients", "rayleigh_ratios"]
+__all__ = ["modal_ratios", "rayleigh_coefficients", "rayleigh_ratios"]
 
 
 def rayleigh_coefficients(f1, zeta1, f2, zeta2):
@@ -24,4 +24,18 @@ def rayleigh_ratios(omega, a0, a1):
     out = np.zeros_like(w)
     pos = w > 0
     out[pos] = a0 / (2 * w[pos]) + a1 * w[pos] / 2
+    return out
+
+
+def modal_ratios(omega, ratios=None, rayleigh=None):
+    """Damping ratio of each mode (k,): Rayleigh from (f1, z1, f2, z2) if given, else the list
+    `ratios` (one value for all modes, or one per mode; the last repeats for higher modes)."""
+    w = np.asarray(omega, dtype=float)
+    if rayleigh is not None:
+        return rayleigh_ratios(w, *rayleigh_coefficients(*rayleigh))
+    z = np.atleast_1d(np.asarray(0.0 if ratios is None else ratios, dtype=float))
+    out = np.empty_like(w)
+    n = min(len(z), len(w))
+    out[:n] = z[:n]
+    out[n:] = z[-1]
     return out

@@ -9,7 +9,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..assembly import Assembled
+from ..errors import ModelError
 from ..model import LoadCase, Model
+from .damping import modal_ratios
 from .free_case import peaks
 from .modal_case import ModesCaseResult
 from .recurrence import integrate_modal
@@ -58,7 +60,10 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     else:
         F_eff = F
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = np.full(len(omega), opt["damping"])
+    zeta = modal_ratios(omega, opt["damping"], opt.get("rayleigh"))
+    if np.any(zeta >= 1):
+        raise ModelError(f"case {case.name}: Rayleigh damping gives a ratio of 1 or more for a "
+                         "retained mode; choose other anchor frequencies")
     pk = phi.T @ F_eff[f]                                    # (k,) modal load amplitudes
     P = g[:, None] * pk[None, :]
     q, v = integrate_modal(omega, zeta, dt, P)

@@ -666,9 +666,41 @@ class _Reader:
             raise DeckError(f"table '{rel}' needs at least two rows with increasing times", where)
         return table
 
+    def dynamic_common(self, case, key, val, where, out, nidx) -> bool:
+        """Options every modal response case shares: damping, rayleigh, record. True if handled."""
+        what = f"case {case.name}: {key}"
+        if key == "damping":
+            if isinstance(val, Tree) and val.data == "vector":
+                z = np.array([self.value(c, U.NONE, what) for c in val.children])
+            else:
+                z = np.array([self.value(val, U.NONE, what)])
+            if np.any(z < 0) or np.any(z >= 1):
+                raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
+            out["damping"] = z
+        elif key == "rayleigh":
+            if not (isinstance(val, Tree) and val.data == "vector" and len(val.children) == 4):
+                raise DeckError(f"{what} is (f1, ratio1, f2, ratio2), e.g. (1 Hz, 2 percent, 10 Hz, 2 percent)", where)
+            c = val.children
+            f1, f2 = self.value(c[0], U.FREQ, what), self.value(c[2], U.FREQ, what)
+            z1, z2 = self.value(c[1], U.NONE, what), self.value(c[3], U.NONE, what)
+            if not (f1 > 0 and f2 > 0 and f1 != f2):
+                raise DeckError(f"{what}: two different positive frequencies are needed", where)
+            out["rayleigh"] = (f1, z1, f2, z2)
+        elif key == "record":
+            if not (isinstance(val, Token) and val.type == "STRING"):
+                raise DeckError(f'{what} is a quoted node name or pattern, e.g. record = "P10_*"', where)
+            pat = str(val)[1:-1]
+            hit = [n for n in nidx if fnmatch.fnmatchcase(n, pat)]
+            if not hit:
+                raise DeckError(f"{what}: '{pat}' matches no node; {suggest(pat, nidx)}", where)
+            out[key] = np.array([nidx[n] for n in hit])
+        else:
+            return False
+        return True
+
     def free_options(self, case: LoadCase, nidx, history: bool = False) -> None:
         """Options of a free-vibration case: duration, step, damping, start, modes, record."""
-        out = {"damping": 0.0, "record": None}
+        out = {"damping": np.zeros(1), "record": None}
         for key, (val, where) in case.options.items():
             what = f"case {case.name}: {key}"
             word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
@@ -676,24 +708,14 @@ class _Reader:
                 out[key] = self.value(val, U.TIME, what)
                 if out[key] <= 0:
                     raise DeckError(f"{what} must be positive", where)
-            elif key == "damping":
-                out[key] = self.value(val, U.NONE, what)
-                if not 0 <= out[key] < 1:
-                    raise DeckError(f"{what} is a ratio from 0 to below 1 (e.g. 2 percent)", where)
-            elif key in ("start", "modes") and not (history and key == "start"):
+            elif key in ("modes",) or (key == "start" and not history):
                 if word is None:
                     raise DeckError(f"{what} names a case, e.g. {key} = WIND", where)
                 out[key] = (word, where)
-            elif key == "record":
-                if not (isinstance(val, Token) and val.type == "STRING"):
-                    raise DeckError(f'{what} is a quoted node name or pattern, e.g. record = "P10_*"', where)
-                pat = str(val)[1:-1]
-                hit = [n for n in nidx if fnmatch.fnmatchcase(n, pat)]
-                if not hit:
-                    raise DeckError(f"{what}: '{pat}' matches no node; {suggest(pat, nidx)}", where)
-                out[key] = np.array([nidx[n] for n in hit])
+            elif self.dynamic_common(case, key, val, where, out, nidx):
+                pass
             else:
-                known = ["duration", "step", "damping", "modes", "record"]
+                known = ["duration", "step", "damping", "rayleigh", "modes", "record"]
                 known += ["time", "table", "ground", "correction"] if history else ["start"]
                 raise DeckError(f"case {case.name}: unknown option '{key}' for a {case.kind} case; "
                                 f"{suggest(key, known)}", where)
