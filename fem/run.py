@@ -16,6 +16,7 @@ from pathlib import Path
 import numpy as np
 
 from .analysis.free_case import FreeCaseResult, solve_free_case
+from .analysis.harmonic import HarmonicResult, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.static import StaticResult, factorise, solve_static
@@ -68,10 +69,16 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
         elif c.kind == "history":
             lu = factorise(model, asm) if c.options.get("correction") else None
             modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]], lu))
+        elif c.kind == "harmonic":
+            lu = factorise(model, asm) if c.options.get("correction") else None
+            modal.append(solve_harmonic_case(model, asm, c, modal_by[c.options["modes"]], lu))
     return results, modal
 
 
 def modal_checks(r) -> dict:
+    if isinstance(r, HarmonicResult):
+        return {"static_correction": r.corrected, "highest_mode_Hz": r.highest_mode_Hz,
+                "modes_cover_band": bool(r.highest_mode_Hz >= r.freq[-1])}
     if isinstance(r, HistoryResult):
         return {"static_correction": r.corrected}
     if isinstance(r, FreeCaseResult):
@@ -93,7 +100,7 @@ def _mass_ok(model: Model) -> bool:
 
 
 def _modal_ok(r) -> bool:
-    if isinstance(r, (FreeCaseResult, HistoryResult)):
+    if isinstance(r, (FreeCaseResult, HistoryResult, HarmonicResult)):
         return True
     c = modal_checks(r)
     return c["residual_pass"] and c["orthogonality_pass"] and c["none_missed"] is not False
@@ -126,8 +133,16 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    ["time_s", "node", *DIRECTIONS, "vx", "vy", "vz", "ax_abs", "ay_abs", "az_abs"],
                    [[float(t), nodes[n], *map(float, r.u[i, j]), *map(float, r.v[i, j, :3]),
                      *map(float, r.a[i, j, :3])] for i, t in enumerate(r.t) for j, n in enumerate(r.record)])
+    harm = [x for x in modal if isinstance(x, HarmonicResult)]
+    for r in harm:
+        _write_csv(out / f"frf_{r.name}.csv",
+                   ["frequency_Hz", "node", *(f"amp_{d}" for d in DIRECTIONS),
+                    *(f"lag_deg_{d}" for d in DIRECTIONS)],
+                   [[float(fr), nodes[n], *map(float, np.abs(r.u[i, j])),
+                     *map(float, -np.degrees(np.angle(r.u[i, j])))]
+                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.record)])
     free = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
-    modal = [x for x in modal if not isinstance(x, (FreeCaseResult, HistoryResult))]
+    modal = [x for x in modal if isinstance(x, ModesCaseResult)]
     if modal:
         head = ["case", "mode", "frequency_Hz", "omega_rad_s", "period_s"]
         head += [f"gamma_{a}" for a in AXES] + [f"mass_fraction_{a}" for a in AXES]
@@ -170,7 +185,13 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "peak_translation_m": float(np.abs(r.peak[:, :3]).max()),
                    "peaks": {nodes[k]: {"value": r.peak[k].tolist(), "time_s": r.peak_time[k].tolist()}
                              for k in range(len(nodes))},
-                   "checks": modal_checks(r)} for r in free],
+                   "checks": modal_checks(r)} for r in free] + [
+                  {"name": r.name, "kind": "harmonic", "damping_ratio": r.zeta.tolist(),
+                   "frequencies": len(r.freq), "band_Hz": [float(r.freq[0]), float(r.freq[-1])],
+                   "peak_amplitude_m": float(np.abs(r.peak[:, :3]).max()),
+                   "peaks": {nodes[k]: {"amplitude": r.peak[k].tolist(), "frequency_Hz": r.peak_freq[k].tolist()}
+                             for k in range(len(nodes))},
+                   "checks": modal_checks(r)} for r in harm],
     }
     (out / "results.json").write_text(json.dumps(doc, indent=2))
 
@@ -205,6 +226,15 @@ def run_deck(deck: str, out: str | None = None) -> int:
               f"equilibrium {r.equilibrium:.1e} {ok}")
     for r in modal:
         c = modal_checks(r)
+        if isinstance(r, HarmonicResult):
+            k = np.unravel_index(np.abs(r.peak[:, :3]).argmax(), r.peak[:, :3].shape)
+            print(f"  {r.name:<12} harmonic sweep {r.freq[0]:.4g}-{r.freq[-1]:.4g} Hz, {len(r.freq)} "
+                  f"frequencies; peak amplitude {r.peak[k]:.4g} m at {r.peak_freq[k]:.4g} Hz")
+            if r.highest_mode_Hz < r.freq[-1]:
+                print(f"               warning: the highest retained mode is {r.highest_mode_Hz:.4g} Hz, "
+                      f"below the top of the sweep; ask for more modes"
+                      + (" (static correction on)" if r.corrected else " or set correction = on"))
+            continue
         if isinstance(r, HistoryResult):
             print(f"  {r.name:<12} time history, {len(r.t)} steps; peak translation "
                   f"{np.abs(r.peak[:, :3]).max():.4g} m"

@@ -514,7 +514,7 @@ class _Reader:
         combos = [Combination(nm, _combo_factors(self, tree, names), where) for nm, tree, where in self.combos]
         modal = [c.name for c in cases if c.kind == "modes"]
         for c in cases:
-            if c.kind not in ("free", "history"):
+            if c.kind not in ("free", "history", "harmonic"):
                 continue
             start = c.options.get("start")
             if start and start[0] not in names | {cb.name for cb in combos}:
@@ -563,7 +563,7 @@ class _Reader:
             kindname = str(kindname)
             spec = {"force": (U.FORCE, nidx, "node"), "moment": (U.MOMENT, nidx, "node"),
                     "line": ((1, 0, -2), midx, "member")}
-            if kind == "history":
+            if kind in ("history", "harmonic"):
                 spec.pop("line")
                 spec["line"] = ((1, 0, -2), midx, "member")
             if kind == "free":
@@ -580,9 +580,11 @@ class _Reader:
             self.free_options(case, nidx)
         elif kind == "history":
             self.history_options(case, nidx)
+        elif kind == "harmonic":
+            self.harmonic_options(case, nidx)
         elif kind != "static":
             raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes, "
-                            "free or history", where)
+                            "free, history or harmonic", where)
         return case
 
     def history_options(self, case: LoadCase, nidx) -> None:
@@ -637,6 +639,52 @@ class _Reader:
         if case.options.get("correction") and "ground" in case.options:
             raise DeckError(f"case {case.name}: the static correction applies to force loads only",
                             case.location)
+
+    def harmonic_options(self, case: LoadCase, nidx) -> None:
+        """Options of a harmonic sweep: from, to, points, spacing, ground, correction, damping,
+        rayleigh, modes, record."""
+        out = {"damping": np.zeros(1), "record": None, "points": 200, "spacing": "linear"}
+        for key, (val, where) in case.options.items():
+            what = f"case {case.name}: {key}"
+            word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
+            if key in ("from", "to"):
+                out[key] = self.value(val, U.FREQ, what)
+                if out[key] <= 0:
+                    raise DeckError(f"{what} must be a positive frequency", where)
+            elif key == "points":
+                v = self.value(val, U.NONE, what)
+                if v != int(v) or not 2 <= v <= 1_000_000:
+                    raise DeckError(f"{what} is a whole number from 2 to a million", where)
+                out[key] = int(v)
+            elif key == "spacing":
+                if word not in ("linear", "log"):
+                    raise DeckError(f"{what} is linear or log", where)
+                out[key] = word
+            elif key == "ground":
+                out[key] = self.vector(val, U.ACCEL, what)
+            elif key == "correction":
+                if word not in ("on", "off"):
+                    raise DeckError(f"{what} is on or off", where)
+                out[key] = word == "on"
+            elif key == "modes":
+                if word is None:
+                    raise DeckError(f"{what} names a modes case", where)
+                out[key] = (word, where)
+            elif not self.dynamic_common(case, key, val, where, out, nidx):
+                known = ["from", "to", "points", "spacing", "ground", "correction", "damping",
+                         "rayleigh", "modes", "record"]
+                raise DeckError(f"case {case.name}: unknown option '{key}' for a harmonic case; "
+                                f"{suggest(key, known)}", where)
+        for key in ("from", "to"):
+            if key not in out:
+                raise DeckError(f"case {case.name}: a harmonic case needs {key} = ... Hz", case.location)
+        if out["to"] <= out["from"]:
+            raise DeckError(f"case {case.name}: 'to' must be above 'from'", case.location)
+        if not case.loads and "ground" not in out:
+            raise DeckError(f"case {case.name}: give force amplitudes or a ground acceleration", case.location)
+        if out.get("correction") and "ground" in out:
+            raise DeckError(f"case {case.name}: the static correction applies to force loads only", case.location)
+        case.options = out
 
     def read_table(self, rel: str, where, deck_file: Path) -> np.ndarray:
         """Two-column CSV (time s, factor), relative to the deck file and inside its folder tree."""
