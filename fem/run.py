@@ -19,6 +19,7 @@ from .analysis.free_case import FreeCaseResult, solve_free_case
 from .analysis.harmonic import HarmonicResult, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
+from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
 from .analysis.static import StaticResult, factorise, solve_static
 from .assembly import assemble
 from .deck.reader import read_deck
@@ -69,6 +70,9 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
         elif c.kind == "history":
             lu = factorise(model, asm) if c.options.get("correction") else None
             modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]], lu))
+        elif c.kind == "spectrum":
+            lu = factorise(model, asm) if c.options.get("missing") else None
+            modal.append(solve_spectrum_case(model, asm, c, modal_by[c.options["modes"]], lu))
         elif c.kind == "harmonic":
             lu = factorise(model, asm) if c.options.get("correction") else None
             modal.append(solve_harmonic_case(model, asm, c, modal_by[c.options["modes"]], lu))
@@ -76,6 +80,9 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
 
 
 def modal_checks(r) -> dict:
+    if isinstance(r, SpectrumResult):
+        return {"missing_mass_fraction": dict(zip("XYZ", map(float, r.missing_fraction))),
+                "missing_mass_correction": r.missing, "periods_outside_table_s": r.periods_outside}
     if isinstance(r, HarmonicResult):
         return {"static_correction": r.corrected, "highest_mode_Hz": r.highest_mode_Hz,
                 "modes_cover_band": bool(r.highest_mode_Hz >= r.freq[-1])}
@@ -100,7 +107,7 @@ def _mass_ok(model: Model) -> bool:
 
 
 def _modal_ok(r) -> bool:
-    if isinstance(r, (FreeCaseResult, HistoryResult, HarmonicResult)):
+    if isinstance(r, (FreeCaseResult, HistoryResult, HarmonicResult, SpectrumResult)):
         return True
     c = modal_checks(r)
     return c["residual_pass"] and c["orthogonality_pass"] and c["none_missed"] is not False
@@ -115,6 +122,8 @@ def _write_csv(path: Path, header, rows) -> None:
 
 def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> None:
     nodes, mems = model.node_names, model.member_names
+    # spectrum peaks share the static tables (values are combined peaks, >= 0)
+    results = results + [x for x in modal if isinstance(x, SpectrumResult)]
     _write_csv(out / "displacements.csv", ["case", "node", *DIRECTIONS],
                [[r.name, n, *map(float, r.u[k])] for r in results for k, n in enumerate(nodes)])
     sup = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
@@ -134,6 +143,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    [[float(t), nodes[n], *map(float, r.u[i, j]), *map(float, r.v[i, j, :3]),
                      *map(float, r.a[i, j, :3])] for i, t in enumerate(r.t) for j, n in enumerate(r.record)])
     harm = [x for x in modal if isinstance(x, HarmonicResult)]
+    spectra = [x for x in modal if isinstance(x, SpectrumResult)]
     for r in harm:
         _write_csv(out / f"frf_{r.name}.csv",
                    ["frequency_Hz", "node", *(f"amp_{d}" for d in DIRECTIONS),
@@ -172,7 +182,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "applied_sum_N": r.applied[:, :3].sum(0).tolist(),
                    "checks": {"equilibrium_relative": r.equilibrium,
                               "equilibrium_pass": bool(r.equilibrium < EQUILIBRIUM_TOL)}}
-                  for r in results] + [
+                  for r in results if isinstance(r, StaticResult)] + [
                   {"name": r.name, "kind": "modes", "solver": r.modes.solver,
                    "frequency_Hz": r.modes.freq.tolist(), "period_s": r.modes.period.tolist(),
                    "effective_mass_kg": r.part.effective_mass.tolist(),
@@ -191,7 +201,14 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "peak_amplitude_m": float(np.abs(r.peak[:, :3]).max()),
                    "peaks": {nodes[k]: {"amplitude": r.peak[k].tolist(), "frequency_Hz": r.peak_freq[k].tolist()}
                              for k in range(len(nodes))},
-                   "checks": modal_checks(r)} for r in harm],
+                   "checks": modal_checks(r)} for r in harm] + [
+                  {"name": r.name, "kind": "spectrum", "combination": r.rule,
+                   "direction_rule": r.spatial, "direction_factors": r.directions.tolist(),
+                   "damping_ratio": r.zeta.tolist(), "period_s": r.periods.tolist(),
+                   "sa_m_s2": r.sa.tolist(), "base_reaction": dict(zip(["Fx", "Fy", "Fz", "Mx", "My", "Mz"],
+                                                                         map(float, r.base))),
+                   "max_displacement_m": float(r.u[:, :3].max()),
+                   "checks": modal_checks(r)} for r in spectra],
     }
     (out / "results.json").write_text(json.dumps(doc, indent=2))
 
@@ -226,6 +243,16 @@ def run_deck(deck: str, out: str | None = None) -> int:
               f"equilibrium {r.equilibrium:.1e} {ok}")
     for r in modal:
         c = modal_checks(r)
+        if isinstance(r, SpectrumResult):
+            print(f"  {r.name:<12} response spectrum ({r.rule.upper()}, directions {r.spatial}); base shear "
+                  f"Fx {r.base[0] / 1e3:.4g} kN, Fy {r.base[1] / 1e3:.4g} kN; max displacement "
+                  f"{r.u[:, :3].max():.4g} m; missing mass "
+                  + ", ".join(f"{100 * v:.1f}%" for v in r.missing_fraction)
+                  + (" (corrected)" if r.missing else ""))
+            if r.periods_outside:
+                print(f"               warning: {len(r.periods_outside)} modal period(s) outside the table: "
+                      "held below the first period, falling as 1/T^2 beyond the last")
+            continue
         if isinstance(r, HarmonicResult):
             k = np.unravel_index(np.abs(r.peak[:, :3]).argmax(), r.peak[:, :3].shape)
             print(f"  {r.name:<12} harmonic sweep {r.freq[0]:.4g}-{r.freq[-1]:.4g} Hz, {len(r.freq)} "

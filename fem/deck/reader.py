@@ -514,7 +514,7 @@ class _Reader:
         combos = [Combination(nm, _combo_factors(self, tree, names), where) for nm, tree, where in self.combos]
         modal = [c.name for c in cases if c.kind == "modes"]
         for c in cases:
-            if c.kind not in ("free", "history", "harmonic"):
+            if c.kind not in ("free", "history", "harmonic", "spectrum"):
                 continue
             start = c.options.get("start")
             if start and start[0] not in names | {cb.name for cb in combos}:
@@ -582,9 +582,11 @@ class _Reader:
             self.history_options(case, nidx)
         elif kind == "harmonic":
             self.harmonic_options(case, nidx)
+        elif kind == "spectrum":
+            self.spectrum_options(case, nidx)
         elif kind != "static":
             raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes, "
-                            "free, history or harmonic", where)
+                            "free, history, harmonic or spectrum", where)
         return case
 
     def history_options(self, case: LoadCase, nidx) -> None:
@@ -686,6 +688,80 @@ class _Reader:
             raise DeckError(f"case {case.name}: the static correction applies to force loads only", case.location)
         case.options = out
 
+    def spectrum_options(self, case: LoadCase, nidx) -> None:
+        """Options of a response-spectrum case: curve or table (+ scale, made_for), directions,
+        combine, spatial, missing, damping, rayleigh, modes."""
+        from ..analysis.spectrum import Spectrum
+
+        curves = {"plateau": (U.ACCEL, U.NONE, U.TIME, U.TIME, U.TIME),
+                  "twoperiod": (U.ACCEL, U.ACCEL, U.TIME)}
+        out = {"damping": np.array([0.05]), "record": None, "combine": "cqc", "spatial": "srss",
+               "missing": False, "directions": np.array([1.0, 0.0, 0.0])}
+        curve = table = None
+        scale, made_for = 9.80665, None
+        for key, (val, where) in case.options.items():
+            what = f"case {case.name}: {key}"
+            word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
+            if key == "curve":
+                if not (isinstance(val, Tree) and val.data == "call"):
+                    raise DeckError(f"{what} is plateau(a_g, S, T_B, T_C, T_D) or twoperiod(S_DS, S_D1, T_L)", where)
+                name, args = str(val.children[0]), val.children[1:]
+                if name not in curves:
+                    raise DeckError(f"{what}: unknown design curve '{name}'; {suggest(name, curves)}", where)
+                if len(args) != len(curves[name]):
+                    raise DeckError(f"{what}: {name} takes {len(curves[name])} values", where)
+                params = tuple(self.value(a, d, what) for a, d in zip(args, curves[name]))
+                if any(p <= 0 for p in params):
+                    raise DeckError(f"{what}: every parameter must be positive", where)
+                curve = (name, params)
+            elif key == "table":
+                if not (isinstance(val, Token) and val.type == "STRING"):
+                    raise DeckError(f'{what} is a quoted CSV file name (period s, S_a)', where)
+                base = self.token_file.get(id(val)) or self.stack[-1]
+                table = self.read_table(str(val)[1:-1], where, base)
+                if table[0, 0] < 0 or np.any(table[:, 1] < 0):
+                    raise DeckError(f"{what}: periods and accelerations cannot be negative", where)
+            elif key == "scale":
+                scale = self.value(val, U.ACCEL, what)
+            elif key == "made_for":
+                made_for = self.value(val, U.NONE, what)
+            elif key == "directions":
+                out[key] = self.vector(val, U.NONE, what)
+                if not np.any(out[key]):
+                    raise DeckError(f"{what}: at least one direction factor must be non-zero", where)
+            elif key in ("combine", "spatial"):
+                if isinstance(val, Token) and val.type == "STRING":
+                    word = str(val)[1:-1]
+                allowed = ("cqc", "srss", "abs") if key == "combine" else ("srss", "100/30")
+                if word not in allowed:
+                    raise DeckError(f"{what} is one of {', '.join(allowed)} (write \"100/30\" in quotes)", where)
+                out[key] = word
+            elif key == "missing":
+                if word not in ("on", "off"):
+                    raise DeckError(f"{what} is on or off", where)
+                out[key] = word == "on"
+            elif key == "modes":
+                if word is None:
+                    raise DeckError(f"{what} names a modes case", where)
+                out[key] = (word, where)
+            elif not self.dynamic_common(case, key, val, where, out, nidx):
+                known = ["curve", "table", "scale", "made_for", "directions", "combine", "spatial",
+                         "missing", "damping", "rayleigh", "modes"]
+                raise DeckError(f"case {case.name}: unknown option '{key}' for a spectrum case; "
+                                f"{suggest(key, known)}", where)
+        if (curve is None) == (table is None):
+            raise DeckError(f"case {case.name}: give either curve = ... or table = \"file.csv\"", case.location)
+        if case.loads or case.gravity is not None:
+            raise DeckError(f"case {case.name}: a spectrum case takes no loads", case.location)
+        zeta_curve = float(out["damping"][0]) if made_for is None else made_for
+        if curve:
+            out["spectrum"] = Spectrum(curve[0], curve[1], zeta=zeta_curve)
+        else:
+            tab = table.copy()
+            tab[:, 1] *= scale
+            out["spectrum"] = Spectrum("table", table=tab, zeta=zeta_curve)
+        case.options = out
+
     def read_table(self, rel: str, where, deck_file: Path) -> np.ndarray:
         """Two-column CSV (time s, factor), relative to the deck file and inside its folder tree."""
         path = (deck_file.parent / rel).resolve()
@@ -705,13 +781,13 @@ class _Reader:
             except ValueError:
                 if not rows:
                     continue              # a header line
-                raise DeckError(f"{path.name}:{k}: expected two numbers (time, value), found {line!r}") from None
+                raise DeckError(f"{path.name}:{k}: expected two numbers, found {line!r}") from None
             if len(vals) != 2 or not all(map(math.isfinite, vals)):
-                raise DeckError(f"{path.name}:{k}: expected two finite numbers (time, value), found {line!r}")
+                raise DeckError(f"{path.name}:{k}: expected two finite numbers, found {line!r}")
             rows.append(vals)
         table = np.array(rows).reshape(-1, 2)
         if len(table) < 2 or np.any(np.diff(table[:, 0]) <= 0):
-            raise DeckError(f"table '{rel}' needs at least two rows with increasing times", where)
+            raise DeckError(f"table '{rel}' needs at least two rows with increasing times or periods", where)
         return table
 
     def dynamic_common(self, case, key, val, where, out, nidx) -> bool:
