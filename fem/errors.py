@@ -16,8 +16,15 @@ from __future__ import annotations
 import difflib
 from dataclasses import dataclass
 
-__all__ = ["QuaverError", "DeckError", "ModelError", "MechanismError", "ResultsError",
-           "Location", "suggest"]
+__all__ = [
+    "DeckError",
+    "Location",
+    "MechanismError",
+    "ModelError",
+    "QuaverError",
+    "ResultsError",
+    "suggest",
+]
 
 
 class QuaverError(Exception):

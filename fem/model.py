@@ -13,7 +13,7 @@ import numpy as np
 from .errors import Location
 from .sections import SectionProps
 
-__all__ = ["DIRECTIONS", "Material", "Section", "LoadItem", "LoadCase", "Combination", "Model"]
+__all__ = ["DIRECTIONS", "Combination", "LoadCase", "LoadItem", "Material", "Model", "Section"]
 
 DIRECTIONS = ("ux", "uy", "uz", "rx", "ry", "rz")
 

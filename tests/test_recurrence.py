@@ -1,4 +1,5 @@
 import numpy as np
+
 from fem.analysis.damping import rayleigh_coefficients, rayleigh_ratios
 
 
@@ -77,6 +78,7 @@ def test_lfilter_equals_step_loop_and_solve_ivp():
     # the IIR-filter form must reproduce the plain step loop (round-off, 1e-10), and both the
     # exact solution of the ODE for a piecewise-linear load (scipy solve_ivp at rtol 1e-11)
     from scipy.integrate import solve_ivp
+
     from fem.analysis.recurrence import integrate_modal, integrate_modal_steps
     rng = np.random.default_rng(3)
     w = np.array([0.0, 1.3, 7.0, 30.0])

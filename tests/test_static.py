@@ -1,6 +1,5 @@
 """Static solves from decks against closed forms (reference-values.md section 4)."""
 
-import math
 
 import numpy as np
 import pytest

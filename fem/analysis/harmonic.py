@@ -15,10 +15,9 @@ from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import modal_ratios
-from .modal_case import ModesCaseResult
-from .static import load_vector
+from .modal_case import ModesCaseResult, effective_load, residual_static
 
-__all__ = ["HarmonicResult", "sweep_frequencies", "solve_harmonic_case"]
+__all__ = ["HarmonicResult", "solve_harmonic_case", "sweep_frequencies"]
 
 
 @dataclass
@@ -61,13 +60,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     f = asm.free
     phi, omega = modal.modes.phi, modal.modes.omega
     zeta = modal_ratios(omega, opt["damping"], opt.get("rayleigh"))
-    F = load_vector(model, asm, case)[0] if case.loads else np.zeros(n6)
-    ground = opt.get("ground")
-    if ground is not None:
-        r = np.zeros((model.n_nodes, 6))
-        r[:, :3] = ground
-        F = F.copy()
-        F[f] -= asm.M[f][:, f] @ r.ravel()[f]
+    F = effective_load(model, asm, case, opt.get("ground"))
     if np.any((zeta == 0) & (omega > 0)):
         nat = omega / (2 * np.pi)
         inside = (nat >= opt["from"]) & (nat <= opt["to"]) & (zeta == 0)
@@ -80,12 +73,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     pk = phi.T @ F[f]                                              # (k,)
     H = pk[None, :] / (omega[None, :] ** 2 - W[:, None] ** 2 + 2j * zeta * omega * W[:, None])
     shapes = modal.shapes.reshape(n6, -1)
-    static = None
-    if opt.get("correction"):
-        full = np.zeros(n6)
-        full[f] = lu.solve(F[f])
-        pos = omega > 0
-        static = full - shapes[:, pos] @ (pk[pos] / omega[pos] ** 2)
+    static = residual_static(F, asm, lu, shapes, omega, pk) if opt.get("correction") else None
     peak = np.zeros(n6)
     peak_f = np.zeros(n6)
     for a in range(0, len(W), 500):

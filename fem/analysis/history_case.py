@@ -13,9 +13,8 @@ from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import modal_ratios
 from .free_case import peaks
-from .modal_case import ModesCaseResult
+from .modal_case import ModesCaseResult, effective_load, residual_static
 from .recurrence import integrate_modal
-from .static import load_vector
 
 __all__ = ["HistoryResult", "solve_history_case"]
 
@@ -46,19 +45,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     dt = opt["step"]
     t = np.arange(0.0, opt["duration"] + 0.5 * dt, dt)
     g = opt["time"](t)                                       # (m,)
-    F = np.zeros(n6)
-    if case.loads:
-        F = load_vector(model, asm, case)[0]
     ground = opt.get("ground")
-    r = np.zeros(n6)
-    if ground is not None:
-        r = np.zeros((model.n_nodes, 6))
-        r[:, :3] = ground
-        r = r.ravel()
-        F_eff = F.copy()
-        F_eff[f] -= asm.M[f][:, f] @ r[f]
-    else:
-        F_eff = F
+    F_eff = effective_load(model, asm, case, ground)
     phi, omega = modal.modes.phi, modal.modes.omega
     zeta = modal_ratios(omega, opt["damping"], opt.get("rayleigh"))
     if np.any(zeta >= 1):
@@ -69,12 +57,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     q, v = integrate_modal(omega, zeta, dt, P)
     acc = P - 2 * zeta * omega * v - omega**2 * q            # modal relative accelerations
     shapes = modal.shapes.reshape(n6, -1)
-    static = None
-    if opt.get("correction"):
-        full = np.zeros(n6)
-        full[f] = lu.solve(F_eff[f])
-        pos = omega > 0
-        static = full - shapes[:, pos] @ (pk[pos] / omega[pos] ** 2)
+    static = residual_static(F_eff, asm, lu, shapes, omega, pk) if opt.get("correction") else None
     peak, peak_t = peaks(q, shapes, t, static, g)
     record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
     sel = modal.shapes[record]                               # (r, 6, k)

@@ -11,7 +11,8 @@ from ..errors import ModelError
 from ..model import LoadCase, Model
 from .modes import ModalResult, Participation, participation, solve_modes
 
-__all__ = ["ModesCaseResult", "influence_vectors", "solve_modes_case"]
+__all__ = ["ModesCaseResult", "effective_load", "influence_vectors", "residual_static",
+           "solve_modes_case"]
 
 AXES = ("X", "Y", "Z", "RX", "RY", "RZ")
 
@@ -53,3 +54,27 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point)
+
+
+def effective_load(model: Model, asm: Assembled, case: LoadCase, ground=None) -> np.ndarray:
+    """Spatial load pattern (6n,): the case's loads, minus M r a for a ground acceleration
+    vector `ground` (3,) m/s^2 (relative-motion form m u'' + c u' + k u = -M r a_g)."""
+    from .static import load_vector
+
+    F = load_vector(model, asm, case)[0] if case.loads else np.zeros(6 * model.n_nodes)
+    if ground is not None:
+        r = np.zeros((model.n_nodes, 6))
+        r[:, :3] = ground
+        f = asm.free
+        F = F.copy()
+        F[f] -= asm.M[f][:, f] @ r.ravel()[f]
+    return F
+
+
+def residual_static(F: np.ndarray, asm: Assembled, lu, shapes, omega, pk) -> np.ndarray:
+    """Static response of the modes left out, (K^-1 - sum phi phi^T / w^2) F, as a (6n,) field
+    (mode-acceleration / residual-flexibility correction; Cornwell, Craig & Johnson 1983)."""
+    full = np.zeros(len(F))
+    full[asm.free] = lu.solve(F[asm.free])
+    pos = omega > 0
+    return full - shapes[:, pos] @ (pk[pos] / omega[pos] ** 2)

@@ -9,7 +9,7 @@ import scipy.linalg as sla
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-__all__ = ["ModalResult", "Participation", "solve_modes", "participation", "DENSE_LIMIT"]
+__all__ = ["DENSE_LIMIT", "ModalResult", "Participation", "participation", "solve_modes"]
 
 DENSE_LIMIT = 600   # free DOFs up to which a dense eigh is cheaper and exact
 

@@ -11,7 +11,7 @@ import numpy as np
 import scipy.linalg as sla
 from scipy.signal import lfilter, lfiltic
 
-__all__ = ["recurrence_coefficients", "integrate_modal", "integrate_modal_steps"]
+__all__ = ["integrate_modal", "integrate_modal_steps", "recurrence_coefficients"]
 
 
 def recurrence_coefficients(omega, zeta, dt):

@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["Spectrum", "cqc_correlation", "combine", "combine_directions"]
+__all__ = ["Spectrum", "combine", "combine_directions", "cqc_correlation"]
 
 
 @dataclass(frozen=True)

@@ -12,7 +12,7 @@ from ..assembly import Assembled, element_matrices
 from ..errors import MechanismError
 from ..model import DIRECTIONS, LoadCase, Model
 
-__all__ = ["StaticResult", "load_vector", "solve_static", "factorise"]
+__all__ = ["StaticResult", "factorise", "load_vector", "solve_static"]
 
 
 @dataclass

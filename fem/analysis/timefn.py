@@ -10,7 +10,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["TimeFunction", "SHAPES"]
+__all__ = ["SHAPES", "TimeFunction"]
 
 # name -> number of parameters (durations in s, or a frequency in Hz for harmonic)
 SHAPES = {"step": 0, "ramp": 1, "rect": 1, "halfsine": 1, "triangle": 1, "decay": 1,

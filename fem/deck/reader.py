@@ -7,8 +7,8 @@ Parsing is lark LALR with the contextual lexer; meaning comes from our own walk 
 from __future__ import annotations
 
 import fnmatch
-import re
 import math
+import re
 from functools import lru_cache
 from importlib import resources
 from pathlib import Path
@@ -473,14 +473,14 @@ class _Reader:
         truss = np.zeros(e, bool)
         for k, m in enumerate(mems):
             for end, col in (("i", 0), ("j", 1)):
-                nm, tok = m[end]
+                nm, _ = m[end]
                 if nm not in nidx:
                     raise DeckError(f"member {m['name']}: node '{nm}' is not defined; {suggest(nm, node_names)}", m["loc"])
                 conn[k, col] = nidx[nm]
-            sname, stok = m["section"]
+            sname, _ = m["section"]
             if sname not in self.sections:
                 raise DeckError(f"member {m['name']} uses section '{sname}', which is not defined; {suggest(sname, self.sections)}", m["loc"])
-            mname, mtok = m["material"]
+            mname, _ = m["material"]
             if mname not in self.materials:
                 raise DeckError(f"member {m['name']} uses material '{mname}', which is not defined; {suggest(mname, self.materials)}", m["loc"])
             sp, mat = self.sections[sname].props, self.materials[mname]

@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-__all__ = ["Quantity", "UNITS", "DIMENSIONS", "dim_name", "unit_value"]
+__all__ = ["DIMENSIONS", "UNITS", "Quantity", "dim_name", "unit_value"]
 
 # exponents of (mass, length, time)
 Dim = tuple[int, int, int]
@@ -21,7 +21,7 @@ class Quantity:
     value: float
     dim: Dim = NONE
 
-    def _same(self, other: "Quantity", op: str) -> None:
+    def _same(self, other: Quantity, op: str) -> None:
         if self.dim != other.dim:
             raise ArithmeticError(f"cannot {op} {dim_name(self.dim)} and {dim_name(other.dim)}")
 
