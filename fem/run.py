@@ -97,7 +97,8 @@ def modal_checks(r) -> dict:
             "orthogonality_pass": bool(max(m.orth_mass, m.orth_stiff) < ORTHO_TOL),
             "sturm_count": m.sturm_count, "modes_found": k,
             "none_missed": None if m.sturm_count is None else bool(m.sturm_count == k),
-            "cumulative_mass_fraction": dict(zip(AXES[:3], map(float, r.part.cumulative[-1, :3])))}
+            "cumulative_mass_fraction": dict(zip(AXES[:3], map(float, r.part.cumulative[-1, :3]))),
+            "mass_target": None if r.target is None else r.target.tolist(), "mass_target_met": r.target_met}
 
 
 def _mass_ok(model: Model) -> bool:
@@ -276,6 +277,10 @@ def run_deck(deck: str, out: str | None = None) -> int:
         print(f"  {r.name:<12} {len(r.modes.freq)} modes ({r.modes.solver}); first Hz: {fr}")
         cum = "  ".join(f"{a} {100 * v:.1f}%" for a, v in c["cumulative_mass_fraction"].items())
         missed = "not run" if c["none_missed"] is None else ("pass" if c["none_missed"] else "FAIL")
+        if r.target is not None:
+            print(f"               mass target {', '.join(f'{100 * v:.0f}%' for v in r.target)} (X, Y, Z): "
+                  + ("met" if r.target_met else f"NOT met with {len(r.modes.freq)} modes (the cap); "
+                     "raise max or check the model"))
         print(f"               residual {c['max_residual']:.1e}  M-orthogonality {c['mass_orthogonality']:.1e}"
               f"  Sturm count {missed}  effective mass {cum}")
     print(f"results in {target}/")

@@ -63,3 +63,20 @@ def test_modes_option_errors():
         read_text(CANTILEVER.format(n=2, count=4, mass="consistent").replace("count =", "cout ="))
     with pytest.raises(DeckError, match="whole number"):
         read_text(CANTILEVER.format(n=2, count=2.5, mass="consistent"))
+
+
+def test_mass_participation_target():
+    # the solver adds modes until the cumulative effective mass reaches the target, and keeps
+    # just enough; checked against the cumulative fractions of a plain count request
+    text = CANTILEVER.format(n=20, count=40, mass="consistent")
+    _, full = modes(20, count=40)
+    cum = full.part.cumulative[:, 2]                 # Z: bending in x-z
+    need = int(np.argmax(cum >= 0.9)) + 1
+    m = read_text(text.replace("count = 40", "target = (0, 0, 90 percent), max = 40"))
+    r = solve_modes_case(m, assemble(m), m.cases[0])
+    assert r.target_met and len(r.modes.freq) == need
+    assert r.part.cumulative[-1, 2] >= 0.9 > r.part.cumulative[-2, 2]
+    # an unreachable cap is reported, not hidden
+    m = read_text(text.replace("count = 40", "target = (0, 0, 99.9 percent), max = 3"))
+    r = solve_modes_case(m, assemble(m), m.cases[0])
+    assert r.target_met is False and len(r.modes.freq) == 3

@@ -24,6 +24,8 @@ class ModesCaseResult:
     part: Participation
     shapes: np.ndarray        # (n_nodes, 6, k) mode shapes on all nodes (zeros at fixed DOFs)
     reference: np.ndarray     # (3,) point for rotational participation, m
+    target: np.ndarray | None = None   # (3,) requested cumulative mass fractions X, Y, Z
+    target_met: bool | None = None
 
 
 def influence_vectors(model: Model, point) -> np.ndarray:
@@ -48,12 +50,36 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
     K, M = asm.K[f][:, f], asm.M[f][:, f]
     if M.nnz == 0 or M.diagonal().max() <= 0:
         raise ModelError(f"case {case.name}: the model has no mass; give materials a density or add masses")
-    modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=count, f_max=fmax)
     R = influence_vectors(model, point)[f]
-    part = participation(modes.phi, M, R)
+    target = case.options.get("target")
+    if target is None:
+        modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=count, f_max=fmax)
+        part = participation(modes.phi, M, R)
+        met = None
+    else:
+        # add modes until the cumulative effective mass reaches the target in each direction
+        cap = min(case.options.get("max", 300), len(f))
+        k = min(12, cap)
+        while True:
+            modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=k)
+            part = participation(modes.phi, M, R)
+            got = np.nan_to_num(part.cumulative[-1, :3], nan=1.0)
+            met = bool(np.all(got >= target - 1e-12))
+            if met or k >= cap:
+                break
+            k = min(2 * k, cap)
+        if met:      # keep just enough modes
+            need = [int(np.argmax(np.nan_to_num(part.cumulative[:, d], nan=1.0) >= target[d] - 1e-12))
+                    for d in range(3)]
+            keep = max(need) + 1
+            if keep < len(modes.omega):      # solve again so every check speaks of these modes
+                modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=keep)
+                part = participation(modes.phi, M, R)
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
-    return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point)
+    return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,
+                           target, met)
+
 
 
 def effective_load(model: Model, asm: Assembled, case: LoadCase, ground=None) -> np.ndarray:

@@ -869,12 +869,23 @@ class _Reader:
                     raise DeckError(f"{what} must be positive", where)
             elif key == "reference":
                 out[key] = self.vector(val, U.LENGTH, what)
+            elif key == "target":
+                out[key] = self.vector(val, U.NONE, what)
+                if np.any(out[key] < 0) or np.any(out[key] > 1):
+                    raise DeckError(f"{what}: fractions of the mass from 0 to 100 percent", where)
+            elif key == "max":
+                v = self.value(val, U.NONE, what)
+                if v != int(v) or v < 1:
+                    raise DeckError(f"{what} must be a whole number of at least 1", where)
+                out[key] = int(v)
             else:
                 raise DeckError(f"case {case.name}: unknown option '{key}' for modes; "
-                                f"{suggest(key, ['count', 'fmax', 'reference'])}", where)
+                                f"{suggest(key, ['count', 'fmax', 'reference', 'target', 'max'])}", where)
         if case.loads or case.gravity is not None:
             raise DeckError(f"case {case.name}: a modes case takes no loads", case.location)
-        out.setdefault("count", None if "fmax" in out else 12)
+        if "target" in out and ("count" in out or "fmax" in out):
+            raise DeckError(f"case {case.name}: give a mass target or count/fmax, not both", case.location)
+        out.setdefault("count", None if ("fmax" in out or "target" in out) else 12)
         case.options = out
 
 
