@@ -124,16 +124,19 @@ def _write_csv(path: Path, header, rows) -> None:
 def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> None:
     nodes, mems = model.node_names, model.member_names
     # spectrum peaks share the static tables (values are combined peaks, >= 0)
-    results = results + [x for x in modal if isinstance(x, SpectrumResult)]
+    # static results, then peak envelopes (values >= 0) of spectrum and history cases
+    tables = [(r.name, r.u, r.reactions, r.member_forces) for r in results]
+    tables += [(x.name, x.u, x.reactions, x.member_forces) for x in modal if isinstance(x, SpectrumResult)]
+    tables += [(x.name, x.peak, x.reaction_peak, x.member_peak) for x in modal if isinstance(x, HistoryResult)]
     _write_csv(out / "displacements.csv", ["case", "node", *DIRECTIONS],
-               [[r.name, n, *map(float, r.u[k])] for r in results for k, n in enumerate(nodes)])
+               [[name, n, *map(float, u[k])] for name, u, _, _ in tables for k, n in enumerate(nodes)])
     sup = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
     _write_csv(out / "reactions.csv", ["case", "node", "Fx", "Fy", "Fz", "Mx", "My", "Mz"],
-               [[r.name, nodes[k], *map(float, r.reactions[k])] for r in results for k in sup])
+               [[name, nodes[k], *map(float, rr[k])] for name, _, rr, _ in tables for k in sup])
     labels = ["N", "Vy", "Vz", "T", "My", "Mz"]
     _write_csv(out / "member_forces.csv", ["case", "member", "end", *labels],
-               [[r.name, m, end, *map(float, r.member_forces[k, 6 * e:6 * e + 6])]
-                for r in results for k, m in enumerate(mems) for e, end in enumerate("ij")])
+               [[name, m, end, *map(float, mf[k, 6 * e:6 * e + 6])]
+                for name, _, _, mf in tables for k, m in enumerate(mems) for e, end in enumerate("ij")])
     for r in [x for x in modal if isinstance(x, FreeCaseResult)]:
         _write_csv(out / f"free_{r.name}.csv", ["time_s", "node", *DIRECTIONS],
                    [[float(t), nodes[n], *map(float, r.u[i, j])] for i, t in enumerate(r.t)

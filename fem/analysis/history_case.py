@@ -13,7 +13,8 @@ from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import modal_ratios
 from .free_case import peaks
-from .modal_case import ModesCaseResult, effective_load, residual_static
+from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
+from .static import load_vector
 from .recurrence import integrate_modal
 
 __all__ = ["HistoryResult", "solve_history_case"]
@@ -35,6 +36,8 @@ class HistoryResult:
     peak_time: np.ndarray
     zeta: np.ndarray
     corrected: bool
+    reaction_peak: np.ndarray       # (n, 6) largest |reaction| over time, N / N m
+    member_peak: np.ndarray         # (e, 12) largest |end force| over time, local axes
 
 
 def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
@@ -59,6 +62,21 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     shapes = modal.shapes.reshape(n6, -1)
     static = residual_static(F_eff, asm, lu, shapes, omega, pk) if opt.get("correction") else None
     peak, peak_t = peaks(q, shapes, t, static, g)
+    # reactions and member end forces: per mode, then superposed in time (+ static part, minus
+    # the applied loads at supports and the members' fixed-end forces, which follow g(t))
+    Rm, Fm = field_responses(model, asm, shapes.T)
+    F_only = load_vector(model, asm, case)[0] if case.loads else np.zeros(n6)
+    fe = load_vector(model, asm, case)[1] if case.loads else np.zeros((model.n_members, 12))
+    fixed = np.zeros(n6, bool)
+    fixed[asm.fixed] = True
+    r_static = -np.where(fixed, F_only, 0.0)
+    m_static = -fe.ravel()
+    if static is not None:
+        Rs, Fs = field_responses(model, asm, static[None])
+        r_static = r_static + Rs.ravel()
+        m_static = m_static + Fs.ravel()
+    r_peak, _ = peaks(q, Rm.reshape(len(omega), -1).T, t, r_static, g)
+    m_peak, _ = peaks(q, Fm.reshape(len(omega), -1).T, t, m_static, g)
     record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
     sel = modal.shapes[record]                               # (r, 6, k)
     u = np.einsum("tk,rdk->trd", q, sel)
@@ -69,4 +87,5 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     if ground is not None:
         a[:, :, :3] += g[:, None, None] * ground[None, None, :]
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
-                         peak_t.reshape(-1, 6), zeta, bool(static is not None))
+                         peak_t.reshape(-1, 6), zeta, bool(static is not None),
+                         r_peak.reshape(-1, 6), m_peak.reshape(-1, 12))

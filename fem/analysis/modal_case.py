@@ -11,7 +11,7 @@ from ..errors import ModelError
 from ..model import LoadCase, Model
 from .modes import ModalResult, Participation, participation, solve_modes
 
-__all__ = ["ModesCaseResult", "effective_load", "influence_vectors", "residual_static",
+__all__ = ["ModesCaseResult", "effective_load", "field_responses", "influence_vectors", "residual_static",
            "solve_modes_case"]
 
 AXES = ("X", "Y", "Z", "RX", "RY", "RZ")
@@ -80,6 +80,22 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,
                            target, met)
 
+
+
+def field_responses(model: Model, asm: Assembled, U: np.ndarray):
+    """Elastic reactions (m, n, 6) at fixed DOFs and member end forces (m, e, 12) in local axes
+    of displacement fields U (m, 6n), without any member load (K u only)."""
+    from .. import elements as el
+
+    R = (asm.K @ U.T).T
+    mask = np.zeros(U.shape[1], bool)
+    mask[asm.fixed] = True
+    R[:, ~mask] = 0.0
+    dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
+    T = el.transform_matrix(asm.R)
+    ue = np.einsum("eab,meb->mea", T, U[:, dofs])
+    mf = np.einsum("eab,meb->mea", asm.k_local, ue)
+    return R.reshape(len(U), -1, 6), mf
 
 
 def effective_load(model: Model, asm: Assembled, case: LoadCase, ground=None) -> np.ndarray:

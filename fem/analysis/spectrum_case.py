@@ -9,12 +9,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .. import elements as el
 from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import modal_ratios
-from .modal_case import ModesCaseResult
+from .modal_case import ModesCaseResult, field_responses
 from .spectrum import combine, combine_directions, cqc_correlation
 
 __all__ = ["SpectrumResult", "solve_spectrum_case"]
@@ -40,19 +39,6 @@ class SpectrumResult:
     missing_fraction: np.ndarray
     periods_outside: list
     base: np.ndarray          # (6,) combined total reaction Fx, Fy, Fz, Mx, My, Mz (about origin)
-
-
-def _responses(model, asm, U):
-    """Reactions (m, n, 6) and member end forces (m, e, 12) of displacement fields U (m, 6n)."""
-    R = (asm.K @ U.T).T
-    mask = np.zeros(U.shape[1], bool)
-    mask[asm.fixed] = True
-    R[:, ~mask] = 0.0
-    dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
-    T = el.transform_matrix(asm.R)
-    ue = np.einsum("eab,meb->mea", T, U[:, dofs])
-    mf = np.einsum("eab,meb->mea", asm.k_local, ue)
-    return R.reshape(len(U), -1, 6), mf
 
 
 def _base(model, R):
@@ -93,7 +79,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         gamma = phi.T @ (M @ r)                          # (k,) mass-normalised participation
         sa = factor * sp(T)                             # (k,) m/s^2
         U = (shapes * (gamma * sa / omega**2)).T        # (k, 6n) signed modal peaks
-        Rm, Fm = _responses(model, asm, U)
+        Rm, Fm = field_responses(model, asm, U)
         total = float(r @ (M @ r))
         missing_frac.append(1 - float(np.sum(gamma**2)) / total if total > 0 else 0.0)
         if opt["missing"]:
@@ -102,7 +88,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
             dr = r - phi @ gamma
             umm = np.zeros(n6)
             umm[f] = lu.solve(M @ dr) * factor * sp.zpa()
-            Rmm, Fmm = _responses(model, asm, umm[None])
+            Rmm, Fmm = field_responses(model, asm, umm[None])
             rho_x = np.zeros((len(omega) + 1, len(omega) + 1))
             rho_x[:-1, :-1] = rho
             rho_x[-1, -1] = 1.0
