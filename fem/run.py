@@ -122,6 +122,7 @@ def _write_csv(path: Path, header, rows) -> None:
 
 
 def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> None:
+    modal_all = list(modal)
     nodes, mems = model.node_names, model.member_names
     # spectrum peaks share the static tables (values are combined peaks, >= 0)
     # static results, then peak envelopes (values >= 0) of spectrum and history cases
@@ -171,6 +172,12 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
         _write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
                    [[r.name, j + 1, n, *map(float, r.shapes[k, :, j])]
                     for r in modal for j in range(r.shapes.shape[2]) for k, n in enumerate(nodes)])
+    from .output.vtk import write_mode_files, write_response_files
+
+    for r in modal:
+        write_mode_files(out / "modes", model, r)
+    for r in [x for x in modal_all if isinstance(x, (FreeCaseResult, HistoryResult))]:
+        write_response_files(out / "response", model, r.name, r.frame_t, r.frames)
     lo, hi = model.bounding_box()
     doc = {
         "schema": "quaver-results/1",

@@ -13,7 +13,7 @@ from .damping import modal_ratios
 from .free import free_response, modal_initial_conditions
 from .modal_case import ModesCaseResult
 
-__all__ = ["FreeCaseResult", "peaks", "solve_free_case"]
+__all__ = ["FreeCaseResult", "animation_frames", "peaks", "solve_free_case"]
 
 
 @dataclass
@@ -30,6 +30,8 @@ class FreeCaseResult:
     peak_time: np.ndarray
     captured: float
     zeta: np.ndarray
+    frame_t: np.ndarray = None      # (f,) times of the animation frames (about 120 over the run)
+    frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
 
 
 def _nodal(model: Model, items, kind) -> np.ndarray:
@@ -58,6 +60,15 @@ def peaks(q, shapes, t, static=None, g=None, block=2000):
     return peak, peak_t
 
 
+def animation_frames(t, q, shapes, static=None, g=None, count: int = 120):
+    """About `count` evenly spaced frames of the whole deformed shape: times (f,), (f, n, 6)."""
+    idx = np.arange(0, len(t), max(1, len(t) // count))
+    frames = np.einsum("fk,ndk->fnd", q[idx], shapes)
+    if static is not None:
+        frames += g[idx, None, None] * static.reshape(-1, 6)[None]
+    return t[idx], frames
+
+
 def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
                     start_u: np.ndarray | None) -> FreeCaseResult:
     """start_u (n, 6) deflected shape of the start case, or None."""
@@ -83,5 +94,6 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
     sel = modal.shapes[record]                       # (r, 6, k)
     u = np.einsum("tk,rdk->trd", q, sel)
+    ft, frames = animation_frames(t, q, modal.shapes)
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
-                          captured, zeta)
+                          captured, zeta, ft, frames)

@@ -12,7 +12,7 @@ from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import modal_ratios
-from .free_case import peaks
+from .free_case import animation_frames, peaks
 from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
 from .static import load_vector
 from .recurrence import integrate_modal
@@ -38,6 +38,8 @@ class HistoryResult:
     corrected: bool
     reaction_peak: np.ndarray       # (n, 6) largest |reaction| over time, N / N m
     member_peak: np.ndarray         # (e, 12) largest |end force| over time, local axes
+    frame_t: np.ndarray = None      # (f,) animation frame times
+    frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
 
 
 def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
@@ -88,4 +90,5 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
         a[:, :, :3] += g[:, None, None] * ground[None, None, :]
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, bool(static is not None),
-                         r_peak.reshape(-1, 6), m_peak.reshape(-1, 12))
+                         r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
+                         *animation_frames(t, q, modal.shapes, static, g))
