@@ -20,6 +20,8 @@ def _parser() -> argparse.ArgumentParser:
     r = sub.add_parser("run", help="solve every case the deck asks for")
     r.add_argument("deck")
     r.add_argument("--out", help="results folder (default results/<deck name>/)")
+    r.add_argument("--no-render", action="store_true", help="skip pictures and animations")
+    r.add_argument("--jobs", type=int, default=2, help="processes for rendering (default 2)")
     return p
 
 
@@ -40,7 +42,7 @@ def main(argv: list[str] | None = None) -> int:
             return 0
         from .run import run_deck
 
-        return run_deck(args.deck, args.out)
+        return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs))
     except QuaverError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2

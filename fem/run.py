@@ -224,7 +224,23 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     (out / "results.json").write_text(json.dumps(doc, indent=2))
 
 
-def run_deck(deck: str, out: str | None = None) -> int:
+def _render(model: Model, modal: list, out: Path, jobs: int) -> str:
+    """Pictures into out/pictures; returns the one-line notice for the summary."""
+    modes = [x for x in modal if isinstance(x, ModesCaseResult)]
+    responses = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
+    if not modes and not responses:
+        return "no modes or responses to draw"
+    from .output.render import can_render, render_all
+    from .output.vtk import shape_scale
+
+    ok, why = can_render()
+    if not ok:
+        return f"pictures skipped: {why}; results are complete"
+    files = render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs)
+    return f"{len(files)} pictures and animations in pictures/"
+
+
+def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2) -> int:
     model = read_deck(deck)
     target = Path(out) if out else Path("results") / Path(deck).stem
     results, modal = solve_all(model)
@@ -232,6 +248,7 @@ def run_deck(deck: str, out: str | None = None) -> int:
     tmp = Path(tempfile.mkdtemp(prefix=".quaver-", dir=target.parent))
     try:
         _write(model, results, modal, tmp)
+        notice = _render(model, modal, tmp, jobs) if render else "pictures skipped (--no-render)"
         if target.exists():
             old = target.with_name(target.name + ".old")
             shutil.rmtree(old, ignore_errors=True)
@@ -293,6 +310,7 @@ def run_deck(deck: str, out: str | None = None) -> int:
                      "raise max or check the model"))
         print(f"               residual {c['max_residual']:.1e}  M-orthogonality {c['mass_orthogonality']:.1e}"
               f"  Sturm count {missed}  effective mass {cum}")
+    print(f"  {notice}")
     print(f"results in {target}/")
     print("Caution: " + CAUTION)
     ok = all(r.equilibrium < EQUILIBRIUM_TOL for r in results) and all(map(_modal_ok, modal))

@@ -16,7 +16,7 @@ RACK = Path(__file__).parents[1] / "decks" / "rack.deck"
 
 def test_run_writes_results_and_checks(tmp_path, capsys):
     out = tmp_path / "res"
-    assert main(["run", str(RACK), "--out", str(out)]) == 0
+    assert main(["run", str(RACK), "--out", str(out), "--no-render"]) == 0
     doc = json.loads((out / "results.json").read_text())
     assert "qualified engineer" in doc["caution"]
     assert doc["model"]["mass_check_pass"]
@@ -39,12 +39,12 @@ def test_run_writes_results_and_checks(tmp_path, capsys):
 
 def test_failed_run_keeps_previous_results(tmp_path):
     out = tmp_path / "res"
-    assert main(["run", str(RACK), "--out", str(out)]) == 0
+    assert main(["run", str(RACK), "--out", str(out), "--no-render"]) == 0
     before = (out / "results.json").read_text()
     bad = tmp_path / "bad.deck"
     bad.write_text(RACK.read_text().replace("support G* fixed", "support G* (uz)"))
     text = bad.read_text()
-    assert main(["run", str(bad), "--out", str(out)]) == 2        # a mechanism
+    assert main(["run", str(bad), "--out", str(out), "--no-render"]) == 2        # a mechanism
     assert (out / "results.json").read_text() == before
     assert bad.read_text() == text                                # input untouched
     assert not any(p.name.startswith(".quaver-") for p in tmp_path.iterdir())
@@ -62,7 +62,7 @@ def test_nodal_loads_stay_finite_on_repeat():
 
 def test_mast_deck_runs_with_passing_checks(tmp_path):
     deck = Path(__file__).parents[1] / "decks" / "mast.deck"
-    assert main(["run", str(deck), "--out", str(tmp_path / "m")]) == 0
+    assert main(["run", str(deck), "--out", str(tmp_path / "m"), "--no-render"]) == 0
     doc = json.loads((tmp_path / "m" / "results.json").read_text())
     modal = next(c for c in doc["cases"] if c["kind"] == "modes")
     # a triangular mast is symmetric about its axis: the two first bending modes share a

@@ -14,7 +14,7 @@ MAST = Path(__file__).parents[1] / "decks" / "mast.deck"
 
 def test_mode_vtu_round_trip(tmp_path):
     out = tmp_path / "m"
-    assert main(["run", str(MAST), "--out", str(out)]) == 0
+    assert main(["run", str(MAST), "--out", str(out), "--no-render"]) == 0
     rows = list(csv.DictReader((out / "mode_shapes.csv").open()))
     nodes = [r["node"] for r in rows if r["mode"] == "2"]
     shape = np.array([[float(r[d]) for d in ("ux", "uy", "uz", "rx", "ry", "rz")] for r in rows if r["mode"] == "2"])
@@ -32,7 +32,7 @@ def test_mode_vtu_round_trip(tmp_path):
 
 def test_response_frames_start_from_the_release_shape(tmp_path):
     out = tmp_path / "m"
-    assert main(["run", str(MAST), "--out", str(out)]) == 0
+    assert main(["run", str(MAST), "--out", str(out), "--no-render"]) == 0
     first = meshio.read(out / "response" / "RELEASE_000000.vtu")
     disp = {r["node"]: float(r["ux"]) for r in csv.DictReader((out / "displacements.csv").open())
             if r["case"] == "ICEWIND"}

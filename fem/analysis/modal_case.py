@@ -26,6 +26,7 @@ class ModesCaseResult:
     reference: np.ndarray     # (3,) point for rotational participation, m
     target: np.ndarray | None = None   # (3,) requested cumulative mass fractions X, Y, Z
     target_met: bool | None = None
+    first_mode: int = 0                # index of shapes[..., 0] in the full set (for one-mode views)
 
 
 def influence_vectors(model: Model, point) -> np.ndarray:

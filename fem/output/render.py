@@ -1,0 +1,207 @@
+"""Offscreen pictures and animations of mode shapes and responses (pyvista on the CPU).
+
+pyvista/VTK are imported only here and only when rendering. Whether an OpenGL context can be
+made is first probed in a child process, so a machine without one skips the pictures with a
+one-line notice instead of crashing (results stay complete).
+"""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+from functools import lru_cache
+from pathlib import Path
+
+import numpy as np
+
+__all__ = ["can_render", "render_all", "render_modes", "render_response", "dominant_direction"]
+
+_PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64, 64)); "
+          "p.add_mesh(pv.Sphere()); p.screenshot(None); p.close()")
+COLORMAP = "cividis"        # perceptually uniform, readable in grey and by colour-blind readers
+SIZE = (960, 720)
+
+
+def _env() -> dict:
+    env = dict(os.environ)
+    env.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
+    return env
+
+
+@lru_cache(maxsize=1)
+def can_render() -> tuple[bool, str]:
+    """(True, '') if an offscreen OpenGL context works here, else (False, reason)."""
+    if os.environ.get("QUAVER_NO_GL"):
+        return False, "QUAVER_NO_GL is set"
+    try:
+        r = subprocess.run([sys.executable, "-c", _PROBE], env=_env(), capture_output=True,
+                           timeout=120, text=True)
+    except (OSError, subprocess.TimeoutExpired) as exc:
+        return False, f"the render probe did not finish ({exc.__class__.__name__})"
+    if r.returncode != 0:
+        last = (r.stderr.strip().splitlines() or ["exit status %d" % r.returncode])[-1]
+        return False, f"no OpenGL context could be created ({last[:120]})"
+    os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
+    return True, ""
+
+
+def dominant_direction(shape: np.ndarray) -> tuple[str, np.ndarray]:
+    """Name of the main motion ('X', 'Y', 'Z' or 'twist') and the share of each translation."""
+    tr = np.abs(shape[:, :3]).sum(axis=0)
+    share = tr / max(tr.sum(), 1e-300)
+    return "XYZ"[int(np.argmax(share))], share
+
+
+def _view_vector(shape: np.ndarray, extent: np.ndarray) -> np.ndarray:
+    """Look along an axis across the main motion, choosing the one that shows the structure
+    largest, so the motion lies in the picture plane."""
+    tr = np.abs(shape[:, :3]).sum(axis=0)
+    main = int(np.argmax(tr))
+    area = [extent[(a + 1) % 3] * extent[(a + 2) % 3] if a != main else -1 for a in range(3)]
+    v = np.zeros(3)
+    v[int(np.argmax(area))] = 1.0
+    return v
+
+
+def _scene(model, radius):
+    import pyvista as pv
+
+    lines = np.c_[np.full(len(model.conn), 2), model.conn].ravel()
+    poly = pv.PolyData(model.coords.astype(float), lines=lines)
+    return pv, poly
+
+
+def _setup(pv, poly, caption):
+    p = pv.Plotter(off_screen=True, window_size=SIZE)
+    p.set_background("white")
+    p.add_mesh(poly.copy(), color="#b8bcc4", opacity=0.4, line_width=3, render_lines_as_tubes=True)
+    p.add_text(caption, position="upper_left", font_size=11, color="#1d2733")
+    return p
+
+
+def _deformed(poly, disp):
+    """Deformed copy whose points are later updated in place for animation frames."""
+    moved = poly.copy()
+    moved.points = poly.points + disp
+    moved["motion (m)"] = np.linalg.norm(disp, axis=1)
+    return moved
+
+
+def _frame(p, mesh, base, disp):
+    mesh.points = base + disp
+    mesh["motion (m)"] = np.linalg.norm(disp, axis=1)
+    p.render()
+
+
+def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
+                 gif: bool = True) -> list[Path]:
+    """Per mode: PNG in the plane of largest motion, an isometric PNG, and a GIF of one cycle."""
+    pv, poly = _scene(model, None)
+    lo, hi = model.bounding_box()
+    folder.mkdir(parents=True, exist_ok=True)
+    out = []
+    first = modal.first_mode
+    for jj in range(modal.shapes.shape[2]):
+        j = first + jj
+        s = modal.shapes[:, :, jj]
+        peak = np.abs(s[:, :3]).max()
+        disp = s[:, :3] * (length / peak if peak > 0 else 0.0)
+        d, share = dominant_direction(s)
+        eff = modal.part.fraction[jj, :3]
+        caption = (f"mode {j + 1}   {modal.modes.freq[jj]:.4g} Hz   period {modal.modes.period[jj]:.4g} s\n"
+                   f"main motion {d}   effective mass X {100 * eff[0]:.1f}%  Y {100 * eff[1]:.1f}%  "
+                   f"Z {100 * eff[2]:.1f}%")
+        mag = np.linalg.norm(disp, axis=1)
+        for view in ("plane", "iso"):
+            p = _setup(pv, poly, caption)
+            mesh = _deformed(poly, disp)
+            p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, max(mag.max(), 1e-12)],
+                       line_width=6, render_lines_as_tubes=True,
+                       scalar_bar_args=dict(title="motion (scaled)", color="#1d2733", vertical=True,
+                                            position_x=0.88, position_y=0.2, height=0.6, width=0.05))
+            if view == "plane":
+                vv = _view_vector(s, hi - lo)
+                p.view_vector(vv, viewup=(0, 0, 1) if vv[2] == 0 else (0, 1, 0))
+            else:
+                p.view_isometric()
+            p.reset_camera()
+            p.camera.zoom(0.85)
+            name = folder / f"{modal.name}_mode_{j + 1:03d}_{view}.png"
+            p.screenshot(str(name))
+            out.append(name)
+            if view == "plane" and gif:
+                gif_name = folder / f"{modal.name}_mode_{j + 1:03d}.gif"
+                p.open_gif(str(gif_name), fps=12)
+                base = poly.points.copy()
+                for k in range(frames):
+                    _frame(p, mesh, base, disp * np.sin(2 * np.pi * k / frames))
+                    p.write_frame()
+                out.append(gif_name)
+            p.close()
+    return out
+
+
+def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool = True) -> list[Path]:
+    """GIF of a free or history response at an exaggerated but constant scale, and a PNG of the
+    frame with the largest motion."""
+    pv, poly = _scene(model, None)
+    lo, hi = model.bounding_box()
+    extent = float(max(np.max(hi - lo), 1e-9))
+    peak = np.abs(frames[:, :, :3]).max()
+    k = 0.05 * extent / peak if peak > 0 else 0.0
+    folder.mkdir(parents=True, exist_ok=True)
+    worst = int(np.argmax(np.abs(frames[:, :, :3]).max(axis=(1, 2))))
+    disp = frames[worst, :, :3] * k
+    caption = f"{name}   t = {frame_t[worst]:.3g} s   largest motion {peak:.3g} m (drawn x{k:.3g})"
+    p = _setup(pv, poly, caption)
+    mesh = _deformed(poly, disp)
+    p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, max(np.linalg.norm(disp, axis=1).max(), 1e-12)],
+               show_scalar_bar=False, line_width=6, render_lines_as_tubes=True)
+    p.view_isometric()
+    p.reset_camera()
+    p.camera.zoom(0.85)
+    png = folder / f"{name}_peak.png"
+    p.screenshot(str(png))
+    out = [png]
+    if gif:
+        g = folder / f"{name}.gif"
+        p.open_gif(str(g), fps=12)
+        base = poly.points.copy()
+        for i in range(len(frame_t)):
+            _frame(p, mesh, base, frames[i, :, :3] * k)
+            p.write_frame()
+        out.append(g)
+    p.close()
+    return out
+
+
+def _render_chunk(args):
+    kind, folder, model, item, extra = args
+    if kind == "modes":
+        return render_modes(folder, model, item, extra)
+    return render_response(folder, model, item.name, item.frame_t, item.frames)
+
+
+def render_all(folder: Path, model, modal_cases, responses, length: float, jobs: int = 1) -> list[Path]:
+    """Pictures and animations of every modes case and every free/history response, in
+    `jobs` parallel processes (each with its own offscreen context)."""
+    from dataclasses import replace
+
+    tasks = []
+    for m in modal_cases:
+        # one task per mode so the work spreads over the processes
+        for j in range(m.shapes.shape[2]):
+            one = replace(m, shapes=m.shapes[:, :, j:j + 1],
+                          modes=replace(m.modes, freq=m.modes.freq[j:j + 1], period=m.modes.period[j:j + 1]),
+                          part=replace(m.part, fraction=m.part.fraction[j:j + 1]))
+            tasks.append(("modes", folder, model, replace(one, first_mode=j), length))
+    tasks += [("response", folder, model, r, None) for r in responses]
+    if jobs <= 1 or len(tasks) <= 1:
+        return [f for t in tasks for f in _render_chunk(t)]
+    import multiprocessing as mp
+    from concurrent.futures import ProcessPoolExecutor
+
+    with ProcessPoolExecutor(max_workers=jobs, mp_context=mp.get_context("spawn")) as ex:
+        return [f for files in ex.map(_render_chunk, tasks) for f in files]
+
