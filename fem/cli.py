@@ -22,6 +22,8 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("--out", help="results folder (default results/<deck name>/)")
     r.add_argument("--no-render", action="store_true", help="skip pictures and animations")
     r.add_argument("--jobs", type=int, default=2, help="processes for rendering (default 2)")
+    r.add_argument("--draw-modes", type=int, default=6, metavar="N",
+                   help="draw the first N modes of each modes case (default 6)")
     return p
 
 
@@ -42,7 +44,8 @@ def main(argv: list[str] | None = None) -> int:
             return 0
         from .run import run_deck
 
-        return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs))
+        return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs),
+                        draw_modes=max(0, args.draw_modes))
     except QuaverError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2

@@ -121,7 +121,7 @@ def _write_csv(path: Path, header, rows) -> None:
         w.writerows(rows)
 
 
-def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> None:
+def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> dict:
     modal_all = list(modal)
     nodes, mems = model.node_names, model.member_names
     # spectrum peaks share the static tables (values are combined peaks, >= 0)
@@ -222,9 +222,10 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "checks": modal_checks(r)} for r in spectra],
     }
     (out / "results.json").write_text(json.dumps(doc, indent=2))
+    return doc
 
 
-def _render(model: Model, modal: list, out: Path, jobs: int) -> str:
+def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6) -> str:
     """Pictures into out/pictures; returns the one-line notice for the summary."""
     modes = [x for x in modal if isinstance(x, ModesCaseResult)]
     responses = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
@@ -236,19 +237,66 @@ def _render(model: Model, modal: list, out: Path, jobs: int) -> str:
     ok, why = can_render()
     if not ok:
         return f"pictures skipped: {why}; results are complete"
-    files = render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs)
+    files = render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs, draw_modes)
     return f"{len(files)} pictures and animations in pictures/"
 
 
-def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2) -> int:
+def _report(model: Model, results: list, modal: list, doc: dict, out: Path) -> None:
+    """Plots into out/plots and the self-contained out/report.html."""
+    from .output import plots
+    from .output.report import write_report
+    from .output.vtk import shape_scale
+
+    pdir = out / "plots"
+    pdir.mkdir(exist_ok=True)
+    pics = out / "pictures"
+    images: dict[str, list] = {}
+    modes = {x.name: x for x in modal if isinstance(x, ModesCaseResult)}
+    for name, m in modes.items():
+        images[name] = [(plots.plot_participation(pdir / f"{name}_participation.png", m), "effective modal mass")]
+        for j in range(min(6, m.shapes.shape[2])):
+            # pictures of the first six modes, animations of the first three (keeps the file small)
+            kinds = (("_plane.png", "across the main motion"), (".gif", "one cycle"))[: 2 if j < 3 else 1]
+            for suffix, cap in kinds:
+                f = pics / f"{name}_mode_{j + 1:03d}{suffix}"
+                if f.exists():
+                    images[name].append((f, f"mode {j + 1}, {m.modes.freq[j]:.4g} Hz, {cap}"))
+    for r in results[:4]:
+        images[r.name] = [(plots.plot_static(pdir / f"{r.name}_deformed.png", model, r, shape_scale(model)),
+                           "deformed shape")]
+    for x in modal:
+        if isinstance(x, (FreeCaseResult, HistoryResult)):
+            j = int(np.argmax(np.abs(x.u[:, :, :3]).max(axis=(0, 2))))
+            node = model.node_names[x.record[j]]
+            images[x.name] = [(plots.plot_history(pdir / f"{x.name}_history.png", x, node, j),
+                               f"displacement history at {node}")]
+            for f, cap in ((pics / f"{x.name}.gif", "response animation"), (pics / f"{x.name}_peak.png", "largest motion")):
+                if f.exists():
+                    images[x.name].append((f, cap))
+        elif isinstance(x, HarmonicResult):
+            j = int(np.argmax(np.abs(x.u[:, :, :3]).max(axis=(0, 2))))
+            node = model.node_names[x.record[j]]
+            nat = next(iter(modes.values())).modes.freq if modes else []
+            images[x.name] = [(plots.plot_frf(pdir / f"{x.name}_frf.png", x, node, j, nat),
+                               f"frequency response at {node}")]
+        elif isinstance(x, SpectrumResult):
+            case = next(c for c in model.cases if c.name == x.name)
+            images[x.name] = [(plots.plot_spectrum(pdir / f"{x.name}_spectrum.png", x, case.options["spectrum"]),
+                               "spectrum and modal periods")]
+    write_report(out / "report.html", doc, images)
+
+
+def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
+             draw_modes: int = 6) -> int:
     model = read_deck(deck)
     target = Path(out) if out else Path("results") / Path(deck).stem
     results, modal = solve_all(model)
     target.parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix=".quaver-", dir=target.parent))
     try:
-        _write(model, results, modal, tmp)
-        notice = _render(model, modal, tmp, jobs) if render else "pictures skipped (--no-render)"
+        doc = _write(model, results, modal, tmp)
+        notice = _render(model, modal, tmp, jobs, draw_modes) if render else "pictures skipped (--no-render)"
+        _report(model, results, modal, doc, tmp)
         if target.exists():
             old = target.with_name(target.name + ".old")
             shutil.rmtree(old, ignore_errors=True)

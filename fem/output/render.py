@@ -20,7 +20,8 @@ __all__ = ["can_render", "render_all", "render_modes", "render_response", "domin
 _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64, 64)); "
           "p.add_mesh(pv.Sphere()); p.screenshot(None); p.close()")
 COLORMAP = "cividis"        # perceptually uniform, readable in grey and by colour-blind readers
-SIZE = (960, 720)
+SIZE = (960, 720)           # still pictures
+GIF_SIZE = (640, 480)       # animations: smaller frames keep files and the report light
 
 
 def _env() -> dict:
@@ -132,6 +133,7 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
             out.append(name)
             if view == "plane" and gif:
                 gif_name = folder / f"{modal.name}_mode_{j + 1:03d}.gif"
+                p.window_size = GIF_SIZE
                 p.open_gif(str(gif_name), fps=12)
                 base = poly.points.copy()
                 for k in range(frames):
@@ -166,6 +168,7 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     out = [png]
     if gif:
         g = folder / f"{name}.gif"
+        p.window_size = GIF_SIZE
         p.open_gif(str(g), fps=12)
         base = poly.points.copy()
         for i in range(len(frame_t)):
@@ -183,15 +186,16 @@ def _render_chunk(args):
     return render_response(folder, model, item.name, item.frame_t, item.frames)
 
 
-def render_all(folder: Path, model, modal_cases, responses, length: float, jobs: int = 1) -> list[Path]:
-    """Pictures and animations of every modes case and every free/history response, in
-    `jobs` parallel processes (each with its own offscreen context)."""
+def render_all(folder: Path, model, modal_cases, responses, length: float, jobs: int = 1,
+               max_modes: int = 6) -> list[Path]:
+    """Pictures and animations of the first `max_modes` modes of every modes case and of every
+    free/history response, in `jobs` parallel processes (each with its own offscreen context)."""
     from dataclasses import replace
 
     tasks = []
     for m in modal_cases:
         # one task per mode so the work spreads over the processes
-        for j in range(m.shapes.shape[2]):
+        for j in range(min(m.shapes.shape[2], max_modes)):
             one = replace(m, shapes=m.shapes[:, :, j:j + 1],
                           modes=replace(m.modes, freq=m.modes.freq[j:j + 1], period=m.modes.period[j:j + 1]),
                           part=replace(m.part, fraction=m.part.fraction[j:j + 1]))

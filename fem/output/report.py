@@ -1,0 +1,128 @@
+"""The review report: one self-contained HTML file (images embedded) that opens from disk."""
+
+from __future__ import annotations
+
+import base64
+import html
+from pathlib import Path
+
+import numpy as np
+
+__all__ = ["write_report"]
+
+STYLE = """
+body { font-family: system-ui, sans-serif; color: #1d2733; max-width: 1100px; margin: 2em auto;
+       padding: 0 1em; line-height: 1.4; }
+h1 { font-size: 1.6em; margin-bottom: 0.1em; } h2 { border-bottom: 2px solid #c0562f;
+     padding-bottom: 0.15em; margin-top: 2em; }
+.caution { background: #fdf3e7; border-left: 5px solid #c0562f; padding: 0.6em 1em; }
+table { border-collapse: collapse; margin: 0.6em 0; font-size: 0.9em; }
+th, td { border-bottom: 1px solid #e4e7ec; padding: 0.25em 0.7em; text-align: right; }
+th { background: #f4f6f8; } td.l, th.l { text-align: left; }
+.pass { color: #2e7d32; font-weight: 600; } .fail { color: #b3261e; font-weight: 700; }
+figure { display: inline-block; margin: 0.4em; vertical-align: top; }
+figure img { max-width: 100%; border: 1px solid #e4e7ec; } figcaption { font-size: 0.8em; }
+.gallery img { width: 320px; }
+"""
+
+
+def _img(path: Path, alt: str, cls: str = "") -> str:
+    data = base64.b64encode(path.read_bytes()).decode("ascii")
+    mime = "image/gif" if path.suffix == ".gif" else "image/png"
+    return (f'<figure class="{cls}"><img alt="{html.escape(alt)}" src="data:{mime};base64,{data}">'
+            f"<figcaption>{html.escape(alt)}</figcaption></figure>")
+
+
+def _table(head, rows, left=1) -> str:
+    th = "".join(f'<th class="{"l" if i < left else ""}">{html.escape(str(h))}</th>' for i, h in enumerate(head))
+    body = []
+    for r in rows:
+        body.append("<tr>" + "".join(f'<td class="{"l" if i < left else ""}">{c}</td>' for i, c in enumerate(r))
+                    + "</tr>")
+    return f"<table><tr>{th}</tr>{''.join(body)}</table>"
+
+
+def _ok(flag) -> str:
+    if flag is None:
+        return "not run"
+    return '<span class="pass">pass</span>' if flag else '<span class="fail">FAIL</span>'
+
+
+def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]]) -> Path:
+    """doc: the results.json content; images: section name -> [(file, caption)]."""
+    m = doc["model"]
+    parts = [f"<!doctype html><html lang='en'><head><meta charset='utf-8'><title>{html.escape(m['title'] or 'Quaver results')}</title>"
+             f"<style>{STYLE}</style></head><body>",
+             f"<h1>{html.escape(m['title'] or m['deck'])}</h1><p>Deck <code>{html.escape(m['deck'])}</code></p>",
+             f'<p class="caution" id="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p>',
+             "<h2 id='model'>Model</h2>",
+             _table(["item", "value"], [
+                 ["nodes", m["nodes"]], ["members", m["members"]],
+                 ["total mass", f"{m['total_mass_kg']:.6g} kg"],
+                 ["bounding box", f"{np.round(m['bounding_box_m'][0], 3).tolist()} to {np.round(m['bounding_box_m'][1], 3).tolist()} m"]]),
+             "<h2 id='checks'>Self-checks</h2>"]
+    rows = [["assembled mass vs members + point masses", f"{m['assembled_mass_kg'][0]:.6g} kg", _ok(m["mass_check_pass"])]]
+    for c in doc["cases"]:
+        ch = c["checks"]
+        if c["kind"] == "static":
+            rows.append([f"{c['name']}: equilibrium of reactions and loads", f"{ch['equilibrium_relative']:.1e}",
+                         _ok(ch["equilibrium_pass"])])
+        elif c["kind"] == "modes":
+            rows.append([f"{c['name']}: eigen residual (largest)", f"{ch['max_residual']:.1e}", _ok(ch["residual_pass"])])
+            rows.append([f"{c['name']}: M- and K-orthogonality", f"{max(ch['mass_orthogonality'], ch['stiffness_orthogonality']):.1e}",
+                         _ok(ch["orthogonality_pass"])])
+            rows.append([f"{c['name']}: no mode missed (Sturm count)", f"{ch['sturm_count']} below the shift, {ch['modes_found']} found",
+                         _ok(ch["none_missed"])])
+            if ch.get("mass_target") is not None:
+                rows.append([f"{c['name']}: effective-mass target", str([f"{100 * v:.0f}%" for v in ch["mass_target"]]),
+                             _ok(ch["mass_target_met"])])
+        elif c["kind"] == "harmonic":
+            rows.append([f"{c['name']}: retained modes cover the sweep", f"highest mode {ch['highest_mode_Hz']:.4g} Hz",
+                         _ok(ch["modes_cover_band"] or ch["static_correction"])])
+        elif c["kind"] == "free":
+            rows.append([f"{c['name']}: initial shape represented by the modes",
+                         f"{100 * ch['initial_displacement_captured']:.2f} %", _ok(ch["initial_displacement_captured"] > 0.95)])
+        elif c["kind"] == "spectrum":
+            miss = ", ".join(f"{k} {100 * v:.1f}%" for k, v in ch["missing_mass_fraction"].items())
+            rows.append([f"{c['name']}: mass not in the retained modes", miss + (" (corrected)" if ch["missing_mass_correction"] else ""),
+                         _ok(ch["missing_mass_correction"] or max(ch["missing_mass_fraction"].values()) <= 0.1)])
+    parts.append(_table(["check", "value", "result"], rows))
+    for c in doc["cases"]:
+        if c["kind"] != "modes":
+            continue
+        parts.append(f"<h2 id='modes-{html.escape(c['name'])}'>Modes: {html.escape(c['name'])}</h2>")
+        eff = np.array(c["effective_mass_kg"])
+        tot = np.array(c["participating_total_kg"])
+        frac = np.divide(eff, tot, out=np.zeros_like(eff), where=tot > 0)
+        cum = np.cumsum(frac, axis=0)
+        parts.append(_table(["mode", "frequency Hz", "period s", "X %", "Y %", "Z %", "cum. X %", "cum. Y %", "cum. Z %"],
+                            [[j + 1, f"{f:.4g}", f"{p:.4g}", *(f"{100 * v:.1f}" for v in frac[j, :3]),
+                              *(f"{100 * v:.1f}" for v in cum[j, :3])]
+                             for j, (f, p) in enumerate(zip(c["frequency_Hz"], c["period_s"]))], left=0))
+        parts += [_img(p, cap, "gallery" if p.suffix == ".png" and "mode_" in p.name else "")
+                  for p, cap in images.get(c["name"], [])]
+    for c in doc["cases"]:
+        if c["kind"] == "modes":
+            continue
+        parts.append(f"<h2 id='case-{html.escape(c['name'])}'>{html.escape(c['kind'])} case {html.escape(c['name'])}</h2>")
+        if c["kind"] == "static":
+            parts.append(_table(["quantity", "value"], [
+                ["largest translation", f"{c['max_translation_m']:.4g} m"],
+                ["sum of applied loads (X, Y, Z)", ", ".join(f"{v / 1e3:.4g}" for v in c["applied_sum_N"]) + " kN"],
+                ["sum of reactions (X, Y, Z)", ", ".join(f"{v / 1e3:.4g}" for v in c["reaction_sum_N"]) + " kN"]]))
+        elif c["kind"] in ("free", "history"):
+            parts.append(_table(["quantity", "value"], [["time steps", c["time_steps"]], ["duration", f"{c['duration_s']:.4g} s"],
+                                                        ["largest translation", f"{c['peak_translation_m']:.4g} m"]]))
+        elif c["kind"] == "harmonic":
+            parts.append(_table(["quantity", "value"], [["band", f"{c['band_Hz'][0]:.4g} to {c['band_Hz'][1]:.4g} Hz"],
+                                                        ["frequencies", c["frequencies"]],
+                                                        ["largest amplitude", f"{c['peak_amplitude_m']:.4g} m"]]))
+        elif c["kind"] == "spectrum":
+            b = c["base_reaction"]
+            parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],
+                                                        ["base shear X, Y", f"{b['Fx'] / 1e3:.4g} kN, {b['Fy'] / 1e3:.4g} kN"],
+                                                        ["largest displacement", f"{c['max_displacement_m']:.4g} m"]]))
+        parts += [_img(p, cap) for p, cap in images.get(c["name"], [])]
+    parts.append(f'<p class="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p></body></html>')
+    path.write_text("\n".join(parts), encoding="utf-8")
+    return path
