@@ -79,6 +79,9 @@ def assemble(model: Model) -> Assembled:
     M = sp.csr_matrix((mg.ravel(), (rows, cols)), shape=(n, n))
     K = (K + sp.diags(model.springs.ravel(), format="csr")).tocsr()
     M = (M + sp.diags(model.point_mass.ravel(), format="csr")).tocsr()
+    if not (np.isfinite(K.data).all() and np.isfinite(M.data).all()):
+        raise ModelError("the stiffness or mass matrix overflows (a property or coordinate is far too "
+                         "large or too small); check the magnitudes and units in the deck")
     restrained = model.restraint.ravel()
     # a DOF with no stiffness at all (a truss-only node's rotations, a rotation that only
     # released member ends meet) is held rather than reported as a mechanism, unless a load

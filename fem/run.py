@@ -87,7 +87,7 @@ def modal_checks(r) -> dict:
         return {"static_correction": r.corrected, "highest_mode_Hz": r.highest_mode_Hz,
                 "modes_cover_band": bool(r.highest_mode_Hz >= r.freq[-1])}
     if isinstance(r, HistoryResult):
-        return {"static_correction": r.corrected}
+        return {"static_correction": r.corrected, "warnings": list(r.warnings)}
     if isinstance(r, FreeCaseResult):
         return {"initial_displacement_captured": r.captured}
     m = r.modes
@@ -342,6 +342,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             print(f"  {r.name:<12} time history, {len(r.t)} steps; peak translation "
                   f"{np.abs(r.peak[:, :3]).max():.4g} m"
                   + ("; static correction for truncated modes" if r.corrected else ""))
+            for w in r.warnings:
+                print(f"               warning: {w}")
             continue
         if isinstance(r, FreeCaseResult):
             print(f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "

@@ -155,3 +155,15 @@ case W static { moment B = (0, 1 kN*m, 0) }
 """)
     with pytest.raises(MechanismError, match="nothing resists it: B ry"):
         solve_static(m, assemble(m), m.cases[0])
+
+
+def test_overflowing_properties_are_a_model_error():
+    from fem.errors import ModelError
+    m = read_text(PIPE.replace("E = 200 GPa", "E = 1e308 Pa") + """
+node A = (0, 0, 0)
+node B = (1 mm, 0, 0)
+member M : A -> B beam P S
+support A fixed
+""")
+    with pytest.raises(ModelError, match="overflows"):
+        assemble(m)

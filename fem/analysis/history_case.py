@@ -40,6 +40,7 @@ class HistoryResult:
     member_peak: np.ndarray         # (e, 12) largest |end force| over time, local axes
     frame_t: np.ndarray = None      # (f,) animation frame times
     frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
+    warnings: tuple = ()
 
 
 def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
@@ -88,7 +89,16 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
         u += g[:, None, None] * static.reshape(-1, 6)[record][None]
     if ground is not None:
         a[:, :, :3] += g[:, None, None] * ground[None, None, :]
+    warnings = ()
+    pos = omega > 0
+    if pos.any():
+        tmin = float(2 * np.pi / omega[pos].max())
+        if dt > tmin / 10:
+            warnings = (f"step {dt:.3g} s is coarse for the highest retained mode (period {tmin:.3g} s): "
+                        "the load and the output are sampled at fewer than 10 points per period of that "
+                        "mode (each step is integrated exactly for a linear load); consider "
+                        f"step <= {tmin / 10:.3g} s",)
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, bool(static is not None),
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                         *animation_frames(t, q, modal.shapes, static, g))
+                         *animation_frames(t, q, modal.shapes, static, g), warnings)
