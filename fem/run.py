@@ -20,7 +20,7 @@ from .analysis.harmonic import HarmonicResult, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
-from .analysis.static import StaticResult, factorise, solve_static
+from .analysis.static import StaticResult, factorise, held_dofs, solve_static
 from .assembly import assemble
 from .deck.reader import read_deck
 from .errors import ResultsError
@@ -48,6 +48,7 @@ def assembled_mass(model: Model, asm) -> np.ndarray:
 def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     asm = assemble(model)
     model.settings["_assembled_mass"] = assembled_mass(model, asm)
+    model.settings["_held"] = held_dofs(model, asm)
     modal = [solve_modes_case(model, asm, c) for c in model.cases if c.kind == "modes"]
     statics = [c for c in model.cases if c.kind == "static"]
     results = []
@@ -310,6 +311,10 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         raise ResultsError(f"could not write results to {target}: {exc}") from None
     print(f"{model.title or deck}: {model.n_nodes} nodes, {model.n_members} members, "
           f"total mass {model.total_mass():.6g} kg")
+    held = model.settings["_held"]
+    if held:
+        shown = ", ".join(f"{n} {d}" for n, d in held[:10]) + (" ..." if len(held) > 10 else "")
+        print(f"  note: {len(held)} DOF(s) have no stiffness and are held: {shown}; a load there is refused")
     am = model.settings["_assembled_mass"]
     print(f"  mass check: assembled M gives {am[0]:.6g} kg in X, Y, Z "
           f"({'pass' if _mass_ok(model) else 'FAIL'} against members + point masses)")

@@ -76,26 +76,61 @@ def _scatter(out, idx, vals, rows=False):
     out += np.bincount(idx.ravel(), weights=vals, minlength=out.size)
 
 
+def free_motions(model: Model, asm: Assembled, Kff, max_modes: int = 6):
+    """Zero-stiffness motions of K over the free DOFs: a list of mechanisms, each the list of
+    (node, direction) pairs that move most in it (components above 10 % of the largest).
+
+    Found from the lowest eigenvectors of K scaled to unit diagonal (dense up to 3000 DOFs,
+    shift-invert Lanczos above), so rigid rotations show up as rotations, not pivot accidents."""
+    import scipy.linalg as sla
+
+    d = np.abs(Kff.diagonal())
+    d = np.where(d > 0, d, 1.0)
+    s = 1 / np.sqrt(d)
+    A = Kff.multiply(s[:, None]).multiply(s[None, :]).tocsc()
+    n = A.shape[0]
+    k = min(max_modes, n)
+    if n <= 3000:
+        lam, vec = sla.eigh(A.toarray(), subset_by_index=[0, k - 1])
+    else:
+        lam, vec = spla.eigsh(A, k=k, sigma=-1e-6, which="LM")
+    out = []
+    for j in np.flatnonzero(lam < 1e-9):
+        v = np.abs(vec[:, j] * s)        # back to physical scaling
+        big = np.flatnonzero(v >= 0.1 * v.max())
+        big = big[np.argsort(-v[big])][:8]
+        out.append([(model.node_names[asm.free[i] // 6], DIRECTIONS[asm.free[i] % 6]) for i in big])
+    return out
+
+
 def factorise(model: Model, asm: Assembled):
-    """Sparse LU of K over the free DOFs; a singular K raises MechanismError naming the free DOFs."""
+    """Sparse LU of K over the free DOFs; a singular K raises MechanismError naming, for each
+    free motion, the nodes and directions that move."""
     Kff = asm.K[asm.free][:, asm.free].tocsc()
     scale = abs(Kff.diagonal()).max() if Kff.shape[0] else 1.0
+    singular = False
     try:
-        # partial pivoting: the symmetric no-pivot mode gave intermittent NaN solves here
         lu = spla.splu(Kff, permc_spec="MMD_AT_PLUS_A")
-        piv = np.abs(lu.U.diagonal())
-        bad = np.flatnonzero(piv < 1e-10 * scale)
+        singular = bool(np.any(np.abs(lu.U.diagonal()) < 1e-10 * scale))
     except RuntimeError:
-        lu, bad = None, np.flatnonzero(np.abs(Kff.diagonal()) < 1e-10 * scale)
-        if bad.size == 0:
-            bad = np.arange(min(6, Kff.shape[0]))
-    if lu is None or bad.size:
-        dof = asm.free[lu.perm_c[bad]] if lu is not None else asm.free[bad]
-        free = [(model.node_names[d // 6], DIRECTIONS[d % 6]) for d in dof]
-        shown = ", ".join(f"{n} {d}" for n, d in free[:12]) + (" ..." if len(free) > 12 else "")
-        raise MechanismError(f"the structure is a mechanism (singular stiffness): free to move at {shown}; "
-                             "add supports or members, or remove end releases there", free)
+        lu, singular = None, True
+    if singular:
+        motions = free_motions(model, asm, Kff) or [[]]
+        text = "; ".join(f"motion {i + 1}: " + ", ".join(f"{n} {d}" for n, d in mm)
+                         for i, mm in enumerate(motions))
+        raise MechanismError(f"the structure is a mechanism (singular stiffness), {len(motions)} free "
+                             f"motion(s) - {text}; add supports or members, or remove end releases there",
+                             [p for mm in motions for p in mm])
     return lu
+
+
+def held_dofs(model: Model, asm: Assembled) -> list[tuple[str, str]]:
+    """DOFs held because nothing resists them, leaving out the rotations of truss-only nodes
+    (which is what a truss node is): worth a note, since a load there would be refused."""
+    beam_nodes = np.zeros(model.n_nodes, bool)
+    beam_nodes[model.conn[~model.truss].ravel()] = True
+    keep = [d for d in asm.inert if d % 6 < 3 or beam_nodes[d // 6]]
+    return [(model.node_names[d // 6], DIRECTIONS[d % 6]) for d in keep]
 
 
 def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> StaticResult:
