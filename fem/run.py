@@ -20,7 +20,7 @@ from .analysis.harmonic import HarmonicResult, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
-from .analysis.static import StaticResult, factorise, held_dofs, solve_static
+from .analysis.static import StaticResult, condition_estimate, factorise, held_dofs, solve_static
 from .assembly import assemble
 from .deck.reader import read_deck
 from .errors import ResultsError
@@ -33,6 +33,7 @@ CAUTION = ("Results support, and never replace, the judgement of a qualified eng
 EQUILIBRIUM_TOL = 1e-8   # relative; a direct solve reaches ~1e-12, far looser means a bad model
 
 
+COND_WARN = 1e11         # above this fewer than ~5 significant digits are safe in double precision
 RESIDUAL_TOL = 1e-8      # backward error of an eigenpair; a double-precision solve gives ~1e-14
 ORTHO_TOL = 1e-8
 
@@ -54,6 +55,7 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     results = []
     if statics or model.combinations:
         lu = factorise(model, asm)
+        model.settings["_condition"] = condition_estimate(asm.K[asm.free][:, asm.free].tocsc(), lu)
         results = [solve_static(model, asm, c, lu) for c in statics]
     by_name = {r.name: r for r in results}
     for combo in model.combinations:
@@ -187,6 +189,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                   "members": model.n_members, "total_mass_kg": model.total_mass(),
                   "bounding_box_m": [lo.tolist(), hi.tolist()],
                   "assembled_mass_kg": model.settings["_assembled_mass"].tolist(),
+                  "stiffness_condition_estimate": model.settings.get("_condition"),
                   "mass_check_pass": _mass_ok(model)},
         "cases": [{"name": r.name, "kind": "static",
                    "max_translation_m": float(np.abs(r.u[:, :3]).max()),
@@ -315,6 +318,12 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     if held:
         shown = ", ".join(f"{n} {d}" for n, d in held[:10]) + (" ..." if len(held) > 10 else "")
         print(f"  note: {len(held)} DOF(s) have no stiffness and are held: {shown}; a load there is refused")
+    cond = model.settings.get("_condition")
+    if cond is not None:
+        lost = max(0.0, np.log10(cond))
+        level = "warning: " if cond > COND_WARN else ""
+        print(f"  {level}stiffness condition estimate {cond:.1e} (about {lost:.0f} of 16 digits at risk"
+              + ("; check stiffness contrasts and units" if cond > COND_WARN else "") + ")")
     am = model.settings["_assembled_mass"]
     print(f"  mass check: assembled M gives {am[0]:.6g} kg in X, Y, Z "
           f"({'pass' if _mass_ok(model) else 'FAIL'} against members + point masses)")

@@ -167,3 +167,38 @@ support A fixed
 """)
     with pytest.raises(ModelError, match="overflows"):
         assemble(m)
+
+
+def test_condition_estimate_matches_numpy_and_warns_on_contrast():
+    # Hager-Higham 1-norm estimate vs numpy's exact 1-norm condition number (estimate is a lower
+    # bound, usually within a factor 3); a huge stiffness contrast is warned in the summary
+    import scipy.sparse.linalg as spla2
+
+    from fem.analysis.static import condition_estimate
+    m = read_text(PIPE + """
+for i in 0..4 { node N[i] = (i*1 m, 0, 0) }
+for i in 0..3 { member M[i] : N[i] -> N[i+1] beam P S }
+support N0 fixed
+""")
+    asm = assemble(m)
+    K = asm.K[asm.free][:, asm.free].tocsc()
+    est = condition_estimate(K, spla2.splu(K))
+    exact = np.linalg.cond(K.toarray(), 1)
+    assert exact / 3 <= est <= exact * (1 + 1e-9)
+
+
+def test_stiffness_contrast_is_warned(tmp_path, capsys):
+    from fem.cli import main
+    deck = tmp_path / "c.deck"
+    deck.write_text(PIPE + """
+material SOFT { E = 1 Pa, nu = 0.3, density = 0 kg/m^3 }
+node A = (0, 0, 0)
+node B = (1 m, 0, 0)
+node C = (2 m, 0, 0)
+member M1 : A -> B beam P S
+member M2 : B -> C beam P SOFT
+support A fixed
+case X static { force C = (0, 0, -1 N) }
+""")
+    main(["run", str(deck), "--out", str(tmp_path / "o"), "--no-render"])
+    assert "warning: stiffness condition estimate" in capsys.readouterr().out

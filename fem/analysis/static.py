@@ -12,7 +12,7 @@ from ..assembly import Assembled, element_matrices
 from ..errors import MechanismError
 from ..model import DIRECTIONS, LoadCase, Model
 
-__all__ = ["StaticResult", "factorise", "load_vector", "solve_static"]
+__all__ = ["StaticResult", "condition_estimate", "factorise", "load_vector", "solve_static"]
 
 
 @dataclass
@@ -107,21 +107,33 @@ def factorise(model: Model, asm: Assembled):
     """Sparse LU of K over the free DOFs; a singular K raises MechanismError naming, for each
     free motion, the nodes and directions that move."""
     Kff = asm.K[asm.free][:, asm.free].tocsc()
-    scale = abs(Kff.diagonal()).max() if Kff.shape[0] else 1.0
+    diag = np.abs(Kff.diagonal())
     singular = False
     try:
         lu = spla.splu(Kff, permc_spec="MMD_AT_PLUS_A")
-        singular = bool(np.any(np.abs(lu.U.diagonal()) < 1e-10 * scale))
+        # each pivot against its own column's diagonal, so stiffness contrasts between members
+        # are not mistaken for a mechanism (they are reported by the condition estimate)
+        singular = bool(np.any(np.abs(lu.U.diagonal()) < 1e-11 * diag[lu.perm_c]))
     except RuntimeError:
         lu, singular = None, True
-    if singular:
-        motions = free_motions(model, asm, Kff) or [[]]
+    motions = free_motions(model, asm, Kff) if singular else []
+    if singular and (motions or lu is None):
+        motions = motions or [[]]
         text = "; ".join(f"motion {i + 1}: " + ", ".join(f"{n} {d}" for n, d in mm)
                          for i, mm in enumerate(motions))
         raise MechanismError(f"the structure is a mechanism (singular stiffness), {len(motions)} free "
                              f"motion(s) - {text}; add supports or members, or remove end releases there",
                              [p for mm in motions for p in mm])
     return lu
+
+
+def condition_estimate(Kff, lu) -> float:
+    """1-norm condition estimate ||K|| ||K^-1|| (Hager-Higham estimator, a few solves)."""
+    n = Kff.shape[0]
+    if n == 0:
+        return 1.0
+    inv = spla.LinearOperator((n, n), matvec=lu.solve, rmatvec=lambda x: lu.solve(x, trans="T"), dtype=float)
+    return float(spla.norm(Kff, 1) * spla.onenormest(inv))
 
 
 def held_dofs(model: Model, asm: Assembled) -> list[tuple[str, str]]:
