@@ -28,3 +28,15 @@ def test_random_text(text):
 @given(st.text(max_size=200))
 def test_arbitrary_unicode(text):
     assert fuzz_deck.check(text, Path(".")) is None
+
+
+def test_huge_section_dimensions_are_a_deck_error():
+    # found by tools/fuzz_deck.py: d**3 overflowed inside the section formulas
+    text = ("material S { E = 200 GPa, nu = 0.3 }\n"
+            "section X = ishape(d = 1e308 mm, bf = 300 mm, tf = 19 mm, tw = 11 mm)\n")
+    assert fuzz_deck.check(text, Path(".")) is None
+    from fem.deck.reader import read_text
+    from fem.errors import DeckError
+    import pytest
+    with pytest.raises(DeckError, match="section X"):
+        read_text(text)

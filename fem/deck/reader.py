@@ -348,9 +348,16 @@ class _Reader:
                    "Iz": (0, 4, 0), "J": (0, 4, 0)}.get(key, U.LENGTH)
             params[key] = self.value(kw.children[1], dim, f"section {name}: {key}")
         try:
-            self.sections[name] = Section(name, make_section(shape, params))
+            props = make_section(shape, params)
         except ValueError as exc:
             raise DeckError(f"section {name}: {exc}", self.loc(s)) from None
+        except ArithmeticError:
+            raise DeckError(f"section {name}: the dimensions are too large to compute with", self.loc(s)) from None
+        vals = [props.A, props.Iy, props.Iz, props.J, props.Avy, props.Avz]
+        if not all(math.isfinite(v) for v in vals) or min(vals[:4]) <= 0:
+            raise DeckError(f"section {name}: its properties are not finite and positive "
+                            f"(A={props.A:.3g}, Iy={props.Iy:.3g}, Iz={props.Iz:.3g}, J={props.J:.3g})", self.loc(s))
+        self.sections[name] = Section(name, props)
 
     def st_node(self, s):
         name = self.name(s.children[0])
