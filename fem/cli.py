@@ -49,3 +49,6 @@ def main(argv: list[str] | None = None) -> int:
     except QuaverError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2
+    except KeyboardInterrupt:
+        print("interrupted: no results were written; earlier results are as they were", file=sys.stderr)
+        return 130

@@ -290,12 +290,28 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path) -> N
     write_report(out / "report.html", doc, images)
 
 
+def _check_target(target: Path, deck: Path) -> None:
+    """Refuse a results folder that would hold the deck or that is not a previous result."""
+    t = target.resolve()
+    if t == deck.resolve().parent or t in deck.resolve().parents:
+        raise ResultsError(f"the results folder {target} contains the deck; choose another --out")
+    if t.exists():
+        if not t.is_dir():
+            raise ResultsError(f"{target} exists and is not a folder; choose another --out")
+        marker = t / "results.json"
+        ours = marker.exists() and '"schema": "quaver-results/' in marker.read_text(errors="ignore")[:200]
+        if any(t.iterdir()) and not ours:
+            raise ResultsError(f"{target} holds files that are not Quaver results; it is left alone - "
+                               "choose an empty or new folder with --out")
+
+
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
              draw_modes: int = 6) -> int:
     model = read_deck(deck)
     target = Path(out) if out else Path("results") / Path(deck).stem
     results, modal = solve_all(model)
     target.parent.mkdir(parents=True, exist_ok=True)
+    _check_target(target, Path(deck))
     tmp = Path(tempfile.mkdtemp(prefix=".quaver-", dir=target.parent))
     try:
         doc = _write(model, results, modal, tmp)
@@ -312,6 +328,10 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     except OSError as exc:
         shutil.rmtree(tmp, ignore_errors=True)
         raise ResultsError(f"could not write results to {target}: {exc}") from None
+    except BaseException:
+        # interrupted (Ctrl-C) or failed part-way: the previous results stay as they were
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
     print(f"{model.title or deck}: {model.n_nodes} nodes, {model.n_members} members, "
           f"total mass {model.total_mass():.6g} kg")
     held = model.settings["_held"]

@@ -69,3 +69,34 @@ def test_mast_deck_runs_with_passing_checks(tmp_path):
     # frequency (physical fact for 3-fold symmetry); tolerance from round-off of the solve
     f = modal["frequency_Hz"]
     assert abs(f[0] - f[1]) < 1e-8 * f[0]
+
+
+def test_interrupted_run_keeps_previous_results(tmp_path, monkeypatch, capsys):
+    import fem.run as run
+    out = tmp_path / "res"
+    assert main(["run", str(RACK), "--out", str(out), "--no-render"]) == 0
+    before = (out / "results.json").read_text()
+
+    def boom(*a, **k):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(run, "_report", boom)
+    assert main(["run", str(RACK), "--out", str(out), "--no-render"]) == 130
+    assert "interrupted" in capsys.readouterr().err
+    assert (out / "results.json").read_text() == before
+    assert not any(p.name.startswith(".quaver-") for p in tmp_path.iterdir())
+
+
+def test_refuses_a_folder_that_is_not_a_result(tmp_path, capsys):
+    other = tmp_path / "mine"
+    other.mkdir()
+    (other / "notes.txt").write_text("keep me")
+    assert main(["run", str(RACK), "--out", str(other), "--no-render"]) == 2
+    assert (other / "notes.txt").read_text() == "keep me"
+    assert "not Quaver results" in capsys.readouterr().err
+    deck = tmp_path / "d" / "rack.deck"
+    deck.parent.mkdir()
+    deck.write_text(RACK.read_text().replace('"records/synthetic_ground.csv"', '"g.csv"'))
+    (deck.parent / "g.csv").write_text("0,0\n1,1\n")
+    assert main(["run", str(deck), "--out", str(deck.parent), "--no-render"]) == 2
+    assert deck.exists()
