@@ -125,3 +125,17 @@ def test_unit_followed_by_operator_and_name():
     # '5 m/n' divides 5 m by the parameter n; '2 m*cos(a)' multiplies (units are known symbols)
     m = read_text(HEAD + "let n = 4\nlet a = 60 deg\nnode A = (5 m/n, 2 m*cos(a), 0)\n")
     np.testing.assert_allclose(m.coords[0], [1.25, 1.0, 0.0], rtol=1e-15)
+
+
+def test_include_refuses_absolute_paths_and_links_outside(tmp_path: Path):
+    outside = tmp_path / "outside.deck"
+    outside.write_text(HEAD)
+    top = tmp_path / "proj"
+    top.mkdir()
+    (top / "abs.deck").write_text(f'include "{outside}"\n')
+    with pytest.raises(DeckError, match="outside"):
+        read_deck(top / "abs.deck")
+    (top / "link.deck").symlink_to(outside)
+    (top / "via_link.deck").write_text('include "link.deck"\n')
+    with pytest.raises(DeckError, match="outside"):
+        read_deck(top / "via_link.deck")
