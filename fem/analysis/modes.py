@@ -94,6 +94,9 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
         d = K.diagonal() / np.where(M.diagonal() > 0, M.diagonal(), np.inf)
         sigma = -1e-6 * float(np.median(d[d > 0])) if shift is None else shift
         A = (K - sigma * M).tocsc()
+        from .memory import check_factor_memory
+
+        check_factor_memory(A, "eigen solve")
         # symmetric ordering without row pivoting: about half the fill and time of the default
         # for these SPD-like matrices (K - sigma M with sigma < 0 is positive definite)
         lu = spla.splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,

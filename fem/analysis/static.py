@@ -107,6 +107,9 @@ def factorise(model: Model, asm: Assembled):
     """Sparse LU of K over the free DOFs; a singular K raises MechanismError naming, for each
     free motion, the nodes and directions that move."""
     Kff = asm.K[asm.free][:, asm.free].tocsc()
+    from .memory import check_factor_memory
+
+    check_factor_memory(Kff, "static solve")
     diag = np.abs(Kff.diagonal())
     singular = False
     try:
