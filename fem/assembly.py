@@ -11,7 +11,7 @@ from . import elements as el
 from .errors import ModelError
 from .model import Model
 
-__all__ = ["Assembled", "assemble", "element_matrices"]
+__all__ = ["Assembled", "BlockPattern", "assemble", "element_matrices"]
 
 
 @dataclass
@@ -32,10 +32,13 @@ class Assembled:
     inert: np.ndarray      # DOFs held because nothing (stiffness or mass) acts on them
 
 
-def element_matrices(model: Model, condense: bool = True):
-    """Batched local stiffness and mass (e, 12, 12), axes R (e, 3, 3) and lengths L (e,).
+def element_matrices(model: Model, condense: bool = True, sel=None):
+    """Batched local stiffness and mass (e, 12, 12), axes R (e, 3, 3) and lengths L (e,) of all
+    members, or of the members `sel` (index array or slice).
 
     With condense=False the stiffness is returned before end releases are condensed out."""
+    if sel is not None:
+        return element_matrices(_subset(model, sel), condense)
     xi, xj = model.coords[model.conn[:, 0]], model.coords[model.conn[:, 1]]
     up = np.where(np.isnan(model.up).any(axis=1, keepdims=True), np.nan, model.up)
     has_up = ~np.isnan(up).any(axis=1)
@@ -67,18 +70,83 @@ def element_matrices(model: Model, condense: bool = True):
     return k, m, R, L
 
 
-def assemble(model: Model) -> Assembled:
-    """Assemble K and M with springs and point masses; no Python loop over members."""
-    k, m, R, L = element_matrices(model)
-    kg, mg = el.to_global(k, R), el.to_global(m, R)
-    n = 6 * model.n_nodes
-    dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12).astype(np.int32)  # (e, 12)
-    rows = np.repeat(dofs, 12, axis=1).ravel()
-    cols = np.tile(dofs, (1, 12)).ravel()
-    K = sp.csr_matrix((kg.ravel(), (rows, cols)), shape=(n, n))
-    M = sp.csr_matrix((mg.ravel(), (rows, cols)), shape=(n, n))
-    K = (K + sp.diags(model.springs.ravel(), format="csr")).tocsr()
-    M = (M + sp.diags(model.point_mass.ravel(), format="csr")).tocsr()
+_MEMBER_FIELDS = ("conn", "truss", "E", "G", "rho", "A", "Iy", "Iz", "J", "Avy", "Avz", "roll", "up",
+                  "nsm", "releases")
+
+
+def _subset(model: Model, sel) -> Model:
+    """A shallow view of the model holding only the members `sel` (nodes unchanged)."""
+    from dataclasses import replace
+
+    names = model.member_names[sel] if isinstance(sel, slice) else [model.member_names[i] for i in sel]
+    return replace(model, member_names=names, **{f: getattr(model, f)[sel] for f in _MEMBER_FIELDS})
+
+
+CHUNK = 4096   # members per batch: keeps the (chunk, 12, 12) temporaries in cache
+
+
+@dataclass
+class BlockPattern:
+    """Node-block sparsity of a model: which 6x6 node-pair blocks exist, and a 0/1 summation
+    matrix S that adds the four blocks of every member (and each node's diagonal block) into
+    them. Built once per connectivity and reused for K and M (and later assemblies)."""
+
+    S: sp.csr_matrix     # (nb, 4e + n) summation matrix
+    indices: np.ndarray  # (nb,) block column of each distinct block
+    indptr: np.ndarray   # (n_nodes + 1,) BSR row pointers
+    n_nodes: int
+
+    @classmethod
+    def of(cls, conn: np.ndarray, n_nodes: int) -> "BlockPattern":
+        brow = np.repeat(conn, 2, axis=1).ravel()            # (e, [i, i, j, j])
+        bcol = np.tile(conn, (1, 2)).ravel()                 # (e, [i, j, i, j])
+        keys = brow.astype(np.int64) * n_nodes + bcol
+        # every node carries a diagonal block (springs and point masses go there)
+        keys = np.r_[keys, np.arange(n_nodes, dtype=np.int64) * (n_nodes + 1)]
+        uniq, inverse = np.unique(keys, return_inverse=True)
+        S = sp.csr_matrix((np.ones(len(keys)), (inverse.ravel(), np.arange(len(keys)))),
+                          shape=(len(uniq), len(keys)))
+        indptr = np.r_[0, np.cumsum(np.bincount(uniq // n_nodes, minlength=n_nodes))]
+        return cls(S, (uniq % n_nodes).astype(np.int32), indptr.astype(np.int32), n_nodes)
+
+    def matrix_from_blocks(self, X: np.ndarray) -> sp.csr_matrix:
+        """CSR from member blocks and nodal diagonal blocks X (4e + n, 36) (see _blocks)."""
+        data = (self.S @ X).reshape(-1, 6, 6)
+        n = 6 * self.n_nodes
+        return sp.bsr_matrix((data, self.indices, self.indptr), shape=(n, n)).tocsr()
+
+
+def _blocks(g: np.ndarray) -> np.ndarray:
+    """(e, 12, 12) member matrices -> (4e, 36) node-pair blocks ii, ij, ji, jj."""
+    e = g.shape[0]
+    return g.reshape(e, 2, 6, 2, 6).transpose(0, 1, 3, 2, 4).reshape(4 * e, 36)
+
+
+def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
+    """Assemble K and M with springs and point masses; no Python loop over members.
+
+    Members are summed as 6x6 node-pair blocks through a BlockPattern (pass one to reuse it
+    when only the values change)."""
+    e, n = model.n_members, model.n_nodes
+    pattern = pattern or BlockPattern.of(model.conn, n)
+    # member blocks in pattern order (4 per member), then the nodal diagonal blocks
+    XK = np.zeros((4 * e + n, 36))
+    XM = np.zeros((4 * e + n, 36))
+    k = np.empty((e, 12, 12))
+    R = np.empty((e, 3, 3))
+    L = np.empty(e)
+    for a in range(0, e, CHUNK):
+        sl = slice(a, min(a + CHUNK, e))
+        kc, mc, Rc, Lc = element_matrices(model, sel=sl)
+        k[sl], R[sl], L[sl] = kc, Rc, Lc
+        c = Lc.shape[0]
+        XK[4 * a:4 * a + 4 * c] = _blocks(el.to_global(kc, Rc))
+        XM[4 * a:4 * a + 4 * c] = _blocks(el.to_global(mc, Rc))
+    d6 = np.arange(6) * 7                      # diagonal positions in a flattened 6x6 block
+    XK[4 * e:, d6] = model.springs
+    XM[4 * e:, d6] = model.point_mass
+    K = pattern.matrix_from_blocks(XK)
+    M = pattern.matrix_from_blocks(XM)
     if not (np.isfinite(K.data).all() and np.isfinite(M.data).all()):
         raise ModelError("the stiffness or mass matrix overflows (a property or coordinate is far too "
                          "large or too small); check the magnitudes and units in the deck")
