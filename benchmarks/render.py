@@ -41,7 +41,7 @@ def main(members: int, jobs: int) -> None:
         t0 = time.perf_counter()
         files = render_all(Path(tmp), model, [case], [], shape_scale(model), jobs)
         dt = time.perf_counter() - t0
-    print(f"{model.n_members} members, 6 modes: {len(files)} files (2 PNG + a 24-frame GIF per mode) "
+    print(f"{model.n_members} members, 6 modes: {len(files)} files (2 PNG, a 24-frame GIF and, with the video extra, an MP4 per mode) "
           f"in {dt:.1f} s with {jobs} process(es)")
 
 

@@ -79,6 +79,12 @@ def test_run_writes_pictures_and_gifs(deck, tmp_path):
     from PIL import Image
     gif = Image.open(out / "pictures" / "MODES_mode_001.gif")
     assert gif.n_frames >= 12               # 24 written; identical neighbours may be merged
+    from fem.output.render import video_available
+    if video_available():
+        import imageio.v2 as imageio
+        with imageio.get_reader(out / "pictures" / "MODES_mode_001.mp4") as rd:
+            assert rd.count_frames() == 24
+            assert rd.get_data(0).shape[:2] == (480, 640)
 
 
 def test_no_gl_is_one_line_and_results_stay(deck, tmp_path):

@@ -132,15 +132,41 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
             p.screenshot(str(name))
             out.append(name)
             if view == "plane" and gif:
-                gif_name = folder / f"{modal.name}_mode_{j + 1:03d}.gif"
-                p.window_size = GIF_SIZE
-                p.open_gif(str(gif_name), fps=12)
                 base = poly.points.copy()
-                for k in range(frames):
-                    _frame(p, mesh, base, disp * np.sin(2 * np.pi * k / frames))
-                    p.write_frame()
-                out.append(gif_name)
+                shots = (disp * np.sin(2 * np.pi * k / frames) for k in range(frames))
+                out += _animate(p, mesh, base, shots, folder / f"{modal.name}_mode_{j + 1:03d}")
             p.close()
+    return out
+
+
+def video_available() -> bool:
+    """MP4 needs an ffmpeg encoder; the optional 'video' extra (imageio-ffmpeg) ships one."""
+    try:
+        import imageio_ffmpeg  # noqa: F401
+    except ImportError:
+        return False
+    return True
+
+
+def _animate(p, mesh, base, displacements, stem: Path, fps: int = 12) -> list[Path]:
+    """Render each displacement field once; write stem.gif always and stem.mp4 when an encoder
+    is available. Frames are taken from the live plotter, so one context serves both files."""
+    import imageio.v2 as imageio
+
+    p.window_size = GIF_SIZE
+    images = []
+    for d in displacements:
+        _frame(p, mesh, base, d)
+        images.append(p.screenshot(None, return_img=True))
+    gif = stem.with_suffix(".gif")
+    imageio.mimsave(gif, images, duration=1000 / fps, loop=0)
+    out = [gif]
+    if video_available():
+        mp4 = stem.with_suffix(".mp4")
+        with imageio.get_writer(mp4, fps=fps, codec="libx264", quality=7, macro_block_size=16) as w:
+            for im in images:
+                w.append_data(im)
+        out.append(mp4)
     return out
 
 
@@ -167,14 +193,8 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     p.screenshot(str(png))
     out = [png]
     if gif:
-        g = folder / f"{name}.gif"
-        p.window_size = GIF_SIZE
-        p.open_gif(str(g), fps=12)
         base = poly.points.copy()
-        for i in range(len(frame_t)):
-            _frame(p, mesh, base, frames[i, :, :3] * k)
-            p.write_frame()
-        out.append(g)
+        out += _animate(p, mesh, base, (frames[i, :, :3] * k for i in range(len(frame_t))), folder / name)
     p.close()
     return out
 
