@@ -131,7 +131,8 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     # static results, then peak envelopes (values >= 0) of spectrum and history cases
     tables = [(r.name, r.u, r.reactions, r.member_forces) for r in results]
     tables += [(x.name, x.u, x.reactions, x.member_forces) for x in modal if isinstance(x, SpectrumResult)]
-    tables += [(x.name, x.peak, x.reaction_peak, x.member_peak) for x in modal if isinstance(x, HistoryResult)]
+    tables += [(x.name, x.peak, x.reaction_peak, x.member_peak) for x in modal
+               if isinstance(x, (HistoryResult, HarmonicResult))]
     _write_csv(out / "displacements.csv", ["case", "node", *DIRECTIONS],
                [[name, n, *map(float, u[k])] for name, u, _, _ in tables for k, n in enumerate(nodes)])
     sup = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))

@@ -15,7 +15,8 @@ from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import modal_ratios
-from .modal_case import ModesCaseResult, effective_load, residual_static
+from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
+from .static import load_vector
 
 __all__ = ["HarmonicResult", "solve_harmonic_case", "sweep_frequencies"]
 
@@ -35,6 +36,8 @@ class HarmonicResult:
     zeta: np.ndarray
     corrected: bool
     highest_mode_Hz: float
+    reaction_peak: np.ndarray = None    # (n, 6) largest reaction amplitude over the sweep
+    member_peak: np.ndarray = None      # (e, 12) largest end-force amplitude, local axes
 
 
 def sweep_frequencies(f_from, f_to, points, spacing, natural, zeta) -> np.ndarray:
@@ -51,6 +54,22 @@ def sweep_frequencies(f_from, f_to, points, spacing, natural, zeta) -> np.ndarra
     f = np.concatenate([base, extra])
     f = f[(f >= f_from) & (f <= f_to)]
     return np.unique(f)
+
+
+def _amplitude_peaks(H, shapes, freq, static=None, block=500):
+    """Largest |H shapes^T + static| over the sweep per component, and the frequency of it."""
+    n = shapes.shape[0]
+    peak, peak_f = np.zeros(n), np.zeros(n)
+    for a in range(0, len(freq), block):
+        u = H[a:a + block] @ shapes.T
+        if static is not None:
+            u = u + static[None, :]
+        mag = np.abs(u)
+        k = mag.argmax(axis=0)
+        val = mag[k, np.arange(n)]
+        better = val > peak
+        peak[better], peak_f[better] = val[better], freq[a + k[better]]
+    return peak, peak_f
 
 
 def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
@@ -74,20 +93,23 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     H = pk[None, :] / (omega[None, :] ** 2 - W[:, None] ** 2 + 2j * zeta * omega * W[:, None])
     shapes = modal.shapes.reshape(n6, -1)
     static = residual_static(F, asm, lu, shapes, omega, pk) if opt.get("correction") else None
-    peak = np.zeros(n6)
-    peak_f = np.zeros(n6)
-    for a in range(0, len(W), 500):
-        u = H[a:a + 500] @ shapes.T
-        if static is not None:
-            u = u + static[None, :]
-        mag = np.abs(u)
-        k = mag.argmax(axis=0)
-        val = mag[k, np.arange(n6)]
-        better = val > peak
-        peak[better], peak_f[better] = val[better], freq[a + k[better]]
+    peak, peak_f = _amplitude_peaks(H, shapes, freq, static)
+    # reactions and member end forces: per mode, superposed per frequency, with the static part
+    # and, for member loads, minus the fixed-end forces (loads in phase with the excitation)
+    Rm, Fm = field_responses(model, asm, shapes.T)
+    F_only, fe = load_vector(model, asm, case) if case.loads else (np.zeros(n6), np.zeros((model.n_members, 12)))
+    fixed = np.zeros(n6, bool)
+    fixed[asm.fixed] = True
+    r_static, m_static = -np.where(fixed, F_only, 0.0), -fe.ravel()
+    if static is not None:
+        Rs, Fs = field_responses(model, asm, static[None])
+        r_static, m_static = r_static + Rs.ravel(), m_static + Fs.ravel()
+    r_peak, _ = _amplitude_peaks(H, Rm.reshape(len(omega), -1).T, freq, r_static)
+    m_peak, _ = _amplitude_peaks(H, Fm.reshape(len(omega), -1).T, freq, m_static)
     record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
     u = np.einsum("wk,rdk->wrd", H, modal.shapes[record])
     if static is not None:
         u = u + static.reshape(-1, 6)[record][None]
     return HarmonicResult(case.name, freq, record, u, peak.reshape(-1, 6), peak_f.reshape(-1, 6),
-                          zeta, static is not None, float(omega.max() / (2 * np.pi)))
+                          zeta, static is not None, float(omega.max() / (2 * np.pi)),
+                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12))
