@@ -47,10 +47,17 @@ def assembled_mass(model: Model, asm) -> np.ndarray:
 
 
 def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
-    asm = assemble(model)
+    from .progress import stage
+
+    with stage(f"assembling {model.n_members} members"):
+        asm = assemble(model)
     model.settings["_assembled_mass"] = assembled_mass(model, asm)
     model.settings["_held"] = held_dofs(model, asm)
-    modal = [solve_modes_case(model, asm, c) for c in model.cases if c.kind == "modes"]
+    modal = []
+    for c in model.cases:
+        if c.kind == "modes":
+            with stage(f"modes case {c.name}: eigen solve"):
+                modal.append(solve_modes_case(model, asm, c))
     statics = [c for c in model.cases if c.kind == "static"]
     results = []
     if statics or model.combinations:
@@ -72,7 +79,8 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
             modal.append(solve_free_case(model, asm, c, modal_by[c.options["modes"]], start))
         elif c.kind == "history":
             lu = factorise(model, asm) if c.options.get("correction") else None
-            modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]], lu))
+            with stage(f"history case {c.name}: integrating"):
+                modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]], lu))
         elif c.kind == "spectrum":
             lu = factorise(model, asm) if c.options.get("missing") else None
             modal.append(solve_spectrum_case(model, asm, c, modal_by[c.options["modes"]], lu))

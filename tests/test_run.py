@@ -100,3 +100,13 @@ def test_refuses_a_folder_that_is_not_a_result(tmp_path, capsys):
     (deck.parent / "g.csv").write_text("0,0\n1,1\n")
     assert main(["run", str(deck), "--out", str(deck.parent), "--no-render"]) == 2
     assert deck.exists()
+
+
+def test_quiet_when_not_a_terminal(tmp_path):
+    # progress goes to a terminal only: piped output has no progress lines or bars
+    import subprocess
+    import sys
+    r = subprocess.run([sys.executable, "-m", "fem", "run", str(RACK), "--out", str(tmp_path / "o"), "--no-render"],
+                       capture_output=True, text=True, timeout=300, cwd=Path(__file__).parents[1])
+    assert r.returncode == 0
+    assert "..." not in r.stderr and "it/s" not in r.stderr

@@ -221,11 +221,14 @@ def render_all(folder: Path, model, modal_cases, responses, length: float, jobs:
                           part=replace(m.part, fraction=m.part.fraction[j:j + 1]))
             tasks.append(("modes", folder, model, replace(one, first_mode=j), length))
     tasks += [("response", folder, model, r, None) for r in responses]
+    from ..progress import bar
+
     if jobs <= 1 or len(tasks) <= 1:
-        return [f for t in tasks for f in _render_chunk(t)]
+        return [f for t in bar(tasks, len(tasks), "rendering") for f in _render_chunk(t)]
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor
 
     with ProcessPoolExecutor(max_workers=jobs, mp_context=mp.get_context("spawn")) as ex:
-        return [f for files in ex.map(_render_chunk, tasks) for f in files]
+        done = bar(ex.map(_render_chunk, tasks), len(tasks), "rendering")
+        return [f for files in done for f in files]
 
