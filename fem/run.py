@@ -106,8 +106,9 @@ def modal_checks(r) -> dict:
     return {"max_residual": float(m.residual.max()), "residual_pass": bool(m.residual.max() < RESIDUAL_TOL),
             "mass_orthogonality": m.orth_mass, "stiffness_orthogonality": m.orth_stiff,
             "orthogonality_pass": bool(max(m.orth_mass, m.orth_stiff) < ORTHO_TOL),
-            "sturm_count": m.sturm_count, "modes_found": k,
-            "none_missed": None if m.sturm_count is None else bool(m.sturm_count == k),
+            "sturm_count": m.sturm_count, "sturm_expected": m.sturm_expected, "modes_found": k,
+            "sturm_shift_Hz": None if m.sturm_shift is None else float(np.sqrt(max(m.sturm_shift, 0)) / (2 * np.pi)),
+            "none_missed": None if m.sturm_count is None else bool(m.sturm_count == m.sturm_expected),
             "cumulative_mass_fraction": dict(zip(AXES[:3], map(float, r.part.cumulative[-1, :3]))),
             "mass_target": None if r.target is None else r.target.tolist(), "mass_target_met": r.target_met}
 

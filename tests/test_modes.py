@@ -96,3 +96,72 @@ def test_factorisations_agree(kind):
     ref = solve_modes(K, M, n_modes=6, factor_kind="superlu")
     np.testing.assert_allclose(res.omega, ref.omega, rtol=1e-10)
     assert ("PARDISO" in res.solver) == (kind == "pardiso")
+
+
+def chain_with_massless_joints(n, k=1.0, m=1.0):
+    """Fixed-free chain of 2n springs k whose odd joints carry no mass: two springs in series
+    between masses act as one spring k/2."""
+    K, _ = chain(2 * n, k)
+    mass = np.tile([0.0, m], n)
+    return K, sp.diags(mass, format="csr")
+
+
+@pytest.mark.parametrize("n", [40, 2000], ids=["dense", "shift-invert"])
+def test_massless_dofs_are_condensed(n):
+    # springs in series: k_eff = k/2, so omega_j = 2 sqrt(k_eff/m) sin((2j-1) pi / (2(2n+1)))
+    # for the n-mass chain (difference equation; common practice, no source). Lumped beam mass
+    # and massless members give such DOFs; M is singular there and dense eigh would refuse it.
+    K, M = chain_with_massless_joints(n)
+    res = solve_modes(K, M, n_modes=8)
+    assert res.solver.startswith("dense" if n == 40 else "shift-invert")
+    j = np.arange(1, 9)
+    np.testing.assert_allclose(res.omega, 2 * np.sqrt(0.5) * np.sin((2 * j - 1) * np.pi / (2 * (2 * n + 1))),
+                               rtol=1e-9)
+    assert res.residual.max() < 1e-12 and res.orth_mass < 1e-10
+    assert res.sturm_count == res.sturm_expected == 8
+
+
+def test_all_finite_modes_with_massless_dofs():
+    # asking for more modes than there are masses gives the n finite ones; with all of them the
+    # effective mass equals the total mass (physical fact)
+    K, M = chain_with_massless_joints(30)
+    res = solve_modes(K, M, n_modes=100)
+    assert len(res.omega) == 30
+    p = participation(res.phi, M, np.tile([1.0, 1.0], 30)[:, None])
+    assert p.cumulative[-1, 0] == pytest.approx(1.0, abs=1e-12)
+
+
+@pytest.mark.parametrize("n", [60, 6000], ids=["dense", "shift-invert"])
+def test_sturm_count_with_repeated_modes(n):
+    # two identical uncoupled chains: every frequency is double (as the sway pairs of a
+    # symmetric tower). Asking for 5 modes cuts the third pair; the check shift goes past the
+    # partner, so the count is 6 below it, 6 computed, none missed.
+    K1, M1 = chain(n // 2)
+    res = solve_modes(sp.block_diag([K1, K1], format="csr"), sp.block_diag([M1, M1], format="csr"), n_modes=5)
+    j = np.array([1, 1, 2, 2, 3])
+    np.testing.assert_allclose(res.omega, 2 * np.sin((2 * j - 1) * np.pi / (2 * (n + 1))), rtol=1e-9)
+    assert res.sturm_count == res.sturm_expected == 6
+
+
+def test_sturm_count_sees_a_missing_mode():
+    # were the eigen solver to skip a mode, the inertia of K - sigma M still counts it
+    from fem.analysis.factor import negative_eigenvalues
+    from fem.analysis.modes import _sturm_shift
+
+    K, M = chain(5000)
+    exact = (2 * np.sin((2 * np.arange(1, 9) - 1) * np.pi / (2 * (2 * 5000 + 1)))) ** 2
+    skipped = np.delete(exact, 3)
+    shift, expected = _sturm_shift(skipped, 6, more=True)
+    assert expected == 6 and negative_eigenvalues(K - shift * M) == 7
+
+
+def test_negative_eigenvalues_match_dense_inertia():
+    # Sylvester's law of inertia through the sparse LDL^T vs numpy's eigvalsh on random
+    # symmetric indefinite matrices (seeded)
+    from fem.analysis.factor import negative_eigenvalues
+
+    rng = np.random.default_rng(7)
+    for trial in range(5):
+        B = sp.random(200, 200, density=0.03, random_state=trial)
+        A = (B + B.T + sp.diags(rng.normal(size=200))).tocsc()
+        assert negative_eigenvalues(A) == int(np.sum(np.linalg.eigvalsh(A.toarray()) < 0))

@@ -14,7 +14,7 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-__all__ = ["SPDFactor", "spd_factor", "pardiso_available", "COMPACT_PROFILE"]
+__all__ = ["SPDFactor", "spd_factor", "pardiso_available", "negative_eigenvalues", "COMPACT_PROFILE"]
 
 COMPACT_PROFILE = 150   # mean envelope width (entries per row, RCM order) above which PARDISO wins
 
@@ -77,3 +77,21 @@ def spd_factor(A, kind: str = "auto", profile: float | None = None) -> SPDFactor
     if kind == "pardiso":
         return _Pardiso(A)
     return _SuperLU(A)
+
+
+def negative_eigenvalues(A) -> int | None:
+    """Number of negative eigenvalues of the symmetric (indefinite) A, from a sparse LDL^T
+    (Sylvester's law of inertia: P A P^T = L D L^T has as many negative pivots in D).
+
+    SuperLU with a symmetric ordering and no row pivoting factors P A P^T = L U with
+    U = D L^T, so D is the diagonal of U. Should it pivot off the diagonal after all (a zero
+    pivot), the inertia cannot be read and None is returned."""
+    A = sp.csc_matrix(A)
+    try:
+        lu = spla.splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                       options=dict(SymmetricMode=True))
+    except RuntimeError:           # exactly singular: the shift sits on an eigenvalue
+        return None
+    if not np.array_equal(lu.perm_r, lu.perm_c):
+        return None
+    return int(np.count_nonzero(lu.U.diagonal() < 0))

@@ -9,7 +9,9 @@ import scipy.linalg as sla
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-__all__ = ["DENSE_LIMIT", "ModalResult", "Participation", "participation", "solve_modes"]
+from ..errors import ModelError
+
+__all__ = ["DENSE_LIMIT", "ModalResult", "Participation", "massless_dofs", "participation", "solve_modes"]
 
 DENSE_LIMIT = 600   # free DOFs up to which a dense eigh is cheaper and exact
 
@@ -20,7 +22,9 @@ class ModalResult:
     phi (n, k) mass-normalised; residual (k,) backward error
     ||K phi - w^2 M phi|| / ((||K|| + w^2 ||M||) ||phi||); orth_mass max |phi^T M phi - I|;
     orth_stiff max off-diagonal |phi^T K phi| / max(w^2); sturm_count eigenvalues below
-    the check shift (None if not computed); solver 'dense' or 'shift-invert'."""
+    the check shift sturm_shift (None if not computed) and sturm_expected the computed ones
+    below it (the modes found plus any repeated partners of the last one); solver 'dense' or
+    'shift-invert, <factorisation>'."""
 
     omega: np.ndarray
     freq: np.ndarray
@@ -32,6 +36,7 @@ class ModalResult:
     sturm_count: int | None
     sturm_shift: float | None
     solver: str
+    sturm_expected: int | None = None
 
 
 @dataclass
@@ -73,15 +78,49 @@ def _one_blas_thread(factor):
     return threadpool_limits(limits=1, user_api="blas")   # measured best of none, OpenBLAS-only, all
 
 
-def _sturm(K, M, sigma) -> int:
-    """Number of eigenvalues below sigma: negative eigenvalues of K - sigma M (Sylvester)."""
-    A = (K - sigma * M)
-    if sp.issparse(A):
-        A = A.toarray() if A.shape[0] <= 3000 else None
-    if A is None:
-        return None
-    _, d, _ = sla.ldl(A)
-    return int(np.sum(np.linalg.eigvalsh(d) < 0))
+def massless_dofs(M) -> np.ndarray:
+    """(n,) bool: DOFs whose row of M carries no mass (lumped rotations, massless members).
+    A PSD row with a zero diagonal is zero throughout; 1e-13 of the largest diagonal is far
+    below any physical mass and far above round-off."""
+    d = M.diagonal()
+    return d <= 1e-13 * max(float(d.max(initial=0.0)), 1e-300)
+
+
+def _dense(K, M, massless):
+    """All finite eigenpairs of the dense pencil, ascending. Massless DOFs are condensed out
+    exactly first (they carry no inertia, so K_00 u_0 + K_0m u_m = 0 at every frequency)."""
+    Kd = K.toarray() if sp.issparse(K) else np.asarray(K, dtype=float)
+    Md = M.toarray() if sp.issparse(M) else np.asarray(M, dtype=float)
+    if not massless.any():
+        return sla.eigh(Kd, Md)
+    m, z = ~massless, massless
+    try:
+        T = -sla.solve(Kd[np.ix_(z, z)], Kd[np.ix_(z, m)], assume_a="sym")   # u_0 = T u_m
+    except (sla.LinAlgError, ValueError):
+        raise ModelError("massless DOFs move without stiffness: give the members there a density "
+                         "or a point mass, or restrain the free directions") from None
+    Kc = Kd[np.ix_(m, m)] + Kd[np.ix_(m, z)] @ T
+    lam, pm = sla.eigh((Kc + Kc.T) / 2, Md[np.ix_(m, m)])
+    phi = np.zeros((len(massless), len(lam)))
+    phi[m], phi[z] = pm, T @ pm
+    return lam, phi
+
+
+def _sturm_shift(lam, k, more):
+    """Shift for the Sturm check of the first k of the computed eigenvalues `lam` (ascending):
+    midway to the next distinct computed eigenvalue, so that repeated partners of the last
+    mode (symmetric towers give pairs) are counted as computed, not as missed. Returns the
+    shift and how many computed eigenvalues lie below it. `more`: eigenvalues exist above
+    the computed ones."""
+    top = lam[k - 1]
+    tol = 1e-8 * max(abs(top), 1.0)
+    above = np.flatnonzero(lam > top + tol)
+    if len(above):
+        j = above[0]
+        return 0.5 * (top + lam[j]), int(j)
+    if more:
+        return None, None       # no distinct eigenvalue above was computed: cannot place a shift
+    return top + max(1e-6 * abs(top), 1e-8), len(lam)
 
 
 def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
@@ -90,19 +129,22 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
 
     n_modes modes, or all with frequency up to f_max (Hz), or both (the smaller set).
     Shift-invert Lanczos around `shift` (rad^2/s^2; default slightly negative so rigid-body
-    modes are found) for large models, dense eigh for n <= DENSE_LIMIT.
+    modes are found) for large models, dense eigh for n <= DENSE_LIMIT. DOFs without mass
+    have no finite mode; at most n minus their number modes exist. With `sturm`, the number
+    of eigenvalues below a shift just above the last mode is counted from a factorisation
+    (Sylvester's law of inertia) and compared with the number computed.
     """
     n = K.shape[0]
     if n_modes is None and f_max is None:
         raise ValueError("ask for a number of modes or a frequency limit")
-    want = min(n_modes or n, n)
+    massless = massless_dofs(M)
+    n_fin = n - int(massless.sum())
+    want = min(n_modes or n_fin, n_fin)
     lam_max = (2 * np.pi * f_max) ** 2 if f_max is not None else np.inf
-    if n <= DENSE_LIMIT or (n_modes is not None and want >= n - 1):
-        Kd = K.toarray() if sp.issparse(K) else np.asarray(K)
-        Md = M.toarray() if sp.issparse(M) else np.asarray(M)
-        lam, phi = sla.eigh(Kd, Md)
-        keep = (np.arange(n) < want) & (lam <= lam_max * (1 + 1e-12))
-        lam, phi = lam[keep], phi[:, keep]
+    extra = 3       # eigenpairs beyond the wanted ones, to place the Sturm shift past repeated modes
+    if n <= DENSE_LIMIT or (n_modes is not None and want + extra >= n_fin - 1):
+        lam, phi = _dense(K, M, massless)
+        more = False
         solver = "dense"
     else:
         d = K.diagonal() / np.where(M.diagonal() > 0, M.diagonal(), np.inf)
@@ -114,35 +156,39 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
         need = check_factor_memory(A, "eigen solve")
         factor = spd_factor(A, factor_kind, profile=need / 24 / n)
         op = factor.operator()
-        k = min(want if n_modes else 20, n - 2)
+        k = min((want if n_modes else 20) + extra, n_fin - 2)
         while True:
             with _one_blas_thread(factor):
                 lam, phi = spla.eigsh(K, k=k, M=M, sigma=sigma, which="LM", OPinv=op)
             order = np.argsort(lam)
             lam, phi = lam[order], phi[:, order]
-            if n_modes is None and lam[-1] < lam_max and k < n - 2:
-                k = min(2 * k, n - 2)
+            if n_modes is None and lam[-1 - extra] < lam_max and k < n_fin - 2:
+                k = min(2 * k, n_fin - 2)
                 continue
             break
-        keep = (np.arange(len(lam)) < want) & (lam <= lam_max * (1 + 1e-12))
-        lam, phi = lam[keep], phi[:, keep]
+        more = True
         solver = f"shift-invert, {factor.name}"
-    lam = np.where(np.abs(lam) < 1e-9 * max(np.abs(lam).max(initial=0), 1.0), 0.0, lam)
-    lam = np.maximum(lam, 0.0)
+    keep = int(np.sum((np.arange(len(lam)) < want) & (lam <= lam_max * (1 + 1e-12))))
+    lam_all = lam
+    lam, phi = lam[:keep], phi[:, :keep]
+    scale = max(np.abs(lam_all).max(initial=0), 1.0)
+    lam = np.maximum(np.where(np.abs(lam) < 1e-9 * scale, 0.0, lam), 0.0)
     # mass-normalise (eigh and eigsh already do; renormalise against round-off)
     mnorm = np.sqrt(np.einsum("ij,ij->j", phi, M @ phi))
     phi = phi / mnorm
     res, orth_m, orth_k = _checks(K, M, lam, phi)
-    count = shift_used = None
-    if sturm and len(lam):
-        gap = lam[-1] * 1e-6 + 1e-12
-        shift_used = lam[-1] + max(gap, 1e-8)
-        count = _sturm(K, M, shift_used)
+    count = shift_used = expected = None
+    if sturm and keep:
+        shift_used, expected = _sturm_shift(lam_all, keep, more)
+        if shift_used is not None:
+            from .factor import negative_eigenvalues
+
+            count = negative_eigenvalues(K - shift_used * M)
     omega = np.sqrt(lam)
     with np.errstate(divide="ignore"):
         period = np.where(omega > 0, 2 * np.pi / np.where(omega > 0, omega, 1), np.inf)
     return ModalResult(omega, omega / (2 * np.pi), period, phi, res, orth_m, orth_k, count,
-                       shift_used, solver)
+                       shift_used, solver, expected)
 
 
 def participation(phi, M, R) -> Participation:
