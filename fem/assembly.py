@@ -66,7 +66,11 @@ def element_matrices(model: Model, condense: bool = True, sel=None):
         m[t] = el.truss_mass(L[t], model.rho[t], model.A[t], model.nsm[t], lumped)
     rel = model.releases & ~t[:, None]
     if condense and rel.any():
-        k = el.condense_releases(k, rel)
+        try:
+            k = el.condense_releases(k, rel)
+        except np.linalg.LinAlgError:
+            raise ModelError("a member's end releases leave it free to move as a rigid body (e.g. its "
+                             "twist released at both ends); release a direction at one end only") from None
     return k, m, R, L
 
 

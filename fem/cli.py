@@ -40,6 +40,8 @@ def main(argv: list[str] | None = None) -> int:
             print(f"{model.title or args.deck}: {model.n_nodes} nodes, {model.n_members} members, "
                   f"total mass {model.total_mass():.6g} kg")
             print(f"bounding box {lo} .. {hi} m")
+            for w in model.warnings:
+                print(w)
             print(CAUTION)
             return 0
         from .run import run_deck

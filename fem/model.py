@@ -74,6 +74,7 @@ class Model:
     restraint : (n, 6) bool, restrained DOFs
     springs : (n, 6) spring stiffness to ground, N/m or N m/rad
     point_mass : (n, 6) mass and rotary inertia at nodes, kg and kg m^2
+    warnings : "file:line:column: warning: ..." texts the reader found worth saying, not refusing
     """
 
     title: str
@@ -106,6 +107,7 @@ class Model:
     combinations: list[Combination] = field(default_factory=list)
     settings: dict = field(default_factory=dict)
     source: str = ""
+    warnings: list[str] = field(default_factory=list)   # located notes from reading the deck
 
     @property
     def n_nodes(self) -> int:

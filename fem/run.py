@@ -200,7 +200,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                   "bounding_box_m": [lo.tolist(), hi.tolist()],
                   "assembled_mass_kg": model.settings["_assembled_mass"].tolist(),
                   "stiffness_condition_estimate": model.settings.get("_condition"),
-                  "mass_check_pass": _mass_ok(model)},
+                  "mass_check_pass": _mass_ok(model), "warnings": list(model.warnings)},
         "cases": [{"name": r.name, "kind": "static",
                    "max_translation_m": float(np.abs(r.u[:, :3]).max()),
                    "reaction_sum_N": r.reactions[:, :3].sum(0).tolist(),
@@ -344,6 +344,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         raise
     print(f"{model.title or deck}: {model.n_nodes} nodes, {model.n_members} members, "
           f"total mass {model.total_mass():.6g} kg")
+    for w in model.warnings:
+        print(f"  {w}")
     held = model.settings["_held"]
     if held:
         shown = ", ".join(f"{n} {d}" for n, d in held[:10]) + (" ..." if len(held) > 10 else "")

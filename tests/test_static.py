@@ -114,15 +114,21 @@ case X static { force C = (0, 0, -1 kN) }
     assert any(n == "A" and d.startswith("r") for n, d in info.value.free)
 
 
-def test_up_vector_parallel_to_member_is_a_model_error():
-    from fem.errors import ModelError
-    m = read_text(PIPE + """
+def test_up_vector_parallel_to_member_is_refused():
+    from fem.errors import DeckError, ModelError
+    body = """
 node A = (0, 0, 0)
 node B = (0, 0, 3 m)
 member COLX : A -> B beam P S up = (0, 0, 1)
 support A fixed
 case X static { force B = (1 kN, 0, 0) }
-""")
+"""
+    with pytest.raises(DeckError, match="COLX: the up vector .0, 0, 1. is parallel") as info:
+        read_text(PIPE + body)
+    assert info.value.location.line == PIPE.count("\n") + 4
+    # the assembly keeps its own check for models built without the reader
+    m = read_text(PIPE + body.replace("up = (0, 0, 1)", "up = (1, 0, 0)"))
+    m.up[0] = [0.0, 0.0, -2.0]
     with pytest.raises(ModelError, match="COLX.*parallel"):
         assemble(m)
 

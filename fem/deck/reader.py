@@ -26,6 +26,14 @@ from .units import Quantity
 __all__ = ["read_deck", "read_text"]
 
 WILD = None  # dimension of a bare literal 0, which fits any dimension
+# Nodes (and member ends) closer than this fraction of the model's size (bounding-box diagonal)
+# are one place: 0.03 mm on a 30 m mast, far below any dimension that can be built or typed on
+# purpose, and far above the round-off of computed coordinates (1e-16). A member that short
+# would also be ~1e18 times stiffer in bending than its neighbours.
+COINCIDENT = 1e-6
+# A million kilometres: beyond any structure, and it keeps products of coordinates (lengths
+# cubed in the stiffness) well inside the floating-point range.
+MAX_COORDINATE = 1e9
 _FUNCS = {"sqrt": math.sqrt, "sin": math.sin, "cos": math.cos, "tan": math.tan,
           "atan": math.atan, "abs": abs, "exp": math.exp, "log": math.log}
 _ASSUMABLE = {"length": U.LENGTH, "force": U.FORCE, "mass": U.MASS, "time": U.TIME,
@@ -70,6 +78,10 @@ class _Reader:
         self.cases: list = []
         self.combos: list = []
         self.settings: dict = {}
+        self.defined: dict[tuple[str, str], tuple[str, Location]] = {}   # (space, name) -> (kind, where)
+        self.let_sites: dict[str, tuple] = {}     # parameter -> (file, line, column) of its let
+        self.loop_vars: list[str] = []
+        self.warnings: list[str] = []
         self.stack: list[Path] = []
         self.lines: dict[Path, list[str]] = {}
         self.token_file: dict[int, Path] = {}
@@ -239,6 +251,23 @@ class _Reader:
         return (fm or 1.0) ** need[0] * (fl or 1.0) ** need[1] * ft ** need[2]
 
     # ---------- names
+    def define(self, space: str, kind: str, name: str, where: Location) -> None:
+        """Record where `name` is defined in its name space; a second definition is an error
+        naming the first (cases and combinations share one space: both are result names)."""
+        first = self.defined.get((space, name))
+        if first is not None:
+            fkind, fwhere = first
+            what = "is defined twice" if fkind == kind else f"has the same name as {fkind} {name}"
+            raise DeckError(f"{kind} {name} {what} (first at {fwhere})", where,
+                            f"give one of them another name")
+        self.defined[(space, name)] = (kind, where)
+
+    def once(self, seen: set, key: str, where: Location, what: str) -> None:
+        """A key given twice in one statement is an error rather than the last one winning."""
+        if key in seen:
+            raise DeckError(f"{what}: '{key}' is given twice", where, "keep one of them")
+        seen.add(key)
+
     def name(self, t) -> str:
         if isinstance(t, Token):
             return str(t)
@@ -284,7 +313,23 @@ class _Reader:
         self.title = str(s.children[0])[1:-1]
 
     def st_let(self, s):
-        self.vars[str(s.children[0])] = self.evaluate(s.children[1])
+        name, where = str(s.children[0]), self.loc(s)
+        site = (str(self.stack[-1]), where.line, where.column)
+        if name in self.loop_vars:
+            raise DeckError(f"'{name}' is the variable of an enclosing loop; a let cannot change it", where,
+                            "give the parameter another name")
+        if name in ("pi", "g0"):
+            raise DeckError(f"'{name}' is a built-in constant and cannot be redefined", where)
+        # a let inside a loop is re-evaluated on every pass; a second let elsewhere would change
+        # the parameter for the statements after it only, silently, so it is refused
+        first = self.let_sites.get(name)
+        if first is not None and first != site:
+            raise DeckError(f"parameter '{name}' is defined twice (first at {self.defined[('let', name)][1]})",
+                            where, "give the new value another name")
+        if first is None:
+            self.defined[("let", name)] = ("parameter", where)
+        self.let_sites[name] = site
+        self.vars[name] = self.evaluate(s.children[1])
 
     def st_assume(self, s):
         what, unit = str(s.children[0]), str(s.children[1])
@@ -304,16 +349,21 @@ class _Reader:
             if opt is None:
                 continue
             key, val = str(opt.children[0]), opt.children[1]
+            if key in self.settings:
+                raise DeckError(f"settings: '{key}' is given twice (first at {self.settings[key][1]})",
+                                self.loc(opt), "keep one of them")
             word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
             self.settings[key] = (word if word is not None else val, self.loc(opt))
 
     def st_material(self, s):
         name = self.name(s.children[0])
-        props = {}
+        self.define("material", "material", name, self.loc(s))
+        props, seen = {}, set()
         for opt in s.children[1:]:
             if opt is None:
                 continue
             key = str(opt.children[0])
+            self.once(seen, key, self.loc(opt), f"material {name}")
             dims = {"E": U.PRESSURE, "G": U.PRESSURE, "nu": U.NONE, "density": U.DENSITY}
             if key not in dims:
                 raise DeckError(f"material {name}: unknown property '{key}'; {suggest(key, dims)}", self.loc(opt))
@@ -338,12 +388,14 @@ class _Reader:
 
     def st_section(self, s):
         name = self.name(s.children[0])
+        self.define("section", "section", name, self.loc(s))
         shape = str(s.children[1])
-        params = {}
+        params, seen = {}, set()
         for kw in s.children[2:]:
             if kw is None:
                 continue
             key = str(kw.children[0])
+            self.once(seen, key, self.loc(kw), f"section {name}")
             dim = {"A": (0, 2, 0), "Avy": (0, 2, 0), "Avz": (0, 2, 0), "Iy": (0, 4, 0),
                    "Iz": (0, 4, 0), "J": (0, 4, 0)}.get(key, U.LENGTH)
             params[key] = self.value(kw.children[1], dim, f"section {name}: {key}")
@@ -361,21 +413,35 @@ class _Reader:
 
     def st_node(self, s):
         name = self.name(s.children[0])
-        if name in self.nodes:
-            raise DeckError(f"node {name} is defined twice (first at {self.nodes[name][1]})", self.loc(s))
-        self.nodes[name] = (self.vector(s.children[1], U.LENGTH, f"node {name}"), self.loc(s))
+        self.define("node", "node", name, self.loc(s))
+        self.not_a_group(name, "node", self.loc(s))
+        xyz = self.vector(s.children[1], U.LENGTH, f"node {name}")
+        if np.abs(xyz).max() > MAX_COORDINATE:
+            raise DeckError(f"node {name}: a coordinate of {np.abs(xyz).max():.3g} m is beyond any structure "
+                            f"(the limit is {MAX_COORDINATE:g} m)", self.loc(s), "check the units of the coordinates")
+        self.nodes[name] = (xyz, self.loc(s))
+
+    def not_a_group(self, name: str, kind: str, where: Location) -> None:
+        """A group and a node or member of one name would make every reference ambiguous."""
+        for space in ("group", "node", "member"):
+            first = self.defined.get((space, name))
+            if first is not None and first[0] != kind:
+                raise DeckError(f"{kind} {name} has the same name as {first[0]} {name} (at {first[1]}); "
+                                "a name in a support, load or group could then mean either", where,
+                                "give one of them another name")
 
     def st_member(self, s):
         ch = s.children
         name = self.name(ch[0])
-        if name in self.members:
-            raise DeckError(f"member {name} is defined twice", self.loc(s))
+        self.define("member", "member", name, self.loc(s))
+        self.not_a_group(name, "member", self.loc(s))
         kind = str(ch[3])
         if kind not in ("beam", "truss"):
             raise DeckError(f"member {name}: kind must be 'beam' or 'truss', not '{kind}'", self.loc(ch[3]))
         m = dict(name=name, i=(self.name(ch[1]), ch[1]), j=(self.name(ch[2]), ch[2]), kind=kind,
                  section=(self.name(ch[4]), ch[4]), material=(self.name(ch[5]), ch[5]),
                  roll=0.0, up=None, nsm=0.0, releases=np.zeros(12, bool), loc=self.loc(s))
+        seen = set()
         for opt in ch[6:]:
             if opt.data == "release":
                 end = str(opt.children[0])
@@ -387,14 +453,21 @@ class _Reader:
                     m["releases"][DIRECTIONS.index(str(d)) + (6 if end == "j" else 0)] = True
                 continue
             key, val = str(opt.children[0]), opt.children[1]
+            self.once(seen, key, self.loc(opt), f"member {name}")
             if key == "roll":
                 m["roll"] = self.value(val, U.NONE, f"member {name}: roll")
             elif key == "up":
                 m["up"] = self.vector(val, U.NONE, f"member {name}: up")
             elif key == "nsm":
                 m["nsm"] = self.value(val, (1, -1, 0), f"member {name}: nsm")
+                if m["nsm"] < 0:
+                    raise DeckError(f"member {name}: nsm (mass per length) cannot be negative", self.loc(opt))
             else:
                 raise DeckError(f"member {name}: unknown option '{key}'; {suggest(key, ['roll', 'up', 'nsm'])}", self.loc(opt))
+        motion = _released_motion(m["releases"]) if kind == "beam" else None
+        if motion:
+            raise DeckError(f"member {name}: its end releases let it {motion} with nothing to resist it", self.loc(s),
+                            "release a direction at one end only (a hinge keeps the other end's rotations)")
         self.members[name] = m
 
     def st_support(self, s):
@@ -419,24 +492,32 @@ class _Reader:
             d = str(kw.children[0])
             if d not in DIRECTIONS:
                 raise DeckError(f"unknown direction '{d}'; {suggest(d, DIRECTIONS)}", self.loc(kw))
+            if d in vals:
+                raise DeckError(f"spring: '{d}' is given twice", self.loc(kw), "keep one of them")
             dim = (1, 0, -2) if d.startswith("u") else U.MOMENT
             vals[d] = self.value(kw.children[1], dim, f"spring {d}")
+            if vals[d] < 0:
+                raise DeckError(f"spring {d}: a stiffness cannot be negative", self.loc(kw))
         self.springs.append((target, vals))
 
     def st_mass(self, s):
         target, value, *opts = s.children
         m = self.value(value, U.MASS, "mass")
         inertia = np.zeros(3)
+        seen = set()
         for opt in opts:
+            self.once(seen, str(opt.children[0]), self.loc(opt), "mass")
             if str(opt.children[0]) != "inertia":
                 raise DeckError(f"mass: unknown option '{opt.children[0]}'; use inertia = (Ixx, Iyy, Izz)", self.loc(opt))
             inertia = self.vector(opt.children[1], (1, 2, 0), "mass inertia")
         if m < 0 or (inertia < 0).any():
             raise DeckError("a mass or inertia cannot be negative", self.loc(s))
-        self.masses.append((target, np.r_[m, m, m, inertia]))
+        self.masses.append((target, np.r_[m, m, m, inertia], self.loc(s)))
 
     def st_group(self, s):
         name = self.name(s.children[0])
+        self.define("group", "group", name, self.loc(s))
+        self.not_a_group(name, "group", self.loc(s))
         members = []
         for t in s.children[1:]:
             table = {**{k: 1 for k in self.nodes}, **{k: 1 for k in self.members}}
@@ -445,9 +526,11 @@ class _Reader:
 
     def st_case(self, s):
         name, kind, *items = s.children
+        self.define("result", "case", self.name(name), self.loc(s))
         self.cases.append((self.name(name), str(kind), [i for i in items if i is not None], self.loc(s)))
 
     def st_combo(self, s):
+        self.define("result", "combination", self.name(s.children[0]), self.loc(s))
         self.combos.append((self.name(s.children[0]), s.children[1], self.loc(s)))
 
     def st_loop(self, s):
@@ -459,12 +542,19 @@ class _Reader:
         if b.value - a.value > 1_000_000:
             raise DeckError("loop runs more than a million times", self.loc(s))
         saved = self.vars.get(str(var))
-        for k in range(int(a.value), int(b.value) + 1):
-            self.vars[str(var)] = Quantity(float(k), WILD if k == 0 else U.NONE)
-            for st in body:
-                self.statement(st)
+        self.loop_vars.append(str(var))
+        try:
+            for k in range(int(a.value), int(b.value) + 1):
+                self.vars[str(var)] = Quantity(float(k), WILD if k == 0 else U.NONE)
+                for st in body:
+                    self.statement(st)
+        finally:
+            self.loop_vars.pop()
+        # the loop variable lives inside the loop only: after it, the name means what it meant before
         if saved is not None:
             self.vars[str(var)] = saved
+        else:
+            self.vars.pop(str(var), None)
 
     # ---------- building the model
     def build(self) -> Model:
@@ -478,6 +568,8 @@ class _Reader:
         up = np.full((e, 3), np.nan)
         releases = np.zeros((e, 12), bool)
         truss = np.zeros(e, bool)
+        lo, hi = (coords.min(axis=0), coords.max(axis=0)) if len(coords) else (np.zeros(3), np.zeros(3))
+        tol = COINCIDENT * float(np.linalg.norm(hi - lo))
         for k, m in enumerate(mems):
             for end, col in (("i", 0), ("j", 1)):
                 nm, _ = m[end]
@@ -495,12 +587,16 @@ class _Reader:
                              ("Iz", sp.Iz), ("J", sp.J), ("Avy", sp.Avy), ("Avz", sp.Avz),
                              ("roll", m["roll"]), ("nsm", m["nsm"])):
                 cols[key][k] = val
-            if m["up"] is not None:
-                up[k] = m["up"]
             releases[k] = m["releases"]
             truss[k] = m["kind"] == "truss"
-            if conn[k, 0] == conn[k, 1] or np.linalg.norm(coords[conn[k, 1]] - coords[conn[k, 0]]) < 1e-9:
-                raise DeckError(f"member {m['name']} has zero length (its ends coincide)", m["loc"])
+            axis = coords[conn[k, 1]] - coords[conn[k, 0]]
+            length = float(np.linalg.norm(axis))
+            if conn[k, 0] == conn[k, 1] or length <= tol:
+                raise DeckError(f"member {m['name']} has zero length (its ends coincide within {tol:.3g} m, "
+                                f"{COINCIDENT:g} of the model size)", m["loc"])
+            if m["up"] is not None:
+                up[k] = _up_vector(m["up"], axis / length, m)
+        self.parallel_members(mems, conn)
         n = len(node_names)
         restraint = np.zeros((n, 6), bool)
         for target, dirs in self.supports:
@@ -512,14 +608,30 @@ class _Reader:
                 for d, v in vals.items():
                     springs[nidx[nm], DIRECTIONS.index(d)] += v
         pmass = np.zeros((n, 6))
-        for target, vec in self.masses:
+        on_member = np.zeros(n, bool)
+        on_member[conn.ravel()] = True
+        for target, vec, where in self.masses:
             for nm in self.targets(target, nidx, "node"):
-                pmass[nidx[nm]] += vec
+                k = nidx[nm]
+                pmass[k] += vec
+                loose = (vec[:3] > 0) & ~restraint[k, :3] & ~(springs[k, :3] > 0)
+                if not on_member[k] and loose.any():
+                    raise DeckError(f"mass on node {nm}, which no member or spring holds: the mass would not "
+                                    "move with the structure and would be left out of its modes", where,
+                                    "connect the node with a member, or put the mass on a node of the structure")
         midx = {m["name"]: k for k, m in enumerate(mems)}
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
+        used = on_member | restraint.any(axis=1) | (springs > 0).any(axis=1) | (pmass > 0).any(axis=1)
+        for c in cases:
+            for item in c.loads:
+                if item.kind in ("force", "moment", "displacement", "velocity"):
+                    used[item.targets] = True
+        self.coincident_nodes(node_names, coords, tol, used)
         names = {c.name for c in cases if c.kind == "static"}
         combos = [Combination(nm, _combo_factors(self, tree, names), where) for nm, tree, where in self.combos]
         modal = [c.name for c in cases if c.kind == "modes"]
+        if modal:
+            self.massless_materials(mems, cols["nsm"], modal)
         for c in cases:
             if c.kind not in ("free", "history", "harmonic", "spectrum"):
                 continue
@@ -553,14 +665,62 @@ class _Reader:
                      point_mass=pmass, materials=self.materials, sections=self.sections,
                      member_section=[m["section"][0] for m in mems],
                      member_material=[m["material"][0] for m in mems],
-                     cases=cases, combinations=combos, settings=settings, **cols)
+                     cases=cases, combinations=combos, settings=settings, warnings=self.warnings, **cols)
+
+    def coincident_nodes(self, names, coords, tol, used) -> None:
+        """Distinct nodes at one place are not connected: an error when both carry something
+        (members, supports, springs, masses, loads), a warning when one of them is bare."""
+        from scipy.spatial import cKDTree
+
+        if len(coords) < 2:
+            return
+        pairs = cKDTree(coords).query_pairs(tol, output_type="ndarray")
+        for a, b in sorted(pairs.tolist(), key=lambda p: (max(p), min(p))):
+            a, b = min(a, b), max(a, b)           # b is the one defined later
+            first, where = self.nodes[names[a]][1], self.nodes[names[b]][1]
+            text = (f"node {names[b]} is at the same place as node {names[a]} (at {first}), within {tol:.3g} m "
+                    f"({COINCIDENT:g} of the model size); distinct nodes are not connected")
+            if used[a] and used[b]:
+                raise DeckError(text + ", so the members, supports or loads on them act on separate parts",
+                                where, f"use one name for both (refer to {names[a]} everywhere)")
+            bare = names[b] if not used[b] else names[a]
+            self.warnings.append(f"{where}: warning: {text}; {bare} carries nothing (remove it, or use one name)")
+
+    def parallel_members(self, mems, conn) -> None:
+        """Warn about two members joining the same two nodes: both act, which a copied line
+        does silently (built-up members may be meant, so it is not refused)."""
+        if len(conn) < 2:
+            return
+        ends = np.sort(conn, axis=1)
+        order = np.lexsort((ends[:, 1], ends[:, 0]))
+        same = np.flatnonzero((np.diff(ends[order], axis=0) == 0).all(axis=1))
+        for k in same[:20]:
+            a, b = mems[order[k]], mems[order[k + 1]]
+            if b["loc"].line < a["loc"].line and b["loc"].file == a["loc"].file:
+                a, b = b, a
+            self.warnings.append(f"{b['loc']}: warning: member {b['name']} joins the same two nodes as member "
+                                 f"{a['name']} (at {a['loc']}); both act, with their stiffness and mass added")
+
+    def massless_materials(self, mems, nsm, modal) -> None:
+        """Warn about materials of zero density whose members carry no mass in the modes."""
+        for name, mat in self.materials.items():
+            if mat.density != 0:
+                continue
+            count = sum(1 for k, m in enumerate(mems) if m["material"][0] == name and nsm[k] == 0)
+            if count:
+                where = self.defined[("material", name)][1]
+                self.warnings.append(
+                    f"{where}: warning: material {name} has zero density, so {count} member(s) of it carry no "
+                    f"mass in modes case {', '.join(modal)}; give its density if their mass matters")
 
     def build_case(self, c, nidx, midx) -> LoadCase:
         name, kind, items, where = c
         case = LoadCase(name, kind, location=where)
+        seen = set()
         for it in items:
             if it.data == "option":
                 key, val = str(it.children[0]), it.children[1]
+                self.once(seen, key, self.loc(it), f"case {name}")
                 if key == "gravity":
                     case.gravity = self.vector(val, U.ACCEL, f"case {name}: gravity")
                 else:
@@ -896,6 +1056,37 @@ class _Reader:
         case.options = out
 
 
+def _released_motion(released: np.ndarray) -> str | None:
+    """A rigid motion of a member that its end releases (12,) leave free, in words, or None.
+
+    The member's rigid motions (translation a, rotation t; end j moves by a + t x L e_x) must
+    each move some end DOF that is kept, else the released block of its stiffness is singular."""
+    G = np.zeros((12, 6))
+    G[0:3, 0:3] = G[6:9, 0:3] = G[3:6, 3:6] = G[9:12, 3:6] = np.eye(3)
+    G[7, 5], G[8, 4] = 1.0, -1.0          # t_z moves end j along local y, t_y against local z
+    kept = G[~released]
+    if len(kept) >= 6 and np.linalg.matrix_rank(kept) == 6:
+        return None
+    v = np.linalg.svd(np.vstack([kept, np.zeros((6, 6))]))[2][-1]
+    words = ["slide along its axis", "move along its local y", "move along its local z",
+             "twist about its axis", "turn about its local y", "turn about its local z"]
+    return words[int(np.argmax(np.abs(v)))]
+
+
+def _up_vector(up: np.ndarray, x: np.ndarray, m: dict) -> np.ndarray:
+    """The member's `up` vector as a unit vector, refused if zero or along the member axis x."""
+    big = float(np.abs(up).max())
+    if big == 0:
+        raise DeckError(f"member {m['name']}: the up vector is zero", m["loc"], "give a vector across the member")
+    u = up / big
+    u = u / np.linalg.norm(u)
+    if abs(float(u @ x)) > 1 - 1e-9:
+        raise DeckError(f"member {m['name']}: the up vector ({', '.join(f'{v:g}' for v in up)}) is parallel to "
+                        "the member axis, so it cannot set the local axes", m["loc"],
+                        "give a vector across the member (e.g. up = (1, 0, 0) for a vertical member), or leave it out")
+    return u
+
+
 def _binary(a: Quantity, b: Quantity, op: str) -> Quantity:
     if op in ("__add__", "__sub__"):
         if a.dim is WILD:
@@ -932,6 +1123,13 @@ def _combo_factors(r: _Reader, t, cases: set[str]) -> dict[str, float]:
     if isinstance(t, Tree) and t.data == "var":
         n = str(t.children[0])
         if n not in cases:
+            other = r.defined.get(("result", n))
+            if other is not None:
+                kind = next((k for nm, k, *_ in r.cases if nm == n), None)
+                what = f"a {kind} case" if other[0] == "case" else "a combination"
+                raise DeckError(f"combination refers to '{n}', which is {what} (at {other[1]}); a combination "
+                                "adds static cases only", r.loc(t),
+                                "write out the static cases it is made of" if other[0] != "case" else "")
             raise DeckError(f"combination refers to case '{n}', which is not defined; {suggest(n, cases)}", r.loc(t))
         return {n: 1.0}
     if isinstance(t, Tree) and t.data in ("add", "sub"):
