@@ -86,7 +86,8 @@ def _subset(model: Model, sel) -> Model:
     return replace(model, member_names=names, **{f: getattr(model, f)[sel] for f in _MEMBER_FIELDS})
 
 
-CHUNK = 4096   # members per batch: keeps the (chunk, 12, 12) temporaries in cache
+CHUNK = 4096
+HUGE = 1e150   # largest stiffness or mass entry that can be computed with   # members per batch: keeps the (chunk, 12, 12) temporaries in cache
 
 
 @dataclass
@@ -151,7 +152,8 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
     XM[4 * e:, d6] = model.point_mass
     K = pattern.matrix_from_blocks(XK)
     M = pattern.matrix_from_blocks(XM)
-    if not (np.isfinite(K.data).all() and np.isfinite(M.data).all()):
+    # beyond 1e150 the squares taken by norms and residual checks overflow double precision
+    if not all(np.isfinite(X.data).all() and np.abs(X.data).max(initial=0.0) <= HUGE for X in (K, M)):
         raise ModelError("the stiffness or mass matrix overflows (a property or coordinate is far too "
                          "large or too small); check the magnitudes and units in the deck")
     restrained = model.restraint.ravel()

@@ -23,7 +23,7 @@ from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
 from .analysis.static import StaticResult, condition_estimate, factorise, held_dofs, solve_static
 from .assembly import assemble
 from .deck.reader import read_deck
-from .errors import ResultsError
+from .errors import ModelError, ResultsError
 from .model import DIRECTIONS, Model
 
 __all__ = ["run_deck", "solve_all"]
@@ -34,6 +34,7 @@ EQUILIBRIUM_TOL = 1e-8   # relative; a direct solve reaches ~1e-12, far looser m
 
 
 COND_WARN = 1e11         # above this fewer than ~5 significant digits are safe in double precision
+COND_REFUSE = 1e16       # beyond 1/eps (4.5e15) no digit of a solution is safe: refuse rather than print noise
 RESIDUAL_TOL = 1e-8      # backward error of an eigenpair; a double-precision solve gives ~1e-14
 ORTHO_TOL = 1e-8
 
@@ -62,7 +63,11 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     results = []
     if statics or model.combinations:
         lu = factorise(model, asm)
-        model.settings["_condition"] = condition_estimate(asm.K[asm.free][:, asm.free].tocsc(), lu)
+        model.settings["_condition"] = cond = condition_estimate(asm.K[asm.free][:, asm.free].tocsc(), lu)
+        if cond > COND_REFUSE:
+            raise ModelError(f"the stiffness is too badly conditioned to solve in double precision (condition "
+                             f"estimate {cond:.1e}, above {COND_REFUSE:.0e}): no digit of the results would be safe; "
+                             "check stiffness contrasts (springs, E, sections) and units")
         results = [solve_static(model, asm, c, lu) for c in statics]
     by_name = {r.name: r for r in results}
     for combo in model.combinations:
@@ -235,8 +240,28 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "max_displacement_m": float(r.u[:, :3].max()),
                    "checks": modal_checks(r)} for r in spectra],
     }
-    (out / "results.json").write_text(json.dumps(doc, indent=2))
+    (out / "results.json").write_text(json.dumps(_strict(doc), indent=2, allow_nan=False))
     return doc
+
+
+# keys whose values may be undefined for a sound model, written as null: the period of a
+# rigid-body mode (infinite) and mass fractions in a direction in which no mass moves (0/0)
+_MAY_BE_NULL = ("period_s", "cumulative_mass_fraction")
+
+
+def _strict(x, path: str = "", nullable: bool = False):
+    """A copy of the results document for strict JSON: undefined values (see _MAY_BE_NULL)
+    become null; any other NaN or infinity means the numbers broke down and is refused."""
+    if isinstance(x, dict):
+        return {k: _strict(v, f"{path}.{k}" if path else k, nullable or k in _MAY_BE_NULL) for k, v in x.items()}
+    if isinstance(x, (list, tuple)):
+        return [_strict(v, f"{path}[{i}]", nullable) for i, v in enumerate(x)]
+    if isinstance(x, float) and not np.isfinite(x):
+        if nullable:
+            return None
+        raise ModelError(f"the results hold a non-finite number ({x}) at {path}: the model is outside the range "
+                         "that double precision can compute; check the magnitudes and units in the deck")
+    return x
 
 
 def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6) -> str:

@@ -4,7 +4,9 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["modal_ratios", "rayleigh_coefficients", "rayleigh_ratios"]
+from ..errors import ModelError
+
+__all__ = ["case_ratios", "modal_ratios", "rayleigh_coefficients", "rayleigh_ratios"]
 
 
 def rayleigh_coefficients(f1, zeta1, f2, zeta2):
@@ -39,3 +41,20 @@ def modal_ratios(omega, ratios=None, rayleigh=None):
     out[:n] = z[:n]
     out[n:] = z[-1]
     return out
+
+
+def case_ratios(case, omega, below_one: bool = False) -> np.ndarray:
+    """modal_ratios for a response case's options. Rayleigh damping through two anchors gives
+    negative ratios (energy fed in, growth without bound) below the lower anchor when the upper
+    ratio is much larger: refused. Ratios of 1 or more (overdamped modes, far outside the
+    anchors) are refused too where the method needs `below_one`."""
+    opt = case.options
+    zeta = modal_ratios(omega, opt["damping"], opt.get("rayleigh"))
+    bad = np.flatnonzero((zeta < 0) | ((zeta >= 1) if below_one else False))
+    if bad.size:
+        j = int(bad[0])
+        limit = "outside 0 to 1" if below_one else "below 0"
+        raise ModelError(f"case {case.name}: Rayleigh damping gives mode {j + 1} ({omega[j] / (2 * np.pi):.4g} Hz) "
+                         f"a ratio of {zeta[j]:.3g}, {limit}; choose anchor frequencies that bracket "
+                         "the retained modes")
+    return zeta

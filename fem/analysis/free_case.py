@@ -7,9 +7,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..assembly import Assembled
-from ..errors import ModelError
 from ..model import LoadCase, Model
-from .damping import modal_ratios
+from .damping import case_ratios
 from .free import free_response, modal_initial_conditions
 from .modal_case import ModesCaseResult
 
@@ -80,10 +79,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     f = asm.free
     M = asm.M[f][:, f]
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = modal_ratios(omega, opt["damping"], opt.get("rayleigh"))
-    if np.any(zeta >= 1):
-        raise ModelError(f"case {case.name}: Rayleigh damping gives a ratio of 1 or more for a "
-                         "retained mode; choose other anchor frequencies")
+    zeta = case_ratios(case, omega, below_one=True)
     q0, qd0 = modal_initial_conditions(phi, M, u0[f], v0[f])
     mu = M @ u0[f]
     total = float(u0[f] @ mu)

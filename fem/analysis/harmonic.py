@@ -14,7 +14,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
-from .damping import modal_ratios
+from .damping import case_ratios
 from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
 from .static import load_vector
 
@@ -78,7 +78,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     n6 = 6 * model.n_nodes
     f = asm.free
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = modal_ratios(omega, opt["damping"], opt.get("rayleigh"))
+    zeta = case_ratios(case, omega)
     F = effective_load(model, asm, case, opt.get("ground"))
     if np.any((zeta == 0) & (omega > 0)):
         nat = omega / (2 * np.pi)

@@ -9,9 +9,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..assembly import Assembled
-from ..errors import ModelError
 from ..model import LoadCase, Model
-from .damping import modal_ratios
+from .damping import case_ratios
 from .free_case import animation_frames, peaks
 from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
 from .static import load_vector
@@ -54,10 +53,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     ground = opt.get("ground")
     F_eff = effective_load(model, asm, case, ground)
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = modal_ratios(omega, opt["damping"], opt.get("rayleigh"))
-    if np.any(zeta >= 1):
-        raise ModelError(f"case {case.name}: Rayleigh damping gives a ratio of 1 or more for a "
-                         "retained mode; choose other anchor frequencies")
+    zeta = case_ratios(case, omega, below_one=True)
     pk = phi.T @ F_eff[f]                                    # (k,) modal load amplitudes
     P = g[:, None] * pk[None, :]
     q, v = integrate_modal(omega, zeta, dt, P)

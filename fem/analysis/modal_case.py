@@ -49,12 +49,21 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
     point = case.options.get("reference", np.zeros(3))
     f = asm.free
     K, M = asm.K[f][:, f], asm.M[f][:, f]
+    if len(f) == 0:
+        raise ModelError(f"case {case.name}: every DOF is restrained (or has no stiffness), so nothing can "
+                         "vibrate; check the supports")
     if M.nnz == 0 or M.diagonal().max() <= 0:
         raise ModelError(f"case {case.name}: the model has no mass; give materials a density or add masses")
     R = influence_vectors(model, point)[f]
     target = case.options.get("target")
     if target is None:
         modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=count, f_max=fmax)
+        if len(modes.omega) == 0:
+            # the answer to 'which modes lie below fmax' is none: say so with the lowest one
+            low = solve_modes(K.tocsr(), M.tocsr(), n_modes=1, sturm=False).freq
+            lowest = f"the lowest is {low[0]:.4g} Hz" if len(low) else "the model has no finite mode"
+            raise ModelError(f"case {case.name}: no mode lies at or below fmax = {fmax:.4g} Hz ({lowest}); "
+                             "raise fmax or ask for a count")
         part = participation(modes.phi, M, R)
         met = None
     else:

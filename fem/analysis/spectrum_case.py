@@ -12,7 +12,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
-from .damping import modal_ratios
+from .damping import case_ratios
 from .modal_case import ModesCaseResult, field_responses
 from .spectrum import combine, combine_directions, cqc_correlation
 
@@ -56,7 +56,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     if np.any(omega <= 0):
         raise ModelError(f"case {case.name}: rigid-body modes have no spectral response; "
                          "support the structure")
-    zeta = modal_ratios(omega, opt["damping"], opt.get("rayleigh"))
+    zeta = case_ratios(case, omega)
     T = 2 * np.pi / omega
     outside = []
     if sp.shape == "table":

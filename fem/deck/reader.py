@@ -259,7 +259,7 @@ class _Reader:
             fkind, fwhere = first
             what = "is defined twice" if fkind == kind else f"has the same name as {fkind} {name}"
             raise DeckError(f"{kind} {name} {what} (first at {fwhere})", where,
-                            f"give one of them another name")
+                            "give one of them another name")
         self.defined[(space, name)] = (kind, where)
 
     def once(self, seen: set, key: str, where: Location, what: str) -> None:
@@ -976,6 +976,8 @@ class _Reader:
             z1, z2 = self.value(c[1], U.NONE, what), self.value(c[3], U.NONE, what)
             if not (f1 > 0 and f2 > 0 and f1 != f2):
                 raise DeckError(f"{what}: two different positive frequencies are needed", where)
+            if not (0 <= z1 < 1 and 0 <= z2 < 1):
+                raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
             out["rayleigh"] = (f1, z1, f2, z2)
         elif key == "record":
             if not (isinstance(val, Token) and val.type == "STRING"):

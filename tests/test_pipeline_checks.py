@@ -1,0 +1,117 @@
+"""Models that read well but cannot be analysed as asked: each run ends in a QuaverError that
+says why (and leaves no results), or finishes with strict, finite results. Found by the
+pipeline fuzz (tools/fuzz_pipeline.py); one regression test per root cause."""
+
+import json
+
+import numpy as np
+import pytest
+
+from fem.assembly import assemble
+from fem.deck.reader import read_text
+from fem.errors import DeckError, ModelError, QuaverError
+from fem.run import _strict, run_deck, solve_all
+
+FRAME = """material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+node A = (0, 0, 0)
+node B = (0, 0, 3 m)
+node C = (4 m, 0, 3 m)
+node D = (4 m, 0, 0)
+member C1 : A -> B beam P S
+member BM : B -> C beam P S
+member C2 : D -> C beam P S
+support A fixed
+support D fixed
+mass B = 200 kg
+"""
+
+
+def _refused(tmp_path, text, pattern, kind=ModelError):
+    deck = tmp_path / "d.deck"
+    deck.write_text(text)
+    with pytest.raises(kind, match=pattern):
+        run_deck(str(deck), str(tmp_path / "out"), render=False)
+    assert not (tmp_path / "out").exists()
+    assert not any(p.name.startswith(".quaver-") for p in tmp_path.iterdir())
+
+
+def test_fmax_below_the_first_mode_says_where_the_first_mode_is(tmp_path):
+    m = read_text(FRAME + "case M modes { count = 1 }\n")
+    f1 = solve_all(m)[1][0].modes.freq[0]
+    _refused(tmp_path, FRAME + "case M modes { fmax = 0.001 Hz }\n"
+             "case H harmonic { force C = (1 kN, 0, 0), from = 1 Hz, to = 10 Hz, damping = 2 percent }\n",
+             rf"no mode lies at or below fmax = 0.001 Hz \(the lowest is {f1:.4g} Hz\)")
+
+
+def test_every_dof_restrained_is_not_called_massless(tmp_path):
+    _refused(tmp_path, FRAME + "support * fixed\ncase M modes { count = 2 }\n", "every DOF is restrained")
+
+
+@pytest.mark.parametrize("case", [
+    "case F free { velocity C = (0.1 m/s, 0, 0), duration = 1 s, step = 0.01 s, rayleigh = %s }",
+    "case H history { force C = (1 kN, 0, 0), time = step, duration = 1 s, step = 0.01 s, rayleigh = %s }",
+    "case W harmonic { force C = (1 kN, 0, 0), from = 1 Hz, to = 50 Hz, rayleigh = %s }",
+    "case E spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), rayleigh = %s }",
+], ids=["free", "history", "harmonic", "spectrum"])
+def test_rayleigh_ratio_outside_zero_to_one_is_refused(tmp_path, case):
+    # anchors 0 % at 200 Hz and 20 % at 300 Hz: C = a0 M + a1 K with a0 < 0, so every mode far
+    # below 200 Hz gets zeta = a0/(2w) + a1 w/2 < 0 (Chopra 2017 Eq. 11.4.7)
+    anchors = "(200 Hz, 0, 300 Hz, 20 percent)"
+    _refused(tmp_path, FRAME + "case M modes { count = 3 }\n" + case % anchors + "\n",
+             r"Rayleigh damping gives mode 1 \(.* Hz\) a ratio of -")
+
+
+def test_negative_rayleigh_anchor_is_a_deck_error():
+    with pytest.raises(DeckError, match="ratios lie from 0 to below 1"):
+        read_text(FRAME + "case M modes { count = 3 }\ncase W harmonic { force C = (1 kN, 0, 0), from = 1 Hz, "
+                  "to = 50 Hz, rayleigh = (1 Hz, -5 percent, 10 Hz, 2 percent) }\n")
+
+
+def test_stiffness_beyond_computing_range_is_a_model_error():
+    # E = 1e300 Pa gives stiffness entries near 1e295: finite, but their squares in any norm overflow
+    m = read_text(FRAME.replace("E = 200 GPa", "E = 1e300 Pa"))
+    with pytest.raises(ModelError, match="overflows"):
+        assemble(m)
+
+
+def test_hopeless_conditioning_is_refused(tmp_path):
+    # a 1e30 N/m spring beside members of ~1e7 N/m: condition ~1e23, no digit of a solution is safe
+    _refused(tmp_path, FRAME + "spring C (uz = 1e30 N/m)\ncase L static { force C = (1 kN, 0, 0) }\n",
+             r"too badly conditioned .*condition estimate .*e\+2")
+
+
+def test_release_that_frees_a_member_is_a_model_error_without_the_reader():
+    m = read_text(FRAME)
+    m.releases[1, [3, 9]] = True          # twist released at both ends of BM
+    with pytest.raises(ModelError, match="rigid body"):
+        assemble(m)
+
+
+def test_free_structure_results_are_strict_json(tmp_path):
+    # free in its plane, every Z motion restrained: the in-plane rigid-body modes have infinite
+    # periods (null) and no mass moves in Z (fractions null); everything else is finite
+    text = FRAME.replace("support A fixed\nsupport D fixed\n", "support * (uz)\n") + "case M modes { count = 8 }\n"
+    deck = tmp_path / "d.deck"
+    deck.write_text(text)
+    run_deck(str(deck), str(tmp_path / "out"), render=False)
+    raw = (tmp_path / "out" / "results.json").read_text()
+    doc = json.loads(raw, parse_constant=lambda c: pytest.fail(f"non-finite {c} in results.json"))
+    modes = doc["cases"][0]
+    assert modes["period_s"][0] is None and modes["frequency_Hz"][0] == 0.0
+    assert all(p is None or p > 0 for p in modes["period_s"])
+    assert modes["checks"]["cumulative_mass_fraction"]["Z"] is None
+
+
+def test_a_broken_number_is_refused_not_written():
+    assert _strict({"period_s": [float("inf"), 1.0]}) == {"period_s": [None, 1.0]}
+    with pytest.raises(ModelError, match=r"non-finite number \(nan\) at cases\[0\].peak_amplitude_m"):
+        _strict({"cases": [{"peak_amplitude_m": float("nan")}]})
+    assert issubclass(ModelError, QuaverError)
+
+
+def test_no_mode_checks_never_see_an_empty_mode_set():
+    # count larger than the model's finite modes: all of them, and the checks stay finite
+    m = read_text(FRAME + "case M modes { count = 500 }\n")
+    r = solve_all(m)[1][0]
+    assert 0 < len(r.modes.omega) <= 18 and np.isfinite(r.modes.residual).all()
