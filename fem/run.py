@@ -105,7 +105,7 @@ def modal_checks(r) -> dict:
     if isinstance(r, HistoryResult):
         return {"static_correction": r.corrected, "warnings": list(r.warnings)}
     if isinstance(r, FreeCaseResult):
-        return {"initial_displacement_captured": r.captured}
+        return {"initial_displacement_captured": r.captured, "warnings": list(r.warnings)}
     m = r.modes
     k = len(m.omega)
     return {"max_residual": float(m.residual.max()), "residual_pass": bool(m.residual.max() < RESIDUAL_TOL),
@@ -420,6 +420,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             print(f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "
                   f"{np.abs(r.peak[:, :3]).max():.4g} m; modes capture "
                   f"{100 * r.captured:.2f}% of the initial displacement (M-norm)")
+            for w in r.warnings:
+                print(f"               warning: {w}")
             continue
         fr = ", ".join(f"{f:.4g}" for f in r.modes.freq[:6])
         print(f"  {r.name:<12} {len(r.modes.freq)} modes ({r.modes.solver}); first Hz: {fr}")

@@ -92,6 +92,13 @@ MISTAKES = [
     ("negative non-structural mass", "member N : B -> A beam P S nsm = -1 kg/m", 1, "nsm .mass per length. cannot be negative"),
     ("negative spring", "spring B (uz = -1e6 N/m)", 1, "a stiffness cannot be negative"),
     ("negative mass", "mass B = -1 t", 1, "cannot be negative"),
+    # results too large to hold or write
+    ("history table too long", "for i in 1..9 { node N[i] = (i*1 m, 1 m, 0) }\ncase X modes { count = 2 }\n"
+     "case H history { force B = (1 kN, 0, 0), time = step, duration = 1000 s, step = 0.001 s }", 3,
+     "1000001 time steps x 11 recorded nodes = 1.1e.07 rows"),
+    ("sweep table too long", "for i in 1..9 { node N[i] = (i*1 m, 1 m, 0) }\ncase X modes { count = 2 }\n"
+     "case W harmonic { force B = (1 kN, 0, 0), from = 1 Hz, to = 2 Hz, points = 1000000 }", 3,
+     "1000000 frequencies x 11 recorded nodes"),
     # masses
     ("mass on a node nothing holds", "node C = (5 m, 0, 0)\nmass C = 1 t", 2, "mass on node C, which no member or spring holds"),
 ]

@@ -115,3 +115,36 @@ def test_no_mode_checks_never_see_an_empty_mode_set():
     m = read_text(FRAME + "case M modes { count = 500 }\n")
     r = solve_all(m)[1][0]
     assert 0 < len(r.modes.omega) <= 18 and np.isfinite(r.modes.residual).all()
+
+
+def _run(tmp_path, text, tables=()):
+    deck = tmp_path / "d.deck"
+    deck.write_text(text)
+    for name, content in tables:
+        (tmp_path / name).write_text(content)
+    code = run_deck(str(deck), str(tmp_path / "out"), render=False)
+    return code, json.loads((tmp_path / "out" / "results.json").read_text())
+
+
+def test_coarse_free_step_is_warned_with_the_figure(tmp_path, capsys):
+    m = read_text(FRAME + "case M modes { count = 4 }\n")
+    T = solve_all(m)[1][0].modes.period[-1]
+    _, doc = _run(tmp_path, FRAME + "case M modes { count = 4 }\n"
+                  f"case F free {{ velocity C = (0.1 m/s, 0, 0), duration = {20 * T} s, step = {T / 4} s }}\n")
+    w = doc["cases"][-1]["checks"]["warnings"]
+    assert len(w) == 1 and f"consider step <= {T / 10:.3g} s" in w[0]
+    assert f"warning: step {T / 4:.3g} s is coarse" in capsys.readouterr().out
+
+
+def test_periods_outside_a_spectrum_table_are_warned_and_follow_the_stated_rule(tmp_path, capsys):
+    # the table stops at 0.05 s, far below the frame's first period: beyond the last period
+    # S_a falls as 1/T^2 from the last value (constant spectral displacement, docs/deck.md)
+    spec = "case E spectrum { table = \"sa.csv\", scale = 1 m/s^2, directions = (1, 0, 0) }\n"
+    _, doc = _run(tmp_path, FRAME + "case M modes { count = 2 }\n" + spec,
+                  [("sa.csv", "T,sa\n0.01,2\n0.05,3\n")])
+    case = doc["cases"][-1]
+    T = np.array(case["period_s"])
+    assert case["checks"]["periods_outside_table_s"] == pytest.approx(T.tolist())
+    np.testing.assert_allclose(case["sa_m_s2"][0], 3 * (0.05 / T) ** 2, rtol=1e-12)
+    out = capsys.readouterr().out
+    assert "2 modal period(s) outside the table: held below the first period, falling as 1/T^2 beyond the last" in out

@@ -11,7 +11,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
-from .free_case import animation_frames, peaks
+from .free_case import animation_frames, peaks, step_warnings
 from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
 from .static import load_vector
 from .recurrence import integrate_modal
@@ -85,15 +85,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
         u += g[:, None, None] * static.reshape(-1, 6)[record][None]
     if ground is not None:
         a[:, :, :3] += g[:, None, None] * ground[None, None, :]
-    warnings = ()
-    pos = omega > 0
-    if pos.any():
-        tmin = float(2 * np.pi / omega[pos].max())
-        if dt > tmin / 10:
-            warnings = (f"step {dt:.3g} s is coarse for the highest retained mode (period {tmin:.3g} s): "
-                        "the load and the output are sampled at fewer than 10 points per period of that "
-                        "mode (each step is integrated exactly for a linear load); consider "
-                        f"step <= {tmin / 10:.3g} s",)
+    warnings = step_warnings(dt, omega, "the load and the output are",
+                             "each step is integrated exactly for a linear load")
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, bool(static is not None),
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),

@@ -34,6 +34,7 @@ COINCIDENT = 1e-6
 # A million kilometres: beyond any structure, and it keeps products of coordinates (lengths
 # cubed in the stiffness) well inside the floating-point range.
 MAX_COORDINATE = 1e9
+ROWS_LIMIT = 5_000_000   # rows of a free, history or harmonic table (recorded nodes x samples)
 _FUNCS = {"sqrt": math.sqrt, "sin": math.sin, "cos": math.cos, "tan": math.tan,
           "atan": math.atan, "abs": abs, "exp": math.exp, "log": math.log}
 _ASSUMABLE = {"length": U.LENGTH, "force": U.FORCE, "mass": U.MASS, "time": U.TIME,
@@ -849,6 +850,7 @@ class _Reader:
                 raise DeckError(f"case {case.name}: a harmonic case needs {key} = ... Hz", case.location)
         if out["to"] <= out["from"]:
             raise DeckError(f"case {case.name}: 'to' must be above 'from'", case.location)
+        self.table_rows(case, out["points"], "frequencies", out["record"], nidx, "fewer points")
         if not case.loads and "ground" not in out:
             raise DeckError(f"case {case.name}: give force amplitudes or a ground acceleration", case.location)
         if out.get("correction") and "ground" in out:
@@ -991,6 +993,15 @@ class _Reader:
             return False
         return True
 
+    def table_rows(self, case, samples: int, what: str, record, nidx, remedy: str) -> None:
+        """Refuse a response table (samples x recorded nodes rows, held in memory as well) too
+        large to write or hold: ROWS_LIMIT rows are about 0.7 GB of CSV."""
+        nodes = len(nidx) if record is None else len(record)
+        if samples * nodes > ROWS_LIMIT:
+            raise DeckError(f"case {case.name}: {samples} {what} x {nodes} recorded nodes = {samples * nodes:.3g} rows "
+                            f"of results, above the limit of {ROWS_LIMIT:.0e}", case.location,
+                            f'record fewer nodes (record = "NAME*"), or use {remedy}')
+
     def free_options(self, case: LoadCase, nidx, history: bool = False) -> None:
         """Options of a free-vibration case: duration, step, damping, start, modes, record."""
         out = {"damping": np.zeros(1), "record": None}
@@ -1017,6 +1028,7 @@ class _Reader:
                 raise DeckError(f"case {case.name}: a {case.kind} case needs {key} = ... s", case.location)
         if out["duration"] / out["step"] > 1e6:
             raise DeckError(f"case {case.name}: more than a million time steps; use a longer step", case.location)
+        self.table_rows(case, int(out["duration"] / out["step"]) + 1, "time steps", out["record"], nidx, "a longer step")
         if not history and not case.loads and "start" not in out:
             raise DeckError(f"case {case.name}: give a start (a static case) or initial displacement/velocity",
                             case.location)
