@@ -208,3 +208,23 @@ case X static { force C = (0, 0, -1 N) }
 """)
     main(["run", str(deck), "--out", str(tmp_path / "o"), "--no-render"])
     assert "warning: stiffness condition estimate" in capsys.readouterr().out
+
+
+def test_spring_reactions_close_equilibrium():
+    # cantilever (3EI/L^3, Roark 7th ed. Table 8.1 tip deflection PL^3/3EI) in parallel with a
+    # spring k at the tip: the spring takes P k / (k + 3EI/L^3) and pushes back with -k u;
+    # found by the pipeline fuzz, where springs' forces were missing from the reactions
+    L, P, k = 2.0, 10e3, 2e6
+    m, r = run("""
+node A = (0, 0, 0)
+node B = (2 m, 0, 0)
+member M : A -> B beam P S
+support A fixed
+spring B (uz = 2e6 N/m)
+case X static { force B = (0, 0, -10 kN) }
+""")
+    kc = 3 * E * m.Iy[0] / L**3        # the section's own I: the cubic element is exact at the tip
+    assert r.u[1, 2] == pytest.approx(-P / (k + kc), rel=1e-10)
+    assert r.reactions[1, 2] == pytest.approx(P * k / (k + kc), rel=1e-10)
+    assert r.reactions[0, 2] + r.reactions[1, 2] == pytest.approx(P, rel=1e-12)
+    assert r.equilibrium < 1e-12

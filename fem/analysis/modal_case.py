@@ -93,7 +93,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
 
 
 def field_responses(model: Model, asm: Assembled, U: np.ndarray):
-    """Elastic reactions (m, n, 6) at fixed DOFs and member end forces (m, e, 12) in local axes
+    """Elastic reactions (m, n, 6) at fixed DOFs and springs and member end forces (m, e, 12) in local axes
     of displacement fields U (m, 6n), without any member load (K u only)."""
     from .. import elements as el
 
@@ -101,6 +101,7 @@ def field_responses(model: Model, asm: Assembled, U: np.ndarray):
     mask = np.zeros(U.shape[1], bool)
     mask[asm.fixed] = True
     R[:, ~mask] = 0.0
+    R -= model.springs.ravel()[None, :] * U          # springs to ground push back with -k u
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     T = el.transform_matrix(asm.R)
     ue = np.einsum("eab,meb->mea", T, U[:, dofs])

@@ -17,7 +17,8 @@ __all__ = ["StaticResult", "condition_estimate", "factorise", "load_vector", "so
 
 @dataclass
 class StaticResult:
-    """u (n, 6) displacements, m / rad; reactions (n, 6) N / N m (zero off supports);
+    """u (n, 6) displacements, m / rad; reactions (n, 6) N / N m, forces of the supports and of
+    springs to ground on the structure (zero elsewhere);
     member_forces (e, 12) local end forces N, Vy, Vz, T, My, Mz at i then j (forces on the member);
     equilibrium: largest |sum of applied + reactions| over force components, relative."""
 
@@ -164,6 +165,7 @@ def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> Stati
     r = asm.K @ u - f
     reactions = np.zeros_like(u)
     reactions[asm.fixed] = r[asm.fixed]
+    reactions -= model.springs.ravel() * u       # a spring to ground pushes back with -k u
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     T = el.transform_matrix(asm.R)
     ue = np.einsum("eab,eb->ea", T, u[dofs])
