@@ -138,6 +138,11 @@ def _write_csv(path: Path, header, rows) -> None:
         w.writerows(rows)
 
 
+def _fraction(x) -> float | str:
+    """A mass fraction for a table: empty where no mass moves in that direction (0/0)."""
+    return float(x) if np.isfinite(x) else ""
+
+
 def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> dict:
     modal_all = list(modal)
     nodes, mems = model.node_names, model.member_names
@@ -185,7 +190,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
             m, p = r.modes, r.part
             for j in range(len(m.omega)):
                 rows.append([r.name, j + 1, float(m.freq[j]), float(m.omega[j]), float(m.period[j]),
-                             *map(float, p.gamma[j]), *map(float, p.fraction[j]), *map(float, p.cumulative[j])])
+                             *map(float, p.gamma[j]), *map(_fraction, p.fraction[j]), *map(_fraction, p.cumulative[j])])
         _write_csv(out / "modes.csv", head, rows)
         _write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
                    [[r.name, j + 1, n, *map(float, r.shapes[k, :, j])]

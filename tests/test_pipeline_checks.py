@@ -168,3 +168,12 @@ case H history { force B = (1 kN, 0, 0), time = step, duration = 0.4 s, step = %
     rows = (tmp_path / "out" / "reactions.csv").read_text().splitlines()
     h = next(r for r in rows if r.startswith("H,B,"))
     assert float(h.split(",")[2]) == pytest.approx(2e3, rel=1.3e-4)
+
+
+def test_mass_fractions_of_a_direction_without_mass_are_empty_cells(tmp_path):
+    import csv
+    text = FRAME.replace("support A fixed\nsupport D fixed\n", "support * (uz)\n") + "case M modes { count = 4 }\n"
+    _run(tmp_path, text)
+    rows = list(csv.DictReader((tmp_path / "out" / "modes.csv").open()))
+    assert all(r["mass_fraction_Z"] == "" and r["cumulative_Z"] == "" for r in rows)
+    assert float(rows[-1]["cumulative_X"]) > 0 and rows[0]["period_s"] == "inf"
