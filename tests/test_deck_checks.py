@@ -92,6 +92,9 @@ MISTAKES = [
     ("negative non-structural mass", "member N : B -> A beam P S nsm = -1 kg/m", 1, "nsm .mass per length. cannot be negative"),
     ("negative spring", "spring B (uz = -1e6 N/m)", 1, "a stiffness cannot be negative"),
     ("negative mass", "mass B = -1 t", 1, "cannot be negative"),
+    ("initial displacement at a support", "case X modes { count = 2 }\n"
+     "case F free { displacement A* = (0, 0, 1 mm), duration = 1 s, step = 0.01 s }", 2,
+     "initial displacement in uz at node A, which is restrained there"),
     # results too large to hold or write
     ("history table too long", "for i in 1..9 { node N[i] = (i*1 m, 1 m, 0) }\ncase X modes { count = 2 }\n"
      "case H history { force B = (1 kN, 0, 0), time = step, duration = 1000 s, step = 0.001 s }", 3,

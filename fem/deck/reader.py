@@ -622,6 +622,15 @@ class _Reader:
                                     "connect the node with a member, or put the mass on a node of the structure")
         midx = {m["name"]: k for k, m in enumerate(mems)}
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
+        for c in cases:
+            for item in c.loads:
+                if item.kind in ("displacement", "velocity"):
+                    held = restraint[item.targets, :3] & (item.vector != 0)
+                    if held.any():
+                        k, d = np.argwhere(held)[0]
+                        raise DeckError(f"case {c.name}: initial {item.kind} in {DIRECTIONS[d]} at node "
+                                        f"{node_names[item.targets[k]]}, which is restrained there and cannot move",
+                                        item.location, "give initial values at free nodes only")
         used = on_member | restraint.any(axis=1) | (springs > 0).any(axis=1) | (pmass > 0).any(axis=1)
         for c in cases:
             for item in c.loads:
