@@ -436,7 +436,10 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             print(f"               mass target {', '.join(f'{100 * v:.0f}%' for v in r.target)} (X, Y, Z): "
                   + ("met" if r.target_met else f"NOT met with {len(r.modes.freq)} modes (the cap); "
                      "raise max or check the model"))
-        print(f"               residual {c['max_residual']:.1e}  M-orthogonality {c['mass_orthogonality']:.1e}"
+        verdict = {True: "pass", False: "FAIL"}
+        print(f"               residual {c['max_residual']:.1e} {verdict[c['residual_pass']]}  "
+              f"orthogonality M {c['mass_orthogonality']:.1e} K {c['stiffness_orthogonality']:.1e} "
+              f"{verdict[c['orthogonality_pass']]}"
               f"  Sturm count {missed}  effective mass {cum}")
     print(f"  {notice}")
     print(f"results in {target}/")
