@@ -131,4 +131,6 @@ class Model:
         return float(self.member_mass().sum() + self.point_mass[:, 0].sum())
 
     def bounding_box(self) -> tuple[np.ndarray, np.ndarray]:
+        if not self.n_nodes:
+            return np.zeros(3), np.zeros(3)
         return self.coords.min(axis=0), self.coords.max(axis=0)

@@ -50,6 +50,9 @@ def assembled_mass(model: Model, asm) -> np.ndarray:
 def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     from .progress import stage
 
+    if not model.n_nodes:
+        raise ModelError(f"{model.source or 'the deck'} defines no nodes, so there is nothing to analyse; "
+                         "define nodes (node NAME = (x, y, z)) and members between them")
     with stage(f"assembling {model.n_members} members"):
         asm = assemble(model)
     model.settings["_assembled_mass"] = assembled_mass(model, asm)

@@ -103,7 +103,10 @@ MISTAKES = [
      "case W harmonic { force B = (1 kN, 0, 0), from = 1 Hz, to = 2 Hz, points = 1000000 }", 3,
      "1000000 frequencies x 11 recorded nodes"),
     # masses
-    ("mass on a node nothing holds", "node C = (5 m, 0, 0)\nmass C = 1 t", 2, "mass on node C, which no member or spring holds"),
+    ("mass on a node nothing holds", "node C = (5 m, 0, 0)\nmass C = 1 t", 2,
+     "mass on node C, which no member, support or spring holds in ux, uy, uz"),
+    ("mass on a node a spring holds in one direction", "node C = (5 m, 0, 0)\nspring C (ux = 1e3 N/m)\nmass C = 1 t",
+     3, "holds in uy, uz"),
 ]
 
 
@@ -203,3 +206,16 @@ def test_included_duplicate_names_the_other_file(tmp_path):
     (tmp_path / "top.deck").write_text(HEAD + 'include "mat.deck"\n')
     with pytest.raises(DeckError, match=r"mat.deck:1:1: material S is defined twice \(first at top.deck:1:1\)"):
         read_deck(tmp_path / "top.deck")
+
+
+@pytest.mark.parametrize("text", ["", "# only a comment\n", 'title "nothing"\ncase D static { }\n'],
+                         ids=["empty", "comment", "no nodes"])
+def test_a_deck_without_nodes_is_checked_and_refused_to_run(tmp_path, text, capsys):
+    # a deck of materials only (to be included) reads and checks; running it is refused
+    deck = tmp_path / "e.deck"
+    deck.write_text(text)
+    assert main(["check", str(deck)]) == 0
+    assert main(["run", str(deck), "--out", str(tmp_path / "o"), "--no-render"]) == 2
+    err = capsys.readouterr().err
+    assert "defines no nodes" in err and "Traceback" not in err
+    assert not (tmp_path / "o").exists()

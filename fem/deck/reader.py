@@ -617,9 +617,10 @@ class _Reader:
                 pmass[k] += vec
                 loose = (vec[:3] > 0) & ~restraint[k, :3] & ~(springs[k, :3] > 0)
                 if not on_member[k] and loose.any():
-                    raise DeckError(f"mass on node {nm}, which no member or spring holds: the mass would not "
-                                    "move with the structure and would be left out of its modes", where,
-                                    "connect the node with a member, or put the mass on a node of the structure")
+                    dirs = ", ".join(d for d, x in zip(DIRECTIONS, loose) if x)
+                    raise DeckError(f"mass on node {nm}, which no member, support or spring holds in {dirs}: the "
+                                    "mass would not move with the structure and would be left out of its modes",
+                                    where, "connect the node with a member, or put the mass on a node of the structure")
         midx = {m["name"]: k for k, m in enumerate(mems)}
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
         for c in cases:
