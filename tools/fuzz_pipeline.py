@@ -234,6 +234,12 @@ def far_reference(text, rng):
     return re.sub(r"case (\w+) modes \{", r"case \1 modes { reference = (1e8 m, 0, -1e8 m),", text)
 
 
+def repeat_statement(text, rng):
+    """A definition repeated further down (a copied line): must be a located error."""
+    lines = [ln for ln in _lines(text) if re.match(r"(material|section|member|node|case|combo|group|let) ", ln)]
+    return text + "\n" + rng.choice(lines) + "\n" if lines else text
+
+
 def drop_cases_but(text, rng):
     """Keep one response case kind only (and what it needs)."""
     kind = rng.choice(["free", "history", "harmonic", "spectrum", "static", "modes"])
@@ -251,7 +257,7 @@ MUTATIONS = [
     drop_supports, fix_everything, drop_member, releases_everywhere, all_truss, all_beam,
     duplicate_node, move_node_onto_another, no_mass, rotary_mass_only, mass_on_loose_node,
     lumped_shear, far_node, drop_cases_but, springs_for_supports, heavy_or_light_mass,
-    unsupported_in_a_plane, far_reference,
+    unsupported_in_a_plane, far_reference, repeat_statement,
     _sub_value("E", ["1 Pa", "1e-9 Pa", "1e6 GPa", "1e300 Pa", "0", "-1 GPa"]),
     _sub_value("nu", ["0", "0.4999999", "-0.99", "0.5", "-1"]),
     _sub_value("density", ["0 kg/m^3", "1e-9 kg/m^3", "1e9 kg/m^3", "-1 kg/m^3"]),
