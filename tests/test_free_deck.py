@@ -231,3 +231,6 @@ def test_free_case_rows_in_the_tables(tmp_path):
     assert case["member_force_peak_max"]["My"]["member"] == "M0"
     assert case["member_force_peak_max"]["My"]["value"] == pytest.approx(fr.member_peak[:, [4, 10]].max())
     assert case["checks"]["inertia_balance_pass"] is True
+    report = (out / "report.html").read_text()
+    assert "REL: reactions hold the inertia forces, mode by mode" in report
+    assert f"{fr.member_peak[:, [4, 10]].max() / 1e3:.4g} kN m at M0 end i" in report
