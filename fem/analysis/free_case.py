@@ -115,14 +115,20 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
 def _inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:
     """Mode by mode, supports and springs hold the structure against its inertia forces:
     sum of reactions - springs' k phi = -w^2 r^T M phi in X, Y, Z (K r = 0 for a rigid
-    translation r of the members). Returns the largest mismatch relative to the largest
-    inertia force (0 when no mode has one)."""
+    translation r of the members). Returns the largest mismatch relative to the largest force
+    entering these sums, |K| |phi| at the supports included, so that round-off in stiff
+    models is judged against the terms that produced it (0 when nothing moves)."""
     shapes = modal.shapes                                        # (n, 6, k)
+    k = shapes.shape[2]
     w2 = modal.modes.omega ** 2
-    f = asm.free
     inertia = w2[:, None] * modal.part.gamma[:, :3]              # (k, 3), gamma = phi^T M r
-    held = Rm[:, :, :3].sum(axis=1) - np.einsum("nd,ndk->kd", model.springs[:, :3], shapes[:, :3])
-    scale = np.abs(inertia).max(initial=0.0)
-    if not len(f) or scale == 0:
+    spring = np.einsum("nd,ndk->kd", model.springs[:, :3], shapes[:, :3])
+    held = Rm[:, :, :3].sum(axis=1) - spring
+    gross = abs(asm.K) @ np.abs(shapes.reshape(-1, k))          # (6n, k) sizes of the K phi terms
+    mask = np.zeros(len(gross), bool)
+    mask[asm.fixed] = True
+    gross = np.where(mask[:, None], gross, 0.0).reshape(-1, 6, k)[:, :3].sum(axis=0).T
+    scale = max(np.abs(inertia).max(initial=0.0), np.abs(spring).max(initial=0.0), gross.max(initial=0.0))
+    if scale == 0:
         return 0.0
     return float(np.abs(held + inertia).max() / scale)
