@@ -36,6 +36,7 @@ EQUILIBRIUM_TOL = 1e-8   # relative; a direct solve reaches ~1e-12, far looser m
 COND_WARN = 1e11         # above this fewer than ~5 significant digits are safe in double precision
 RESIDUAL_TOL = 1e-8      # backward error of an eigenpair; a double-precision solve gives ~1e-14
 ORTHO_TOL = 1e-8
+BALANCE_TOL = 1e-6       # per-mode reactions vs inertia forces; limited by the eigen residuals
 
 
 def assembled_mass(model: Model, asm) -> np.ndarray:
@@ -100,7 +101,8 @@ def modal_checks(r) -> dict:
     if isinstance(r, HistoryResult):
         return {"static_correction": r.corrected, "warnings": list(r.warnings)}
     if isinstance(r, FreeCaseResult):
-        return {"initial_displacement_captured": r.captured}
+        return {"initial_displacement_captured": r.captured, "inertia_balance_relative": r.inertia_balance,
+                "inertia_balance_pass": bool(r.inertia_balance < BALANCE_TOL)}
     m = r.modes
     k = len(m.omega)
     return {"max_residual": float(m.residual.max()), "residual_pass": bool(m.residual.max() < RESIDUAL_TOL),
@@ -120,7 +122,9 @@ def _mass_ok(model: Model) -> bool:
 
 
 def _modal_ok(r) -> bool:
-    if isinstance(r, (FreeCaseResult, HistoryResult, HarmonicResult, SpectrumResult)):
+    if isinstance(r, FreeCaseResult):
+        return r.inertia_balance < BALANCE_TOL
+    if isinstance(r, (HistoryResult, HarmonicResult, SpectrumResult)):
         return True
     c = modal_checks(r)
     return c["residual_pass"] and c["orthogonality_pass"] and c["none_missed"] is not False
@@ -133,6 +137,19 @@ def _write_csv(path: Path, header, rows) -> None:
         w.writerows(rows)
 
 
+END_FORCES = ("N", "Vy", "Vz", "T", "My", "Mz")
+
+
+def _force_peaks(model: Model, r, sup) -> dict:
+    """results.json entries of a free or history case: peak |reaction| at every supported or
+    sprung node, and the largest peak of each end-force component over all members."""
+    mp = r.member_peak.reshape(-1, 6)                 # rows: member 0 end i, member 0 end j, ...
+    where = mp.argmax(axis=0) if len(mp) else []
+    return {"reaction_peaks": {model.node_names[k]: r.reaction_peak[k].tolist() for k in sup},
+            "member_force_peak_max": {c: {"value": float(mp[w, j]), "member": model.member_names[w // 2],
+                                          "end": "ij"[w % 2]} for j, (c, w) in enumerate(zip(END_FORCES, where))}}
+
+
 def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> dict:
     modal_all = list(modal)
     nodes, mems = model.node_names, model.member_names
@@ -141,14 +158,13 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     tables = [(r.name, r.u, r.reactions, r.member_forces) for r in results]
     tables += [(x.name, x.u, x.reactions, x.member_forces) for x in modal if isinstance(x, SpectrumResult)]
     tables += [(x.name, x.peak, x.reaction_peak, x.member_peak) for x in modal
-               if isinstance(x, (HistoryResult, HarmonicResult))]
+               if isinstance(x, (FreeCaseResult, HistoryResult, HarmonicResult))]
     _write_csv(out / "displacements.csv", ["case", "node", *DIRECTIONS],
                [[name, n, *map(float, u[k])] for name, u, _, _ in tables for k, n in enumerate(nodes)])
     sup = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
     _write_csv(out / "reactions.csv", ["case", "node", "Fx", "Fy", "Fz", "Mx", "My", "Mz"],
                [[name, nodes[k], *map(float, rr[k])] for name, _, rr, _ in tables for k in sup])
-    labels = ["N", "Vy", "Vz", "T", "My", "Mz"]
-    _write_csv(out / "member_forces.csv", ["case", "member", "end", *labels],
+    _write_csv(out / "member_forces.csv", ["case", "member", "end", *END_FORCES],
                [[name, m, end, *map(float, mf[k, 6 * e:6 * e + 6])]
                 for name, _, _, mf in tables for k, m in enumerate(mems) for e, end in enumerate("ij")])
     for r in [x for x in modal if isinstance(x, FreeCaseResult)]:
@@ -220,6 +236,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "peak_translation_m": float(np.abs(r.peak[:, :3]).max()),
                    "peaks": {nodes[k]: {"value": r.peak[k].tolist(), "time_s": r.peak_time[k].tolist()}
                              for k in range(len(nodes))},
+                   **_force_peaks(model, r, sup),
                    "checks": modal_checks(r)} for r in free] + [
                   {"name": r.name, "kind": "harmonic", "damping_ratio": r.zeta.tolist(),
                    "frequencies": len(r.freq), "band_Hz": [float(r.freq[0]), float(r.freq[-1])],
@@ -393,6 +410,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             print(f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "
                   f"{np.abs(r.peak[:, :3]).max():.4g} m; modes capture "
                   f"{100 * r.captured:.2f}% of the initial displacement (M-norm)")
+            ok = "pass" if c["inertia_balance_pass"] else "FAIL"
+            print(f"               reactions balance the modal inertia forces to {r.inertia_balance:.1e} {ok}")
             continue
         fr = ", ".join(f"{f:.4g}" for f in r.modes.freq[:6])
         print(f"  {r.name:<12} {len(r.modes.freq)} modes ({r.modes.solver}); first Hz: {fr}")

@@ -30,20 +30,24 @@ class StaticResult:
 
 
 def load_vector(model: Model, asm: Assembled, case: LoadCase):
-    """Global load vector (6n,) and the local fixed-end load vectors (e, 12) of member loads."""
+    """Global load vector (6n,) and the local fixed-end load vectors (e, 12) of member loads.
+
+    Line loads are given per member in global axes or in the member's local axes
+    (``LoadItem.axes``); both end up as one local load per length w_local (e, 3)."""
     f = np.zeros(6 * model.n_nodes)
-    w = np.zeros((model.n_members, 3))       # global line load per member, N/m
+    w = np.zeros((model.n_members, 3))       # line load per member in global axes, N/m
+    w_own = np.zeros((model.n_members, 3))   # line load per member in its own axes, N/m
     for item in case.loads:
         if item.kind == "force":
             _scatter(f, 6 * item.targets[:, None] + np.arange(3), item.vector)
         elif item.kind == "moment":
             _scatter(f, 6 * item.targets[:, None] + np.arange(3, 6), item.vector)
         elif item.kind == "line":
-            _scatter(w, item.targets[:, None], item.vector, rows=True)
+            _scatter(w_own if item.axes == "local" else w, item.targets[:, None], item.vector, rows=True)
     if case.gravity is not None:
         w += (model.rho * model.A + model.nsm)[:, None] * case.gravity
         f += np.c_[model.point_mass[:, :3] * case.gravity, np.zeros((model.n_nodes, 3))].ravel()
-    w_local = np.einsum("eab,eb->ea", asm.R, w)
+    w_local = np.einsum("eab,eb->ea", asm.R, w) + w_own
     fe = el.uniform_load_fixed_end(asm.L, w_local)
     rel = model.releases & ~model.truss[:, None]
     if model.truss.any():

@@ -579,8 +579,8 @@ class _Reader:
                 raise DeckError(f"case {name}: unknown load '{kindname}'; {suggest(kindname, spec)}", self.loc(it))
             dim, table, what = spec[kindname]
             names = self.targets(target, table, what)
-            vec = self.vector(val, dim, f"case {name}: {kindname}")
-            case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it)))
+            vec, axes = self.load_value(val, dim, f"case {name}: {kindname}", member=kindname == "line")
+            case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it), axes))
         if kind == "modes":
             self.modes_options(case)
         elif kind == "free":
@@ -595,6 +595,27 @@ class _Reader:
             raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes, "
                             "free, history, harmonic or spectrum", where)
         return case
+
+    def load_value(self, val, dim, what: str, member: bool) -> tuple[np.ndarray, str]:
+        """A load's three components and their axes: (x, y, z) in global axes, or, for member
+        loads, local(x, y, z) along the member's own x, y, z (docs/deck.md, Axes)."""
+        if not (isinstance(val, Tree) and val.data == "call"):
+            return self.vector(val, dim, what), "global"
+        form, args = str(val.children[0]), val.children[1:]
+        where = self.loc(val)
+        if form != "local":
+            near = suggest(form, ["local"])
+            near = f"; {near}" if near.startswith("did you mean") else ""
+            hint = "(x, y, z) in global axes" + (" or local(x, y, z) in member axes" if member else "")
+            raise DeckError(f"{what}: '{form}(...)' is not a way to give a load{near}", where, f"write {hint}")
+        if not member:
+            raise DeckError(f"{what}: local(...) gives a load in a member's axes, so it applies to line "
+                            "loads on members only; node loads and initial values are in global axes",
+                            where, "write (x, y, z) in global axes")
+        if len(args) != 3:
+            raise DeckError(f"{what}: local(...) needs three values along the member's x, y and z, "
+                            f"found {len(args)}", where, "e.g. local(0, 0, -2 kN/m)")
+        return np.array([self.value(a, dim, what) for a in args]), "local"
 
     def history_options(self, case: LoadCase, nidx) -> None:
         """Options of a time-history case: the free-case options plus time, table, ground,
