@@ -147,6 +147,10 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
     XM[4 * e:, d6] = model.point_mass
     K = pattern.matrix_from_blocks(XK)
     M = pattern.matrix_from_blocks(XM)
+    # 6x6 blocks of axis-aligned or truss members hold many exact zeros: dropping them cuts the
+    # stored entries (a third on a lattice tower) and keeps them out of the fill orderings
+    K.eliminate_zeros()
+    M.eliminate_zeros()
     if not (np.isfinite(K.data).all() and np.isfinite(M.data).all()):
         raise ModelError("the stiffness or mass matrix overflows (a property or coordinate is far too "
                          "large or too small); check the magnitudes and units in the deck")

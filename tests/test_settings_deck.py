@@ -139,7 +139,6 @@ def _euler_pinned():
     return PINNED * np.sqrt(E * PIPE_I / (RHO * PIPE_A * PIPE_L**4)) / (2 * np.pi)
 
 
-@pytest.mark.xfail(strict=True, raises=np.linalg.LinAlgError, reason="massless DOFs in dense eigh, fixed on main")
 def test_lumped_mass_frequencies_converge_to_euler_bernoulli():
     # lumped mass (half of each member's mass on its end translations, no rotary mass of
     # bending) on a pinned-pinned pipe, 5 m: modes 1-3 converge to the Euler-Bernoulli values

@@ -111,16 +111,16 @@ def factorise(model: Model, asm: Assembled):
     """Sparse LU of K over the free DOFs; a singular K raises MechanismError naming, for each
     free motion, the nodes and directions that move."""
     Kff = asm.K[asm.free][:, asm.free].tocsc()
+    from .factor import PIVOT_TOL, column_diagonal
     from .memory import check_factor_memory
 
     check_factor_memory(Kff, "static solve")
-    diag = np.abs(Kff.diagonal())
     singular = False
     try:
         lu = spla.splu(Kff, permc_spec="MMD_AT_PLUS_A")
         # each pivot against its own column's diagonal, so stiffness contrasts between members
         # are not mistaken for a mechanism (they are reported by the condition estimate)
-        singular = bool(np.any(np.abs(lu.U.diagonal()) < 1e-11 * diag[lu.perm_c]))
+        singular = bool(np.any(np.abs(lu.U.diagonal()) < PIVOT_TOL * np.abs(column_diagonal(lu, Kff))))
     except RuntimeError:
         lu, singular = None, True
     motions = free_motions(model, asm, Kff) if singular else []
