@@ -95,5 +95,7 @@ def test_inertia_counts_match_dense_eigenvalues(kind):
 def test_choice_follows_the_model():
     slender = fa.ordering(ladder(400))
     assert fa.choose(1600, slender) == "band"
-    wide = fa.Ordering(np.arange(10), bandwidth=fa.BAND_MAX + 1, envelope=10 * (fa.COMPACT_PROFILE + 1))
+    wide = fa.Ordering(np.arange(10), bandwidth=fa.BAND_MAX_ALONE + 1, envelope=10 * (fa.COMPACT_PROFILE + 1))
     assert fa.choose(10, wide) == ("pardiso" if fa.pardiso_available() else "superlu")
+    mid = fa.Ordering(np.arange(10), bandwidth=fa.BAND_MAX + 1, envelope=10 * (fa.COMPACT_PROFILE + 1))
+    assert fa.choose(10, mid) == ("pardiso" if fa.pardiso_available() else "band")

@@ -189,7 +189,7 @@ def test_released_cantilever_single_mode_base_forces():
 def test_inertia_balance_check_sees_springs():
     # a cantilever with a spring to ground at the tip: per mode the support reactions and the
     # spring force together hold the inertia forces (r^T K = spring part only); the check passes
-    # with the springs counted and fails (well above its tolerance) when they are left out
+    # with the springs' forces among the reactions and fails (well above its tolerance) without
     from fem.analysis.free_case import _inertia_balance
     from fem.analysis.modal_case import field_responses
     from fem.assembly import assemble
@@ -198,8 +198,8 @@ def test_inertia_balance_check_sees_springs():
     modal, fr = solve_all(m)[1]
     assert fr.inertia_balance < 1e-10
     asm = assemble(m)
+    m.springs[:] = 0.0          # reactions without the spring's force (K keeps the spring)
     Rm, _ = field_responses(m, asm, modal.shapes.reshape(6 * m.n_nodes, -1).T)
-    m.springs[:] = 0.0
     assert _inertia_balance(m, asm, modal, Rm) > 100 * BALANCE_TOL
 
 

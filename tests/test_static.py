@@ -202,3 +202,43 @@ case X static { force C = (0, 0, -1 N) }
 """)
     main(["run", str(deck), "--out", str(tmp_path / "o"), "--no-render"])
     assert "warning: stiffness condition estimate" in capsys.readouterr().out
+
+
+def test_spring_supported_cantilever_reactions_and_equilibrium():
+    # cantilever (PL^3/3EI stiffness, Roark 7th ed. Table 8.1) and a tip spring act in
+    # parallel: tip deflection P / (k + 3EI/L^3); the spring pushes back with -k delta and the
+    # base takes the rest (statics, common practice, no source). Forces and moments balance.
+    k = 2.0e5
+    body = f"""
+for i in 0..5 {{ node N[i] = (i*1 m, 0, 0) }}
+for i in 0..4 {{ member M[i] : N[i] -> N[i+1] beam P S }}
+support N0 fixed
+spring N5 (uz = {k} N/m)
+case TIP static {{ force N5 = (0, 0, -10 kN) }}
+"""
+    m, r = run(body)
+    delta = -10e3 / (k + 3 * E * I / 5.0**3)
+    assert r.u[5, 2] == pytest.approx(delta, rel=1e-6)         # I to the table's 7 digits
+    d = r.u[5, 2]
+    assert r.reactions[5, 2] == pytest.approx(-k * d, rel=1e-12)
+    assert r.reactions[0, 2] == pytest.approx(10e3 + k * d, rel=1e-9)
+    assert abs(r.reactions[0, 4]) == pytest.approx(5.0 * (10e3 + k * d), rel=1e-9)   # base moment
+    assert r.equilibrium < 1e-12
+
+
+def test_equilibrium_sees_force_and_moment_imbalance():
+    # the check itself: a balanced couple passes, a missing force or a missing moment fails
+    from fem.analysis.static import equilibrium
+
+    xyz = np.array([[0.0, 0, 0], [2.0, 0, 0]])
+    applied = np.zeros((2, 6))
+    applied[1, 2] = -1000.0                       # 1 kN down at x = 2 m
+    react = np.zeros((2, 6))
+    react[0, 2], react[0, 4] = 1000.0, -2000.0    # base shear and moment (about y: z x ... sign)
+    assert equilibrium(xyz, applied, react) < 1e-15
+    no_moment = react.copy()
+    no_moment[0, 4] = 0.0
+    assert equilibrium(xyz, applied, no_moment) > 0.1
+    no_force = react.copy()
+    no_force[0, 2] = 0.0
+    assert equilibrium(xyz, applied, no_force) > 0.1

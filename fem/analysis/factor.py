@@ -25,13 +25,14 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 
-__all__ = ["BAND_MAX", "COMPACT_PROFILE", "NotPositiveDefinite", "Ordering", "SPDFactor",
+__all__ = ["BAND_MAX", "BAND_MAX_ALONE", "COMPACT_PROFILE", "NotPositiveDefinite", "Ordering", "SPDFactor",
            "negative_eigenvalues", "ordering", "pardiso_available", "shift_invert_factor",
            "spd_factor"]
 
 PIVOT_TOL = 1e-11       # a pivot below this fraction of its own diagonal entry counts as zero
 COMPACT_PROFILE = 150   # mean envelope width (entries per row) above which PARDISO wins
-BAND_MAX = 160          # half-bandwidth up to which banded Cholesky beats SuperLU (benchmarks/eigen.py)
+BAND_MAX = 160          # half-bandwidth up to which banded Cholesky is as fast as PARDISO
+BAND_MAX_ALONE = 320    # ... and up to which it beats SuperLU (benchmarks/eigen.py crossover)
 
 
 class NotPositiveDefinite(ArithmeticError):
@@ -186,6 +187,7 @@ def _pardiso_settings(solver, indefinite=False) -> None:
     solver.iparm[:] = 0
     solver.iparm[0] = 1          # these values, not the defaults
     solver.iparm[1] = 2
+    solver.iparm[17] = -1        # report the factor's entries in iparm 18
     solver.iparm[24] = 2
     if indefinite:
         solver.iparm[9] = 8
@@ -223,12 +225,15 @@ class _Pardiso(SPDFactor):
 
 
 def choose(n: int, order: Ordering, kind: str = "auto") -> str:
-    """'band', 'pardiso' or 'superlu' for a model of n DOFs under `order`."""
+    """'band', 'pardiso' or 'superlu' for a model of n DOFs under `order`: banded Cholesky up
+    to BAND_MAX (or BAND_MAX_ALONE when PARDISO is not installed), PARDISO for wide envelopes,
+    SuperLU otherwise. Crossovers measured by `benchmarks/eigen.py crossover`."""
     if kind != "auto":
         return kind
-    if order.bandwidth <= BAND_MAX:
+    pardiso = pardiso_available()
+    if order.bandwidth <= (BAND_MAX if pardiso else BAND_MAX_ALONE):
         return "band"
-    if pardiso_available() and order.mean_width > COMPACT_PROFILE:
+    if pardiso and order.mean_width > COMPACT_PROFILE:
         return "pardiso"
     return "superlu"
 

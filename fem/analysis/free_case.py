@@ -114,7 +114,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
 
 def _inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:
     """Mode by mode, supports and springs hold the structure against its inertia forces:
-    sum of reactions - springs' k phi = -w^2 r^T M phi in X, Y, Z (K r = 0 for a rigid
+    sum of reactions (springs' -k phi included) = -w^2 r^T M phi in X, Y, Z (K r = 0 for a rigid
     translation r of the members). Returns the largest mismatch relative to the largest force
     entering these sums, |K| |phi| at the supports included, so that round-off in stiff
     models is judged against the terms that produced it (0 when nothing moves)."""
@@ -123,7 +123,7 @@ def _inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -
     w2 = modal.modes.omega ** 2
     inertia = w2[:, None] * modal.part.gamma[:, :3]              # (k, 3), gamma = phi^T M r
     spring = np.einsum("nd,ndk->kd", model.springs[:, :3], shapes[:, :3])
-    held = Rm[:, :, :3].sum(axis=1) - spring
+    held = Rm[:, :, :3].sum(axis=1)                             # springs' -k phi included
     gross = abs(asm.K) @ np.abs(shapes.reshape(-1, k))          # (6n, k) sizes of the K phi terms
     mask = np.zeros(len(gross), bool)
     mask[asm.fixed] = True

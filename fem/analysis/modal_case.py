@@ -84,14 +84,12 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
 
 
 def field_responses(model: Model, asm: Assembled, U: np.ndarray):
-    """Elastic reactions (m, n, 6) at fixed DOFs and member end forces (m, e, 12) in local axes
-    of displacement fields U (m, 6n), without any member load (K u only)."""
+    """Elastic reactions (m, n, 6) of supports and springs and member end forces (m, e, 12) in
+    local axes of displacement fields U (m, 6n), without any member load (K u only)."""
     from .. import elements as el
+    from .static import support_forces
 
-    R = (asm.K @ U.T).T
-    mask = np.zeros(U.shape[1], bool)
-    mask[asm.fixed] = True
-    R[:, ~mask] = 0.0
+    R = support_forces(model, asm, (asm.K @ U.T).T, U)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     T = el.transform_matrix(asm.R)
     ue = np.einsum("eab,meb->mea", T, U[:, dofs])

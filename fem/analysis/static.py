@@ -12,14 +12,16 @@ from ..assembly import Assembled, element_matrices
 from ..errors import MechanismError
 from ..model import DIRECTIONS, LoadCase, Model
 
-__all__ = ["StaticResult", "condition_estimate", "factorise", "load_vector", "solve_static"]
+__all__ = ["StaticResult", "condition_estimate", "factorise", "load_vector", "solve_static", "support_forces",
+           "equilibrium"]
 
 
 @dataclass
 class StaticResult:
     """u (n, 6) displacements, m / rad; reactions (n, 6) N / N m (zero off supports);
     member_forces (e, 12) local end forces N, Vy, Vz, T, My, Mz at i then j (forces on the member);
-    equilibrium: largest |sum of applied + reactions| over force components, relative."""
+    equilibrium: relative out-of-balance of applied loads and reactions, forces and moments
+    (see `equilibrium`)."""
 
     name: str
     u: np.ndarray
@@ -152,6 +154,37 @@ def held_dofs(model: Model, asm: Assembled) -> list[tuple[str, str]]:
     return [(model.node_names[d // 6], DIRECTIONS[d % 6]) for d in keep]
 
 
+def equilibrium(coords: np.ndarray, applied: np.ndarray, reactions: np.ndarray) -> float:
+    """Relative out-of-balance of the applied loads and the support forces, both (n, 6) at
+    nodes at `coords` (n, 3): the resultant force over the sum of the applied force magnitudes,
+    and the resultant moment about the centroid of the nodes over the sum of the moment
+    magnitudes of loads and support forces (forces times their lever arms included); the
+    larger of the two."""
+    total = applied + reactions
+    arm = coords - coords.mean(axis=0)
+    force = total[:, :3].sum(axis=0)
+    moment = (np.cross(arm, total[:, :3]) + total[:, 3:]).sum(axis=0)
+    f_ref = np.abs(applied[:, :3]).sum()
+    gross = np.abs(applied) + np.abs(reactions)
+    m_ref = (np.linalg.norm(arm, axis=1) * np.linalg.norm(gross[:, :3], axis=1)).sum() + gross[:, 3:].sum()
+    if f_ref + m_ref == 0:
+        return 0.0
+    return float(max(np.abs(force).max() / max(f_ref, 1e-300) if f_ref else 0.0,
+                     np.abs(moment).max() / max(m_ref, 1e-300) if m_ref else 0.0))
+
+
+def support_forces(model: Model, asm: Assembled, residual: np.ndarray, u: np.ndarray) -> np.ndarray:
+    """Forces of the supports and springs on the structure, (..., 6n): the out-of-balance
+    K u - f at restrained DOFs, and -k u where a spring to ground holds a free DOF (the spring
+    is part of K, so its force never shows in the residual). Works on stacks of fields."""
+    out = np.zeros_like(residual)
+    out[..., asm.fixed] = residual[..., asm.fixed]
+    k = model.springs.ravel()
+    sprung = asm.free[k[asm.free] > 0]
+    out[..., sprung] = -k[sprung] * u[..., sprung]
+    return out
+
+
 def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> StaticResult:
     lu = lu or factorise(model, asm)
     f, fe = load_vector(model, asm, case)
@@ -165,15 +198,11 @@ def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> Stati
     if not np.isfinite(u).all():
         raise MechanismError(f"case {case.name}: the solve did not give finite displacements; "
                              "the stiffness is singular or badly conditioned", [])
-    r = asm.K @ u - f
-    reactions = np.zeros_like(u)
-    reactions[asm.fixed] = r[asm.fixed]
+    reactions = support_forces(model, asm, asm.K @ u - f, u)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     T = el.transform_matrix(asm.R)
     ue = np.einsum("eab,eb->ea", T, u[dofs])
     mf = np.einsum("eab,eb->ea", asm.k_local, ue) - fe
     applied = f.reshape(-1, 6)
-    tot = applied[:, :3].sum(0) + reactions.reshape(-1, 6)[:, :3].sum(0)
-    ref = max(np.abs(applied[:, :3]).sum(), 1e-300)
     return StaticResult(case.name, u.reshape(-1, 6), reactions.reshape(-1, 6), mf, applied,
-                        float(np.abs(tot).max() / ref))
+                        equilibrium(model.coords, applied, reactions.reshape(-1, 6)))
