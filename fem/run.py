@@ -61,10 +61,16 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
                 modal.append(solve_modes_case(model, asm, c))
     statics = [c for c in model.cases if c.kind == "static"]
     results = []
+    factor = []          # one factorisation of K, shared by every case that needs one
+
+    def lu():
+        if not factor:
+            factor.append(factorise(model, asm))
+        return factor[0]
+
     if statics or model.combinations:
-        lu = factorise(model, asm)
-        model.settings["_condition"] = condition_estimate(asm.K[asm.free][:, asm.free].tocsc(), lu)
-        results = [solve_static(model, asm, c, lu) for c in statics]
+        model.settings["_condition"] = condition_estimate(asm.K[asm.free][:, asm.free].tocsc(), lu())
+        results = [solve_static(model, asm, c, lu()) for c in statics]
     by_name = {r.name: r for r in results}
     for combo in model.combinations:
         parts = [(f, by_name[n]) for n, f in combo.factors.items()]
@@ -79,15 +85,15 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
             start = by_name[c.options["start"]].u if c.options["start"] else None
             modal.append(solve_free_case(model, asm, c, modal_by[c.options["modes"]], start))
         elif c.kind == "history":
-            lu = factorise(model, asm) if c.options.get("correction") else None
             with stage(f"history case {c.name}: integrating"):
-                modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]], lu))
+                modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]],
+                                                lu() if c.options.get("correction") else None))
         elif c.kind == "spectrum":
-            lu = factorise(model, asm) if c.options.get("missing") else None
-            modal.append(solve_spectrum_case(model, asm, c, modal_by[c.options["modes"]], lu))
+            modal.append(solve_spectrum_case(model, asm, c, modal_by[c.options["modes"]],
+                                             lu() if c.options.get("missing") else None))
         elif c.kind == "harmonic":
-            lu = factorise(model, asm) if c.options.get("correction") else None
-            modal.append(solve_harmonic_case(model, asm, c, modal_by[c.options["modes"]], lu))
+            modal.append(solve_harmonic_case(model, asm, c, modal_by[c.options["modes"]],
+                                             lu() if c.options.get("correction") else None))
     return results, modal
 
 

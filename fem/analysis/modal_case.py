@@ -61,8 +61,9 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
         # add modes until the cumulative effective mass reaches the target in each direction
         cap = min(case.options.get("max", 300), len(f))
         k = min(12, cap)
+        K, M, cache = K.tocsr(), M.tocsr(), {}
         while True:
-            modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=k)
+            modes = solve_modes(K, M, n_modes=k, cache=cache)
             part = participation(modes.phi, M, R)
             got = np.nan_to_num(part.cumulative[-1, :3], nan=1.0)
             met = bool(np.all(got >= target - 1e-12))
@@ -74,7 +75,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
                     for d in range(3)]
             keep = max(need) + 1
             if keep < len(modes.omega):      # solve again so every check speaks of these modes
-                modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=keep)
+                modes = solve_modes(K, M, n_modes=keep, cache=cache)
                 part = participation(modes.phi, M, R)
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi

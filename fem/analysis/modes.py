@@ -140,7 +140,8 @@ def _lanczos(K, M, k, sigma, factor):
 
 
 def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
-                shift: float | None = None, sturm: bool = True, factor_kind: str = "auto") -> ModalResult:
+                shift: float | None = None, sturm: bool = True, factor_kind: str = "auto",
+                cache: dict | None = None) -> ModalResult:
     """Lowest modes of the pencil (K, M), K and M symmetric (n, n), M positive semi-definite.
 
     n_modes modes, or all with frequency up to f_max (Hz), or both (the smaller set).
@@ -149,7 +150,8 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
     n <= DENSE_LIMIT. DOFs without mass
     have no finite mode; at most n minus their number modes exist. With `sturm`, the number
     of eigenvalues below a shift just above the last mode is counted from a factorisation
-    (Sylvester's law of inertia) and compared with the number computed.
+    (Sylvester's law of inertia) and compared with the number computed. Pass the same dict as
+    `cache` to calls on the same K and M to factor them only once.
     """
     n = K.shape[0]
     if n_modes is None and f_max is None:
@@ -167,7 +169,10 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
     else:
         from .factor import shift_invert_factor
 
-        factor, sigma = shift_invert_factor(K, M, shift, factor_kind)
+        cache = {} if cache is None else cache
+        if "factor" not in cache:
+            cache["factor"] = shift_invert_factor(K, M, shift, factor_kind)
+        factor, sigma = cache["factor"]
         inertia_kind, band_order = factor.kind, factor.order
         k = min((want if n_modes else 20) + extra, n_fin - 2)
         while True:
