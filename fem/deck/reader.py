@@ -73,6 +73,7 @@ class _Reader:
         self.stack: list[Path] = []
         self.lines: dict[Path, list[str]] = {}
         self.token_file: dict[int, Path] = {}
+        self.quantities: dict[str, Quantity] = {}      # literal text -> value, e.g. "6 m"
 
     # ---------- files and locations
     def read_file(self, path: Path, where: Location | None = None) -> None:
@@ -90,6 +91,11 @@ class _Reader:
         self.stack.append(path)
         try:
             tree = self.parse(text, path)
+            for sub in tree.iter_subtrees():        # remember each item's file, once per file
+                sub.meta.qfile = path
+                for c in sub.children:
+                    if isinstance(c, Token):
+                        self.token_file[id(c)] = path
             for stmt in tree.children:
                 self.statement(stmt)
         finally:
@@ -164,6 +170,9 @@ class _Reader:
 
     def quantity(self, tok: Token) -> Quantity:
         text = str(tok)
+        known = self.quantities.get(text)
+        if known is not None:            # loops read the same literals over and over
+            return known
         i = 0
         while i < len(text) and (text[i].isdigit() or text[i] in ".eE+-") and not (
                 text[i] in "eE" and (i + 1 >= len(text) or not (text[i + 1].isdigit() or text[i + 1] in "+-"))):
@@ -177,6 +186,7 @@ class _Reader:
                 raise DeckError(f"unknown unit '{sym}'; {suggest(sym, U.UNITS)}", self.loc(tok))
             base = base ** Quantity(power)
             q = q * base if op == "*" else q / base
+        self.quantities[text] = q
         return q
 
     def call(self, fname, args, tok) -> Quantity:
@@ -272,12 +282,6 @@ class _Reader:
 
     # ---------- statements
     def statement(self, s: Tree) -> None:
-        path = self.stack[-1]
-        for sub in s.iter_subtrees():
-            sub.meta.qfile = path
-            for c in sub.children:
-                if isinstance(c, Token):
-                    self.token_file[id(c)] = path
         getattr(self, "st_" + s.data)(s)
 
     def st_title(self, s):
