@@ -97,6 +97,29 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     return results, modal
 
 
+def unit_shape_mass_stiffness(r) -> tuple[np.ndarray, np.ndarray]:
+    """Modal mass (kg) and stiffness (N/m) of each mode shape scaled so that its largest nodal
+    translation is 1 m (its largest rotation 1 rad if no node translates): the generalised
+    mass phi^T M phi and stiffness w^2 phi^T M phi before mass normalisation."""
+    sh = r.shapes                                           # (n, 6, k), mass-normalised
+    top = np.abs(sh[:, :3]).max(axis=(0, 1))
+    top = np.where(top > 0, top, np.abs(sh[:, 3:]).max(axis=(0, 1)))
+    mass = 1.0 / np.where(top > 0, top, np.inf) ** 2
+    return mass, mass * r.modes.omega ** 2
+
+
+def _all_modes_check(r):
+    """With every finite mode computed the effective masses add up to the participating mass
+    in each translation (a physical fact); None when fewer modes were computed."""
+    m = r.modes
+    if m.sturm_expected is None or len(m.omega) < r.n_finite:
+        return None, None
+    tot = r.part.total[:3]
+    got = r.part.effective_mass[:, :3].sum(axis=0)
+    err = float(np.max(np.abs(got - tot) / np.where(tot > 0, tot, 1.0)))
+    return err, bool(err < 1e-8)
+
+
 def modal_checks(r) -> dict:
     if isinstance(r, SpectrumResult):
         return {"missing_mass_fraction": dict(zip("XYZ", map(float, r.missing_fraction))),
@@ -111,6 +134,7 @@ def modal_checks(r) -> dict:
                 "inertia_balance_pass": bool(r.inertia_balance < BALANCE_TOL)}
     m = r.modes
     k = len(m.omega)
+    complete_err, complete_ok = _all_modes_check(r)
     return {"max_residual": float(m.residual.max()), "residual_pass": bool(m.residual.max() < RESIDUAL_TOL),
             "mass_orthogonality": m.orth_mass, "stiffness_orthogonality": m.orth_stiff,
             "orthogonality_pass": bool(max(m.orth_mass, m.orth_stiff) < ORTHO_TOL),
@@ -118,6 +142,8 @@ def modal_checks(r) -> dict:
             "sturm_shift_Hz": None if m.sturm_shift is None else float(np.sqrt(max(m.sturm_shift, 0)) / (2 * np.pi)),
             "none_missed": None if m.sturm_count is None else bool(m.sturm_count == m.sturm_expected),
             "cumulative_mass_fraction": dict(zip(AXES[:3], map(float, r.part.cumulative[-1, :3]))),
+            "all_modes_computed": bool(k >= r.n_finite), "effective_mass_sum_error": complete_err,
+            "effective_mass_sum_pass": complete_ok,
             "mass_target": None if r.target is None else r.target.tolist(), "mass_target_met": r.target_met}
 
 
@@ -133,7 +159,8 @@ def _modal_ok(r) -> bool:
     if isinstance(r, (HistoryResult, HarmonicResult, SpectrumResult)):
         return True
     c = modal_checks(r)
-    return c["residual_pass"] and c["orthogonality_pass"] and c["none_missed"] is not False
+    return (c["residual_pass"] and c["orthogonality_pass"] and c["none_missed"] is not False
+            and c["effective_mass_sum_pass"] is not False)
 
 
 def _write_csv(path: Path, header, rows) -> None:
@@ -194,14 +221,17 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     free = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
     modal = [x for x in modal if isinstance(x, ModesCaseResult)]
     if modal:
-        head = ["case", "mode", "frequency_Hz", "omega_rad_s", "period_s"]
+        head = ["case", "mode", "frequency_Hz", "omega_rad_s", "period_s", "modal_mass_kg",
+                "modal_stiffness_N_per_m"]
         head += [f"gamma_{a}" for a in AXES] + [f"mass_fraction_{a}" for a in AXES]
         head += [f"cumulative_{a}" for a in AXES]
         rows = []
         for r in modal:
             m, p = r.modes, r.part
+            mm, mk = unit_shape_mass_stiffness(r)
             for j in range(len(m.omega)):
                 rows.append([r.name, j + 1, float(m.freq[j]), float(m.omega[j]), float(m.period[j]),
+                             float(mm[j]), float(mk[j]),
                              *map(float, p.gamma[j]), *map(float, p.fraction[j]), *map(float, p.cumulative[j])])
         _write_csv(out / "modes.csv", head, rows)
         _write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
@@ -232,6 +262,8 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                   for r in results if isinstance(r, StaticResult)] + [
                   {"name": r.name, "kind": "modes", "solver": r.modes.solver,
                    "frequency_Hz": r.modes.freq.tolist(), "period_s": r.modes.period.tolist(),
+                   "modal_mass_kg": unit_shape_mass_stiffness(r)[0].tolist(),
+                   "modal_stiffness_N_per_m": unit_shape_mass_stiffness(r)[1].tolist(),
                    "effective_mass_kg": r.part.effective_mass.tolist(),
                    "participating_total_kg": r.part.total.tolist(),
                    "reference_point_m": np.asarray(r.reference).tolist(),
@@ -429,6 +461,9 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
                      "raise max or check the model"))
         print(f"               residual {c['max_residual']:.1e}  M-orthogonality {c['mass_orthogonality']:.1e}"
               f"  Sturm count {missed}  effective mass {cum}")
+        if c["effective_mass_sum_pass"] is not None:
+            print(f"               all {len(r.modes.freq)} modes: effective masses add up to the total mass to "
+                  f"{c['effective_mass_sum_error']:.1e} {'pass' if c['effective_mass_sum_pass'] else 'FAIL'}")
     print(f"  {notice}")
     print(f"results in {target}/")
     print("Caution: " + CAUTION)

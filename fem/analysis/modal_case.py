@@ -27,6 +27,7 @@ class ModesCaseResult:
     target: np.ndarray | None = None   # (3,) requested cumulative mass fractions X, Y, Z
     target_met: bool | None = None
     first_mode: int = 0                # index of shapes[..., 0] in the full set (for one-mode views)
+    n_finite: int = 0                  # free DOFs that carry mass: the number of finite modes
 
 
 def influence_vectors(model: Model, point) -> np.ndarray:
@@ -79,8 +80,10 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
                 part = participation(modes.phi, M, R)
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
+    from .modes import massless_dofs
+
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,
-                           target, met)
+                           target, met, n_finite=int(len(f) - massless_dofs(M).sum()))
 
 
 

@@ -87,6 +87,9 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                          _ok(ch["orthogonality_pass"])])
             rows.append([f"{c['name']}: no mode missed (Sturm count)", f"{ch['sturm_count']} below the shift, {ch['sturm_expected']} computed",
                          _ok(ch["none_missed"])])
+            if ch.get("effective_mass_sum_pass") is not None:
+                rows.append([f"{c['name']}: all modes, effective masses sum to the total", f"{ch['effective_mass_sum_error']:.1e}",
+                             _ok(ch["effective_mass_sum_pass"])])
             if ch.get("mass_target") is not None:
                 rows.append([f"{c['name']}: effective-mass target", str([f"{100 * v:.0f}%" for v in ch["mass_target"]]),
                              _ok(ch["mass_target_met"])])
