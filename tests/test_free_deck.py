@@ -130,7 +130,8 @@ def _full_system_force_peaks(m, t, a0, a1):
 @pytest.mark.parametrize("damping,a0a1", [
     ("damping = 0", (0.0, 0.0)),
     ("rayleigh = (4 Hz, 2 percent, 100 Hz, 3 percent)", None),
-], ids=["undamped", "rayleigh"])
+    ("rayleigh = (0.6 Hz, 0.0001 s)", (0.6, 1e-4)),
+], ids=["undamped", "rayleigh", "rayleigh-coefficients"])
 def test_free_case_force_peaks_match_full_system(damping, a0a1):
     # all 36 modes kept, so modal superposition is exact: the peak reactions and member end
     # forces over the time grid must equal those of the whole system integrated exactly in time
@@ -234,3 +235,15 @@ def test_free_case_rows_in_the_tables(tmp_path):
     report = (out / "report.html").read_text()
     assert "REL: reactions hold the inertia forces, mode by mode" in report
     assert f"{fr.member_peak[:, [4, 10]].max() / 1e3:.4g} kN m at M0 end i" in report
+
+
+@pytest.mark.parametrize("damping,message", [
+    ("damping = 2 percent, rayleigh = (4 Hz, 2 percent, 100 Hz, 3 percent)", "not both"),
+    ("rayleigh = (4 Hz, 2 percent, 100 Hz)", r"\(a0, a1\)"),
+    ("rayleigh = (0.6 Hz, 1 kN)", "needs a time"),
+    ("rayleigh = (4 Hz, 120 percent, 100 Hz, 3 percent)", "ratios lie from 0"),
+], ids=["both", "three-values", "a1-unit", "ratio"])
+def test_damping_mistakes_are_located(damping, message):
+    with pytest.raises(DeckError, match=message) as info:
+        read_text(FRAME % damping)
+    assert info.value.location is not None

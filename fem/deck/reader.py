@@ -825,6 +825,8 @@ class _Reader:
     def dynamic_common(self, case, key, val, where, out, nidx) -> bool:
         """Options every modal response case shares: damping, rayleigh, record. True if handled."""
         what = f"case {case.name}: {key}"
+        if key in ("damping", "rayleigh") and {"damping", "rayleigh"} <= set(case.options):
+            raise DeckError(f"case {case.name}: give damping = ... or rayleigh = ..., not both", where)
         if key == "damping":
             if isinstance(val, Tree) and val.data == "vector":
                 z = np.array([self.value(c, U.NONE, what) for c in val.children])
@@ -834,14 +836,24 @@ class _Reader:
                 raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
             out["damping"] = z
         elif key == "rayleigh":
-            if not (isinstance(val, Tree) and val.data == "vector" and len(val.children) == 4):
-                raise DeckError(f"{what} is (f1, ratio1, f2, ratio2), e.g. (1 Hz, 2 percent, 10 Hz, 2 percent)", where)
+            form = "(f1, ratio1, f2, ratio2), e.g. (1 Hz, 2 percent, 10 Hz, 2 percent), or the coefficients " \
+                   "(a0, a1) of C = a0 M + a1 K, e.g. (0.3 Hz, 0.002 s)"
+            if not (isinstance(val, Tree) and val.data == "vector" and len(val.children) in (2, 4)):
+                raise DeckError(f"{what} is {form}", where)
             c = val.children
-            f1, f2 = self.value(c[0], U.FREQ, what), self.value(c[2], U.FREQ, what)
-            z1, z2 = self.value(c[1], U.NONE, what), self.value(c[3], U.NONE, what)
-            if not (f1 > 0 and f2 > 0 and f1 != f2):
-                raise DeckError(f"{what}: two different positive frequencies are needed", where)
-            out["rayleigh"] = (f1, z1, f2, z2)
+            if len(c) == 2:
+                a0, a1 = self.value(c[0], U.FREQ, what + " a0"), self.value(c[1], U.TIME, what + " a1")
+                if a0 < 0 or a1 < 0 or a0 + a1 == 0:
+                    raise DeckError(f"{what}: the coefficients cannot be negative and not both zero", where)
+                out["rayleigh"] = (a0, a1)
+            else:
+                f1, f2 = self.value(c[0], U.FREQ, what), self.value(c[2], U.FREQ, what)
+                z1, z2 = self.value(c[1], U.NONE, what), self.value(c[3], U.NONE, what)
+                if not (f1 > 0 and f2 > 0 and f1 != f2):
+                    raise DeckError(f"{what}: two different positive frequencies are needed", where)
+                if not (0 <= z1 < 1 and 0 <= z2 < 1):
+                    raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
+                out["rayleigh"] = (f1, z1, f2, z2)
         elif key == "record":
             if not (isinstance(val, Token) and val.type == "STRING"):
                 raise DeckError(f'{what} is a quoted node name or pattern, e.g. record = "P10_*"', where)
