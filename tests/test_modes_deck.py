@@ -109,3 +109,27 @@ case MODES modes { count = 50 }
     np.testing.assert_allclose(c["modal_stiffness_N_per_m"][:2], k_tip, rtol=1e-6)   # I to 7 digits
     assert c["checks"]["all_modes_computed"] and c["checks"]["effective_mass_sum_pass"]
     assert c["checks"]["effective_mass_sum_error"] < 1e-12
+
+
+@pytest.mark.parametrize("ends,constants,rigid", [
+    # reference-values.md section 1 (Blevins 1979 Table 8-1; roots C): (beta_n L)^2 per end
+    # condition; free-free adds six rigid-body modes at zero frequency
+    ("support N0 pinned\nsupport N24 (uy, uz)\nsupport N0 (rx)", [9.86960440, 39.4784176, 88.8264396], 0),
+    ("support N0 fixed\nsupport N24 fixed", [22.3732854, 61.6728229, 120.903392], 0),
+    ("", [22.3732854, 61.6728229, 120.903392], 6),
+], ids=["pinned-pinned", "clamped-clamped", "free-free"])
+def test_beam_frequency_constants_other_ends(ends, constants, rigid):
+    # NPS 6 Sch 40 pipe, L = 5 m, E = 200 GPa, rho = 7850 (round: each bending mode twice);
+    # 24 cubic elements converge from above as h^4 (checked on the cantilever above): the third
+    # clamped-clamped mode is 3.0e-5 high here, so 5e-5
+    deck = CANTILEVER.replace("support N0 fixed\n", ends + "\n").format(n=24, count=rigid + 8, mass="consistent")
+    m = read_text(deck)
+    r = solve_modes_case(m, assemble(m), m.cases[0])
+    f = r.modes.freq
+    assert np.all(f[:rigid] < 1e-6) and (rigid == 0 or f[rigid] > 1.0)
+    EI, mass = 200e9 * 1.171623e-5, 7850 * 3.600457e-3
+    ref = np.array(constants) * np.sqrt(EI / (mass * 5.0**4)) / (2 * np.pi)
+    bending = f[rigid:]
+    for fn in ref:
+        assert np.isclose(bending, fn, rtol=5e-5).sum() == 2
+    assert r.modes.sturm_count == r.modes.sturm_expected
