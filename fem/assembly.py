@@ -36,7 +36,10 @@ def element_matrices(model: Model, condense: bool = True, sel=None):
     """Batched local stiffness and mass (e, 12, 12), axes R (e, 3, 3) and lengths L (e,) of all
     members, or of the members `sel` (index array or slice).
 
-    With condense=False the stiffness is returned before end releases are condensed out."""
+    With condense=False the stiffness is returned before end releases are condensed out. The
+    mass is never condensed: a released end keeps its consistent mass on the node's DOFs. With
+    `shear = on` the consistent mass is the Timoshenko one (rotary inertia of bending included);
+    lumped mass is the same with shear on or off."""
     if sel is not None:
         return element_matrices(_subset(model, sel), condense)
     xi, xj = model.coords[model.conn[:, 0]], model.coords[model.conn[:, 1]]
@@ -59,7 +62,12 @@ def element_matrices(model: Model, condense: bool = True, sel=None):
     lumped = model.settings.get("mass", "consistent") == "lumped"
     k = el.frame_stiffness(L, model.E, model.G, model.A, model.Iy, model.Iz, model.J,
                            model.Avy if shear else None, model.Avz if shear else None)
-    m = el.frame_mass(L, model.rho, model.A, model.Iy, model.Iz, model.J, model.nsm, lumped)
+    if shear and not lumped:
+        # the mass of the same shear-flexible member, with the rotary inertia of bending
+        m = el.frame_mass_timoshenko(L, model.rho, model.A, model.Iy, model.Iz, model.J, model.E,
+                                     model.G, model.Avy, model.Avz, model.nsm)
+    else:
+        m = el.frame_mass(L, model.rho, model.A, model.Iy, model.Iz, model.J, model.nsm, lumped)
     t = model.truss
     if t.any():
         k[t] = el.truss_stiffness(L[t], model.E[t], model.A[t])
