@@ -249,6 +249,9 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
         "caution": CAUTION,
         "model": {"title": model.title, "deck": model.source, "nodes": model.n_nodes,
                   "members": model.n_members, "total_mass_kg": model.total_mass(),
+                  "member_theory": "Timoshenko (shear and rotary inertia)" if model.settings.get("shear")
+                  else "Euler-Bernoulli",
+                  "mass_matrix": model.settings.get("mass", "consistent"),
                   "bounding_box_m": [lo.tolist(), hi.tolist()],
                   "assembled_mass_kg": model.settings["_assembled_mass"].tolist(),
                   "stiffness_condition_estimate": model.settings.get("_condition"),
