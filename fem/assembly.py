@@ -36,8 +36,10 @@ def element_matrices(model: Model, condense: bool = True, sel=None):
     """Batched local stiffness and mass (e, 12, 12), axes R (e, 3, 3) and lengths L (e,) of all
     members, or of the members `sel` (index array or slice).
 
-    With condense=False the stiffness is returned before end releases are condensed out. The
-    mass is never condensed: a released end keeps its consistent mass on the node's DOFs. With
+    With condense=False the stiffness and mass are returned before end releases are condensed
+    out. A consistent mass is condensed with the stiffness's static transform (the released end
+    rotation follows the member, which restores h^4 convergence of frequencies next to hinges;
+    lumped mass is left as it is). With
     `shear = on` the consistent mass is the Timoshenko one (rotary inertia of bending included);
     lumped mass is the same with shear on or off."""
     if sel is not None:
@@ -74,6 +76,8 @@ def element_matrices(model: Model, condense: bool = True, sel=None):
         m[t] = el.truss_mass(L[t], model.rho[t], model.A[t], model.nsm[t], lumped)
     rel = model.releases & ~t[:, None]
     if condense and rel.any():
+        if not lumped:      # the released end follows the member statically, in mass as in stiffness
+            m = el.condense_mass(k, m, rel)
         k = el.condense_releases(k, rel)
     return k, m, R, L
 

@@ -2,6 +2,7 @@
 
 from .frame import (
     condense_load,
+    condense_mass,
     condense_releases,
     frame_mass,
     frame_mass_timoshenko,
@@ -16,6 +17,7 @@ from .frame import (
 
 __all__ = [
     "condense_load",
+    "condense_mass",
     "condense_releases",
     "frame_mass",
     "frame_mass_timoshenko",

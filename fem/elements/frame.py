@@ -364,6 +364,30 @@ def condense_releases(k, released):
     return kc
 
 
+def condense_mass(k, m, released):
+    """Consistent mass of members with released ends, condensed with the static transform of
+    condense_releases: a released end DOF follows the retained ones as u_b = X u_a with
+    X = -K_bb^-1 K_ba, so M_c = T^T M T with T = [I; X] on retained DOFs a and zero rows and
+    columns at released DOFs b. ``k`` (n, 12, 12) is the uncondensed local stiffness."""
+    m = np.asarray(m, dtype=float)
+    mc = m.copy()
+    pats, inv = _patterns(released, k.shape[0])
+    for p, pat in enumerate(pats):
+        if not pat.any():
+            continue
+        sel = np.flatnonzero(inv == p)
+        a, b = np.flatnonzero(~pat), np.flatnonzero(pat)
+        ks, ms = k[sel], m[sel]
+        X = -np.linalg.solve(ks[:, b][:, :, b], ks[:, b][:, :, a])          # (s, nb, na)
+        Xt = np.swapaxes(X, 1, 2)
+        mab = ms[:, a][:, :, b]
+        maa = ms[:, a][:, :, a] + mab @ X + Xt @ ms[:, b][:, :, a] + Xt @ ms[:, b][:, :, b] @ X
+        out = np.zeros_like(ms)
+        out[np.ix_(np.arange(len(sel)), a, a)] = maa
+        mc[sel] = out
+    return mc
+
+
 def condense_load(k, f, released):
     """Condense an element load vector consistently with condense_releases.
 
