@@ -36,8 +36,9 @@ class Section:
 class LoadItem:
     kind: str                 # "force", "moment", "line"
     targets: np.ndarray       # node or member indices
-    vector: np.ndarray        # (3,) SI, global axes
+    vector: np.ndarray        # (3,) SI, in the axes below
     location: Location | None = None
+    axes: str = "global"      # "global", or "local": member x, y, z (line loads only)
 
 
 @dataclass

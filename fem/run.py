@@ -37,6 +37,7 @@ COND_WARN = 1e11         # above this fewer than ~5 significant digits are safe 
 COND_REFUSE = 1e16       # beyond 1/eps (4.5e15) no digit of a solution is safe: refuse rather than print noise
 RESIDUAL_TOL = 1e-8      # backward error of an eigenpair; a double-precision solve gives ~1e-14
 ORTHO_TOL = 1e-8
+BALANCE_TOL = 1e-6       # per-mode reactions vs inertia forces; limited by the eigen residuals
 
 
 def assembled_mass(model: Model, asm) -> np.ndarray:
@@ -64,14 +65,20 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
                 modal.append(solve_modes_case(model, asm, c))
     statics = [c for c in model.cases if c.kind == "static"]
     results = []
+    factor = []          # one factorisation of K, shared by every case that needs one
+
+    def lu():
+        if not factor:
+            factor.append(factorise(model, asm))
+        return factor[0]
+
     if statics or model.combinations:
-        lu = factorise(model, asm)
-        model.settings["_condition"] = cond = condition_estimate(asm.K[asm.free][:, asm.free].tocsc(), lu)
+        model.settings["_condition"] = cond = condition_estimate(asm.K[asm.free][:, asm.free].tocsc(), lu())
         if cond > COND_REFUSE:
             raise ModelError(f"the stiffness is too badly conditioned to solve in double precision (condition "
                              f"estimate {cond:.1e}, above {COND_REFUSE:.0e}): no digit of the results would be safe; "
                              "check stiffness contrasts (springs, E, sections) and units")
-        results = [solve_static(model, asm, c, lu) for c in statics]
+        results = [solve_static(model, asm, c, lu()) for c in statics]
     by_name = {r.name: r for r in results}
     for combo in model.combinations:
         parts = [(f, by_name[n]) for n, f in combo.factors.items()]
@@ -86,16 +93,39 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
             start = by_name[c.options["start"]].u if c.options["start"] else None
             modal.append(solve_free_case(model, asm, c, modal_by[c.options["modes"]], start))
         elif c.kind == "history":
-            lu = factorise(model, asm) if c.options.get("correction") else None
             with stage(f"history case {c.name}: integrating"):
-                modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]], lu))
+                modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]],
+                                                lu() if c.options.get("correction") else None))
         elif c.kind == "spectrum":
-            lu = factorise(model, asm) if c.options.get("missing") else None
-            modal.append(solve_spectrum_case(model, asm, c, modal_by[c.options["modes"]], lu))
+            modal.append(solve_spectrum_case(model, asm, c, modal_by[c.options["modes"]],
+                                             lu() if c.options.get("missing") else None))
         elif c.kind == "harmonic":
-            lu = factorise(model, asm) if c.options.get("correction") else None
-            modal.append(solve_harmonic_case(model, asm, c, modal_by[c.options["modes"]], lu))
+            modal.append(solve_harmonic_case(model, asm, c, modal_by[c.options["modes"]],
+                                             lu() if c.options.get("correction") else None))
     return results, modal
+
+
+def unit_shape_mass_stiffness(r) -> tuple[np.ndarray, np.ndarray]:
+    """Modal mass (kg) and stiffness (N/m) of each mode shape scaled so that its largest nodal
+    translation is 1 m (its largest rotation 1 rad if no node translates): the generalised
+    mass phi^T M phi and stiffness w^2 phi^T M phi before mass normalisation."""
+    sh = r.shapes                                           # (n, 6, k), mass-normalised
+    top = np.abs(sh[:, :3]).max(axis=(0, 1))
+    top = np.where(top > 0, top, np.abs(sh[:, 3:]).max(axis=(0, 1)))
+    mass = 1.0 / np.where(top > 0, top, np.inf) ** 2
+    return mass, mass * r.modes.omega ** 2
+
+
+def _all_modes_check(r):
+    """With every finite mode computed the effective masses add up to the participating mass
+    in each translation (a physical fact); None when fewer modes were computed."""
+    m = r.modes
+    if m.sturm_expected is None or len(m.omega) < r.n_finite:
+        return None, None
+    tot = r.part.total[:3]
+    got = r.part.effective_mass[:, :3].sum(axis=0)
+    err = float(np.max(np.abs(got - tot) / np.where(tot > 0, tot, 1.0)))
+    return err, bool(err < 1e-8)
 
 
 def modal_checks(r) -> dict:
@@ -108,9 +138,11 @@ def modal_checks(r) -> dict:
     if isinstance(r, HistoryResult):
         return {"static_correction": r.corrected, "warnings": list(r.warnings)}
     if isinstance(r, FreeCaseResult):
-        return {"initial_displacement_captured": r.captured, "warnings": list(r.warnings)}
+        return {"initial_displacement_captured": r.captured, "inertia_balance_relative": r.inertia_balance,
+                "inertia_balance_pass": bool(r.inertia_balance < BALANCE_TOL), "warnings": list(r.warnings)}
     m = r.modes
     k = len(m.omega)
+    complete_err, complete_ok = _all_modes_check(r)
     return {"max_residual": float(m.residual.max()), "residual_pass": bool(m.residual.max() < RESIDUAL_TOL),
             "mass_orthogonality": m.orth_mass, "stiffness_orthogonality": m.orth_stiff,
             "orthogonality_pass": bool(max(m.orth_mass, m.orth_stiff) < ORTHO_TOL),
@@ -118,6 +150,8 @@ def modal_checks(r) -> dict:
             "sturm_shift_Hz": None if m.sturm_shift is None else float(np.sqrt(max(m.sturm_shift, 0)) / (2 * np.pi)),
             "none_missed": None if m.sturm_count is None else bool(m.sturm_count == m.sturm_expected),
             "cumulative_mass_fraction": dict(zip(AXES[:3], map(float, r.part.cumulative[-1, :3]))),
+            "all_modes_computed": bool(k >= r.n_finite), "effective_mass_sum_error": complete_err,
+            "effective_mass_sum_pass": complete_ok,
             "mass_target": None if r.target is None else r.target.tolist(), "mass_target_met": r.target_met}
 
 
@@ -128,10 +162,13 @@ def _mass_ok(model: Model) -> bool:
 
 
 def _modal_ok(r) -> bool:
-    if isinstance(r, (FreeCaseResult, HistoryResult, HarmonicResult, SpectrumResult)):
+    if isinstance(r, FreeCaseResult):
+        return r.inertia_balance < BALANCE_TOL
+    if isinstance(r, (HistoryResult, HarmonicResult, SpectrumResult)):
         return True
     c = modal_checks(r)
-    return c["residual_pass"] and c["orthogonality_pass"] and c["none_missed"] is not False
+    return (c["residual_pass"] and c["orthogonality_pass"] and c["none_missed"] is not False
+            and c["effective_mass_sum_pass"] is not False)
 
 
 def _write_csv(path: Path, header, rows) -> None:
@@ -146,6 +183,19 @@ def _fraction(x) -> float | str:
     return float(x) if np.isfinite(x) else ""
 
 
+END_FORCES = ("N", "Vy", "Vz", "T", "My", "Mz")
+
+
+def _force_peaks(model: Model, r, sup) -> dict:
+    """results.json entries of a free or history case: peak |reaction| at every supported or
+    sprung node, and the largest peak of each end-force component over all members."""
+    mp = r.member_peak.reshape(-1, 6)                 # rows: member 0 end i, member 0 end j, ...
+    where = mp.argmax(axis=0) if len(mp) else []
+    return {"reaction_peaks": {model.node_names[k]: r.reaction_peak[k].tolist() for k in sup},
+            "member_force_peak_max": {c: {"value": float(mp[w, j]), "member": model.member_names[w // 2],
+                                          "end": "ij"[w % 2]} for j, (c, w) in enumerate(zip(END_FORCES, where))}}
+
+
 def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> dict:
     modal_all = list(modal)
     nodes, mems = model.node_names, model.member_names
@@ -154,14 +204,13 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     tables = [(r.name, r.u, r.reactions, r.member_forces) for r in results]
     tables += [(x.name, x.u, x.reactions, x.member_forces) for x in modal if isinstance(x, SpectrumResult)]
     tables += [(x.name, x.peak, x.reaction_peak, x.member_peak) for x in modal
-               if isinstance(x, (HistoryResult, HarmonicResult))]
+               if isinstance(x, (FreeCaseResult, HistoryResult, HarmonicResult))]
     _write_csv(out / "displacements.csv", ["case", "node", *DIRECTIONS],
                [[name, n, *map(float, u[k])] for name, u, _, _ in tables for k, n in enumerate(nodes)])
     sup = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
     _write_csv(out / "reactions.csv", ["case", "node", "Fx", "Fy", "Fz", "Mx", "My", "Mz"],
                [[name, nodes[k], *map(float, rr[k])] for name, _, rr, _ in tables for k in sup])
-    labels = ["N", "Vy", "Vz", "T", "My", "Mz"]
-    _write_csv(out / "member_forces.csv", ["case", "member", "end", *labels],
+    _write_csv(out / "member_forces.csv", ["case", "member", "end", *END_FORCES],
                [[name, m, end, *map(float, mf[k, 6 * e:6 * e + 6])]
                 for name, _, _, mf in tables for k, m in enumerate(mems) for e, end in enumerate("ij")])
     for r in [x for x in modal if isinstance(x, FreeCaseResult)]:
@@ -185,14 +234,17 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     free = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
     modal = [x for x in modal if isinstance(x, ModesCaseResult)]
     if modal:
-        head = ["case", "mode", "frequency_Hz", "omega_rad_s", "period_s"]
+        head = ["case", "mode", "frequency_Hz", "omega_rad_s", "period_s", "modal_mass_kg",
+                "modal_stiffness_N_per_m"]
         head += [f"gamma_{a}" for a in AXES] + [f"mass_fraction_{a}" for a in AXES]
         head += [f"cumulative_{a}" for a in AXES]
         rows = []
         for r in modal:
             m, p = r.modes, r.part
+            mm, mk = unit_shape_mass_stiffness(r)
             for j in range(len(m.omega)):
                 rows.append([r.name, j + 1, float(m.freq[j]), float(m.omega[j]), float(m.period[j]),
+                             float(mm[j]), float(mk[j]),
                              *map(float, p.gamma[j]), *map(_fraction, p.fraction[j]), *map(_fraction, p.cumulative[j])])
         _write_csv(out / "modes.csv", head, rows)
         _write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
@@ -210,6 +262,9 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
         "caution": CAUTION,
         "model": {"title": model.title, "deck": model.source, "nodes": model.n_nodes,
                   "members": model.n_members, "total_mass_kg": model.total_mass(),
+                  "member_theory": "Timoshenko (shear and rotary inertia)" if model.settings.get("shear")
+                  else "Euler-Bernoulli",
+                  "mass_matrix": model.settings.get("mass", "consistent"),
                   "bounding_box_m": [lo.tolist(), hi.tolist()],
                   "assembled_mass_kg": model.settings["_assembled_mass"].tolist(),
                   "stiffness_condition_estimate": model.settings.get("_condition"),
@@ -223,6 +278,8 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                   for r in results if isinstance(r, StaticResult)] + [
                   {"name": r.name, "kind": "modes", "solver": r.modes.solver,
                    "frequency_Hz": r.modes.freq.tolist(), "period_s": r.modes.period.tolist(),
+                   "modal_mass_kg": unit_shape_mass_stiffness(r)[0].tolist(),
+                   "modal_stiffness_N_per_m": unit_shape_mass_stiffness(r)[1].tolist(),
                    "effective_mass_kg": r.part.effective_mass.tolist(),
                    "participating_total_kg": r.part.total.tolist(),
                    "reference_point_m": np.asarray(r.reference).tolist(),
@@ -233,6 +290,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "peak_translation_m": float(np.abs(r.peak[:, :3]).max()),
                    "peaks": {nodes[k]: {"value": r.peak[k].tolist(), "time_s": r.peak_time[k].tolist()}
                              for k in range(len(nodes))},
+                   **_force_peaks(model, r, sup),
                    "checks": modal_checks(r)} for r in free] + [
                   {"name": r.name, "kind": "harmonic", "damping_ratio": r.zeta.tolist(),
                    "frequencies": len(r.freq), "band_Hz": [float(r.freq[0]), float(r.freq[-1])],
@@ -428,6 +486,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             print(f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "
                   f"{np.abs(r.peak[:, :3]).max():.4g} m; modes capture "
                   f"{100 * r.captured:.2f}% of the initial displacement (M-norm)")
+            ok = "pass" if c["inertia_balance_pass"] else "FAIL"
+            print(f"               reactions balance the modal inertia forces to {r.inertia_balance:.1e} {ok}")
             for w in r.warnings:
                 print(f"               warning: {w}")
             continue
@@ -444,6 +504,9 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
               f"orthogonality M {c['mass_orthogonality']:.1e} K {c['stiffness_orthogonality']:.1e} "
               f"{verdict[c['orthogonality_pass']]}"
               f"  Sturm count {missed}  effective mass {cum}")
+        if c["effective_mass_sum_pass"] is not None:
+            print(f"               all {len(r.modes.freq)} modes: effective masses add up to the total mass to "
+                  f"{c['effective_mass_sum_error']:.1e} {'pass' if c['effective_mass_sum_pass'] else 'FAIL'}")
     print(f"  {notice}")
     print(f"results in {target}/")
     print("Caution: " + CAUTION)

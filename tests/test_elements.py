@@ -10,6 +10,7 @@ import scipy.linalg
 
 from fem.elements import (
     condense_load,
+    condense_mass,
     condense_releases,
     frame_mass,
     frame_stiffness,
@@ -348,3 +349,26 @@ def test_batched_equals_one_by_one():
                                                   Avy=0.5 * A, Avz=avz)[0], rtol=1e-14, atol=0)
         assert np.allclose(mb[e], frame_mass(Ls[e], RHO, A, I, Izs[e], J,
                                              nsm=[0.0, 5.0, 1.0][e])[0], rtol=1e-14, atol=0)
+
+
+def test_condensed_mass_keeps_rigid_motion_and_kinetic_energy():
+    """Released end condensed from the mass with the stiffness's static transform: symmetric,
+    PSD, zero at the released DOFs; a rigid translation still carries (rho A) L, since the
+    released rotation of a rigidly moving member is zero (physical fact); and the condensed mass
+    equals T^T M T built with a dense solve (scipy)."""
+    L = 3.0
+    k = frame_stiffness(L, E, G, A, I, 2 * I, J)
+    m = frame_mass(L, RHO, A, I, 2 * I, J)
+    rel = np.zeros((1, 12), bool)
+    rel[0, [10, 11]] = True                               # hinge at j about local y and z
+    mc = condense_mass(k, m, rel)[0]
+    assert np.allclose(mc, mc.T, atol=0) and np.all(mc[[10, 11]] == 0) and np.all(mc[:, [10, 11]] == 0)
+    assert np.linalg.eigvalsh(mc).min() > -1e-12 * np.abs(mc).max()
+    for t in np.eye(3):
+        u = np.r_[t, 0, 0, 0, t, 0, 0, 0]
+        assert u @ mc @ u == pytest.approx(RHO * A * L, rel=1e-13)
+    a, b = np.r_[0:10], np.r_[10:12]
+    T = np.zeros((12, 10))
+    T[a, np.arange(10)] = 1.0
+    T[b] = -scipy.linalg.solve(k[0][np.ix_(b, b)], k[0][np.ix_(b, a)])
+    np.testing.assert_allclose(mc[np.ix_(a, a)], T.T @ m[0] @ T, rtol=1e-12, atol=1e-12 * np.abs(mc).max())

@@ -80,3 +80,88 @@ def test_mass_participation_target():
     m = read_text(text.replace("count = 40", "target = (0, 0, 99.9 percent), max = 3"))
     r = solve_modes_case(m, assemble(m), m.cases[0])
     assert r.target_met is False and len(r.modes.freq) == 3
+
+
+def test_modal_mass_and_stiffness_of_a_tip_mass_on_a_massless_cantilever(tmp_path):
+    # a point mass on a massless cantilever is a single-DOF system per bending plane: with the
+    # shape scaled to a unit tip translation the modal mass is the point mass and the modal
+    # stiffness the tip stiffness 3EI/L^3 (Roark 7th ed. Table 8.1); omega^2 = k/m. With every
+    # finite mode computed the effective masses add up to the total mass (physical fact).
+    import json
+
+    from fem.run import run_deck
+    deck = tmp_path / "tip.deck"
+    deck.write_text("""
+material LIGHT { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+for i in 0..4 { node N[i] = (i*1.25 m, 0, 0) }
+for i in 0..3 { member M[i] : N[i] -> N[i+1] beam P LIGHT }
+support N0 fixed
+mass N4 = 500 kg
+case MODES modes { count = 50 }
+""")
+    assert run_deck(str(deck), str(tmp_path / "out"), render=False) == 0
+    doc = json.loads((tmp_path / "out" / "results.json").read_text())
+    c = next(c for c in doc["cases"] if c["name"] == "MODES")
+    k_tip = 3 * 200e9 * 1.171623e-5 / 5.0**3           # NPS 6 Sch 40, I from reference-values §4
+    assert len(c["frequency_Hz"]) == 3                 # three translations of the one mass
+    np.testing.assert_allclose(c["modal_mass_kg"][:2], 500.0, rtol=1e-12)
+    np.testing.assert_allclose(c["modal_stiffness_N_per_m"][:2], k_tip, rtol=1e-6)   # I to 7 digits
+    assert c["checks"]["all_modes_computed"] and c["checks"]["effective_mass_sum_pass"]
+    assert c["checks"]["effective_mass_sum_error"] < 1e-12
+
+
+@pytest.mark.parametrize("ends,constants,rigid", [
+    # reference-values.md section 1 (Blevins 1979 Table 8-1; roots C): (beta_n L)^2 per end
+    # condition; free-free adds six rigid-body modes at zero frequency
+    ("support N0 pinned\nsupport N24 (uy, uz)\nsupport N0 (rx)", [9.86960440, 39.4784176, 88.8264396], 0),
+    ("support N0 fixed\nsupport N24 fixed", [22.3732854, 61.6728229, 120.903392], 0),
+    ("", [22.3732854, 61.6728229, 120.903392], 6),
+], ids=["pinned-pinned", "clamped-clamped", "free-free"])
+def test_beam_frequency_constants_other_ends(ends, constants, rigid):
+    # NPS 6 Sch 40 pipe, L = 5 m, E = 200 GPa, rho = 7850 (round: each bending mode twice);
+    # 24 cubic elements converge from above as h^4 (checked on the cantilever above): the third
+    # clamped-clamped mode is 3.0e-5 high here, so 5e-5
+    deck = CANTILEVER.replace("support N0 fixed\n", ends + "\n").format(n=24, count=rigid + 8, mass="consistent")
+    m = read_text(deck)
+    r = solve_modes_case(m, assemble(m), m.cases[0])
+    f = r.modes.freq
+    assert np.all(f[:rigid] < 1e-6) and (rigid == 0 or f[rigid] > 1.0)
+    EI, mass = 200e9 * 1.171623e-5, 7850 * 3.600457e-3
+    ref = np.array(constants) * np.sqrt(EI / (mass * 5.0**4)) / (2 * np.pi)
+    bending = f[rigid:]
+    for fn in ref:
+        assert np.isclose(bending, fn, rtol=5e-5).sum() == 2
+    assert r.modes.sturm_count == r.modes.sturm_expected
+
+
+RELEASED = """
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+let n = %d
+for i in 0..n { node N[i] = (i*5 m/n, 0, 0) }
+for i in 0..n-2 { member M[i] : N[i] -> N[i+1] beam P S }
+member LAST : N[n-1] -> N[n] beam P S release j (ry, rz)
+support N0 fixed
+support N[n] pinned
+case MODES modes { count = 4 }
+"""
+
+
+def test_hinge_by_release_converges_to_clamped_pinned_constants():
+    # a clamped beam whose last member is released at the pinned end: reference-values.md
+    # section 1 (Blevins 1979 Table 8-1; roots C) clamped-pinned (beta L)^2 = 15.4182057,
+    # 49.9648620. The released end's mass is condensed with the stiffness's static transform, so
+    # the error falls as h^4 (observed 4.1e-5, 2.6e-6 for mode 1 and 4.3e-4, 2.7e-5 for mode 2 on
+    # 8 and 16 members: about 16x per halving; an uncondensed mass gave only 8x, 20-80x larger)
+    EI, mass = 200e9 * 1.171623e-5, 7850 * 3.600457e-3
+    ref = np.array([15.4182057, 49.9648620]) * np.sqrt(EI / (mass * 5.0**4)) / (2 * np.pi)
+    err = []
+    for n in (8, 16):
+        m = read_text(RELEASED % n)
+        f = solve_modes_case(m, assemble(m), m.cases[0]).modes.freq
+        err.append(f[[0, 2]] / ref - 1)            # each bending mode twice (round section)
+    err = np.array(err)
+    assert np.all(err > 0)                                       # from above (consistent mass)
+    assert np.all(err[1] < [3.3e-6, 3.4e-5])
+    assert np.all(err[0] / err[1] > 12)                          # about h^4

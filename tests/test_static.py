@@ -210,21 +210,41 @@ case X static { force C = (0, 0, -1 N) }
     assert "warning: stiffness condition estimate" in capsys.readouterr().out
 
 
-def test_spring_reactions_close_equilibrium():
-    # cantilever (3EI/L^3, Roark 7th ed. Table 8.1 tip deflection PL^3/3EI) in parallel with a
-    # spring k at the tip: the spring takes P k / (k + 3EI/L^3) and pushes back with -k u;
-    # found by the pipeline fuzz, where springs' forces were missing from the reactions
-    L, P, k = 2.0, 10e3, 2e6
-    m, r = run("""
-node A = (0, 0, 0)
-node B = (2 m, 0, 0)
-member M : A -> B beam P S
-support A fixed
-spring B (uz = 2e6 N/m)
-case X static { force B = (0, 0, -10 kN) }
-""")
-    kc = 3 * E * m.Iy[0] / L**3        # the section's own I: the cubic element is exact at the tip
-    assert r.u[1, 2] == pytest.approx(-P / (k + kc), rel=1e-10)
-    assert r.reactions[1, 2] == pytest.approx(P * k / (k + kc), rel=1e-10)
-    assert r.reactions[0, 2] + r.reactions[1, 2] == pytest.approx(P, rel=1e-12)
+def test_spring_supported_cantilever_reactions_and_equilibrium():
+    # cantilever (PL^3/3EI stiffness, Roark 7th ed. Table 8.1) and a tip spring act in
+    # parallel: tip deflection P / (k + 3EI/L^3); the spring pushes back with -k delta and the
+    # base takes the rest (statics, common practice, no source). Forces and moments balance.
+    k = 2.0e5
+    body = f"""
+for i in 0..5 {{ node N[i] = (i*1 m, 0, 0) }}
+for i in 0..4 {{ member M[i] : N[i] -> N[i+1] beam P S }}
+support N0 fixed
+spring N5 (uz = {k} N/m)
+case TIP static {{ force N5 = (0, 0, -10 kN) }}
+"""
+    m, r = run(body)
+    delta = -10e3 / (k + 3 * E * I / 5.0**3)
+    assert r.u[5, 2] == pytest.approx(delta, rel=1e-6)         # I to the table's 7 digits
+    d = r.u[5, 2]
+    assert r.reactions[5, 2] == pytest.approx(-k * d, rel=1e-12)
+    assert r.reactions[0, 2] == pytest.approx(10e3 + k * d, rel=1e-9)
+    assert abs(r.reactions[0, 4]) == pytest.approx(5.0 * (10e3 + k * d), rel=1e-9)   # base moment
     assert r.equilibrium < 1e-12
+
+
+def test_equilibrium_sees_force_and_moment_imbalance():
+    # the check itself: a balanced couple passes, a missing force or a missing moment fails
+    from fem.analysis.static import equilibrium
+
+    xyz = np.array([[0.0, 0, 0], [2.0, 0, 0]])
+    applied = np.zeros((2, 6))
+    applied[1, 2] = -1000.0                       # 1 kN down at x = 2 m
+    react = np.zeros((2, 6))
+    react[0, 2], react[0, 4] = 1000.0, -2000.0    # base shear and moment (about y: z x ... sign)
+    assert equilibrium(xyz, applied, react) < 1e-15
+    no_moment = react.copy()
+    no_moment[0, 4] = 0.0
+    assert equilibrium(xyz, applied, no_moment) > 0.1
+    no_force = react.copy()
+    no_force[0, 2] = 0.0
+    assert equilibrium(xyz, applied, no_force) > 0.1

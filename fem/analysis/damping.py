@@ -30,11 +30,13 @@ def rayleigh_ratios(omega, a0, a1):
 
 
 def modal_ratios(omega, ratios=None, rayleigh=None):
-    """Damping ratio of each mode (k,): Rayleigh from (f1, z1, f2, z2) if given, else the list
-    `ratios` (one value for all modes, or one per mode; the last repeats for higher modes)."""
+    """Damping ratio of each mode (k,): Rayleigh from (f1, z1, f2, z2) or from its coefficients
+    (a0, a1) if given, else the list `ratios` (one value for all modes, or one per mode; the
+    last repeats for higher modes)."""
     w = np.asarray(omega, dtype=float)
     if rayleigh is not None:
-        return rayleigh_ratios(w, *rayleigh_coefficients(*rayleigh))
+        a0, a1 = rayleigh if len(rayleigh) == 2 else rayleigh_coefficients(*rayleigh)
+        return rayleigh_ratios(w, a0, a1)
     z = np.atleast_1d(np.asarray(0.0 if ratios is None else ratios, dtype=float))
     out = np.empty_like(w)
     n = min(len(z), len(w))

@@ -10,7 +10,7 @@ from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
 from .free import free_response, modal_initial_conditions
-from .modal_case import ModesCaseResult
+from .modal_case import ModesCaseResult, field_responses
 
 __all__ = ["FreeCaseResult", "animation_frames", "peaks", "solve_free_case", "step_warnings"]
 
@@ -19,7 +19,10 @@ __all__ = ["FreeCaseResult", "animation_frames", "peaks", "solve_free_case", "st
 class FreeCaseResult:
     """t (m,) s; u (m, r, 6) response at the recorded nodes; peak (n, 6) largest |u| at every
     node and peak_time (n, 6); captured: M-norm fraction of the initial displacement the modes
-    represent (1 = all of it)."""
+    represent (1 = all of it); reaction_peak (n, 6) and member_peak (e, 12) largest |reaction|
+    and |member end force| over time (N, N m; end forces in local axes), superposed from the
+    per-mode fields in time; inertia_balance: largest mismatch, relative, between each mode's
+    base reaction (with spring forces) and its inertia force w^2 M phi in X, Y, Z."""
 
     name: str
     t: np.ndarray
@@ -29,6 +32,9 @@ class FreeCaseResult:
     peak_time: np.ndarray
     captured: float
     zeta: np.ndarray
+    reaction_peak: np.ndarray = None
+    member_peak: np.ndarray = None
+    inertia_balance: float = 0.0
     frame_t: np.ndarray = None      # (f,) times of the animation frames (about 120 over the run)
     frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
     warnings: tuple = ()
@@ -104,8 +110,37 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
     sel = modal.shapes[record]                       # (r, 6, k)
     u = np.einsum("tk,rdk->trd", q, sel)
+    # reactions and member end forces of each mode (K phi), superposed in time like the
+    # displacements: peaks of the forces themselves, not forces of the peak displacements
+    k = len(omega)
+    Rm, Fm = field_responses(model, asm, modal.shapes.reshape(6 * model.n_nodes, -1).T)
+    r_peak, _ = peaks(q, Rm.reshape(k, -1).T, t)
+    m_peak, _ = peaks(q, Fm.reshape(k, -1).T, t)
     ft, frames = animation_frames(t, q, modal.shapes)
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
-                          captured, zeta, ft, frames,
+                          captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
+                          _inertia_balance(model, asm, modal, Rm), ft, frames,
                           step_warnings(opt["step"], omega, "the output and its peaks are",
                                         "each sample is exact, the motion between samples is not seen"))
+
+
+def _inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:
+    """Mode by mode, supports and springs hold the structure against its inertia forces:
+    sum of reactions (springs' -k phi included) = -w^2 r^T M phi in X, Y, Z (K r = 0 for a rigid
+    translation r of the members). Returns the largest mismatch relative to the largest force
+    entering these sums, |K| |phi| at the supports included, so that round-off in stiff
+    models is judged against the terms that produced it (0 when nothing moves)."""
+    shapes = modal.shapes                                        # (n, 6, k)
+    k = shapes.shape[2]
+    w2 = modal.modes.omega ** 2
+    inertia = w2[:, None] * modal.part.gamma[:, :3]              # (k, 3), gamma = phi^T M r
+    spring = np.einsum("nd,ndk->kd", model.springs[:, :3], shapes[:, :3])
+    held = Rm[:, :, :3].sum(axis=1)                             # springs' -k phi included
+    gross = abs(asm.K) @ np.abs(shapes.reshape(-1, k))          # (6n, k) sizes of the K phi terms
+    mask = np.zeros(len(gross), bool)
+    mask[asm.fixed] = True
+    gross = np.where(mask[:, None], gross, 0.0).reshape(-1, 6, k)[:, :3].sum(axis=0).T
+    scale = max(np.abs(inertia).max(initial=0.0), np.abs(spring).max(initial=0.0), gross.max(initial=0.0))
+    if scale == 0:
+        return 0.0
+    return float(np.abs(held + inertia).max() / scale)

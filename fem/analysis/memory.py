@@ -5,10 +5,6 @@ from __future__ import annotations
 
 import os
 
-import numpy as np
-import scipy.sparse as sp
-from scipy.sparse.csgraph import reverse_cuthill_mckee
-
 from ..errors import ModelError
 
 __all__ = ["available_bytes", "factor_bytes_estimate", "check_factor_memory"]
@@ -28,25 +24,21 @@ def available_bytes() -> int:
     return int(os.sysconf("SC_AVPHYS_PAGES") * os.sysconf("SC_PAGE_SIZE"))
 
 
-def factor_bytes_estimate(A) -> int:
+def factor_bytes_estimate(A, order=None) -> int:
     """Upper-bound estimate of an LU factor of the symmetric-pattern matrix A: the envelope
-    (profile) under a reverse Cuthill-McKee ordering, times 2 (L and U) x 12 bytes (value and
-    index). Minimum-degree orderings usually fill less, so this errs on the safe side."""
-    A = sp.csr_matrix(A)
-    n = A.shape[0]
-    if n == 0:
+    (profile) under a band-reducing ordering (`factor.ordering`, or the one given), times
+    2 (L and U) x 12 bytes (value and index). Minimum-degree orderings usually fill less, so
+    this errs on the safe side."""
+    from .factor import ordering
+
+    if A.shape[0] == 0:
         return 0
-    perm = reverse_cuthill_mckee(A, symmetric_mode=True)
-    B = A[perm][:, perm].tocsr()
-    first = np.minimum.reduceat(B.indices, B.indptr[:-1]) if B.nnz else np.arange(n)
-    first = np.where(np.diff(B.indptr) > 0, first, np.arange(n))
-    envelope = int(np.sum(np.arange(n) - np.minimum(first, np.arange(n))) + n)
-    return 2 * 12 * envelope
+    return 2 * 12 * (order or ordering(A)).envelope
 
 
-def check_factor_memory(A, what: str) -> int:
+def check_factor_memory(A, what: str, order=None) -> int:
     """Raise ModelError if the factor of A clearly cannot fit; return the estimate in bytes."""
-    need = factor_bytes_estimate(A)
+    need = factor_bytes_estimate(A, order)
     have = available_bytes()
     if need > REFUSE_FACTOR * have:
         raise ModelError(f"{what}: the sparse factorisation needs an estimated {need / 2**30:.1f} GiB "

@@ -27,6 +27,7 @@ class ModesCaseResult:
     target: np.ndarray | None = None   # (3,) requested cumulative mass fractions X, Y, Z
     target_met: bool | None = None
     first_mode: int = 0                # index of shapes[..., 0] in the full set (for one-mode views)
+    n_finite: int = 0                  # free DOFs that carry mass: the number of finite modes
 
 
 def influence_vectors(model: Model, point) -> np.ndarray:
@@ -70,8 +71,9 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
         # add modes until the cumulative effective mass reaches the target in each direction
         cap = min(case.options.get("max", 300), len(f))
         k = min(12, cap)
+        K, M, cache = K.tocsr(), M.tocsr(), {}
         while True:
-            modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=k)
+            modes = solve_modes(K, M, n_modes=k, cache=cache)
             part = participation(modes.phi, M, R)
             got = np.nan_to_num(part.cumulative[-1, :3], nan=1.0)
             met = bool(np.all(got >= target - 1e-12))
@@ -83,25 +85,24 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
                     for d in range(3)]
             keep = max(need) + 1
             if keep < len(modes.omega):      # solve again so every check speaks of these modes
-                modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=keep)
+                modes = solve_modes(K, M, n_modes=keep, cache=cache)
                 part = participation(modes.phi, M, R)
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
+    from .modes import massless_dofs
+
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,
-                           target, met)
+                           target, met, n_finite=int(len(f) - massless_dofs(M).sum()))
 
 
 
 def field_responses(model: Model, asm: Assembled, U: np.ndarray):
-    """Elastic reactions (m, n, 6) at fixed DOFs and springs and member end forces (m, e, 12) in local axes
-    of displacement fields U (m, 6n), without any member load (K u only)."""
+    """Elastic reactions (m, n, 6) of supports and springs and member end forces (m, e, 12) in
+    local axes of displacement fields U (m, 6n), without any member load (K u only)."""
     from .. import elements as el
+    from .static import support_forces
 
-    R = (asm.K @ U.T).T
-    mask = np.zeros(U.shape[1], bool)
-    mask[asm.fixed] = True
-    R[:, ~mask] = 0.0
-    R -= model.springs.ravel()[None, :] * U          # springs to ground push back with -k u
+    R = support_forces(model, asm, (asm.K @ U.T).T, U)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     T = el.transform_matrix(asm.R)
     ue = np.einsum("eab,meb->mea", T, U[:, dofs])

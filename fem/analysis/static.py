@@ -12,7 +12,8 @@ from ..assembly import Assembled, element_matrices
 from ..errors import MechanismError
 from ..model import DIRECTIONS, LoadCase, Model
 
-__all__ = ["StaticResult", "condition_estimate", "factorise", "load_vector", "solve_static"]
+__all__ = ["StaticResult", "condition_estimate", "factorise", "load_vector", "solve_static", "support_forces",
+           "equilibrium"]
 
 
 @dataclass
@@ -20,7 +21,8 @@ class StaticResult:
     """u (n, 6) displacements, m / rad; reactions (n, 6) N / N m, forces of the supports and of
     springs to ground on the structure (zero elsewhere);
     member_forces (e, 12) local end forces N, Vy, Vz, T, My, Mz at i then j (forces on the member);
-    equilibrium: largest |sum of applied + reactions| over force components, relative."""
+    equilibrium: relative out-of-balance of applied loads and reactions, forces and moments
+    (see `equilibrium`)."""
 
     name: str
     u: np.ndarray
@@ -31,20 +33,24 @@ class StaticResult:
 
 
 def load_vector(model: Model, asm: Assembled, case: LoadCase):
-    """Global load vector (6n,) and the local fixed-end load vectors (e, 12) of member loads."""
+    """Global load vector (6n,) and the local fixed-end load vectors (e, 12) of member loads.
+
+    Line loads are given per member in global axes or in the member's local axes
+    (``LoadItem.axes``); both end up as one local load per length w_local (e, 3)."""
     f = np.zeros(6 * model.n_nodes)
-    w = np.zeros((model.n_members, 3))       # global line load per member, N/m
+    w = np.zeros((model.n_members, 3))       # line load per member in global axes, N/m
+    w_own = np.zeros((model.n_members, 3))   # line load per member in its own axes, N/m
     for item in case.loads:
         if item.kind == "force":
             _scatter(f, 6 * item.targets[:, None] + np.arange(3), item.vector)
         elif item.kind == "moment":
             _scatter(f, 6 * item.targets[:, None] + np.arange(3, 6), item.vector)
         elif item.kind == "line":
-            _scatter(w, item.targets[:, None], item.vector, rows=True)
+            _scatter(w_own if item.axes == "local" else w, item.targets[:, None], item.vector, rows=True)
     if case.gravity is not None:
         w += (model.rho * model.A + model.nsm)[:, None] * case.gravity
         f += np.c_[model.point_mass[:, :3] * case.gravity, np.zeros((model.n_nodes, 3))].ravel()
-    w_local = np.einsum("eab,eb->ea", asm.R, w)
+    w_local = np.einsum("eab,eb->ea", asm.R, w) + w_own
     fe = el.uniform_load_fixed_end(asm.L, w_local)
     rel = model.releases & ~model.truss[:, None]
     if model.truss.any():
@@ -108,16 +114,16 @@ def factorise(model: Model, asm: Assembled):
     """Sparse LU of K over the free DOFs; a singular K raises MechanismError naming, for each
     free motion, the nodes and directions that move."""
     Kff = asm.K[asm.free][:, asm.free].tocsc()
+    from .factor import PIVOT_TOL, column_diagonal
     from .memory import check_factor_memory
 
     check_factor_memory(Kff, "static solve")
-    diag = np.abs(Kff.diagonal())
     singular = False
     try:
         lu = spla.splu(Kff, permc_spec="MMD_AT_PLUS_A")
         # each pivot against its own column's diagonal, so stiffness contrasts between members
         # are not mistaken for a mechanism (they are reported by the condition estimate)
-        singular = bool(np.any(np.abs(lu.U.diagonal()) < 1e-11 * diag[lu.perm_c]))
+        singular = bool(np.any(np.abs(lu.U.diagonal()) < PIVOT_TOL * np.abs(column_diagonal(lu, Kff))))
     except RuntimeError:
         lu, singular = None, True
     motions = free_motions(model, asm, Kff) if singular else []
@@ -149,6 +155,37 @@ def held_dofs(model: Model, asm: Assembled) -> list[tuple[str, str]]:
     return [(model.node_names[d // 6], DIRECTIONS[d % 6]) for d in keep]
 
 
+def equilibrium(coords: np.ndarray, applied: np.ndarray, reactions: np.ndarray) -> float:
+    """Relative out-of-balance of the applied loads and the support forces, both (n, 6) at
+    nodes at `coords` (n, 3): the resultant force over the sum of the applied force magnitudes,
+    and the resultant moment about the centroid of the nodes over the sum of the moment
+    magnitudes of loads and support forces (forces times their lever arms included); the
+    larger of the two."""
+    total = applied + reactions
+    arm = coords - coords.mean(axis=0)
+    force = total[:, :3].sum(axis=0)
+    moment = (np.cross(arm, total[:, :3]) + total[:, 3:]).sum(axis=0)
+    f_ref = np.abs(applied[:, :3]).sum()
+    gross = np.abs(applied) + np.abs(reactions)
+    m_ref = (np.linalg.norm(arm, axis=1) * np.linalg.norm(gross[:, :3], axis=1)).sum() + gross[:, 3:].sum()
+    if f_ref + m_ref == 0:
+        return 0.0
+    return float(max(np.abs(force).max() / max(f_ref, 1e-300) if f_ref else 0.0,
+                     np.abs(moment).max() / max(m_ref, 1e-300) if m_ref else 0.0))
+
+
+def support_forces(model: Model, asm: Assembled, residual: np.ndarray, u: np.ndarray) -> np.ndarray:
+    """Forces of the supports and springs on the structure, (..., 6n): the out-of-balance
+    K u - f at restrained DOFs, and -k u where a spring to ground holds a free DOF (the spring
+    is part of K, so its force never shows in the residual). Works on stacks of fields."""
+    out = np.zeros_like(residual)
+    out[..., asm.fixed] = residual[..., asm.fixed]
+    k = model.springs.ravel()
+    sprung = asm.free[k[asm.free] > 0]
+    out[..., sprung] = -k[sprung] * u[..., sprung]
+    return out
+
+
 def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> StaticResult:
     lu = lu or factorise(model, asm)
     f, fe = load_vector(model, asm, case)
@@ -162,16 +199,11 @@ def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> Stati
     if not np.isfinite(u).all():
         raise MechanismError(f"case {case.name}: the solve did not give finite displacements; "
                              "the stiffness is singular or badly conditioned", [])
-    r = asm.K @ u - f
-    reactions = np.zeros_like(u)
-    reactions[asm.fixed] = r[asm.fixed]
-    reactions -= model.springs.ravel() * u       # a spring to ground pushes back with -k u
+    reactions = support_forces(model, asm, asm.K @ u - f, u)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     T = el.transform_matrix(asm.R)
     ue = np.einsum("eab,eb->ea", T, u[dofs])
     mf = np.einsum("eab,eb->ea", asm.k_local, ue) - fe
     applied = f.reshape(-1, 6)
-    tot = applied[:, :3].sum(0) + reactions.reshape(-1, 6)[:, :3].sum(0)
-    ref = max(np.abs(applied[:, :3]).sum(), 1e-300)
     return StaticResult(case.name, u.reshape(-1, 6), reactions.reshape(-1, 6), mf, applied,
-                        float(np.abs(tot).max() / ref))
+                        equilibrium(model.coords, applied, reactions.reshape(-1, 6)))

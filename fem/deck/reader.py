@@ -86,6 +86,7 @@ class _Reader:
         self.stack: list[Path] = []
         self.lines: dict[Path, list[str]] = {}
         self.token_file: dict[int, Path] = {}
+        self.quantities: dict[str, Quantity] = {}      # literal text -> value, e.g. "6 m"
 
     # ---------- files and locations
     def read_file(self, path: Path, where: Location | None = None) -> None:
@@ -103,6 +104,11 @@ class _Reader:
         self.stack.append(path)
         try:
             tree = self.parse(text, path)
+            for sub in tree.iter_subtrees():        # remember each item's file, once per file
+                sub.meta.qfile = path
+                for c in sub.children:
+                    if isinstance(c, Token):
+                        self.token_file[id(c)] = path
             for stmt in tree.children:
                 self.statement(stmt)
         finally:
@@ -177,6 +183,9 @@ class _Reader:
 
     def quantity(self, tok: Token) -> Quantity:
         text = str(tok)
+        known = self.quantities.get(text)
+        if known is not None:            # loops read the same literals over and over
+            return known
         i = 0
         while i < len(text) and (text[i].isdigit() or text[i] in ".eE+-") and not (
                 text[i] in "eE" and (i + 1 >= len(text) or not (text[i + 1].isdigit() or text[i + 1] in "+-"))):
@@ -190,6 +199,7 @@ class _Reader:
                 raise DeckError(f"unknown unit '{sym}'; {suggest(sym, U.UNITS)}", self.loc(tok))
             base = base ** Quantity(power)
             q = q * base if op == "*" else q / base
+        self.quantities[text] = q
         return q
 
     def call(self, fname, args, tok) -> Quantity:
@@ -302,12 +312,6 @@ class _Reader:
 
     # ---------- statements
     def statement(self, s: Tree) -> None:
-        path = self.stack[-1]
-        for sub in s.iter_subtrees():
-            sub.meta.qfile = path
-            for c in sub.children:
-                if isinstance(c, Token):
-                    self.token_file[id(c)] = path
         getattr(self, "st_" + s.data)(s)
 
     def st_title(self, s):
@@ -750,8 +754,8 @@ class _Reader:
                 raise DeckError(f"case {name}: unknown load '{kindname}'; {suggest(kindname, spec)}", self.loc(it))
             dim, table, what = spec[kindname]
             names = self.targets(target, table, what)
-            vec = self.vector(val, dim, f"case {name}: {kindname}")
-            case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it)))
+            vec, axes = self.load_value(val, dim, f"case {name}: {kindname}", member=kindname == "line")
+            case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it), axes))
         if kind == "modes":
             self.modes_options(case)
         elif kind == "free":
@@ -766,6 +770,27 @@ class _Reader:
             raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes, "
                             "free, history, harmonic or spectrum", where)
         return case
+
+    def load_value(self, val, dim, what: str, member: bool) -> tuple[np.ndarray, str]:
+        """A load's three components and their axes: (x, y, z) in global axes, or, for member
+        loads, local(x, y, z) along the member's own x, y, z (docs/deck.md, Axes)."""
+        if not (isinstance(val, Tree) and val.data == "call"):
+            return self.vector(val, dim, what), "global"
+        form, args = str(val.children[0]), val.children[1:]
+        where = self.loc(val)
+        if form != "local":
+            near = suggest(form, ["local"])
+            near = f"; {near}" if near.startswith("did you mean") else ""
+            hint = "(x, y, z) in global axes" + (" or local(x, y, z) in member axes" if member else "")
+            raise DeckError(f"{what}: '{form}(...)' is not a way to give a load{near}", where, f"write {hint}")
+        if not member:
+            raise DeckError(f"{what}: local(...) gives a load in a member's axes, so it applies to line "
+                            "loads on members only; node loads and initial values are in global axes",
+                            where, "write (x, y, z) in global axes")
+        if len(args) != 3:
+            raise DeckError(f"{what}: local(...) needs three values along the member's x, y and z, "
+                            f"found {len(args)}", where, "e.g. local(0, 0, -2 kN/m)")
+        return np.array([self.value(a, dim, what) for a in args]), "local"
 
     def history_options(self, case: LoadCase, nidx) -> None:
         """Options of a time-history case: the free-case options plus time, table, ground,
@@ -972,6 +997,8 @@ class _Reader:
     def dynamic_common(self, case, key, val, where, out, nidx) -> bool:
         """Options every modal response case shares: damping, rayleigh, record. True if handled."""
         what = f"case {case.name}: {key}"
+        if key in ("damping", "rayleigh") and {"damping", "rayleigh"} <= set(case.options):
+            raise DeckError(f"case {case.name}: give damping = ... or rayleigh = ..., not both", where)
         if key == "damping":
             if isinstance(val, Tree) and val.data == "vector":
                 z = np.array([self.value(c, U.NONE, what) for c in val.children])
@@ -981,16 +1008,24 @@ class _Reader:
                 raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
             out["damping"] = z
         elif key == "rayleigh":
-            if not (isinstance(val, Tree) and val.data == "vector" and len(val.children) == 4):
-                raise DeckError(f"{what} is (f1, ratio1, f2, ratio2), e.g. (1 Hz, 2 percent, 10 Hz, 2 percent)", where)
+            form = "(f1, ratio1, f2, ratio2), e.g. (1 Hz, 2 percent, 10 Hz, 2 percent), or the coefficients " \
+                   "(a0, a1) of C = a0 M + a1 K, e.g. (0.3 Hz, 0.002 s)"
+            if not (isinstance(val, Tree) and val.data == "vector" and len(val.children) in (2, 4)):
+                raise DeckError(f"{what} is {form}", where)
             c = val.children
-            f1, f2 = self.value(c[0], U.FREQ, what), self.value(c[2], U.FREQ, what)
-            z1, z2 = self.value(c[1], U.NONE, what), self.value(c[3], U.NONE, what)
-            if not (f1 > 0 and f2 > 0 and f1 != f2):
-                raise DeckError(f"{what}: two different positive frequencies are needed", where)
-            if not (0 <= z1 < 1 and 0 <= z2 < 1):
-                raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
-            out["rayleigh"] = (f1, z1, f2, z2)
+            if len(c) == 2:
+                a0, a1 = self.value(c[0], U.FREQ, what + " a0"), self.value(c[1], U.TIME, what + " a1")
+                if a0 < 0 or a1 < 0 or a0 + a1 == 0:
+                    raise DeckError(f"{what}: the coefficients cannot be negative and not both zero", where)
+                out["rayleigh"] = (a0, a1)
+            else:
+                f1, f2 = self.value(c[0], U.FREQ, what), self.value(c[2], U.FREQ, what)
+                z1, z2 = self.value(c[1], U.NONE, what), self.value(c[3], U.NONE, what)
+                if not (f1 > 0 and f2 > 0 and f1 != f2):
+                    raise DeckError(f"{what}: two different positive frequencies are needed", where)
+                if not (0 <= z1 < 1 and 0 <= z2 < 1):
+                    raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
+                out["rayleigh"] = (f1, z1, f2, z2)
         elif key == "record":
             if not (isinstance(val, Token) and val.type == "STRING"):
                 raise DeckError(f'{what} is a quoted node name or pattern, e.g. record = "P10_*"', where)

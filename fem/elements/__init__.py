@@ -2,8 +2,10 @@
 
 from .frame import (
     condense_load,
+    condense_mass,
     condense_releases,
     frame_mass,
+    frame_mass_timoshenko,
     frame_stiffness,
     local_axes,
     to_global,
@@ -15,8 +17,10 @@ from .frame import (
 
 __all__ = [
     "condense_load",
+    "condense_mass",
     "condense_releases",
     "frame_mass",
+    "frame_mass_timoshenko",
     "frame_stiffness",
     "local_axes",
     "to_global",

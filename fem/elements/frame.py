@@ -23,6 +23,7 @@ __all__ = [
     "condense_load",
     "condense_releases",
     "frame_mass",
+    "frame_mass_timoshenko",
     "frame_stiffness",
     "local_axes",
     "to_global",
@@ -175,8 +176,27 @@ def frame_stiffness(L, E, G, A, Iy, Iz, J, Avy=None, Avz=None):
     return k
 
 
+def _plane_blocks(m, v, r, sgn, vv, vv_ij, rr, rr_ij, vr, vr_ij):
+    """Fill the symmetric 2-node bending pattern of one plane, DOFs (v_i, r_i, v_j, r_j).
+
+    ``vv, rr`` on the diagonals, ``vv_ij, rr_ij`` between the ends, ``sgn*vr`` at (v_i, r_i),
+    ``-sgn*vr`` at (v_j, r_j), ``-sgn*vr_ij`` at (v_i, r_j), ``sgn*vr_ij`` at (v_j, r_i);
+    sgn = -1 for the x-z plane, whose rotation ry is -dw/dx.
+    """
+    vi, ri, vj, rj = v, r, v + 6, r + 6
+    _sym_fill(m, [(vi, vi), (vj, vj), (vi, vj), (ri, ri), (rj, rj), (ri, rj),
+                  (vi, ri), (vi, rj), (vj, ri), (vj, rj)],
+              [vv, vv, vv_ij, rr, rr, rr_ij, sgn * vr, -sgn * vr_ij, sgn * vr_ij, -sgn * vr])
+
+
+def _axial_torsion_mass(m, mL, tL):
+    """Linear-interpolation mass of axial (ux) and torsion (rx) DOFs."""
+    _sym_fill(m, [(0, 0), (6, 6), (0, 6), (3, 3), (9, 9), (3, 9)],
+              [mL / 3, mL / 3, mL / 6, tL / 3, tL / 3, tL / 6])
+
+
 def frame_mass(L, rho, A, Iy, Iz, J, nsm=0.0, lumped=False):
-    """Local mass of 3D frame members.
+    """Local mass of 3D frame members (Euler-Bernoulli).
 
     Parameters
     ----------
@@ -196,6 +216,10 @@ def frame_mass(L, rho, A, Iy, Iz, J, nsm=0.0, lumped=False):
     Returns
     -------
     m : (n, 12, 12) ndarray, local axes (kg, kg m, kg m^2).
+
+    See Also
+    --------
+    frame_mass_timoshenko : the consistent mass that goes with shear-flexible stiffness.
     """
     L, rho, A, Iy, Iz, nsm = _bcast(L, rho, A, Iy, Iz, nsm)
     n = L.shape[0]
@@ -207,16 +231,66 @@ def frame_mass(L, rho, A, Iy, Iz, J, nsm=0.0, lumped=False):
             m[:, d, d] = mL / 2.0
         m[:, 3, 3] = m[:, 9, 9] = tL / 2.0
         return m
-    _sym_fill(m, [(0, 0), (6, 6), (0, 6), (3, 3), (9, 9), (3, 9)],
-              [mL / 3, mL / 3, mL / 6, tL / 3, tL / 3, tL / 6])
+    _axial_torsion_mass(m, mL, tL)
     c = mL / 420.0
     for v, r, sgn in ((1, 5, 1.0), (2, 4, -1.0)):
-        vi, ri, vj, rj = v, r, v + 6, r + 6
-        _sym_fill(m, [(vi, vi), (vj, vj), (vi, vj), (ri, ri), (rj, rj), (ri, rj),
-                      (vi, ri), (vi, rj), (vj, ri), (vj, rj)],
-                  [156 * c, 156 * c, 54 * c, 4 * L ** 2 * c, 4 * L ** 2 * c,
-                   -3 * L ** 2 * c, sgn * 22 * L * c, sgn * -13 * L * c,
-                   sgn * 13 * L * c, sgn * -22 * L * c])
+        _plane_blocks(m, v, r, sgn, 156 * c, 54 * c, 4 * L ** 2 * c, -3 * L ** 2 * c,
+                      22 * L * c, 13 * L * c)
+    return m
+
+
+def frame_mass_timoshenko(L, rho, A, Iy, Iz, J, E, G, Avy=None, Avz=None, nsm=0.0):
+    """Consistent local mass of shear-flexible (Timoshenko) frame members, with rotary inertia.
+
+    The bending terms use the interdependent interpolation of the two-node Timoshenko member
+    whose stiffness :func:`frame_stiffness` builds from the same shear areas: deflection cubic
+    and section rotation quadratic, the pair that solves the homogeneous static equations
+    exactly, so both depend on phi = 12 EI / (G As L^2) of each plane.  The mass is
+    ``int rho*A N_w^T N_w + rho*I N_psi^T N_psi dx`` per plane: translational inertia of
+    (rho*A + nsm) and rotary inertia of the section, rho*Iz for bending in x-y (rz) and rho*Iy
+    for bending in x-z (ry).  A plane without shear area (phi = 0) gets the Euler-Bernoulli
+    mass plus the rotary inertia rho*I/(30 L) [[36, 3L, -36, 3L], [3L, 4L^2, -3L, -L^2], ...].
+    Axial and torsion terms are those of :func:`frame_mass`.
+
+    Parameters
+    ----------
+    L, rho, A, Iy, Iz, J : (n,) array_like or scalars
+        As for :func:`frame_mass`.
+    E, G : (n,) array_like or scalars
+        Young's and shear moduli (Pa).
+    Avy, Avz : (n,) array_like, optional
+        Shear areas along local y and z (m^2); zero or None: rigid in shear.
+    nsm : (n,) array_like or scalar
+        Non-structural mass per length (kg/m), translational only.
+
+    Returns
+    -------
+    m : (n, 12, 12) ndarray, local axes (kg, kg m, kg m^2).
+
+    Examples
+    --------
+    >>> m = frame_mass_timoshenko(2.0, 7850.0, 0.05, 1e-3, 4e-5, 1e-4, 200e9, 77e9,
+    ...                           Avy=0.04, Avz=0.04)
+    >>> m.shape
+    (1, 12, 12)
+    """
+    L, rho, A, Iy, Iz, E, G, nsm = _bcast(L, rho, A, Iy, Iz, E, G, nsm)
+    n = L.shape[0]
+    mL = (rho * A + nsm) * L
+    m = np.zeros((n, 12, 12))
+    _axial_torsion_mass(m, mL, rho * (Iy + Iz) * L)
+    for v, r, sgn, I, As in ((1, 5, 1.0, Iz, Avy), (2, 4, -1.0, Iy, Avz)):
+        p = _phi(E, I, G, As, L)
+        rI = rho * I / L
+        f = 1.0 / (1.0 + p) ** 2
+        _plane_blocks(
+            m, v, r, sgn,
+            f * (mL * (13 / 35 + 7 / 10 * p + p ** 2 / 3) + rI * (6 / 5)),
+            f * (mL * (9 / 70 + 3 / 10 * p + p ** 2 / 6) - rI * (6 / 5)),
+            f * L ** 2 * (mL * (1 / 105 + p / 60 + p ** 2 / 120) + rI * (2 / 15 + p / 6 + p ** 2 / 3)),
+            f * L ** 2 * (-mL * (1 / 140 + p / 60 + p ** 2 / 120) + rI * (-1 / 30 - p / 6 + p ** 2 / 6)),
+            f * L * (mL * (11 / 210 + 11 / 120 * p + p ** 2 / 24) + rI * (1 / 10 - p / 2)),
+            f * L * (mL * (13 / 420 + 3 / 40 * p + p ** 2 / 24) - rI * (1 / 10 - p / 2)))
     return m
 
 
@@ -288,6 +362,30 @@ def condense_releases(k, released):
         out[np.ix_(np.arange(len(sel)), a, a)] = kaa - kab @ np.linalg.solve(kbb, kba)
         kc[sel] = out
     return kc
+
+
+def condense_mass(k, m, released):
+    """Consistent mass of members with released ends, condensed with the static transform of
+    condense_releases: a released end DOF follows the retained ones as u_b = X u_a with
+    X = -K_bb^-1 K_ba, so M_c = T^T M T with T = [I; X] on retained DOFs a and zero rows and
+    columns at released DOFs b. ``k`` (n, 12, 12) is the uncondensed local stiffness."""
+    m = np.asarray(m, dtype=float)
+    mc = m.copy()
+    pats, inv = _patterns(released, k.shape[0])
+    for p, pat in enumerate(pats):
+        if not pat.any():
+            continue
+        sel = np.flatnonzero(inv == p)
+        a, b = np.flatnonzero(~pat), np.flatnonzero(pat)
+        ks, ms = k[sel], m[sel]
+        X = -np.linalg.solve(ks[:, b][:, :, b], ks[:, b][:, :, a])          # (s, nb, na)
+        Xt = np.swapaxes(X, 1, 2)
+        mab = ms[:, a][:, :, b]
+        maa = ms[:, a][:, :, a] + mab @ X + Xt @ ms[:, b][:, :, a] + Xt @ ms[:, b][:, :, b] @ X
+        out = np.zeros_like(ms)
+        out[np.ix_(np.arange(len(sel)), a, a)] = maa
+        mc[sel] = out
+    return mc
 
 
 def condense_load(k, f, released):

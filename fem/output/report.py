@@ -48,6 +48,20 @@ def _ok(flag) -> str:
     return '<span class="pass">pass</span>' if flag else '<span class="fail">FAIL</span>'
 
 
+def _force_rows(c: dict) -> list:
+    """Largest peak reaction force and member end forces of a free or history case."""
+    rows = []
+    reac = c.get("reaction_peaks") or {}
+    if reac:
+        node, vals = max(reac.items(), key=lambda kv: max(kv[1][:3]))
+        rows.append(["largest reaction force (peak)", f"{max(vals[:3]) / 1e3:.4g} kN at {html.escape(node)}"])
+    for comp, e in (c.get("member_force_peak_max") or {}).items():
+        unit = "kN m" if comp in ("T", "My", "Mz") else "kN"
+        rows.append([f"largest member end force {comp} (peak)",
+                     f"{e['value'] / 1e3:.4g} {unit} at {html.escape(e['member'])} end {e['end']}"])
+    return rows
+
+
 def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]]) -> Path:
     """doc: the results.json content; images: section name -> [(file, caption)]."""
     m = doc["model"]
@@ -73,6 +87,9 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                          _ok(ch["orthogonality_pass"])])
             rows.append([f"{c['name']}: no mode missed (Sturm count)", f"{ch['sturm_count']} below the shift, {ch['sturm_expected']} computed",
                          _ok(ch["none_missed"])])
+            if ch.get("effective_mass_sum_pass") is not None:
+                rows.append([f"{c['name']}: all modes, effective masses sum to the total", f"{ch['effective_mass_sum_error']:.1e}",
+                             _ok(ch["effective_mass_sum_pass"])])
             if ch.get("mass_target") is not None:
                 rows.append([f"{c['name']}: effective-mass target", str([f"{100 * v:.0f}%" for v in ch["mass_target"]]),
                              _ok(ch["mass_target_met"])])
@@ -82,6 +99,8 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         elif c["kind"] == "free":
             rows.append([f"{c['name']}: initial shape represented by the modes",
                          f"{100 * ch['initial_displacement_captured']:.2f} %", _ok(ch["initial_displacement_captured"] > 0.95)])
+            rows.append([f"{c['name']}: reactions hold the inertia forces, mode by mode",
+                         f"{ch['inertia_balance_relative']:.1e}", _ok(ch["inertia_balance_pass"])])
         elif c["kind"] == "spectrum":
             miss = ", ".join(f"{k} {100 * v:.1f}%" for k, v in ch["missing_mass_fraction"].items())
             rows.append([f"{c['name']}: mass not in the retained modes", miss + (" (corrected)" if ch["missing_mass_correction"] else ""),
@@ -112,7 +131,8 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                 ["sum of reactions (X, Y, Z)", ", ".join(f"{v / 1e3:.4g}" for v in c["reaction_sum_N"]) + " kN"]]))
         elif c["kind"] in ("free", "history"):
             parts.append(_table(["quantity", "value"], [["time steps", c["time_steps"]], ["duration", f"{c['duration_s']:.4g} s"],
-                                                        ["largest translation", f"{c['peak_translation_m']:.4g} m"]]))
+                                                        ["largest translation", f"{c['peak_translation_m']:.4g} m"],
+                                                        *_force_rows(c)]))
         elif c["kind"] == "harmonic":
             parts.append(_table(["quantity", "value"], [["band", f"{c['band_Hz'][0]:.4g} to {c['band_Hz'][1]:.4g} Hz"],
                                                         ["frequencies", c["frequencies"]],
