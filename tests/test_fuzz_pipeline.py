@@ -25,18 +25,3 @@ def test_mutated_decks(tmp_path, seed):
     _, text, tables, done = fuzz_pipeline.mutated(rng, rng.randint(1, 3), {"lean": fuzz_pipeline.lean_frame()})
     why = fuzz_pipeline.check(text, tables, tmp_path, report=False)
     assert why is None or fuzz_pipeline.known(why), f"{done}: {why}"
-
-
-@pytest.mark.xfail(strict=True, reason="reported for fem/analysis/modes.py: a mass matrix singular "
-                   "along a direction that is not a single DOF crashes the dense eigen solve")
-def test_known_failure_still_there(tmp_path):
-    # when this passes, remove the entry from fuzz_pipeline.KNOWN and this test
-    deck = """material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-node A = (0, 0, 0)
-node B = (3 m, 0, 4 m)
-member M : A -> B beam P S nsm = 50 kg/m
-support A fixed
-case MODES modes { count = 3 }
-"""
-    assert fuzz_pipeline.check(deck, {}, tmp_path, report=False) is None

@@ -165,3 +165,83 @@ def test_hinge_by_release_converges_to_clamped_pinned_constants():
     assert np.all(err > 0)                                       # from above (consistent mass)
     assert np.all(err[1] < [3.3e-6, 3.4e-5])
     assert np.all(err[0] / err[1] > 12)                          # about h^4
+
+
+def _frequencies(text):
+    m = read_text(text)
+    return solve_modes_case(m, assemble(m), m.cases[0]).modes
+
+
+INCLINED = """
+material S {{ E = 200 GPa, nu = 0.3, density = {rho} }}
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+settings {{ mass = {mass} }}
+node A = (0, 0, 0)
+node B = ({b})
+node C = ({c})
+member M1 : A -> B beam P S nsm = 50 kg/m
+member M2 : B -> C beam P S
+support A fixed
+case MODES modes {{ count = 40 }}
+"""
+
+
+@pytest.mark.parametrize("rho,mass", [("0 kg/m^3", "consistent"), ("7850 kg/m^3", "lumped")],
+                         ids=["translational-mass-only", "lumped"])
+def test_massless_directions_across_dofs_and_frame_invariance(rho, mass):
+    # an inclined member with mass only in translation (or lumped mass) leaves M singular along
+    # its axial rotation, a direction that is no single DOF; those directions carry no inertia
+    # and are condensed exactly. Rotating the whole model leaves the frequencies unchanged
+    # (a physical fact): the same two members laid along X and Y, and tilted in space.
+    aligned = INCLINED.format(rho=rho, mass=mass, b="5 m, 0, 0", c="5 m, 4 m, 0")
+    # the same geometry rotated: B = R (5, 0, 0), C = R (5, 4, 0) with R about (1, 1, 1)/sqrt 3 by 50 deg
+    ax = np.ones(3) / np.sqrt(3)
+    t = np.radians(50)
+    K = np.array([[0, -ax[2], ax[1]], [ax[2], 0, -ax[0]], [-ax[1], ax[0], 0]])
+    R = np.eye(3) + np.sin(t) * K + (1 - np.cos(t)) * K @ K
+    b, c = R @ [5, 0, 0], R @ [5, 4, 0]
+    tilted = INCLINED.format(rho=rho, mass=mass, b=", ".join(f"{v:.15g} m" for v in b),
+                             c=", ".join(f"{v:.15g} m" for v in c))
+    fa, ft = _frequencies(aligned), _frequencies(tilted)
+    assert len(ft.freq) == len(fa.freq) < 12                       # fewer modes than free DOFs
+    np.testing.assert_allclose(ft.freq, fa.freq, rtol=1e-9)
+    assert ft.residual.max() < 1e-12 and ft.orth_mass < 1e-10
+
+
+def test_low_frequency_modes_are_not_rounded_to_zero():
+    # a 20 t platform on four soft mounts (4 x 5 kN/m per direction) bounces at
+    # f = sqrt(4 k / m) / 2 pi = 0.159 Hz (rigid body on springs, common practice, no source);
+    # the stiff members put the largest eigenvalue near 1e9 rad^2/s^2, so zeroing "small"
+    # eigenvalues relative to it must not touch these modes
+    deck = """
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+node A = (0, 0, 0)
+node B = (0.5 m, 0, 0)
+node C = (0.5 m, 0.5 m, 0)
+node D = (0, 0.5 m, 0)
+member M1 : A -> B beam P S
+member M2 : B -> C beam P S
+member M3 : C -> D beam P S
+member M4 : D -> A beam P S
+member M5 : A -> C beam P S
+spring A (ux = 5e3 N/m, uy = 5e3 N/m, uz = 5e3 N/m)
+spring B (ux = 5e3 N/m, uy = 5e3 N/m, uz = 5e3 N/m)
+spring C (ux = 5e3 N/m, uy = 5e3 N/m, uz = 5e3 N/m)
+spring D (ux = 5e3 N/m, uy = 5e3 N/m, uz = 5e3 N/m)
+mass A = 5 t
+mass B = 5 t
+mass C = 5 t
+mass D = 5 t
+case MODES modes { count = 6 }
+"""
+    m = read_text(deck)
+    r = solve_modes_case(m, assemble(m), m.cases[0])
+    total = m.total_mass()
+    f_bounce = np.sqrt(4 * 5e3 / total) / (2 * np.pi)
+    assert np.all(r.modes.freq > 0.1)
+    # the vertical bounce (largest effective mass in Z) at the rigid-body value; the members
+    # are 1e6 times stiffer than the mounts, so 1e-5
+    z = np.argmax(r.part.effective_mass[:, 2])
+    assert r.modes.freq[z] == pytest.approx(f_bounce, rel=1e-5)
+    assert r.modes.residual.max() < 1e-12

@@ -400,12 +400,7 @@ def mutated(rng: random.Random, depth: int = 2, bases: dict[str, str] | None = N
 
 
 # failures already reported where they belong, kept apart so that new ones stand out
-KNOWN: list[tuple[str, str]] = [
-    (r"of B is not positive definite",
-     "modes of a mass matrix singular along directions that are not single DOFs (an inclined "
-     "member with non-structural mass only, or lumped mass on inclined members): the dense "
-     "eigen solve's massless-DOF condensation looks at the diagonal only"),
-]
+KNOWN: list[tuple[str, str]] = []
 
 
 def known(why: str) -> str | None:

@@ -89,10 +89,8 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
                 part = participation(modes.phi, M, R)
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
-    from .modes import massless_dofs
-
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,
-                           target, met, n_finite=int(len(f) - massless_dofs(M).sum()))
+                           target, met, n_finite=modes.n_finite)
 
 
 

@@ -38,6 +38,8 @@ class ModalResult:
     sturm_shift: float | None
     solver: str
     sturm_expected: int | None = None
+    n_finite: int | None = None       # finite modes the pencil has (rank of M; an upper estimate
+                                      # from M's diagonal when not solved densely)
 
 
 @dataclass
@@ -87,24 +89,31 @@ def massless_dofs(M) -> np.ndarray:
     return d <= 1e-13 * max(float(d.max(initial=0.0)), 1e-300)
 
 
-def _dense(K, M, massless):
-    """All finite eigenpairs of the dense pencil, ascending. Massless DOFs are condensed out
-    exactly first (they carry no inertia, so K_00 u_0 + K_0m u_m = 0 at every frequency)."""
+def _dense(K, M):
+    """All finite eigenpairs of the dense pencil, ascending, and their number (the rank of M).
+
+    Where M is singular (massless DOFs, or massless directions that are not single DOFs, such
+    as the axial rotation of an inclined member with lumped or translational-only mass) the
+    pencil is split along the eigenvectors of M: x = R y + N z with M N = 0. The massless
+    coordinates z carry no inertia, so Kn z + Knr y = 0 at every frequency and they are
+    condensed out exactly; the rest is a definite problem (Kc, R^T M R)."""
     Kd = K.toarray() if sp.issparse(K) else np.asarray(K, dtype=float)
     Md = M.toarray() if sp.issparse(M) else np.asarray(M, dtype=float)
-    if not massless.any():
-        return sla.eigh(Kd, Md)
-    m, z = ~massless, massless
+    mu, V = sla.eigh(Md)
+    null = mu <= 1e-13 * max(float(mu.max(initial=0.0)), 1e-300)   # far below any mass, above round-off
+    if not null.any():
+        lam, phi = sla.eigh(Kd, Md)
+        return lam, phi, len(lam)
+    R, N = V[:, ~null], V[:, null]
+    KR, KN = Kd @ R, Kd @ N
     try:
-        T = -sla.solve(Kd[np.ix_(z, z)], Kd[np.ix_(z, m)], assume_a="sym")   # u_0 = T u_m
+        T = -sla.solve(N.T @ KN, N.T @ KR, assume_a="sym")          # z = T y
     except (sla.LinAlgError, ValueError):
-        raise ModelError("massless DOFs move without stiffness: give the members there a density "
+        raise ModelError("massless parts move without stiffness: give the members there a density "
                          "or a point mass, or restrain the free directions") from None
-    Kc = Kd[np.ix_(m, m)] + Kd[np.ix_(m, z)] @ T
-    lam, pm = sla.eigh((Kc + Kc.T) / 2, Md[np.ix_(m, m)])
-    phi = np.zeros((len(massless), len(lam)))
-    phi[m], phi[z] = pm, T @ pm
-    return lam, phi
+    Kc = R.T @ KR + (R.T @ KN) @ T
+    lam, y = sla.eigh((Kc + Kc.T) / 2, np.diag(mu[~null]))
+    return lam, R @ y + N @ (T @ y), int((~null).sum())
 
 
 def _sturm_shift(lam, k, more):
@@ -162,7 +171,8 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
     lam_max = (2 * np.pi * f_max) ** 2 if f_max is not None else np.inf
     extra = 3       # eigenpairs beyond the wanted ones, to place the Sturm shift past repeated modes
     if n <= DENSE_LIMIT or (n_modes is not None and want + extra >= n_fin - 1):
-        lam, phi = _dense(K, M, massless)
+        lam, phi, n_fin = _dense(K, M)
+        want = min(want, n_fin)
         more = False
         solver = "dense"
         inertia_kind, band_order = "superlu", None
@@ -186,11 +196,16 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
             break
         more = True
         solver = f"shift-invert, {factor.name}"
+    finite = np.isfinite(lam)           # a Lanczos run asked past the rank of M returns no more
+    lam, phi = lam[finite], phi[:, finite]
     keep = int(np.sum((np.arange(len(lam)) < want) & (lam <= lam_max * (1 + 1e-12))))
     lam_all = lam
     lam, phi = lam[:keep], phi[:, :keep]
-    scale = max(np.abs(lam_all).max(initial=0), 1.0)
-    lam = np.maximum(np.where(np.abs(lam) < 1e-9 * scale, 0.0, lam), 0.0)
+    # rigid-body modes come out at round-off, of either sign, about eps times the largest
+    # eigenvalue computed: zero those (far below any real mode, e.g. 1e-12 of 2e9 rad^2/s^2 is
+    # 3e-4 Hz), clip the negative rest
+    scale = float(np.abs(lam_all).max(initial=0.0))
+    lam = np.maximum(np.where(np.abs(lam) <= 1e-12 * scale, 0.0, lam), 0.0)
     # mass-normalise (eigh and eigsh already do; renormalise against round-off)
     mnorm = np.sqrt(np.einsum("ij,ij->j", phi, M @ phi))
     phi = phi / mnorm
@@ -206,7 +221,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
     with np.errstate(divide="ignore"):
         period = np.where(omega > 0, 2 * np.pi / np.where(omega > 0, omega, 1), np.inf)
     return ModalResult(omega, omega / (2 * np.pi), period, phi, res, orth_m, orth_k, count,
-                       shift_used, solver, expected)
+                       shift_used, solver, expected, n_fin)
 
 
 def participation(phi, M, R) -> Participation:
