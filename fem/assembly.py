@@ -98,8 +98,8 @@ def _subset(model: Model, sel) -> Model:
     return replace(model, member_names=names, **{f: getattr(model, f)[sel] for f in _MEMBER_FIELDS})
 
 
-CHUNK = 4096
-HUGE = 1e150   # largest stiffness or mass entry that can be computed with   # members per batch: keeps the (chunk, 12, 12) temporaries in cache
+CHUNK = 4096   # members per batch: keeps the (chunk, 12, 12) temporaries in cache
+HUGE = 1e150   # largest stiffness or mass entry that can be computed with
 
 
 @dataclass
