@@ -16,7 +16,6 @@ Quaver's time includes the ordering, the factorisation and the eigenvectors; the
 from __future__ import annotations
 
 import multiprocessing as mp
-import resource
 import sys
 import tempfile
 import time
@@ -38,26 +37,43 @@ MODELS = {"frame": lambda: frame_deck(24, 24, 16), "tower": lambda: tower_deck(7
           "bigframe": lambda: frame_deck(36, 36, 24)}
 
 
+def _status_mb(key: str) -> float:
+    with open("/proc/self/status") as fh:
+        return next(int(line.split()[1]) for line in fh if line.startswith(key + ":")) / 1024
+
+
+def _reset_peak() -> float:
+    """Reset the peak resident size (Linux: 5 > /proc/self/clear_refs); the current size, MB."""
+    with open("/proc/self/clear_refs", "w") as fh:
+        fh.write("5")
+    return _status_mb("VmRSS")
+
+
 def _peak_mb() -> float:
-    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    return _status_mb("VmHWM")
 
 
 def _solve(args) -> dict:
     """In a child process: load K, M and run one method; time, peak memory, first frequency."""
     folder, method = args
     K, M = sp.load_npz(Path(folder) / "K.npz").tocsr(), sp.load_npz(Path(folder) / "M.npz").tocsr()
-    base = _peak_mb()
+    base = _reset_peak()
     out = {}
     t0 = time.perf_counter()
     if method == "quaver" or method.startswith("quaver:"):
         kind = method.partition(":")[2] or "auto"
         r = solve_modes(K, M, n_modes=20, sturm=False, factor_kind=kind)
         out["time"] = time.perf_counter() - t0
+        out["peak_mb"] = _peak_mb() - base
         out.update(f1=r.freq[0], f20=r.freq[-1], residual=float(r.residual.max()), solver=r.solver)
+        del r
+        base = _reset_peak()
         t1 = time.perf_counter()
         r = solve_modes(K, M, n_modes=20, sturm=True, factor_kind=kind)
         out["sturm"] = time.perf_counter() - t1 - out["time"]
         out["sturm_ok"] = r.sturm_count == r.sturm_expected
+        out["sturm_peak_mb"] = _peak_mb() - base
+        return out
     elif method == "superlu-symmetric":      # shift-invert at 0 with SuperLU in a symmetric order
         lu = spla.splu(K.tocsc(), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                        options=dict(SymmetricMode=True))

@@ -99,3 +99,5 @@ def test_choice_follows_the_model():
     assert fa.choose(10, wide) == ("pardiso" if fa.pardiso_available() else "superlu")
     mid = fa.Ordering(np.arange(10), bandwidth=fa.BAND_MAX + 1, envelope=10 * (fa.COMPACT_PROFILE + 1))
     assert fa.choose(10, mid) == ("pardiso" if fa.pardiso_available() else "band")
+    # a band that would not fit in memory is not chosen however narrow
+    assert fa.choose(10**12, slender) != "band"

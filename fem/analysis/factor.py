@@ -32,7 +32,8 @@ __all__ = ["BAND_MAX", "BAND_MAX_ALONE", "COMPACT_PROFILE", "NotPositiveDefinite
 PIVOT_TOL = 1e-11       # a pivot below this fraction of its own diagonal entry counts as zero
 COMPACT_PROFILE = 150   # mean envelope width (entries per row) above which PARDISO wins
 BAND_MAX = 160          # half-bandwidth up to which banded Cholesky is as fast as PARDISO
-BAND_MAX_ALONE = 320    # ... and up to which it beats SuperLU (benchmarks/eigen.py crossover)
+BAND_MAX_ALONE = 600    # ... and up to which it beats SuperLU (benchmarks/eigen.py crossover: 19 s
+                        # against 25 s at 497, even at 737)
 
 
 class NotPositiveDefinite(ArithmeticError):
@@ -66,7 +67,8 @@ def _band_envelope(A) -> tuple[int, int]:
 
 def ordering(A) -> Ordering:
     """Band-reducing order of the symmetric-pattern A: natural or reverse Cuthill-McKee,
-    whichever gives the smaller envelope (generated decks are often numbered well already)."""
+    whichever gives the smaller half-bandwidth (what a banded factor costs; generated decks are
+    often numbered well already: 35 against 44 on a lattice tower), then the smaller envelope."""
     A = sp.csr_matrix(A)
     A.sort_indices()
     n = A.shape[0]
@@ -76,7 +78,7 @@ def ordering(A) -> Ordering:
         B = A[perm][:, perm].tocsr()
         B.sort_indices()
         rcm = Ordering(perm, *_band_envelope(B))
-        if rcm.envelope < best.envelope:
+        if (rcm.bandwidth, rcm.envelope) < (best.bandwidth, best.envelope):
             best = rcm
     return best
 
@@ -230,8 +232,11 @@ def choose(n: int, order: Ordering, kind: str = "auto") -> str:
     SuperLU otherwise. Crossovers measured by `benchmarks/eigen.py crossover`."""
     if kind != "auto":
         return kind
+    from .memory import available_bytes
+
     pardiso = pardiso_available()
-    if order.bandwidth <= (BAND_MAX if pardiso else BAND_MAX_ALONE):
+    band_bytes = 8 * n * (order.bandwidth + 1)
+    if order.bandwidth <= (BAND_MAX if pardiso else BAND_MAX_ALONE) and band_bytes < available_bytes() / 2:
         return "band"
     if pardiso and order.mean_width > COMPACT_PROFILE:
         return "pardiso"

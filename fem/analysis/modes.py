@@ -119,7 +119,8 @@ def _dense(K, M):
 def _sturm_shift(lam, k, more):
     """Shift for the Sturm check of the first k of the computed eigenvalues `lam` (ascending):
     midway to the next distinct computed eigenvalue, so that repeated partners of the last
-    mode (symmetric towers give pairs) are counted as computed, not as missed. Returns the
+    mode (symmetric towers give pairs) are counted as computed, not as missed; when the
+    cluster of the last mode runs past the computed ones, midway below the cluster. Returns the
     shift and how many computed eigenvalues lie below it. `more`: eigenvalues exist above
     the computed ones."""
     top = lam[k - 1]
@@ -129,7 +130,9 @@ def _sturm_shift(lam, k, more):
         j = above[0]
         return 0.5 * (top + lam[j]), int(j)
     if more:
-        return None, None       # no distinct eigenvalue above was computed: cannot place a shift
+        # the last mode's cluster runs past the computed ones: check below the cluster instead
+        c = int(np.flatnonzero(lam >= top - tol)[0])
+        return (0.5 * (lam[c - 1] + lam[c]), c) if c > 0 else (None, None)
     return top + max(1e-6 * abs(top), 1e-8), len(lam)
 
 
@@ -169,7 +172,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
     n_fin = n - int(massless.sum())
     want = min(n_modes or n_fin, n_fin)
     lam_max = (2 * np.pi * f_max) ** 2 if f_max is not None else np.inf
-    extra = 3       # eigenpairs beyond the wanted ones, to place the Sturm shift past repeated modes
+    extra = 2       # eigenpairs beyond the wanted ones, to place the Sturm shift past a repeated pair
     if n <= DENSE_LIMIT or (n_modes is not None and want + extra >= n_fin - 1):
         lam, phi, n_fin = _dense(K, M)
         want = min(want, n_fin)

@@ -110,14 +110,33 @@ def free_motions(model: Model, asm: Assembled, Kff, max_modes: int = 6):
     return out
 
 
+class _Symmetric:
+    """A factor of the symmetric K behind the solve(b, trans) of scipy's SuperLU objects."""
+
+    def __init__(self, factor):
+        self.factor = factor
+        self.name = factor.name
+
+    def solve(self, b, trans="N"):
+        return self.factor.solve(b)
+
+
 def factorise(model: Model, asm: Assembled):
-    """Sparse LU of K over the free DOFs; a singular K raises MechanismError naming, for each
-    free motion, the nodes and directions that move."""
+    """Factor K over the free DOFs. A positive definite K (every stable structure) is factored
+    by the family the eigen solver would choose for it (banded Cholesky, PARDISO or SuperLU in a
+    symmetric ordering, `factor.spd_factor`); otherwise a pivoting sparse LU finds out why: a
+    singular K raises MechanismError naming, for each free motion, the nodes and directions
+    that move."""
     Kff = asm.K[asm.free][:, asm.free].tocsc()
-    from .factor import PIVOT_TOL, column_diagonal
+    from .factor import PIVOT_TOL, NotPositiveDefinite, column_diagonal, ordering, spd_factor
     from .memory import check_factor_memory
 
-    check_factor_memory(Kff, "static solve")
+    order = ordering(Kff)
+    check_factor_memory(Kff, "static solve", order)
+    try:
+        return _Symmetric(spd_factor(Kff, order=order))
+    except NotPositiveDefinite:
+        pass
     singular = False
     try:
         lu = spla.splu(Kff, permc_spec="MMD_AT_PLUS_A")
