@@ -168,3 +168,41 @@ def test_negative_eigenvalues_match_dense_inertia():
         B = sp.random(200, 200, density=0.03, random_state=trial)
         A = (B + B.T + sp.diags(rng.normal(size=200))).tocsc()
         assert negative_eigenvalues(A) == int(np.sum(np.linalg.eigvalsh(A.toarray()) < 0))
+
+
+def test_sturm_shift_placement():
+    # midway to the next distinct eigenvalue; past a repeated partner; below the last cluster
+    # when it runs past the computed eigenvalues; after all of them when none lie beyond
+    from fem.analysis.modes import _sturm_shift
+
+    lam = np.array([1.0, 2.0, 2.0, 3.0])
+    assert _sturm_shift(lam, 1, more=True) == (1.5, 1)
+    assert _sturm_shift(lam, 2, more=True) == (2.5, 3)          # mode 2's partner counted
+    assert _sturm_shift(np.array([1.0, 2.0, 2.0, 2.0]), 2, more=True) == (1.5, 1)
+    assert _sturm_shift(np.array([2.0, 2.0]), 1, more=True) == (None, None)
+    shift, expected = _sturm_shift(lam, 4, more=False)
+    assert 3.0 < shift < 3.0 + 1e-5 and expected == 4
+
+
+def test_static_solves_share_the_eigen_factor_family():
+    # a positive definite K is factored like the eigen solver's (banded Cholesky for a
+    # chain); the displacement is the closed-form one of springs in series (common practice)
+    from fem.analysis.static import factorise
+    from fem.assembly import assemble
+    from fem.deck.reader import read_text
+
+    m = read_text("""
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+for i in 0..10 { node N[i] = (i*1 m, 0, 0) }
+for i in 0..9 { member M[i] : N[i] -> N[i+1] truss P S }
+support N0 pinned
+support N* (uy, uz)
+""")
+    lu = factorise(m, assemble(m))
+    assert "banded" in lu.name
+    asm = assemble(m)
+    f = np.zeros(len(asm.free))
+    f[-1] = 1e3                                     # 1 kN along the chain at its free end
+    u = lu.solve(f)
+    assert u[-1] == pytest.approx(1e3 * 10.0 / (200e9 * 3.600457e-3), rel=1e-6)
