@@ -132,11 +132,11 @@ class _Band(SPDFactor):
         self.perm = order.perm
         self.inv = np.empty_like(self.perm)
         self.inv[self.perm] = np.arange(len(self.perm))
-        B = sp.coo_matrix(sp.csr_matrix(A)[self.perm][:, self.perm])
-        low = (B.row >= B.col) & (B.data != 0)
-        width = int((B.row - B.col)[low].max(initial=0))
+        B = sp.tril(sp.csr_matrix(A)[self.perm][:, self.perm], format="coo")
+        width = int((B.row - B.col).max(initial=0))
         ab = np.zeros((width + 1, A.shape[0]))               # LAPACK lower band storage
-        ab[B.row[low] - B.col[low], B.col[low]] = B.data[low]
+        ab[B.row - B.col, B.col] = B.data
+        del B
         try:
             self.c = sla.cholesky_banded(ab, lower=True, check_finite=False)
         except sla.LinAlgError:
@@ -275,7 +275,7 @@ def shift_invert_factor(K, M, shift: float | None = None, kind: str = "auto") ->
     from ..errors import ModelError
     from .memory import check_factor_memory
 
-    order = ordering(abs(K) + abs(M))
+    order = ordering(K)          # the pattern of the matrix factored (M's may reach outside it)
     check_factor_memory(K, "eigen solve", order)
     if shift is None:
         try:
@@ -284,6 +284,7 @@ def shift_invert_factor(K, M, shift: float | None = None, kind: str = "auto") ->
             d = K.diagonal() / np.where(M.diagonal() > 0, M.diagonal(), np.inf)
             shift = -1e-6 * float(np.median(d[d > 0]))
     A = (K - shift * M).tocsc()
+    order = ordering(A)
     try:
         return spd_factor(A, kind, order), shift
     except NotPositiveDefinite:
