@@ -14,6 +14,7 @@ from ..errors import ModelError
 __all__ = ["DENSE_LIMIT", "ModalResult", "Participation", "massless_dofs", "participation", "solve_modes"]
 
 DENSE_LIMIT = 600   # free DOFs up to which a dense eigh is cheaper and exact
+DEFLATION_ROUNDS = 12  # re-runs for modes the Sturm count shows missed (one or more each)
 LANCZOS_TOL = 1e-12  # ARPACK's relative Ritz tolerance: eigenvalues to ~1e-12, fewer steps than 0 (eps)
 
 
@@ -116,6 +117,12 @@ def _dense(K, M):
     return lam, R @ y + N @ (T @ y), int((~null).sum())
 
 
+def _kept(lam, want, lam_max) -> int:
+    """How many of the ascending eigenvalues `lam` are reported: the lowest `want`, none above
+    lam_max."""
+    return int(np.sum((np.arange(len(lam)) < want) & (lam <= lam_max * (1 + 1e-12))))
+
+
 def _sturm_shift(lam, k, more):
     """Shift for the Sturm check of the first k of the computed eigenvalues `lam` (ascending):
     midway to the next distinct computed eigenvalue, so that repeated partners of the last
@@ -136,19 +143,42 @@ def _sturm_shift(lam, k, more):
     return top + max(1e-6 * abs(top), 1e-8), len(lam)
 
 
-def _lanczos(K, M, k, sigma, factor):
-    """k eigenpairs of (K, M) nearest sigma by shift-invert Lanczos (ARPACK).
+def _lanczos(K, M, k, sigma, factor, found=None):
+    """k eigenpairs of (K, M) nearest sigma by shift-invert Lanczos (ARPACK), and the basis
+    to deflate them from a later run (pass the bases of earlier runs, stacked, as `found`).
 
     With a split Cholesky factor K - sigma M = P^T L L^T P, the standard symmetric problem
     L^-1 P M P^T L^-T y = mu y, mu = 1 / (lambda - sigma), phi = P^T L^-T y, is solved:
-    one M product per step instead of the three of ARPACK's generalised mode."""
+    one M product per step instead of the three of ARPACK's generalised mode; its basis is the
+    orthonormal y. Otherwise ARPACK's generalised mode runs on (K - sigma M)^-1 M in the M
+    inner product; its basis is the M-orthonormal phi. Found vectors are deflated by
+    projecting them out of the operator, which maps their mu to 0 so that the run converges to
+    the next ones, notably the partners of an exactly repeated eigenvalue that a single start
+    vector cannot see (the six rigid-body modes of a free structure)."""
     n = K.shape[0]
     if not factor.split:
-        return spla.eigsh(K, k=k, M=M, sigma=sigma, which="LM", OPinv=factor.operator(), tol=LANCZOS_TOL)
-    C = spla.LinearOperator((n, n), matvec=lambda y: factor.lower_solve(M @ factor.upper_solve(y)),
-                            dtype=float)
+        op = factor.operator()
+        if found is not None:
+            Q, MQ = found, M @ found
+            op = spla.LinearOperator((n, n), dtype=float,
+                                     matvec=lambda x: (lambda v: v - Q @ (MQ.T @ v))(factor.solve(x)))
+        lam, phi = spla.eigsh(K, k=k, M=M, sigma=sigma, which="LM", OPinv=op, tol=LANCZOS_TOL)
+        return lam, phi, phi / np.sqrt(np.einsum("ij,ij->j", phi, M @ phi))
+
+    def apply(y):
+        return factor.lower_solve(M @ factor.upper_solve(y))
+
+    if found is not None:
+        Y = found
+
+        def apply(y, plain=apply):  # noqa: F811 - the deflated operator P C P, P = I - Y Y^T
+            y = y - Y @ (Y.T @ y)
+            z = plain(y)
+            return z - Y @ (Y.T @ z)
+
+    C = spla.LinearOperator((n, n), matvec=apply, dtype=float)
     mu, y = spla.eigsh(C, k=k, which="LA", tol=LANCZOS_TOL)
-    return sigma + 1.0 / mu, factor.upper_solve(y)
+    return sigma + 1.0 / mu, factor.upper_solve(y), y
 
 
 def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
@@ -190,9 +220,9 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
         k = min((want if n_modes else 20) + extra, n_fin - 2)
         while True:
             with _one_blas_thread(factor):
-                lam, phi = _lanczos(K, M, k, sigma, factor)
+                lam, phi, basis = _lanczos(K, M, k, sigma, factor)
             order = np.argsort(lam)
-            lam, phi = lam[order], phi[:, order]
+            lam, phi, basis = lam[order], phi[:, order], basis[:, order]
             if n_modes is None and lam[-1 - extra] < lam_max and k < n_fin - 2:
                 k = min(2 * k, n_fin - 2)
                 continue
@@ -201,25 +231,48 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
         solver = f"shift-invert, {factor.name}"
     finite = np.isfinite(lam)           # a Lanczos run asked past the rank of M returns no more
     lam, phi = lam[finite], phi[:, finite]
-    keep = int(np.sum((np.arange(len(lam)) < want) & (lam <= lam_max * (1 + 1e-12))))
-    lam_all = lam
-    lam, phi = lam[:keep], phi[:, :keep]
-    # rigid-body modes come out at round-off, of either sign, about eps times the largest
-    # eigenvalue computed: zero those (far below any real mode, e.g. 1e-12 of 2e9 rad^2/s^2 is
-    # 3e-4 Hz), clip the negative rest
-    scale = float(np.abs(lam_all).max(initial=0.0))
-    lam = np.maximum(np.where(np.abs(lam) <= 1e-12 * scale, 0.0, lam), 0.0)
-    # mass-normalise (eigh and eigsh already do; renormalise against round-off)
-    mnorm = np.sqrt(np.einsum("ij,ij->j", phi, M @ phi))
-    phi = phi / mnorm
-    res, orth_m, orth_k = _checks(K, M, lam, phi)
+    basis = basis[:, finite] if solver != "dense" else None
+    keep = _kept(lam, want, lam_max)
     count = shift_used = expected = None
     if sturm and keep:
-        shift_used, expected = _sturm_shift(lam_all, keep, more)
+        shift_used, expected = _sturm_shift(lam, keep, more)
         if shift_used is not None:
             from .factor import negative_eigenvalues
 
             count = negative_eigenvalues((K - shift_used * M).tocsc(), inertia_kind, band_order)
+        rounds = 0
+        while basis is not None and count is not None and count > expected and rounds < DEFLATION_ROUNDS:
+            # modes missed below the check shift (a repeated eigenvalue shows a single start
+            # vector only one of its modes): run again with the found ones deflated, which
+            # finds at least one more per round, and merge
+            k = min(count - expected + extra, n_fin - 2 - len(lam))
+            if k < 1:
+                break
+            with _one_blas_thread(factor):
+                lam2, phi2, basis2 = _lanczos(K, M, k, sigma, factor, found=basis)
+            ok = np.isfinite(lam2)
+            lam, phi = np.r_[lam, lam2[ok]], np.c_[phi, phi2[:, ok]]
+            basis = np.c_[basis, basis2[:, ok]]
+            order = np.argsort(lam, kind="stable")
+            lam, phi, basis = lam[order], phi[:, order], basis[:, order]
+            expected = int(np.sum(lam < shift_used))
+            rounds += 1
+        keep = _kept(lam, want, lam_max)
+    lam_all = lam
+    lam, phi = lam[:keep], phi[:, :keep]
+    # rigid-body modes come out at round-off, of either sign: about eps times the largest
+    # eigenvalue computed, and, after a negative shift sigma, up to ~20 LANCZOS_TOL |sigma| (the
+    # accuracy of mu = 1/(lambda - sigma) at lambda = 0; 17x measured on a free pipe). Zero
+    # those (far below any real mode: 1e-12 of 2e9 rad^2/s^2 is 3e-4 Hz; 1e3 LANCZOS_TOL of
+    # the free pipe's |sigma| = 2.2e6 is 7e-3 Hz, its first elastic mode 41 Hz), clip the
+    # negative rest
+    scale = float(np.abs(lam_all).max(initial=0.0))
+    noise = max(1e-12 * scale, 1e3 * LANCZOS_TOL * abs(sigma)) if basis is not None else 1e-12 * scale
+    lam = np.maximum(np.where(np.abs(lam) <= noise, 0.0, lam), 0.0)
+    # mass-normalise (eigh and eigsh already do; renormalise against round-off)
+    mnorm = np.sqrt(np.einsum("ij,ij->j", phi, M @ phi))
+    phi = phi / mnorm
+    res, orth_m, orth_k = _checks(K, M, lam, phi)
     omega = np.sqrt(lam)
     with np.errstate(divide="ignore"):
         period = np.where(omega > 0, 2 * np.pi / np.where(omega > 0, omega, 1), np.inf)
