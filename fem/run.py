@@ -144,6 +144,7 @@ def modal_checks(r) -> dict:
     k = len(m.omega)
     complete_err, complete_ok = _all_modes_check(r)
     return {"max_residual": float(m.residual.max()), "residual_pass": bool(m.residual.max() < RESIDUAL_TOL),
+            "residual_per_mode": [float(x) for x in m.residual],
             "mass_orthogonality": m.orth_mass, "stiffness_orthogonality": m.orth_stiff,
             "orthogonality_pass": bool(max(m.orth_mass, m.orth_stiff) < ORTHO_TOL),
             "sturm_count": m.sturm_count, "sturm_expected": m.sturm_expected, "modes_found": k,
@@ -237,7 +238,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
         head = ["case", "mode", "frequency_Hz", "omega_rad_s", "period_s", "modal_mass_kg",
                 "modal_stiffness_N_per_m"]
         head += [f"gamma_{a}" for a in AXES] + [f"mass_fraction_{a}" for a in AXES]
-        head += [f"cumulative_{a}" for a in AXES]
+        head += [f"cumulative_{a}" for a in AXES] + ["eigen_residual"]
         rows = []
         for r in modal:
             m, p = r.modes, r.part
@@ -245,7 +246,8 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
             for j in range(len(m.omega)):
                 rows.append([r.name, j + 1, float(m.freq[j]), float(m.omega[j]), float(m.period[j]),
                              float(mm[j]), float(mk[j]),
-                             *map(float, p.gamma[j]), *map(_fraction, p.fraction[j]), *map(_fraction, p.cumulative[j])])
+                             *map(float, p.gamma[j]), *map(_fraction, p.fraction[j]), *map(_fraction, p.cumulative[j]),
+                             float(m.residual[j])])
         _write_csv(out / "modes.csv", head, rows)
         _write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
                    [[r.name, j + 1, n, *map(float, r.shapes[k, :, j])]

@@ -206,3 +206,29 @@ support N* (uy, uz)
     f[-1] = 1e3                                     # 1 kN along the chain at its free end
     u = lu.solve(f)
     assert u[-1] == pytest.approx(1e3 * 10.0 / (200e9 * 3.600457e-3), rel=1e-6)
+
+
+def test_residual_and_orthogonality_measures_see_a_bad_eigenpair():
+    # the self-check measures of ModalResult, recomputed from their definitions on eigenpairs
+    # spoiled on purpose (a 1e-3 error in one shape, 1e-4 in one eigenvalue), so that the
+    # figures are far above round-off: backward error ||K x - l M x|| / ((||K||_1 + |l| ||M||_1) ||x||)
+    # (Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed., sec. 7.1 for the
+    # normwise backward error of a computed solution; common practice for eigenpairs)
+    from fem.analysis.modes import _checks
+
+    K, M = chain(40)
+    Kd, Md = K.toarray(), M.toarray()
+    lam, phi = np.linalg.eigh(Kd)                        # M = I here
+    lam, phi = lam[:5].copy(), phi[:, :5].copy()
+    rng = np.random.default_rng(0)
+    phi[:, 1] += 1e-3 * rng.standard_normal(40)
+    lam[3] *= 1 + 1e-4
+    res, orth_m, orth_k = _checks(K, M, lam, phi)
+    mine = (np.linalg.norm(Kd @ phi - Md @ phi * lam, axis=0)
+            / ((np.abs(Kd).sum(0).max() + np.abs(lam) * np.abs(Md).sum(0).max()) * np.linalg.norm(phi, axis=0)))
+    np.testing.assert_allclose(res, mine, rtol=1e-10)
+    assert res[1] > 1e-5 and res[3] > 1e-6 and res[[0, 2, 4]].max() < 1e-14
+    G = phi.T @ Md @ phi
+    assert orth_m == pytest.approx(np.abs(G - np.eye(5)).max(), rel=1e-12) and orth_m > 1e-4
+    H = phi.T @ Kd @ phi
+    assert orth_k == pytest.approx(np.abs(H - np.diag(np.diag(H))).max() / lam.max(), rel=1e-12)
