@@ -219,3 +219,28 @@ def test_a_deck_without_nodes_is_checked_and_refused_to_run(tmp_path, text, caps
     err = capsys.readouterr().err
     assert "defines no nodes" in err and "Traceback" not in err
     assert not (tmp_path / "o").exists()
+
+
+def test_member_leaning_just_past_vertical_is_warned():
+    # an I shape leaning 2 % (past the 1 % vertical band) without `up` gets the inclined-member
+    # axes; a plumb one and a round one are not warned about
+    text = """
+material S { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section I = rect(b = 100 mm, h = 300 mm)
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+node A = (0, 0, 0)
+node B = (0, 0.08 m, 4 m)
+node C = (3 m, 0, 0)
+node D = (3 m, 0, 4 m)
+node E = (6 m, 0, 0)
+node F = (6 m, 0.08 m, 4 m)
+member C1 : A -> B beam I S
+member C2 : C -> D beam I S
+member C3 : E -> F beam P S
+support A fixed
+support C fixed
+support E fixed
+"""
+    m = read_text(text)
+    lean = [w for w in m.warnings if "leans" in w]
+    assert len(lean) == 1 and ":11:" in lean[0] and "member C1 leans 1.1 deg" in lean[0]

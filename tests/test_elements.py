@@ -164,6 +164,27 @@ def test_local_axes_conventions():
     assert np.allclose(R[2], [[0, 1, 0], [-1, 0, 0], [0, 0, 1]])
 
 
+@pytest.mark.parametrize("lean", [1 / 4000, 1 / 200, 0.0099])
+@pytest.mark.parametrize("toward", [(1, 0), (0, 1), (-0.6, 0.8)])
+def test_out_of_plumb_column_keeps_the_plumb_section_axes(lean, toward):
+    # a column a little out of plumb (an erection tolerance, the 1/200 sway imperfection of
+    # common practice) must keep the axes of the plumb one, z along X and y along -Y, up to its
+    # lean; before, a lean of 1e-9 toward Y turned the section 90 degrees (strong and weak
+    # axes swapped)
+    dx, dy = lean * np.array(toward) * 4.0
+    R, _ = local_axes([[0, 0, 0]], [[dx, dy, 4.0 * np.sqrt(1 - lean ** 2)]])
+    plumb = np.array([[0, 0, 1], [0, -1, 0], [1, 0, 0]])
+    assert np.abs(R[0] - plumb).max() < 1.5 * lean
+
+
+def test_members_leaning_past_the_vertical_band_follow_the_inclined_rule():
+    # past 1 % the default reference is global Z again (local z = the part of Z across the member)
+    R, _ = local_axes([[0, 0, 0]], [[0, 0.2, 4.0]])
+    x = np.array([0, 0.2, 4.0]) / np.hypot(0.2, 4.0)
+    z = np.array([0.0, 0.0, 1.0]) - x[2] * x
+    assert np.allclose(R[0, 2], z / np.linalg.norm(z))
+
+
 def test_local_axes_roll_and_up():
     R0, _ = local_axes([[0, 0, 0]], [[2, 0, 0]])
     R1, _ = local_axes([[0, 0, 0]], [[2, 0, 0]], roll=[np.pi / 2])

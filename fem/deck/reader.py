@@ -602,6 +602,7 @@ class _Reader:
             if m["up"] is not None:
                 up[k] = _up_vector(m["up"], axis / length, m)
         self.parallel_members(mems, conn)
+        self.leaning_members(mems, coords[conn[:, 1]] - coords[conn[:, 0]], cols, up, truss)
         n = len(node_names)
         restraint = np.zeros((n, 6), bool)
         for target, dirs in self.supports:
@@ -715,6 +716,27 @@ class _Reader:
                 a, b = b, a
             self.warnings.append(f"{b['loc']}: warning: member {b['name']} joins the same two nodes as member "
                                  f"{a['name']} (at {a['loc']}); both act, with their stiffness and mass added")
+
+    def leaning_members(self, mems, axis, cols, up, truss) -> None:
+        """Warn about members a little off vertical (1 % to 10 % horizontal projection) with a
+        section that is not the same about both axes and no `up`: the default axes follow the
+        inclined-member rule there, which can turn the section 90 degrees from a plumb
+        neighbour's (members under 1 % count as vertical; see elements.frame.LEAN_VERTICAL)."""
+        from ..elements.frame import LEAN_VERTICAL
+
+        length = np.linalg.norm(axis, axis=1)
+        lean = np.hypot(axis[:, 0], axis[:, 1]) / np.where(length > 0, length, 1.0)
+        unequal = np.abs(cols["Iy"] - cols["Iz"]) > 1e-3 * np.maximum(cols["Iy"], cols["Iz"])
+        odd = np.flatnonzero((lean >= LEAN_VERTICAL) & (lean < 0.1) & unequal & np.isnan(up).any(axis=1) & ~truss)
+        for k in odd[:10]:
+            m = mems[k]
+            self.warnings.append(
+                f"{m['loc']}: warning: member {m['name']} leans {np.degrees(np.arcsin(lean[k])):.2g} deg from "
+                f"vertical, more than the {np.degrees(np.arcsin(LEAN_VERTICAL)):.2g} deg within which members count "
+                "as vertical, so its section axes follow the rule for inclined members and may be turned 90 deg "
+                "from those of a plumb column; give `up` to set them")
+        if len(odd) > 10:
+            self.warnings.append(f"{mems[odd[10]]['loc']}: warning: {len(odd) - 10} more members lean like this")
 
     def massless_materials(self, mems, nsm, modal) -> None:
         """Warn about materials of zero density whose members carry no mass in the modes."""

@@ -34,6 +34,10 @@ __all__ = [
 ]
 
 _PARALLEL_TOL = 1.0 - 1e-9
+# members whose horizontal projection is under this fraction of their length (a lean under
+# 0.57 deg: erection tolerances and the usual 1/200 sway imperfection) count as vertical for
+# the default axes, so an out-of-plumb column keeps the section orientation of a plumb one
+LEAN_VERTICAL = 0.01
 
 
 def _vec(a, n=None):
@@ -60,8 +64,9 @@ def local_axes(xi, xj, roll=None, up=None):
     roll : (n,) array_like, optional
         Rotation of local y, z about local x (rad, right-hand positive).
     up : (n, 3) array_like, optional
-        Reference vector per member; default global Z.  Members (near)
-        parallel to global Z use global X instead of the default.
+        Reference vector per member; default global Z.  Members within
+        LEAN_VERTICAL of global Z (horizontal projection under 1 % of the
+        length) use global X instead of the default.
 
     Returns
     -------
@@ -88,7 +93,7 @@ def local_axes(xi, xj, roll=None, up=None):
     ex = d / L[:, None]
     if up is None:
         ref = np.tile([0.0, 0.0, 1.0], (n, 1))
-        vert = np.abs(ex[:, 2]) > _PARALLEL_TOL
+        vert = np.hypot(ex[:, 0], ex[:, 1]) < LEAN_VERTICAL
         ref[vert] = [1.0, 0.0, 0.0]
     else:
         ref = np.broadcast_to(np.asarray(up, dtype=float), (n, 3)).copy()
