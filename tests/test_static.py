@@ -248,3 +248,67 @@ def test_equilibrium_sees_force_and_moment_imbalance():
     no_force = react.copy()
     no_force[0, 2] = 0.0
     assert equilibrium(xyz, applied, no_force) > 0.1
+
+
+def _global_end_forces(R, f):
+    """Member end forces (12,) in local axes -> forces and moments at i and j in global axes."""
+    return [R.T @ f[s:s + 3] for s in (0, 3, 6, 9)]
+
+
+def test_end_force_signs_inclined_cantilever():
+    # Sign convention (docs/results.md): member_forces are forces acting ON the member at each
+    # end, in its local axes. Free-body statics (no source needed): a one-member cantilever has
+    # at end i exactly the support reaction and at end j exactly the applied tip load, both as
+    # signed vectors; the moment at i balances the tip load's moment about i.
+    body = """
+node A = (0, 0, 0)
+node B = (3 m, 2 m, 1.5 m)
+member C : A -> B beam P S
+support A fixed
+case TIP static { force B = (4 kN, -7 kN, -10 kN) ; moment B = (1 kN*m, 0, 2 kN*m) }
+"""
+    m, r = run(body)
+    a = assemble(m)
+    Fi, Mi, Fj, Mj = _global_end_forces(a.R[0], r.member_forces[0])
+    P, Q = np.array([4e3, -7e3, -10e3]), np.array([1e3, 0, 2e3])
+    np.testing.assert_allclose(Fj, P, atol=1e-9 * 1e4)
+    np.testing.assert_allclose(Mj, Q, atol=1e-9 * 1e4)
+    np.testing.assert_allclose(Fi, r.reactions[0, :3], atol=1e-9 * 1e4)
+    np.testing.assert_allclose(Mi, r.reactions[0, 3:], atol=1e-9 * 1e4)
+    np.testing.assert_allclose(Fi, -P, atol=1e-9 * 1e4)
+    lever = np.array([3.0, 2.0, 1.5])
+    np.testing.assert_allclose(Mi, -(Q + np.cross(lever, P)), atol=1e-9 * 1e5)
+
+
+def test_end_force_signs_horizontal_cantilever_local():
+    # Member along +X: local y = +Y, z = +Z (fem.elements.frame.local_axes). A downward tip load
+    # P at x = L: on the member at i the support pushes up (Vz_i = +P) and holds the moment
+    # M_y,i = -P L (right-hand about +Y: the support's moment turns the root back up); at j the
+    # load acts down (Vz_j = -P), no moment. Statics of a cantilever, Roark 7th ed. Table 8.1.
+    _, r = run("""
+node A = (0, 0, 0)
+node B = (5 m, 0, 0)
+member C : A -> B beam P S
+support A fixed
+case TIP static { force B = (0, 0, -10 kN) }
+""")
+    N_i, Vy_i, Vz_i, T_i, My_i, Mz_i, N_j, Vy_j, Vz_j, T_j, My_j, Mz_j = r.member_forces[0]
+    assert Vz_i == pytest.approx(10e3, rel=1e-12)
+    assert My_i == pytest.approx(-50e3, rel=1e-12)
+    assert Vz_j == pytest.approx(-10e3, rel=1e-12)
+    assert abs(My_j) < 1e-9 * 50e3
+
+
+def test_axial_sign_tension_positive_at_j():
+    # Docs/results.md: N at end j is the member's axial force, tension positive (N at i is its
+    # negative). A bar pulled by 25 kN along its axis: N_j = +25 kN, N_i = -25 kN.
+    _, r = run("""
+node A = (0, 0, 0)
+node B = (0, 4 m, 0)
+member C : A -> B truss P S
+support A pinned
+support B (ux, uz)
+case PULL static { force B = (0, 25 kN, 0) }
+""")
+    assert r.member_forces[0, 6] == pytest.approx(25e3, rel=1e-12)
+    assert r.member_forces[0, 0] == pytest.approx(-25e3, rel=1e-12)
