@@ -20,7 +20,7 @@ from .analysis.harmonic import HarmonicResult, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
-from .analysis.static import StaticResult, condition_estimate, factorise, held_dofs, solve_static
+from .analysis.static import StaticResult, condition_estimate, equilibrium, factorise, held_dofs, solve_static
 from .assembly import assemble
 from .deck.reader import read_deck
 from .errors import ModelError, ResultsError
@@ -82,9 +82,10 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     by_name = {r.name: r for r in results}
     for combo in model.combinations:
         parts = [(f, by_name[n]) for n, f in combo.factors.items()]
-        comb = StaticResult(combo.name, *(sum(f * getattr(r, a) for f, r in parts)
-                                          for a in ("u", "reactions", "member_forces", "applied")),
-                            equilibrium=max(r.equilibrium for _, r in parts))
+        u, reactions, forces, applied = (sum(f * getattr(r, a) for f, r in parts)
+                                         for a in ("u", "reactions", "member_forces", "applied"))
+        comb = StaticResult(combo.name, u, reactions, forces, applied,
+                            equilibrium(model.coords, applied, reactions))
         results.append(comb)
     by_name = {r.name: r for r in results}
     modal_by = {r.name: r for r in modal}

@@ -312,3 +312,31 @@ case PULL static { force B = (0, 25 kN, 0) }
 """)
     assert r.member_forces[0, 6] == pytest.approx(25e3, rel=1e-12)
     assert r.member_forces[0, 0] == pytest.approx(-25e3, rel=1e-12)
+
+
+def test_combination_equilibrium_is_its_own():
+    # A combination's check is computed from its own combined loads and reactions (statics of
+    # the superposed state), not copied from its parts: spoiling one combined reaction must show.
+    from fem.analysis.static import equilibrium
+    from fem.run import solve_all
+
+    m = read_text(PIPE + """
+node A = (0, 0, 0)
+node B = (4 m, 0, 0)
+node C = (4 m, 0, 3 m)
+member G : A -> B beam P S
+member H : B -> C beam P S
+support A fixed
+case D static { force C = (0, 0, -20 kN) }
+case W static { force C = (5 kN, 0, 0) }
+combo U = 1.35*D + 1.5*W
+""")
+    results, _ = solve_all(m)
+    by = {r.name: r for r in results}
+    u = by["U"]
+    np.testing.assert_allclose(u.reactions, 1.35 * by["D"].reactions + 1.5 * by["W"].reactions)
+    assert u.equilibrium == equilibrium(m.coords, u.applied, u.reactions)
+    assert u.equilibrium < 1e-12
+    spoiled = u.reactions.copy()
+    spoiled[0, 2] *= 1.01
+    assert equilibrium(m.coords, u.applied, spoiled) > 1e-3
