@@ -409,14 +409,35 @@ def _check_target(target: Path, deck: Path) -> None:
                                "choose an empty or new folder with --out")
 
 
+def _tidy_after_kill(target: Path) -> None:
+    """Undo what a killed run (SIGKILL, power cut) may have left beside `target`: its temporary
+    folders (named .quaver-<pid>-..., removed only when that process is gone) and, if it died
+    between moving the previous results aside and moving the new ones in, the previous results,
+    which are moved back."""
+    for p in target.parent.glob(".quaver-*-*"):
+        pid = p.name.split("-")[1]
+        if not pid.isdigit() or int(pid) == os.getpid():
+            continue
+        try:
+            os.kill(int(pid), 0)
+        except ProcessLookupError:
+            shutil.rmtree(p, ignore_errors=True)
+        except OSError:
+            pass                     # alive under another user: not ours to touch
+    old = target.with_name(target.name + ".old")
+    if not target.exists() and (old / "results.json").exists():
+        os.replace(old, target)
+
+
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
              draw_modes: int = 6) -> int:
     model = read_deck(deck)
     target = Path(out) if out else Path("results") / Path(deck).stem
     results, modal = solve_all(model)
     target.parent.mkdir(parents=True, exist_ok=True)
+    _tidy_after_kill(target)
     _check_target(target, Path(deck))
-    tmp = Path(tempfile.mkdtemp(prefix=".quaver-", dir=target.parent))
+    tmp = Path(tempfile.mkdtemp(prefix=f".quaver-{os.getpid()}-", dir=target.parent))
     try:
         doc = _write(model, results, modal, tmp)
         notice = _render(model, modal, tmp, jobs, draw_modes) if render else "pictures skipped (--no-render)"

@@ -12,6 +12,7 @@ from fem.cli import main
 from fem.deck.reader import read_deck
 
 RACK = Path(__file__).parents[1] / "decks" / "rack.deck"
+ROOT = Path(__file__).parents[1]
 
 
 def test_run_writes_results_and_checks(tmp_path, capsys):
@@ -110,3 +111,43 @@ def test_quiet_when_not_a_terminal(tmp_path):
                        capture_output=True, text=True, timeout=300, cwd=Path(__file__).parents[1])
     assert r.returncode == 0
     assert "..." not in r.stderr and "it/s" not in r.stderr
+
+
+def test_killed_run_keeps_previous_results_and_is_tidied(tmp_path):
+    # A run killed with SIGKILL (no clean-up code runs) while it writes its temporary folder:
+    # the previous results stay byte for byte, and the next run removes the dead run's folder.
+    import os
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    out = tmp_path / "res"
+    assert main(["run", str(RACK), "--out", str(out), "--no-render"]) == 0
+    before = (out / "results.json").read_bytes()
+    proc = subprocess.Popen([sys.executable, "-m", "fem", "run", str(RACK), "--out", str(out), "--no-render"],
+                            cwd=ROOT, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    deadline = time.monotonic() + 120
+    while not any(p.name.startswith(".quaver-") for p in tmp_path.iterdir()):
+        assert proc.poll() is None, "the run ended before it began writing"
+        assert time.monotonic() < deadline
+        time.sleep(0.005)
+    os.kill(proc.pid, signal.SIGKILL)
+    proc.wait()
+    assert (out / "results.json").read_bytes() == before
+    assert any(p.name.startswith(".quaver-") for p in tmp_path.iterdir())   # left by the killed run
+    assert main(["run", str(RACK), "--out", str(out), "--no-render"]) == 0
+    assert not any(p.name.startswith(".quaver-") for p in tmp_path.iterdir())
+
+
+def test_results_moved_aside_by_a_killed_run_are_restored(tmp_path):
+    # Killed between moving the previous results to NAME.old and the new ones in: the next run
+    # starts by moving them back, so a failing next run still leaves them in place.
+    from fem.run import _tidy_after_kill
+
+    out = tmp_path / "res"
+    assert main(["run", str(RACK), "--out", str(out), "--no-render"]) == 0
+    before = (out / "results.json").read_bytes()
+    out.rename(tmp_path / "res.old")
+    _tidy_after_kill(out)
+    assert (out / "results.json").read_bytes() == before and not (tmp_path / "res.old").exists()
