@@ -96,10 +96,7 @@ class _Reader:
         if self.top_dir not in path.parents and path.parent != self.top_dir:
             raise DeckError(f"include '{path}' is outside the deck's folder {self.top_dir}", where,
                             "keep included decks in the same folder as the top deck or below it")
-        try:
-            text = path.read_text(encoding="utf-8")
-        except OSError as exc:
-            raise DeckError(f"cannot read deck '{path}': {exc.strerror}", where) from None
+        text = _read_utf8(path, "deck", where)
         self.lines[path] = text.splitlines()
         self.stack.append(path)
         try:
@@ -347,7 +344,7 @@ class _Reader:
 
     def st_include(self, s):
         rel = str(s.children[0])[1:-1]
-        self.read_file(self.stack[-1].parent / rel, self.loc(s))
+        self.read_file(self.stack[-1].parent / rel, self.loc(s.children[0]))
 
     def st_settings(self, s):
         for opt in s.children:
@@ -993,10 +990,7 @@ class _Reader:
         path = (deck_file.parent / rel).resolve()
         if self.top_dir not in path.parents:
             raise DeckError(f"table '{rel}' is outside the deck's folder {self.top_dir}", where)
-        try:
-            lines = path.read_text(encoding="utf-8").splitlines()
-        except OSError as exc:
-            raise DeckError(f"cannot read table '{rel}': {exc.strerror}", where) from None
+        lines = _read_utf8(path, "table", where).splitlines()
         rows = []
         for k, line in enumerate(lines, 1):
             parts = [x.strip() for x in line.replace(";", ",").split(",") if x.strip()]
@@ -1137,6 +1131,40 @@ class _Reader:
         case.options = out
 
 
+def _read_utf8(path: Path, what: str, where: Location | None) -> str:
+    """The text of a deck or table file, which must be UTF-8 (a UTF-8 byte-order mark is
+    allowed). A folder, an unreadable file or other bytes are a DeckError that says which byte
+    on which line is wrong; `where` is the statement that named the file (None for the top deck)."""
+    site = f" ({'included' if what == 'deck' else 'named'} at {where})" if where else ""
+    if path.is_dir():
+        inside = sorted(p.name for p in path.glob("*.deck"))[:5]
+        hint = f"decks in it: {', '.join(inside)}" if inside else "give the path of a file"
+        raise DeckError(f"{what} '{path}' is a folder, not a file", where, hint)
+    try:
+        data = path.read_bytes()
+    except OSError as exc:
+        raise DeckError(f"cannot read {what} '{path}': {exc.strerror}", where) from None
+    fix = "save it as UTF-8 (in most editors: Save As, encoding UTF-8)"
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")) or (b"\x00" in data[:200] and data.count(b"\x00") * 4 > len(data)):
+        raise DeckError(f"{what} '{path.name}' is UTF-16 (or UTF-32) text; a {what} file must be UTF-8", where, fix)
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        start = data.rfind(b"\n", 0, exc.start) + 1
+        end = data.find(b"\n", exc.start)
+        raw = data[start:end if end >= 0 else len(data)]
+        line = data.count(b"\n", 0, exc.start) + 1
+        column = len(data[start:exc.start].decode("utf-8", errors="replace")) + 1
+        bad = data[exc.start]
+        guess = bytes([bad]).decode("cp1252", errors="replace")
+        like = f" ('{guess}' in the Windows/Latin-1 encoding)" if guess.isprintable() and guess != "\ufffd" else ""
+        src = raw.decode("utf-8", errors="replace").rstrip("\r")
+        raise DeckError(f"byte 0x{bad:02x}{like} is not UTF-8 text{site}; a {what} file must be UTF-8",
+                        Location(path.name, line, column, src), fix) from None
+
+
 def _released_motion(released: np.ndarray) -> str | None:
     """A rigid motion of a member that its end releases (12,) leave free, in words, or None.
 
@@ -1232,7 +1260,7 @@ def _combo_factors(r: _Reader, t, cases: set[str]) -> dict[str, float]:
 def read_deck(path) -> Model:
     """Read and validate the deck at `path` (and its includes) into a Model."""
     path = Path(path)
-    if not path.is_file():
+    if not path.exists():
         raise DeckError(f"deck '{path}' does not exist")
     r = _Reader(path)
     r.read_file(path)
