@@ -92,3 +92,65 @@ def test_cli_exits_2_on_undecodable_deck(tmp_path: Path, capsys):
     assert "Traceback" not in err and "stand.deck:1:8" in err
     assert main(["check", str(tmp_path)]) == 2
     assert "is a folder" in capsys.readouterr().err
+
+
+# ---------- 2. syntax errors in plain words
+
+# (id, text appended to GOOD, location "line:column", message pattern, text under the caret)
+SYNTAX = [
+    ("misspelled statement after a member", "suport A fixed", "7:1",
+     r"unknown statement 'suport'; did you mean 'support'\?", "suport"),
+    ("misspelled statement at the start", "nod C = (0, 0, 0)", "7:1", r"did you mean 'node'\?", "nod"),
+    ("misspelled statement after a block", "case D static { force B = (1 kN, 0, 0) }\ncas E static { }", "8:1",
+     r"unknown statement 'cas'; did you mean 'case'\?", "cas"),
+    ("misspelled release", "member N : A -> B beam P S relese j (rz)", "7:28", r"did you mean 'release'\?", "relese"),
+    ("keyword glued to a word", "assume length inn mm", "7:15", r"unknown word .inn. here", "inn"),
+    ("keyword glued to a name", "nodeC = (0, 1 m, 0)", "7:1", r"unknown word .nodeC. here", "nodeC"),
+    ("unclosed block at the end", "case D static {\n  force B = (1 kN, 0, 0)\n", "7:15",
+     r"the file ends before the '\{' opened here is closed", "{"),
+    ("unclosed list at the end", "node C = (1 m, 0", "7:10", r"the file ends before the '\(' opened here", "("),
+    ("unclosed block before the next statement", "material T { E = 1 GPa, nu = 0.3\nnode C = (0, 1 m, 0)",
+     "7:12", r"'\{' opened here is not closed before the 'node' statement on line 8", "{ E"),
+    ("statement cut short", "support A", "7:10", r"the file ends in the middle of a statement; expected '\(' or a name",
+     ""),
+    ("stray bracket", "node C = (1 m, 2 m, 3 m))", "7:25", r"this '\)' closes nothing", ")"),
+    ("mismatched bracket", "node C = (1 m, 2 m, 3 m}", "7:24", r"this '\}' closes nothing: the bracket open here is the '\(' of line 7, "
+     "column 10", "}"),
+    ("missing comma", "node C = (1 m 2 m, 0)", "7:15", r"unexpected value '2 m'; expected ',' or an operator \(\+ - \* / \^\)",
+     "2 m"),
+    ("curly quotes", 'title \u201cstand\u201d', "7:7", "unexpected character", "\u201c"),
+    ("number too large", "let a = 1e999", "7:9", r"the number 1e999 is too large", "1e999"),
+    ("long integer too large", "let a = 1" + "0" * 400, "7:9", "is too large", "1000"),
+    ("number too small", "let a = 1e-999", "7:9", r"the number 1e-999 is too small", "1e-999"),
+    ("quantity too large", "node C = (1e306 km, 0, 0)", "7:11", "1e306 km is beyond the range", "1e306 km"),
+    ("product too large", "let a = 1e200 * 1e200", "7:9", "the result is too large", "1e200"),
+    ("power too large", "let a = 10^400", "7:9", "the result is too large", "10^400"),
+    ("quotient too small", "let a = 1e-300 / 1e300", "7:9", "the result is too small", "1e-300"),
+]
+
+
+@pytest.mark.parametrize("body, at, pattern, under", [s[1:] for s in SYNTAX], ids=[s[0] for s in SYNTAX])
+def test_syntax_errors_in_words(tmp_path: Path, body, at, pattern, under):
+    (tmp_path / "stand.deck").write_text(GOOD + body + "\n")
+    with pytest.raises(DeckError, match=pattern) as err:
+        read_deck(tmp_path / "stand.deck")
+    assert str(err.value).startswith(f"stand.deck:{at}: "), str(err.value)
+    assert "''" not in str(err.value)
+    assert caret_under(err.value).startswith(under)
+
+
+def test_caret_under_the_token_after_tabs(tmp_path: Path):
+    (tmp_path / "stand.deck").write_text(GOOD + "member N : A -> B beam P S\troll = 3 deg\t4\n")
+    with pytest.raises(DeckError, match=r"^stand.deck:7:41: unexpected number '4'") as err:
+        read_deck(tmp_path / "stand.deck")
+    src, caret = str(err.value).splitlines()[1:3]
+    assert caret == "    " + "".join(c if c == "\t" else " " for c in src[4:44]) + "^"
+    assert caret_under(err.value) == "4"
+
+
+def test_syntax_error_inside_an_included_file(tmp_path: Path):
+    (tmp_path / "top.deck").write_text(GOOD + 'include "loads.deck"\n')
+    (tmp_path / "loads.deck").write_text("case D static {\n\tforce B = (1 kN, 0, 0))\n}\n")
+    with pytest.raises(DeckError, match=r"^loads.deck:2:24: this '\)' closes nothing") as err:
+        read_deck(tmp_path / "top.deck")
+    assert caret_under(err.value) == ")"

@@ -15,12 +15,13 @@ from pathlib import Path
 
 import numpy as np
 from lark import Lark, Token, Tree
-from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
 
 from ..errors import DeckError, Location, suggest
 from ..model import DIRECTIONS, Combination, LoadCase, LoadItem, Material, Model, Section
 from ..sections import make_section
 from . import units as U
+from .syntax import keyword_callbacks
+from .syntax import parse as parse_deck_text
 from .units import Quantity
 
 __all__ = ["read_deck", "read_text"]
@@ -39,19 +40,6 @@ _FUNCS = {"sqrt": math.sqrt, "sin": math.sin, "cos": math.cos, "tan": math.tan,
           "atan": math.atan, "abs": abs, "exp": math.exp, "log": math.log}
 _ASSUMABLE = {"length": U.LENGTH, "force": U.FORCE, "mass": U.MASS, "time": U.TIME,
               "stress": U.PRESSURE, "density": U.DENSITY}
-_TOKEN_WORDS = {"NAME": "a name", "NUMBER": "a number", "QUANTITY": "a number with a unit",
-                "STRING": 'a quoted text', "LBRACE": "'{'", "RBRACE": "'}'", "LPAR": "'('",
-                "RPAR": "')'", "EQUAL": "'='", "COMMA": "','", "PATTERN": "a name pattern",
-                "COLON": "':'", "$END": "the end of the file", "CIRCUMFLEX": "'^'",
-                "MINUS": "'-'", "PLUS": "'+'", "STAR": "'*'", "SLASH": "'/'", "LSQB": "'['",
-                "RSQB": "']'", "SEMICOLON": "';'"}
-
-
-def _token_word(t: str) -> str:
-    if t in _TOKEN_WORDS:
-        return _TOKEN_WORDS[t]
-    pattern = _parser().get_terminal(t).pattern.value if t.startswith("__") else t.lower()
-    return repr(pattern)
 
 
 @lru_cache(maxsize=1)
@@ -59,7 +47,8 @@ def _parser() -> Lark:
     here = Path(__file__).resolve().parents[2] / "grammar" / "deck.lark"
     text = here.read_text() if here.exists() else \
         resources.files("fem.grammar").joinpath("deck.lark").read_text()
-    return Lark(text, parser="lalr", lexer="contextual", propagate_positions=True)
+    return Lark(text, parser="lalr", lexer="contextual", propagate_positions=True,
+                lexer_callbacks=keyword_callbacks())
 
 
 class _Reader:
@@ -123,26 +112,7 @@ class _Reader:
         return Location(path.name, line, col, src)
 
     def parse(self, text: str, path: Path) -> Tree:
-        try:
-            return _parser().parse(text)
-        except UnexpectedInput as exc:
-            lines = text.splitlines()
-            line, col = getattr(exc, "line", 1) or 1, getattr(exc, "column", 1) or 1
-            if isinstance(exc, UnexpectedEOF) or line < 1:
-                line = max(len(lines), 1)
-                col = len(lines[-1]) + 1 if lines else 1
-            src = lines[line - 1] if 0 < line <= len(lines) else ""
-            where = Location(path.name, line, col, src)
-            if isinstance(exc, UnexpectedCharacters):
-                raise DeckError(f"unexpected character {text[exc.pos_in_stream]!r}", where) from None
-            if isinstance(exc, UnexpectedToken) and exc.token.type == "NAME" and \
-                    re.search(r"\d\s*$", text[:exc.token.start_pos]):
-                raise DeckError(f"unknown unit '{exc.token}'; {suggest(str(exc.token), U.UNITS)}", where,
-                                "known units are listed in docs/deck.md") from None
-            expected = sorted({_token_word(t) for t in exc.expected})
-            found = "the end of the file" if isinstance(exc, UnexpectedEOF) else \
-                repr(str(exc.token)) if isinstance(exc, UnexpectedToken) else "this"
-            raise DeckError(f"unexpected {found}; expected {', '.join(expected[:8])}", where) from None
+        return parse_deck_text(_parser(), text, path)
 
     # ---------- expressions
     def evaluate(self, t) -> Quantity:
@@ -152,7 +122,7 @@ class _Reader:
         ch = t.children
         try:
             if d == "number":
-                v = float(ch[0])
+                v = _literal(str(ch[0]), self.loc(t))
                 return Quantity(v, WILD if v == 0 else U.NONE)
             if d == "quantity":
                 return self.quantity(ch[0])
@@ -169,11 +139,20 @@ class _Reader:
                    "pow": "__pow__"}
             if d in ops:
                 a, b = self.evaluate(ch[0]), self.evaluate(ch[1])
-                return _binary(a, b, ops[d])
+                q = _binary(a, b, ops[d])
+                if not math.isfinite(q.value):
+                    raise DeckError(f"the result is too large to compute (numbers reach about {_FLOAT_MAX:.1e})",
+                                    self.loc(t))
+                if q.value == 0 and a.value != 0 and d in ("mul", "div", "pow") and (b.value != 0 or d == "div"):
+                    raise DeckError("the result is too small to hold (it would become 0)", self.loc(t))
+                return q
             if d == "neg":
                 return -self.evaluate(ch[0])
             if len(ch) == 1:   # unary plus
                 return self.evaluate(ch[0])
+        except OverflowError:
+            raise DeckError(f"the result is too large to compute (numbers reach about {_FLOAT_MAX:.1e})",
+                            self.loc(t)) from None
         except ArithmeticError as exc:
             raise DeckError(str(exc), self.loc(t)) from None
         raise DeckError(f"expected a single value here, found {d}", self.loc(t))
@@ -187,7 +166,7 @@ class _Reader:
         while i < len(text) and (text[i].isdigit() or text[i] in ".eE+-") and not (
                 text[i] in "eE" and (i + 1 >= len(text) or not (text[i + 1].isdigit() or text[i + 1] in "+-"))):
             i += 1
-        value, unit = float(text[:i]), text[i:].strip()
+        value, unit = _literal(text[:i], self.loc(tok)), text[i:].strip()
         q = Quantity(value)
         for k, part in enumerate(_split_unit(unit)):
             op, sym, power = part
@@ -196,6 +175,8 @@ class _Reader:
                 raise DeckError(f"unknown unit '{sym}'; {suggest(sym, U.UNITS)}", self.loc(tok))
             base = base ** Quantity(power)
             q = q * base if op == "*" else q / base
+        if not math.isfinite(q.value) or (q.value == 0 and value != 0):
+            raise DeckError(f"{text} is beyond the range of numbers once converted to SI units", self.loc(tok))
         self.quantities[text] = q
         return q
 
@@ -1129,6 +1110,21 @@ class _Reader:
             raise DeckError(f"case {case.name}: give a mass target or count/fmax, not both", case.location)
         out.setdefault("count", None if ("fmax" in out or "target" in out) else 12)
         case.options = out
+
+
+_FLOAT_MAX = float(np.finfo(float).max)
+
+
+def _literal(text: str, where: Location) -> float:
+    """A number as written in the deck; one that overflows to inf or underflows to 0 is refused
+    rather than silently changed."""
+    v = float(text)
+    if math.isinf(v):
+        raise DeckError(f"the number {text} is too large (numbers reach about {_FLOAT_MAX:.1e})", where)
+    if v == 0 and re.search(r"[1-9]", re.split(r"[eE]", text)[0]):
+        raise DeckError(f"the number {text} is too small to hold (the smallest is about 5e-324)", where,
+                        "write 0 if zero is meant")
+    return v
 
 
 def _read_utf8(path: Path, what: str, where: Location | None) -> str:
