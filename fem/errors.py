@@ -55,8 +55,11 @@ class DeckError(QuaverError, ValueError):
         head = f"{self.location}: {self.message}" if self.location else self.message
         parts = [head]
         if self.location and self.location.source_line:
-            parts.append("    " + self.location.source_line.rstrip("\n"))
-            parts.append("    " + " " * (self.location.column - 1) + "^")
+            src = self.location.source_line.rstrip("\n")
+            # tabs kept in the caret line, so the caret sits under the token however tabs are shown
+            pad = "".join(c if c == "\t" else " " for c in src[:self.location.column - 1])
+            parts.append("    " + src)
+            parts.append("    " + pad + "^")
         if self.hint:
             parts.append(f"hint: {self.hint}")
         return "\n".join(parts)

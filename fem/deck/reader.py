@@ -15,12 +15,13 @@ from pathlib import Path
 
 import numpy as np
 from lark import Lark, Token, Tree
-from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
 
 from ..errors import DeckError, Location, suggest
 from ..model import DIRECTIONS, Combination, LoadCase, LoadItem, Material, Model, Section
 from ..sections import make_section
 from . import units as U
+from .syntax import keyword_callbacks
+from .syntax import parse as parse_deck_text
 from .units import Quantity
 
 __all__ = ["read_deck", "read_text"]
@@ -39,19 +40,6 @@ _FUNCS = {"sqrt": math.sqrt, "sin": math.sin, "cos": math.cos, "tan": math.tan,
           "atan": math.atan, "abs": abs, "exp": math.exp, "log": math.log}
 _ASSUMABLE = {"length": U.LENGTH, "force": U.FORCE, "mass": U.MASS, "time": U.TIME,
               "stress": U.PRESSURE, "density": U.DENSITY}
-_TOKEN_WORDS = {"NAME": "a name", "NUMBER": "a number", "QUANTITY": "a number with a unit",
-                "STRING": 'a quoted text', "LBRACE": "'{'", "RBRACE": "'}'", "LPAR": "'('",
-                "RPAR": "')'", "EQUAL": "'='", "COMMA": "','", "PATTERN": "a name pattern",
-                "COLON": "':'", "$END": "the end of the file", "CIRCUMFLEX": "'^'",
-                "MINUS": "'-'", "PLUS": "'+'", "STAR": "'*'", "SLASH": "'/'", "LSQB": "'['",
-                "RSQB": "']'", "SEMICOLON": "';'"}
-
-
-def _token_word(t: str) -> str:
-    if t in _TOKEN_WORDS:
-        return _TOKEN_WORDS[t]
-    pattern = _parser().get_terminal(t).pattern.value if t.startswith("__") else t.lower()
-    return repr(pattern)
 
 
 @lru_cache(maxsize=1)
@@ -59,7 +47,8 @@ def _parser() -> Lark:
     here = Path(__file__).resolve().parents[2] / "grammar" / "deck.lark"
     text = here.read_text() if here.exists() else \
         resources.files("fem.grammar").joinpath("deck.lark").read_text()
-    return Lark(text, parser="lalr", lexer="contextual", propagate_positions=True)
+    return Lark(text, parser="lalr", lexer="contextual", propagate_positions=True,
+                lexer_callbacks=keyword_callbacks())
 
 
 class _Reader:
@@ -96,10 +85,7 @@ class _Reader:
         if self.top_dir not in path.parents and path.parent != self.top_dir:
             raise DeckError(f"include '{path}' is outside the deck's folder {self.top_dir}", where,
                             "keep included decks in the same folder as the top deck or below it")
-        try:
-            text = path.read_text(encoding="utf-8")
-        except OSError as exc:
-            raise DeckError(f"cannot read deck '{path}': {exc.strerror}", where) from None
+        text = _read_utf8(path, "deck", where)
         self.lines[path] = text.splitlines()
         self.stack.append(path)
         try:
@@ -126,26 +112,7 @@ class _Reader:
         return Location(path.name, line, col, src)
 
     def parse(self, text: str, path: Path) -> Tree:
-        try:
-            return _parser().parse(text)
-        except UnexpectedInput as exc:
-            lines = text.splitlines()
-            line, col = getattr(exc, "line", 1) or 1, getattr(exc, "column", 1) or 1
-            if isinstance(exc, UnexpectedEOF) or line < 1:
-                line = max(len(lines), 1)
-                col = len(lines[-1]) + 1 if lines else 1
-            src = lines[line - 1] if 0 < line <= len(lines) else ""
-            where = Location(path.name, line, col, src)
-            if isinstance(exc, UnexpectedCharacters):
-                raise DeckError(f"unexpected character {text[exc.pos_in_stream]!r}", where) from None
-            if isinstance(exc, UnexpectedToken) and exc.token.type == "NAME" and \
-                    re.search(r"\d\s*$", text[:exc.token.start_pos]):
-                raise DeckError(f"unknown unit '{exc.token}'; {suggest(str(exc.token), U.UNITS)}", where,
-                                "known units are listed in docs/deck.md") from None
-            expected = sorted({_token_word(t) for t in exc.expected})
-            found = "the end of the file" if isinstance(exc, UnexpectedEOF) else \
-                repr(str(exc.token)) if isinstance(exc, UnexpectedToken) else "this"
-            raise DeckError(f"unexpected {found}; expected {', '.join(expected[:8])}", where) from None
+        return parse_deck_text(_parser(), text, path)
 
     # ---------- expressions
     def evaluate(self, t) -> Quantity:
@@ -155,7 +122,7 @@ class _Reader:
         ch = t.children
         try:
             if d == "number":
-                v = float(ch[0])
+                v = _literal(str(ch[0]), self.loc(t))
                 return Quantity(v, WILD if v == 0 else U.NONE)
             if d == "quantity":
                 return self.quantity(ch[0])
@@ -172,11 +139,20 @@ class _Reader:
                    "pow": "__pow__"}
             if d in ops:
                 a, b = self.evaluate(ch[0]), self.evaluate(ch[1])
-                return _binary(a, b, ops[d])
+                q = _binary(a, b, ops[d])
+                if not math.isfinite(q.value):
+                    raise DeckError(f"the result is too large to compute (numbers reach about {_FLOAT_MAX:.1e})",
+                                    self.loc(t))
+                if q.value == 0 and a.value != 0 and d in ("mul", "div", "pow") and (b.value != 0 or d == "div"):
+                    raise DeckError("the result is too small to hold (it would become 0)", self.loc(t))
+                return q
             if d == "neg":
                 return -self.evaluate(ch[0])
             if len(ch) == 1:   # unary plus
                 return self.evaluate(ch[0])
+        except OverflowError:
+            raise DeckError(f"the result is too large to compute (numbers reach about {_FLOAT_MAX:.1e})",
+                            self.loc(t)) from None
         except ArithmeticError as exc:
             raise DeckError(str(exc), self.loc(t)) from None
         raise DeckError(f"expected a single value here, found {d}", self.loc(t))
@@ -190,7 +166,7 @@ class _Reader:
         while i < len(text) and (text[i].isdigit() or text[i] in ".eE+-") and not (
                 text[i] in "eE" and (i + 1 >= len(text) or not (text[i + 1].isdigit() or text[i + 1] in "+-"))):
             i += 1
-        value, unit = float(text[:i]), text[i:].strip()
+        value, unit = _literal(text[:i], self.loc(tok)), text[i:].strip()
         q = Quantity(value)
         for k, part in enumerate(_split_unit(unit)):
             op, sym, power = part
@@ -199,6 +175,8 @@ class _Reader:
                 raise DeckError(f"unknown unit '{sym}'; {suggest(sym, U.UNITS)}", self.loc(tok))
             base = base ** Quantity(power)
             q = q * base if op == "*" else q / base
+        if not math.isfinite(q.value) or (q.value == 0 and value != 0):
+            raise DeckError(f"{text} is beyond the range of numbers once converted to SI units", self.loc(tok))
         self.quantities[text] = q
         return q
 
@@ -347,7 +325,7 @@ class _Reader:
 
     def st_include(self, s):
         rel = str(s.children[0])[1:-1]
-        self.read_file(self.stack[-1].parent / rel, self.loc(s))
+        self.read_file(self.stack[-1].parent / rel, self.loc(s.children[0]))
 
     def st_settings(self, s):
         for opt in s.children:
@@ -993,10 +971,7 @@ class _Reader:
         path = (deck_file.parent / rel).resolve()
         if self.top_dir not in path.parents:
             raise DeckError(f"table '{rel}' is outside the deck's folder {self.top_dir}", where)
-        try:
-            lines = path.read_text(encoding="utf-8").splitlines()
-        except OSError as exc:
-            raise DeckError(f"cannot read table '{rel}': {exc.strerror}", where) from None
+        lines = _read_utf8(path, "table", where).splitlines()
         rows = []
         for k, line in enumerate(lines, 1):
             parts = [x.strip() for x in line.replace(";", ",").split(",") if x.strip()]
@@ -1137,6 +1112,55 @@ class _Reader:
         case.options = out
 
 
+_FLOAT_MAX = float(np.finfo(float).max)
+
+
+def _literal(text: str, where: Location) -> float:
+    """A number as written in the deck; one that overflows to inf or underflows to 0 is refused
+    rather than silently changed."""
+    v = float(text)
+    if math.isinf(v):
+        raise DeckError(f"the number {text} is too large (numbers reach about {_FLOAT_MAX:.1e})", where)
+    if v == 0 and re.search(r"[1-9]", re.split(r"[eE]", text)[0]):
+        raise DeckError(f"the number {text} is too small to hold (the smallest is about 5e-324)", where,
+                        "write 0 if zero is meant")
+    return v
+
+
+def _read_utf8(path: Path, what: str, where: Location | None) -> str:
+    """The text of a deck or table file, which must be UTF-8 (a UTF-8 byte-order mark is
+    allowed). A folder, an unreadable file or other bytes are a DeckError that says which byte
+    on which line is wrong; `where` is the statement that named the file (None for the top deck)."""
+    site = f" ({'included' if what == 'deck' else 'named'} at {where})" if where else ""
+    if path.is_dir():
+        inside = sorted(p.name for p in path.glob("*.deck"))[:5]
+        hint = f"decks in it: {', '.join(inside)}" if inside else "give the path of a file"
+        raise DeckError(f"{what} '{path}' is a folder, not a file", where, hint)
+    try:
+        data = path.read_bytes()
+    except OSError as exc:
+        raise DeckError(f"cannot read {what} '{path}': {exc.strerror}", where) from None
+    fix = "save it as UTF-8 (in most editors: Save As, encoding UTF-8)"
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")) or (b"\x00" in data[:200] and data.count(b"\x00") * 4 > len(data)):
+        raise DeckError(f"{what} '{path.name}' is UTF-16 (or UTF-32) text; a {what} file must be UTF-8", where, fix)
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        start = data.rfind(b"\n", 0, exc.start) + 1
+        end = data.find(b"\n", exc.start)
+        raw = data[start:end if end >= 0 else len(data)]
+        line = data.count(b"\n", 0, exc.start) + 1
+        column = len(data[start:exc.start].decode("utf-8", errors="replace")) + 1
+        bad = data[exc.start]
+        guess = bytes([bad]).decode("cp1252", errors="replace")
+        like = f" ('{guess}' in the Windows/Latin-1 encoding)" if guess.isprintable() and guess != "\ufffd" else ""
+        src = raw.decode("utf-8", errors="replace").rstrip("\r")
+        raise DeckError(f"byte 0x{bad:02x}{like} is not UTF-8 text{site}; a {what} file must be UTF-8",
+                        Location(path.name, line, column, src), fix) from None
+
+
 def _released_motion(released: np.ndarray) -> str | None:
     """A rigid motion of a member that its end releases (12,) leave free, in words, or None.
 
@@ -1232,7 +1256,7 @@ def _combo_factors(r: _Reader, t, cases: set[str]) -> dict[str, float]:
 def read_deck(path) -> Model:
     """Read and validate the deck at `path` (and its includes) into a Model."""
     path = Path(path)
-    if not path.is_file():
+    if not path.exists():
         raise DeckError(f"deck '{path}' does not exist")
     r = _Reader(path)
     r.read_file(path)

@@ -1,0 +1,226 @@
+"""Syntax errors of the deck in a user's words.
+
+The LALR parser reports a terminal it did not expect and the terminals it would have taken;
+`syntax_error` turns that into a DeckError located at the token to fix: a misspelled keyword
+gets the nearest keywords, the end of the file inside a block names the line where the block
+was opened, a bracket that closes nothing says so, and the expected terminals are listed in
+plain words (one phrase for all statements, one for all operators).
+"""
+
+from __future__ import annotations
+
+import difflib
+import re
+import threading
+from pathlib import Path
+
+from lark import Token
+from lark.exceptions import UnexpectedCharacters, UnexpectedInput
+
+from ..errors import DeckError, Location
+from . import units as U
+
+__all__ = ["STATEMENTS", "keyword_callbacks", "parse", "syntax_error"]
+
+STATEMENTS = ("title", "let", "assume", "include", "material", "section", "node", "member",
+              "support", "spring", "mass", "group", "case", "combo", "for", "settings")
+# words the grammar reserves besides the statements (`a..b` and `->` are punctuation)
+_KEYWORDS = STATEMENTS + ("release", "in")
+_OPERATORS = {"PLUS", "MINUS", "STAR", "SLASH", "CIRCUMFLEX"}
+_WORDS = {"NAME": "a name", "NUMBER": "a number", "QUANTITY": "a number with a unit",
+          "STRING": "a quoted text", "PATTERN": "a name pattern", "LBRACE": "'{'", "RBRACE": "'}'",
+          "LPAR": "'('", "RPAR": "')'", "LSQB": "'['", "RSQB": "']'", "EQUAL": "'='", "COMMA": "','",
+          "COLON": "':'", "SEMICOLON": "';'", "__ANON_0": "'->'", "__ANON_1": "'..'",
+          "$END": "the end of the file"}
+_PAIRS = {"(": ")", "{": "}", "[": "]"}
+_CLOSERS = {v: k for k, v in _PAIRS.items()}
+
+
+def _phrase(items: list[str]) -> str:
+    return items[0] if len(items) == 1 else ", ".join(items[:-1]) + " or " + items[-1]
+
+
+def expected_words(names) -> str:
+    """Terminal names -> "',' or ')'", with all statements and all operators one phrase each."""
+    names = set(names)
+    stmts = [s for s in STATEMENTS if s.upper() in names]
+    words = []
+    if len(stmts) >= 4:
+        names -= {s.upper() for s in stmts} | {"$END"}
+        words.append("a statement (" + ", ".join(stmts[:6]) + (", ..." if len(stmts) > 6 else "") + ")")
+    ops = names & _OPERATORS
+    names -= _OPERATORS
+    for n in sorted(names, key=lambda n: (n not in _WORDS, n)):
+        words.insert(0 if n in ("RPAR", "RBRACE", "RSQB", "COMMA") else len(words),
+                     _WORDS.get(n, f"'{n.lower()}'"))
+    if ops:
+        words.append("an operator (" + " ".join(w for n, w in (("PLUS", "+"), ("MINUS", "-"), ("STAR", "*"),
+                                                              ("SLASH", "/"), ("CIRCUMFLEX", "^")) if n in ops) + ")")
+    return _phrase(words) if words else "something else"
+
+
+def _found(tok: Token) -> str:
+    kind = {"NAME": "name", "NUMBER": "number", "QUANTITY": "value", "STRING": "text",
+            "PATTERN": "pattern"}.get(tok.type)
+    if kind is None:
+        return f"keyword '{tok}'" if str(tok).isalpha() else f"'{tok}'"
+    return f"{kind} '{tok}'" if kind != "text" else f"text {tok}"
+
+
+def _brackets(text: str, upto: int):
+    """The brackets open at offset `upto` as [(char, offset)], and a closer that matched nothing
+    as (char, offset) or None; comments and quoted texts are skipped."""
+    stack, stray, i = [], None, 0
+    while i < upto:
+        c = text[i]
+        if c == "#":
+            j = text.find("\n", i)
+            i = upto if j < 0 else j
+        elif c == '"':
+            j = text.find('"', i + 1)
+            nl = text.find("\n", i + 1)
+            i = j if j >= 0 and (nl < 0 or j < nl) else i
+        elif c in _PAIRS:
+            stack.append((c, i))
+        elif c in _CLOSERS:
+            if stack and stack[-1][0] == _CLOSERS[c]:
+                stack.pop()
+            elif stray is None:
+                stray = (c, i)
+        i += 1
+    return stack, stray
+
+
+def _nearest(word: str, choices) -> str | None:
+    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
+    return close[0] if close else None
+
+
+class GluedKeyword(Exception):
+    """A keyword lexed from the front of a longer word (`nodeA`, `inn`): the contextual lexer
+    matches a keyword wherever only keywords are expected, so `nodeA = (...)` would read as
+    `node A = (...)`; keyword_callbacks refuse that."""
+
+    def __init__(self, token: Token):
+        self.token = token
+
+
+_TEXT = threading.local()   # the text being parsed, for the keyword callbacks
+
+
+def keyword_callbacks() -> dict:
+    """lark lexer callbacks that refuse a keyword followed directly by a letter, digit or '_'."""
+    def whole_word(tok: Token) -> Token:
+        text = getattr(_TEXT, "text", "")
+        nxt = text[tok.end_pos:tok.end_pos + 1]
+        if nxt and (nxt.isalnum() or nxt == "_"):
+            raise GluedKeyword(tok)
+        return tok
+    return {k.upper(): whole_word for k in _KEYWORDS}
+
+
+def parse(parser, text: str, path: Path):
+    """parser.parse(text), with every failure a DeckError located in `path`."""
+    _TEXT.text = text
+    try:
+        return parser.parse(text)
+    except UnexpectedInput as exc:
+        raise syntax_error(exc, text, path) from None
+    except GluedKeyword as exc:
+        tok = exc.token
+        word = re.match(r"\w+", text[tok.start_pos:]).group(0)
+        kw, rest = str(tok), word[len(str(tok)):]
+        lines = text.splitlines()
+        where = Location(path.name, tok.line, tok.column, lines[tok.line - 1] if tok.line <= len(lines) else "")
+        raise DeckError(f"unknown word '{word}' here", where,
+                        f"if '{kw} {rest}' is meant, put a space after '{kw}'") from None
+    finally:
+        _TEXT.text = ""
+
+
+def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
+    """A DeckError for lark's UnexpectedInput `exc` raised on `text` read from `path`."""
+    lines = text.splitlines()
+
+    def where_at(offset: int) -> Location:
+        line = text.count("\n", 0, offset) + 1
+        col = offset - (text.rfind("\n", 0, offset) + 1) + 1
+        return Location(path.name, line, col, lines[line - 1] if line <= len(lines) else "")
+
+    if isinstance(exc, UnexpectedCharacters):
+        ch = text[exc.pos_in_stream]
+        hint = ""
+        if ch in "\u201c\u201d\u2018\u2019":
+            hint = 'write texts in plain double quotes "..." (an editor or word processor put in curly ones)'
+        elif not ch.isascii() and ch.isalpha():
+            hint = "names use the letters A-Z and a-z, digits and '_'"
+        elif ch == '"':
+            hint = 'a quoted text ends on the line where it starts: close it with "'
+        return DeckError(f"unexpected character {ch!r}", where_at(exc.pos_in_stream), hint)
+
+    tok = getattr(exc, "token", None)
+    try:
+        accepts = exc.interactive_parser.accepts()
+    except Exception:   # no interactive parser on this kind of error: lark's own list
+        accepts = set(getattr(exc, "expected", ()) or ())
+    if tok is None or tok.type == "$END":
+        stack, _ = _brackets(text, len(text))
+        if stack:
+            ch, at = stack[-1]
+            return DeckError(f"the file ends before the '{ch}' opened here is closed", where_at(at),
+                             f"add the closing '{_PAIRS[ch]}' (a block or list ends in the file it starts in)")
+        end = len(text.rstrip())
+        return DeckError(f"the file ends in the middle of a statement; expected {expected_words(accepts)}",
+                         where_at(end), "complete the last statement")
+    pos = tok.start_pos
+    here = where_at(pos)
+    if tok.type == "NAME" and re.search(r"\d[ \t]*$", text[:pos]):
+        from ..errors import suggest
+        return DeckError(f"unknown unit '{tok}'; {suggest(str(tok), U.UNITS)}", here,
+                         "known units are listed in docs/deck.md")
+    if str(tok) in _CLOSERS:
+        stack, stray = _brackets(text, pos + 1)
+        if stray is not None and stray[1] == pos:
+            if any(c == _CLOSERS[str(tok)] for c, _ in stack):
+                ch, at = stack[-1]
+                opened = where_at(at)
+                return DeckError(f"this '{tok}' does not close the '{ch}' opened at line {opened.line}, column "
+                                 f"{opened.column}", here, f"close that one with '{_PAIRS[ch]}' first")
+            if stack:
+                ch, at = stack[-1]
+                opened = where_at(at)
+                return DeckError(f"this '{tok}' closes nothing: the bracket open here is the '{ch}' of line "
+                                 f"{opened.line}, column {opened.column}", here, f"close it with '{_PAIRS[ch]}'")
+            return DeckError(f"this '{tok}' closes nothing: no '{_CLOSERS[str(tok)]}' is open", here,
+                             "remove it, or add the opening bracket where it belongs")
+    if tok.type.lower() in STATEMENTS:
+        stack, _ = _brackets(text, pos)
+        if stack:
+            ch, at = stack[-1]
+            return DeckError(f"the '{ch}' opened here is not closed before the '{tok}' statement on line "
+                             f"{here.line}", where_at(at), f"add the closing '{_PAIRS[ch]}'")
+    # a statement keyword misspelled at the start of a statement
+    stmts = {s for s in STATEMENTS if s.upper() in accepts}
+    if tok.type == "NAME" and stmts:
+        near = _nearest(str(tok), STATEMENTS)
+        return DeckError(f"unknown statement '{tok}'" + (f"; did you mean '{near}'?" if near else ""), here,
+                         "a statement starts with one of: " + ", ".join(STATEMENTS))
+    # a misspelled keyword read as an option name (after a member, `suport A fixed` reads as
+    # the option `suport` of that member until the '=' is missing)
+    prev = re.search(r"([A-Za-z_]\w*)\s*$", text[:pos])
+    if prev and "EQUAL" in accepts and prev.group(1) not in _KEYWORDS:
+        near = _nearest(prev.group(1), _KEYWORDS)
+        starts_line = not text[text.rfind("\n", 0, prev.start(1)) + 1:prev.start(1)].strip()
+        if near in STATEMENTS and starts_line:
+            return DeckError(f"unknown statement '{prev.group(1)}'; did you mean '{near}'?", where_at(prev.start(1)),
+                             "a statement starts with one of: " + ", ".join(STATEMENTS))
+        if near:
+            return DeckError(f"unknown word '{prev.group(1)}' here; did you mean '{near}'?", where_at(prev.start(1)),
+                             "an option is written name = value")
+    # a misspelled keyword where the grammar wants one (assume length inn mm)
+    if tok.type == "NAME":
+        wanted = [n.lower() for n in accepts if n.lower() in _KEYWORDS]
+        near = _nearest(str(tok), wanted)
+        if near:
+            return DeckError(f"unexpected name '{tok}'; did you mean '{near}'?", here)
+    return DeckError(f"unexpected {_found(tok)}; expected {expected_words(accepts)}", here)

@@ -1,0 +1,156 @@
+"""User mistakes the deck reader must turn into one located DeckError (file:line:column, the
+line with a caret under the offending token, what is wrong and how to fix it), and the CLI into
+exit status 2 without a traceback."""
+
+from pathlib import Path
+
+import pytest
+
+from fem.cli import main
+from fem.deck.reader import read_deck
+from fem.errors import DeckError
+
+GOOD = """material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+node A = (0, 0, 0)
+node B = (2 m, 0, 0)
+member M : A -> B beam P S
+support A fixed
+"""
+
+
+def caret_under(err: DeckError) -> str:
+    """The text the caret line points at in the quoted source line."""
+    lines = str(err).splitlines()
+    src, caret = lines[1][4:], lines[2][4:]
+    return src[caret.index("^"):]
+
+
+# ---------- 1. files that are not UTF-8 text, and folders
+
+def test_latin1_byte_is_located(tmp_path: Path):
+    deck = tmp_path / "stand.deck"
+    deck.write_bytes(GOOD.encode() + 'title "pump 5 \u00b5m"\n'.encode("latin-1"))
+    with pytest.raises(DeckError) as err:
+        read_deck(deck)
+    text = str(err.value)
+    assert text.startswith("stand.deck:7:15: byte 0xb5 ('\u00b5' in the Windows/Latin-1 encoding) is not UTF-8")
+    assert "must be UTF-8" in text and "save it as UTF-8" in text
+    assert caret_under(err.value).startswith("\ufffdm")
+
+
+def test_utf16_deck_is_refused(tmp_path: Path):
+    deck = tmp_path / "stand.deck"
+    deck.write_text(GOOD, encoding="utf-16")
+    with pytest.raises(DeckError, match="'stand.deck' is UTF-16 .* must be UTF-8"):
+        read_deck(deck)
+    deck.write_bytes(GOOD.encode("utf-16-le"))          # no byte-order mark
+    with pytest.raises(DeckError, match="is UTF-16"):
+        read_deck(deck)
+
+
+def test_utf8_byte_order_mark_is_accepted(tmp_path: Path):
+    deck = tmp_path / "stand.deck"
+    deck.write_bytes(b"\xef\xbb\xbf" + GOOD.encode())
+    assert read_deck(deck).n_nodes == 2
+
+
+def test_folder_given_as_deck(tmp_path: Path):
+    (tmp_path / "stand.deck").mkdir()
+    (tmp_path / "stand.deck" / "floor.deck").write_text(GOOD)
+    with pytest.raises(DeckError, match=r"is a folder, not a file") as err:
+        read_deck(tmp_path / "stand.deck")
+    assert "decks in it: floor.deck" in str(err.value)
+
+
+def test_included_folder_and_latin1_file(tmp_path: Path):
+    (tmp_path / "parts").mkdir()
+    (tmp_path / "top.deck").write_text(GOOD + 'include "parts"\n')
+    with pytest.raises(DeckError, match=r"^top.deck:7:9: deck '.*parts' is a folder") as err:
+        read_deck(tmp_path / "top.deck")
+    assert caret_under(err.value) == '"parts"'
+    (tmp_path / "top.deck").write_text(GOOD + '\ninclude "loads.deck"\n')
+    (tmp_path / "loads.deck").write_bytes(b'title "a"\ntitle "\xe9"\n')
+    with pytest.raises(DeckError, match=r"^loads.deck:2:8: byte 0xe9 .* \(included at top.deck:8:9\)"):
+        read_deck(tmp_path / "top.deck")
+
+
+def test_latin1_table_is_located(tmp_path: Path):
+    (tmp_path / "pulse.csv").write_bytes(b"# t \xb5s\n0, 0\n1, 1\n")
+    (tmp_path / "top.deck").write_text(
+        GOOD + "case X modes { count = 2 }\n"
+        'case H history { force B = (0, 1 kN, 0), table = "pulse.csv", duration = 1 s, step = 0.01 s }\n')
+    with pytest.raises(DeckError, match=r"^pulse.csv:1:5: byte 0xb5 .* \(named at top.deck:8:"):
+        read_deck(tmp_path / "top.deck")
+
+
+def test_cli_exits_2_on_undecodable_deck(tmp_path: Path, capsys):
+    deck = tmp_path / "stand.deck"
+    deck.write_bytes(b'title "\xb5"\n')
+    assert main(["check", str(deck)]) == 2
+    err = capsys.readouterr().err
+    assert "Traceback" not in err and "stand.deck:1:8" in err
+    assert main(["check", str(tmp_path)]) == 2
+    assert "is a folder" in capsys.readouterr().err
+
+
+# ---------- 2. syntax errors in plain words
+
+# (id, text appended to GOOD, location "line:column", message pattern, text under the caret)
+SYNTAX = [
+    ("misspelled statement after a member", "suport A fixed", "7:1",
+     r"unknown statement 'suport'; did you mean 'support'\?", "suport"),
+    ("misspelled statement at the start", "nod C = (0, 0, 0)", "7:1", r"did you mean 'node'\?", "nod"),
+    ("misspelled statement after a block", "case D static { force B = (1 kN, 0, 0) }\ncas E static { }", "8:1",
+     r"unknown statement 'cas'; did you mean 'case'\?", "cas"),
+    ("misspelled release", "member N : A -> B beam P S relese j (rz)", "7:28", r"did you mean 'release'\?", "relese"),
+    ("keyword glued to a word", "assume length inn mm", "7:15", r"unknown word .inn. here", "inn"),
+    ("keyword glued to a name", "nodeC = (0, 1 m, 0)", "7:1", r"unknown word .nodeC. here", "nodeC"),
+    ("unclosed block at the end", "case D static {\n  force B = (1 kN, 0, 0)\n", "7:15",
+     r"the file ends before the '\{' opened here is closed", "{"),
+    ("unclosed list at the end", "node C = (1 m, 0", "7:10", r"the file ends before the '\(' opened here", "("),
+    ("unclosed block before the next statement", "material T { E = 1 GPa, nu = 0.3\nnode C = (0, 1 m, 0)",
+     "7:12", r"'\{' opened here is not closed before the 'node' statement on line 8", "{ E"),
+    ("statement cut short", "support A", "7:10", r"the file ends in the middle of a statement; expected '\(' or a name",
+     ""),
+    ("stray bracket", "node C = (1 m, 2 m, 3 m))", "7:25", r"this '\)' closes nothing", ")"),
+    ("mismatched bracket", "node C = (1 m, 2 m, 3 m}", "7:24", r"this '\}' closes nothing: the bracket open here is the '\(' of line 7, "
+     "column 10", "}"),
+    ("missing comma", "node C = (1 m 2 m, 0)", "7:15", r"unexpected value '2 m'; expected ',' or an operator \(\+ - \* / \^\)",
+     "2 m"),
+    ("curly quotes", 'title \u201cstand\u201d', "7:7", "unexpected character", "\u201c"),
+    ("number too large", "let a = 1e999", "7:9", r"the number 1e999 is too large", "1e999"),
+    ("long integer too large", "let a = 1" + "0" * 400, "7:9", "is too large", "1000"),
+    ("number too small", "let a = 1e-999", "7:9", r"the number 1e-999 is too small", "1e-999"),
+    ("quantity too large", "node C = (1e306 km, 0, 0)", "7:11", "1e306 km is beyond the range", "1e306 km"),
+    ("product too large", "let a = 1e200 * 1e200", "7:9", "the result is too large", "1e200"),
+    ("power too large", "let a = 10^400", "7:9", "the result is too large", "10^400"),
+    ("quotient too small", "let a = 1e-300 / 1e300", "7:9", "the result is too small", "1e-300"),
+]
+
+
+@pytest.mark.parametrize("body, at, pattern, under", [s[1:] for s in SYNTAX], ids=[s[0] for s in SYNTAX])
+def test_syntax_errors_in_words(tmp_path: Path, body, at, pattern, under):
+    (tmp_path / "stand.deck").write_text(GOOD + body + "\n")
+    with pytest.raises(DeckError, match=pattern) as err:
+        read_deck(tmp_path / "stand.deck")
+    assert str(err.value).startswith(f"stand.deck:{at}: "), str(err.value)
+    assert "''" not in str(err.value)
+    assert caret_under(err.value).startswith(under)
+
+
+def test_caret_under_the_token_after_tabs(tmp_path: Path):
+    (tmp_path / "stand.deck").write_text(GOOD + "member N : A -> B beam P S\troll = 3 deg\t4\n")
+    with pytest.raises(DeckError, match=r"^stand.deck:7:41: unexpected number '4'") as err:
+        read_deck(tmp_path / "stand.deck")
+    src, caret = str(err.value).splitlines()[1:3]
+    assert caret == "    " + "".join(c if c == "\t" else " " for c in src[4:44]) + "^"
+    assert caret_under(err.value) == "4"
+
+
+def test_syntax_error_inside_an_included_file(tmp_path: Path):
+    (tmp_path / "top.deck").write_text(GOOD + 'include "loads.deck"\n')
+    (tmp_path / "loads.deck").write_text("case D static {\n\tforce B = (1 kN, 0, 0))\n}\n")
+    with pytest.raises(DeckError, match=r"^loads.deck:2:24: this '\)' closes nothing") as err:
+        read_deck(tmp_path / "top.deck")
+    assert caret_under(err.value) == ")"
