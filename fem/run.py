@@ -132,7 +132,8 @@ def _all_modes_check(r):
 def modal_checks(r) -> dict:
     if isinstance(r, SpectrumResult):
         return {"missing_mass_fraction": dict(zip("XYZ", map(float, r.missing_fraction))),
-                "missing_mass_correction": r.missing, "periods_outside_table_s": r.periods_outside}
+                "missing_mass_correction": r.missing, "periods_outside_table_s": r.periods_outside,
+                "warnings": list(r.warnings)}
     if isinstance(r, HarmonicResult):
         return {"static_correction": r.corrected, "highest_mode_Hz": r.highest_mode_Hz,
                 "modes_cover_band": bool(r.highest_mode_Hz >= r.freq[-1])}
@@ -304,7 +305,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                   {"name": r.name, "kind": "spectrum", "combination": r.rule,
                    "direction_rule": r.spatial, "direction_factors": r.directions.tolist(),
                    "damping_ratio": r.zeta.tolist(), "period_s": r.periods.tolist(),
-                   "sa_m_s2": r.sa.tolist(), "base_reaction": dict(zip(["Fx", "Fy", "Fz", "Mx", "My", "Mz"],
+                   "sa_m_s2": r.sa.tolist(), "damping_factor": r.damping_factor.tolist(), "base_reaction": dict(zip(["Fx", "Fy", "Fz", "Mx", "My", "Mz"],
                                                                          map(float, r.base))),
                    "max_displacement_m": float(r.u[:, :3].max()),
                    "checks": modal_checks(r)} for r in spectra],
@@ -489,6 +490,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             if r.periods_outside:
                 print(f"               warning: {len(r.periods_outside)} modal period(s) outside the table: "
                       "held below the first period, falling as 1/T^2 beyond the last")
+            for w in r.warnings:
+                print(f"               {w}")
             continue
         if isinstance(r, HarmonicResult):
             k = np.unravel_index(np.abs(r.peak[:, :3]).argmax(), r.peak[:, :3].shape)

@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from fem.analysis.spectrum import Spectrum, combine, combine_directions, cqc_correlation
+from fem.analysis.spectrum import Spectrum, combine, combine_directions, cqc_correlation, damping_correction
 
 G = 9.80665
 
@@ -62,3 +62,14 @@ def test_direction_rules():
     R = np.array([[10.0], [4.0], [2.0]])
     assert combine_directions(R, "srss")[0] == pytest.approx(np.sqrt(120))
     assert combine_directions(R, "100/30")[0] == pytest.approx(10 + 0.3 * 6)
+
+
+def test_plateau_ordinates_at_per_ordinate_damping():
+    # one call, one damping ratio per ordinate: S_e(1.0 s) of the Type 1 ground B example at
+    # 2 %, 5 % and 30 % (0.448211 g, 0.375 g and the eta floor 0.55 x 0.375 g; reference-values.md
+    # section 6, values C); the zero-period value a_g S does not depend on damping
+    sp = Spectrum("plateau", (0.25 * G, 1.2, 0.15, 0.5, 2.0))
+    np.testing.assert_allclose(sp(np.ones(3), np.array([0.02, 0.05, 0.30])) / G,
+                               [0.448211, 0.375, 0.55 * 0.375], rtol=2e-6)
+    np.testing.assert_allclose(sp(np.zeros(2), np.array([0.02, 0.30])) / G, 0.30, rtol=1e-14)
+    np.testing.assert_allclose(damping_correction([0.05, 0.10]), [1.0, 0.816497], rtol=1e-6)

@@ -139,3 +139,100 @@ def test_spectrum_peak_equals_history_peak_of_the_same_record(tmp_path):
     assert modes.modes.omega[0] == pytest.approx(wn, rel=1e-12)
     assert rs.u[1, 0] == pytest.approx(d, rel=1e-6)                # spectral value at a table row
     assert th.peak[1, 0] == pytest.approx(d, rel=1e-3)
+
+
+RAYLEIGH2 = SHEAR2.replace("damping = 5 percent,", "rayleigh = (1 Hz, 2 percent, 10 Hz, 8 percent),")
+
+
+def _hand_rayleigh(omega, f1=1.0, z1=0.02, f2=10.0, z2=0.08):
+    """zeta_n = a0 / (2 w_n) + a1 w_n / 2 with a0, a1 solved from the two anchors (Chopra 2017
+    Sec. 11.4, Eq. 11.4.8 written at both anchors and solved as a 2 x 2 system)."""
+    w = 2 * np.pi * np.array([f1, f2])
+    a0, a1 = np.linalg.solve(np.c_[1 / (2 * w), w / 2], [z1, z2])
+    return a0 / (2 * omega) + a1 * omega / 2
+
+
+def _eta(z):
+    # EN 1998-1:2004 Sec. 3.2.2.2(3), Eq. 3.6: eta = sqrt(10 / (5 + xi)) >= 0.55, xi in percent
+    return max(np.sqrt(10 / (5 + 100 * z)), 0.55)
+
+
+def test_design_curve_at_each_modes_own_damping():
+    # Rayleigh damping gives the two modes different ratios; each ordinate is the EN 1998-1
+    # elastic shape (Eqs. 3.2-3.5) at that mode's period with eta from that mode's ratio. Mode 1
+    # (T = 0.508 s) lies on the T_C/T branch, mode 2 (0.194 s) on the plateau (T_B = 0.15 s,
+    # T_C = 0.5 s). Roof displacements from Gamma phi_roof = 1.170820 and -0.170820
+    # (reference-values.md section 6 'Worked RSA', values C, 6 digits) combined by SRSS.
+    eq = solve_all(read_text(RAYLEIGH2 % "srss"))[1][-1]
+    ag, s, tc = 0.25 * 9.80665, 1.2, 0.5
+    T = eq.periods
+    z = _hand_rayleigh(2 * np.pi / T)
+    assert abs(z[0] - z[1]) > 0.005                           # the ratios really differ
+    np.testing.assert_allclose(eq.zeta, z, rtol=1e-12)
+    hand = np.array([2.5 * ag * s * _eta(z[0]) * tc / T[0], 2.5 * ag * s * _eta(z[1])])
+    np.testing.assert_allclose(eq.sa[0], hand, rtol=1e-12)    # same formula, rounding only
+    np.testing.assert_allclose(eq.damping_factor, [_eta(z[0]), _eta(z[1])], rtol=1e-12)
+    roof = np.hypot(*(np.array([1.170820, -0.170820]) * hand * T**2 / (4 * np.pi**2)))
+    assert eq.u[2, 0] == pytest.approx(roof, rel=2e-6)        # Gamma phi printed to 6-7 digits
+    assert not eq.warnings
+
+
+FLAT2 = SHEAR2.replace("curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), damping = 5 percent,",
+                       'table = "flat.csv", scale = 1 m/s^2, made_for = 2 percent, '
+                       "rayleigh = (1 Hz, 2 percent, 10 Hz, 8 percent),")
+
+
+def test_table_made_for_another_damping_is_scaled_per_mode(tmp_path):
+    # a flat table S_a = 4 m/s^2 made for 2 % damping; each mode's ordinate is scaled by
+    # eta(zeta_n) / eta(2 %) with eta of EN 1998-1:2004 Eq. 3.6, eta(2 %) = 1.195229
+    # (reference-values.md section 6, value C); the case says so once
+    (tmp_path / "flat.csv").write_text("period_s,sa\n0.01,4\n10,4\n")
+    (tmp_path / "s.deck").write_text(FLAT2 % "srss")
+    m = read_deck(tmp_path / "s.deck")
+    eq = solve_all(m)[1][-1]
+    z = _hand_rayleigh(2 * np.pi / eq.periods)
+    assert _eta(0.02) == pytest.approx(1.195229, rel=1e-6)
+    factor = np.array([_eta(z[0]), _eta(z[1])]) / 1.195229
+    np.testing.assert_allclose(eq.damping_factor, factor, rtol=1e-6)
+    np.testing.assert_allclose(eq.sa[0], 4 * factor, rtol=1e-6)
+    assert len(eq.warnings) == 1
+    assert "made for 2 % damping" in eq.warnings[0] and "eta(zeta) / eta(made_for)" in eq.warnings[0]
+    assert eq.warnings[0].startswith("s.deck:12:1: warning: case EQ:")     # located at the case
+    assert not any("does not say" in w for w in m.warnings)
+
+
+def test_table_without_made_for_is_used_unscaled_and_warned(tmp_path):
+    (tmp_path / "flat.csv").write_text("period_s,sa\n0.01,4\n10,4\n")
+    (tmp_path / "s.deck").write_text((FLAT2 % "srss").replace("made_for = 2 percent, ", ""))
+    m = read_deck(tmp_path / "s.deck")
+    eq = solve_all(m)[1][-1]
+    np.testing.assert_allclose(eq.sa[0], 4.0, rtol=1e-14)
+    np.testing.assert_allclose(eq.damping_factor, 1.0)
+    assert not eq.warnings
+    warned = [w for w in m.warnings if "does not say the damping it was made for" in w]
+    assert len(warned) == 1 and warned[0].startswith("s.deck:12:1: warning: case EQ:")
+
+
+def test_table_made_for_the_case_damping_is_not_scaled(tmp_path):
+    (tmp_path / "flat.csv").write_text("period_s,sa\n0.01,4\n10,4\n")
+    deck = (FLAT2 % "srss").replace("rayleigh = (1 Hz, 2 percent, 10 Hz, 8 percent)", "damping = 2 percent")
+    (tmp_path / "s.deck").write_text(deck)
+    eq = solve_all(read_deck(tmp_path / "s.deck"))[1][-1]
+    np.testing.assert_allclose(eq.sa[0], 4.0, rtol=1e-14)
+    assert not eq.warnings
+
+
+def test_made_for_with_a_design_curve_is_refused(tmp_path):
+    with pytest.raises(DeckError, match="made_for belongs to a table"):
+        read_text((SHEAR2 % "srss").replace("damping = 5 percent,", "made_for = 5 percent,"))
+    (tmp_path / "flat.csv").write_text("period_s,sa\n0.01,4\n10,4\n")
+    (tmp_path / "s.deck").write_text((FLAT2 % "srss").replace("made_for = 2 percent", "made_for = 150 percent"))
+    with pytest.raises(DeckError, match="from 0 to below 1"):
+        read_deck(tmp_path / "s.deck")
+
+
+def test_twoperiod_curve_at_other_damping_is_warned():
+    deck = (RAYLEIGH2 % "srss").replace("plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s)", "twoperiod(0.8 gee, 0.4 gee, 6 s)")
+    eq = solve_all(read_text(deck))[1][-1]
+    assert len(eq.warnings) == 1 and "5 % damped design spectrum" in eq.warnings[0]
+    np.testing.assert_allclose(eq.damping_factor, 1.0)

@@ -22,8 +22,11 @@ __all__ = ["SpectrumResult", "solve_spectrum_case"]
 @dataclass
 class SpectrumResult:
     """Peak (combined, >= 0) responses: u (n, 6), reactions (n, 6), member_forces (e, 12);
-    per direction: sa (d, k) spectral accelerations at the modal periods (m/s^2);
-    modal_u (d, k, n, 6) signed per-mode displacement peaks; missing_fraction (d,)."""
+    per direction: sa (d, k) spectral accelerations at the modal periods, each at its mode's
+    damping ratio zeta (k,) (m/s^2, direction factor included); damping_factor (k,) the factor
+    those ordinates carry for damping (Spectrum.damping_factor: eta for a design curve,
+    eta(zeta) / eta(made_for) for a table, else 1); modal_u (d, k, n, 6) signed per-mode
+    displacement peaks; missing_fraction (d,); warnings: located texts."""
 
     name: str
     u: np.ndarray
@@ -39,6 +42,8 @@ class SpectrumResult:
     missing_fraction: np.ndarray
     periods_outside: list
     base: np.ndarray          # (6,) combined total reaction Fx, Fy, Fz, Mx, My, Mz (about origin)
+    damping_factor: np.ndarray = None
+    warnings: tuple = ()
 
 
 def _base(model, R):
@@ -62,6 +67,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     if sp.shape == "table":
         tmin, tmax = sp.table[0, 0], sp.table[-1, 0]
         outside = [float(t) for t in T if t < tmin or t > tmax]
+    warnings = _damping_warnings(case, sp, zeta)
     rho = cqc_correlation(omega, zeta)
     f = asm.free
     n6 = 6 * model.n_nodes
@@ -77,7 +83,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         r[:, d] = 1.0
         r = r.ravel()[f]
         gamma = phi.T @ (M @ r)                          # (k,) mass-normalised participation
-        sa = factor * sp(T)                             # (k,) m/s^2
+        sa = factor * sp(T, zeta)                       # (k,) m/s^2, each at its mode's damping
         U = (shapes * (gamma * sa / omega**2)).T        # (k, 6n) signed modal peaks
         Rm, Fm = field_responses(model, asm, U)
         total = float(r @ (M @ r))
@@ -106,4 +112,17 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           combine_directions(per_dir_r, rule), combine_directions(per_dir_m, rule),
                           T, np.array(sas), zeta, opt["combine"], rule, opt["directions"],
                           opt["missing"], np.array(missing_frac), outside,
-                          combine_directions(per_dir_b, rule))
+                          combine_directions(per_dir_b, rule), sp.damping_factor(zeta), warnings)
+
+
+def _damping_warnings(case, sp, zeta) -> tuple:
+    """Say once how the spectrum's ordinates follow the modes' damping where that is a choice."""
+    pct = f"{100 * zeta.min():.3g}" + (f" to {100 * zeta.max():.3g}" if np.ptp(zeta) > 1e-12 else "")
+    if sp.shape == "table" and sp.made_for is not None and np.any(np.abs(zeta - sp.made_for) > 1e-12):
+        return (f"{case.location}: warning: case {case.name}: the spectrum table was made for "
+                f"{100 * sp.made_for:.3g} % damping and the modes have {pct} %; each mode's ordinate is scaled "
+                "by eta(zeta) / eta(made_for), eta = sqrt(10 / (5 + zeta in %)) >= 0.55 (EN 1998-1:2004 Eq. 3.6)",)
+    if sp.shape == "twoperiod" and np.any(np.abs(zeta - 0.05) > 1e-12):
+        return (f"{case.location}: warning: case {case.name}: the two-period curve is a 5 % damped design "
+                f"spectrum and is used unchanged for modes with {pct} % damping",)
+    return ()

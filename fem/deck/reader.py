@@ -902,7 +902,7 @@ class _Reader:
         out = {"damping": np.array([0.05]), "record": None, "combine": "cqc", "spatial": "srss",
                "missing": False, "directions": np.array([1.0, 0.0, 0.0])}
         curve = table = None
-        scale, made_for = 9.80665, None
+        scale, made_for, made_for_where = 9.80665, None, None
         for key, (val, where) in case.options.items():
             what = f"case {case.name}: {key}"
             word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
@@ -929,6 +929,9 @@ class _Reader:
                 scale = self.value(val, U.ACCEL, what)
             elif key == "made_for":
                 made_for = self.value(val, U.NONE, what)
+                if not 0 <= made_for < 1:
+                    raise DeckError(f"{what}: a damping ratio from 0 to below 1 (e.g. 5 percent)", where)
+                made_for_where = where
             elif key == "directions":
                 out[key] = self.vector(val, U.NONE, what)
                 if not np.any(out[key]):
@@ -957,13 +960,22 @@ class _Reader:
             raise DeckError(f"case {case.name}: give either curve = ... or table = \"file.csv\"", case.location)
         if case.loads or case.gravity is not None:
             raise DeckError(f"case {case.name}: a spectrum case takes no loads", case.location)
-        zeta_curve = float(out["damping"][0]) if made_for is None else made_for
+        # a design curve is evaluated at each mode's own damping by the case; the ratio kept here
+        # only draws the curve
+        zeta_curve = float(out["damping"][0])
         if curve:
+            if made_for is not None:
+                raise DeckError(f"case {case.name}: made_for belongs to a table; a design curve is evaluated "
+                                "at each mode's own damping ratio", made_for_where, "remove made_for")
             out["spectrum"] = Spectrum(curve[0], curve[1], zeta=zeta_curve)
         else:
             tab = table.copy()
             tab[:, 1] *= scale
-            out["spectrum"] = Spectrum("table", table=tab, zeta=zeta_curve)
+            out["spectrum"] = Spectrum("table", table=tab, zeta=zeta_curve, made_for=made_for)
+            if made_for is None:
+                self.warnings.append(f"{case.location}: warning: case {case.name}: the spectrum table does not say "
+                                     "the damping it was made for; it is assumed to hold for the case's damping and "
+                                     "used unscaled at every mode (give made_for = ... percent to scale it per mode)")
         case.options = out
 
     def read_table(self, rel: str, where, deck_file: Path) -> np.ndarray:

@@ -96,8 +96,8 @@ def plot_spectrum(path: Path, spec_case, spectrum) -> Path:
     plt, fig, ax = _fig()
     T = np.linspace(0.0, max(4.0, 1.2 * spec_case.periods.max()), 600)
     ax.plot(T, spectrum(T) / 9.80665, color=INK, lw=1.2)
-    sa = spectrum(spec_case.periods) / 9.80665
-    ax.plot(spec_case.periods, sa, "o", color=ACCENT, ms=4, label="modal periods")
+    sa = spectrum(spec_case.periods, spec_case.zeta) / 9.80665
+    ax.plot(spec_case.periods, sa, "o", color=ACCENT, ms=4, label="modal periods, each at its damping")
     ax.set_xlabel("period, s")
     ax.set_ylabel("pseudo-acceleration, g")
     ax.set_title(f"{spec_case.name}: spectrum", color=INK, loc="left")
