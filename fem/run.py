@@ -415,12 +415,34 @@ def _check_target(target: Path, deck: Path) -> None:
                                "choose an empty or new folder with --out")
 
 
+def _writable_parent(target: Path) -> None:
+    """Make sure results can be staged beside `target`; a clear ResultsError otherwise."""
+    parent = target.parent
+    head = f"cannot write the results folder {target}: "
+    tail = "; choose another --out"
+    blocker = next((a for a in (parent, *parent.parents) if a.exists() and not a.is_dir()), None)
+    if blocker is not None:
+        raise ResultsError(head + f"{blocker} is a file, not a folder" + tail)
+    try:
+        parent.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise ResultsError(head + f"its parent folder {parent} could not be created "
+                           f"({exc.strerror or exc})" + tail) from None
+    try:
+        os.rmdir(tempfile.mkdtemp(prefix=".quaver-", dir=parent))
+    except OSError as exc:
+        raise ResultsError(head + f"its parent folder {parent} does not take new files "
+                           f"({exc.strerror or exc})" + tail) from None
+
+
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
              draw_modes: int = 6) -> int:
     model = read_deck(deck)
     target = Path(out) if out else Path("results") / Path(deck).stem
+    _writable_parent(target)        # before solving, so an unusable --out fails at once
+    _check_target(target, Path(deck))
     results, modal = solve_all(model)
-    target.parent.mkdir(parents=True, exist_ok=True)
+    _writable_parent(target)
     _check_target(target, Path(deck))
     tmp = Path(tempfile.mkdtemp(prefix=".quaver-", dir=target.parent))
     try:

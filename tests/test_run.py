@@ -110,3 +110,31 @@ def test_quiet_when_not_a_terminal(tmp_path):
                        capture_output=True, text=True, timeout=300, cwd=Path(__file__).parents[1])
     assert r.returncode == 0
     assert "..." not in r.stderr and "it/s" not in r.stderr
+
+
+def _cli(*args):
+    import subprocess
+    import sys
+
+    return subprocess.run([sys.executable, "-m", "fem", *args], capture_output=True, text=True,
+                          timeout=300, cwd=Path(__file__).parents[1])
+
+
+def test_unwritable_out_folder_is_a_clean_error(tmp_path):
+    import os
+
+    blocker = tmp_path / "plain.txt"
+    blocker.write_text("not a folder")
+    cases = [(str(blocker / "res"), f"{blocker} is a file, not a folder")]
+    if os.path.isdir("/proc"):
+        # procfs takes no new entries, even from root (chmod cannot make a folder unwritable for root)
+        cases.append(("/proc/quaver-results", "its parent folder /proc does not take new files"))
+    for out, why in cases:
+        r = _cli("run", str(RACK), "--out", out, "--no-render")
+        assert r.returncode == 2, r.stderr
+        lines = r.stderr.strip().splitlines()
+        assert len(lines) == 1 and "Traceback" not in r.stderr
+        assert lines[0].startswith(f"error: cannot write the results folder {out}: {why}")
+        assert lines[0].endswith("choose another --out")
+        assert r.stdout == ""                                 # refused before solving
+    assert blocker.read_text() == "not a folder"
