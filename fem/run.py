@@ -346,11 +346,18 @@ def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6
     ok, why = can_render()
     if not ok:
         return f"pictures skipped: {why}; results are complete"
-    files = render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs, draw_modes)
+    try:
+        files = render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs, draw_modes)
+    except Exception as exc:   # noqa: BLE001 - pictures are extras; a drawing failure must not lose results
+        # half-drawn pictures would look complete in the report: drop them all
+        shutil.rmtree(out / "pictures", ignore_errors=True)
+        from .output.render import one_line
+
+        return f"pictures skipped: {type(exc).__name__}: {one_line(exc, last=False)}; results are complete"
     return f"{len(files)} pictures and animations in pictures/"
 
 
-def _report(model: Model, results: list, modal: list, doc: dict, out: Path) -> None:
+def _report(model: Model, results: list, modal: list, doc: dict, out: Path, notice: str = "") -> None:
     """Plots into out/plots and the self-contained out/report.html."""
     from .output import plots
     from .output.report import write_report
@@ -392,7 +399,7 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path) -> N
             case = next(c for c in model.cases if c.name == x.name)
             images[x.name] = [(plots.plot_spectrum(pdir / f"{x.name}_spectrum.png", x, case.options["spectrum"]),
                                "spectrum and modal periods")]
-    write_report(out / "report.html", doc, images)
+    write_report(out / "report.html", doc, images, notes=[notice] if notice.startswith("pictures skipped:") else [])
 
 
 def _check_target(target: Path, deck: Path) -> None:
@@ -430,19 +437,41 @@ def _tidy_after_kill(target: Path) -> None:
         os.replace(old, target)
 
 
+def _writable_parent(target: Path) -> None:
+    """Make sure results can be staged beside `target`; a clear ResultsError otherwise."""
+    parent = target.parent
+    head = f"cannot write the results folder {target}: "
+    tail = "; choose another --out"
+    blocker = next((a for a in (parent, *parent.parents) if a.exists() and not a.is_dir()), None)
+    if blocker is not None:
+        raise ResultsError(head + f"{blocker} is a file, not a folder" + tail)
+    try:
+        parent.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise ResultsError(head + f"its parent folder {parent} could not be created "
+                           f"({exc.strerror or exc})" + tail) from None
+    try:
+        os.rmdir(tempfile.mkdtemp(prefix=f".quaver-{os.getpid()}-", dir=parent))
+    except OSError as exc:
+        raise ResultsError(head + f"its parent folder {parent} does not take new files "
+                           f"({exc.strerror or exc})" + tail) from None
+
+
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
              draw_modes: int = 6) -> int:
     model = read_deck(deck)
     target = Path(out) if out else Path("results") / Path(deck).stem
-    results, modal = solve_all(model)
-    target.parent.mkdir(parents=True, exist_ok=True)
+    _writable_parent(target)        # before solving, so an unusable --out fails at once
     _tidy_after_kill(target)
+    _check_target(target, Path(deck))
+    results, modal = solve_all(model)
+    _writable_parent(target)
     _check_target(target, Path(deck))
     tmp = Path(tempfile.mkdtemp(prefix=f".quaver-{os.getpid()}-", dir=target.parent))
     try:
         doc = _write(model, results, modal, tmp)
         notice = _render(model, modal, tmp, jobs, draw_modes) if render else "pictures skipped (--no-render)"
-        _report(model, results, modal, doc, tmp)
+        _report(model, results, modal, doc, tmp, notice)
         if target.exists():
             old = target.with_name(target.name + ".old")
             shutil.rmtree(old, ignore_errors=True)

@@ -96,3 +96,85 @@ def test_no_gl_is_one_line_and_results_stay(deck, tmp_path):
     lines = [ln for ln in r.stdout.splitlines() if "pictures skipped" in ln]
     assert len(lines) == 1 and "results are complete" in lines[0]
     assert (out / "results.json").exists() and not (out / "pictures").exists()
+
+
+# what a machine without a usable OpenGL stack prints: VTK's coloured log lines, an object
+# address, then the Python error of the probe
+NOISY_PROBE = r"""
+import sys
+sys.stderr.write("\x1b[0m\x1b[31m2026-12-03 05:00:00.000 (   0.120s) [    7F3A2B1C0740]"
+                 "vtkEGLRenderWindow.cxx:382    ERR| vtkEGLRenderWindow (0x55d0c0ffee00): "
+                 "Could not initialize a device. Exiting...\x1b[0m\n\n")
+sys.stderr.write("RuntimeError: \x1b[1mno EGL display\x1b[0m\r\n")
+sys.exit(1)
+"""
+
+RESULT_FILES = ("results.json", "displacements.csv", "reactions.csv", "member_forces.csv", "modes.csv",
+                "mode_shapes.csv", "free_REL.csv", "report.html", "modes/MODES_modes.pvd", "response/REL.pvd")
+
+
+def _run_in_process(deck, out, capsys):
+    from fem.cli import main
+
+    assert main(["run", str(deck), "--out", str(out), "--jobs", "1"]) == 0
+    return capsys.readouterr().out
+
+
+def _assert_complete(out, notice):
+    for f in RESULT_FILES:
+        assert (out / f).is_file(), f
+    doc = json.loads((out / "results.json").read_text())
+    assert {c["kind"] for c in doc["cases"]} == {"static", "modes", "free"}
+    assert not (out / "pictures").exists()          # no half-drawn pictures left behind
+    report = (out / "report.html").read_text(encoding="utf-8")
+    warn = report.split("id='warnings'", 1)[1].split("<h2", 1)[0]
+    assert "pictures skipped" in warn and notice.split(":", 1)[1][:20].strip() in warn
+
+
+def test_failed_gl_probe_is_one_clean_line(deck, tmp_path, monkeypatch, capsys):
+    from fem.output import render
+
+    monkeypatch.delenv("QUAVER_NO_GL", raising=False)
+    monkeypatch.setattr(render, "_PROBE", NOISY_PROBE)
+    render.can_render.cache_clear()
+    try:
+        out = tmp_path / "res"
+        text = _run_in_process(deck, out, capsys)
+    finally:
+        render.can_render.cache_clear()
+    lines = [ln for ln in text.splitlines() if "pictures skipped" in ln]
+    assert len(lines) == 1
+    line = lines[0].strip()
+    assert line == "pictures skipped: no OpenGL context could be created (RuntimeError: no EGL display); " \
+                   "results are complete"
+    assert "\x1b" not in text and "\r" not in text
+    _assert_complete(out, line)
+
+
+def test_noisy_probe_reason_keeps_the_message_only():
+    from fem.output.render import one_line
+
+    vtk_only = ("\x1b[31m2026-12-03 05:00:00.000 (   0.120s) [    7F3A2B1C0740]vtkEGLRenderWindow.cxx:382"
+                "    ERR| vtkEGLRenderWindow (0x55d0c0ffee00): Could not initialize a device.\x1b[0m\n")
+    assert one_line(vtk_only) == "vtkEGLRenderWindow: Could not initialize a device."
+    assert one_line("") == "no message"
+    assert len(one_line("x" * 500)) == 160
+
+
+def test_failure_while_drawing_keeps_results(deck, tmp_path, monkeypatch, capsys):
+    from fem.output import render
+
+    def broken(*args, **kwargs):
+        (args[0]).mkdir(parents=True, exist_ok=True)
+        (args[0] / "MODES_mode_001_plane.png").write_bytes(b"half")     # a picture cut short
+        raise RuntimeError("\x1b[31mvtkOpenGLRenderWindow: failed\nto make current\x1b[0m")
+
+    monkeypatch.setattr(render, "can_render", lambda: (True, ""))
+    monkeypatch.setattr(render, "render_all", broken)
+    out = tmp_path / "res"
+    text = _run_in_process(deck, out, capsys)
+    lines = [ln.strip() for ln in text.splitlines() if "pictures skipped" in ln]
+    assert lines == ["pictures skipped: RuntimeError: vtkOpenGLRenderWindow: failed to make current; "
+                     "results are complete"]
+    assert "\x1b" not in text
+    _assert_complete(out, lines[0])

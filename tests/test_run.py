@@ -128,7 +128,8 @@ def test_killed_run_keeps_previous_results_and_is_tidied(tmp_path):
     proc = subprocess.Popen([sys.executable, "-m", "fem", "run", str(RACK), "--out", str(out), "--no-render"],
                             cwd=ROOT, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     deadline = time.monotonic() + 120
-    while not any(p.name.startswith(".quaver-") for p in tmp_path.iterdir()):
+    while not any(p.name.startswith(".quaver-") and any(p.iterdir()) for p in tmp_path.iterdir()
+                  if p.is_dir()):
         assert proc.poll() is None, "the run ended before it began writing"
         assert time.monotonic() < deadline
         time.sleep(0.005)
@@ -151,3 +152,31 @@ def test_results_moved_aside_by_a_killed_run_are_restored(tmp_path):
     out.rename(tmp_path / "res.old")
     _tidy_after_kill(out)
     assert (out / "results.json").read_bytes() == before and not (tmp_path / "res.old").exists()
+
+
+def _cli(*args):
+    import subprocess
+    import sys
+
+    return subprocess.run([sys.executable, "-m", "fem", *args], capture_output=True, text=True,
+                          timeout=300, cwd=Path(__file__).parents[1])
+
+
+def test_unwritable_out_folder_is_a_clean_error(tmp_path):
+    import os
+
+    blocker = tmp_path / "plain.txt"
+    blocker.write_text("not a folder")
+    cases = [(str(blocker / "res"), f"{blocker} is a file, not a folder")]
+    if os.path.isdir("/proc"):
+        # procfs takes no new entries, even from root (chmod cannot make a folder unwritable for root)
+        cases.append(("/proc/quaver-results", "its parent folder /proc does not take new files"))
+    for out, why in cases:
+        r = _cli("run", str(RACK), "--out", out, "--no-render")
+        assert r.returncode == 2, r.stderr
+        lines = r.stderr.strip().splitlines()
+        assert len(lines) == 1 and "Traceback" not in r.stderr
+        assert lines[0].startswith(f"error: cannot write the results folder {out}: {why}")
+        assert lines[0].endswith("choose another --out")
+        assert r.stdout == ""                                 # refused before solving
+    assert blocker.read_text() == "not a folder"

@@ -8,6 +8,7 @@ one-line notice instead of crashing (results stay complete).
 from __future__ import annotations
 
 import os
+import re
 import subprocess
 import sys
 from functools import lru_cache
@@ -15,13 +16,35 @@ from pathlib import Path
 
 import numpy as np
 
-__all__ = ["can_render", "render_all", "render_modes", "render_response", "dominant_direction"]
+__all__ = ["can_render", "render_all", "render_modes", "render_response", "dominant_direction", "one_line"]
 
 _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64, 64)); "
           "p.add_mesh(pv.Sphere()); p.screenshot(None); p.close()")
 COLORMAP = "cividis"        # perceptually uniform, readable in grey and by colour-blind readers
 SIZE = (960, 720)           # still pictures
 GIF_SIZE = (640, 480)       # animations: smaller frames keep files and the report light
+
+
+_ANSI = re.compile(r"\x1b\[[0-9;?]*[ -/]*[@-~]|\x1b[@-_]")
+# VTK's log prefix: "2026-01-01 12:00:00.000 (   0.1s) [thread  ]  file.cxx:123   ERR| "
+_VTK_PREFIX = re.compile(r"^.*?\b(?:ERR|WARN|INFO)\s*\|\s*")
+_ADDRESS = re.compile(r"\s*\(0x[0-9a-fA-F]+\)")
+
+
+def one_line(text: str, limit: int = 160, last: bool = True) -> str:
+    """A message cut down to one plain line: no ANSI escapes, no VTK log prefix or object
+    addresses, no control characters; the last non-empty line (a child's stderr ends with its
+    error) or, with last=False, all lines joined (an exception's own message)."""
+    lines = []
+    for ln in _ANSI.sub("", str(text)).splitlines():
+        ln = _ADDRESS.sub("", _VTK_PREFIX.sub("", ln))
+        ln = " ".join("".join(ch for ch in ln if ch.isprintable()).split())
+        if ln:
+            lines.append(ln)
+    if not lines:
+        return "no message"
+    msg = lines[-1] if last else " ".join(lines)
+    return msg if len(msg) <= limit else msg[:limit - 3].rstrip() + "..."
 
 
 def _env() -> dict:
@@ -41,8 +64,8 @@ def can_render() -> tuple[bool, str]:
     except (OSError, subprocess.TimeoutExpired) as exc:
         return False, f"the render probe did not finish ({exc.__class__.__name__})"
     if r.returncode != 0:
-        last = (r.stderr.strip().splitlines() or ["exit status %d" % r.returncode])[-1]
-        return False, f"no OpenGL context could be created ({last[:120]})"
+        last = one_line(r.stderr) if r.stderr.strip() else f"exit status {r.returncode}"
+        return False, f"no OpenGL context could be created ({last})"
     os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
     return True, ""
 

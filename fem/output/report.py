@@ -23,6 +23,7 @@ th { background: #f4f6f8; } td.l, th.l { text-align: left; }
 figure { display: inline-block; margin: 0.4em; vertical-align: top; }
 figure img { max-width: 100%; border: 1px solid #e4e7ec; } figcaption { font-size: 0.8em; }
 .gallery img { width: 320px; }
+ul.warnings li { color: #8a4b00; }
 """
 
 
@@ -62,8 +63,26 @@ def _force_rows(c: dict) -> list:
     return rows
 
 
-def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]]) -> Path:
-    """doc: the results.json content; images: section name -> [(file, caption)]."""
+def _warnings(doc: dict) -> list[str]:
+    """Every warning of the run: the model's, then each case's, in deck order."""
+    out = list(doc["model"].get("warnings") or [])
+    for c in doc["cases"]:
+        out += [f"{c['name']}: {w}" for w in c["checks"].get("warnings") or []]
+        if c["kind"] == "harmonic" and not c["checks"]["modes_cover_band"]:
+            out.append(f"{c['name']}: the highest retained mode ({c['checks']['highest_mode_Hz']:.4g} Hz) is below "
+                       "the top of the sweep" + (" (static correction on)" if c["checks"]["static_correction"] else ""))
+        if c["kind"] == "spectrum" and c["checks"].get("periods_outside_table_s"):
+            out.append(f"{c['name']}: {len(c['checks']['periods_outside_table_s'])} modal period(s) outside the "
+                       "spectrum table")
+        if c["kind"] == "modes" and c["checks"].get("mass_target_met") is False:
+            out.append(f"{c['name']}: the effective-mass target was not met")
+    return out
+
+
+def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]],
+                 notes: list[str] = ()) -> Path:
+    """doc: the results.json content; images: section name -> [(file, caption)]; notes: run
+    notices for the Warnings section (pictures skipped, ...)."""
     m = doc["model"]
     parts = [f"<!doctype html><html lang='en'><head><meta charset='utf-8'><title>{html.escape(m['title'] or 'Quaver results')}</title>"
              f"<style>{STYLE}</style></head><body>",
@@ -74,7 +93,11 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                  ["nodes", m["nodes"]], ["members", m["members"]],
                  ["total mass", f"{m['total_mass_kg']:.6g} kg"],
                  ["bounding box", f"{np.round(m['bounding_box_m'][0], 3).tolist()} to {np.round(m['bounding_box_m'][1], 3).tolist()} m"]]),
-             "<h2 id='checks'>Self-checks</h2>"]
+             "<h2 id='warnings'>Warnings</h2>"]
+    found = _warnings(doc) + list(notes)
+    parts.append("<ul class='warnings'>" + "".join(f"<li>{html.escape(w)}</li>" for w in found) + "</ul>"
+                 if found else "<p>none</p>")
+    parts.append("<h2 id='checks'>Self-checks</h2>")
     rows = [["assembled mass vs members + point masses", f"{m['assembled_mass_kg'][0]:.6g} kg", _ok(m["mass_check_pass"])]]
     for c in doc["cases"]:
         ch = c["checks"]
