@@ -52,21 +52,34 @@ class DeckError(QuaverError, ValueError):
         super().__init__(self.render())
 
     def render(self) -> str:
-        head = f"{self.location}: {self.message}" if self.location else self.message
-        parts = [head]
-        if self.location and self.location.source_line:
-            src = self.location.source_line.rstrip("\n")
-            # tabs kept in the caret line, so the caret sits under the token however tabs are shown
-            pad = "".join(c if c == "\t" else " " for c in src[:self.location.column - 1])
-            parts.append("    " + src)
-            parts.append("    " + pad + "^")
-        if self.hint:
-            parts.append(f"hint: {self.hint}")
-        return "\n".join(parts)
+        return _located(self.message, self.location, self.hint)
+
+
+def _located(message: str, location: Location | None, hint: str = "") -> str:
+    """The message after its location, then the source line with a caret, then the hint."""
+    head = f"{location}: {message}" if location else message
+    parts = [head]
+    if location and location.source_line:
+        src = location.source_line.rstrip("\n")
+        # tabs kept in the caret line, so the caret sits under the token however tabs are shown
+        pad = "".join(c if c == "\t" else " " for c in src[:location.column - 1])
+        parts.append("    " + src)
+        parts.append("    " + pad + "^")
+    if hint:
+        parts.append(f"hint: {hint}")
+    return "\n".join(parts)
 
 
 class ModelError(QuaverError, ValueError):
-    """A model that parses but cannot be analysed (for example no mass for a modes case)."""
+    """A model that parses but cannot be analysed (for example no mass for a modes case); when
+    one case is at fault, `location` is where the deck defines it."""
+
+    location: Location | None = None
+
+    def __init__(self, message: str, location: Location | None = None):
+        self.message = message
+        self.location = location
+        super().__init__(_located(message, location))
 
 
 class MechanismError(ModelError):

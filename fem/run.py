@@ -11,6 +11,7 @@ import json
 import os
 import shutil
 import tempfile
+from contextlib import contextmanager
 from pathlib import Path
 
 import numpy as np
@@ -48,6 +49,17 @@ def assembled_mass(model: Model, asm) -> np.ndarray:
     return np.einsum("ij,ij->j", r, asm.M @ r)
 
 
+@contextmanager
+def _at_case(case):
+    """Locate a ModelError raised while solving one case at the case's definition in the deck."""
+    try:
+        yield
+    except ModelError as exc:
+        if type(exc) is ModelError and exc.location is None and case.location is not None:
+            raise ModelError(exc.message, case.location) from None
+        raise
+
+
 def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     from .progress import stage
 
@@ -61,7 +73,7 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     modal = []
     for c in model.cases:
         if c.kind == "modes":
-            with stage(f"modes case {c.name}: eigen solve"):
+            with stage(f"modes case {c.name}: eigen solve"), _at_case(c):
                 modal.append(solve_modes_case(model, asm, c))
     statics = [c for c in model.cases if c.kind == "static"]
     results = []
@@ -90,20 +102,28 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     by_name = {r.name: r for r in results}
     modal_by = {r.name: r for r in modal}
     for c in model.cases:
-        if c.kind == "free":
-            start = by_name[c.options["start"]].u if c.options["start"] else None
-            modal.append(solve_free_case(model, asm, c, modal_by[c.options["modes"]], start))
-        elif c.kind == "history":
-            with stage(f"history case {c.name}: integrating"):
-                modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]],
-                                                lu() if c.options.get("correction") else None))
-        elif c.kind == "spectrum":
-            modal.append(solve_spectrum_case(model, asm, c, modal_by[c.options["modes"]],
-                                             lu() if c.options.get("missing") else None))
-        elif c.kind == "harmonic":
-            modal.append(solve_harmonic_case(model, asm, c, modal_by[c.options["modes"]],
-                                             lu() if c.options.get("correction") else None))
+        with _at_case(c):
+            _solve_response(model, asm, c, by_name, modal_by, modal, lu)
     return results, modal
+
+
+def _solve_response(model, asm, c, by_name, modal_by, modal, lu) -> None:
+    """Solve one free, history, spectrum or harmonic case and append its result to `modal`."""
+    from .progress import stage
+
+    if c.kind == "free":
+        start = by_name[c.options["start"]].u if c.options["start"] else None
+        modal.append(solve_free_case(model, asm, c, modal_by[c.options["modes"]], start))
+    elif c.kind == "history":
+        with stage(f"history case {c.name}: integrating"):
+            modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]],
+                                            lu() if c.options.get("correction") else None))
+    elif c.kind == "spectrum":
+        modal.append(solve_spectrum_case(model, asm, c, modal_by[c.options["modes"]],
+                                         lu() if c.options.get("missing") else None))
+    elif c.kind == "harmonic":
+        modal.append(solve_harmonic_case(model, asm, c, modal_by[c.options["modes"]],
+                                         lu() if c.options.get("correction") else None))
 
 
 def unit_shape_mass_stiffness(r) -> tuple[np.ndarray, np.ndarray]:

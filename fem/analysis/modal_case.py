@@ -67,6 +67,10 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
                              "raise fmax or ask for a count")
         part = participation(modes.phi, M, R)
         met = None
+        if count is not None and count > len(modes.omega):
+            where = f"{case.location}: " if case.location else ""
+            model.warnings.append(f"{where}warning: case {case.name} asks for {count} modes, but the model "
+                                  f"has only {len(modes.omega)}; all of them are computed")
     else:
         # add modes until the cumulative effective mass reaches the target in each direction
         cap = min(case.options.get("max", 300), len(f))
