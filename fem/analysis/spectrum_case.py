@@ -90,7 +90,8 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         missing_frac.append(1 - float(np.sum(gamma**2)) / total if total > 0 else 0.0)
         if opt["missing"]:
             # residual rigid response: K^-1 M (r - sum gamma phi) at the zero-period acceleration,
-            # combined with the modal peaks by SRSS (uncorrelated with every mode)
+            # one more term uncorrelated with every mode: SRSS with the modal combination under
+            # srss and cqc, added absolutely under abs
             dr = r - phi @ gamma
             umm = np.zeros(n6)
             umm[f] = lu.solve(M @ dr) * factor * sp.zpa()
