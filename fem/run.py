@@ -25,6 +25,7 @@ from .assembly import assemble
 from .deck.reader import read_deck
 from .errors import ModelError, ResultsError
 from .model import DIRECTIONS, Model
+from .output.fmt import percent
 
 __all__ = ["run_deck", "solve_all"]
 
@@ -130,7 +131,8 @@ def _all_modes_check(r):
 
 def modal_checks(r) -> dict:
     if isinstance(r, SpectrumResult):
-        return {"missing_mass_fraction": dict(zip("XYZ", map(float, r.missing_fraction))),
+        excited = [a for a, f in zip("XYZ", r.directions) if f != 0]     # one fraction per excited direction
+        return {"missing_mass_fraction": dict(zip(excited, map(float, r.missing_fraction))),
                 "missing_mass_correction": r.missing, "periods_outside_table_s": r.periods_outside,
                 "warnings": list(r.warnings)}
     if isinstance(r, HarmonicResult):
@@ -315,7 +317,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
 
 # keys whose values may be undefined for a sound model, written as null: the period of a
 # rigid-body mode (infinite) and mass fractions in a direction in which no mass moves (0/0)
-_MAY_BE_NULL = ("period_s", "cumulative_mass_fraction")
+_MAY_BE_NULL = ("period_s", "cumulative_mass_fraction", "missing_mass_fraction")
 
 
 def _strict(x, path: str = "", nullable: bool = False):
@@ -463,7 +465,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             print(f"  {r.name:<12} response spectrum ({r.rule.upper()}, directions {r.spatial}); base shear "
                   f"Fx {r.base[0] / 1e3:.4g} kN, Fy {r.base[1] / 1e3:.4g} kN; max displacement "
                   f"{r.u[:, :3].max():.4g} m; missing mass "
-                  + ", ".join(f"{100 * v:.1f}%" for v in r.missing_fraction)
+                  + ", ".join(f"{a} {percent(v)}" for a, v in c["missing_mass_fraction"].items())
                   + (" (corrected)" if r.missing else ""))
             if r.periods_outside:
                 print(f"               warning: {len(r.periods_outside)} modal period(s) outside the table: "
@@ -490,7 +492,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         if isinstance(r, FreeCaseResult):
             print(f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "
                   f"{np.abs(r.peak[:, :3]).max():.4g} m; modes capture "
-                  f"{100 * r.captured:.2f}% of the initial displacement (M-norm)")
+                  f"{percent(r.captured, 2)} of the initial displacement (M-norm)")
             ok = "pass" if c["inertia_balance_pass"] else "FAIL"
             print(f"               reactions balance the modal inertia forces to {r.inertia_balance:.1e} {ok}")
             for w in r.warnings:
@@ -498,10 +500,10 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             continue
         fr = ", ".join(f"{f:.4g}" for f in r.modes.freq[:6])
         print(f"  {r.name:<12} {len(r.modes.freq)} modes ({r.modes.solver}); first Hz: {fr}")
-        cum = "  ".join(f"{a} {100 * v:.1f}%" for a, v in c["cumulative_mass_fraction"].items())
+        cum = "  ".join(f"{a} {percent(v)}" for a, v in c["cumulative_mass_fraction"].items())
         missed = "not run" if c["none_missed"] is None else ("pass" if c["none_missed"] else "FAIL")
         if r.target is not None:
-            print(f"               mass target {', '.join(f'{100 * v:.0f}%' for v in r.target)} (X, Y, Z): "
+            print(f"               mass target {', '.join(percent(v, 0) for v in r.target)} (X, Y, Z): "
                   + ("met" if r.target_met else f"NOT met with {len(r.modes.freq)} modes (the cap); "
                      "raise max or check the model"))
         verdict = {True: "pass", False: "FAIL"}
