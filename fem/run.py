@@ -16,7 +16,7 @@ from pathlib import Path
 import numpy as np
 
 from .analysis.free_case import FreeCaseResult, solve_free_case
-from .analysis.harmonic import HarmonicResult, solve_harmonic_case
+from .analysis.harmonic import HarmonicResult, lag_degrees, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
@@ -137,7 +137,7 @@ def modal_checks(r) -> dict:
                 "warnings": list(r.warnings)}
     if isinstance(r, HarmonicResult):
         return {"static_correction": r.corrected, "highest_mode_Hz": r.highest_mode_Hz,
-                "modes_cover_band": bool(r.highest_mode_Hz >= r.freq[-1])}
+                "modes_cover_band": bool(r.highest_mode_Hz >= r.freq[-1]), "warnings": list(r.warnings)}
     if isinstance(r, HistoryResult):
         return {"static_correction": r.corrected, "warnings": list(r.warnings)}
     if isinstance(r, FreeCaseResult):
@@ -200,6 +200,22 @@ def _force_peaks(model: Model, r, sup) -> dict:
                                           "end": "ij"[w % 2]} for j, (c, w) in enumerate(zip(END_FORCES, where))}}
 
 
+def _harmonic_force_peaks(model: Model, r) -> dict:
+    """results.json entries of a harmonic case: at every supported or sprung node the largest
+    reaction amplitude per component over the sweep with its frequency and lag there; the
+    largest end-force amplitude of each component over all members, likewise."""
+    mp = r.member_peak.reshape(-1, 6)
+    mf, ml = r.member_peak_freq.reshape(-1, 6), r.member_peak_lag.reshape(-1, 6)
+    where = mp.argmax(axis=0) if len(mp) else []
+    return {"reaction_peaks": {model.node_names[k]: {"amplitude": r.reaction_peak[k].tolist(),
+                                                     "frequency_Hz": r.reaction_peak_freq[k].tolist(),
+                                                     "lag_deg": r.reaction_peak_lag[k].tolist()} for k in r.support},
+            "member_force_peak_max": {c: {"amplitude": float(mp[w, j]), "member": model.member_names[w // 2],
+                                          "end": "ij"[w % 2], "frequency_Hz": float(mf[w, j]),
+                                          "lag_deg": float(ml[w, j])}
+                                      for j, (c, w) in enumerate(zip(END_FORCES, where))}}
+
+
 def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> dict:
     modal_all = list(modal)
     nodes, mems = model.node_names, model.member_names
@@ -229,12 +245,28 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     harm = [x for x in modal if isinstance(x, HarmonicResult)]
     spectra = [x for x in modal if isinstance(x, SpectrumResult)]
     for r in harm:
+        # lags set to 0 below 1e-9 of a table's largest amplitude, where the phase is round-off
+        lag = lag_degrees(r.u, 1e-9 * np.abs(r.u).max(initial=0.0))
         _write_csv(out / f"frf_{r.name}.csv",
                    ["frequency_Hz", "node", *(f"amp_{d}" for d in DIRECTIONS),
                     *(f"lag_deg_{d}" for d in DIRECTIONS)],
-                   [[float(fr), nodes[n], *map(float, np.abs(r.u[i, j])),
-                     *map(float, -np.degrees(np.angle(r.u[i, j])))]
+                   [[float(fr), nodes[n], *map(float, np.abs(r.u[i, j])), *map(float, lag[i, j])]
                     for i, fr in enumerate(r.freq) for j, n in enumerate(r.record)])
+        comps = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
+        lag = lag_degrees(r.reactions, 1e-9 * np.abs(r.reactions).max(initial=0.0))
+        _write_csv(out / f"frf_reactions_{r.name}.csv",
+                   ["frequency_Hz", "node", *(f"amp_{c}" for c in comps), *(f"lag_deg_{c}" for c in comps)],
+                   [[float(fr), nodes[n], *map(float, np.abs(r.reactions[i, j])), *map(float, lag[i, j])]
+                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.support)])
+        if r.member_forces is not None:
+            mf = r.member_forces.reshape(len(r.freq), -1, 2, 6)           # (m, q, end, 6)
+            lag = lag_degrees(mf, 1e-9 * np.abs(mf).max(initial=0.0))
+            _write_csv(out / f"frf_member_forces_{r.name}.csv",
+                       ["frequency_Hz", "member", "end", *(f"amp_{c}" for c in END_FORCES),
+                        *(f"lag_deg_{c}" for c in END_FORCES)],
+                       [[float(fr), mems[q], end, *map(float, np.abs(mf[i, j, e])), *map(float, lag[i, j, e])]
+                        for i, fr in enumerate(r.freq) for j, q in enumerate(r.members)
+                        for e, end in enumerate("ij")])
     free = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
     modal = [x for x in modal if isinstance(x, ModesCaseResult)]
     if modal:
@@ -300,8 +332,9 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                   {"name": r.name, "kind": "harmonic", "damping_ratio": r.zeta.tolist(),
                    "frequencies": len(r.freq), "band_Hz": [float(r.freq[0]), float(r.freq[-1])],
                    "peak_amplitude_m": float(np.abs(r.peak[:, :3]).max()),
-                   "peaks": {nodes[k]: {"amplitude": r.peak[k].tolist(), "frequency_Hz": r.peak_freq[k].tolist()}
-                             for k in range(len(nodes))},
+                   "peaks": {nodes[k]: {"amplitude": r.peak[k].tolist(), "frequency_Hz": r.peak_freq[k].tolist(),
+                                        "lag_deg": r.peak_lag[k].tolist()} for k in range(len(nodes))},
+                   **_harmonic_force_peaks(model, r),
                    "checks": modal_checks(r)} for r in harm] + [
                   {"name": r.name, "kind": "spectrum", "combination": r.rule,
                    "direction_rule": r.spatial, "direction_factors": r.directions.tolist(),
@@ -481,6 +514,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
                 print(f"               warning: the highest retained mode is {r.highest_mode_Hz:.4g} Hz, "
                       f"below the top of the sweep; ask for more modes"
                       + (" (static correction on)" if r.corrected else " or set correction = on"))
+            for w in r.warnings:
+                print(f"               {w}")
             continue
         if isinstance(r, HistoryResult):
             print(f"  {r.name:<12} time history, {len(r.t)} steps; peak translation "
