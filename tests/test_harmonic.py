@@ -220,3 +220,18 @@ def test_reaction_and_end_force_phases_match_direct_complex_solve(tmp_path):
     assert peak["frequency_Hz"][0] == pytest.approx(h.freq[k], rel=1e-12)
     assert peak["lag_deg"][0] == pytest.approx(lag_degrees(R[k, 0, 0]), abs=1e-5)
     assert doc["cases"][-1]["member_force_peak_max"]["N"]["member"] in m.member_names
+
+
+def test_end_force_table_beyond_the_row_limit_is_warned_not_written(tmp_path, monkeypatch):
+    import fem.analysis.harmonic as harmonic
+    from fem.run import _write
+    monkeypatch.setattr(harmonic, "ROWS_LIMIT", 10)
+    m = read_text(FRAME % (3, ""))
+    results, modal = solve_all(m)
+    h = modal[-1]
+    assert h.member_forces is None
+    assert len(h.warnings) == 1 and "end-force table would have" in h.warnings[0]
+    assert h.warnings[0].startswith("deck.deck:") and "record fewer nodes" in h.warnings[0]
+    _write(m, results, modal, tmp_path)
+    assert (tmp_path / "frf_reactions_F.csv").exists()
+    assert not (tmp_path / "frf_member_forces_F.csv").exists()
