@@ -17,7 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from .analysis.free_case import FreeCaseResult, solve_free_case
-from .analysis.harmonic import HarmonicResult, solve_harmonic_case
+from .analysis.harmonic import HarmonicResult, lag_degrees, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
@@ -26,6 +26,7 @@ from .assembly import assemble
 from .deck.reader import read_deck
 from .errors import ModelError, ResultsError
 from .model import DIRECTIONS, Model
+from .output.fmt import percent
 
 __all__ = ["run_deck", "solve_all"]
 
@@ -151,12 +152,13 @@ def _all_modes_check(r):
 
 def modal_checks(r) -> dict:
     if isinstance(r, SpectrumResult):
-        return {"missing_mass_fraction": dict(zip("XYZ", map(float, r.missing_fraction))),
+        excited = [a for a, f in zip("XYZ", r.directions) if f != 0]     # one fraction per excited direction
+        return {"missing_mass_fraction": dict(zip(excited, map(float, r.missing_fraction))),
                 "missing_mass_correction": r.missing, "periods_outside_table_s": r.periods_outside,
                 "warnings": list(r.warnings)}
     if isinstance(r, HarmonicResult):
         return {"static_correction": r.corrected, "highest_mode_Hz": r.highest_mode_Hz,
-                "modes_cover_band": bool(r.highest_mode_Hz >= r.freq[-1])}
+                "modes_cover_band": bool(r.highest_mode_Hz >= r.freq[-1]), "warnings": list(r.warnings)}
     if isinstance(r, HistoryResult):
         return {"static_correction": r.corrected, "warnings": list(r.warnings)}
     if isinstance(r, FreeCaseResult):
@@ -219,6 +221,22 @@ def _force_peaks(model: Model, r, sup) -> dict:
                                           "end": "ij"[w % 2]} for j, (c, w) in enumerate(zip(END_FORCES, where))}}
 
 
+def _harmonic_force_peaks(model: Model, r) -> dict:
+    """results.json entries of a harmonic case: at every supported or sprung node the largest
+    reaction amplitude per component over the sweep with its frequency and lag there; the
+    largest end-force amplitude of each component over all members, likewise."""
+    mp = r.member_peak.reshape(-1, 6)
+    mf, ml = r.member_peak_freq.reshape(-1, 6), r.member_peak_lag.reshape(-1, 6)
+    where = mp.argmax(axis=0) if len(mp) else []
+    return {"reaction_peaks": {model.node_names[k]: {"amplitude": r.reaction_peak[k].tolist(),
+                                                     "frequency_Hz": r.reaction_peak_freq[k].tolist(),
+                                                     "lag_deg": r.reaction_peak_lag[k].tolist()} for k in r.support},
+            "member_force_peak_max": {c: {"amplitude": float(mp[w, j]), "member": model.member_names[w // 2],
+                                          "end": "ij"[w % 2], "frequency_Hz": float(mf[w, j]),
+                                          "lag_deg": float(ml[w, j])}
+                                      for j, (c, w) in enumerate(zip(END_FORCES, where))}}
+
+
 def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResult], out: Path) -> dict:
     modal_all = list(modal)
     nodes, mems = model.node_names, model.member_names
@@ -248,12 +266,28 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     harm = [x for x in modal if isinstance(x, HarmonicResult)]
     spectra = [x for x in modal if isinstance(x, SpectrumResult)]
     for r in harm:
+        # lags set to 0 below 1e-9 of a table's largest amplitude, where the phase is round-off
+        lag = lag_degrees(r.u, 1e-9 * np.abs(r.u).max(initial=0.0))
         _write_csv(out / f"frf_{r.name}.csv",
                    ["frequency_Hz", "node", *(f"amp_{d}" for d in DIRECTIONS),
                     *(f"lag_deg_{d}" for d in DIRECTIONS)],
-                   [[float(fr), nodes[n], *map(float, np.abs(r.u[i, j])),
-                     *map(float, -np.degrees(np.angle(r.u[i, j])))]
+                   [[float(fr), nodes[n], *map(float, np.abs(r.u[i, j])), *map(float, lag[i, j])]
                     for i, fr in enumerate(r.freq) for j, n in enumerate(r.record)])
+        comps = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
+        lag = lag_degrees(r.reactions, 1e-9 * np.abs(r.reactions).max(initial=0.0))
+        _write_csv(out / f"frf_reactions_{r.name}.csv",
+                   ["frequency_Hz", "node", *(f"amp_{c}" for c in comps), *(f"lag_deg_{c}" for c in comps)],
+                   [[float(fr), nodes[n], *map(float, np.abs(r.reactions[i, j])), *map(float, lag[i, j])]
+                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.support)])
+        if r.member_forces is not None:
+            mf = r.member_forces.reshape(len(r.freq), -1, 2, 6)           # (m, q, end, 6)
+            lag = lag_degrees(mf, 1e-9 * np.abs(mf).max(initial=0.0))
+            _write_csv(out / f"frf_member_forces_{r.name}.csv",
+                       ["frequency_Hz", "member", "end", *(f"amp_{c}" for c in END_FORCES),
+                        *(f"lag_deg_{c}" for c in END_FORCES)],
+                       [[float(fr), mems[q], end, *map(float, np.abs(mf[i, j, e])), *map(float, lag[i, j, e])]
+                        for i, fr in enumerate(r.freq) for j, q in enumerate(r.members)
+                        for e, end in enumerate("ij")])
     free = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
     modal = [x for x in modal if isinstance(x, ModesCaseResult)]
     if modal:
@@ -319,8 +353,9 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                   {"name": r.name, "kind": "harmonic", "damping_ratio": r.zeta.tolist(),
                    "frequencies": len(r.freq), "band_Hz": [float(r.freq[0]), float(r.freq[-1])],
                    "peak_amplitude_m": float(np.abs(r.peak[:, :3]).max()),
-                   "peaks": {nodes[k]: {"amplitude": r.peak[k].tolist(), "frequency_Hz": r.peak_freq[k].tolist()}
-                             for k in range(len(nodes))},
+                   "peaks": {nodes[k]: {"amplitude": r.peak[k].tolist(), "frequency_Hz": r.peak_freq[k].tolist(),
+                                        "lag_deg": r.peak_lag[k].tolist()} for k in range(len(nodes))},
+                   **_harmonic_force_peaks(model, r),
                    "checks": modal_checks(r)} for r in harm] + [
                   {"name": r.name, "kind": "spectrum", "combination": r.rule,
                    "direction_rule": r.spatial, "direction_factors": r.directions.tolist(),
@@ -336,7 +371,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
 
 # keys whose values may be undefined for a sound model, written as null: the period of a
 # rigid-body mode (infinite) and mass fractions in a direction in which no mass moves (0/0)
-_MAY_BE_NULL = ("period_s", "cumulative_mass_fraction")
+_MAY_BE_NULL = ("period_s", "cumulative_mass_fraction", "missing_mass_fraction")
 
 
 def _strict(x, path: str = "", nullable: bool = False):
@@ -534,7 +569,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             print(f"  {r.name:<12} response spectrum ({r.rule.upper()}, directions {r.spatial}); base shear "
                   f"Fx {r.base[0] / 1e3:.4g} kN, Fy {r.base[1] / 1e3:.4g} kN; max displacement "
                   f"{r.u[:, :3].max():.4g} m; missing mass "
-                  + ", ".join(f"{100 * v:.1f}%" for v in r.missing_fraction)
+                  + ", ".join(f"{a} {percent(v)}" for a, v in c["missing_mass_fraction"].items())
                   + (" (corrected)" if r.missing else ""))
             if r.periods_outside:
                 print(f"               warning: {len(r.periods_outside)} modal period(s) outside the table: "
@@ -550,6 +585,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
                 print(f"               warning: the highest retained mode is {r.highest_mode_Hz:.4g} Hz, "
                       f"below the top of the sweep; ask for more modes"
                       + (" (static correction on)" if r.corrected else " or set correction = on"))
+            for w in r.warnings:
+                print(f"               {w}")
             continue
         if isinstance(r, HistoryResult):
             print(f"  {r.name:<12} time history, {len(r.t)} steps; peak translation "
@@ -561,7 +598,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         if isinstance(r, FreeCaseResult):
             print(f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "
                   f"{np.abs(r.peak[:, :3]).max():.4g} m; modes capture "
-                  f"{100 * r.captured:.2f}% of the initial displacement (M-norm)")
+                  f"{percent(r.captured, 2)} of the initial displacement (M-norm)")
             ok = "pass" if c["inertia_balance_pass"] else "FAIL"
             print(f"               reactions balance the modal inertia forces to {r.inertia_balance:.1e} {ok}")
             for w in r.warnings:
@@ -569,10 +606,10 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             continue
         fr = ", ".join(f"{f:.4g}" for f in r.modes.freq[:6])
         print(f"  {r.name:<12} {len(r.modes.freq)} modes ({r.modes.solver}); first Hz: {fr}")
-        cum = "  ".join(f"{a} {100 * v:.1f}%" for a, v in c["cumulative_mass_fraction"].items())
+        cum = "  ".join(f"{a} {percent(v)}" for a, v in c["cumulative_mass_fraction"].items())
         missed = "not run" if c["none_missed"] is None else ("pass" if c["none_missed"] else "FAIL")
         if r.target is not None:
-            print(f"               mass target {', '.join(f'{100 * v:.0f}%' for v in r.target)} (X, Y, Z): "
+            print(f"               mass target {', '.join(percent(v, 0) for v in r.target)} (X, Y, Z): "
                   + ("met" if r.target_met else f"NOT met with {len(r.modes.freq)} modes (the cap); "
                      "raise max or check the model"))
         verdict = {True: "pass", False: "FAIL"}

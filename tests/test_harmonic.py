@@ -133,3 +133,105 @@ def test_member_force_amplitudes_match_direct_solve():
     _, im = field_responses(m, asm, U.imag)
     ref = np.abs(re + 1j * im).max(axis=0)
     np.testing.assert_allclose(h.member_peak, ref, atol=1e-7 * ref.max())
+
+
+@pytest.mark.parametrize("r", [0.5, 0.8, 1.0, 2.0], ids=["r0.5", "r0.8", "r1", "r2"])
+def test_sdof_reaction_amplitude_and_phase(r):
+    # the bar's support holds the mass's spring: its force on the structure is -k u_B, so the
+    # reaction amplitude is p0 R_d and it lags the load by phi - 180 degrees, phi the
+    # displacement's lag, tan phi = 2 zeta r / (1 - r^2) (Chopra, Dynamics of Structures,
+    # 4th ed., Sec. 3.2); phi at zeta = 5 %: 3.814, 12.53, 90, 176.2 degrees (reference-values.md
+    # section 5, values C)
+    from fem.analysis.harmonic import lag_degrees
+    fn = np.sqrt(K_BAR / 1e6) / (2 * np.pi)
+    modes, h = solve_all(read_text(SDOF % (r * fn, 1.7 * fn if r < 1.7 else 2.5 * fn)))[1]
+    i = np.argmin(np.abs(h.freq - r * fn))
+    # the model's own natural frequency and stiffness (K_BAR is printed to 7 digits only)
+    fn = modes.modes.freq[0]
+    k = 1e6 * (2 * np.pi * fn) ** 2
+    rr = h.freq[i] / fn                                   # the sweep point itself
+    rd = 1 / np.sqrt((1 - rr**2) ** 2 + (2 * 0.05 * rr) ** 2)
+    phi = np.degrees(np.arctan2(2 * 0.05 * rr, 1 - rr**2))
+    assert phi == pytest.approx({0.5: 3.814, 0.8: 12.53, 1.0: 90.0, 2.0: 176.2}[r], abs=0.05)
+    a = list(h.support).index(0)                          # node A
+    R = h.reactions[i, a, 0]
+    assert abs(R) == pytest.approx(100e3 * rd, rel=1e-9)
+    assert lag_degrees(R) == pytest.approx(phi - 180, abs=1e-7)
+    u = h.u[i, list(h.record).index(1), 0]
+    assert R == pytest.approx(-k * u, rel=1e-9)           # the same convention as displacements
+
+
+def _direct_fields(m, freq):
+    """Reactions (m, n, 6) and end forces (m, e, 12) of direct complex solves
+    (K - W^2 M + i W C) u = F, C = a0 M + a1 K, at each frequency."""
+    from fem.analysis.modal_case import field_responses
+    asm = assemble(m)
+    f = asm.free
+    F = load_vector(m, asm, m.cases[1])[0][f]
+    K, M = asm.K[f][:, f].tocsc(), asm.M[f][:, f].tocsc()
+    a0, a1 = rayleigh_coefficients(2, 0.02, 40, 0.03)
+    C = a0 * M + a1 * K
+    U = np.zeros((len(freq), 6 * m.n_nodes), complex)
+    for i, fr in enumerate(freq):
+        W = 2 * np.pi * fr
+        U[i, f] = spla.spsolve((K - W**2 * M + 1j * W * C).tocsc(), F.astype(complex))
+    Rr, Mr = field_responses(m, asm, U.real)
+    Ri, Mi = field_responses(m, asm, U.imag)
+    return Rr + 1j * Ri, Mr + 1j * Mi
+
+
+def test_reaction_and_end_force_phases_match_direct_complex_solve(tmp_path):
+    # all 30 modes and classical damping: modal superposition is exact, so the complex reactions
+    # at the base and end forces of the arm (the member at the recorded node H) equal those of a
+    # direct complex solve with scipy at every sweep frequency, amplitude and lag; the written
+    # tables and results.json carry the same lags
+    import csv
+    import json
+
+    from fem.analysis.harmonic import lag_degrees
+    from fem.run import _write
+    m = read_text(FRAME % (30, ""))
+    results, modal = solve_all(m)
+    h = modal[-1]
+    R, Fm = _direct_fields(m, h.freq)
+    assert list(h.support) == [0] and [m.member_names[q] for q in h.members] == ["ARM"]
+    scale = np.abs(R[:, 0]).max()
+    np.testing.assert_allclose(h.reactions[:, 0], R[:, 0], rtol=0, atol=1e-8 * scale)
+    arm = m.member_names.index("ARM")
+    np.testing.assert_allclose(h.member_forces[:, 0], Fm[:, arm], rtol=0, atol=1e-8 * np.abs(Fm[:, arm]).max())
+    big = np.abs(R[:, 0]) > 1e-3 * scale                  # phases of components with real amplitude
+    d = (lag_degrees(h.reactions[:, 0]) - lag_degrees(R[:, 0]) + 180) % 360 - 180
+    assert np.abs(d[big]).max() < 1e-5
+    # the phase moves through the sweep: the base reaction is not a stored constant
+    assert np.ptp(lag_degrees(R[:, 0, 0])) > 90
+    doc = _write(m, results, modal, tmp_path)
+    with (tmp_path / "frf_reactions_F.csv").open() as fh:
+        rows = [row for row in csv.DictReader(fh) if row["node"] == "N0"]
+    assert len(rows) == len(h.freq)
+    k = int(np.argmax(np.abs(R[:, 0, 0])))
+    assert float(rows[k]["amp_Fx"]) == pytest.approx(abs(R[k, 0, 0]), rel=1e-8)
+    assert float(rows[k]["lag_deg_Fx"]) == pytest.approx(lag_degrees(R[k, 0, 0]), abs=1e-5)
+    with (tmp_path / "frf_member_forces_F.csv").open() as fh:
+        rows = [row for row in csv.DictReader(fh) if row["member"] == "ARM" and row["end"] == "j"]
+    assert float(rows[k]["lag_deg_Mz"]) == pytest.approx(lag_degrees(Fm[k, arm, 11]), abs=1e-5)
+    case = next(c for c in json.loads((tmp_path / "results.json").read_text())["cases"] if c["name"] == "F")
+    peak = case["reaction_peaks"]["N0"]
+    assert peak["amplitude"][0] == pytest.approx(np.abs(R[:, 0, 0]).max(), rel=1e-8)
+    assert peak["frequency_Hz"][0] == pytest.approx(h.freq[k], rel=1e-12)
+    assert peak["lag_deg"][0] == pytest.approx(lag_degrees(R[k, 0, 0]), abs=1e-5)
+    assert doc["cases"][-1]["member_force_peak_max"]["N"]["member"] in m.member_names
+
+
+def test_end_force_table_beyond_the_row_limit_is_warned_not_written(tmp_path, monkeypatch):
+    import fem.analysis.harmonic as harmonic
+    from fem.run import _write
+    monkeypatch.setattr(harmonic, "ROWS_LIMIT", 10)
+    m = read_text(FRAME % (3, ""))
+    results, modal = solve_all(m)
+    h = modal[-1]
+    assert h.member_forces is None
+    assert len(h.warnings) == 1 and "end-force table would have" in h.warnings[0]
+    assert h.warnings[0].startswith("deck.deck:") and "record fewer nodes" in h.warnings[0]
+    _write(m, results, modal, tmp_path)
+    assert (tmp_path / "frf_reactions_F.csv").exists()
+    assert not (tmp_path / "frf_member_forces_F.csv").exists()

@@ -236,3 +236,15 @@ def test_twoperiod_curve_at_other_damping_is_warned():
     eq = solve_all(read_text(deck))[1][-1]
     assert len(eq.warnings) == 1 and "5 % damped design spectrum" in eq.warnings[0]
     np.testing.assert_allclose(eq.damping_factor, 1.0)
+
+
+def test_missing_mass_term_is_added_absolutely_under_abs(tmp_path):
+    # docs/deck.md: the missing-mass term is one more term uncorrelated with every mode, so under
+    # combine = abs it adds |u_mm| (the conservative choice), under srss/cqc it goes by SRSS
+    # (test_missing_mass_correction); values of reference-values.md section 6 (C)
+    (tmp_path / "flat.csv").write_text("period_s,sa\n0,1\n1000,1\n")
+    (tmp_path / "s.deck").write_text(SHEAR3.replace("combine = srss", "combine = abs"))
+    eq = solve_all(read_deck(tmp_path / "s.deck"))[1][-1]
+    mode1 = np.array([2.742238, 4.941343, 6.161754])
+    umm = np.array([0.257762, 0.058657, -0.161754])
+    np.testing.assert_allclose(eq.u[1:, 0], mode1 + np.abs(umm), rtol=2e-6)

@@ -3,6 +3,12 @@
 u(W) = sum_r phi_r (phi_r^T F) / (w_r^2 - W^2 + 2 i zeta_r w_r W), F the complex amplitude of
 the load; optional residual (static) correction of the truncated modes:
 (K^-1 - sum_r phi_r phi_r^T / w_r^2) F, added unchanged at every frequency.
+
+Phase convention, the same for displacements, reactions and member end forces: every load of
+the case is p(t) = P cos(W t) (ground acceleration a_g cos(W t)); a response of complex amplitude
+X is x(t) = |X| cos(W t - lag), lag = -arg X in degrees (`lag_degrees`). The displacement of a
+damped SDOF lags by tan(lag) = 2 zeta r / (1 - r^2), 0 to 180 degrees (Chopra, Dynamics of
+Structures, Sec. 3.2).
 """
 
 from __future__ import annotations
@@ -12,13 +18,14 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..assembly import Assembled
+from ..deck.reader import ROWS_LIMIT
 from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import case_ratios
 from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
 from .static import load_vector
 
-__all__ = ["HarmonicResult", "solve_harmonic_case", "sweep_frequencies"]
+__all__ = ["HarmonicResult", "lag_degrees", "solve_harmonic_case", "sweep_frequencies"]
 
 
 @dataclass
@@ -38,6 +45,23 @@ class HarmonicResult:
     highest_mode_Hz: float
     reaction_peak: np.ndarray = None    # (n, 6) largest reaction amplitude over the sweep
     member_peak: np.ndarray = None      # (e, 12) largest end-force amplitude, local axes
+    peak_lag: np.ndarray = None         # (n, 6) lag (degrees) of u at peak_freq
+    reaction_peak_freq: np.ndarray = None   # (n, 6) Hz, where reaction_peak occurs
+    reaction_peak_lag: np.ndarray = None    # (n, 6) degrees, lag there
+    member_peak_freq: np.ndarray = None     # (e, 12) Hz
+    member_peak_lag: np.ndarray = None      # (e, 12) degrees
+    support: np.ndarray = None          # (s,) supported or sprung nodes
+    reactions: np.ndarray = None        # (m, s, 6) complex reaction amplitudes at them, N and N m
+    members: np.ndarray = None          # (q,) members with an end at a recorded node
+    member_forces: np.ndarray = None    # (m, q, 12) complex end-force amplitudes, local axes; None if too many rows
+    warnings: tuple = ()
+
+
+def lag_degrees(X, floor: float = 0.0) -> np.ndarray:
+    """Phase lag -arg X in degrees, in [-180, 180), of complex amplitudes X; 0 where |X| <= floor
+    (a component that is zero but for round-off has no meaningful phase)."""
+    X = np.asarray(X)
+    return np.where(np.abs(X) > floor, 0.0 - np.degrees(np.angle(X)), 0.0)
 
 
 def sweep_frequencies(f_from, f_to, points, spacing, natural, zeta) -> np.ndarray:
@@ -57,9 +81,10 @@ def sweep_frequencies(f_from, f_to, points, spacing, natural, zeta) -> np.ndarra
 
 
 def _amplitude_peaks(H, shapes, freq, static=None, block=500):
-    """Largest |H shapes^T + static| over the sweep per component, and the frequency of it."""
+    """Largest |H shapes^T + static| over the sweep per component, the frequency of it and the
+    complex amplitude there (for its phase)."""
     n = shapes.shape[0]
-    peak, peak_f = np.zeros(n), np.zeros(n)
+    peak, peak_f, peak_c = np.zeros(n), np.zeros(n), np.zeros(n, complex)
     for a in range(0, len(freq), block):
         u = H[a:a + block] @ shapes.T
         if static is not None:
@@ -69,7 +94,13 @@ def _amplitude_peaks(H, shapes, freq, static=None, block=500):
         val = mag[k, np.arange(n)]
         better = val > peak
         peak[better], peak_f[better] = val[better], freq[a + k[better]]
-    return peak, peak_f
+        peak_c[better] = u[k[better], np.flatnonzero(better)]
+    return peak, peak_f, peak_c
+
+
+def _lags(C):
+    """Lags of the complex amplitudes C, 0 below 1e-9 of their largest magnitude (round-off)."""
+    return lag_degrees(C, 1e-9 * np.abs(C).max(initial=0.0))
 
 
 def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
@@ -93,7 +124,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     H = pk[None, :] / (omega[None, :] ** 2 - W[:, None] ** 2 + 2j * zeta * omega * W[:, None])
     shapes = modal.shapes.reshape(n6, -1)
     static = residual_static(F, asm, lu, shapes, omega, pk) if opt.get("correction") else None
-    peak, peak_f = _amplitude_peaks(H, shapes, freq, static)
+    peak, peak_f, peak_c = _amplitude_peaks(H, shapes, freq, static)
     # reactions and member end forces: per mode, superposed per frequency, with the static part
     # and, for member loads, minus the fixed-end forces (loads in phase with the excitation)
     Rm, Fm = field_responses(model, asm, shapes.T)
@@ -104,12 +135,28 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     if static is not None:
         Rs, Fs = field_responses(model, asm, static[None])
         r_static, m_static = r_static + Rs.ravel(), m_static + Fs.ravel()
-    r_peak, _ = _amplitude_peaks(H, Rm.reshape(len(omega), -1).T, freq, r_static)
-    m_peak, _ = _amplitude_peaks(H, Fm.reshape(len(omega), -1).T, freq, m_static)
+    r_peak, r_peak_f, r_peak_c = _amplitude_peaks(H, Rm.reshape(len(omega), -1).T, freq, r_static)
+    m_peak, m_peak_f, m_peak_c = _amplitude_peaks(H, Fm.reshape(len(omega), -1).T, freq, m_static)
     record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
     u = np.einsum("wk,rdk->wrd", H, modal.shapes[record])
     if static is not None:
         u = u + static.reshape(-1, 6)[record][None]
+    # complex reactions at every support and end forces of the members at the recorded nodes
+    support = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
+    reactions = np.einsum("wk,ksd->wsd", H, Rm[:, support]) + r_static.reshape(-1, 6)[support][None]
+    members = np.flatnonzero(np.isin(model.conn, record).any(axis=1))
+    warnings = ()
+    rows = len(freq) * 2 * len(members)
+    if rows > ROWS_LIMIT:
+        member_forces = None
+        warnings = (f"{case.location}: warning: case {case.name}: the end-force table would have {rows:.3g} rows "
+                    f"(above {ROWS_LIMIT:.0e}) and is not written; record fewer nodes or use fewer points",)
+    else:
+        member_forces = (np.einsum("wk,kqc->wqc", H, Fm[:, members])
+                         + m_static.reshape(-1, 12)[members][None])
     return HarmonicResult(case.name, freq, record, u, peak.reshape(-1, 6), peak_f.reshape(-1, 6),
                           zeta, static is not None, float(omega.max() / (2 * np.pi)),
-                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12))
+                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12), _lags(peak_c).reshape(-1, 6),
+                          r_peak_f.reshape(-1, 6), _lags(r_peak_c).reshape(-1, 6),
+                          m_peak_f.reshape(-1, 12), _lags(m_peak_c).reshape(-1, 12),
+                          support, reactions, members, member_forces, warnings)

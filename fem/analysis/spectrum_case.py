@@ -87,10 +87,11 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         U = (shapes * (gamma * sa / omega**2)).T        # (k, 6n) signed modal peaks
         Rm, Fm = field_responses(model, asm, U)
         total = float(r @ (M @ r))
-        missing_frac.append(1 - float(np.sum(gamma**2)) / total if total > 0 else 0.0)
+        missing_frac.append(1 - float(np.sum(gamma**2)) / total if total > 0 else np.nan)   # 0/0: no mass moves
         if opt["missing"]:
             # residual rigid response: K^-1 M (r - sum gamma phi) at the zero-period acceleration,
-            # combined with the modal peaks by SRSS (uncorrelated with every mode)
+            # one more term uncorrelated with every mode: SRSS with the modal combination under
+            # srss and cqc, added absolutely under abs
             dr = r - phi @ gamma
             umm = np.zeros(n6)
             umm[f] = lu.solve(M @ dr) * factor * sp.zpa()

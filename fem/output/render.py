@@ -16,6 +16,8 @@ from pathlib import Path
 
 import numpy as np
 
+from .fmt import percent
+
 __all__ = ["can_render", "render_all", "render_modes", "render_response", "dominant_direction", "one_line"]
 
 _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64, 64)); "
@@ -134,8 +136,8 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
         d, share = dominant_direction(s)
         eff = modal.part.fraction[jj, :3]
         caption = (f"mode {j + 1}   {modal.modes.freq[jj]:.4g} Hz   period {modal.modes.period[jj]:.4g} s\n"
-                   f"main motion {d}   effective mass X {100 * eff[0]:.1f}%  Y {100 * eff[1]:.1f}%  "
-                   f"Z {100 * eff[2]:.1f}%")
+                   f"main motion {d}   effective mass X {percent(eff[0])}  Y {percent(eff[1])}  "
+                   f"Z {percent(eff[2])}")
         mag = np.linalg.norm(disp, axis=1)
         for view in ("plane", "iso"):
             p = _setup(pv, poly, caption)

@@ -8,6 +8,8 @@ from pathlib import Path
 
 import numpy as np
 
+from .fmt import percent
+
 __all__ = ["write_report"]
 
 STYLE = """
@@ -125,9 +127,10 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
             rows.append([f"{c['name']}: reactions hold the inertia forces, mode by mode",
                          f"{ch['inertia_balance_relative']:.1e}", _ok(ch["inertia_balance_pass"])])
         elif c["kind"] == "spectrum":
-            miss = ", ".join(f"{k} {100 * v:.1f}%" for k, v in ch["missing_mass_fraction"].items())
+            miss = ", ".join(f"{k} {percent(v)}" for k, v in ch["missing_mass_fraction"].items())
+            defined = [v for v in ch["missing_mass_fraction"].values() if v is not None and np.isfinite(v)]
             rows.append([f"{c['name']}: mass not in the retained modes", miss + (" (corrected)" if ch["missing_mass_correction"] else ""),
-                         _ok(ch["missing_mass_correction"] or max(ch["missing_mass_fraction"].values()) <= 0.1)])
+                         _ok(ch["missing_mass_correction"] or max(defined, default=0.0) <= 0.1)])
     parts.append(_table(["check", "value", "result"], rows))
     for c in doc["cases"]:
         if c["kind"] != "modes":

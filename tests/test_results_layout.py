@@ -1,0 +1,85 @@
+"""Layout of the result files against docs/results.md: order of cases, the missing-mass rule."""
+
+import csv
+import json
+
+import numpy as np
+
+from fem.deck.reader import read_text
+from fem.run import _write, solve_all
+
+# cases written deliberately out of the documented order
+MIXED = """
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+for i in 0..3 { node N[i] = (0, 0, i*1.5 m) }
+for i in 0..2 { member M[i] : N[i] -> N[i+1] beam P S }
+support N0 fixed
+mass N3 = 200 kg
+case RS spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s) }
+case HA harmonic { force N3 = (1 kN, 0, 0), from = 1 Hz, to = 5 Hz, points = 5,
+                   damping = 2 percent }
+case TH history { force N3 = (1 kN, 0, 0), time = halfsine(0.3 s), duration = 1 s, step = 0.01 s }
+case ST1 static { force N3 = (1 kN, 0, 0) }
+case MODES modes { count = 3 }
+case FV free { start = ST1, duration = 1 s, step = 0.01 s }
+combo C1 = 2*ST1
+case ST2 static { force N3 = (0, 1 kN, 0) }
+"""
+
+
+def test_cases_are_written_in_the_documented_order(tmp_path):
+    # docs/results.md: results.json groups static, combinations, modes, free and history (as in
+    # the deck), harmonic, spectrum; the peak tables: static, combinations, spectrum, then the
+    # free, history and harmonic envelopes as in the deck
+    m = read_text(MIXED)
+    doc = _write(m, *solve_all(m), tmp_path)
+    assert [c["name"] for c in doc["cases"]] == ["ST1", "ST2", "C1", "MODES", "TH", "FV", "HA", "RS"]
+    assert json.loads((tmp_path / "results.json").read_text())["cases"][0]["name"] == "ST1"
+    with (tmp_path / "displacements.csv").open() as fh:
+        order = list(dict.fromkeys(row["case"] for row in csv.DictReader(fh)))
+    assert order == ["ST1", "ST2", "C1", "RS", "HA", "TH", "FV"]
+
+
+# two-storey shear frame: the floors move in X only, so no mass moves in Y or Z
+SHEAR2 = """
+material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
+section C = generic(A = 1 m^2, Iy = 4.5e-4 m^4, Iz = 4.5e-4 m^4, J = 1e-3 m^4)
+for i in 0..2 { node F[i] = (0, 0, i*3 m) }
+for i in 0..1 { member M[i] : F[i] -> F[i+1] beam C S }
+support F0 fixed
+support F1 (uy, uz, rx, ry, rz)
+support F2 (uy, uz, rx, ry, rz)
+mass F1 = 100 t
+mass F2 = 100 t
+case MODES modes { count = 2 }
+case EQ spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (0, 1, 1) }
+case EQX spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s) }
+"""
+
+
+def test_percent_format():
+    from fem.output.fmt import percent
+    assert percent(0.91408) == "91.4%"
+    assert percent(-1e-17) == "0.0%" and percent(-0.0004) == "0.0%"   # no negative zero
+    assert percent(-0.02) == "-2.0%"                                     # a real negative stays
+    assert percent(float("nan")) == "n/a" and percent(None) == "n/a"
+    assert percent(0.955, 0) == "96%"
+
+
+def test_summary_shows_undefined_fractions_as_na(tmp_path, capsys):
+    # no mass moves in Y or Z: their effective-mass and missing-mass fractions are 0/0, printed
+    # n/a (null in results.json), and each missing-mass fraction is labelled by its direction;
+    # with both modes kept the X fraction is round-off around zero, printed 0.0%
+    from fem.run import run_deck
+    (tmp_path / "s.deck").write_text(SHEAR2)
+    run_deck(str(tmp_path / "s.deck"), str(tmp_path / "out"), render=False)
+    text = capsys.readouterr().out
+    assert "nan" not in text and "-0.0%" not in text
+    assert "X 100.0%  Y n/a  Z n/a" in text
+    assert "missing mass Y n/a, Z n/a" in text
+    assert "missing mass X 0.0%" in text
+    doc = json.loads((tmp_path / "out" / "results.json").read_text())
+    eq = next(c for c in doc["cases"] if c["name"] == "EQ")
+    assert eq["checks"]["missing_mass_fraction"] == {"Y": None, "Z": None}
+    assert "n/a" in (tmp_path / "out" / "report.html").read_text()
