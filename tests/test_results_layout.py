@@ -79,6 +79,7 @@ def test_summary_shows_undefined_fractions_as_na(tmp_path, capsys):
     assert "X 100.0%  Y n/a  Z n/a" in text
     assert "missing mass Y n/a, Z n/a" in text
     assert "missing mass X 0.0%" in text
+    assert "base shear Fx 1373 kN, Fy 0 kN;" in text     # Y not excited: no round-off shear shown
     doc = json.loads((tmp_path / "out" / "results.json").read_text())
     eq = next(c for c in doc["cases"] if c["name"] == "EQ")
     assert eq["checks"]["missing_mass_fraction"] == {"Y": None, "Z": None}
