@@ -154,3 +154,37 @@ def test_syntax_error_inside_an_included_file(tmp_path: Path):
     with pytest.raises(DeckError, match=r"^loads.deck:2:24: this '\)' closes nothing") as err:
         read_deck(tmp_path / "top.deck")
     assert caret_under(err.value) == ")"
+
+
+# ---------- 3. the caret under the token to fix, in included files too; nearest names
+
+# (id, text of an included file (after a comment line), location, message pattern, text under the caret)
+NAMES = [
+    ("section parameter synonym", "section Q = pipe(od = 1 m, thick = 1 cm)", "2:28",
+     r"section Q: pipe has no parameter 'thick'; did you mean 'wall'\? it takes pipe\(od, wall\)", "thick"),
+    ("section parameter close", "section Q = rhs(b = 1 m, hh = 2 m, t = 1 cm)", "2:26", r"did you mean 'h'\?", "hh"),
+    ("section parameter of torsion", "section Q = generic(A = 1 m^2, Iy = 1 m^4, Iz = 1 m^4, Ix = 1 m^4)", "2:56",
+     r"did you mean 'J'\? it takes generic\(A, Iy, Iz, J, \[Avy\], \[Avz\]\)", "Ix"),
+    ("section parameter missing", "section Q = ishape(d = 1 m, bf = 1 m, tf = 1 cm)", "2:13",
+     r"section Q: ishape needs tw", "ishape"),
+    ("section shape unknown", "section Q = pipes(od = 1 m, wall = 1 cm)", "2:13", r"unknown shape 'pipes'; did you mean 'pipe'",
+     "pipes"),
+    ("case kind", "case X mode { count = 3 }", "2:8", r"case X: unknown kind 'mode'; did you mean 'modes'\?", "mode"),
+    ("member node", "member N : A -> C beam P S", "2:17", r"member N: node 'C' is not defined", "C beam"),
+    ("member section after a tab", "\tmember N : A -> B beam Q S", "2:25", r"uses section 'Q', which is not defined", "Q S"),
+    ("member material", "member N : A -> B beam P T", "2:26", r"uses material 'T', which is not defined", "T"),
+    ("load node in a block", "case D static {\n\tforce C = (1 kN, 0, 0)\n}", "3:8", r"node 'C' is not defined", "C ="),
+    ("material E", "material T { E = -1 GPa, nu = 0.3 }", "2:14", "E must be positive", "E ="),
+    ("material nu", "material T { E = 1 GPa, nu = 0.7 }", "2:25", "nu must lie between", "nu ="),
+    ("unit of a coordinate", "node C = (0, 1 kN, 0)", "2:14", "needs a length, but a force was given", "1 kN"),
+]
+
+
+@pytest.mark.parametrize("body, at, pattern, under", [s[1:] for s in NAMES], ids=[s[0] for s in NAMES])
+def test_errors_in_an_included_file_point_at_the_token(tmp_path: Path, body, at, pattern, under):
+    (tmp_path / "top.deck").write_text(GOOD + 'include "parts.deck"\n')
+    (tmp_path / "parts.deck").write_text("# pump stand parts\n" + body + "\n")
+    with pytest.raises(DeckError, match=pattern) as err:
+        read_deck(tmp_path / "top.deck")
+    assert str(err.value).startswith(f"parts.deck:{at}: "), str(err.value)
+    assert caret_under(err.value).startswith(under)

@@ -6,6 +6,7 @@ Parsing is lark LALR with the contextual lexer; meaning comes from our own walk 
 
 from __future__ import annotations
 
+import difflib
 import fnmatch
 import math
 import re
@@ -18,7 +19,7 @@ from lark import Lark, Token, Tree
 
 from ..errors import DeckError, Location, suggest
 from ..model import DIRECTIONS, Combination, LoadCase, LoadItem, Material, Model, Section
-from ..sections import make_section
+from ..sections import SHAPES, make_section
 from . import units as U
 from .syntax import keyword_callbacks
 from .syntax import parse as parse_deck_text
@@ -341,12 +342,13 @@ class _Reader:
     def st_material(self, s):
         name = self.name(s.children[0])
         self.define("material", "material", name, self.loc(s))
-        props, seen = {}, set()
+        props, seen, at = {}, set(), {}
         for opt in s.children[1:]:
             if opt is None:
                 continue
             key = str(opt.children[0])
             self.once(seen, key, self.loc(opt), f"material {name}")
+            at[key] = self.loc(opt)
             dims = {"E": U.PRESSURE, "G": U.PRESSURE, "nu": U.NONE, "density": U.DENSITY}
             if key not in dims:
                 raise DeckError(f"material {name}: unknown property '{key}'; {suggest(key, dims)}", self.loc(opt))
@@ -355,28 +357,28 @@ class _Reader:
         if "E" not in props:
             raise DeckError(f"material {name} needs E (Young's modulus)", where)
         if props["E"] <= 0:
-            raise DeckError(f"material {name}: E must be positive", where)
+            raise DeckError(f"material {name}: E must be positive", at["E"])
         if "G" not in props:
             if "nu" not in props:
                 raise DeckError(f"material {name} needs G or nu", where)
             if not -1 < props["nu"] < 0.5:
-                raise DeckError(f"material {name}: nu must lie between -1 and 0.5", where)
+                raise DeckError(f"material {name}: nu must lie between -1 and 0.5", at["nu"])
             props["G"] = props["E"] / (2 * (1 + props["nu"]))
         if props["G"] <= 0:
-            raise DeckError(f"material {name}: G must be positive", where)
+            raise DeckError(f"material {name}: G must be positive", at.get("G", where))
         dens = props.get("density", 0.0)
         if dens < 0:
-            raise DeckError(f"material {name}: density cannot be negative", where)
+            raise DeckError(f"material {name}: density cannot be negative", at["density"])
         self.materials[name] = Material(name, props["E"], props["G"], dens)
 
     def st_section(self, s):
         name = self.name(s.children[0])
         self.define("section", "section", name, self.loc(s))
         shape = str(s.children[1])
+        kws = [kw for kw in s.children[2:] if kw is not None]
+        self.section_names(name, s.children[1], kws)
         params, seen = {}, set()
-        for kw in s.children[2:]:
-            if kw is None:
-                continue
+        for kw in kws:
             key = str(kw.children[0])
             self.once(seen, key, self.loc(kw), f"section {name}")
             dim = {"A": (0, 2, 0), "Avy": (0, 2, 0), "Avz": (0, 2, 0), "Iy": (0, 4, 0),
@@ -393,6 +395,34 @@ class _Reader:
             raise DeckError(f"section {name}: its properties are not finite and positive "
                             f"(A={props.A:.3g}, Iy={props.Iy:.3g}, Iz={props.Iz:.3g}, J={props.J:.3g})", self.loc(s))
         self.sections[name] = Section(name, props)
+
+    def section_names(self, name: str, shape_tok, kws) -> None:
+        """Refuse an unknown shape or parameter name at its token, with the names that fit."""
+        shape = str(shape_tok)
+        if shape not in SHAPES:
+            near = suggest(shape, SHAPES)
+            near = "; " + near if near.startswith("did you mean") else ""
+            raise DeckError(f"section {name}: unknown shape '{shape}'{near}", self.loc(shape_tok),
+                            "shapes: " + ", ".join(f"{k}({', '.join(v[1] + v[2])})" for k, v in SHAPES.items()))
+        required, optional = SHAPES[shape][1:]
+        allowed = required + optional
+        form = f"{shape}({', '.join(required + tuple(f'[{o}]' for o in optional))})"
+        given = {str(kw.children[0]) for kw in kws}
+        for kw in kws:
+            key = str(kw.children[0])
+            if key in allowed:
+                continue
+            near = [a for a in _PARAM_WORDS.get(key.lower(), ()) if a in allowed and a not in given]
+            near = near or difflib.get_close_matches(key, [a for a in allowed if a not in given], n=2, cutoff=0.5)
+            missing = [a for a in required if a not in given]
+            if not near and len(missing) == 1:
+                near = missing
+            tip = "did you mean " + " or ".join(f"'{a}'" for a in near) + "? " if near else ""
+            raise DeckError(f"section {name}: {shape} has no parameter '{key}'; {tip}it takes {form}",
+                            self.loc(kw.children[0]))
+        missing = [a for a in required if a not in given]
+        if missing:
+            raise DeckError(f"section {name}: {shape} needs {', '.join(missing)}; it takes {form}", self.loc(shape_tok))
 
     def st_node(self, s):
         name = self.name(s.children[0])
@@ -509,6 +539,9 @@ class _Reader:
 
     def st_case(self, s):
         name, kind, *items = s.children
+        if str(kind) not in _CASE_KINDS:
+            raise DeckError(f"case {self.name(name)}: unknown kind '{kind}'; {suggest(str(kind), _CASE_KINDS)}",
+                            self.loc(kind), "kinds: " + ", ".join(_CASE_KINDS))
         self.define("result", "case", self.name(name), self.loc(s))
         self.cases.append((self.name(name), str(kind), [i for i in items if i is not None], self.loc(s)))
 
@@ -555,16 +588,16 @@ class _Reader:
         tol = COINCIDENT * float(np.linalg.norm(hi - lo))
         for k, m in enumerate(mems):
             for end, col in (("i", 0), ("j", 1)):
-                nm, _ = m[end]
+                nm, tok = m[end]
                 if nm not in nidx:
-                    raise DeckError(f"member {m['name']}: node '{nm}' is not defined; {suggest(nm, node_names)}", m["loc"])
+                    raise DeckError(f"member {m['name']}: node '{nm}' is not defined; {suggest(nm, node_names)}", self.loc(tok))
                 conn[k, col] = nidx[nm]
-            sname, _ = m["section"]
+            sname, tok = m["section"]
             if sname not in self.sections:
-                raise DeckError(f"member {m['name']} uses section '{sname}', which is not defined; {suggest(sname, self.sections)}", m["loc"])
-            mname, _ = m["material"]
+                raise DeckError(f"member {m['name']} uses section '{sname}', which is not defined; {suggest(sname, self.sections)}", self.loc(tok))
+            mname, tok = m["material"]
             if mname not in self.materials:
-                raise DeckError(f"member {m['name']} uses material '{mname}', which is not defined; {suggest(mname, self.materials)}", m["loc"])
+                raise DeckError(f"member {m['name']} uses material '{mname}', which is not defined; {suggest(mname, self.materials)}", self.loc(tok))
             sp, mat = self.sections[sname].props, self.materials[mname]
             for key, val in (("E", mat.E), ("G", mat.G), ("rho", mat.density), ("A", sp.A), ("Iy", sp.Iy),
                              ("Iz", sp.Iz), ("J", sp.J), ("Avy", sp.Avy), ("Avz", sp.Avz),
@@ -1112,6 +1145,12 @@ class _Reader:
         case.options = out
 
 
+# words a user may write for a shape's parameters -> the names the shapes use
+_PARAM_WORDS = {"thick": ("wall", "t"), "thickness": ("wall", "t"), "t": ("wall",), "wt": ("wall", "t"),
+                "diameter": ("od", "d"), "dia": ("od", "d"), "d": ("od",), "outside": ("od",),
+                "width": ("b", "bf"), "w": ("b", "bf"), "height": ("h", "d"), "depth": ("d", "h"),
+                "flange": ("tf",), "web": ("tw",), "area": ("A",), "a": ("A",), "ix": ("J",), "it": ("J",)}
+_CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum")
 _FLOAT_MAX = float(np.finfo(float).max)
 
 
