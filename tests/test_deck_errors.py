@@ -188,3 +188,53 @@ def test_errors_in_an_included_file_point_at_the_token(tmp_path: Path, body, at,
         read_deck(tmp_path / "top.deck")
     assert str(err.value).startswith(f"parts.deck:{at}: "), str(err.value)
     assert caret_under(err.value).startswith(under)
+
+
+# ---------- 4. assume statements: one consistent set, each quantity once
+
+def test_inconsistent_assumes_are_refused_pointing_at_both(tmp_path: Path):
+    (tmp_path / "stand.deck").write_text(GOOD + "assume length in mm\nassume force in kN\nassume mass in t\n")
+    with pytest.raises(DeckError) as err:
+        read_deck(tmp_path / "stand.deck")
+    text = str(err.value)
+    # t * mm / s^2 = 1000 kg * 0.001 m / s^2 = 1 N, so kN asks for a mass unit of 1e6 kg
+    assert text.startswith("stand.deck:9:1: assume mass in t (t = 1000 kg) disagrees with 'assume length in mm' at "
+                           "stand.deck:7:1, 'assume force in kN' at stand.deck:8:1, time in s (the default): together "
+                           "those make the unit of mass 1e+06 kg"), text
+    assert caret_under(err.value).startswith("assume mass")
+    (tmp_path / "stand.deck").write_text(GOOD + "assume length in mm\nassume stress in MPa\nassume force in kN\n")
+    with pytest.raises(DeckError, match=r"^stand.deck:9:1: assume force in kN .* make the unit of force 1 N"):
+        read_deck(tmp_path / "stand.deck")
+
+
+def test_consistent_assumes_convert_derived_units():
+    # N, mm, t, s with MPa: a bare spring stiffness of 5 is 5 N/mm = 5000 N/m, a bare E of
+    # 200000 is 200000 MPa = 2e11 Pa, and a bare mass of 0.2 is 0.2 t = 200 kg
+    from fem.deck.reader import read_text
+    m = read_text("assume length in mm\nassume mass in t\nassume force in N\nassume stress in MPa\n"
+                  "material S { E = 200000, nu = 0.3, density = 7850 kg/m^3 }\n"
+                  "section P = pipe(od = 168.3, wall = 7.11)\nnode A = (0, 0, 0)\nnode B = (2000, 0, 0)\n"
+                  "member M : A -> B beam P S\nsupport A fixed\nspring B (uy = 5)\nmass B = 0.2\n")
+    assert m.springs[1, 1] == pytest.approx(5000.0, rel=1e-12)
+    assert m.E[0] == pytest.approx(2e11, rel=1e-12)
+    assert m.point_mass[1, 0] == pytest.approx(200.0, rel=1e-12)
+
+
+def test_second_assume_of_a_quantity_is_refused(tmp_path: Path):
+    (tmp_path / "stand.deck").write_text("assume length in mm\nnode A = (0, 0, 0)\nnode B = (2000, 0, 0)\n"
+                                         "assume length in m\nnode C = (2, 1, 0)\n")
+    with pytest.raises(DeckError, match=r"^stand.deck:4:1: assume length in m would change the unit of bare length "
+                       r"numbers set by 'assume length in mm' at stand.deck:1:1"):
+        read_deck(tmp_path / "stand.deck")
+    # the same assume again, as an included file's header, changes nothing and is accepted
+    (tmp_path / "part.deck").write_text("assume length in mm\nnode C = (2000, 1000, 0)\n")
+    (tmp_path / "stand.deck").write_text("assume length in mm\nnode A = (0, 0, 0)\ninclude \"part.deck\"\n")
+    assert read_deck(tmp_path / "stand.deck").coords[1, 0] == pytest.approx(2.0)
+
+
+def test_a_case_reads_the_assumes_in_force_where_it_is_written():
+    from fem.deck.reader import read_text
+    with pytest.raises(DeckError, match="a bare number was given"):
+        read_text(GOOD + "case D static { force B = (1, 0, 0) }\nassume force in kN\n")
+    m = read_text(GOOD + "assume force in kN\ncase D static { force B = (1, 0, 0) }\n")
+    assert m.cases[0].loads[0].vector[0] == pytest.approx(1000.0)

@@ -57,6 +57,7 @@ class _Reader:
         self.top_dir = top.resolve().parent
         self.vars: dict[str, Quantity] = {"pi": Quantity(math.pi), "g0": Quantity(9.80665, U.ACCEL)}
         self.assumed: dict[tuple, float] = {}
+        self.assume_sites: dict[tuple, tuple[str, float, Location]] = {}   # dim -> (statement, factor, where)
         self.title = ""
         self.nodes: dict[str, tuple[np.ndarray, Location]] = {}
         self.members: dict[str, dict] = {}
@@ -322,7 +323,45 @@ class _Reader:
         q = U.unit_value(unit)
         if q is None or q.dim != _ASSUMABLE[what]:
             raise DeckError(f"'{unit}' is not a unit of {what}", self.loc(s.children[1]))
-        self.assumed[_ASSUMABLE[what]] = q.value
+        dim, where = _ASSUMABLE[what], self.loc(s)
+        first = self.assume_sites.get(dim)
+        if first is not None:
+            if math.isclose(first[1], q.value, rel_tol=1e-12):
+                return                   # the same assume again (an included file's header)
+            raise DeckError(f"assume {what} in {unit} would change the unit of bare {what} numbers set by "
+                            f"'{first[0]}' at {first[2]}, so the numbers before and after it would not mean the "
+                            "same", where, "keep one assume per quantity, at the top of the deck")
+        self.consistent_assume(what, unit, dim, q.value, where)
+        self.assumed[dim] = q.value
+        self.assume_sites[dim] = (f"assume {what} in {unit}", q.value, where)
+
+    def consistent_assume(self, what: str, unit: str, dim, value: float, where: Location) -> None:
+        """Refuse an assume that disagrees with the earlier ones: force, stress and density follow
+        from mass, length and time (seconds unless assumed), and bare numbers of derived quantities
+        (a stiffness in force per length) are converted through them, so an inconsistent set
+        (kN with mm and kg) would make them depend on which assume is used."""
+        rows = [(d, math.log(f), text, at) for d, (text, f, at) in self.assume_sites.items()]
+        if U.TIME not in self.assume_sites and dim != U.TIME:
+            rows.append((U.TIME, 0.0, "time in s (the default)", None))
+        if not rows:
+            return
+        A = np.array([r[0] for r in rows], float)
+        b = np.array([r[1] for r in rows])
+        d = np.array(dim, float)
+        coef = np.linalg.lstsq(A.T, d, rcond=None)[0]      # d as a combination of the earlier rows
+        if not np.allclose(A.T @ coef, d, atol=1e-9):
+            return                                           # not fixed by the earlier ones
+        implied = math.exp(float(coef @ b))
+        if math.isclose(implied, value, rel_tol=1e-9):
+            return
+        used = [r for r, c in zip(rows, coef) if abs(c) > 1e-9]
+        earlier = ", ".join(r[2] if r[3] is None else f"'{r[2]}' at {r[3]}" for r in used)
+        si = {U.MASS: "kg", U.LENGTH: "m", U.TIME: "s", U.FORCE: "N", U.PRESSURE: "Pa", U.DENSITY: "kg/m^3"}[dim]
+        raise DeckError(f"assume {what} in {unit} ({unit} = {value:g} {si}) disagrees with {earlier}: together those "
+                        f"make the unit of {what} {implied:.6g} {si}, so derived quantities such as a stiffness or a "
+                        "stress would take different units depending on which is used", where,
+                        "assume one consistent set, e.g. N, mm, t, s with stress in MPa, or kN, m, t, s with stress "
+                        "in kPa; or write units on the numbers")
 
     def st_include(self, s):
         rel = str(s.children[0])[1:-1]
@@ -543,7 +582,8 @@ class _Reader:
             raise DeckError(f"case {self.name(name)}: unknown kind '{kind}'; {suggest(str(kind), _CASE_KINDS)}",
                             self.loc(kind), "kinds: " + ", ".join(_CASE_KINDS))
         self.define("result", "case", self.name(name), self.loc(s))
-        self.cases.append((self.name(name), str(kind), [i for i in items if i is not None], self.loc(s)))
+        self.cases.append((self.name(name), str(kind), [i for i in items if i is not None], self.loc(s),
+                           dict(self.assumed)))
 
     def st_combo(self, s):
         self.define("result", "combination", self.name(s.children[0]), self.loc(s))
@@ -762,7 +802,8 @@ class _Reader:
                     f"mass in modes case {', '.join(modal)}; give its density if their mass matters")
 
     def build_case(self, c, nidx, midx) -> LoadCase:
-        name, kind, items, where = c
+        name, kind, items, where, assumed = c
+        self.assumed = assumed             # the assumes in force where the case is written
         case = LoadCase(name, kind, location=where)
         seen = set()
         for it in items:
