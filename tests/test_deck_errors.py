@@ -4,6 +4,7 @@ exit status 2 without a traceback."""
 
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 from fem.cli import main
@@ -238,3 +239,31 @@ def test_a_case_reads_the_assumes_in_force_where_it_is_written():
         read_text(GOOD + "case D static { force B = (1, 0, 0) }\nassume force in kN\n")
     m = read_text(GOOD + "assume force in kN\ncase D static { force B = (1, 0, 0) }\n")
     assert m.cases[0].loads[0].vector[0] == pytest.approx(1000.0)
+
+
+# ---------- 5. roll: a value, and an angle with its unit
+
+ROLLS = [
+    ("bare roll at the end", "roll", "7:28", r"'roll' needs a value: write roll = \.\.\."),
+    ("bare roll before a statement", "roll\nsupport A fixed", "7:28", r"'roll' needs a value"),
+    ("roll without =", "roll 30 deg", "7:28", r"'roll' needs a value"),
+    ("roll as a bare number", "roll = 30", "7:35", r"member N: roll is an angle and needs its unit: write 30 deg or 30 rad"),
+    ("roll as bare arithmetic", "roll = 2*15", "7:35", r"roll is an angle and needs its unit"),
+    ("roll as a length", "roll = 30 mm", "7:35", r"member N: roll is an angle, e.g. 30 deg, but a length was given"),
+]
+
+
+@pytest.mark.parametrize("opt, at, pattern", [r[1:] for r in ROLLS], ids=[r[0] for r in ROLLS])
+def test_roll_needs_an_angle(tmp_path: Path, opt, at, pattern):
+    (tmp_path / "stand.deck").write_text(GOOD + "member N : A -> B beam P S " + opt + "\n")
+    with pytest.raises(DeckError, match=pattern) as err:
+        read_deck(tmp_path / "stand.deck")
+    assert str(err.value).startswith(f"stand.deck:{at}: ")
+
+
+@pytest.mark.parametrize("opt, expected", [("roll = 30 deg", 30.0), ("roll = 0", 0.0), ("roll = pi/6", 30.0),
+                                           ("roll = a", 30.0), ("roll = 0.5 rad", 28.64788975654116)])
+def test_roll_angles_accepted(opt, expected):
+    from fem.deck.reader import read_text
+    m = read_text("let a = 30 deg\n" + GOOD + "member N : A -> B beam P S " + opt + "\n")
+    assert np.degrees(m.roll[1]) == pytest.approx(expected, rel=1e-12)

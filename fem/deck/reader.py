@@ -219,6 +219,19 @@ class _Reader:
             raise DeckError(f"{what} is not a finite number", self.loc(t))
         return v
 
+    def angle(self, t, what: str) -> float:
+        """An angle in rad, written with its unit (30 deg, 0.5 rad) or from a parameter or function;
+        a bare number other than 0 is refused, since it would silently be taken as radians."""
+        q = self.evaluate(t)
+        if q.dim not in (U.NONE, WILD):
+            raise DeckError(f"{what} is an angle, e.g. 30 deg, but {U.dim_name(q.dim)} was given", self.loc(t))
+        plain = isinstance(t, Tree) and all(
+            isinstance(x, Token) and x.type == "NUMBER" for x in t.scan_values(lambda v: isinstance(v, Token)))
+        if plain and q.value != 0:
+            raise DeckError(f"{what} is an angle and needs its unit: write {_g(q.value)} deg or {_g(q.value)} rad",
+                            self.loc(t), "a bare number would be read as radians")
+        return self.value(t, U.NONE, what)
+
     def vector(self, t, dim, what: str, n: int = 3) -> np.ndarray:
         if not (isinstance(t, Tree) and t.data == "vector") or len(t.children) != n:
             raise DeckError(f"{what} needs a vector of {n} values like (x, y, z)", self.loc(t))
@@ -507,7 +520,7 @@ class _Reader:
             key, val = str(opt.children[0]), opt.children[1]
             self.once(seen, key, self.loc(opt), f"member {name}")
             if key == "roll":
-                m["roll"] = self.value(val, U.NONE, f"member {name}: roll")
+                m["roll"] = self.angle(val, f"member {name}: roll")
             elif key == "up":
                 m["up"] = self.vector(val, U.NONE, f"member {name}: up")
             elif key == "nsm":
@@ -1193,6 +1206,10 @@ _PARAM_WORDS = {"thick": ("wall", "t"), "thickness": ("wall", "t"), "t": ("wall"
                 "flange": ("tf",), "web": ("tw",), "area": ("A",), "a": ("A",), "ix": ("J",), "it": ("J",)}
 _CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum")
 _FLOAT_MAX = float(np.finfo(float).max)
+
+
+def _g(v: float) -> str:
+    return f"{v:g}"
 
 
 def _literal(text: str, where: Location) -> float:

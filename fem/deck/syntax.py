@@ -170,6 +170,10 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
             return DeckError(f"the file ends before the '{ch}' opened here is closed", where_at(at),
                              f"add the closing '{_PAIRS[ch]}' (a block or list ends in the file it starts in)")
         end = len(text.rstrip())
+        prev = re.search(r"([A-Za-z_]\w*)\s*$", text)
+        if prev and accepts == {"EQUAL"}:
+            return DeckError(f"'{prev.group(1)}' needs a value: write {prev.group(1)} = ...", where_at(prev.start(1)),
+                             "an option is written name = value, e.g. roll = 30 deg")
         return DeckError(f"the file ends in the middle of a statement; expected {expected_words(accepts)}",
                          where_at(end), "complete the last statement")
     pos = tok.start_pos
@@ -217,6 +221,9 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
         if near:
             return DeckError(f"unknown word '{prev.group(1)}' here; did you mean '{near}'?", where_at(prev.start(1)),
                              "an option is written name = value")
+        if accepts <= {"EQUAL"}:
+            return DeckError(f"'{prev.group(1)}' needs a value: write {prev.group(1)} = ...", where_at(prev.start(1)),
+                             "an option is written name = value, e.g. roll = 30 deg")
     # a misspelled keyword where the grammar wants one (assume length inn mm)
     if tok.type == "NAME":
         wanted = [n.lower() for n in accepts if n.lower() in _KEYWORDS]
