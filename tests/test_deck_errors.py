@@ -267,3 +267,52 @@ def test_roll_angles_accepted(opt, expected):
     from fem.deck.reader import read_text
     m = read_text("let a = 30 deg\n" + GOOD + "member N : A -> B beam P S " + opt + "\n")
     assert np.degrees(m.roll[1]) == pytest.approx(expected, rel=1e-12)
+
+
+# ---------- 6. rotary inertia where only truss members meet
+
+TRIPOD = """material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section R = round(d = 40 mm)
+node B1 = (2 m, 0, 0)
+node B2 = (-1 m, 1.7320508 m, 0)
+node B3 = (-1 m, -1.7320508 m, 0)
+node T = (0, 0, 3 m)
+member L1 : B1 -> T truss R S
+member L2 : B2 -> T truss R S
+member L3 : B3 -> T truss R S
+support B* pinned
+"""
+
+
+def _tripod_modes(text):
+    from fem.analysis.modes import solve_modes
+    from fem.assembly import assemble
+    from fem.deck.reader import read_text
+    model = read_text(text)
+    asm = assemble(model)
+    K = asm.K[asm.free][:, asm.free]
+    M = asm.M[asm.free][:, asm.free]
+    return model, asm, solve_modes(K.tocsc(), M.tocsc(), n_modes=len(asm.free))
+
+
+def test_rotary_inertia_on_a_truss_node_is_warned_and_changes_nothing():
+    plain, asm0, modes0 = _tripod_modes(TRIPOD + "mass T = 200 kg\n")
+    model, asm, modes = _tripod_modes(TRIPOD + "mass T = 200 kg inertia = (30 kg*m^2, 30 kg*m^2, 50 kg*m^2)\n")
+    assert plain.warnings == []
+    assert len(model.warnings) == 1
+    assert model.warnings[0].startswith("deck.deck:11:1: warning: the rotary inertia of this mass is left out at 1 "
+                                        "node(s), T (rx, ry, rz): only truss members meet there")
+    # T's rotations are held: the model has T's three translations only, as without the inertia,
+    # and no zero-frequency mode or mechanism appears
+    assert len(asm.free) == len(asm0.free) == 3
+    np.testing.assert_allclose(modes.omega, modes0.omega, rtol=1e-12)
+    assert modes.omega.min() > 1.0
+
+
+def test_rotary_inertia_on_a_truss_node_with_a_rotational_spring_is_kept():
+    # a spring on rz makes rz part of the model: the inertia then acts, as a torsional oscillator
+    # of frequency sqrt(k/I) (50 kN*m / 50 kg*m^2 -> omega = sqrt(1000) rad/s)
+    model, asm, modes = _tripod_modes(TRIPOD + "spring T (rz = 50 kN*m)\n"
+                                      "mass T = 200 kg inertia = (30 kg*m^2, 30 kg*m^2, 50 kg*m^2)\n")
+    assert "(rx, ry)" in model.warnings[0]
+    assert np.any(np.isclose(modes.omega, np.sqrt(1000.0), rtol=1e-9))

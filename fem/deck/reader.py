@@ -680,16 +680,30 @@ class _Reader:
         pmass = np.zeros((n, 6))
         on_member = np.zeros(n, bool)
         on_member[conn.ravel()] = True
+        on_beam = np.zeros(n, bool)
+        on_beam[conn[~truss].ravel()] = True
         for target, vec, where in self.masses:
+            idle = {}
             for nm in self.targets(target, nidx, "node"):
                 k = nidx[nm]
                 pmass[k] += vec
+                # rotations that no beam, support or spring holds carry no stiffness: the
+                # assembly holds them (a truss node's rotations), so inertia there does nothing
+                dead = (vec[3:] > 0) & ~on_beam[k] & ~restraint[k, 3:] & ~(springs[k, 3:] > 0)
+                if dead.any():
+                    idle[nm] = ", ".join(d for d, x in zip(DIRECTIONS[3:], dead) if x)
                 loose = (vec[:3] > 0) & ~restraint[k, :3] & ~(springs[k, :3] > 0)
                 if not on_member[k] and loose.any():
                     dirs = ", ".join(d for d, x in zip(DIRECTIONS, loose) if x)
                     raise DeckError(f"mass on node {nm}, which no member, support or spring holds in {dirs}: the "
                                     "mass would not move with the structure and would be left out of its modes",
                                     where, "connect the node with a member, or put the mass on a node of the structure")
+            if idle:
+                shown = "; ".join(f"{nm} ({d})" for nm, d in list(idle.items())[:5]) + (", ..." if len(idle) > 5 else "")
+                self.warnings.append(
+                    f"{where}: warning: the rotary inertia of this mass is left out at {len(idle)} node(s), {shown}: "
+                    "only truss members meet there, and a truss node's rotations have no stiffness and are not part "
+                    "of the model; connect a beam member (or a rotational spring) if the inertia matters")
         midx = {m["name"]: k for k, m in enumerate(mems)}
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
         for c in cases:
