@@ -316,3 +316,30 @@ def test_rotary_inertia_on_a_truss_node_with_a_rotational_spring_is_kept():
                                       "mass T = 200 kg inertia = (30 kg*m^2, 30 kg*m^2, 50 kg*m^2)\n")
     assert "(rx, ry)" in model.warnings[0]
     assert np.any(np.isclose(modes.omega, np.sqrt(1000.0), rtol=1e-9))
+
+
+# ---------- 7. magnitudes the assembly cannot compute with are refused at the member
+
+HUGE_INPUT = [
+    ("modulus on a short member", "material H { E = 1e308 Pa, nu = 0.3 }\nmember N : A -> C beam P H",
+     r"member N: its axial stiffness E\*A/L is about 1e3\d\d N/m, beyond the 1e\+150"),
+    ("bending of a very short member", "member N : A -> C beam Q S",
+     r"member N: its bending stiffness 12\*E\*I/L\^3 is about 1e1\d\d N/m"),
+    ("density", "material H { E = 200 GPa, nu = 0.3, density = 1e200 kg/m^3 }\nmember N : A -> B beam P H",
+     r"member N: its mass \(density\*A \+ nsm\)\*L is about 1e19\d kg"),
+    ("spring", "spring B (ux = 1e200 N/m)", r"spring ux of 1e\+200 in SI units is beyond"),
+    ("point mass", "mass B = 1e160 kg", r"mass of 1e\+160 in SI units is beyond"),
+]
+
+
+@pytest.mark.parametrize("body, pattern", [h[1:] for h in HUGE_INPUT], ids=[h[0] for h in HUGE_INPUT])
+def test_huge_magnitudes_are_deck_errors(body, pattern):
+    import warnings
+
+    from fem.deck.reader import read_text
+    text = (GOOD + "node C = (1 mm, 0, 0)\nnode D = (0, 1 m, 0)\nmember K : A -> D beam P S\n"
+            "section Q = generic(A = 1 m^2, Iy = 1e130 m^4, Iz = 1 m^4, J = 1 m^4)\n" + body + "\n")
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")             # no floating-point warning on the way
+        with pytest.raises(DeckError, match=pattern):
+            read_text(text)

@@ -563,6 +563,7 @@ class _Reader:
             vals[d] = self.value(kw.children[1], dim, f"spring {d}")
             if vals[d] < 0:
                 raise DeckError(f"spring {d}: a stiffness cannot be negative", self.loc(kw))
+            _not_huge(vals[d], f"spring {d}", self.loc(kw))
         self.springs.append((target, vals))
 
     def st_mass(self, s):
@@ -577,6 +578,8 @@ class _Reader:
             inertia = self.vector(opt.children[1], (1, 2, 0), "mass inertia")
         if m < 0 or (inertia < 0).any():
             raise DeckError("a mass or inertia cannot be negative", self.loc(s))
+        for v in (m, *inertia):
+            _not_huge(v, "mass", self.loc(s))
         self.masses.append((target, np.r_[m, m, m, inertia], self.loc(s)))
 
     def st_group(self, s):
@@ -665,6 +668,7 @@ class _Reader:
                                 f"{COINCIDENT:g} of the model size)", m["loc"])
             if m["up"] is not None:
                 up[k] = _up_vector(m["up"], axis / length, m)
+        self.huge_members(mems, cols, coords[conn[:, 1]] - coords[conn[:, 0]])
         self.parallel_members(mems, conn)
         self.leaning_members(mems, coords[conn[:, 1]] - coords[conn[:, 0]], cols, up, truss)
         n = len(node_names)
@@ -779,6 +783,36 @@ class _Reader:
                                 where, f"use one name for both (refer to {names[a]} everywhere)")
             bare = names[b] if not used[b] else names[a]
             self.warnings.append(f"{where}: warning: {text}; {bare} carries nothing (remove it, or use one name)")
+
+    def huge_members(self, mems, cols, axis) -> None:
+        """Refuse a member whose stiffness or mass entries would be beyond what the assembly can
+        compute with (assembly.HUGE): E = 1e308 Pa on a 1 mm member overflows E A / L to inf and
+        the transforms to NaN. Worked in log10 so the check itself cannot overflow."""
+        from ..assembly import HUGE
+
+        if not len(mems):
+            return
+        with np.errstate(divide="ignore"):          # log10(0) = -inf: a zero term is no risk
+            lg = {k: np.log10(np.abs(cols[k])) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "nsm")}
+            lL = np.log10(np.linalg.norm(axis, axis=1))
+        lI = np.maximum(lg["Iy"], lg["Iz"])
+        terms = {
+            "axial stiffness E*A/L": (lg["E"] + lg["A"] - lL, "N/m"),
+            "torsional stiffness G*J/L": (lg["G"] + lg["J"] - lL, "N*m"),
+            "bending stiffness 12*E*I/L^3": (np.log10(12) + lg["E"] + lI - 3 * lL, "N/m"),
+            "bending stiffness 4*E*I/L": (np.log10(4) + lg["E"] + lI - lL, "N*m"),
+            "mass (density*A + nsm)*L": (np.log10(2) + np.maximum(lg["rho"] + lg["A"], lg["nsm"]) + lL, "kg"),
+            "rotary mass density*(Iy + Iz)*L": (np.log10(2) + lg["rho"] + lI + lL, "kg*m^2"),
+        }
+        limit = math.log10(HUGE)
+        for what, (x, unit) in terms.items():
+            over = np.flatnonzero(x > limit)
+            if len(over):
+                k = int(over[0])
+                m = mems[k]
+                raise DeckError(f"member {m['name']}: its {what} is about 1e{x[k]:.0f} {unit}, beyond the "
+                                f"{HUGE:.0e} that can be computed with (length {10 ** lL[k]:.3g} m)", m["loc"],
+                                "check the units of the material and section values and the member length")
 
     def parallel_members(self, mems, conn) -> None:
         """Warn about two members joining the same two nodes: both act, which a copied line
@@ -1220,6 +1254,14 @@ _PARAM_WORDS = {"thick": ("wall", "t"), "thickness": ("wall", "t"), "t": ("wall"
                 "flange": ("tf",), "web": ("tw",), "area": ("A",), "a": ("A",), "ix": ("J",), "it": ("J",)}
 _CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum")
 _FLOAT_MAX = float(np.finfo(float).max)
+
+
+def _not_huge(v: float, what: str, where: Location) -> None:
+    from ..assembly import HUGE
+
+    if abs(v) > HUGE:
+        raise DeckError(f"{what} of {v:.3g} in SI units is beyond the {HUGE:.0e} that can be computed with", where,
+                        "check the units")
 
 
 def _g(v: float) -> str:
