@@ -343,3 +343,51 @@ def test_huge_magnitudes_are_deck_errors(body, pattern):
         warnings.simplefilter("error")             # no floating-point warning on the way
         with pytest.raises(DeckError, match=pattern):
             read_text(text)
+
+
+# ---------- 8. the docs' example deck and the angle section's axes as documented
+
+def test_docs_example_deck_reads(tmp_path: Path):
+    import re
+
+    doc = (Path(__file__).parents[1] / "docs" / "deck.md").read_text()
+    block = re.search(r"## A complete example.*?```deck\n(.*?)```", doc, re.S)
+    assert block, "docs/deck.md lost its example deck"
+    (tmp_path / "ps3.deck").write_text(block.group(1))
+    m = read_deck(tmp_path / "ps3.deck")
+    assert m.title == "PS-3 pump stand"
+    assert (m.n_nodes, m.n_members) == (10, 15)
+    assert [c.kind for c in m.cases] == ["static", "static", "modes", "harmonic"]
+    assert m.warnings == []
+    # the point masses are the 2 x 0.8 t of the pump skid
+    assert m.point_mass[:, 0].sum() == pytest.approx(1600.0)
+    assert main(["check", str(tmp_path / "ps3.deck")]) == 0
+
+
+@pytest.mark.parametrize("b, h, theta_deg", [(0.08, 0.08, 45.0), (0.15, 0.09, None), (0.09, 0.15, None)])
+def test_angle_axes_as_documented(b, h, theta_deg):
+    """docs/deck.md, Angle sections: local y is the major principal axis u at theta from leg b
+    towards leg h, and roll = theta turns leg b onto the default local y, leg h onto local z."""
+    import math
+
+    from fem.elements.frame import local_axes
+    from fem.sections import _angle_leg_moments, angle, angle_principal_angle
+    t = 0.008
+    theta = angle_principal_angle(b, h, t)
+    if theta_deg is not None:
+        assert math.degrees(theta) == pytest.approx(theta_deg, abs=1e-12)
+    # the docs' "about 70 deg" for 150 x 90 x 10 and "20 deg" for 90 x 150 x 10
+    expected = 70.0 if b > h else 20.0 if b < h else 45.0
+    assert math.degrees(angle_principal_angle(b, h, 0.01)) == pytest.approx(expected, abs=0.5)
+    s = angle(b, h, t)
+    # Mohr's circle: the moments about the leg-b and leg-h axes through the centroid follow from
+    # the principal ones at -theta and 90 deg - theta (I(a) = Iu cos^2 a + Iv sin^2 a)
+    _, _, _, I_b, I_h, _ = _angle_leg_moments(b, h, t)
+    assert s.Iy * math.cos(theta) ** 2 + s.Iz * math.sin(theta) ** 2 == pytest.approx(I_b, rel=1e-12)
+    assert s.Iy * math.sin(theta) ** 2 + s.Iz * math.cos(theta) ** 2 == pytest.approx(I_h, rel=1e-12)
+    # a horizontal member along X: default local y = global Y, local z = global Z
+    R = local_axes(np.array([[0.0, 0, 0]]), np.array([[2.0, 0, 0]]), roll=np.array([theta]))[0][0]
+    leg_b = math.cos(theta) * R[1] - math.sin(theta) * R[2]
+    leg_h = math.sin(theta) * R[1] + math.cos(theta) * R[2]
+    np.testing.assert_allclose(leg_b, [0, 1, 0], atol=1e-12)
+    np.testing.assert_allclose(leg_h, [0, 0, 1], atol=1e-12)
