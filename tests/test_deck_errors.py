@@ -119,6 +119,8 @@ SYNTAX = [
      "column 10", "}"),
     ("missing comma", "node C = (1 m 2 m, 0)", "7:15", r"unexpected value '2 m'; expected ',' or an operator \(\+ - \* / \^\)",
      "2 m"),
+    ("number before a name", "combo X = 1.2 DEAD", "7:15", r"unknown unit 'DEAD'\n", "DEAD"),
+    ("option without a value", "mass B = 1 t inertia (1, 1, 1)", "7:14", r"'inertia' needs a value", "inertia"),
     ("curly quotes", 'title \u201cstand\u201d', "7:7", "unexpected character", "\u201c"),
     ("number too large", "let a = 1e999", "7:9", r"the number 1e999 is too large", "1e999"),
     ("long integer too large", "let a = 1" + "0" * 400, "7:9", "is too large", "1000"),
@@ -137,6 +139,8 @@ def test_syntax_errors_in_words(tmp_path: Path, body, at, pattern, under):
         read_deck(tmp_path / "stand.deck")
     assert str(err.value).startswith(f"stand.deck:{at}: "), str(err.value)
     assert "''" not in str(err.value)
+    if "DEAD" in body:
+        assert "write 1.2*DEAD" in str(err.value)
     assert caret_under(err.value).startswith(under)
 
 
