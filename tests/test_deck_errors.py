@@ -305,7 +305,7 @@ def test_rotary_inertia_on_a_truss_node_is_warned_and_changes_nothing():
     assert plain.warnings == []
     assert len(model.warnings) == 1
     assert model.warnings[0].startswith("deck.deck:11:1: warning: the rotary inertia of this mass is left out at 1 "
-                                        "node(s), T (rx, ry, rz): only truss members meet there")
+                                        "node(s), T (rx, ry, rz): no beam end there keeps those rotations")
     # T's rotations are held: the model has T's three translations only, as without the inertia,
     # and no zero-frequency mode or mechanism appears
     assert len(asm.free) == len(asm0.free) == 3
@@ -395,3 +395,17 @@ def test_angle_axes_as_documented(b, h, theta_deg):
     leg_h = math.sin(theta) * R[1] + math.cos(theta) * R[2]
     np.testing.assert_allclose(leg_b, [0, 1, 0], atol=1e-12)
     np.testing.assert_allclose(leg_h, [0, 0, 1], atol=1e-12)
+
+
+def test_rotary_inertia_where_every_beam_end_is_released_is_warned():
+    # a vertical post hinged at its top about its local y (global -Y for default axes: local z
+    # is global X, y = z x x): the inertia about global Y has no stiffness at T, and the
+    # assembly holds that DOF; about X and Z the post's bending and torsion hold T
+    from fem.assembly import assemble
+    from fem.deck.reader import read_text
+    text = GOOD + "node T = (0, 0, 3 m)\nmember POST : A -> T beam P S release j (ry)\n"
+    m = read_text(text + "mass T = 100 kg inertia = (5 kg*m^2, 5 kg*m^2, 5 kg*m^2)\n")
+    assert len(m.warnings) == 1 and "node(s), T (ry):" in m.warnings[0], m.warnings
+    t = m.node_names.index("T")
+    assert list(assemble(m).inert) == [6 * t + 4]
+    assert read_text(text + "mass T = 100 kg\n").warnings == []

@@ -684,16 +684,15 @@ class _Reader:
         pmass = np.zeros((n, 6))
         on_member = np.zeros(n, bool)
         on_member[conn.ravel()] = True
-        on_beam = np.zeros(n, bool)
-        on_beam[conn[~truss].ravel()] = True
+        turned = _rotation_stiffness(coords, conn, truss, releases, cols["roll"], up) > 0
         for target, vec, where in self.masses:
             idle = {}
             for nm in self.targets(target, nidx, "node"):
                 k = nidx[nm]
                 pmass[k] += vec
-                # rotations that no beam, support or spring holds carry no stiffness: the
+                # rotations that no beam end, support or spring holds carry no stiffness: the
                 # assembly holds them (a truss node's rotations), so inertia there does nothing
-                dead = (vec[3:] > 0) & ~on_beam[k] & ~restraint[k, 3:] & ~(springs[k, 3:] > 0)
+                dead = (vec[3:] > 0) & ~turned[k] & ~restraint[k, 3:] & ~(springs[k, 3:] > 0)
                 if dead.any():
                     idle[nm] = ", ".join(d for d, x in zip(DIRECTIONS[3:], dead) if x)
                 loose = (vec[:3] > 0) & ~restraint[k, :3] & ~(springs[k, :3] > 0)
@@ -706,8 +705,9 @@ class _Reader:
                 shown = "; ".join(f"{nm} ({d})" for nm, d in list(idle.items())[:5]) + (", ..." if len(idle) > 5 else "")
                 self.warnings.append(
                     f"{where}: warning: the rotary inertia of this mass is left out at {len(idle)} node(s), {shown}: "
-                    "only truss members meet there, and a truss node's rotations have no stiffness and are not part "
-                    "of the model; connect a beam member (or a rotational spring) if the inertia matters")
+                    "no beam end there keeps those rotations (truss members and released ends carry no moment), so "
+                    "they have no stiffness and are held; connect a beam member without that release (or a "
+                    "rotational spring) if the inertia matters")
         midx = {m["name"]: k for k, m in enumerate(mems)}
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
         for c in cases:
@@ -1312,6 +1312,28 @@ def _read_utf8(path: Path, what: str, where: Location | None) -> str:
         src = raw.decode("utf-8", errors="replace").rstrip("\r")
         raise DeckError(f"byte 0x{bad:02x}{like} is not UTF-8 text{site}; a {what} file must be UTF-8",
                         Location(path.name, line, column, src), fix) from None
+
+
+def _rotation_stiffness(coords, conn, truss, releases, roll, up) -> np.ndarray:
+    """(n, 3): for each node and global rotation, how much of it the beam ends there keep
+    (sum over ends of the kept local rotation axes' squared components): 0 where only truss
+    members or released ends meet, as on the diagonal of the assembled K."""
+    from ..elements.frame import local_axes
+
+    out = np.zeros((len(coords), 3))
+    beams = np.flatnonzero(~truss)
+    if not len(beams):
+        return out
+    xi, xj = coords[conn[beams, 0]], coords[conn[beams, 1]]
+    R, _ = local_axes(xi, xj, roll=roll[beams])
+    given = ~np.isnan(up[beams]).any(axis=1)
+    if given.any():
+        R[given] = local_axes(xi[given], xj[given], roll=roll[beams][given], up=up[beams][given])[0]
+    for end, first in ((0, 3), (1, 9)):
+        kept = ~releases[beams, first:first + 3]
+        np.add.at(out, conn[beams, end], np.einsum("bl,blg->bg", kept.astype(float), R ** 2))
+    out[out < 1e-12] = 0.0      # round-off of the axes of members along global axes
+    return out
 
 
 def _released_motion(released: np.ndarray) -> str | None:
