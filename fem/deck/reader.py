@@ -684,7 +684,8 @@ class _Reader:
         pmass = np.zeros((n, 6))
         on_member = np.zeros(n, bool)
         on_member[conn.ravel()] = True
-        turned = _rotation_stiffness(coords, conn, truss, releases, cols["roll"], up) > 0
+        turned = _rotation_stiffness(coords, conn, truss, releases, cols["roll"], up) > 0 \
+            if any((vec[3:] > 0).any() for _, vec, _ in self.masses) else np.ones((n, 3), bool)
         for target, vec, where in self.masses:
             idle = {}
             for nm in self.targets(target, nidx, "node"):
