@@ -152,13 +152,17 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
     k = np.empty((e, 12, 12))
     R = np.empty((e, 3, 3))
     L = np.empty(e)
-    for a in range(0, e, CHUNK):
-        sl = slice(a, min(a + CHUNK, e))
-        kc, mc, Rc, Lc = element_matrices(model, sel=sl)
-        k[sl], R[sl], L[sl] = kc, Rc, Lc
-        c = Lc.shape[0]
-        XK[4 * a:4 * a + 4 * c] = _blocks(el.to_global(kc, Rc))
-        XM[4 * a:4 * a + 4 * c] = _blocks(el.to_global(mc, Rc))
+    # a model that bypassed the deck's checks can overflow here (inf, then inf*0 = NaN in the
+    # transforms): not hidden, it is refused as a ModelError just below, and without the
+    # floating-point warnings it would otherwise print first
+    with np.errstate(over="ignore", invalid="ignore"):
+        for a in range(0, e, CHUNK):
+            sl = slice(a, min(a + CHUNK, e))
+            kc, mc, Rc, Lc = element_matrices(model, sel=sl)
+            k[sl], R[sl], L[sl] = kc, Rc, Lc
+            c = Lc.shape[0]
+            XK[4 * a:4 * a + 4 * c] = _blocks(el.to_global(kc, Rc))
+            XM[4 * a:4 * a + 4 * c] = _blocks(el.to_global(mc, Rc))
     d6 = np.arange(6) * 7                      # diagonal positions in a flattened 6x6 block
     XK[4 * e:, d6] = model.springs
     XM[4 * e:, d6] = model.point_mass

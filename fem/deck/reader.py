@@ -6,6 +6,7 @@ Parsing is lark LALR with the contextual lexer; meaning comes from our own walk 
 
 from __future__ import annotations
 
+import difflib
 import fnmatch
 import math
 import re
@@ -18,7 +19,7 @@ from lark import Lark, Token, Tree
 
 from ..errors import DeckError, Location, suggest
 from ..model import DIRECTIONS, Combination, LoadCase, LoadItem, Material, Model, Section
-from ..sections import make_section
+from ..sections import SHAPES, make_section
 from . import units as U
 from .syntax import keyword_callbacks
 from .syntax import parse as parse_deck_text
@@ -56,6 +57,7 @@ class _Reader:
         self.top_dir = top.resolve().parent
         self.vars: dict[str, Quantity] = {"pi": Quantity(math.pi), "g0": Quantity(9.80665, U.ACCEL)}
         self.assumed: dict[tuple, float] = {}
+        self.assume_sites: dict[tuple, tuple[str, float, Location]] = {}   # dim -> (statement, factor, where)
         self.title = ""
         self.nodes: dict[str, tuple[np.ndarray, Location]] = {}
         self.members: dict[str, dict] = {}
@@ -217,6 +219,19 @@ class _Reader:
             raise DeckError(f"{what} is not a finite number", self.loc(t))
         return v
 
+    def angle(self, t, what: str) -> float:
+        """An angle in rad, written with its unit (30 deg, 0.5 rad) or from a parameter or function;
+        a bare number other than 0 is refused, since it would silently be taken as radians."""
+        q = self.evaluate(t)
+        if q.dim not in (U.NONE, WILD):
+            raise DeckError(f"{what} is an angle, e.g. 30 deg, but {U.dim_name(q.dim)} was given", self.loc(t))
+        plain = isinstance(t, Tree) and all(
+            isinstance(x, Token) and x.type == "NUMBER" for x in t.scan_values(lambda v: isinstance(v, Token)))
+        if plain and q.value != 0:
+            raise DeckError(f"{what} is an angle and needs its unit: write {_g(q.value)} deg or {_g(q.value)} rad",
+                            self.loc(t), "a bare number would be read as radians")
+        return self.value(t, U.NONE, what)
+
     def vector(self, t, dim, what: str, n: int = 3) -> np.ndarray:
         if not (isinstance(t, Tree) and t.data == "vector") or len(t.children) != n:
             raise DeckError(f"{what} needs a vector of {n} values like (x, y, z)", self.loc(t))
@@ -321,7 +336,45 @@ class _Reader:
         q = U.unit_value(unit)
         if q is None or q.dim != _ASSUMABLE[what]:
             raise DeckError(f"'{unit}' is not a unit of {what}", self.loc(s.children[1]))
-        self.assumed[_ASSUMABLE[what]] = q.value
+        dim, where = _ASSUMABLE[what], self.loc(s)
+        first = self.assume_sites.get(dim)
+        if first is not None:
+            if math.isclose(first[1], q.value, rel_tol=1e-12):
+                return                   # the same assume again (an included file's header)
+            raise DeckError(f"assume {what} in {unit} would change the unit of bare {what} numbers set by "
+                            f"'{first[0]}' at {first[2]}, so the numbers before and after it would not mean the "
+                            "same", where, "keep one assume per quantity, at the top of the deck")
+        self.consistent_assume(what, unit, dim, q.value, where)
+        self.assumed[dim] = q.value
+        self.assume_sites[dim] = (f"assume {what} in {unit}", q.value, where)
+
+    def consistent_assume(self, what: str, unit: str, dim, value: float, where: Location) -> None:
+        """Refuse an assume that disagrees with the earlier ones: force, stress and density follow
+        from mass, length and time (seconds unless assumed), and bare numbers of derived quantities
+        (a stiffness in force per length) are converted through them, so an inconsistent set
+        (kN with mm and kg) would make them depend on which assume is used."""
+        rows = [(d, math.log(f), text, at) for d, (text, f, at) in self.assume_sites.items()]
+        if U.TIME not in self.assume_sites and dim != U.TIME:
+            rows.append((U.TIME, 0.0, "time in s (the default)", None))
+        if not rows:
+            return
+        A = np.array([r[0] for r in rows], float)
+        b = np.array([r[1] for r in rows])
+        d = np.array(dim, float)
+        coef = np.linalg.lstsq(A.T, d, rcond=None)[0]      # d as a combination of the earlier rows
+        if not np.allclose(A.T @ coef, d, atol=1e-9):
+            return                                           # not fixed by the earlier ones
+        implied = math.exp(float(coef @ b))
+        if math.isclose(implied, value, rel_tol=1e-9):
+            return
+        used = [r for r, c in zip(rows, coef) if abs(c) > 1e-9]
+        earlier = ", ".join(r[2] if r[3] is None else f"'{r[2]}' at {r[3]}" for r in used)
+        si = {U.MASS: "kg", U.LENGTH: "m", U.TIME: "s", U.FORCE: "N", U.PRESSURE: "Pa", U.DENSITY: "kg/m^3"}[dim]
+        raise DeckError(f"assume {what} in {unit} ({unit} = {value:g} {si}) disagrees with {earlier}: together those "
+                        f"make the unit of {what} {implied:.6g} {si}, so derived quantities such as a stiffness or a "
+                        "stress would take different units depending on which is used", where,
+                        "assume one consistent set, e.g. N, mm, t, s with stress in MPa, or kN, m, t, s with stress "
+                        "in kPa; or write units on the numbers")
 
     def st_include(self, s):
         rel = str(s.children[0])[1:-1]
@@ -341,12 +394,13 @@ class _Reader:
     def st_material(self, s):
         name = self.name(s.children[0])
         self.define("material", "material", name, self.loc(s))
-        props, seen = {}, set()
+        props, seen, at = {}, set(), {}
         for opt in s.children[1:]:
             if opt is None:
                 continue
             key = str(opt.children[0])
             self.once(seen, key, self.loc(opt), f"material {name}")
+            at[key] = self.loc(opt)
             dims = {"E": U.PRESSURE, "G": U.PRESSURE, "nu": U.NONE, "density": U.DENSITY}
             if key not in dims:
                 raise DeckError(f"material {name}: unknown property '{key}'; {suggest(key, dims)}", self.loc(opt))
@@ -355,28 +409,28 @@ class _Reader:
         if "E" not in props:
             raise DeckError(f"material {name} needs E (Young's modulus)", where)
         if props["E"] <= 0:
-            raise DeckError(f"material {name}: E must be positive", where)
+            raise DeckError(f"material {name}: E must be positive", at["E"])
         if "G" not in props:
             if "nu" not in props:
                 raise DeckError(f"material {name} needs G or nu", where)
             if not -1 < props["nu"] < 0.5:
-                raise DeckError(f"material {name}: nu must lie between -1 and 0.5", where)
+                raise DeckError(f"material {name}: nu must lie between -1 and 0.5", at["nu"])
             props["G"] = props["E"] / (2 * (1 + props["nu"]))
         if props["G"] <= 0:
-            raise DeckError(f"material {name}: G must be positive", where)
+            raise DeckError(f"material {name}: G must be positive", at.get("G", where))
         dens = props.get("density", 0.0)
         if dens < 0:
-            raise DeckError(f"material {name}: density cannot be negative", where)
+            raise DeckError(f"material {name}: density cannot be negative", at["density"])
         self.materials[name] = Material(name, props["E"], props["G"], dens)
 
     def st_section(self, s):
         name = self.name(s.children[0])
         self.define("section", "section", name, self.loc(s))
         shape = str(s.children[1])
+        kws = [kw for kw in s.children[2:] if kw is not None]
+        self.section_names(name, s.children[1], kws)
         params, seen = {}, set()
-        for kw in s.children[2:]:
-            if kw is None:
-                continue
+        for kw in kws:
             key = str(kw.children[0])
             self.once(seen, key, self.loc(kw), f"section {name}")
             dim = {"A": (0, 2, 0), "Avy": (0, 2, 0), "Avz": (0, 2, 0), "Iy": (0, 4, 0),
@@ -393,6 +447,34 @@ class _Reader:
             raise DeckError(f"section {name}: its properties are not finite and positive "
                             f"(A={props.A:.3g}, Iy={props.Iy:.3g}, Iz={props.Iz:.3g}, J={props.J:.3g})", self.loc(s))
         self.sections[name] = Section(name, props)
+
+    def section_names(self, name: str, shape_tok, kws) -> None:
+        """Refuse an unknown shape or parameter name at its token, with the names that fit."""
+        shape = str(shape_tok)
+        if shape not in SHAPES:
+            near = suggest(shape, SHAPES)
+            near = "; " + near if near.startswith("did you mean") else ""
+            raise DeckError(f"section {name}: unknown shape '{shape}'{near}", self.loc(shape_tok),
+                            "shapes: " + ", ".join(f"{k}({', '.join(v[1] + v[2])})" for k, v in SHAPES.items()))
+        required, optional = SHAPES[shape][1:]
+        allowed = required + optional
+        form = f"{shape}({', '.join(required + tuple(f'[{o}]' for o in optional))})"
+        given = {str(kw.children[0]) for kw in kws}
+        for kw in kws:
+            key = str(kw.children[0])
+            if key in allowed:
+                continue
+            near = [a for a in _PARAM_WORDS.get(key.lower(), ()) if a in allowed and a not in given]
+            near = near or difflib.get_close_matches(key, [a for a in allowed if a not in given], n=2, cutoff=0.5)
+            missing = [a for a in required if a not in given]
+            if not near and len(missing) == 1:
+                near = missing
+            tip = "did you mean " + " or ".join(f"'{a}'" for a in near) + "? " if near else ""
+            raise DeckError(f"section {name}: {shape} has no parameter '{key}'; {tip}it takes {form}",
+                            self.loc(kw.children[0]))
+        missing = [a for a in required if a not in given]
+        if missing:
+            raise DeckError(f"section {name}: {shape} needs {', '.join(missing)}; it takes {form}", self.loc(shape_tok))
 
     def st_node(self, s):
         name = self.name(s.children[0])
@@ -438,7 +520,7 @@ class _Reader:
             key, val = str(opt.children[0]), opt.children[1]
             self.once(seen, key, self.loc(opt), f"member {name}")
             if key == "roll":
-                m["roll"] = self.value(val, U.NONE, f"member {name}: roll")
+                m["roll"] = self.angle(val, f"member {name}: roll")
             elif key == "up":
                 m["up"] = self.vector(val, U.NONE, f"member {name}: up")
             elif key == "nsm":
@@ -481,6 +563,7 @@ class _Reader:
             vals[d] = self.value(kw.children[1], dim, f"spring {d}")
             if vals[d] < 0:
                 raise DeckError(f"spring {d}: a stiffness cannot be negative", self.loc(kw))
+            _not_huge(vals[d], f"spring {d}", self.loc(kw))
         self.springs.append((target, vals))
 
     def st_mass(self, s):
@@ -495,6 +578,8 @@ class _Reader:
             inertia = self.vector(opt.children[1], (1, 2, 0), "mass inertia")
         if m < 0 or (inertia < 0).any():
             raise DeckError("a mass or inertia cannot be negative", self.loc(s))
+        for v in (m, *inertia):
+            _not_huge(v, "mass", self.loc(s))
         self.masses.append((target, np.r_[m, m, m, inertia], self.loc(s)))
 
     def st_group(self, s):
@@ -509,8 +594,12 @@ class _Reader:
 
     def st_case(self, s):
         name, kind, *items = s.children
+        if str(kind) not in _CASE_KINDS:
+            raise DeckError(f"case {self.name(name)}: unknown kind '{kind}'; {suggest(str(kind), _CASE_KINDS)}",
+                            self.loc(kind), "kinds: " + ", ".join(_CASE_KINDS))
         self.define("result", "case", self.name(name), self.loc(s))
-        self.cases.append((self.name(name), str(kind), [i for i in items if i is not None], self.loc(s)))
+        self.cases.append((self.name(name), str(kind), [i for i in items if i is not None], self.loc(s),
+                           dict(self.assumed)))
 
     def st_combo(self, s):
         self.define("result", "combination", self.name(s.children[0]), self.loc(s))
@@ -555,16 +644,16 @@ class _Reader:
         tol = COINCIDENT * float(np.linalg.norm(hi - lo))
         for k, m in enumerate(mems):
             for end, col in (("i", 0), ("j", 1)):
-                nm, _ = m[end]
+                nm, tok = m[end]
                 if nm not in nidx:
-                    raise DeckError(f"member {m['name']}: node '{nm}' is not defined; {suggest(nm, node_names)}", m["loc"])
+                    raise DeckError(f"member {m['name']}: node '{nm}' is not defined; {suggest(nm, node_names)}", self.loc(tok))
                 conn[k, col] = nidx[nm]
-            sname, _ = m["section"]
+            sname, tok = m["section"]
             if sname not in self.sections:
-                raise DeckError(f"member {m['name']} uses section '{sname}', which is not defined; {suggest(sname, self.sections)}", m["loc"])
-            mname, _ = m["material"]
+                raise DeckError(f"member {m['name']} uses section '{sname}', which is not defined; {suggest(sname, self.sections)}", self.loc(tok))
+            mname, tok = m["material"]
             if mname not in self.materials:
-                raise DeckError(f"member {m['name']} uses material '{mname}', which is not defined; {suggest(mname, self.materials)}", m["loc"])
+                raise DeckError(f"member {m['name']} uses material '{mname}', which is not defined; {suggest(mname, self.materials)}", self.loc(tok))
             sp, mat = self.sections[sname].props, self.materials[mname]
             for key, val in (("E", mat.E), ("G", mat.G), ("rho", mat.density), ("A", sp.A), ("Iy", sp.Iy),
                              ("Iz", sp.Iz), ("J", sp.J), ("Avy", sp.Avy), ("Avz", sp.Avz),
@@ -579,6 +668,7 @@ class _Reader:
                                 f"{COINCIDENT:g} of the model size)", m["loc"])
             if m["up"] is not None:
                 up[k] = _up_vector(m["up"], axis / length, m)
+        self.huge_members(mems, cols, coords[conn[:, 1]] - coords[conn[:, 0]])
         self.parallel_members(mems, conn)
         self.leaning_members(mems, coords[conn[:, 1]] - coords[conn[:, 0]], cols, up, truss)
         n = len(node_names)
@@ -594,16 +684,31 @@ class _Reader:
         pmass = np.zeros((n, 6))
         on_member = np.zeros(n, bool)
         on_member[conn.ravel()] = True
+        turned = _rotation_stiffness(coords, conn, truss, releases, cols["roll"], up) > 0 \
+            if any((vec[3:] > 0).any() for _, vec, _ in self.masses) else np.ones((n, 3), bool)
         for target, vec, where in self.masses:
+            idle = {}
             for nm in self.targets(target, nidx, "node"):
                 k = nidx[nm]
                 pmass[k] += vec
+                # rotations that no beam end, support or spring holds carry no stiffness: the
+                # assembly holds them (a truss node's rotations), so inertia there does nothing
+                dead = (vec[3:] > 0) & ~turned[k] & ~restraint[k, 3:] & ~(springs[k, 3:] > 0)
+                if dead.any():
+                    idle[nm] = ", ".join(d for d, x in zip(DIRECTIONS[3:], dead) if x)
                 loose = (vec[:3] > 0) & ~restraint[k, :3] & ~(springs[k, :3] > 0)
                 if not on_member[k] and loose.any():
                     dirs = ", ".join(d for d, x in zip(DIRECTIONS, loose) if x)
                     raise DeckError(f"mass on node {nm}, which no member, support or spring holds in {dirs}: the "
                                     "mass would not move with the structure and would be left out of its modes",
                                     where, "connect the node with a member, or put the mass on a node of the structure")
+            if idle:
+                shown = "; ".join(f"{nm} ({d})" for nm, d in list(idle.items())[:5]) + (", ..." if len(idle) > 5 else "")
+                self.warnings.append(
+                    f"{where}: warning: the rotary inertia of this mass is left out at {len(idle)} node(s), {shown}: "
+                    "no beam end there keeps those rotations (truss members and released ends carry no moment), so "
+                    "they have no stiffness and are held; connect a beam member without that release (or a "
+                    "rotational spring) if the inertia matters")
         midx = {m["name"]: k for k, m in enumerate(mems)}
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
         for c in cases:
@@ -680,6 +785,36 @@ class _Reader:
             bare = names[b] if not used[b] else names[a]
             self.warnings.append(f"{where}: warning: {text}; {bare} carries nothing (remove it, or use one name)")
 
+    def huge_members(self, mems, cols, axis) -> None:
+        """Refuse a member whose stiffness or mass entries would be beyond what the assembly can
+        compute with (assembly.HUGE): E = 1e308 Pa on a 1 mm member overflows E A / L to inf and
+        the transforms to NaN. Worked in log10 so the check itself cannot overflow."""
+        from ..assembly import HUGE
+
+        if not len(mems):
+            return
+        with np.errstate(divide="ignore"):          # log10(0) = -inf: a zero term is no risk
+            lg = {k: np.log10(np.abs(cols[k])) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "nsm")}
+            lL = np.log10(np.linalg.norm(axis, axis=1))
+        lI = np.maximum(lg["Iy"], lg["Iz"])
+        terms = {
+            "axial stiffness E*A/L": (lg["E"] + lg["A"] - lL, "N/m"),
+            "torsional stiffness G*J/L": (lg["G"] + lg["J"] - lL, "N*m"),
+            "bending stiffness 12*E*I/L^3": (np.log10(12) + lg["E"] + lI - 3 * lL, "N/m"),
+            "bending stiffness 4*E*I/L": (np.log10(4) + lg["E"] + lI - lL, "N*m"),
+            "mass (density*A + nsm)*L": (np.log10(2) + np.maximum(lg["rho"] + lg["A"], lg["nsm"]) + lL, "kg"),
+            "rotary mass density*(Iy + Iz)*L": (np.log10(2) + lg["rho"] + lI + lL, "kg*m^2"),
+        }
+        limit = math.log10(HUGE)
+        for what, (x, unit) in terms.items():
+            over = np.flatnonzero(x > limit)
+            if len(over):
+                k = int(over[0])
+                m = mems[k]
+                raise DeckError(f"member {m['name']}: its {what} is about 1e{x[k]:.0f} {unit}, beyond the "
+                                f"{HUGE:.0e} that can be computed with (length {10 ** lL[k]:.3g} m)", m["loc"],
+                                "check the units of the material and section values and the member length")
+
     def parallel_members(self, mems, conn) -> None:
         """Warn about two members joining the same two nodes: both act, which a copied line
         does silently (built-up members may be meant, so it is not refused)."""
@@ -729,7 +864,8 @@ class _Reader:
                     f"mass in modes case {', '.join(modal)}; give its density if their mass matters")
 
     def build_case(self, c, nidx, midx) -> LoadCase:
-        name, kind, items, where = c
+        name, kind, items, where, assumed = c
+        self.assumed = assumed             # the assumes in force where the case is written
         case = LoadCase(name, kind, location=where)
         seen = set()
         for it in items:
@@ -1124,7 +1260,25 @@ class _Reader:
         case.options = out
 
 
+# words a user may write for a shape's parameters -> the names the shapes use
+_PARAM_WORDS = {"thick": ("wall", "t"), "thickness": ("wall", "t"), "t": ("wall",), "wt": ("wall", "t"),
+                "diameter": ("od", "d"), "dia": ("od", "d"), "d": ("od",), "outside": ("od",),
+                "width": ("b", "bf"), "w": ("b", "bf"), "height": ("h", "d"), "depth": ("d", "h"),
+                "flange": ("tf",), "web": ("tw",), "area": ("A",), "a": ("A",), "ix": ("J",), "it": ("J",)}
+_CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum")
 _FLOAT_MAX = float(np.finfo(float).max)
+
+
+def _not_huge(v: float, what: str, where: Location) -> None:
+    from ..assembly import HUGE
+
+    if abs(v) > HUGE:
+        raise DeckError(f"{what} of {v:.3g} in SI units is beyond the {HUGE:.0e} that can be computed with", where,
+                        "check the units")
+
+
+def _g(v: float) -> str:
+    return f"{v:g}"
 
 
 def _literal(text: str, where: Location) -> float:
@@ -1171,6 +1325,28 @@ def _read_utf8(path: Path, what: str, where: Location | None) -> str:
         src = raw.decode("utf-8", errors="replace").rstrip("\r")
         raise DeckError(f"byte 0x{bad:02x}{like} is not UTF-8 text{site}; a {what} file must be UTF-8",
                         Location(path.name, line, column, src), fix) from None
+
+
+def _rotation_stiffness(coords, conn, truss, releases, roll, up) -> np.ndarray:
+    """(n, 3): for each node and global rotation, how much of it the beam ends there keep
+    (sum over ends of the kept local rotation axes' squared components): 0 where only truss
+    members or released ends meet, as on the diagonal of the assembled K."""
+    from ..elements.frame import local_axes
+
+    out = np.zeros((len(coords), 3))
+    beams = np.flatnonzero(~truss)
+    if not len(beams):
+        return out
+    xi, xj = coords[conn[beams, 0]], coords[conn[beams, 1]]
+    R, _ = local_axes(xi, xj, roll=roll[beams])
+    given = ~np.isnan(up[beams]).any(axis=1)
+    if given.any():
+        R[given] = local_axes(xi[given], xj[given], roll=roll[beams][given], up=up[beams][given])[0]
+    for end, first in ((0, 3), (1, 9)):
+        kept = ~releases[beams, first:first + 3]
+        np.add.at(out, conn[beams, end], np.einsum("bl,blg->bg", kept.astype(float), R ** 2))
+    out[out < 1e-12] = 0.0      # round-off of the axes of members along global axes
+    return out
 
 
 def _released_motion(released: np.ndarray) -> str | None:

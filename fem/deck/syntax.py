@@ -170,14 +170,20 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
             return DeckError(f"the file ends before the '{ch}' opened here is closed", where_at(at),
                              f"add the closing '{_PAIRS[ch]}' (a block or list ends in the file it starts in)")
         end = len(text.rstrip())
+        prev = re.search(r"([A-Za-z_]\w*)\s*$", text)
+        if prev and accepts == {"EQUAL"}:
+            return DeckError(f"'{prev.group(1)}' needs a value: write {prev.group(1)} = ...", where_at(prev.start(1)),
+                             "an option is written name = value")
         return DeckError(f"the file ends in the middle of a statement; expected {expected_words(accepts)}",
                          where_at(end), "complete the last statement")
     pos = tok.start_pos
     here = where_at(pos)
     if tok.type == "NAME" and re.search(r"\d[ \t]*$", text[:pos]):
-        from ..errors import suggest
-        return DeckError(f"unknown unit '{tok}'; {suggest(str(tok), U.UNITS)}", here,
-                         "known units are listed in docs/deck.md")
+        near = _nearest(str(tok), U.UNITS)
+        number = re.search(r"[\d.eE+-]*\d[ \t]*$", text[:pos]).group(0).strip()
+        return DeckError(f"unknown unit '{tok}'" + (f"; did you mean '{near}'?" if near else ""), here,
+                         f"the units are {' '.join(U.UNITS)}; to multiply by a parameter or a case, "
+                         f"write {number}*{tok}")
     if str(tok) in _CLOSERS:
         stack, stray = _brackets(text, pos + 1)
         if stray is not None and stray[1] == pos:
@@ -216,6 +222,9 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
                              "a statement starts with one of: " + ", ".join(STATEMENTS))
         if near:
             return DeckError(f"unknown word '{prev.group(1)}' here; did you mean '{near}'?", where_at(prev.start(1)),
+                             "an option is written name = value")
+        if accepts <= {"EQUAL"}:
+            return DeckError(f"'{prev.group(1)}' needs a value: write {prev.group(1)} = ...", where_at(prev.start(1)),
                              "an option is written name = value")
     # a misspelled keyword where the grammar wants one (assume length inn mm)
     if tok.type == "NAME":
