@@ -251,3 +251,24 @@ def test_coarse_step_is_warned_with_the_figure():
     r = sdof("step", f"{3 * T} s", f"{T / 4} s")
     assert r.warnings and "coarse" in r.warnings[0] and f"{T / 10:.3g}" in r.warnings[0]
     assert not sdof("step", f"{T} s", f"{T / 20} s").warnings
+
+
+def test_step_longer_than_table_spacing_is_warned(tmp_path):
+    # a record at 0.005 s read with a 0.01 s step skips every other row: a located warning with
+    # both figures and the step to use; a step equal to the spacing is quiet
+    from fem.deck.reader import read_deck
+    t = np.arange(0, 1.0001, 0.005)
+    (tmp_path / "rec.csv").write_text("".join(f"{x:.3f},{np.sin(40 * x):.6f}\n" for x in t))
+    deck = tmp_path / "d.deck"
+    text = SDOF % ("step", "1 s", "%s", "0")
+    text = text.replace("time = step", 'table = "rec.csv"')
+    deck.write_text(text % "0.01 s")
+    m = read_deck(deck)
+    line = 1 + text.split("\n").index(next(x for x in text.split("\n") if "rec.csv" in x))
+    w = [x for x in m.warnings if "row spacing" in x]
+    assert len(w) == 1
+    assert w[0].startswith(f"d.deck:{line}:")
+    assert "step 0.01 s" in w[0] and "0.005 s row spacing of table 'rec.csv'" in w[0]
+    assert "use step <= 0.005 s" in w[0]
+    deck.write_text(text % "0.005 s")
+    assert not [x for x in read_deck(deck).warnings if "row spacing" in x]

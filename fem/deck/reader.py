@@ -821,6 +821,7 @@ class _Reader:
 
         extra = {}
         rest = {}
+        tables = []                   # (function, file, location) of the tables the case reads
         for key, (val, where) in case.options.items():
             what = f"case {case.name}: {key}"
             if key == "time":
@@ -846,6 +847,7 @@ class _Reader:
                     raise DeckError(f'{what} is a quoted CSV file name, e.g. table = "record.csv"', where)
                 base = self.token_file.get(id(val)) or self.stack[-1]
                 extra["time"] = TimeFunction("table", table=self.read_table(str(val)[1:-1], where, base))
+                tables.append((extra["time"], str(val)[1:-1], where))
             elif key == "ground":
                 extra["ground"] = self.vector(val, U.ACCEL, what)
             elif key == "correction":
@@ -866,6 +868,19 @@ class _Reader:
         if case.options.get("correction") and "ground" in case.options:
             raise DeckError(f"case {case.name}: the static correction applies to force loads only",
                             case.location)
+        self.table_step_warnings(case, tables)
+
+    def table_step_warnings(self, case: LoadCase, tables) -> None:
+        """Warn when a history case's step is longer than the row spacing of a table it reads:
+        the load is read at the steps, so the rows between them are skipped."""
+        dt = case.options["step"]
+        for fn, rel, where in tables:
+            h = fn.spacing()
+            if dt > h * (1 + 1e-9):
+                self.warnings.append(
+                    f"{where}: warning: case {case.name}: step {dt:.3g} s is longer than the {h:.3g} s row "
+                    f"spacing of table '{rel}', so rows between steps are skipped (the load is read at the "
+                    f"steps only); use step <= {h:.3g} s")
 
     def harmonic_options(self, case: LoadCase, nidx) -> None:
         """Options of a harmonic sweep: from, to, points, spacing, ground, correction, damping,
