@@ -272,3 +272,102 @@ def test_step_longer_than_table_spacing_is_warned(tmp_path):
     assert "use step <= 0.005 s" in w[0]
     deck.write_text(text % "0.005 s")
     assert not [x for x in read_deck(deck).warnings if "row spacing" in x]
+
+
+TWO = """
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+for i in 0..4 { node N[i] = (0, 0, i*1.5 m) }
+for i in 0..3 { member M[i] : N[i] -> N[i+1] beam P S }
+node H = (1.5 m, 0, 6 m)
+member ARM : N4 -> H beam P S
+support N0 fixed
+mass H = 400 kg
+case MODES modes { count = 6 }
+case H1 history { %s
+                  duration = 0.6 s, step = 0.0017 s, damping = 2 percent, record = "*" %s }
+"""
+
+
+@pytest.mark.parametrize("correction", ["", ", correction = on"], ids=["modal", "corrected"])
+def test_two_loads_with_two_functions_equal_the_sum_of_single_runs(correction):
+    # superposition (the equations are linear): a machine force at N2 following a harmonic and
+    # an impact at H following a short half-sine, in one case, equal the two single-load runs
+    # added, at every node and time (displacement, velocity, absolute acceleration); the pulse
+    # end (0.0235 s) falls between steps. Round-off tolerance.
+    both = """time HUM = harmonic(24.5 Hz), time KNOCK = halfsine(0.0235 s)
+              force N2 = (0, 1.2 kN, 0) times HUM
+              force H = (-8 kN, 0, 3 kN) times KNOCK"""
+    r = solve_all(read_text(TWO % (both, correction)))[1][-1]
+    a = solve_all(read_text(TWO % ("force N2 = (0, 1.2 kN, 0), time = harmonic(24.5 Hz)", correction)))[1][-1]
+    b = solve_all(read_text(TWO % ("force H = (-8 kN, 0, 3 kN), time = halfsine(0.0235 s)", correction)))[1][-1]
+    for x in ("u", "v", "a", "frames"):
+        ref = getattr(a, x) + getattr(b, x)
+        np.testing.assert_allclose(getattr(r, x), ref, atol=1e-12 * np.abs(ref).max(), err_msg=x)
+    assert np.abs(a.u).max() > 0 and np.abs(b.u).max() > 0
+    # the peak envelopes lie within the sum of the single runs' envelopes (triangle inequality)
+    assert np.all(r.peak <= a.peak + b.peak + 1e-12 * r.peak.max())
+    assert np.all(r.member_peak <= a.member_peak + b.member_peak + 1e-9 * r.member_peak.max())
+
+
+def test_two_direction_ground_motion_equals_the_sum_of_single_directions(tmp_path):
+    # X from one record, Y from another, each with its own scale, equals the two single-direction
+    # runs added (linearity); the records' rows (0.002 s) are finer than no step, so no warning
+    from fem.deck.reader import read_deck
+    t = np.arange(0, 0.6001, 0.002)
+    (tmp_path / "ew.csv").write_text("".join(f"{x:.4f},{np.sin(31 * x) * np.exp(-3 * x):.6f}\n" for x in t))
+    (tmp_path / "ns.csv").write_text("".join(f"{x:.4f},{np.cos(47 * x) * x:.6f}\n" for x in t))
+
+    def run(body):
+        deck = tmp_path / "g.deck"
+        deck.write_text(TWO.replace("step = 0.0017 s", "step = 0.002 s") % (body, ""))
+        m = read_deck(deck)
+        assert not [w for w in m.warnings if "row spacing" in w]
+        return solve_all(m)[1][-1]
+
+    r = run('''table EW = "ew.csv", table NS = "ns.csv"
+               ground = (0.3 gee, 0, 0) times EW
+               ground = (0, 0.2 gee, 0) times NS''')
+    a = run('ground = (0.3 gee, 0, 0), table = "ew.csv"')
+    b = run('ground = (0, 0.2 gee, 0), table = "ns.csv"')
+    for x in ("u", "v", "a"):
+        ref = getattr(a, x) + getattr(b, x)
+        np.testing.assert_allclose(getattr(r, x), ref, atol=1e-12 * np.abs(ref).max(), err_msg=x)
+    assert np.abs(a.u[:, :, 0]).max() > 0 and np.abs(b.u[:, :, 1]).max() > 0
+
+
+def test_named_function_equals_the_case_function():
+    # the old form (one time = ... for the case) and a named function give the same run
+    old = solve_all(read_text(TWO % ("force H = (-8 kN, 0, 3 kN), time = rect(0.05 s)", "")))[1][-1]
+    new = solve_all(read_text(TWO % ("time P = rect(0.05 s), force H = (-8 kN, 0, 3 kN) times P", "")))[1][-1]
+    np.testing.assert_array_equal(new.u, old.u)
+    np.testing.assert_array_equal(new.member_peak, old.member_peak)
+
+
+@pytest.mark.parametrize("body,message,where", [
+    ("time KNOCK = halfsine(0.02 s), force H = (1 kN, 0, 0) times KNOK",
+     r"case H1: force follows time function 'KNOK', which is not defined in the case; did you mean 'KNOCK'\?",
+     "KNOK"),
+    ("time KNOCK = halfsine(0.02 s), ground = (0.1 gee, 0, 0) times QUAKE",
+     r"ground follows time function 'QUAKE', which is not defined.*defined: KNOCK", "QUAKE"),
+    ("time K = step, force H = (1 kN, 0, 0)", r"this force has no time function", "force H"),
+    ("time K = step, time K = rect(1 s), force H = (1 kN, 0, 0) times K", r"time function K is defined twice",
+     "time K = rect"),
+    ("time K = halfsin(1 s), force H = (1 kN, 0, 0) times K", r"unknown time function 'halfsin'.*halfsine",
+     "time K = halfsin"),
+    ("time = step, table = \"x.csv\", force H = (1 kN, 0, 0)", r"give time = \.\.\. or table = \.\.\., not both",
+     "table ="),
+], ids=["unknown-load-function", "unknown-ground-function", "no-function", "twice", "bad-shape", "time-and-table"])
+def test_per_load_function_errors_are_located(body, message, where):
+    text = TWO % (body, "")
+    with pytest.raises(DeckError, match=message) as exc:
+        read_text(text)
+    line = next(k for k, x in enumerate(text.split("\n"), 1) if where in x)
+    assert exc.value.location.line == line
+    assert exc.value.location.column == text.split("\n")[line - 1].index(where) + 1
+
+
+def test_times_outside_a_history_case_is_refused():
+    with pytest.raises(DeckError, match="'times K' is for the loads of a history case"):
+        read_text(TWO.replace("case H1 history {", "case S static { force H = (1 kN, 0, 0) times K }\ncase H2 history {")
+                  % ("force H = (1 kN, 0, 0), time = step", ""))
