@@ -384,3 +384,9 @@ def test_times_outside_a_history_case_is_refused():
     with pytest.raises(DeckError, match="'times K' is for the loads of a history case"):
         read_text(TWO.replace("case H1 history {", "case S static { force H = (1 kN, 0, 0) times K }\ncase H2 history {")
                   % ("force H = (1 kN, 0, 0), time = step", ""))
+
+
+def test_unused_time_function_is_warned():
+    m = read_text(TWO % ("time = step, time SPARE = rect(0.1 s), force H = (1 kN, 0, 0)", ""))
+    w = [x for x in m.warnings if "SPARE" in x]
+    assert len(w) == 1 and w[0].startswith("deck.deck:11:") and "no load or ground follows it" in w[0]

@@ -931,6 +931,11 @@ class _Reader:
         if case.options.get("correction") and ("ground" in case.options or grounds):
             raise DeckError(f"case {case.name}: the static correction applies to force loads only",
                             case.location)
+        used = {item.time for item in case.loads} | {name for _, name in grounds}
+        for fname in named:
+            if fname not in used:
+                self.warnings.append(f"{first[fname]}: warning: case {case.name}: time function {fname} is defined "
+                                     f"but no load or ground follows it; add 'times {fname}' after one, or remove it")
         self.table_step_warnings(case, tables)
 
     def table_step_warnings(self, case: LoadCase, tables) -> None:
