@@ -390,3 +390,22 @@ def test_unused_time_function_is_warned():
     m = read_text(TWO % ("time = step, time SPARE = rect(0.1 s), force H = (1 kN, 0, 0)", ""))
     w = [x for x in m.warnings if "SPARE" in x]
     assert len(w) == 1 and w[0].startswith("deck.deck:11:") and "no load or ground follows it" in w[0]
+
+
+def test_table_pulse_with_ends_between_steps_is_exact(tmp_path):
+    # a table holding 1 from t1 to t2 (both between steps) is a rectangular pulse starting late:
+    # u/u_st = H(t - t1)(1 - cos w(t - t1)) - H(t - t2)(1 - cos w(t - t2)) (Chopra 2017 Sec. 4.7,
+    # by superposition of two step loads), at round-off whatever the step
+    from fem.deck.reader import read_deck
+    w = np.sqrt(K_EXACT / 1e6)
+    T = 2 * np.pi / w
+    t1, t2 = 0.1234 * T, 0.4321 * T
+    (tmp_path / "p.csv").write_text(f"{t1:.17g},1\n{t2:.17g},1\n")
+    deck = tmp_path / "d.deck"
+    deck.write_text((SDOF % ("step", f"{2 * T} s", f"{T / 17.3} s", "0")).replace("time = step", 'table = "p.csv"'))
+    r = solve_all(read_deck(deck))[1][-1]
+
+    def step(s):
+        return np.where(s > 0, 1 - np.cos(w * s), 0.0)
+    exact = step(r.t - t1) - step(r.t - t2)
+    assert np.abs(r.u[:, 1, 0] / (100e3 / K_EXACT) - exact).max() < 1e-9
