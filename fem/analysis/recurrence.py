@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 import scipy.linalg as sla
-from scipy.signal import lfilter, lfiltic
+from scipy.signal import lfilter
 
 __all__ = ["integrate_modal", "integrate_modal_steps", "knot_kicks", "recurrence_coefficients"]
 
@@ -92,43 +92,31 @@ def knot_kicks(omega, zeta, dt, n, b, J, S):
 def integrate_modal(omega, zeta, dt, p, q0=None, v0=None, kicks=None):
     """Modal response to loads p (n_steps, k) sampled at t_i = i dt; returns q, v (n_steps, k).
 
-    Each mode's recurrence is run as a second-order IIR filter (scipy.signal.lfilter):
-    q(z)/p(z) = (D + (C - Bp D + B Dp) z^-1 + (B Cp - Bp C) z^-2) / (1 - (A + Bp) z^-1
-    + (A Bp - B Ap) z^-2), plus the free evolution of the initial state corrected for the
-    filter's own start (x0 - [D, Dp] p_0). kicks: optional (dq, dv), each (n_steps, k), added to
-    the state at each step after its update (see knot_kicks); x_i = Phi x_{i-1} + w_i gives
-    q = w_q (1 - Bp z^-1)/a + w_v B z^-1/a and v = w_q Ap z^-1/a + w_v (1 - A z^-1)/a.
+    The recurrence x_i = Phi x_{i-1} + w_i, x = [q, v], Phi = [[A, B], [Ap, Bp]], takes as input
+    w_0 = x_0, w_i = [C, Cp] p_{i-1} + [D, Dp] p_i (+ optional kicks (dq, dv), each (n_steps, k),
+    from knot_kicks). Inverting (I - Phi z^-1) gives, for each mode, one second-order IIR filter
+    per output (scipy.signal.lfilter) with denominator a = 1 - (A + Bp) z^-1 + (A Bp - B Ap) z^-2:
+    q = ((1 - Bp z^-1) w_q + B z^-1 w_v) / a and v = (Ap z^-1 w_q + (1 - A z^-1) w_v) / a.
     """
     c = recurrence_coefficients(omega, zeta, dt)
     p = np.asarray(p, dtype=float)
     n, k = p.shape
-    q0 = np.zeros(k) if q0 is None else np.broadcast_to(np.asarray(q0, float), (k,))
-    v0 = np.zeros(k) if v0 is None else np.broadcast_to(np.asarray(v0, float), (k,))
     A, B, C, D = c["A"], c["B"], c["C"], c["D"]
     Ap, Bp, Cp, Dp = c["Ap"], c["Bp"], c["Cp"], c["Dp"]
+    wq, wv = np.empty((n, k)), np.empty((n, k))
+    wq[0] = 0.0 if q0 is None else q0
+    wv[0] = 0.0 if v0 is None else v0
+    wq[1:] = C * p[:-1] + D * p[1:]
+    wv[1:] = Cp * p[:-1] + Dp * p[1:]
+    if kicks is not None:
+        wq += kicks[0]
+        wv += kicks[1]
+    uq, uv = wq.copy(), wv.copy()              # numerators applied, vectorised over modes
+    uq[1:] += B * wv[:-1] - Bp * wq[:-1]
+    uv[1:] += Ap * wq[:-1] - A * wv[:-1]
     q, v = np.empty((n, k)), np.empty((n, k))
-    xq = q0 - D * p[0]
-    xv = v0 - Dp * p[0]
     for j in range(k):          # loop over modes (tens to hundreds), not over time steps
         a = [1.0, -(A[j] + Bp[j]), A[j] * Bp[j] - B[j] * Ap[j]]
-        bq = [D[j], C[j] - Bp[j] * D[j] + B[j] * Dp[j], B[j] * Cp[j] - Bp[j] * C[j]]
-        bv = [Dp[j], Cp[j] - A[j] * Dp[j] + Ap[j] * D[j], Ap[j] * C[j] - A[j] * Cp[j]]
-        q[:, j] = lfilter(bq, a, p[:, j]) + _free(a, A[j] * xq[j] + B[j] * xv[j], xq[j], n)
-        v[:, j] = lfilter(bv, a, p[:, j]) + _free(a, Ap[j] * xq[j] + Bp[j] * xv[j], xv[j], n)
-        if kicks is not None and (kicks[0][:, j].any() or kicks[1][:, j].any()):
-            wq, wv = kicks[0][:, j], kicks[1][:, j]
-            q[:, j] += lfilter([1.0, -Bp[j]], a, wq) + lfilter([0.0, B[j]], a, wv)
-            v[:, j] += lfilter([0.0, Ap[j]], a, wq) + lfilter([1.0, -A[j]], a, wv)
+        q[:, j] = lfilter([1.0], a, uq[:, j])
+        v[:, j] = lfilter([1.0], a, uv[:, j])
     return q, v
-
-
-def _free(a, y1, y0, n):
-    """Sequence y0, y1, ... of the homogeneous recursion with denominator a."""
-    out = np.empty(n)
-    out[0] = y0
-    if n > 1:
-        out[1] = y1
-    if n > 2:
-        zi = lfiltic([1.0], a, y=[y1, y0])
-        out[2:], _ = lfilter([1.0], a, np.zeros(n - 2), zi=zi)
-    return out
