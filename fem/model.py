@@ -39,6 +39,8 @@ class LoadItem:
     vector: np.ndarray        # (3,) SI, in the axes below
     location: Location | None = None
     axes: str = "global"      # "global", or "local": member x, y, z (line loads only)
+    time: str | None = None   # history cases: the name of the case's time function it follows
+                              # (None: the case's time = ...)
 
 
 @dataclass

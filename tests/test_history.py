@@ -24,6 +24,8 @@ case MODES modes { count = 1 }
 case H history { force B = (100 kN, 0, 0), time = %s, duration = %s, step = %s, damping = %s }
 """
 K_BAR = 200e9 * 3.600457e-3 / 2.0       # EA/L, A from reference-values.md section 4
+# the same from the pipe's area pi (od^2 - id^2) / 4 in full precision, for the checks at round-off
+K_EXACT = 200e9 * np.pi * (0.1683**2 - (0.1683 - 2 * 0.00711)**2) / 4 / 2.0
 
 
 def sdof(time, duration, step, damping="0"):
@@ -41,17 +43,58 @@ def test_step_load_factor_two():
     assert r.peak[1, 0] / (100e3 / K_BAR) == pytest.approx(2.0, abs=1e-4)
 
 
-@pytest.mark.parametrize("shape,td_over_T,rd", [
-    # undamped shock spectra, reference-values.md section 5 (values C; Chopra Ch. 4, Biggs Ch. 2):
-    ("halfsine", 0.5, 1.5708), ("halfsine", 1.0, 1.7321), ("rect", 0.25, 1.4142),
-    ("triangle", 1.0, 1.5085), ("decay", 1.0, 1.5502),
-], ids=["halfsine-0.5", "halfsine-1", "rect-0.25", "triangle-1", "decay-1"])
-def test_pulse_shock_spectrum(shape, td_over_T, rd):
-    # tolerance: the shapes are sampled at T/1000 and integrated exactly as piecewise linear,
-    # so the peak is within ~1e-4 of the continuous value (table printed to 4-5 digits)
+@pytest.mark.parametrize("shape,td_over_T,rd,tol", [
+    # undamped shock spectra, reference-values.md section 5 (values C; Chopra Ch. 4, Biggs Ch. 2),
+    # printed to 4-5 digits: tolerance 3e-4. The rectangle's is the closed form 2 sin(pi td/T)
+    # (Chopra 2017 Sec. 4.7), so its tolerance is that of sampling the peak at T/1000 only:
+    # sqrt(2) (1 - cos(pi/1000)) ~ 7e-6; the pulse's end is integrated exactly
+    ("halfsine", 0.5, 1.5708, 3e-4), ("halfsine", 1.0, 1.7321, 3e-4), ("rect", 0.25, np.sqrt(2), 1e-5),
+    ("rect", 0.1, 2 * np.sin(0.1 * np.pi), 1e-5), ("triangle", 1.0, 1.5085, 3e-4), ("decay", 1.0, 1.5502, 3e-4),
+], ids=["halfsine-0.5", "halfsine-1", "rect-0.25", "rect-0.1", "triangle-1", "decay-1"])
+def test_pulse_shock_spectrum(shape, td_over_T, rd, tol):
+    # the shapes are sampled at T/1000 (a pulse end falls between samples: 0.25 T / (T/1000)
+    # is 250 in exact arithmetic, not in floating point) and integrated exactly as piecewise
+    # linear, with their jumps and kinks exact, so the peak is within ~1e-5 of the continuous value
     T = 2 * np.pi * np.sqrt(1e6 / K_BAR)
     r = sdof(f"{shape}({td_over_T * T} s)", f"{(td_over_T + 1.5) * T} s", f"{T / 1000} s")
-    assert r.peak[1, 0] / (100e3 / K_BAR) == pytest.approx(rd, abs=2.5e-3 if shape == "rect" else 3e-4)
+    assert r.peak[1, 0] / (100e3 / K_BAR) == pytest.approx(rd, abs=tol)
+
+
+def _rect_exact(t, td, w):
+    """Undamped response to a rectangular pulse of length td over the static deflection:
+    1 - cos(w t) while it acts, cos(w (t - td)) - cos(w t) after (Chopra 2017 Sec. 4.7)."""
+    return np.where(t < td, 1 - np.cos(w * t), np.cos(w * (t - td)) - np.cos(w * t))
+
+
+@pytest.mark.parametrize("steps_per_period", [12.3, 37.9, 101.7, 400.0])
+def test_rect_pulse_end_off_the_grid_is_exact_at_any_step(steps_per_period):
+    # a pulse ending between samples: the response at every sample equals the closed form to
+    # round-off, whatever the step (before, the pulse ended with a ramp over the next step,
+    # an error of order dt/T: 3e-2 of the static deflection at T/12); 1e-9 is round-off of
+    # the recurrence over a few hundred steps
+    w = np.sqrt(K_EXACT / 1e6)
+    T = 2 * np.pi / w
+    td = 0.3141 * T
+    r = sdof(f"rect({td} s)", f"{2 * T} s", f"{T / steps_per_period} s")
+    err = np.abs(r.u[:, 1, 0] / (100e3 / K_EXACT) - _rect_exact(r.t, td, w)).max()
+    assert err < 1e-9
+
+
+@pytest.mark.parametrize("shape,exact", [
+    # undamped response over the static deflection to a decaying triangle (jump to 1, linear to 0
+    # at td) and a ramp to 1 over td, by Duhamel's integral of the piecewise-linear load
+    # (Chopra 2017 Sec. 4.5, 4.6): u = sum over the knots of (J (1 - cos w s) + S (s - sin(w s)/w))
+    ("decay", lambda t, td, w: (1 - np.cos(w * t)) - (t - np.sin(w * t) / w) / td
+     + np.where(t > td, (t - td - np.sin(w * (t - td)) / w) / td, 0.0)),
+    ("ramp", lambda t, td, w: (t - np.sin(w * t) / w) / td
+     - np.where(t > td, (t - td - np.sin(w * (t - td)) / w) / td, 0.0)),
+], ids=["decay", "ramp"])
+def test_kinked_shapes_exact_at_a_coarse_step(shape, exact):
+    w = np.sqrt(K_EXACT / 1e6)
+    T = 2 * np.pi / w
+    td = 0.777 * T
+    r = sdof(f"{shape}({td} s)", f"{2 * T} s", f"{T / 13.7} s")
+    assert np.abs(r.u[:, 1, 0] / (100e3 / K_EXACT) - exact(r.t, td, w)).max() < 1e-9
 
 
 FRAME = """
@@ -208,3 +251,161 @@ def test_coarse_step_is_warned_with_the_figure():
     r = sdof("step", f"{3 * T} s", f"{T / 4} s")
     assert r.warnings and "coarse" in r.warnings[0] and f"{T / 10:.3g}" in r.warnings[0]
     assert not sdof("step", f"{T} s", f"{T / 20} s").warnings
+
+
+def test_step_longer_than_table_spacing_is_warned(tmp_path):
+    # a record at 0.005 s read with a 0.01 s step skips every other row: a located warning with
+    # both figures and the step to use; a step equal to the spacing is quiet
+    from fem.deck.reader import read_deck
+    t = np.arange(0, 1.0001, 0.005)
+    (tmp_path / "rec.csv").write_text("".join(f"{x:.3f},{np.sin(40 * x):.6f}\n" for x in t))
+    deck = tmp_path / "d.deck"
+    text = SDOF % ("step", "1 s", "%s", "0")
+    text = text.replace("time = step", 'table = "rec.csv"')
+    deck.write_text(text % "0.01 s")
+    m = read_deck(deck)
+    line = 1 + text.split("\n").index(next(x for x in text.split("\n") if "rec.csv" in x))
+    w = [x for x in m.warnings if "row spacing" in x]
+    assert len(w) == 1
+    assert w[0].startswith(f"d.deck:{line}:")
+    assert "step 0.01 s" in w[0] and "0.005 s row spacing of table 'rec.csv'" in w[0]
+    assert "use step <= 0.005 s" in w[0]
+    deck.write_text(text % "0.005 s")
+    assert not [x for x in read_deck(deck).warnings if "row spacing" in x]
+    # a named table is checked the same way
+    deck.write_text((text % "0.008 s").replace('table = "rec.csv"', 'time = step, table R = "rec.csv"')
+                    .replace("force B = (100 kN, 0, 0)", "force B = (100 kN, 0, 0) times R"))
+    w = [x for x in read_deck(deck).warnings if "row spacing" in x]
+    assert len(w) == 1 and "step 0.008 s" in w[0] and "table 'rec.csv'" in w[0]
+
+
+TWO = """
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+for i in 0..4 { node N[i] = (0, 0, i*1.5 m) }
+for i in 0..3 { member M[i] : N[i] -> N[i+1] beam P S }
+node H = (1.5 m, 0, 6 m)
+member ARM : N4 -> H beam P S
+support N0 fixed
+mass H = 400 kg
+case MODES modes { count = 6 }
+case H1 history { %s
+                  duration = 0.6 s, step = 0.0017 s, damping = 2 percent, record = "*" %s }
+"""
+
+
+@pytest.mark.parametrize("correction", ["", ", correction = on"], ids=["modal", "corrected"])
+def test_two_loads_with_two_functions_equal_the_sum_of_single_runs(correction):
+    # superposition (the equations are linear): a machine force at N2 following a harmonic and
+    # an impact at H following a short half-sine, in one case, equal the two single-load runs
+    # added, at every node and time (displacement, velocity, absolute acceleration); the pulse
+    # end (0.0235 s) falls between steps. Round-off tolerance.
+    both = """time HUM = harmonic(24.5 Hz), time KNOCK = halfsine(0.0235 s)
+              force N2 = (0, 1.2 kN, 0) times HUM
+              force H = (-8 kN, 0, 3 kN) times KNOCK"""
+    r = solve_all(read_text(TWO % (both, correction)))[1][-1]
+    a = solve_all(read_text(TWO % ("force N2 = (0, 1.2 kN, 0), time = harmonic(24.5 Hz)", correction)))[1][-1]
+    b = solve_all(read_text(TWO % ("force H = (-8 kN, 0, 3 kN), time = halfsine(0.0235 s)", correction)))[1][-1]
+    for x in ("u", "v", "a", "frames"):
+        ref = getattr(a, x) + getattr(b, x)
+        np.testing.assert_allclose(getattr(r, x), ref, atol=1e-12 * np.abs(ref).max(), err_msg=x)
+    assert np.abs(a.u).max() > 0 and np.abs(b.u).max() > 0
+    # peaks of member end forces and reactions (each function's static part included) equal
+    # those of the forces recovered from the recorded displacements of every node (no loads sit
+    # at supports and there are no line loads, so end forces are k u alone); round-off
+    from fem.analysis.modal_case import field_responses
+    m = read_text(TWO % (both, correction))
+    rf, mf = field_responses(m, assemble(m), r.u.reshape(len(r.t), -1))
+    np.testing.assert_allclose(r.member_peak, np.abs(mf).max(axis=0), atol=1e-10 * r.member_peak.max())
+    np.testing.assert_allclose(r.reaction_peak, np.abs(rf).max(axis=0), atol=1e-10 * r.reaction_peak.max())
+    # the peak envelopes lie within the sum of the single runs' envelopes (triangle inequality)
+    assert np.all(r.peak <= a.peak + b.peak + 1e-12 * r.peak.max())
+    assert np.all(r.member_peak <= a.member_peak + b.member_peak + 1e-9 * r.member_peak.max())
+
+
+def test_two_direction_ground_motion_equals_the_sum_of_single_directions(tmp_path):
+    # X from one record, Y from another, each with its own scale, equals the two single-direction
+    # runs added (linearity); the records' rows (0.002 s) are finer than no step, so no warning
+    from fem.deck.reader import read_deck
+    t = np.arange(0, 0.6001, 0.002)
+    (tmp_path / "ew.csv").write_text("".join(f"{x:.4f},{np.sin(31 * x) * np.exp(-3 * x):.6f}\n" for x in t))
+    (tmp_path / "ns.csv").write_text("".join(f"{x:.4f},{np.cos(47 * x) * x:.6f}\n" for x in t))
+
+    def run(body):
+        deck = tmp_path / "g.deck"
+        deck.write_text(TWO.replace("step = 0.0017 s", "step = 0.002 s") % (body, ""))
+        m = read_deck(deck)
+        assert not [w for w in m.warnings if "row spacing" in w]
+        return solve_all(m)[1][-1]
+
+    r = run('''table EW = "ew.csv", table NS = "ns.csv"
+               ground = (0.3 gee, 0, 0) times EW
+               ground = (0, 0.2 gee, 0) times NS''')
+    a = run('ground = (0.3 gee, 0, 0), table = "ew.csv"')
+    b = run('ground = (0, 0.2 gee, 0), table = "ns.csv"')
+    for x in ("u", "v", "a"):
+        ref = getattr(a, x) + getattr(b, x)
+        np.testing.assert_allclose(getattr(r, x), ref, atol=1e-12 * np.abs(ref).max(), err_msg=x)
+    assert np.abs(a.u[:, :, 0]).max() > 0 and np.abs(b.u[:, :, 1]).max() > 0
+
+
+def test_named_function_equals_the_case_function():
+    # the old form (one time = ... for the case) and a named function give the same run
+    old = solve_all(read_text(TWO % ("force H = (-8 kN, 0, 3 kN), time = rect(0.05 s)", "")))[1][-1]
+    new = solve_all(read_text(TWO % ("time P = rect(0.05 s), force H = (-8 kN, 0, 3 kN) times P", "")))[1][-1]
+    np.testing.assert_array_equal(new.u, old.u)
+    np.testing.assert_array_equal(new.member_peak, old.member_peak)
+
+
+@pytest.mark.parametrize("body,message,where", [
+    ("time KNOCK = halfsine(0.02 s), force H = (1 kN, 0, 0) times KNOK",
+     r"case H1: force follows time function 'KNOK', which is not defined in the case; did you mean 'KNOCK'\?",
+     "KNOK"),
+    ("time KNOCK = halfsine(0.02 s), ground = (0.1 gee, 0, 0) times QUAKE",
+     r"ground follows time function 'QUAKE', which is not defined.*defined: KNOCK", "QUAKE"),
+    ("time K = step, force H = (1 kN, 0, 0)", r"this force has no time function", "force H"),
+    ("time K = step, time K = rect(1 s), force H = (1 kN, 0, 0) times K", r"time function K is defined twice",
+     "time K = rect"),
+    ("time K = halfsin(1 s), force H = (1 kN, 0, 0) times K", r"unknown time function 'halfsin'.*halfsine",
+     "time K = halfsin"),
+    ("time = step, table = \"x.csv\", force H = (1 kN, 0, 0)", r"give time = \.\.\. or table = \.\.\., not both",
+     "table ="),
+], ids=["unknown-load-function", "unknown-ground-function", "no-function", "twice", "bad-shape", "time-and-table"])
+def test_per_load_function_errors_are_located(body, message, where):
+    text = TWO % (body, "")
+    with pytest.raises(DeckError, match=message) as exc:
+        read_text(text)
+    line = next(k for k, x in enumerate(text.split("\n"), 1) if where in x)
+    assert exc.value.location.line == line
+    assert exc.value.location.column == text.split("\n")[line - 1].index(where) + 1
+
+
+def test_times_outside_a_history_case_is_refused():
+    with pytest.raises(DeckError, match="'times K' is for the loads of a history case"):
+        read_text(TWO.replace("case H1 history {", "case S static { force H = (1 kN, 0, 0) times K }\ncase H2 history {")
+                  % ("force H = (1 kN, 0, 0), time = step", ""))
+
+
+def test_unused_time_function_is_warned():
+    m = read_text(TWO % ("time = step, time SPARE = rect(0.1 s), force H = (1 kN, 0, 0)", ""))
+    w = [x for x in m.warnings if "SPARE" in x]
+    assert len(w) == 1 and w[0].startswith("deck.deck:11:") and "no load or ground follows it" in w[0]
+
+
+def test_table_pulse_with_ends_between_steps_is_exact(tmp_path):
+    # a table holding 1 from t1 to t2 (both between steps) is a rectangular pulse starting late:
+    # u/u_st = H(t - t1)(1 - cos w(t - t1)) - H(t - t2)(1 - cos w(t - t2)) (Chopra 2017 Sec. 4.7,
+    # by superposition of two step loads), at round-off whatever the step
+    from fem.deck.reader import read_deck
+    w = np.sqrt(K_EXACT / 1e6)
+    T = 2 * np.pi / w
+    t1, t2 = 0.1234 * T, 0.4321 * T
+    (tmp_path / "p.csv").write_text(f"{t1:.17g},1\n{t2:.17g},1\n")
+    deck = tmp_path / "d.deck"
+    deck.write_text((SDOF % ("step", f"{2 * T} s", f"{T / 17.3} s", "0")).replace("time = step", 'table = "p.csv"'))
+    r = solve_all(read_deck(deck))[1][-1]
+
+    def step(s):
+        return np.where(s > 0, 1 - np.cos(w * s), 0.0)
+    exact = step(r.t - t1) - step(r.t - t2)
+    assert np.abs(r.u[:, 1, 0] / (100e3 / K_EXACT) - exact).max() < 1e-9

@@ -116,3 +116,42 @@ def test_modal_ratios_rules():
     np.testing.assert_allclose(modal_ratios(w, [0.02, 0.03]), [0.02, 0.03, 0.03, 0.03])
     # Rayleigh anchored at 1 and 5 Hz with 5 %: reference-values.md section 8 table (2 Hz: 0.0375)
     np.testing.assert_allclose(modal_ratios(w, rayleigh=(1, 0.05, 5, 0.05))[:3], [0.05, 0.0375, 0.05], rtol=1e-12)
+
+
+def test_knot_kicks_make_jumps_and_kinks_exact():
+    # a load 0.4 up to 1.234 (between samples), then jumping to 2 and falling at 0.5 per s up to
+    # 3.0 (on a sample: 60 dt), then 0: the recurrence on its samples plus the knot kicks
+    # against solve_ivp run piece by piece between the knots (rtol 1e-11), for rigid, light,
+    # moderate and overdamped modes; the filter form equals the step loop (round-off)
+    from scipy.integrate import solve_ivp
+
+    from fem.analysis.recurrence import integrate_modal, integrate_modal_steps, knot_kicks
+    w = np.array([0.0, 1.3, 7.0, 30.0])
+    z = np.array([0.0, 0.02, 0.1, 1.5])
+    dt, n = 0.05, 120
+    t = np.arange(n) * dt
+    b, J, S = [1.234, 3.0], [1.6, -(2 - 0.5 * 1.766)], [-0.5, 0.5]
+
+    def load(tt):
+        return 0.4 if tt < 1.234 else (2 - 0.5 * (tt - 1.234) if tt < 3.0 else 0.0)
+
+    p = np.outer([load(x) for x in t], np.ones(4))       # values just after each sample
+    kicks = knot_kicks(w, z, dt, n, b, J, S)
+    q, v = integrate_modal(w, z, dt, p, kicks=kicks)
+    qs, vs = integrate_modal_steps(w, z, dt, p, kicks=kicks)
+    np.testing.assert_allclose(q, qs, atol=1e-10 * np.abs(qs).max())
+    np.testing.assert_allclose(v, vs, atol=1e-10 * np.abs(vs).max())
+    for j in range(4):
+        y, out = [0.0, 0.0], []
+        for lo, hi in [(0, 1.234), (1.234, 3.0), (3.0, t[-1])]:
+            def rhs(tt, yy, lo=lo, hi=hi):      # the load inside this piece only
+                return [yy[1], load(min(max(tt, lo + 1e-12), hi - 1e-12)) - 2 * z[j] * w[j] * yy[1] - w[j] ** 2 * yy[0]]
+            ev = t[(t >= lo) & ((t < hi) | (hi == t[-1]))]
+            sol = solve_ivp(rhs, (lo, hi), y, t_eval=ev, rtol=1e-11, atol=1e-13, dense_output=True)
+            out.append(sol.y[0])
+            y = sol.sol(hi)
+        ref = np.concatenate(out)
+        np.testing.assert_allclose(q[:, j], ref, atol=1e-8 * max(1.0, np.abs(ref).max()))
+    # without the kicks the same samples miss the jump between them
+    q_plain, _ = integrate_modal(w, z, dt, p)
+    assert np.abs(q_plain[:, 2] - q[:, 2]).max() > 1e-4 * np.abs(q[:, 2]).max()

@@ -61,15 +61,19 @@ def test_nodal_loads_stay_finite_on_repeat():
             assert np.isfinite(f).all()
 
 
-def test_mast_deck_runs_with_passing_checks(tmp_path):
+def test_mast_deck_runs_with_passing_checks(tmp_path, capsys):
     deck = Path(__file__).parents[1] / "decks" / "mast.deck"
     assert main(["run", str(deck), "--out", str(tmp_path / "m"), "--no-render"]) == 0
+    assert "coarse" not in capsys.readouterr().out
     doc = json.loads((tmp_path / "m" / "results.json").read_text())
     modal = next(c for c in doc["cases"] if c["kind"] == "modes")
     # a triangular mast is symmetric about its axis: the two first bending modes share a
     # frequency (physical fact for 3-fold symmetry); tolerance from round-off of the solve
     f = modal["frequency_Hz"]
     assert abs(f[0] - f[1]) < 1e-8 * f[0]
+    # the demo's release step is under a tenth of the highest retained mode's period
+    free = next(c for c in doc["cases"] if c["kind"] == "free")
+    assert free["checks"]["warnings"] == []
 
 
 def test_interrupted_run_keeps_previous_results(tmp_path, monkeypatch, capsys):

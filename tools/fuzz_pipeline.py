@@ -71,6 +71,7 @@ case REL free { start = WIND, duration = 2 s, step = 0.005 s, damping = 2 percen
 case KICK free { velocity TIP = (0.1 m/s, 0, 0), duration = 1 s, step = 0.01 s }
 case SURGE history { force B1 = (5 kN, 0, 0), time = halfsine(0.2 s), duration = 2 s, step = 0.002 s, damping = 3 percent, correction = on, record = "B1" }
 case QUAKE history { ground = (0.2 gee, 0, 0), table = "ground.csv", duration = 3 s, step = 0.005 s, damping = 5 percent }
+case MIXED history { time HUM = harmonic(9 Hz), time HIT = rect(0.013 s), force B1 = (2 kN, 0, 0) times HUM, force TIP = (0, 0, -1 kN) times HIT, ground = (0, 0.05 gee, 0) times HIT, duration = 1 s, step = 0.004 s }
 case PUMP harmonic { force B2 = (0, 1 kN, 0), from = 1 Hz, to = 40 Hz, points = 60, damping = 2 percent, correction = on }
 case SHAKE harmonic { ground = (0, 0.1 gee, 0), from = 0.5 Hz, to = 30 Hz, points = 40, spacing = log, rayleigh = (2 Hz, 2 percent, 20 Hz, 3 percent) }
 case SEISMIC spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (1, 1, 0.3), missing = on }
@@ -286,6 +287,7 @@ MUTATIONS = [
     _sub_value("correction", ["on", "off"]),
     _sub_value("record", ['"A0"', '"TIP"', '"*"']),
     _sub_value("time", ["step", "ramp(1e-9 s)", "harmonic(1e4 Hz)", "rect(100 s)", "decay(1e-3 s)"]),
+    _sub_value("time HIT", ["rect(1e-9 s)", "rect(0.004 s)", "decay(0.004000000001 s)", "halfsine(100 s)", "step"]),
     _sub_value("curve", ["twoperiod(1 gee, 0.4 gee, 4 s)", "plateau(1e-9 gee, 1, 1e-6 s, 2e-6 s, 3e-6 s)",
                          "plateau(0.3 gee, 1, 10 s, 20 s, 30 s)"]),
     _sub_value("target", ["(100 percent, 100 percent, 100 percent)", "(0, 0, 0)", "(99.9 percent, 0, 0)"]),

@@ -1,10 +1,10 @@
-"""A `history` case: force loads or ground acceleration times a time function, by modal
-superposition with the exact piecewise-linear recurrence; optional static correction of the
+"""A `history` case: force loads or ground acceleration times time functions, by modal
+superposition with the exact piecewise-linear recurrence (jumps and kinks exact); optional static correction of the
 truncated modes for force loads (mode-acceleration method, Cornwell, Craig & Johnson 1983)."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -14,7 +14,7 @@ from .damping import case_ratios
 from .free_case import animation_frames, peaks, step_warnings
 from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
 from .static import load_vector
-from .recurrence import integrate_modal
+from .recurrence import integrate_modal, knot_kicks
 
 __all__ = ["HistoryResult", "solve_history_case"]
 
@@ -42,52 +42,84 @@ class HistoryResult:
     warnings: tuple = ()
 
 
+def _groups(case: LoadCase) -> list:
+    """The case's loads and ground accelerations grouped by the time function that scales them:
+    [(TimeFunction, sub-case with those loads, ground (3,) m/s^2 or None)]. Loads and a
+    `ground = ...` without their own function follow the case's `time` (gravity too)."""
+    opt = case.options
+    functions = {None: opt.get("time"), **opt.get("functions", {})}
+    loads, ground = {}, {}
+    for item in case.loads:
+        loads.setdefault(getattr(item, "time", None), []).append(item)
+    if opt.get("ground") is not None:
+        ground[None] = np.asarray(opt["ground"], float)
+    for vec, name in opt.get("grounds", ()):
+        ground[name] = ground.get(name, 0.0) + np.asarray(vec, float)
+    names = sorted(set(loads) | set(ground) | ({None} if case.gravity is not None else set()),
+                   key=lambda x: "" if x is None else str(x))
+    return [(functions[k], replace(case, loads=loads.get(k, []), gravity=case.gravity if k is None else None),
+             ground.get(k)) for k in names]
+
+
 def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
                        lu=None) -> HistoryResult:
+    """Each group of loads with its own time function g_l adds its modal load
+    phi^T F_l g_l(t) (superposition); the jumps and kinks of each g_l are integrated exactly."""
     opt = case.options
     n6 = 6 * model.n_nodes
     f = asm.free
     dt = opt["step"]
     t = np.arange(0.0, opt["duration"] + 0.5 * dt, dt)
-    g = opt["time"](t)                                       # (m,)
-    ground = opt.get("ground")
-    F_eff = effective_load(model, asm, case, ground)
+    n = len(t)
     phi, omega = modal.modes.phi, modal.modes.omega
     zeta = case_ratios(case, omega, below_one=True)
-    pk = phi.T @ F_eff[f]                                    # (k,) modal load amplitudes
-    P = g[:, None] * pk[None, :]
-    q, v = integrate_modal(omega, zeta, dt, P)
-    acc = P - 2 * zeta * omega * v - omega**2 * q            # modal relative accelerations
     shapes = modal.shapes.reshape(n6, -1)
-    static = residual_static(F_eff, asm, lu, shapes, omega, pk) if opt.get("correction") else None
-    peak, peak_t = peaks(q, shapes, t, static, g)
-    # reactions and member end forces: per mode, then superposed in time (+ static part, minus
-    # the applied loads at supports and the members' fixed-end forces, which follow g(t))
-    Rm, Fm = field_responses(model, asm, shapes.T)
-    F_only = load_vector(model, asm, case)[0] if case.loads else np.zeros(n6)
-    fe = load_vector(model, asm, case)[1] if case.loads else np.zeros((model.n_members, 12))
+    k = len(omega)
     fixed = np.zeros(n6, bool)
     fixed[asm.fixed] = True
-    r_static = -np.where(fixed, F_only, 0.0)
-    m_static = -fe.ravel()
-    if static is not None:
+    P = np.zeros((n, k))
+    kq, kv = np.zeros((n, k)), np.zeros((n, k))
+    G, statics, r_statics, m_statics = [], [], [], []
+    a_ground = np.zeros((n, 3))
+    corrected = bool(opt.get("correction"))
+    for fn, sub, ground in _groups(case):
+        g = fn(t)                                            # (m,) values just after each t_i
+        F_eff = effective_load(model, asm, sub, ground)
+        pk = phi.T @ F_eff[f]                                # (k,) modal load amplitudes
+        P += g[:, None] * pk[None, :]
+        dq, dv = knot_kicks(omega, zeta, dt, n, *fn.knots())
+        kq += dq * pk
+        kv += dv * pk
+        if ground is not None:
+            a_ground += g[:, None] * ground[None, :]
+        # reactions and member end forces follow g(t) beside the modes: the static correction's,
+        # minus the applied loads at supports and the members' fixed-end forces
+        F_only, fe = load_vector(model, asm, sub) if (sub.loads or sub.gravity is not None) else \
+            (np.zeros(n6), np.zeros((model.n_members, 12)))
+        static = residual_static(F_eff, asm, lu, shapes, omega, pk) if corrected else np.zeros(n6)
         Rs, Fs = field_responses(model, asm, static[None])
-        r_static = r_static + Rs.ravel()
-        m_static = m_static + Fs.ravel()
-    r_peak, _ = peaks(q, Rm.reshape(len(omega), -1).T, t, r_static, g)
-    m_peak, _ = peaks(q, Fm.reshape(len(omega), -1).T, t, m_static, g)
+        G.append(g)
+        statics.append(static)
+        r_statics.append(Rs.ravel() - np.where(fixed, F_only, 0.0))
+        m_statics.append(Fs.ravel() - fe.ravel())
+    q, v = integrate_modal(omega, zeta, dt, P, kicks=(kq, kv))
+    acc = P - 2 * zeta * omega * v - omega**2 * q            # modal relative accelerations
+    # the parts that follow each g_l(t) join the modes as extra columns: (m, k + l) histories
+    qg = np.hstack([q, np.array(G).T])
+    Rm, Fm = field_responses(model, asm, shapes.T)
+    peak, peak_t = peaks(qg, np.hstack([shapes, np.array(statics).T]), t)
+    r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, np.array(r_statics).T]), t)
+    m_peak, _ = peaks(qg, np.hstack([Fm.reshape(k, -1).T, np.array(m_statics).T]), t)
     record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
+    full = np.concatenate([modal.shapes, np.array(statics).T.reshape(model.n_nodes, 6, -1)], axis=2)
     sel = modal.shapes[record]                               # (r, 6, k)
-    u = np.einsum("tk,rdk->trd", q, sel)
+    u = np.einsum("tk,rdk->trd", qg, full[record])
     vel = np.einsum("tk,rdk->trd", v, sel)
     a = np.einsum("tk,rdk->trd", acc, sel)
-    if static is not None:
-        u += g[:, None, None] * static.reshape(-1, 6)[record][None]
-    if ground is not None:
-        a[:, :, :3] += g[:, None, None] * ground[None, None, :]
+    a[:, :, :3] += a_ground[:, None, :]
     warnings = step_warnings(dt, omega, "the load and the output are",
                              "each step is integrated exactly for a linear load")
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
-                         peak_t.reshape(-1, 6), zeta, bool(static is not None),
+                         peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                         *animation_frames(t, q, modal.shapes, static, g), warnings)
+                         *animation_frames(t, qg, full), warnings)

@@ -868,6 +868,7 @@ class _Reader:
         self.assumed = assumed             # the assumes in force where the case is written
         case = LoadCase(name, kind, location=where)
         seen = set()
+        functions, timed = [], []     # a history case's named time functions, ground = (..) times F
         for it in items:
             if it.data == "option":
                 key, val = str(it.children[0]), it.children[1]
@@ -877,8 +878,21 @@ class _Reader:
                 else:
                     case.options[key] = (val, self.loc(it))
                 continue
-            kindname, target, val = it.children
+            if it.data == "timed":
+                key, val, fn = it.children
+                if kind != "history" or str(key) != "ground":
+                    raise DeckError(f"case {name}: '{key} = ... times {fn}' is not available here; a time function "
+                                    "scales the loads and ground accelerations of a history case", self.loc(it))
+                timed.append((val, str(fn), self.loc(fn), self.loc(it)))
+                continue
+            kindname, target, val, fn = it.children
             kindname = str(kindname)
+            if kind == "history" and kindname in ("time", "table"):
+                functions.append((kindname, self.name(target), val, self.loc(it)))
+                continue
+            if fn is not None and kind != "history":
+                raise DeckError(f"case {name}: 'times {fn}' is for the loads of a history case; a {kind} case "
+                                "has none", self.loc(fn))
             spec = {"force": (U.FORCE, nidx, "node"), "moment": (U.MOMENT, nidx, "node"),
                     "line": ((1, 0, -2), midx, "member")}
             if kind in ("history", "harmonic"):
@@ -891,13 +905,14 @@ class _Reader:
             dim, table, what = spec[kindname]
             names = self.targets(target, table, what)
             vec, axes = self.load_value(val, dim, f"case {name}: {kindname}", member=kindname == "line")
-            case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it), axes))
+            case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it), axes,
+                                       None if fn is None else (str(fn), self.loc(fn))))
         if kind == "modes":
             self.modes_options(case)
         elif kind == "free":
             self.free_options(case, nidx)
         elif kind == "history":
-            self.history_options(case, nidx)
+            self.history_options(case, nidx, functions, timed)
         elif kind == "harmonic":
             self.harmonic_options(case, nidx)
         elif kind == "spectrum":
@@ -928,38 +943,52 @@ class _Reader:
                             f"found {len(args)}", where, "e.g. local(0, 0, -2 kN/m)")
         return np.array([self.value(a, dim, what) for a in args]), "local"
 
-    def history_options(self, case: LoadCase, nidx) -> None:
-        """Options of a time-history case: the free-case options plus time, table, ground,
-        correction."""
+    def time_function(self, key: str, val, where, what: str):
+        """A time function from `time = shape(...)` or `table = "file.csv"`: (TimeFunction, the
+        table's file name or None)."""
         from ..analysis.timefn import SHAPES, TimeFunction
 
+        if key == "table":
+            if not (isinstance(val, Token) and val.type == "STRING"):
+                raise DeckError(f'{what} is a quoted CSV file name, e.g. table = "record.csv"', where)
+            base = self.token_file.get(id(val)) or self.stack[-1]
+            return TimeFunction("table", table=self.read_table(str(val)[1:-1], where, base)), str(val)[1:-1]
+        if isinstance(val, Tree) and val.data == "var":
+            name, args = str(val.children[0]), []
+        elif isinstance(val, Tree) and val.data == "call":
+            name, args = str(val.children[0]), val.children[1:]
+        else:
+            raise DeckError(f"{what} is a shape like halfsine(0.2 s) or step", where)
+        if name not in SHAPES:
+            raise DeckError(f"{what}: unknown time function '{name}'; {suggest(name, SHAPES)}", where)
+        if len(args) != SHAPES[name]:
+            raise DeckError(f"{what}: {name} takes {SHAPES[name]} value(s)", where)
+        param = 0.0
+        if args:
+            dim = U.FREQ if name == "harmonic" else U.TIME
+            param = self.value(args[0], dim, what)
+            if param <= 0:
+                raise DeckError(f"{what}: the {name} parameter must be positive", where)
+        return TimeFunction(name, param), None
+
+    def history_options(self, case: LoadCase, nidx, functions=(), timed=()) -> None:
+        """Options of a time-history case: the free-case options plus time, table, ground,
+        correction; `functions` the named time functions (kind, name, value, location) and
+        `timed` the ground accelerations with their own function (value, name, name's location,
+        location)."""
         extra = {}
         rest = {}
+        tables = []                   # (function, file, location) of the tables the case reads
         for key, (val, where) in case.options.items():
             what = f"case {case.name}: {key}"
-            if key == "time":
-                if isinstance(val, Tree) and val.data == "var":
-                    name, args = str(val.children[0]), []
-                elif isinstance(val, Tree) and val.data == "call":
-                    name, args = str(val.children[0]), val.children[1:]
-                else:
-                    raise DeckError(f"{what} is a shape like halfsine(0.2 s) or step", where)
-                if name not in SHAPES:
-                    raise DeckError(f"{what}: unknown time function '{name}'; {suggest(name, SHAPES)}", where)
-                if len(args) != SHAPES[name]:
-                    raise DeckError(f"{what}: {name} takes {SHAPES[name]} value(s)", where)
-                param = 0.0
-                if args:
-                    dim = U.FREQ if name == "harmonic" else U.TIME
-                    param = self.value(args[0], dim, what)
-                    if param <= 0:
-                        raise DeckError(f"{what}: the {name} parameter must be positive", where)
-                extra["time"] = TimeFunction(name, param)
-            elif key == "table":
-                if not (isinstance(val, Token) and val.type == "STRING"):
-                    raise DeckError(f'{what} is a quoted CSV file name, e.g. table = "record.csv"', where)
-                base = self.token_file.get(id(val)) or self.stack[-1]
-                extra["time"] = TimeFunction("table", table=self.read_table(str(val)[1:-1], where, base))
+            if key in ("time", "table"):
+                if "time" in extra:
+                    raise DeckError(f"case {case.name}: give time = ... or table = ..., not both", where,
+                                    "name further functions, e.g. time KNOCK = halfsine(0.02 s), and use "
+                                    "them with 'times KNOCK' after a load")
+                extra["time"], rel = self.time_function(key, val, where, what)
+                if rel is not None:
+                    tables.append((extra["time"], rel, where))
             elif key == "ground":
                 extra["ground"] = self.vector(val, U.ACCEL, what)
             elif key == "correction":
@@ -969,17 +998,71 @@ class _Reader:
                 extra["correction"] = word == "on"
             else:
                 rest[key] = (val, where)
+        named, first = {}, {}
+        for kindname, fname, val, where in functions:
+            if fname in named:
+                raise DeckError(f"case {case.name}: time function {fname} is defined twice; the first is at "
+                                f"{first[fname]}", where)
+            named[fname], rel = self.time_function(kindname, val, where, f"case {case.name}: {kindname} {fname}")
+            first[fname] = where
+            if rel is not None:
+                tables.append((named[fname], rel, where))
+
+        def known(fname, where, what):
+            if fname not in named:
+                hint = suggest(fname, named) if named else "this case names none"
+                raise DeckError(f"case {case.name}: {what} follows time function '{fname}', which is not defined "
+                                f"in the case; {hint}", where,
+                                f"define it in the case, e.g. time {fname} = halfsine(0.05 s) or "
+                                f'table {fname} = "record.csv"')
+            return fname
+
+        grounds = [(self.vector(val, U.ACCEL, f"case {case.name}: ground"), known(fname, floc, "ground"))
+                   for val, fname, floc, _ in timed]
+        for item in case.loads:
+            if item.time is not None:
+                item.time = known(*item.time, item.kind)
+            elif "time" not in extra:
+                raise DeckError(f"case {case.name}: this {item.kind} has no time function", item.location,
+                                "add 'times NAME' after it, with NAME defined in the case (time NAME = ...), "
+                                "or give the case one time = shape(...) for all such loads")
         case.options = rest
         self.free_options(case, nidx, history=True)
         case.options.update(extra)
-        if "time" not in case.options:
+        case.options["functions"] = named
+        case.options["grounds"] = grounds
+        if "ground" in extra and "time" not in extra:
+            raise DeckError(f"case {case.name}: ground = ... needs the case's time = shape(...) or "
+                            "table = \"file.csv\", or its own function: ground = (...) times NAME", case.location)
+        if case.gravity is not None and "time" not in case.options:
+            raise DeckError(f"case {case.name}: gravity follows the case's time = shape(...); give one",
+                            case.location)
+        if "time" not in case.options and not named:
             raise DeckError(f"case {case.name}: a history case needs time = shape(...) or table = \"file.csv\"",
                             case.location)
-        if not case.loads and "ground" not in case.options:
+        if not case.loads and "ground" not in case.options and not grounds:
             raise DeckError(f"case {case.name}: give loads or a ground acceleration", case.location)
-        if case.options.get("correction") and "ground" in case.options:
+        if case.options.get("correction") and ("ground" in case.options or grounds):
             raise DeckError(f"case {case.name}: the static correction applies to force loads only",
                             case.location)
+        used = {item.time for item in case.loads} | {name for _, name in grounds}
+        for fname in named:
+            if fname not in used:
+                self.warnings.append(f"{first[fname]}: warning: case {case.name}: time function {fname} is defined "
+                                     f"but no load or ground follows it; add 'times {fname}' after one, or remove it")
+        self.table_step_warnings(case, tables)
+
+    def table_step_warnings(self, case: LoadCase, tables) -> None:
+        """Warn when a history case's step is longer than the row spacing of a table it reads:
+        the load is read at the steps, so the rows between them are skipped."""
+        dt = case.options["step"]
+        for fn, rel, where in tables:
+            h = fn.spacing()
+            if dt > h * (1 + 1e-9):
+                self.warnings.append(
+                    f"{where}: warning: case {case.name}: step {dt:.3g} s is longer than the {h:.3g} s row "
+                    f"spacing of table '{rel}', so rows between steps are skipped (the load is read at the "
+                    f"steps only); use step <= {h:.3g} s")
 
     def harmonic_options(self, case: LoadCase, nidx) -> None:
         """Options of a harmonic sweep: from, to, points, spacing, ground, correction, damping,
