@@ -158,7 +158,8 @@ def modal_checks(r) -> dict:
                 "warnings": list(r.warnings)}
     if isinstance(r, HarmonicResult):
         return {"static_correction": r.corrected, "highest_mode_Hz": r.highest_mode_Hz,
-                "modes_cover_band": bool(r.highest_mode_Hz >= r.freq[-1]), "warnings": list(r.warnings)}
+                "modes_complete_to_Hz": r.modes_complete_Hz if np.isfinite(r.modes_complete_Hz) else None,
+                "modes_cover_band": bool(r.modes_complete_Hz >= r.freq[-1]), "warnings": list(r.warnings)}
     if isinstance(r, HistoryResult):
         return {"static_correction": r.corrected, "warnings": list(r.warnings)}
     if isinstance(r, FreeCaseResult):
@@ -583,9 +584,9 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             k = np.unravel_index(np.abs(r.peak[:, :3]).argmax(), r.peak[:, :3].shape)
             print(f"  {r.name:<12} harmonic sweep {r.freq[0]:.4g}-{r.freq[-1]:.4g} Hz, {len(r.freq)} "
                   f"frequencies; peak amplitude {r.peak[k]:.4g} m at {r.peak_freq[k]:.4g} Hz")
-            if r.highest_mode_Hz < r.freq[-1]:
-                print(f"               warning: the highest retained mode is {r.highest_mode_Hz:.4g} Hz, "
-                      f"below the top of the sweep; ask for more modes"
+            if r.modes_complete_Hz < r.freq[-1]:
+                print(f"               warning: the retained modes are complete only up to "
+                      f"{r.modes_complete_Hz:.4g} Hz, below the top of the sweep; ask for more modes"
                       + (" (static correction on)" if r.corrected else " or set correction = on"))
             for w in r.warnings:
                 print(f"               {w}")

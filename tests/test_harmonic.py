@@ -235,3 +235,32 @@ def test_end_force_table_beyond_the_row_limit_is_warned_not_written(tmp_path, mo
     _write(m, results, modal, tmp_path)
     assert (tmp_path / "frf_reactions_F.csv").exists()
     assert not (tmp_path / "frf_member_forces_F.csv").exists()
+
+
+def test_modes_complete_to_the_sturm_shift(capsys, tmp_path):
+    # A modes case that asked for every mode below 50 Hz keeps six (the sixth at 26.5 Hz, the
+    # seventh at 71.3 Hz): the Sturm count at the shift between them proves no mode is missing
+    # below sqrt((l6 + l7) / 2) / 2 pi, so a sweep to 40 Hz is covered and is not warned about;
+    # four modes (the fifth at 25.7 Hz) leave it uncovered. All 30 modes cover any sweep.
+    # Eigenvalues for the check from scipy.linalg.eigh on the assembled matrices.
+    import scipy.linalg as sla
+    from fem.run import run_deck
+
+    deck = FRAME.replace("to = 60 Hz", "to = 40 Hz")
+    m = read_text(deck % (30, ""))
+    asm = assemble(m)
+    f = asm.free
+    lam = sla.eigh(asm.K[f][:, f].toarray(), asm.M[f][:, f].toarray(), eigvals_only=True)
+    fmax = deck.replace("count = %d", "fmax = 50 Hz") % ("",)
+    h = solve_all(read_text(fmax))[1][-1]
+    assert len(h.zeta) == 6
+    assert h.modes_complete_Hz == pytest.approx(np.sqrt(0.5 * (lam[5] + lam[6])) / (2 * np.pi), rel=1e-9)
+    (tmp_path / "a.deck").write_text(fmax)
+    run_deck(str(tmp_path / "a.deck"), str(tmp_path / "a"), render=False)
+    assert "complete only up to" not in capsys.readouterr().out
+    h4 = solve_all(read_text(deck % (4, "")))[1][-1]
+    assert h4.modes_complete_Hz == pytest.approx(np.sqrt(0.5 * (lam[3] + lam[4])) / (2 * np.pi), rel=1e-9)
+    (tmp_path / "b.deck").write_text(deck % (4, ""))
+    run_deck(str(tmp_path / "b.deck"), str(tmp_path / "b"), render=False)
+    assert "complete only up to 19" in capsys.readouterr().out
+    assert solve_all(read_text(deck % (30, "")))[1][-1].modes_complete_Hz == np.inf

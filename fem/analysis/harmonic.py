@@ -55,6 +55,7 @@ class HarmonicResult:
     members: np.ndarray = None          # (q,) members with an end at a recorded node
     member_forces: np.ndarray = None    # (m, q, 12) complex end-force amplitudes, local axes; None if too many rows
     warnings: tuple = ()
+    modes_complete_Hz: float = None     # no mode is missing below this frequency (Sturm check)
 
 
 def lag_degrees(X, floor: float = 0.0) -> np.ndarray:
@@ -159,4 +160,19 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           r_peak.reshape(-1, 6), m_peak.reshape(-1, 12), _lags(peak_c).reshape(-1, 6),
                           r_peak_f.reshape(-1, 6), _lags(r_peak_c).reshape(-1, 6),
                           m_peak_f.reshape(-1, 12), _lags(m_peak_c).reshape(-1, 12),
-                          support, reactions, members, member_forces, warnings)
+                          support, reactions, members, member_forces, warnings,
+                          modes_complete_to(modal))
+
+
+def modes_complete_to(modal: ModesCaseResult) -> float:
+    """Frequency (Hz) below which the retained modes are every mode of the model: infinite when
+    all the model's finite modes are kept; the Sturm check's shift when its count matched (no
+    eigenvalue between the highest mode and the shift); else the highest mode itself."""
+    modes = modal.modes
+    if len(modes.omega) >= modal.n_finite > 0:
+        return float("inf")
+    top = float(modes.freq.max())
+    shift = modes.sturm_shift
+    if shift is not None and shift > 0 and modes.sturm_count == modes.sturm_expected:
+        return max(top, float(np.sqrt(shift) / (2 * np.pi)))
+    return top
