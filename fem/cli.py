@@ -51,6 +51,13 @@ def main(argv: list[str] | None = None) -> int:
     except QuaverError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2
+    except BrokenPipeError:
+        # the reader of our output went away (quaver check deck | head): the work is done and
+        # the rest of the text has nowhere to go; silence the interpreter's final flush too
+        import os
+
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
     except KeyboardInterrupt:
         print("interrupted: no results were written; earlier results are as they were", file=sys.stderr)
         return 130

@@ -184,3 +184,19 @@ def test_unwritable_out_folder_is_a_clean_error(tmp_path):
         assert lines[0].endswith("choose another --out")
         assert r.stdout == ""                                 # refused before solving
     assert blocker.read_text() == "not a folder"
+
+
+def test_output_cut_short_by_a_pipe_is_no_traceback(tmp_path):
+    # `quaver check deck | head -1`: the reader closes the pipe after one line
+    import subprocess
+    import sys
+
+    deck = tmp_path / "many.deck"
+    deck.write_text("node A = (0, 0, 0)\n" + "".join(f"node B{i} = (0, 0, 0)\n" for i in range(3000)))
+    p = subprocess.Popen([sys.executable, "-m", "fem", "check", str(deck)], cwd=ROOT,
+                         stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    p.stdout.readline()
+    p.stdout.close()
+    err = p.stderr.read().decode()
+    assert p.wait(timeout=120) == 0
+    assert "Traceback" not in err and "BrokenPipe" not in err
