@@ -332,7 +332,7 @@ def _strict(x, path: str = "", nullable: bool = False):
     return x
 
 
-def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6) -> str:
+def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6, fps: float = 12.0) -> str:
     """Pictures into out/pictures; returns the one-line notice for the summary."""
     modes = [x for x in modal if isinstance(x, ModesCaseResult)]
     responses = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
@@ -345,7 +345,7 @@ def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6
     if not ok:
         return f"pictures skipped: {why}; results are complete"
     try:
-        files = render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs, draw_modes)
+        files = render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs, draw_modes, fps)
     except Exception as exc:   # noqa: BLE001 - pictures are extras; a drawing failure must not lose results
         # half-drawn pictures would look complete in the report: drop them all
         shutil.rmtree(out / "pictures", ignore_errors=True)
@@ -436,7 +436,7 @@ def _writable_parent(target: Path) -> None:
 
 
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
-             draw_modes: int = 6) -> int:
+             draw_modes: int = 6, fps: float = 12.0) -> int:
     model = read_deck(deck)
     target = Path(out) if out else Path("results") / Path(deck).stem
     _writable_parent(target)        # before solving, so an unusable --out fails at once
@@ -447,7 +447,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     tmp = Path(tempfile.mkdtemp(prefix=".quaver-", dir=target.parent))
     try:
         doc = _write(model, results, modal, tmp)
-        notice = _render(model, modal, tmp, jobs, draw_modes) if render else "pictures skipped (--no-render)"
+        notice = _render(model, modal, tmp, jobs, draw_modes, fps) if render else "pictures skipped (--no-render)"
         _report(model, results, modal, doc, tmp, notice)
         if target.exists():
             old = target.with_name(target.name + ".old")

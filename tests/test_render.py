@@ -71,14 +71,30 @@ def test_run_writes_pictures_and_gifs(deck, tmp_path):
     if not ok:
         pytest.skip(why)
     out = tmp_path / "res"
-    r = subprocess.run([sys.executable, "-m", "fem", "run", str(deck), "--out", str(out), "--jobs", "1"],
-                       capture_output=True, text=True, timeout=600, cwd=ROOT)
+    r = subprocess.run([sys.executable, "-m", "fem", "run", str(deck), "--out", str(out), "--jobs", "1",
+                        "--fps", "5"], capture_output=True, text=True, timeout=600, cwd=ROOT)
     assert r.returncode == 0, r.stderr[-2000:]
     pics = sorted(p.name for p in (out / "pictures").iterdir())
     assert "MODES_mode_001_plane.png" in pics and "MODES_mode_002.gif" in pics and "REL.gif" in pics
+    import numpy as np
     from PIL import Image
     gif = Image.open(out / "pictures" / "MODES_mode_001.gif")
-    assert gif.n_frames >= 12               # 24 written; identical neighbours may be merged
+    assert gif.n_frames == 24               # each frame's time caption differs, so none is merged
+    rel = Image.open(out / "pictures" / "REL.gif")
+    assert rel.info["duration"] == 200      # --fps 5: 200 ms a frame
+    doc = json.loads((out / "results.json").read_text())
+    assert rel.n_frames == len(list((out / "response").glob("REL_*.vtu")))
+    # the time caption sits in the lower-left corner (bottom 12 % of the height, left third);
+    # it changes from frame to frame while the structure above it is drawn elsewhere
+    caps = []
+    for k in (0, 1, rel.n_frames - 1):
+        rel.seek(k)
+        im = np.asarray(rel.convert("L"), dtype=float)
+        h, w = im.shape
+        caps.append(im[int(0.88 * h):, : w // 3])
+    assert (caps[0] < 128).any()                                # dark text on the white ground
+    assert np.abs(caps[0] - caps[1]).mean() > 0.5 and np.abs(caps[1] - caps[2]).mean() > 0.5
+    assert doc["cases"][-1]["name"] == "REL"
     from fem.output.render import video_available
     if video_available():
         import imageio.v2 as imageio

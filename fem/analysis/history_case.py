@@ -11,7 +11,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
-from .free_case import animation_frames, peaks, step_warnings
+from .free_case import animation_frames, peak_index, peaks, step_warnings
 from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
 from .static import load_vector
 from .recurrence import integrate_modal
@@ -90,4 +90,6 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, bool(static is not None),
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                         *animation_frames(t, q, modal.shapes, static, g), warnings)
+                         *animation_frames(t, q, modal.shapes, static, g, omega,
+                                           [peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))]),
+                         warnings)

@@ -23,6 +23,7 @@ _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64
 COLORMAP = "cividis"        # perceptually uniform, readable in grey and by colour-blind readers
 SIZE = (960, 720)           # still pictures
 GIF_SIZE = (640, 480)       # animations: smaller frames keep files and the report light
+FPS = 12.0                  # animation frames a second (quaver run --fps)
 
 
 _ANSI = re.compile(r"\x1b\[[0-9;?]*[ -/]*[@-~]|\x1b[@-_]")
@@ -118,8 +119,19 @@ def _frame(p, mesh, base, disp):
     p.render()
 
 
+def _clock(p, text: str):
+    """The frame's time caption, lower left; its text is replaced frame by frame."""
+    return p.add_text(text, position="lower_left", font_size=10, color="#1d2733")
+
+
+def _cycle_captions(period: float, frames: int) -> list[str]:
+    if not np.isfinite(period) or period <= 0:
+        return [f"phase {k}/{frames} of one cycle" for k in range(frames)]
+    return [f"t = {k * period / frames:.3g} s of one period ({period:.3g} s)" for k in range(frames)]
+
+
 def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
-                 gif: bool = True) -> list[Path]:
+                 gif: bool = True, fps: float = FPS) -> list[Path]:
     """Per mode: PNG in the plane of largest motion, an isometric PNG, and a GIF of one cycle."""
     pv, poly = _scene(model, None)
     lo, hi = model.bounding_box()
@@ -157,7 +169,8 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
             if view == "plane" and gif:
                 base = poly.points.copy()
                 shots = (disp * np.sin(2 * np.pi * k / frames) for k in range(frames))
-                out += _animate(p, mesh, base, shots, folder / f"{modal.name}_mode_{j + 1:03d}")
+                out += _animate(p, mesh, base, shots, folder / f"{modal.name}_mode_{j + 1:03d}", fps,
+                                _clock(p, ""), _cycle_captions(float(modal.modes.period[jj]), frames))
             p.close()
     return out
 
@@ -171,14 +184,18 @@ def video_available() -> bool:
     return True
 
 
-def _animate(p, mesh, base, displacements, stem: Path, fps: int = 12) -> list[Path]:
-    """Render each displacement field once; write stem.gif always and stem.mp4 when an encoder
-    is available. Frames are taken from the live plotter, so one context serves both files."""
+def _animate(p, mesh, base, displacements, stem: Path, fps: float = FPS, clock=None,
+             captions=()) -> list[Path]:
+    """Render each displacement field once, with its caption in the `clock` text actor; write
+    stem.gif always and stem.mp4 when an encoder is available. Frames are taken from the live
+    plotter (points updated in place), so one context serves every frame and both files."""
     import imageio.v2 as imageio
 
     p.window_size = GIF_SIZE
     images = []
-    for d in displacements:
+    for i, d in enumerate(displacements):
+        if clock is not None:
+            clock.set_text("lower_left", captions[i])
         _frame(p, mesh, base, d)
         images.append(p.screenshot(None, return_img=True))
     gif = stem.with_suffix(".gif")
@@ -193,9 +210,10 @@ def _animate(p, mesh, base, displacements, stem: Path, fps: int = 12) -> list[Pa
     return out
 
 
-def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool = True) -> list[Path]:
-    """GIF of a free or history response at an exaggerated but constant scale, and a PNG of the
-    frame with the largest motion."""
+def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool = True,
+                    fps: float = FPS) -> list[Path]:
+    """GIF of a free or history response at an exaggerated but constant scale, each frame
+    captioned with its time, and a PNG of the frame with the largest motion."""
     pv, poly = _scene(model, None)
     lo, hi = model.bounding_box()
     extent = float(max(np.max(hi - lo), 1e-9))
@@ -204,11 +222,12 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     folder.mkdir(parents=True, exist_ok=True)
     worst = int(np.argmax(np.abs(frames[:, :, :3]).max(axis=(1, 2))))
     disp = frames[worst, :, :3] * k
-    caption = f"{name}   t = {frame_t[worst]:.3g} s   largest motion {peak:.3g} m (drawn x{k:.3g})"
+    caption = f"{name}   largest motion {peak:.3g} m at t = {frame_t[worst]:.4g} s (drawn x{k:.3g})"
     p = _setup(pv, poly, caption)
     mesh = _deformed(poly, disp)
     p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, max(np.linalg.norm(disp, axis=1).max(), 1e-12)],
                show_scalar_bar=False, line_width=6, render_lines_as_tubes=True)
+    clock = _clock(p, f"t = {frame_t[worst]:.4g} s (largest motion)")
     p.view_isometric()
     p.reset_camera()
     p.camera.zoom(0.85)
@@ -217,22 +236,25 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     out = [png]
     if gif:
         base = poly.points.copy()
-        out += _animate(p, mesh, base, (frames[i, :, :3] * k for i in range(len(frame_t))), folder / name)
+        marks = [f"t = {x:.4g} s" + ("  (largest motion)" if i == worst else "") for i, x in enumerate(frame_t)]
+        out += _animate(p, mesh, base, (frames[i, :, :3] * k for i in range(len(frame_t))), folder / name,
+                        fps, clock, marks)
     p.close()
     return out
 
 
 def _render_chunk(args):
-    kind, folder, model, item, extra = args
+    kind, folder, model, item, extra, fps = args
     if kind == "modes":
-        return render_modes(folder, model, item, extra)
-    return render_response(folder, model, item.name, item.frame_t, item.frames)
+        return render_modes(folder, model, item, extra, fps=fps)
+    return render_response(folder, model, item.name, item.frame_t, item.frames, fps=fps)
 
 
 def render_all(folder: Path, model, modal_cases, responses, length: float, jobs: int = 1,
-               max_modes: int = 6) -> list[Path]:
-    """Pictures and animations of the first `max_modes` modes of every modes case and of every
-    free/history response, in `jobs` parallel processes (each with its own offscreen context)."""
+               max_modes: int = 6, fps: float = FPS) -> list[Path]:
+    """Pictures and animations (played at `fps` frames a second) of the first `max_modes` modes
+    of every modes case and of every free/history response, in `jobs` parallel processes (each
+    with its own offscreen context)."""
     from dataclasses import replace
 
     tasks = []
@@ -242,8 +264,8 @@ def render_all(folder: Path, model, modal_cases, responses, length: float, jobs:
             one = replace(m, shapes=m.shapes[:, :, j:j + 1],
                           modes=replace(m.modes, freq=m.modes.freq[j:j + 1], period=m.modes.period[j:j + 1]),
                           part=replace(m.part, fraction=m.part.fraction[j:j + 1]))
-            tasks.append(("modes", folder, model, replace(one, first_mode=j), length))
-    tasks += [("response", folder, model, r, None) for r in responses]
+            tasks.append(("modes", folder, model, replace(one, first_mode=j), length, fps))
+    tasks += [("response", folder, model, r, None, fps) for r in responses]
     from ..progress import bar
 
     if jobs <= 1 or len(tasks) <= 1:
