@@ -194,3 +194,79 @@ def test_failure_while_drawing_keeps_results(deck, tmp_path, monkeypatch, capsys
                      "results are complete"]
     assert "\x1b" not in text
     _assert_complete(out, lines[0])
+
+
+# a symmetric table: four equal columns at the corners of a 4 m square, a stiff top frame and
+# equal corner masses; the centre lies on the vertical axis through the origin
+TABLE = """
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section C = pipe(od = 114.3 mm, wall = 6 mm)
+section B = pipe(od = 273 mm, wall = 10 mm)
+node A0 = (-2 m, -2 m, 0)
+node B0 = (2 m, -2 m, 0)
+node C0 = (2 m, 2 m, 0)
+node D0 = (-2 m, 2 m, 0)
+node A1 = (-2 m, -2 m, 3 m)
+node B1 = (2 m, -2 m, 3 m)
+node C1 = (2 m, 2 m, 3 m)
+node D1 = (-2 m, 2 m, 3 m)
+member CA : A0 -> A1 beam C S
+member CB : B0 -> B1 beam C S
+member CC : C0 -> C1 beam C S
+member CD : D0 -> D1 beam C S
+member AB : A1 -> B1 beam B S
+member BC : B1 -> C1 beam B S
+member CDt : C1 -> D1 beam B S
+member DA : D1 -> A1 beam B S
+support A0 fixed
+support B0 fixed
+support C0 fixed
+support D0 fixed
+mass A1 = 2 t
+mass B1 = 2 t
+mass C1 = 2 t
+mass D1 = 2 t
+case MODES modes { count = 3, reference = (0, 0, 0) }
+"""
+
+
+def test_torsional_mode_is_named_a_twist(tmp_path):
+    """The table's three lowest modes are two equal sways and a twist about the vertical
+    axis: its plan is symmetric about both axes through the centre of mass, so lateral and
+    torsional motions uncouple (a symmetry argument, no source needed). The solver's own
+    participations confirm which mode is the twist: all the RZ effective mass about the
+    centre and none in X or Y; the sways none in RZ."""
+    import numpy as np
+
+    from fem.deck.reader import read_deck
+    from fem.output.render import dominant_direction
+    from fem.run import solve_all
+
+    d = tmp_path / "table.deck"
+    d.write_text(TABLE)
+    model = read_deck(d)
+    _, (modes,) = solve_all(model)
+    names = [dominant_direction(modes.shapes[:, :, j], model.coords)[0] for j in range(3)]
+    frac = np.nan_to_num(modes.part.fraction)
+    twist = int(np.argmax(frac[:, 5]))
+    assert frac[twist, 5] > 0.99 and frac[twist, :2].max() < 1e-8   # a pure torsional mode
+    assert names[twist] == "twist about z"
+    sways = [j for j in range(3) if j != twist]
+    assert all(names[j] in ("X", "Y") for j in sways)
+    assert all(frac[j, 5] < 1e-8 for j in sways)
+
+
+def test_twist_of_a_shaft_on_its_own_axis():
+    """Nodes on one vertical line: no translation, rotation about z only: still a twist; the
+    same line swaying in Y is 'Y'."""
+    import numpy as np
+
+    from fem.output.render import dominant_direction
+
+    coords = np.c_[np.zeros(5), np.zeros(5), np.linspace(0, 4, 5)]
+    shape = np.zeros((5, 6))
+    shape[:, 5] = np.linspace(0, 1, 5)
+    assert dominant_direction(shape, coords)[0] == "twist about z"
+    shape[:, 5] = 0
+    shape[:, 1] = np.linspace(0, 1, 5) ** 2
+    assert dominant_direction(shape, coords)[0] == "Y"

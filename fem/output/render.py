@@ -71,11 +71,34 @@ def can_render() -> tuple[bool, str]:
     return True, ""
 
 
-def dominant_direction(shape: np.ndarray) -> tuple[str, np.ndarray]:
-    """Name of the main motion ('X', 'Y', 'Z' or 'twist') and the share of each translation."""
+def dominant_direction(shape: np.ndarray, coords: np.ndarray | None = None) -> tuple[str, np.ndarray]:
+    """Name of the main motion of a mode, 'X', 'Y', 'Z' or 'twist about z', and the share of
+    each translation (3,).
+
+    shape (n, 6) one mode at every node; coords (n, 3) m. The plan motion is fitted by a rigid
+    one, a translation (a, b) plus a turn theta about the vertical axis through the nodes'
+    centroid, in least squares over the nodes' horizontal translations and their rotations
+    about z (weighted by the nodes' mean plan radius rho, so both count as lengths). The mode
+    is a twist when the turn moves the nodes more (|theta| rho) than the translation does and
+    more than their mean vertical motion: rotations dominate and the translations circulate."""
     tr = np.abs(shape[:, :3]).sum(axis=0)
     share = tr / max(tr.sum(), 1e-300)
-    return "XYZ"[int(np.argmax(share))], share
+    name = "XYZ"[int(np.argmax(share))]
+    if coords is None or not len(shape):
+        return name, share
+    r = coords[:, :2] - coords[:, :2].mean(axis=0)
+    rho = float(np.sqrt((r ** 2).sum(axis=1).mean()))
+    ext = float(np.ptp(coords, axis=0).max()) if len(coords) > 1 else 0.0
+    if rho <= 1e-6 * max(ext, 1e-300):
+        rho = ext / 2                     # every node on one vertical line: its length is the lever
+    if rho <= 0:
+        return name, share
+    n = len(shape)
+    turn = (np.sum(r[:, 0] * shape[:, 1] - r[:, 1] * shape[:, 0]) + rho ** 2 * shape[:, 5].sum()) / (2 * n * rho ** 2)
+    mean = shape[:, :3].mean(axis=0)
+    if abs(turn) * rho > max(np.hypot(mean[0], mean[1]), abs(mean[2])):
+        return "twist about z", share
+    return name, share
 
 
 def _view_vector(shape: np.ndarray, extent: np.ndarray) -> np.ndarray:
@@ -143,7 +166,7 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
         s = modal.shapes[:, :, jj]
         peak = np.abs(s[:, :3]).max()
         disp = s[:, :3] * (length / peak if peak > 0 else 0.0)
-        d, share = dominant_direction(s)
+        d, share = dominant_direction(s, model.coords)
         eff = modal.part.fraction[jj, :3]
         caption = (f"mode {j + 1}   {modal.modes.freq[jj]:.4g} Hz   period {modal.modes.period[jj]:.4g} s\n"
                    f"main motion {d}   effective mass X {100 * eff[0]:.1f}%  Y {100 * eff[1]:.1f}%  "
@@ -157,7 +180,8 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
                        scalar_bar_args=dict(title="motion (scaled)", color="#1d2733", vertical=True,
                                             position_x=0.88, position_y=0.2, height=0.6, width=0.05))
             if view == "plane":
-                vv = _view_vector(s, hi - lo)
+                # a twist about z is seen from above; other motions across their main direction
+                vv = np.array([0.0, 0.0, 1.0]) if d.startswith("twist") else _view_vector(s, hi - lo)
                 p.view_vector(vv, viewup=(0, 0, 1) if vv[2] == 0 else (0, 1, 0))
             else:
                 p.view_isometric()
