@@ -120,12 +120,63 @@ def _scene(model, radius):
     return pv, poly
 
 
-def _setup(pv, poly, caption):
-    p = pv.Plotter(off_screen=True, window_size=SIZE)
+def _sizes(model) -> tuple[tuple[int, int], tuple[int, int]]:
+    """(still, animation) window sizes: portrait for a tall model (a mast), else landscape."""
+    lo, hi = model.bounding_box()
+    ext = hi - lo
+    if ext[2] > 1.5 * max(ext[0], ext[1]):
+        return SIZE[::-1], GIF_SIZE[::-1]
+    return SIZE, GIF_SIZE
+
+
+def _setup(pv, poly, caption, size=SIZE):
+    p = pv.Plotter(off_screen=True, window_size=size)
     p.set_background("white")
     p.add_mesh(poly.copy(), color="#b8bcc4", opacity=0.4, line_width=3, render_lines_as_tubes=True)
-    p.add_text(caption, position="upper_left", font_size=11, color="#1d2733")
+    p.add_text(caption, position="upper_left", font_size=11 if size[0] >= size[1] else 9, color="#1d2733")
+    # a small orientation marker in the lower right corner, clear of captions and colour bar
+    p.add_axes(line_width=2, color="#1d2733", viewport=(0.86, 0.0, 1.0, 0.14 * size[0] / size[1]))
     return p
+
+
+# the part of the frame the model is fitted into (fractions of width and height, from the
+# lower left): clear of the caption above and of the colour bar and axes marker on the right
+_FIELD = (0.02, 0.03, 0.80, 0.88)
+
+
+def _fit(p, points: np.ndarray) -> None:
+    """Parallel projection fitted tightly to `points` (undeformed and deformed) in the current
+    view direction, the model inside _FIELD."""
+    cam = p.camera
+    d = np.subtract(cam.focal_point, cam.position)
+    d /= np.linalg.norm(d)
+    up = np.asarray(cam.up, float)
+    up = up - (up @ d) * d
+    up /= np.linalg.norm(up)
+    right = np.cross(d, up)
+    u, v = points @ right, points @ up
+    w, h = p.window_size
+    x0, y0, x1, y1 = _FIELD
+    half_h = max(np.ptp(v) / (2 * (y1 - y0)), np.ptp(u) * h / w / (2 * (x1 - x0)), 1e-9)
+    half_w = half_h * w / h
+    # the screen centre sits where the field's centre must fall on the model's centre
+    cu = 0.5 * (u.min() + u.max()) + (0.5 - 0.5 * (x0 + x1)) * 2 * half_w
+    cv = 0.5 * (v.min() + v.max()) + (0.5 - 0.5 * (y0 + y1)) * 2 * half_h
+    centre = cu * right + cv * up + (points @ d).mean() * d
+    dist = max(np.ptp(points, axis=0).max(), 1e-9) * 3
+    cam.focal_point = centre
+    cam.position = centre - dist * d
+    cam.up = up
+    cam.parallel_projection = True
+    cam.parallel_scale = half_h
+    p.renderer.ResetCameraClippingRange()
+
+
+RELATIVE = "relative displacement"
+# a relative scale 0-1 (mode shapes have no absolute size), wholly inside the frame on the right
+_MODE_BAR = dict(title="relative\ndisplacement", color="#1d2733", vertical=True, n_labels=3, fmt="%.1f",
+                 position_x=0.84, position_y=0.3, width=0.045, height=0.45, title_font_size=13,
+                 label_font_size=12, unconstrained_font_size=True)
 
 
 def _deformed(poly, disp):
@@ -136,15 +187,16 @@ def _deformed(poly, disp):
     return moved
 
 
-def _frame(p, mesh, base, disp):
+def _frame(p, mesh, base, disp, recolour: bool = True):
     mesh.points = base + disp
-    mesh["motion (m)"] = np.linalg.norm(disp, axis=1)
+    if recolour:
+        mesh["motion (m)"] = np.linalg.norm(disp, axis=1)
     p.render()
 
 
 def _clock(p, text: str):
     """The frame's time caption, lower left; its text is replaced frame by frame."""
-    return p.add_text(text, position="lower_left", font_size=10, color="#1d2733")
+    return p.add_text(text, position="lower_left", font_size=8, color="#1d2733")
 
 
 def _cycle_captions(period: float, frames: int) -> list[str]:
@@ -155,9 +207,12 @@ def _cycle_captions(period: float, frames: int) -> list[str]:
 
 def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
                  gif: bool = True, fps: float = FPS) -> list[Path]:
-    """Per mode: PNG in the plane of largest motion, an isometric PNG, and a GIF of one cycle."""
+    """Per mode: PNG in the plane of largest motion, an isometric PNG, and a GIF of one cycle,
+    all from one plotter whose points are updated in place. Colour: the shape's displacement
+    relative to its largest (0 to 1)."""
     pv, poly = _scene(model, None)
     lo, hi = model.bounding_box()
+    still, moving = _sizes(model)
     folder.mkdir(parents=True, exist_ok=True)
     out = []
     first = modal.first_mode
@@ -169,33 +224,36 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
         d, share = dominant_direction(s, model.coords)
         eff = modal.part.fraction[jj, :3]
         caption = (f"mode {j + 1}   {modal.modes.freq[jj]:.4g} Hz   period {modal.modes.period[jj]:.4g} s\n"
-                   f"main motion {d}   effective mass X {100 * eff[0]:.1f}%  Y {100 * eff[1]:.1f}%  "
+                   f"main motion {d}\neffective mass X {100 * eff[0]:.1f}%  Y {100 * eff[1]:.1f}%  "
                    f"Z {100 * eff[2]:.1f}%")
         mag = np.linalg.norm(disp, axis=1)
-        for view in ("plane", "iso"):
-            p = _setup(pv, poly, caption)
-            mesh = _deformed(poly, disp)
-            p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, max(mag.max(), 1e-12)],
-                       line_width=6, render_lines_as_tubes=True,
-                       scalar_bar_args=dict(title="motion (scaled)", color="#1d2733", vertical=True,
-                                            position_x=0.88, position_y=0.2, height=0.6, width=0.05))
-            if view == "plane":
-                # a twist about z is seen from above; other motions across their main direction
-                vv = np.array([0.0, 0.0, 1.0]) if d.startswith("twist") else _view_vector(s, hi - lo)
-                p.view_vector(vv, viewup=(0, 0, 1) if vv[2] == 0 else (0, 1, 0))
-            else:
-                p.view_isometric()
-            p.reset_camera()
-            p.camera.zoom(0.85)
-            name = folder / f"{modal.name}_mode_{j + 1:03d}_{view}.png"
-            p.screenshot(str(name))
-            out.append(name)
-            if view == "plane" and gif:
-                base = poly.points.copy()
-                shots = (disp * np.sin(2 * np.pi * k / frames) for k in range(frames))
-                out += _animate(p, mesh, base, shots, folder / f"{modal.name}_mode_{j + 1:03d}", fps,
-                                _clock(p, ""), _cycle_captions(float(modal.modes.period[jj]), frames))
-            p.close()
+        p = _setup(pv, poly, caption, still)
+        mesh = _deformed(poly, disp)
+        mesh[RELATIVE] = mag / mag.max() if mag.max() > 0 else mag
+        p.add_mesh(mesh, scalars=RELATIVE, cmap=COLORMAP, clim=[0.0, 1.0], line_width=6,
+                   render_lines_as_tubes=True, scalar_bar_args=_MODE_BAR)
+        for bar in p.scalar_bars.values():
+            bar.SetVerticalTitleSeparation(8)          # keeps the title clear of the top label
+        # a twist about z is seen from above; other motions across their main direction
+        vv = np.array([0.0, 0.0, 1.0]) if d.startswith("twist") else _view_vector(s, hi - lo)
+        p.view_vector(vv, viewup=(0, 0, 1) if vv[2] == 0 else (0, 1, 0))
+        span = np.r_[poly.points, poly.points + disp, poly.points - disp]   # the whole cycle
+        _fit(p, span)
+        plane = p.camera_position
+        stem = folder / f"{modal.name}_mode_{j + 1:03d}"
+        p.screenshot(str(stem) + "_plane.png")
+        p.view_isometric()
+        _fit(p, span)
+        p.screenshot(str(stem) + "_iso.png")
+        out += [Path(str(stem) + "_plane.png"), Path(str(stem) + "_iso.png")]
+        if gif:
+            p.camera_position = plane
+            base = poly.points.copy()
+            shots = (disp * np.sin(2 * np.pi * k / frames) for k in range(frames))
+            out += _animate(p, mesh, base, shots, stem, fps, _clock(p, ""),
+                            _cycle_captions(float(modal.modes.period[jj]), frames), size=moving,
+                            recolour=False)
+        p.close()
     return out
 
 
@@ -209,18 +267,18 @@ def video_available() -> bool:
 
 
 def _animate(p, mesh, base, displacements, stem: Path, fps: float = FPS, clock=None,
-             captions=()) -> list[Path]:
+             captions=(), size=GIF_SIZE, recolour: bool = True) -> list[Path]:
     """Render each displacement field once, with its caption in the `clock` text actor; write
     stem.gif always and stem.mp4 when an encoder is available. Frames are taken from the live
     plotter (points updated in place), so one context serves every frame and both files."""
     import imageio.v2 as imageio
 
-    p.window_size = GIF_SIZE
+    p.window_size = size
     images = []
     for i, d in enumerate(displacements):
         if clock is not None:
             clock.set_text("lower_left", captions[i])
-        _frame(p, mesh, base, d)
+        _frame(p, mesh, base, d, recolour)
         images.append(p.screenshot(None, return_img=True))
     gif = stem.with_suffix(".gif")
     imageio.mimsave(gif, images, duration=1000 / fps, loop=0)
@@ -246,15 +304,16 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     folder.mkdir(parents=True, exist_ok=True)
     worst = int(np.argmax(np.abs(frames[:, :, :3]).max(axis=(1, 2))))
     disp = frames[worst, :, :3] * k
-    caption = f"{name}   largest motion {peak:.3g} m at t = {frame_t[worst]:.4g} s (drawn x{k:.3g})"
-    p = _setup(pv, poly, caption)
+    caption = f"{name}   largest motion {peak:.3g} m\nat t = {frame_t[worst]:.4g} s (drawn x{k:.3g})"
+    still, moving = _sizes(model)
+    p = _setup(pv, poly, caption, still)
     mesh = _deformed(poly, disp)
     p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, max(np.linalg.norm(disp, axis=1).max(), 1e-12)],
                show_scalar_bar=False, line_width=6, render_lines_as_tubes=True)
     clock = _clock(p, f"t = {frame_t[worst]:.4g} s (largest motion)")
     p.view_isometric()
-    p.reset_camera()
-    p.camera.zoom(0.85)
+    some = frames[::max(1, len(frames) // 20), :, :3] * k          # enough frames to bound the motion
+    _fit(p, np.r_[poly.points, poly.points + disp, (poly.points[None] + some).reshape(-1, 3)])
     png = folder / f"{name}_peak.png"
     p.screenshot(str(png))
     out = [png]
@@ -262,7 +321,7 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
         base = poly.points.copy()
         marks = [f"t = {x:.4g} s" + ("  (largest motion)" if i == worst else "") for i, x in enumerate(frame_t)]
         out += _animate(p, mesh, base, (frames[i, :, :3] * k for i in range(len(frame_t))), folder / name,
-                        fps, clock, marks)
+                        fps, clock, marks, size=moving)
     p.close()
     return out
 
