@@ -9,6 +9,7 @@ from __future__ import annotations
 import csv
 import json
 import os
+import re
 import shutil
 import tempfile
 from pathlib import Path
@@ -355,6 +356,9 @@ def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6
     return f"{len(files)} pictures and animations in pictures/"
 
 
+HISTORY_PLOTS = 12       # history plots per case in the report; every recorded node is in the CSV
+
+
 def _report(model: Model, results: list, modal: list, doc: dict, out: Path, notice: str = "") -> None:
     """Plots into out/plots and the self-contained out/report.html."""
     from .output import plots
@@ -370,7 +374,8 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path, noti
         images[name] = [(plots.plot_participation(pdir / f"{name}_participation.png", m), "effective modal mass")]
         for j in range(min(6, m.shapes.shape[2])):
             # pictures of the first six modes, animations of the first three (keeps the file small)
-            kinds = (("_plane.png", "across the main motion"), (".gif", "one cycle"))[: 2 if j < 3 else 1]
+            kinds = (("_plane.png", "across the main motion"), ("_iso.png", "isometric view"),
+                     (".gif", "one cycle"))[: 3 if j < 3 else 2]
             for suffix, cap in kinds:
                 f = pics / f"{name}_mode_{j + 1:03d}{suffix}"
                 if f.exists():
@@ -380,17 +385,24 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path, noti
                            "deformed shape")]
     for x in modal:
         if isinstance(x, (FreeCaseResult, HistoryResult)):
-            j = int(np.argmax(np.abs(x.u[:, :, :3]).max(axis=(0, 2))))
-            node = model.node_names[x.record[j]]
-            images[x.name] = [(plots.plot_history(pdir / f"{x.name}_history.png", x, node, j),
-                               f"displacement history at {node}")]
+            # one plot per recorded node; past HISTORY_PLOTS, those that move most (in record order)
+            top = np.abs(x.u[:, :, :3]).max(axis=(0, 2))
+            keep = np.sort(np.argsort(-top, kind="stable")[:HISTORY_PLOTS])
+            more = (f" ({len(keep)} of {len(x.record)} recorded nodes, those that move most; every node "
+                    f"is in the CSV table)") if len(keep) < len(x.record) else ""
+            images[x.name] = []
+            for j in keep:
+                node = model.node_names[x.record[j]]
+                f = pdir / f"{x.name}_history_{re.sub(r'[^A-Za-z0-9_.-]', '_', node)}.png"
+                images[x.name].append((plots.plot_history(f, x, node, j), f"displacement history at {node}{more}"))
             for f, cap in ((pics / f"{x.name}.gif", "response animation"), (pics / f"{x.name}_peak.png", "largest motion")):
                 if f.exists():
                     images[x.name].append((f, cap))
         elif isinstance(x, HarmonicResult):
             j = int(np.argmax(np.abs(x.u[:, :, :3]).max(axis=(0, 2))))
             node = model.node_names[x.record[j]]
-            nat = next(iter(modes.values())).modes.freq if modes else []
+            case = next(c for c in model.cases if c.name == x.name)
+            nat = modes[case.options["modes"]].modes.freq    # the modes this sweep was built on
             images[x.name] = [(plots.plot_frf(pdir / f"{x.name}_frf.png", x, node, j, nat),
                                f"frequency response at {node}")]
         elif isinstance(x, SpectrumResult):
@@ -527,7 +539,9 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         cum = "  ".join(f"{a} {100 * v:.1f}%" for a, v in c["cumulative_mass_fraction"].items())
         missed = "not run" if c["none_missed"] is None else ("pass" if c["none_missed"] else "FAIL")
         if r.target is not None:
-            print(f"               mass target {', '.join(f'{100 * v:.0f}%' for v in r.target)} (X, Y, Z): "
+            got = np.nan_to_num(r.part.cumulative[-1, :3], nan=1.0)
+            print(f"               mass target {', '.join(f'{100 * v:.0f}%' for v in r.target)} (X, Y, Z), "
+                  f"reached {', '.join(f'{100 * v:.1f}%' for v in got)}: "
                   + ("met" if r.target_met else f"NOT met with {len(r.modes.freq)} modes (the cap); "
                      "raise max or check the model"))
         verdict = {True: "pass", False: "FAIL"}
