@@ -99,6 +99,13 @@ def test_run_writes_pictures_and_gifs(deck, tmp_path):
     from PIL import Image
     gif = Image.open(out / "pictures" / "MODES_mode_001.gif")
     assert gif.n_frames == 24               # each frame's time caption differs, so none is merged
+    # the colour bar stays inside the smaller animation frames too: the right edge is white
+    # above the axes marker
+    frame = np.asarray(gif.convert("RGB"), dtype=float)
+    assert (frame[: int(0.8 * frame.shape[0]), -3:] > 250).all()
+    assert ((frame[:, int(0.8 * frame.shape[1]):, 2] - frame[:, int(0.8 * frame.shape[1]):, 0]) > 60).sum() > 100
+    report = (out / "report.html").read_text(encoding="utf-8")
+    assert "mode 1, " in report and "isometric view" in report and "one cycle" in report
     rel = Image.open(out / "pictures" / "REL.gif")
     assert rel.info["duration"] == 200      # --fps 5: 200 ms a frame
     doc = json.loads((out / "results.json").read_text())

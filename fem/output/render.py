@@ -144,13 +144,18 @@ def _setup(pv, poly, caption, size=SIZE):
 _FIELD = (0.02, 0.03, 0.80, 0.88)
 
 
-def _fit(p, points: np.ndarray) -> None:
-    """Parallel projection fitted tightly to `points` (undeformed and deformed) in the current
-    view direction, the model inside _FIELD."""
+ISO = ((1.0, 1.0, 1.0), (0.0, 0.0, 1.0))      # isometric: looking from (1, 1, 1), z up
+
+
+def _fit(p, points: np.ndarray, toward, up) -> None:
+    """Parallel projection looking from direction `toward` (to the camera) with `up` as near
+    vertical as it can be, fitted tightly to `points` (undeformed and deformed), the model
+    inside _FIELD. The camera is set here in full (pyvista's view presets keep state that
+    spoils a later parallel fit)."""
     cam = p.camera
-    d = np.subtract(cam.focal_point, cam.position)
+    d = -np.asarray(toward, float)
     d /= np.linalg.norm(d)
-    up = np.asarray(cam.up, float)
+    up = np.asarray(up, float)
     up = up - (up @ d) * d
     up /= np.linalg.norm(up)
     right = np.cross(d, up)
@@ -170,13 +175,17 @@ def _fit(p, points: np.ndarray) -> None:
     cam.parallel_projection = True
     cam.parallel_scale = half_h
     p.renderer.ResetCameraClippingRange()
+    p.render()                   # a screenshot reuses the last rendered image otherwise
 
 
 RELATIVE = "relative displacement"
 # a relative scale 0-1 (mode shapes have no absolute size), wholly inside the frame on the right
-_MODE_BAR = dict(title="relative\ndisplacement", color="#1d2733", vertical=True, n_labels=3, fmt="%.1f",
-                 position_x=0.84, position_y=0.3, width=0.045, height=0.45, title_font_size=13,
-                 label_font_size=12, unconstrained_font_size=True)
+def _mode_bar(size) -> dict:
+    """Colour bar settings; fonts in pixels scaled with the frame so the bar fits any size."""
+    k = min(size) / 720
+    return dict(title="relative\ndisplacement", color="#1d2733", vertical=True, n_labels=3, fmt="%.1f",
+                position_x=0.84, position_y=0.3, width=0.045, height=0.45, title_font_size=round(13 * k),
+                label_font_size=round(12 * k), unconstrained_font_size=True)
 
 
 def _deformed(poly, disp):
@@ -231,25 +240,27 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
         mesh = _deformed(poly, disp)
         mesh[RELATIVE] = mag / mag.max() if mag.max() > 0 else mag
         p.add_mesh(mesh, scalars=RELATIVE, cmap=COLORMAP, clim=[0.0, 1.0], line_width=6,
-                   render_lines_as_tubes=True, scalar_bar_args=_MODE_BAR)
+                   render_lines_as_tubes=True, scalar_bar_args=_mode_bar(still))
         for bar in p.scalar_bars.values():
             bar.SetVerticalTitleSeparation(8)          # keeps the title clear of the top label
         # a twist about z is seen from above; other motions across their main direction
         vv = np.array([0.0, 0.0, 1.0]) if d.startswith("twist") else _view_vector(s, hi - lo)
-        p.view_vector(vv, viewup=(0, 0, 1) if vv[2] == 0 else (0, 1, 0))
+        view = (vv, (0, 0, 1) if vv[2] == 0 else (0, 1, 0))
         span = np.r_[poly.points, poly.points + disp, poly.points - disp]   # the whole cycle
-        _fit(p, span)
-        plane = p.camera_position
+        _fit(p, span, *view)
         stem = folder / f"{modal.name}_mode_{j + 1:03d}"
         p.screenshot(str(stem) + "_plane.png")
-        p.view_isometric()
-        _fit(p, span)
+        _fit(p, span, *ISO)
         p.screenshot(str(stem) + "_iso.png")
         out += [Path(str(stem) + "_plane.png"), Path(str(stem) + "_iso.png")]
         if gif:
-            p.camera_position = plane
             base = poly.points.copy()
             shots = (disp * np.sin(2 * np.pi * k / frames) for k in range(frames))
+            p.window_size = moving
+            for bar in p.scalar_bars.values():
+                bar.GetTitleTextProperty().SetFontSize(_mode_bar(moving)["title_font_size"])
+                bar.GetLabelTextProperty().SetFontSize(_mode_bar(moving)["label_font_size"])
+            _fit(p, span, *view)
             out += _animate(p, mesh, base, shots, stem, fps, _clock(p, ""),
                             _cycle_captions(float(modal.modes.period[jj]), frames), size=moving,
                             recolour=False)
@@ -311,15 +322,17 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, max(np.linalg.norm(disp, axis=1).max(), 1e-12)],
                show_scalar_bar=False, line_width=6, render_lines_as_tubes=True)
     clock = _clock(p, f"t = {frame_t[worst]:.4g} s (largest motion)")
-    p.view_isometric()
     some = frames[::max(1, len(frames) // 20), :, :3] * k          # enough frames to bound the motion
-    _fit(p, np.r_[poly.points, poly.points + disp, (poly.points[None] + some).reshape(-1, 3)])
+    span = np.r_[poly.points, poly.points + disp, (poly.points[None] + some).reshape(-1, 3)]
+    _fit(p, span, *ISO)
     png = folder / f"{name}_peak.png"
     p.screenshot(str(png))
     out = [png]
     if gif:
         base = poly.points.copy()
         marks = [f"t = {x:.4g} s" + ("  (largest motion)" if i == worst else "") for i, x in enumerate(frame_t)]
+        p.window_size = moving
+        _fit(p, span, *ISO)
         out += _animate(p, mesh, base, (frames[i, :, :3] * k for i in range(len(frame_t))), folder / name,
                         fps, clock, marks, size=moving)
     p.close()
