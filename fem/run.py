@@ -339,20 +339,19 @@ def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6
     responses = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
     if not modes and not responses:
         return "no modes or responses to draw"
-    from .output.render import can_render, render_all
+    from .output import render
     from .output.vtk import shape_scale
 
-    ok, why = can_render()
-    if not ok:
-        return f"pictures skipped: {why}; results are complete"
     try:
-        files = render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs, draw_modes, fps)
+        ok, why = render.can_render()
+        if not ok:
+            return f"pictures skipped: {why}; results are complete"
+        files = render.render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs,
+                                  draw_modes, fps)
     except Exception as exc:   # noqa: BLE001 - pictures are extras; a drawing failure must not lose results
         # half-drawn pictures would look complete in the report: drop them all
         shutil.rmtree(out / "pictures", ignore_errors=True)
-        from .output.render import one_line
-
-        return f"pictures skipped: {type(exc).__name__}: {one_line(exc, last=False)}; results are complete"
+        return f"pictures skipped: {type(exc).__name__}: {render.one_line(exc, last=False)}; results are complete"
     return f"{len(files)} pictures and animations in pictures/"
 
 

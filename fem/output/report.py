@@ -22,7 +22,8 @@ th { background: #f4f6f8; } td.l, th.l { text-align: left; }
 .pass { color: #2e7d32; font-weight: 600; } .fail { color: #b3261e; font-weight: 700; }
 figure { display: inline-block; margin: 0.4em; vertical-align: top; }
 figure img { max-width: 100%; border: 1px solid #e4e7ec; } figcaption { font-size: 0.8em; }
-figure { max-width: 100%; } .gallery img { width: 520px; } .plot img { width: 760px; }
+figure { max-width: 100%; } .plot img { width: 760px; }
+.gallery img { width: auto; height: auto; max-width: min(520px, 100%); max-height: 620px; }
 ul.warnings li { color: #8a4b00; }
 """
 
