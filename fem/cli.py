@@ -24,7 +24,20 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("--jobs", type=int, default=2, help="processes for rendering (default 2)")
     r.add_argument("--draw-modes", type=int, default=6, metavar="N",
                    help="draw the first N modes of each modes case (default 6)")
+    r.add_argument("--fps", type=_fps, default=12.0, metavar="N",
+                   help="frames a second of the animations, 1 to 50 (default 12)")
     return p
+
+
+def _fps(text: str) -> float:
+    try:
+        v = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
+    if not 1 <= v <= 50:
+        # GIF frame delays are whole hundredths of a second, and players slow anything faster
+        raise argparse.ArgumentTypeError(f"{text} is outside 1 to 50 frames a second")
+    return v
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -47,7 +60,7 @@ def main(argv: list[str] | None = None) -> int:
         from .run import run_deck
 
         return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs),
-                        draw_modes=max(0, args.draw_modes))
+                        draw_modes=max(0, args.draw_modes), fps=args.fps)
     except QuaverError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2

@@ -9,6 +9,7 @@ from __future__ import annotations
 import csv
 import json
 import os
+import re
 import shutil
 import tempfile
 from contextlib import contextmanager
@@ -390,27 +391,29 @@ def _strict(x, path: str = "", nullable: bool = False):
     return x
 
 
-def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6) -> str:
+def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6, fps: float = 12.0) -> str:
     """Pictures into out/pictures; returns the one-line notice for the summary."""
     modes = [x for x in modal if isinstance(x, ModesCaseResult)]
     responses = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
     if not modes and not responses:
         return "no modes or responses to draw"
-    from .output.render import can_render, render_all
+    from .output import render
     from .output.vtk import shape_scale
 
-    ok, why = can_render()
-    if not ok:
-        return f"pictures skipped: {why}; results are complete"
     try:
-        files = render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs, draw_modes)
+        ok, why = render.can_render()
+        if not ok:
+            return f"pictures skipped: {why}; results are complete"
+        files = render.render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs,
+                                  draw_modes, fps)
     except Exception as exc:   # noqa: BLE001 - pictures are extras; a drawing failure must not lose results
         # half-drawn pictures would look complete in the report: drop them all
         shutil.rmtree(out / "pictures", ignore_errors=True)
-        from .output.render import one_line
-
-        return f"pictures skipped: {type(exc).__name__}: {one_line(exc, last=False)}; results are complete"
+        return f"pictures skipped: {type(exc).__name__}: {render.one_line(exc, last=False)}; results are complete"
     return f"{len(files)} pictures and animations in pictures/"
+
+
+HISTORY_PLOTS = 12       # history plots per case in the report; every recorded node is in the CSV
 
 
 def _report(model: Model, results: list, modal: list, doc: dict, out: Path, notice: str = "") -> None:
@@ -428,7 +431,8 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path, noti
         images[name] = [(plots.plot_participation(pdir / f"{name}_participation.png", m), "effective modal mass")]
         for j in range(min(6, m.shapes.shape[2])):
             # pictures of the first six modes, animations of the first three (keeps the file small)
-            kinds = (("_plane.png", "across the main motion"), (".gif", "one cycle"))[: 2 if j < 3 else 1]
+            kinds = (("_plane.png", "across the main motion"), ("_iso.png", "isometric view"),
+                     (".gif", "one cycle"))[: 3 if j < 3 else 2]
             for suffix, cap in kinds:
                 f = pics / f"{name}_mode_{j + 1:03d}{suffix}"
                 if f.exists():
@@ -438,17 +442,24 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path, noti
                            "deformed shape")]
     for x in modal:
         if isinstance(x, (FreeCaseResult, HistoryResult)):
-            j = int(np.argmax(np.abs(x.u[:, :, :3]).max(axis=(0, 2))))
-            node = model.node_names[x.record[j]]
-            images[x.name] = [(plots.plot_history(pdir / f"{x.name}_history.png", x, node, j),
-                               f"displacement history at {node}")]
+            # one plot per recorded node; past HISTORY_PLOTS, those that move most (in record order)
+            top = np.abs(x.u[:, :, :3]).max(axis=(0, 2))
+            keep = np.sort(np.argsort(-top, kind="stable")[:HISTORY_PLOTS])
+            more = (f" ({len(keep)} of {len(x.record)} recorded nodes, those that move most; every node "
+                    f"is in the CSV table)") if len(keep) < len(x.record) else ""
+            images[x.name] = []
+            for j in keep:
+                node = model.node_names[x.record[j]]
+                f = pdir / f"{x.name}_history_{re.sub(r'[^A-Za-z0-9_.-]', '_', node)}.png"
+                images[x.name].append((plots.plot_history(f, x, node, j), f"displacement history at {node}{more}"))
             for f, cap in ((pics / f"{x.name}.gif", "response animation"), (pics / f"{x.name}_peak.png", "largest motion")):
                 if f.exists():
                     images[x.name].append((f, cap))
         elif isinstance(x, HarmonicResult):
             j = int(np.argmax(np.abs(x.u[:, :, :3]).max(axis=(0, 2))))
             node = model.node_names[x.record[j]]
-            nat = next(iter(modes.values())).modes.freq if modes else []
+            case = next(c for c in model.cases if c.name == x.name)
+            nat = modes[case.options["modes"]].modes.freq    # the modes this sweep was built on
             images[x.name] = [(plots.plot_frf(pdir / f"{x.name}_frf.png", x, node, j, nat),
                                f"frequency response at {node}")]
         elif isinstance(x, SpectrumResult):
@@ -514,7 +525,7 @@ def _writable_parent(target: Path) -> None:
 
 
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
-             draw_modes: int = 6) -> int:
+             draw_modes: int = 6, fps: float = 12.0) -> int:
     model = read_deck(deck)
     target = Path(out) if out else Path("results") / Path(deck).stem
     _writable_parent(target)        # before solving, so an unusable --out fails at once
@@ -526,7 +537,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     tmp = Path(tempfile.mkdtemp(prefix=f".quaver-{os.getpid()}-", dir=target.parent))
     try:
         doc = _write(model, results, modal, tmp)
-        notice = _render(model, modal, tmp, jobs, draw_modes) if render else "pictures skipped (--no-render)"
+        notice = _render(model, modal, tmp, jobs, draw_modes, fps) if render else "pictures skipped (--no-render)"
         _report(model, results, modal, doc, tmp, notice)
         if target.exists():
             old = target.with_name(target.name + ".old")
@@ -612,7 +623,9 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         cum = "  ".join(f"{a} {percent(v)}" for a, v in c["cumulative_mass_fraction"].items())
         missed = "not run" if c["none_missed"] is None else ("pass" if c["none_missed"] else "FAIL")
         if r.target is not None:
-            print(f"               mass target {', '.join(percent(v, 0) for v in r.target)} (X, Y, Z): "
+            got = r.part.cumulative[-1, :3]
+            print(f"               mass target {', '.join(percent(v, 0) for v in r.target)} (X, Y, Z), "
+                  f"reached {', '.join(percent(v) for v in got)}: "
                   + ("met" if r.target_met else f"NOT met with {len(r.modes.freq)} modes (the cap); "
                      "raise max or check the model"))
         verdict = {True: "pass", False: "FAIL"}

@@ -32,7 +32,7 @@ from PIL import Image
 from pathlib import Path
 from fem.deck.reader import read_deck
 from fem.run import solve_all
-from fem.output.render import render_modes, SIZE
+from fem.output.render import render_modes, _FIELD
 from fem.output.vtk import shape_scale
 m = read_deck(sys.argv[1])
 _, others = solve_all(m)
@@ -41,8 +41,21 @@ moved = render_modes(out / "a", m, others[0], shape_scale(m), gif=False)
 still = render_modes(out / "b", m, others[0], 0.0, gif=False)
 a = np.asarray(Image.open(moved[0]).convert("RGB"), dtype=float)
 b = np.asarray(Image.open(still[0]).convert("RGB"), dtype=float)
-print(json.dumps({"size": list(Image.open(moved[0]).size), "want": list(SIZE),
-                  "nonwhite": float((a.sum(axis=2) < 740).mean()), "diff": float(np.abs(a - b).mean())}))
+h, w, _ = a.shape
+x0, y0, x1, y1 = _FIELD
+field = np.zeros((h, w), bool)
+field[int((1 - y1) * h):int((1 - y0) * h), int(x0 * w):int(x1 * w)] = True
+drawn = ((a.sum(axis=2) < 740) | (b.sum(axis=2) < 740)) & field      # the model, either state
+rows, cols = np.nonzero(drawn)
+box = (slice(rows.min(), rows.max() + 1), slice(cols.min(), cols.max() + 1))
+diff = np.abs(a - b).sum(axis=2)
+edge = a[: int(0.8 * h), -3:]                  # right edge above the axes marker
+print(json.dumps({"size": list(Image.open(moved[0]).size),
+                  "nonwhite": float((a.sum(axis=2) < 740).mean()),
+                  "model_changed": float((diff[box] > 30).mean()),
+                  "outside_model": float(diff[~field].mean()),
+                  "edge_white": bool((edge > 250).all()),
+                  "bar_colours": int(((a[:, int(x1 * w):, 2] - a[:, int(x1 * w):, 0]) > 60).sum())}))
 """
 
 
@@ -61,9 +74,15 @@ def test_renders_show_motion(deck, tmp_path):
                        text=True, timeout=300, cwd=ROOT)
     assert r.returncode == 0, r.stderr[-2000:]
     got = json.loads(r.stdout.strip().splitlines()[-1])
-    assert got["size"] == got["want"]
+    assert got["size"] == [720, 960]        # a 6 m cantilever is tall: portrait
     assert got["nonwhite"] > 0.005          # something is drawn
-    assert got["diff"] > 0.5                # the deformed picture differs from the undeformed one
+    # inside the model's region the deformed picture differs from the undeformed one (the
+    # tip moves 5 % of the height, several member widths); outside it (caption, colour bar,
+    # axes marker) the two are the same picture
+    assert got["model_changed"] > 0.02
+    assert got["outside_model"] < 1.0
+    # the colour bar (cividis blues, right of the model's field) is drawn and ends inside the frame
+    assert got["bar_colours"] > 200 and got["edge_white"]
 
 
 def test_run_writes_pictures_and_gifs(deck, tmp_path):
@@ -71,20 +90,43 @@ def test_run_writes_pictures_and_gifs(deck, tmp_path):
     if not ok:
         pytest.skip(why)
     out = tmp_path / "res"
-    r = subprocess.run([sys.executable, "-m", "fem", "run", str(deck), "--out", str(out), "--jobs", "1"],
-                       capture_output=True, text=True, timeout=600, cwd=ROOT)
+    r = subprocess.run([sys.executable, "-m", "fem", "run", str(deck), "--out", str(out), "--jobs", "1",
+                        "--fps", "5"], capture_output=True, text=True, timeout=600, cwd=ROOT)
     assert r.returncode == 0, r.stderr[-2000:]
     pics = sorted(p.name for p in (out / "pictures").iterdir())
     assert "MODES_mode_001_plane.png" in pics and "MODES_mode_002.gif" in pics and "REL.gif" in pics
+    import numpy as np
     from PIL import Image
     gif = Image.open(out / "pictures" / "MODES_mode_001.gif")
-    assert gif.n_frames >= 12               # 24 written; identical neighbours may be merged
+    assert gif.n_frames == 24               # each frame's time caption differs, so none is merged
+    # the colour bar stays inside the smaller animation frames too: the right edge is white
+    # above the axes marker
+    frame = np.asarray(gif.convert("RGB"), dtype=float)
+    assert (frame[: int(0.8 * frame.shape[0]), -3:] > 250).all()
+    assert ((frame[:, int(0.8 * frame.shape[1]):, 2] - frame[:, int(0.8 * frame.shape[1]):, 0]) > 60).sum() > 100
+    report = (out / "report.html").read_text(encoding="utf-8")
+    assert "mode 1, " in report and "isometric view" in report and "one cycle" in report
+    rel = Image.open(out / "pictures" / "REL.gif")
+    assert rel.info["duration"] == 200      # --fps 5: 200 ms a frame
+    doc = json.loads((out / "results.json").read_text())
+    assert rel.n_frames == len(list((out / "response").glob("REL_*.vtu")))
+    # the time caption sits in the lower-left corner (bottom 12 % of the height, left third);
+    # it changes from frame to frame while the structure above it is drawn elsewhere
+    caps = []
+    for k in (0, 1, rel.n_frames - 1):
+        rel.seek(k)
+        im = np.asarray(rel.convert("L"), dtype=float)
+        h, w = im.shape
+        caps.append(im[int(0.88 * h):, : w // 3])
+    assert (caps[0] < 128).any()                                # dark text on the white ground
+    assert np.abs(caps[0] - caps[1]).mean() > 0.5 and np.abs(caps[1] - caps[2]).mean() > 0.5
+    assert doc["cases"][-1]["name"] == "REL"
     from fem.output.render import video_available
     if video_available():
         import imageio.v2 as imageio
         with imageio.get_reader(out / "pictures" / "MODES_mode_001.mp4") as rd:
             assert rd.count_frames() == 24
-            assert rd.get_data(0).shape[:2] == (480, 640)
+            assert rd.get_data(0).shape[:2] == (640, 480)     # portrait, rows x columns
 
 
 def test_no_gl_is_one_line_and_results_stay(deck, tmp_path):
@@ -178,3 +220,79 @@ def test_failure_while_drawing_keeps_results(deck, tmp_path, monkeypatch, capsys
                      "results are complete"]
     assert "\x1b" not in text
     _assert_complete(out, lines[0])
+
+
+# a symmetric table: four equal columns at the corners of a 4 m square, a stiff top frame and
+# equal corner masses; the centre lies on the vertical axis through the origin
+TABLE = """
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section C = pipe(od = 114.3 mm, wall = 6 mm)
+section B = pipe(od = 273 mm, wall = 10 mm)
+node A0 = (-2 m, -2 m, 0)
+node B0 = (2 m, -2 m, 0)
+node C0 = (2 m, 2 m, 0)
+node D0 = (-2 m, 2 m, 0)
+node A1 = (-2 m, -2 m, 3 m)
+node B1 = (2 m, -2 m, 3 m)
+node C1 = (2 m, 2 m, 3 m)
+node D1 = (-2 m, 2 m, 3 m)
+member CA : A0 -> A1 beam C S
+member CB : B0 -> B1 beam C S
+member CC : C0 -> C1 beam C S
+member CD : D0 -> D1 beam C S
+member AB : A1 -> B1 beam B S
+member BC : B1 -> C1 beam B S
+member CDt : C1 -> D1 beam B S
+member DA : D1 -> A1 beam B S
+support A0 fixed
+support B0 fixed
+support C0 fixed
+support D0 fixed
+mass A1 = 2 t
+mass B1 = 2 t
+mass C1 = 2 t
+mass D1 = 2 t
+case MODES modes { count = 3, reference = (0, 0, 0) }
+"""
+
+
+def test_torsional_mode_is_named_a_twist(tmp_path):
+    """The table's three lowest modes are two equal sways and a twist about the vertical
+    axis: its plan is symmetric about both axes through the centre of mass, so lateral and
+    torsional motions uncouple (a symmetry argument, no source needed). The solver's own
+    participations confirm which mode is the twist: all the RZ effective mass about the
+    centre and none in X or Y; the sways none in RZ."""
+    import numpy as np
+
+    from fem.deck.reader import read_deck
+    from fem.output.render import dominant_direction
+    from fem.run import solve_all
+
+    d = tmp_path / "table.deck"
+    d.write_text(TABLE)
+    model = read_deck(d)
+    _, (modes,) = solve_all(model)
+    names = [dominant_direction(modes.shapes[:, :, j], model.coords)[0] for j in range(3)]
+    frac = np.nan_to_num(modes.part.fraction)
+    twist = int(np.argmax(frac[:, 5]))
+    assert frac[twist, 5] > 0.99 and frac[twist, :2].max() < 1e-8   # a pure torsional mode
+    assert names[twist] == "twist about z"
+    sways = [j for j in range(3) if j != twist]
+    assert all(names[j] in ("X", "Y") for j in sways)
+    assert all(frac[j, 5] < 1e-8 for j in sways)
+
+
+def test_twist_of_a_shaft_on_its_own_axis():
+    """Nodes on one vertical line: no translation, rotation about z only: still a twist; the
+    same line swaying in Y is 'Y'."""
+    import numpy as np
+
+    from fem.output.render import dominant_direction
+
+    coords = np.c_[np.zeros(5), np.zeros(5), np.linspace(0, 4, 5)]
+    shape = np.zeros((5, 6))
+    shape[:, 5] = np.linspace(0, 1, 5)
+    assert dominant_direction(shape, coords)[0] == "twist about z"
+    shape[:, 5] = 0
+    shape[:, 1] = np.linspace(0, 1, 5) ** 2
+    assert dominant_direction(shape, coords)[0] == "Y"

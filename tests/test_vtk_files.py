@@ -1,11 +1,13 @@
 """Mode-shape and response files: VTU read back with meshio equals the results."""
 
 import csv
+import json
 import xml.etree.ElementTree as ET
 from pathlib import Path
 
 import meshio
 import numpy as np
+import pytest
 
 from fem.cli import main
 
@@ -41,3 +43,92 @@ def test_response_frames_start_from_the_release_shape(tmp_path):
     got = first.point_data["displacement"][top, 0]
     want = np.array([disp[n] for n in disp if n.startswith("P10_")])
     np.testing.assert_allclose(got, want, rtol=0.02)
+
+
+RACK = Path(__file__).parents[1] / "decks" / "rack.deck"
+
+
+def _frames(folder: Path, name: str, field: str = "displacement"):
+    pvd = ET.parse(folder / f"{name}.pvd").getroot()
+    entries = [(float(d.get("timestep")), d.get("file")) for d in pvd.iter("DataSet")]
+    return np.array([t for t, _ in entries]), [meshio.read(folder / f).point_data[field] for _, f in entries]
+
+
+def _series(path: Path):
+    """time -> node -> (ux, uy, uz, rx, ry, rz) from a free_/history_ CSV table."""
+    out = {}
+    for r in csv.DictReader(path.open()):
+        out.setdefault(float(r["time_s"]), {})[r["node"]] = [float(r[d]) for d in ("ux", "uy", "uz", "rx", "ry", "rz")]
+    return out
+
+
+def _check_against_csv(out: Path, case: dict) -> int:
+    """The response VTU frames hold, at the recorded nodes, the CSV's time series at the same
+    times (both are the superposed modal response; only the order of the sums differs)."""
+    kind = "free" if case["kind"] == "free" else "history"
+    series = _series(out / f"{kind}_{case['name']}.csv")
+    t, disp = _frames(out / "response", case["name"])
+    _, rot = _frames(out / "response", case["name"], "rotation")
+    names = {n: i for i, n in enumerate(case["peaks"])}        # results.json lists nodes in model order
+    scale = case["peak_translation_m"]
+    checked = 0
+    for k, tk in enumerate(t):
+        row = series[min(series, key=lambda x: abs(x - tk))]
+        for node, vals in row.items():
+            i = names[node]
+            np.testing.assert_allclose(disp[k][i], vals[:3], rtol=1e-9, atol=1e-12 * scale)
+            np.testing.assert_allclose(rot[k][i], vals[3:], rtol=1e-9, atol=1e-12)
+            checked += 1
+    return checked
+
+
+def test_response_frames_hold_the_peak_and_follow_the_modes(tmp_path):
+    """Every free and history response: one frame is the step of the largest translation
+    (equal to results.json's peak to rounding), and frames are at most 1/8 of the shortest
+    period among the modes that matter apart, or 200 spread over the run."""
+    from fem.analysis.free_case import FRAMES_PER_PERIOD, MAX_FRAMES
+
+    seen = 0
+    for deck in (RACK, MAST):
+        out = tmp_path / deck.stem
+        assert main(["run", str(deck), "--out", str(out), "--no-render"]) == 0
+        doc = json.loads((out / "results.json").read_text())
+        for case in doc["cases"]:
+            if case["kind"] not in ("free", "history"):
+                continue
+            seen += 1
+            assert _check_against_csv(out, case) >= 3 * 50       # recorded nodes x frames
+            t, disp = _frames(out / "response", case["name"])
+            top = [float(np.abs(d).max()) for d in disp]
+            # same products in another order: equal to a few ulps
+            np.testing.assert_allclose(max(top), case["peak_translation_m"], rtol=1e-12)
+            k = int(np.argmax(top))
+            node = max(case["peaks"].items(), key=lambda kv: max(map(abs, kv[1]["value"][:3])))[1]
+            d = int(np.argmax(np.abs(node["value"][:3])))
+            assert t[k] == pytest.approx(node["time_s"][d], abs=1e-12)
+            assert len(t) <= MAX_FRAMES + 2 and t[0] == 0.0
+            assert t[-1] == pytest.approx(case["duration_s"])
+            step = np.diff(t)
+            modes = next(c for c in doc["cases"] if c["kind"] == "modes")
+            shortest = min(modes["period_s"])
+            # either resolving the shortest retained period, or capped at the frame budget
+            assert step.max() <= max(shortest / FRAMES_PER_PERIOD * 1.0001 + 1e-12,
+                                     case["duration_s"] / (MAX_FRAMES - 1) * 1.5)
+    assert seen == 3                       # SURGE, QUAKE, RELEASE
+
+
+def test_frame_spacing_from_the_modes():
+    """Synthetic modal motion: a 0.1 s mode that matters sets 8 frames a period; a 0.01 s
+    mode with 0.1 % of the motion does not; the cap spreads frames evenly."""
+    from fem.analysis.free_case import frame_indices
+
+    t = np.arange(0, 1.0005, 0.001)
+    omega = 2 * np.pi / np.array([0.1, 0.01])
+    q = np.c_[np.sin(omega[0] * t), 1e-3 * np.sin(omega[1] * t)]
+    shapes = np.ones((3, 6, 2))
+    idx = frame_indices(t, q, shapes, omega, must=[503])
+    assert 503 in idx and idx[0] == 0 and idx[-1] == len(t) - 1
+    assert np.diff(idx).max() == 12          # floor(0.1 / 8 / 0.001)
+    q[:, 1] *= 100                           # now the 0.01 s mode matters: every step, capped
+    idx = frame_indices(t, q, shapes, omega, cap=50)
+    assert len(idx) <= 51 and np.ptp(np.diff(idx)[:-1]) == 0

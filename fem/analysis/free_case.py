@@ -12,7 +12,7 @@ from .damping import case_ratios
 from .free import free_response, modal_initial_conditions
 from .modal_case import ModesCaseResult, field_responses
 
-__all__ = ["FreeCaseResult", "animation_frames", "peaks", "solve_free_case", "step_warnings"]
+__all__ = ["FreeCaseResult", "animation_frames", "frame_indices", "peak_index", "peaks", "solve_free_case", "step_warnings"]
 
 
 @dataclass
@@ -35,7 +35,7 @@ class FreeCaseResult:
     reaction_peak: np.ndarray = None
     member_peak: np.ndarray = None
     inertia_balance: float = 0.0
-    frame_t: np.ndarray = None      # (f,) times of the animation frames (about 120 over the run)
+    frame_t: np.ndarray = None      # (f,) times of the animation frames (frame_indices)
     frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
     warnings: tuple = ()
 
@@ -79,9 +79,47 @@ def peaks(q, shapes, t, static=None, g=None, block=2000):
     return peak, peak_t
 
 
-def animation_frames(t, q, shapes, static=None, g=None, count: int = 120):
-    """About `count` evenly spaced frames of the whole deformed shape: times (f,), (f, n, 6)."""
-    idx = np.arange(0, len(t), max(1, len(t) // count))
+FRAMES_PER_PERIOD = 8     # a sine drawn at 8 points a cycle reads as smooth motion
+MAX_FRAMES = 200          # caps drawing time (~0.1 s a frame) and file size; frames then spread evenly
+MATTERS = 0.01            # a mode matters when its largest motion is >= 1 % of the largest mode's
+
+
+def frame_indices(t, q, shapes, omega, must=(), per_period: int = FRAMES_PER_PERIOD,
+                  cap: int = MAX_FRAMES) -> np.ndarray:
+    """Time-step indices of the animation frames, sorted: spaced at 1/per_period of the
+    shortest period among the modes that matter (largest |q_k| times largest translation of
+    phi_k at least MATTERS of the largest such product), never closer than the time step, at
+    most about `cap` spread evenly over the run, plus the first and last steps and `must`.
+
+    t (m,) s; q (m, k) modal coordinates; shapes (n, 6, k); omega (k,) rad/s."""
+    m = len(t)
+    if m <= 1:
+        return np.arange(m)
+    dt = float(t[1] - t[0])
+    size = np.abs(q).max(axis=0) * np.abs(shapes[:, :3]).max(axis=(0, 1))
+    matter = (omega > 0) & (size >= MATTERS * size.max()) if size.max() > 0 else omega > 0
+    stride = 1
+    if matter.any():
+        shortest = 2 * np.pi / float(omega[matter].max())
+        stride = max(1, int(shortest / per_period / dt))
+    if (m - 1) / stride + 1 > cap:
+        stride = int(np.ceil((m - 1) / (cap - 1)))
+    return np.union1d(np.arange(0, m, stride), np.array([m - 1, *must], dtype=int))
+
+
+def peak_index(t, peak, peak_time) -> int:
+    """Index of the step holding the largest translation anywhere (peak, peak_time (n, 6))."""
+    node, d = np.unravel_index(np.argmax(np.abs(peak[:, :3])), peak[:, :3].shape)
+    return int(np.argmin(np.abs(t - peak_time[node, d])))
+
+
+def animation_frames(t, q, shapes, static=None, g=None, omega=None, must=()):
+    """Frames of the whole deformed shape at frame_indices (evenly about 120 when omega is not
+    given): times (f,), displacements (f, n, 6)."""
+    if omega is None:
+        idx = np.union1d(np.arange(0, len(t), max(1, len(t) // 120)), np.asarray(must, dtype=int))
+    else:
+        idx = frame_indices(t, q, shapes, omega, must)
     frames = np.einsum("fk,ndk->fnd", q[idx], shapes)
     if static is not None:
         frames += g[idx, None, None] * static.reshape(-1, 6)[None]
@@ -116,7 +154,8 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     Rm, Fm = field_responses(model, asm, modal.shapes.reshape(6 * model.n_nodes, -1).T)
     r_peak, _ = peaks(q, Rm.reshape(k, -1).T, t)
     m_peak, _ = peaks(q, Fm.reshape(k, -1).T, t)
-    ft, frames = animation_frames(t, q, modal.shapes)
+    ft, frames = animation_frames(t, q, modal.shapes, omega=omega,
+                                  must=[peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
                           captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                           _inertia_balance(model, asm, modal, Rm), ft, frames,

@@ -25,6 +25,7 @@ _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64
 COLORMAP = "cividis"        # perceptually uniform, readable in grey and by colour-blind readers
 SIZE = (960, 720)           # still pictures
 GIF_SIZE = (640, 480)       # animations: smaller frames keep files and the report light
+FPS = 12.0                  # animation frames a second (quaver run --fps)
 
 
 _ANSI = re.compile(r"\x1b\[[0-9;?]*[ -/]*[@-~]|\x1b[@-_]")
@@ -72,11 +73,34 @@ def can_render() -> tuple[bool, str]:
     return True, ""
 
 
-def dominant_direction(shape: np.ndarray) -> tuple[str, np.ndarray]:
-    """Name of the main motion ('X', 'Y', 'Z' or 'twist') and the share of each translation."""
+def dominant_direction(shape: np.ndarray, coords: np.ndarray | None = None) -> tuple[str, np.ndarray]:
+    """Name of the main motion of a mode, 'X', 'Y', 'Z' or 'twist about z', and the share of
+    each translation (3,).
+
+    shape (n, 6) one mode at every node; coords (n, 3) m. The plan motion is fitted by a rigid
+    one, a translation (a, b) plus a turn theta about the vertical axis through the nodes'
+    centroid, in least squares over the nodes' horizontal translations and their rotations
+    about z (weighted by the nodes' mean plan radius rho, so both count as lengths). The mode
+    is a twist when the turn moves the nodes more (|theta| rho) than the translation does and
+    more than their mean vertical motion: rotations dominate and the translations circulate."""
     tr = np.abs(shape[:, :3]).sum(axis=0)
     share = tr / max(tr.sum(), 1e-300)
-    return "XYZ"[int(np.argmax(share))], share
+    name = "XYZ"[int(np.argmax(share))]
+    if coords is None or not len(shape):
+        return name, share
+    r = coords[:, :2] - coords[:, :2].mean(axis=0)
+    rho = float(np.sqrt((r ** 2).sum(axis=1).mean()))
+    ext = float(np.ptp(coords, axis=0).max()) if len(coords) > 1 else 0.0
+    if rho <= 1e-6 * max(ext, 1e-300):
+        rho = ext / 2                     # every node on one vertical line: its length is the lever
+    if rho <= 0:
+        return name, share
+    n = len(shape)
+    turn = (np.sum(r[:, 0] * shape[:, 1] - r[:, 1] * shape[:, 0]) + rho ** 2 * shape[:, 5].sum()) / (2 * n * rho ** 2)
+    mean = shape[:, :3].mean(axis=0)
+    if abs(turn) * rho > max(np.hypot(mean[0], mean[1]), abs(mean[2])):
+        return "twist about z", share
+    return name, share
 
 
 def _view_vector(shape: np.ndarray, extent: np.ndarray) -> np.ndarray:
@@ -98,12 +122,72 @@ def _scene(model, radius):
     return pv, poly
 
 
-def _setup(pv, poly, caption):
-    p = pv.Plotter(off_screen=True, window_size=SIZE)
+def _sizes(model) -> tuple[tuple[int, int], tuple[int, int]]:
+    """(still, animation) window sizes: portrait for a tall model (a mast), else landscape."""
+    lo, hi = model.bounding_box()
+    ext = hi - lo
+    if ext[2] > 1.5 * max(ext[0], ext[1]):
+        return SIZE[::-1], GIF_SIZE[::-1]
+    return SIZE, GIF_SIZE
+
+
+def _setup(pv, poly, caption, size=SIZE):
+    p = pv.Plotter(off_screen=True, window_size=size)
     p.set_background("white")
     p.add_mesh(poly.copy(), color="#b8bcc4", opacity=0.4, line_width=3, render_lines_as_tubes=True)
-    p.add_text(caption, position="upper_left", font_size=11, color="#1d2733")
+    p.add_text(caption, position="upper_left", font_size=11 if size[0] >= size[1] else 9, color="#1d2733")
+    # a small orientation marker in the lower right corner, clear of captions and colour bar
+    p.add_axes(line_width=2, color="#1d2733", viewport=(0.86, 0.0, 1.0, 0.14 * size[0] / size[1]))
     return p
+
+
+# the part of the frame the model is fitted into (fractions of width and height, from the
+# lower left): clear of the caption above and of the colour bar and axes marker on the right
+_FIELD = (0.02, 0.03, 0.80, 0.88)
+
+
+ISO = ((1.0, 1.0, 1.0), (0.0, 0.0, 1.0))      # isometric: looking from (1, 1, 1), z up
+
+
+def _fit(p, points: np.ndarray, toward, up) -> None:
+    """Parallel projection looking from direction `toward` (to the camera) with `up` as near
+    vertical as it can be, fitted tightly to `points` (undeformed and deformed), the model
+    inside _FIELD. The camera is set here in full (pyvista's view presets keep state that
+    spoils a later parallel fit)."""
+    cam = p.camera
+    d = -np.asarray(toward, float)
+    d /= np.linalg.norm(d)
+    up = np.asarray(up, float)
+    up = up - (up @ d) * d
+    up /= np.linalg.norm(up)
+    right = np.cross(d, up)
+    u, v = points @ right, points @ up
+    w, h = p.window_size
+    x0, y0, x1, y1 = _FIELD
+    half_h = max(np.ptp(v) / (2 * (y1 - y0)), np.ptp(u) * h / w / (2 * (x1 - x0)), 1e-9)
+    half_w = half_h * w / h
+    # the screen centre sits where the field's centre must fall on the model's centre
+    cu = 0.5 * (u.min() + u.max()) + (0.5 - 0.5 * (x0 + x1)) * 2 * half_w
+    cv = 0.5 * (v.min() + v.max()) + (0.5 - 0.5 * (y0 + y1)) * 2 * half_h
+    centre = cu * right + cv * up + (points @ d).mean() * d
+    dist = max(np.ptp(points, axis=0).max(), 1e-9) * 3
+    cam.focal_point = centre
+    cam.position = centre - dist * d
+    cam.up = up
+    cam.parallel_projection = True
+    cam.parallel_scale = half_h
+    p.renderer.ResetCameraClippingRange()
+    p.render()                   # a screenshot reuses the last rendered image otherwise
+
+
+RELATIVE = "relative displacement"
+# a relative scale 0-1 (mode shapes have no absolute size), wholly inside the frame on the right
+def _mode_bar(size) -> dict:
+    """Colour bar settings; fonts in pixels scaled with the frame so the bar fits any size."""
+    k = min(size) / 720
+    return dict(title="relative\ndisplacement", color="#1d2733", vertical=True, n_labels=3, fmt="%.1f",
+                position_x=0.84, position_y=0.3, width=0.045, height=0.45, title_font_size=round(13 * k),
+                label_font_size=round(12 * k), unconstrained_font_size=True)
 
 
 def _deformed(poly, disp):
@@ -114,17 +198,32 @@ def _deformed(poly, disp):
     return moved
 
 
-def _frame(p, mesh, base, disp):
+def _frame(p, mesh, base, disp, recolour: bool = True):
     mesh.points = base + disp
-    mesh["motion (m)"] = np.linalg.norm(disp, axis=1)
+    if recolour:
+        mesh["motion (m)"] = np.linalg.norm(disp, axis=1)
     p.render()
 
 
+def _clock(p, text: str):
+    """The frame's time caption, lower left; its text is replaced frame by frame."""
+    return p.add_text(text, position="lower_left", font_size=8, color="#1d2733")
+
+
+def _cycle_captions(period: float, frames: int) -> list[str]:
+    if not np.isfinite(period) or period <= 0:
+        return [f"phase {k}/{frames} of one cycle" for k in range(frames)]
+    return [f"t = {k * period / frames:.3g} s of one period ({period:.3g} s)" for k in range(frames)]
+
+
 def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
-                 gif: bool = True) -> list[Path]:
-    """Per mode: PNG in the plane of largest motion, an isometric PNG, and a GIF of one cycle."""
+                 gif: bool = True, fps: float = FPS) -> list[Path]:
+    """Per mode: PNG in the plane of largest motion, an isometric PNG, and a GIF of one cycle,
+    all from one plotter whose points are updated in place. Colour: the shape's displacement
+    relative to its largest (0 to 1)."""
     pv, poly = _scene(model, None)
     lo, hi = model.bounding_box()
+    still, moving = _sizes(model)
     folder.mkdir(parents=True, exist_ok=True)
     out = []
     first = modal.first_mode
@@ -133,34 +232,41 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
         s = modal.shapes[:, :, jj]
         peak = np.abs(s[:, :3]).max()
         disp = s[:, :3] * (length / peak if peak > 0 else 0.0)
-        d, share = dominant_direction(s)
+        d, share = dominant_direction(s, model.coords)
         eff = modal.part.fraction[jj, :3]
         caption = (f"mode {j + 1}   {modal.modes.freq[jj]:.4g} Hz   period {modal.modes.period[jj]:.4g} s\n"
-                   f"main motion {d}   effective mass X {percent(eff[0])}  Y {percent(eff[1])}  "
+                   f"main motion {d}\neffective mass X {percent(eff[0])}  Y {percent(eff[1])}  "
                    f"Z {percent(eff[2])}")
         mag = np.linalg.norm(disp, axis=1)
-        for view in ("plane", "iso"):
-            p = _setup(pv, poly, caption)
-            mesh = _deformed(poly, disp)
-            p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, max(mag.max(), 1e-12)],
-                       line_width=6, render_lines_as_tubes=True,
-                       scalar_bar_args=dict(title="motion (scaled)", color="#1d2733", vertical=True,
-                                            position_x=0.88, position_y=0.2, height=0.6, width=0.05))
-            if view == "plane":
-                vv = _view_vector(s, hi - lo)
-                p.view_vector(vv, viewup=(0, 0, 1) if vv[2] == 0 else (0, 1, 0))
-            else:
-                p.view_isometric()
-            p.reset_camera()
-            p.camera.zoom(0.85)
-            name = folder / f"{modal.name}_mode_{j + 1:03d}_{view}.png"
-            p.screenshot(str(name))
-            out.append(name)
-            if view == "plane" and gif:
-                base = poly.points.copy()
-                shots = (disp * np.sin(2 * np.pi * k / frames) for k in range(frames))
-                out += _animate(p, mesh, base, shots, folder / f"{modal.name}_mode_{j + 1:03d}")
-            p.close()
+        p = _setup(pv, poly, caption, still)
+        mesh = _deformed(poly, disp)
+        mesh[RELATIVE] = mag / mag.max() if mag.max() > 0 else mag
+        p.add_mesh(mesh, scalars=RELATIVE, cmap=COLORMAP, clim=[0.0, 1.0], line_width=6,
+                   render_lines_as_tubes=True, scalar_bar_args=_mode_bar(still))
+        for bar in p.scalar_bars.values():
+            bar.SetVerticalTitleSeparation(8)          # keeps the title clear of the top label
+        # a twist about z is seen from above; other motions across their main direction
+        vv = np.array([0.0, 0.0, 1.0]) if d.startswith("twist") else _view_vector(s, hi - lo)
+        view = (vv, (0, 0, 1) if vv[2] == 0 else (0, 1, 0))
+        span = np.r_[poly.points, poly.points + disp, poly.points - disp]   # the whole cycle
+        _fit(p, span, *view)
+        stem = folder / f"{modal.name}_mode_{j + 1:03d}"
+        p.screenshot(str(stem) + "_plane.png")
+        _fit(p, span, *ISO)
+        p.screenshot(str(stem) + "_iso.png")
+        out += [Path(str(stem) + "_plane.png"), Path(str(stem) + "_iso.png")]
+        if gif:
+            base = poly.points.copy()
+            shots = (disp * np.sin(2 * np.pi * k / frames) for k in range(frames))
+            p.window_size = moving
+            for bar in p.scalar_bars.values():
+                bar.GetTitleTextProperty().SetFontSize(_mode_bar(moving)["title_font_size"])
+                bar.GetLabelTextProperty().SetFontSize(_mode_bar(moving)["label_font_size"])
+            _fit(p, span, *view)
+            out += _animate(p, mesh, base, shots, stem, fps, _clock(p, ""),
+                            _cycle_captions(float(modal.modes.period[jj]), frames), size=moving,
+                            recolour=False)
+        p.close()
     return out
 
 
@@ -173,15 +279,19 @@ def video_available() -> bool:
     return True
 
 
-def _animate(p, mesh, base, displacements, stem: Path, fps: int = 12) -> list[Path]:
-    """Render each displacement field once; write stem.gif always and stem.mp4 when an encoder
-    is available. Frames are taken from the live plotter, so one context serves both files."""
+def _animate(p, mesh, base, displacements, stem: Path, fps: float = FPS, clock=None,
+             captions=(), size=GIF_SIZE, recolour: bool = True) -> list[Path]:
+    """Render each displacement field once, with its caption in the `clock` text actor; write
+    stem.gif always and stem.mp4 when an encoder is available. Frames are taken from the live
+    plotter (points updated in place), so one context serves every frame and both files."""
     import imageio.v2 as imageio
 
-    p.window_size = GIF_SIZE
+    p.window_size = size
     images = []
-    for d in displacements:
-        _frame(p, mesh, base, d)
+    for i, d in enumerate(displacements):
+        if clock is not None:
+            clock.set_text("lower_left", captions[i])
+        _frame(p, mesh, base, d, recolour)
         images.append(p.screenshot(None, return_img=True))
     gif = stem.with_suffix(".gif")
     imageio.mimsave(gif, images, duration=1000 / fps, loop=0)
@@ -195,9 +305,10 @@ def _animate(p, mesh, base, displacements, stem: Path, fps: int = 12) -> list[Pa
     return out
 
 
-def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool = True) -> list[Path]:
-    """GIF of a free or history response at an exaggerated but constant scale, and a PNG of the
-    frame with the largest motion."""
+def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool = True,
+                    fps: float = FPS) -> list[Path]:
+    """GIF of a free or history response at an exaggerated but constant scale, each frame
+    captioned with its time, and a PNG of the frame with the largest motion."""
     pv, poly = _scene(model, None)
     lo, hi = model.bounding_box()
     extent = float(max(np.max(hi - lo), 1e-9))
@@ -206,35 +317,42 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     folder.mkdir(parents=True, exist_ok=True)
     worst = int(np.argmax(np.abs(frames[:, :, :3]).max(axis=(1, 2))))
     disp = frames[worst, :, :3] * k
-    caption = f"{name}   t = {frame_t[worst]:.3g} s   largest motion {peak:.3g} m (drawn x{k:.3g})"
-    p = _setup(pv, poly, caption)
+    caption = f"{name}   largest motion {peak:.3g} m\nat t = {frame_t[worst]:.4g} s (drawn x{k:.3g})"
+    still, moving = _sizes(model)
+    p = _setup(pv, poly, caption, still)
     mesh = _deformed(poly, disp)
     p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, max(np.linalg.norm(disp, axis=1).max(), 1e-12)],
                show_scalar_bar=False, line_width=6, render_lines_as_tubes=True)
-    p.view_isometric()
-    p.reset_camera()
-    p.camera.zoom(0.85)
+    clock = _clock(p, f"t = {frame_t[worst]:.4g} s (largest motion)")
+    some = frames[::max(1, len(frames) // 20), :, :3] * k          # enough frames to bound the motion
+    span = np.r_[poly.points, poly.points + disp, (poly.points[None] + some).reshape(-1, 3)]
+    _fit(p, span, *ISO)
     png = folder / f"{name}_peak.png"
     p.screenshot(str(png))
     out = [png]
     if gif:
         base = poly.points.copy()
-        out += _animate(p, mesh, base, (frames[i, :, :3] * k for i in range(len(frame_t))), folder / name)
+        marks = [f"t = {x:.4g} s" + ("  (largest motion)" if i == worst else "") for i, x in enumerate(frame_t)]
+        p.window_size = moving
+        _fit(p, span, *ISO)
+        out += _animate(p, mesh, base, (frames[i, :, :3] * k for i in range(len(frame_t))), folder / name,
+                        fps, clock, marks, size=moving)
     p.close()
     return out
 
 
 def _render_chunk(args):
-    kind, folder, model, item, extra = args
+    kind, folder, model, item, extra, fps = args
     if kind == "modes":
-        return render_modes(folder, model, item, extra)
-    return render_response(folder, model, item.name, item.frame_t, item.frames)
+        return render_modes(folder, model, item, extra, fps=fps)
+    return render_response(folder, model, item.name, item.frame_t, item.frames, fps=fps)
 
 
 def render_all(folder: Path, model, modal_cases, responses, length: float, jobs: int = 1,
-               max_modes: int = 6) -> list[Path]:
-    """Pictures and animations of the first `max_modes` modes of every modes case and of every
-    free/history response, in `jobs` parallel processes (each with its own offscreen context)."""
+               max_modes: int = 6, fps: float = FPS) -> list[Path]:
+    """Pictures and animations (played at `fps` frames a second) of the first `max_modes` modes
+    of every modes case and of every free/history response, in `jobs` parallel processes (each
+    with its own offscreen context)."""
     from dataclasses import replace
 
     tasks = []
@@ -244,8 +362,8 @@ def render_all(folder: Path, model, modal_cases, responses, length: float, jobs:
             one = replace(m, shapes=m.shapes[:, :, j:j + 1],
                           modes=replace(m.modes, freq=m.modes.freq[j:j + 1], period=m.modes.period[j:j + 1]),
                           part=replace(m.part, fraction=m.part.fraction[j:j + 1]))
-            tasks.append(("modes", folder, model, replace(one, first_mode=j), length))
-    tasks += [("response", folder, model, r, None) for r in responses]
+            tasks.append(("modes", folder, model, replace(one, first_mode=j), length, fps))
+    tasks += [("response", folder, model, r, None, fps) for r in responses]
     from ..progress import bar
 
     if jobs <= 1 or len(tasks) <= 1:

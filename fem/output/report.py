@@ -24,7 +24,8 @@ th { background: #f4f6f8; } td.l, th.l { text-align: left; }
 .pass { color: #2e7d32; font-weight: 600; } .fail { color: #b3261e; font-weight: 700; }
 figure { display: inline-block; margin: 0.4em; vertical-align: top; }
 figure img { max-width: 100%; border: 1px solid #e4e7ec; } figcaption { font-size: 0.8em; }
-.gallery img { width: 320px; }
+figure { max-width: 100%; } .plot img { width: 760px; }
+.gallery img { width: auto; height: auto; max-width: min(520px, 100%); max-height: 620px; }
 ul.warnings li { color: #8a4b00; }
 """
 
@@ -116,8 +117,11 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                 rows.append([f"{c['name']}: all modes, effective masses sum to the total", f"{ch['effective_mass_sum_error']:.1e}",
                              _ok(ch["effective_mass_sum_pass"])])
             if ch.get("mass_target") is not None:
-                rows.append([f"{c['name']}: effective-mass target", str([f"{100 * v:.0f}%" for v in ch["mass_target"]]),
-                             _ok(ch["mass_target_met"])])
+                got = ch["cumulative_mass_fraction"]
+                reached = ", ".join(f"{a} {100 * (1.0 if got[a] is None else got[a]):.1f}%" for a in ("X", "Y", "Z"))
+                want = ", ".join(f"{a} {100 * v:.0f}%" for a, v in zip("XYZ", ch["mass_target"]))
+                rows.append([f"{c['name']}: effective-mass target", f"target {want}; reached {reached} "
+                             f"with {ch['modes_found']} modes", _ok(ch["mass_target_met"])])
         elif c["kind"] == "harmonic":
             rows.append([f"{c['name']}: retained modes cover the sweep", ("all modes of the model" if ch["modes_complete_to_Hz"] is None
                           else f"modes complete to {ch['modes_complete_to_Hz']:.4g} Hz"),
@@ -145,7 +149,7 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                             [[j + 1, f"{f:.4g}", f"{p:.4g}", *(f"{100 * v:.1f}" for v in frac[j, :3]),
                               *(f"{100 * v:.1f}" for v in cum[j, :3])]
                              for j, (f, p) in enumerate(zip(c["frequency_Hz"], c["period_s"]))], left=0))
-        parts += [_img(p, cap, "gallery" if p.suffix == ".png" and "mode_" in p.name else "")
+        parts += [_img(p, cap, "gallery" if "mode_" in p.name else "plot")
                   for p, cap in images.get(c["name"], [])]
     for c in doc["cases"]:
         if c["kind"] == "modes":
@@ -169,7 +173,8 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
             parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],
                                                         ["base shear X, Y", f"{b['Fx'] / 1e3:.4g} kN, {b['Fy'] / 1e3:.4g} kN"],
                                                         ["largest displacement", f"{c['max_displacement_m']:.4g} m"]]))
-        parts += [_img(p, cap) for p, cap in images.get(c["name"], [])]
+        parts += [_img(p, cap, "plot" if p.parent.name == "plots" else "gallery")
+                  for p, cap in images.get(c["name"], [])]
     parts.append(f'<p class="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p></body></html>')
     path.write_text("\n".join(parts), encoding="utf-8")
     return path
