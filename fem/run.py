@@ -637,8 +637,12 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             print(f"               all {len(r.modes.freq)} modes: effective masses add up to the total mass to "
                   f"{c['effective_mass_sum_error']:.1e} {'pass' if c['effective_mass_sum_pass'] else 'FAIL'}")
     print(f"  {notice}")
-    print(f"results in {target}/")
-    print("Caution: " + CAUTION)
     ok = all(r.equilibrium < EQUILIBRIUM_TOL for r in results) and all(map(_modal_ok, modal))
     ok = ok and _mass_ok(model)
-    return 0 if ok else 1
+    short = [r.name for r in modal if getattr(r, "target_met", None) is False]
+    print("  self-checks: all pass" if ok else "  self-checks: some FAIL (marked above); check before using the results")
+    if short:
+        print(f"  effective-mass target not met in {', '.join(short)}")
+    print(f"results in {target}/")
+    print("Caution: " + CAUTION)
+    return 0 if ok and not short else 1

@@ -200,3 +200,16 @@ def test_output_cut_short_by_a_pipe_is_no_traceback(tmp_path):
     err = p.stderr.read().decode()
     assert p.wait(timeout=120) == 0
     assert "Traceback" not in err and "BrokenPipe" not in err
+
+
+def test_exit_status_says_whether_the_checks_passed(tmp_path, capsys):
+    # 0 with every check passing; 1 when an effective-mass target is not met within its cap
+    deck = tmp_path / "t.deck"
+    body = RACK.read_text().replace('"records/synthetic_ground.csv"', '"g.csv"')
+    (tmp_path / "g.csv").write_text("0,0\n1,1\n")
+    deck.write_text(body)
+    assert main(["run", str(deck), "--out", str(tmp_path / "a"), "--no-render"]) == 0
+    assert "self-checks: all pass" in capsys.readouterr().out
+    deck.write_text(body + "case LOW modes { target = (99.9 percent, 99.9 percent, 0), max = 3 }\n")
+    assert main(["run", str(deck), "--out", str(tmp_path / "b"), "--no-render"]) == 1
+    assert "effective-mass target not met in LOW" in capsys.readouterr().out
