@@ -74,7 +74,8 @@ def report(tmp_path_factory):
     plots.plot_frf = spy
     try:
         out = folder / "res"
-        assert main(["run", str(deck), "--out", str(out), "--no-render"]) == 0
+        # exit status 1: the LOW modes case's effective-mass target is out of reach on purpose
+        assert main(["run", str(deck), "--out", str(out), "--no-render"]) == 1
     finally:
         plots.plot_frf = original
     return out / "report.html"

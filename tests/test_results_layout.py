@@ -84,3 +84,24 @@ def test_summary_shows_undefined_fractions_as_na(tmp_path, capsys):
     eq = next(c for c in doc["cases"] if c["name"] == "EQ")
     assert eq["checks"]["missing_mass_fraction"] == {"Y": None, "Z": None}
     assert "n/a" in (tmp_path / "out" / "report.html").read_text()
+
+
+def test_report_modes_table_of_a_free_structure(tmp_path):
+    # a free-free pipe: six rigid-body modes have no period (null in results.json), shown as
+    # 'rigid' in the report's modes table; a direction of the shear frame without moving mass
+    # shows n/a there, not 0.0
+    from fem.run import run_deck
+    (tmp_path / "f.deck").write_text("""
+material S { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+for i in 0..6 { node N[i] = (i*0.5 m, 0, 0) }
+for i in 0..5 { member M[i] : N[i] -> N[i+1] beam P S }
+case MODES modes { count = 8 }
+""")
+    run_deck(str(tmp_path / "f.deck"), str(tmp_path / "f"), render=False)
+    assert (tmp_path / "f" / "report.html").read_text().count(">rigid</td>") == 6
+    (tmp_path / "s.deck").write_text(SHEAR2)
+    run_deck(str(tmp_path / "s.deck"), str(tmp_path / "s"), render=False)
+    page = (tmp_path / "s" / "report.html").read_text()
+    row = page[page.index("Modes: MODES"):].split("<tr>")[2]          # mode 1: X, Y, Z, cumulative
+    assert row.count(">n/a</td>") == 4                                  # Y, Z and their sums

@@ -118,7 +118,7 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                              _ok(ch["effective_mass_sum_pass"])])
             if ch.get("mass_target") is not None:
                 got = ch["cumulative_mass_fraction"]
-                reached = ", ".join(f"{a} {100 * (1.0 if got[a] is None else got[a]):.1f}%" for a in ("X", "Y", "Z"))
+                reached = ", ".join(f"{a} {percent(got[a])}" for a in ("X", "Y", "Z"))
                 want = ", ".join(f"{a} {100 * v:.0f}%" for a, v in zip("XYZ", ch["mass_target"]))
                 rows.append([f"{c['name']}: effective-mass target", f"target {want}; reached {reached} "
                              f"with {ch['modes_found']} modes", _ok(ch["mass_target_met"])])
@@ -143,11 +143,15 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         parts.append(f"<h2 id='modes-{html.escape(c['name'])}'>Modes: {html.escape(c['name'])}</h2>")
         eff = np.array(c["effective_mass_kg"])
         tot = np.array(c["participating_total_kg"])
-        frac = np.divide(eff, tot, out=np.zeros_like(eff), where=tot > 0)
+        frac = np.divide(eff, tot, out=np.full_like(eff, np.nan), where=tot > 0)   # n/a where no mass moves
         cum = np.cumsum(frac, axis=0)
+
+        def pc(v):
+            return percent(v).rstrip("%")
+
         parts.append(_table(["mode", "frequency Hz", "period s", "X %", "Y %", "Z %", "cum. X %", "cum. Y %", "cum. Z %"],
-                            [[j + 1, f"{f:.4g}", f"{p:.4g}", *(f"{100 * v:.1f}" for v in frac[j, :3]),
-                              *(f"{100 * v:.1f}" for v in cum[j, :3])]
+                            [[j + 1, f"{f:.4g}", "rigid" if p is None or not np.isfinite(p) else f"{p:.4g}", *(pc(v) for v in frac[j, :3]),
+                              *(pc(v) for v in cum[j, :3])]
                              for j, (f, p) in enumerate(zip(c["frequency_Hz"], c["period_s"]))], left=0))
         parts += [_img(p, cap, "gallery" if "mode_" in p.name else "plot")
                   for p, cap in images.get(c["name"], [])]
