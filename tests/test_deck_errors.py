@@ -161,6 +161,32 @@ def test_syntax_error_inside_an_included_file(tmp_path: Path):
     assert caret_under(err.value) == ")"
 
 
+def test_files_are_named_by_their_place_below_the_top_deck(tmp_path: Path):
+    # two included files called legs.deck in different folders: the message says which
+    (tmp_path / "east").mkdir()
+    (tmp_path / "west").mkdir()
+    (tmp_path / "top.deck").write_text(GOOD + 'include "east/legs.deck"\ninclude "west/legs.deck"\n')
+    (tmp_path / "east" / "legs.deck").write_text("node E1 = (1 m, 1 m, 0)\n")
+    (tmp_path / "west" / "legs.deck").write_text("node W1 = (2 m, 1 m, 0)\nnode W2 = (2 m, 1 m, 3 furlongs)\n")
+    with pytest.raises(DeckError) as err:
+        read_deck(tmp_path / "top.deck")
+    assert str(err.value).startswith(f"{Path('west', 'legs.deck')}:2:"), str(err.value)
+
+
+def test_bad_table_row_is_located_with_a_caret(tmp_path: Path):
+    (tmp_path / "rec").mkdir()
+    (tmp_path / "rec" / "g.csv").write_text("time,acc\n0,0\n0.1,zero\n")
+    (tmp_path / "top.deck").write_text(GOOD + 'case M modes { count = 2 }\n'
+                                       'case Q history { ground = (1 m/s^2, 0, 0), table = "rec/g.csv", '
+                                       'duration = 1 s, step = 0.01 s }\n')
+    with pytest.raises(DeckError) as err:
+        read_deck(tmp_path / "top.deck")
+    text = str(err.value).splitlines()
+    assert text[0] == f"{Path('rec', 'g.csv')}:3:1: expected two numbers in this row"
+    assert text[1].strip() == "0.1,zero" and text[2].strip() == "^"
+    assert text[3].startswith("hint: table named at top.deck:")
+
+
 # ---------- 3. the caret under the token to fix, in included files too; nearest names
 
 # (id, text of an included file (after a comment line), location, message pattern, text under the caret)

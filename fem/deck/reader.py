@@ -83,11 +83,11 @@ class _Reader:
     def read_file(self, path: Path, where: Location | None = None) -> None:
         path = path.resolve()
         if path in self.stack:
-            raise DeckError(f"'{path.name}' includes itself (through {' -> '.join(p.name for p in self.stack)})", where)
+            raise DeckError(f"'{self.shown(path)}' includes itself (through {' -> '.join(self.shown(p) for p in self.stack)})", where)
         if self.top_dir not in path.parents and path.parent != self.top_dir:
             raise DeckError(f"include '{path}' is outside the deck's folder {self.top_dir}", where,
                             "keep included decks in the same folder as the top deck or below it")
-        text = _read_utf8(path, "deck", where)
+        text = _read_utf8(path, "deck", where, self.shown(path))
         self.lines[path] = text.splitlines()
         self.stack.append(path)
         try:
@@ -111,10 +111,18 @@ class _Reader:
             meta = item.meta
             line, col = getattr(meta, "line", 1), getattr(meta, "column", 1)
         src = self.lines[path][line - 1] if 0 < line <= len(self.lines[path]) else ""
-        return Location(path.name, line, col, src)
+        return Location(self.shown(path), line, col, src)
+
+    def shown(self, path: Path) -> str:
+        """How a file is named in messages: its place below the top deck's folder (rack.deck,
+        parts/legs.deck), so that included files of the same name in different folders differ."""
+        try:
+            return str(path.relative_to(self.top_dir))
+        except ValueError:
+            return str(path)
 
     def parse(self, text: str, path: Path) -> Tree:
-        return parse_deck_text(_parser(), text, path)
+        return parse_deck_text(_parser(), text, Path(self.shown(path)))
 
     # ---------- expressions
     def evaluate(self, t) -> Quantity:
@@ -1202,7 +1210,7 @@ class _Reader:
         path = (deck_file.parent / rel).resolve()
         if self.top_dir not in path.parents:
             raise DeckError(f"table '{rel}' is outside the deck's folder {self.top_dir}", where)
-        lines = _read_utf8(path, "table", where).splitlines()
+        lines = _read_utf8(path, "table", where, self.shown(path)).splitlines()
         rows = []
         for k, line in enumerate(lines, 1):
             parts = [x.strip() for x in line.replace(";", ",").split(",") if x.strip()]
@@ -1213,9 +1221,11 @@ class _Reader:
             except ValueError:
                 if not rows:
                     continue              # a header line
-                raise DeckError(f"{path.name}:{k}: expected two numbers, found {line!r}") from None
+                raise DeckError("expected two numbers in this row", Location(self.shown(path), k, 1, line),
+                                f"table named at {where}") from None
             if len(vals) != 2 or not all(map(math.isfinite, vals)):
-                raise DeckError(f"{path.name}:{k}: expected two finite numbers, found {line!r}")
+                raise DeckError("expected two finite numbers in this row", Location(self.shown(path), k, 1, line),
+                                f"table named at {where}")
             rows.append(vals)
         table = np.array(rows).reshape(-1, 2)
         if len(table) < 2 or np.any(np.diff(table[:, 0]) <= 0):
@@ -1376,7 +1386,7 @@ def _literal(text: str, where: Location) -> float:
     return v
 
 
-def _read_utf8(path: Path, what: str, where: Location | None) -> str:
+def _read_utf8(path: Path, what: str, where: Location | None, shown: str | None = None) -> str:
     """The text of a deck or table file, which must be UTF-8 (a UTF-8 byte-order mark is
     allowed). A folder, an unreadable file or other bytes are a DeckError that says which byte
     on which line is wrong; `where` is the statement that named the file (None for the top deck)."""
@@ -1407,7 +1417,7 @@ def _read_utf8(path: Path, what: str, where: Location | None) -> str:
         like = f" ('{guess}' in the Windows/Latin-1 encoding)" if guess.isprintable() and guess != "\ufffd" else ""
         src = raw.decode("utf-8", errors="replace").rstrip("\r")
         raise DeckError(f"byte 0x{bad:02x}{like} is not UTF-8 text{site}; a {what} file must be UTF-8",
-                        Location(path.name, line, column, src), fix) from None
+                        Location(shown or path.name, line, column, src), fix) from None
 
 
 def _rotation_stiffness(coords, conn, truss, releases, roll, up) -> np.ndarray:

@@ -131,7 +131,7 @@ def parse(parser, text: str, path: Path):
         word = re.match(r"\w+", text[tok.start_pos:]).group(0)
         kw, rest = str(tok), word[len(str(tok)):]
         lines = text.splitlines()
-        where = Location(path.name, tok.line, tok.column, lines[tok.line - 1] if tok.line <= len(lines) else "")
+        where = Location(str(path), tok.line, tok.column, lines[tok.line - 1] if tok.line <= len(lines) else "")
         raise DeckError(f"unknown word '{word}' here", where,
                         f"if '{kw} {rest}' is meant, put a space after '{kw}'") from None
     finally:
@@ -145,7 +145,7 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
     def where_at(offset: int) -> Location:
         line = text.count("\n", 0, offset) + 1
         col = offset - (text.rfind("\n", 0, offset) + 1) + 1
-        return Location(path.name, line, col, lines[line - 1] if line <= len(lines) else "")
+        return Location(str(path), line, col, lines[line - 1] if line <= len(lines) else "")
 
     if isinstance(exc, UnexpectedCharacters):
         ch = text[exc.pos_in_stream]
