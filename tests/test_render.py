@@ -121,6 +121,12 @@ def test_run_writes_pictures_and_gifs(deck, tmp_path):
     assert (caps[0] < 128).any()                                # dark text on the white ground
     assert np.abs(caps[0] - caps[1]).mean() > 0.5 and np.abs(caps[1] - caps[2]).mean() > 0.5
     assert doc["cases"][-1]["name"] == "REL"
+    # the response picture carries its colour bar (true displacement, m) at the right, inside
+    # the frame: the bar's dark-blue foot shows there and the right edge stays white
+    peak = np.asarray(Image.open(out / "pictures" / "REL_peak.png").convert("RGB"), dtype=float)
+    right = peak[: int(0.8 * peak.shape[0]), int(0.8 * peak.shape[1]):]
+    assert ((right[..., 2] - right[..., 0]) > 60).sum() > 100
+    assert (peak[: int(0.8 * peak.shape[0]), -3:] > 250).all()
     from fem.output.render import video_available
     if video_available():
         import imageio.v2 as imageio

@@ -182,10 +182,10 @@ def _fit(p, points: np.ndarray, toward, up) -> None:
 
 RELATIVE = "relative displacement"
 # a relative scale 0-1 (mode shapes have no absolute size), wholly inside the frame on the right
-def _mode_bar(size) -> dict:
+def _mode_bar(size, title: str = "relative\ndisplacement", fmt: str = "%.1f") -> dict:
     """Colour bar settings; fonts in pixels scaled with the frame so the bar fits any size."""
     k = min(size) / 720
-    return dict(title="relative\ndisplacement", color="#1d2733", vertical=True, n_labels=3, fmt="%.1f",
+    return dict(title=title, color="#1d2733", vertical=True, n_labels=3, fmt=fmt,
                 position_x=0.84, position_y=0.3, width=0.045, height=0.45, title_font_size=round(13 * k),
                 label_font_size=round(12 * k), unconstrained_font_size=True)
 
@@ -198,10 +198,11 @@ def _deformed(poly, disp):
     return moved
 
 
-def _frame(p, mesh, base, disp, recolour: bool = True):
+def _frame(p, mesh, base, disp, recolour: bool = True, scale: float = 1.0):
+    """Move the mesh to base + disp; colour by the true motion |disp| / scale when recolouring."""
     mesh.points = base + disp
     if recolour:
-        mesh["motion (m)"] = np.linalg.norm(disp, axis=1)
+        mesh["motion (m)"] = np.linalg.norm(disp, axis=1) / scale
     p.render()
 
 
@@ -280,7 +281,7 @@ def video_available() -> bool:
 
 
 def _animate(p, mesh, base, displacements, stem: Path, fps: float = FPS, clock=None,
-             captions=(), size=GIF_SIZE, recolour: bool = True) -> list[Path]:
+             captions=(), size=GIF_SIZE, recolour: bool = True, scale: float = 1.0) -> list[Path]:
     """Render each displacement field once, with its caption in the `clock` text actor; write
     stem.gif always and stem.mp4 when an encoder is available. Frames are taken from the live
     plotter (points updated in place), so one context serves every frame and both files."""
@@ -291,7 +292,7 @@ def _animate(p, mesh, base, displacements, stem: Path, fps: float = FPS, clock=N
     for i, d in enumerate(displacements):
         if clock is not None:
             clock.set_text("lower_left", captions[i])
-        _frame(p, mesh, base, d, recolour)
+        _frame(p, mesh, base, d, recolour, scale)
         images.append(p.screenshot(None, return_img=True))
     gif = stem.with_suffix(".gif")
     imageio.mimsave(gif, images, duration=1000 / fps, loop=0)
@@ -321,8 +322,13 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     still, moving = _sizes(model)
     p = _setup(pv, poly, caption, still)
     mesh = _deformed(poly, disp)
-    p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, max(np.linalg.norm(disp, axis=1).max(), 1e-12)],
-               show_scalar_bar=False, line_width=6, render_lines_as_tubes=True)
+    # coloured by the true displacement (m) on one scale for every frame, with its bar
+    mesh["motion (m)"] = np.linalg.norm(frames[worst, :, :3], axis=1)
+    top = max(float(np.linalg.norm(frames[:, :, :3], axis=2).max()), 1e-12)
+    p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, top], line_width=6,
+               render_lines_as_tubes=True, scalar_bar_args=_mode_bar(still, "displacement\n(m)", "%.2g"))
+    for bar in p.scalar_bars.values():
+        bar.SetVerticalTitleSeparation(8)          # keeps the title clear of the top label
     clock = _clock(p, f"t = {frame_t[worst]:.4g} s (largest motion)")
     some = frames[::max(1, len(frames) // 20), :, :3] * k          # enough frames to bound the motion
     span = np.r_[poly.points, poly.points + disp, (poly.points[None] + some).reshape(-1, 3)]
@@ -335,8 +341,11 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
         marks = [f"t = {x:.4g} s" + ("  (largest motion)" if i == worst else "") for i, x in enumerate(frame_t)]
         p.window_size = moving
         _fit(p, span, *ISO)
+        for bar in p.scalar_bars.values():
+            bar.GetTitleTextProperty().SetFontSize(_mode_bar(moving)["title_font_size"])
+            bar.GetLabelTextProperty().SetFontSize(_mode_bar(moving)["label_font_size"])
         out += _animate(p, mesh, base, (frames[i, :, :3] * k for i in range(len(frame_t))), folder / name,
-                        fps, clock, marks, size=moving)
+                        fps, clock, marks, size=moving, scale=k if k > 0 else 1.0)
     p.close()
     return out
 
