@@ -1,7 +1,8 @@
 """Dynamics benchmarks, ratios measured in one run (run by hand, not a test):
 
 1. 20 lowest modes of a generated 3D frame: our solve_modes vs scipy eigsh(K, 20, M, sigma=0)
-   with its defaults, and vs the time of our factorisation alone (the practical floor).
+   with its defaults, and vs the time of our factorisation alone (a lower bound; `eigen.py floor`
+   adds the triangular solves the Lanczos run performed).
 2. Modal history, 20 modes x 1e5 steps incl. recovery of every DOF, vs Newmark average
    acceleration on the full model at equal accuracy in the retained band (its step found by
    halving until its error on the retained modes matches the exact recurrence's; timed on a
