@@ -414,6 +414,7 @@ def _render(model: Model, modal: list, out: Path, jobs: int, draw_modes: int = 6
 
 
 HISTORY_PLOTS = 12       # history plots per case in the report; every recorded node is in the CSV
+STATIC_PLOTS = 24     # deformed-shape plots of the first static cases and combinations (report size)
 
 
 def _report(model: Model, results: list, modal: list, doc: dict, out: Path, notice: str = "") -> None:
@@ -437,7 +438,7 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path, noti
                 f = pics / f"{name}_mode_{j + 1:03d}{suffix}"
                 if f.exists():
                     images[name].append((f, f"mode {j + 1}, {m.modes.freq[j]:.4g} Hz, {cap}"))
-    for r in results[:4]:
+    for r in results[:STATIC_PLOTS]:
         images[r.name] = [(plots.plot_static(pdir / f"{r.name}_deformed.png", model, r, shape_scale(model)),
                            "deformed shape")]
     for x in modal:
