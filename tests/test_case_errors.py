@@ -34,3 +34,38 @@ def test_more_modes_than_the_model_has_is_warned():
     _, modal = solve_all(m)
     assert len(modal[0].modes.omega) == 12
     assert any("frame.deck:10:1" in w and "asks for 50 modes" in w and "only 12" in w for w in m.warnings)
+
+
+def test_modes_only_run_estimates_the_stiffness_condition():
+    # no static case: the estimate comes from the modes case. Hager-Higham's estimator is a
+    # lower bound of the 1-norm condition number, exact or near it for small matrices
+    # (Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed., sec. 15.3); numpy's
+    # cond(K, 1) on the dense K is the reference.
+    import numpy as np
+
+    from fem.assembly import assemble
+
+    m = read_text(FRAME + "case M modes { count = 4 }\n")
+    solve_all(m)
+    asm = assemble(m)
+    K = asm.K[asm.free][:, asm.free].toarray()
+    exact = np.linalg.cond(K, 1)
+    assert 0.3 * exact <= m.settings["_condition"] <= exact * (1 + 1e-9)
+
+
+def test_modes_only_stiff_contrast_is_warned(tmp_path, capsys):
+    from fem.run import run_deck
+
+    stiff = FRAME.replace("material S { E = 210 GPa", "material S { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }\n"
+                          "material X { E = 2.1e9 GPa").replace("member V : B -> C beam P S", "member V : B -> C beam P X")
+    (tmp_path / "s.deck").write_text(stiff + "case M modes { count = 3 }\n")
+    run_deck(str(tmp_path / "s.deck"), str(tmp_path / "o"), render=False)
+    out = capsys.readouterr().out
+    assert "warning: stiffness condition estimate" in out
+
+
+def test_free_structure_has_no_condition_estimate():
+    # a free-free member: K is singular by design (six rigid-body modes), no estimate is made
+    m = read_text(FRAME.replace("support A fixed\n", "") + "case M modes { count = 8 }\n")
+    solve_all(m)
+    assert m.settings.get("_condition") is None

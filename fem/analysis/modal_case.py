@@ -9,7 +9,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
-from .modes import ModalResult, Participation, participation, solve_modes
+from .modes import DENSE_LIMIT, ModalResult, Participation, participation, solve_modes
 
 __all__ = ["ModesCaseResult", "effective_load", "field_responses", "influence_vectors", "residual_static",
            "solve_modes_case"]
@@ -44,6 +44,25 @@ def influence_vectors(model: Model, point) -> np.ndarray:
     return R.reshape(6 * n, 6)
 
 
+def stiffness_condition(K, modes: ModalResult, cache: dict) -> float | None:
+    """1-norm condition estimate of the free stiffness K for a modes-only run, from the eigen
+    solve's own factor when its shift was zero (a supported structure), or a sparse LU for a
+    model small enough for the dense eigen path; None for a structure with rigid-body modes,
+    whose K is singular by design, and for a large model factored at another shift."""
+    import scipy.sparse.linalg as spla
+
+    from .static import _Symmetric, condition_estimate
+
+    if not len(modes.omega) or modes.omega[0] <= 0:
+        return None
+    factor = cache.get("factor")
+    if factor is not None and factor[1] == 0:
+        return condition_estimate(K.tocsc(), _Symmetric(factor[0]))
+    if factor is None and K.shape[0] <= DENSE_LIMIT:
+        return condition_estimate(K.tocsc(), spla.splu(K.tocsc()))
+    return None
+
+
 def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseResult:
     """Solve a modes case (options count, fmax, reference already checked by the reader)."""
     count, fmax = case.options.get("count"), case.options.get("fmax")
@@ -57,8 +76,9 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
         raise ModelError(f"case {case.name}: the model has no mass; give materials a density or add masses")
     R = influence_vectors(model, point)[f]
     target = case.options.get("target")
+    cache = {}
     if target is None:
-        modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=count, f_max=fmax)
+        modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=count, f_max=fmax, cache=cache)
         if len(modes.omega) == 0:
             # the answer to 'which modes lie below fmax' is none: say so with the lowest one
             low = solve_modes(K.tocsr(), M.tocsr(), n_modes=1, sturm=False).freq
@@ -75,7 +95,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
         # add modes until the cumulative effective mass reaches the target in each direction
         cap = min(case.options.get("max", 300), len(f))
         k = min(12, cap)
-        K, M, cache = K.tocsr(), M.tocsr(), {}
+        K, M = K.tocsr(), M.tocsr()
         while True:
             modes = solve_modes(K, M, n_modes=k, cache=cache)
             part = participation(modes.phi, M, R)
@@ -91,6 +111,10 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
             if keep < len(modes.omega):      # solve again so every check speaks of these modes
                 modes = solve_modes(K, M, n_modes=keep, cache=cache)
                 part = participation(modes.phi, M, R)
+    if "_condition" not in model.settings:
+        cond = stiffness_condition(K, modes, cache)
+        if cond is not None:
+            model.settings["_condition"] = cond
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,
