@@ -291,11 +291,21 @@ def test_roll_needs_an_angle(tmp_path: Path, opt, at, pattern):
     assert str(err.value).startswith(f"stand.deck:{at}: ")
 
 
+@pytest.mark.parametrize("lets, opt", [("let a = 30\n", "roll = a"), ("let b = 2\nlet a = 15*b\n", "roll = a"),
+                                       ("", "roll = 0*1 + 30")])
+def test_roll_from_bare_parameters_is_refused(lets, opt):
+    # a parameter written as a bare number carries no unit into roll, which would read radians
+    from fem.deck.reader import read_text
+    with pytest.raises(DeckError, match=r"roll is an angle and needs its unit.*write 30 deg or 30 rad"):
+        read_text(lets + GOOD + "member N : A -> B beam P S " + opt + "\n")
+
+
 @pytest.mark.parametrize("opt, expected", [("roll = 30 deg", 30.0), ("roll = 0", 0.0), ("roll = pi/6", 30.0),
-                                           ("roll = a", 30.0), ("roll = 0.5 rad", 28.64788975654116)])
+                                           ("roll = a", 30.0), ("roll = 0.5 rad", 28.64788975654116),
+                                           ("roll = b*1 deg", 30.0), ("roll = atan(1)", 45.0)])
 def test_roll_angles_accepted(opt, expected):
     from fem.deck.reader import read_text
-    m = read_text("let a = 30 deg\n" + GOOD + "member N : A -> B beam P S " + opt + "\n")
+    m = read_text("let a = 30 deg\nlet b = 30\n" + GOOD + "member N : A -> B beam P S " + opt + "\n")
     assert np.degrees(m.roll[1]) == pytest.approx(expected, rel=1e-12)
 
 

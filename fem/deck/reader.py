@@ -72,6 +72,7 @@ class _Reader:
         self.settings: dict = {}
         self.defined: dict[tuple[str, str], tuple[str, Location]] = {}   # (space, name) -> (kind, where)
         self.let_sites: dict[str, tuple] = {}     # parameter -> (file, line, column) of its let
+        self.unitless: set[str] = set()           # parameters written as bare numbers (let a = 30)
         self.loop_vars: list[str] = []
         self.warnings: list[str] = []
         self.stack: list[Path] = []
@@ -233,11 +234,12 @@ class _Reader:
         q = self.evaluate(t)
         if q.dim not in (U.NONE, WILD):
             raise DeckError(f"{what} is an angle, e.g. 30 deg, but {U.dim_name(q.dim)} was given", self.loc(t))
-        plain = isinstance(t, Tree) and all(
-            isinstance(x, Token) and x.type == "NUMBER" for x in t.scan_values(lambda v: isinstance(v, Token)))
-        if plain and q.value != 0:
-            raise DeckError(f"{what} is an angle and needs its unit: write {_g(q.value)} deg or {_g(q.value)} rad",
-                            self.loc(t), "a bare number would be read as radians")
+        if self.bare(t) and q.value != 0:
+            via = "" if isinstance(t, Token) or not any(
+                x.type == "NAME" for x in t.scan_values(lambda v: isinstance(v, Token))) else \
+                " (its parameters are bare numbers)"
+            raise DeckError(f"{what} is an angle and needs its unit{via}: write {_g(q.value)} deg or "
+                            f"{_g(q.value)} rad", self.loc(t), "a bare number would be read as radians")
         return self.value(t, U.NONE, what)
 
     def vector(self, t, dim, what: str, n: int = 3) -> np.ndarray:
@@ -336,6 +338,22 @@ class _Reader:
             self.defined[("let", name)] = ("parameter", where)
         self.let_sites[name] = site
         self.vars[name] = self.evaluate(s.children[1])
+        if self.bare(s.children[1]):
+            self.unitless.add(name)
+        else:
+            self.unitless.discard(name)
+
+    def bare(self, t) -> bool:
+        """True when an expression is numbers only: no unit anywhere, no function, and only
+        parameters that are bare numbers themselves (or loop counters)."""
+        if isinstance(t, Token):
+            return t.type == "NUMBER"
+        if t.data == "var":
+            name = str(t.children[0])
+            return name in self.unitless or name in self.loop_vars
+        if t.data in ("quantity", "call"):
+            return False
+        return all(self.bare(c) for c in t.children if isinstance(c, (Tree, Token)))
 
     def st_assume(self, s):
         what, unit = str(s.children[0]), str(s.children[1])
