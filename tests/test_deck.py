@@ -139,3 +139,14 @@ def test_include_refuses_absolute_paths_and_links_outside(tmp_path: Path):
     (top / "via_link.deck").write_text('include "link.deck"\n')
     with pytest.raises(DeckError, match="outside"):
         read_deck(top / "via_link.deck")
+
+
+def test_readme_sketch_reads():
+    # the deck sketch in README.md stays a valid deck
+    from pathlib import Path
+
+    from fem.deck.reader import read_text
+    text = (Path(__file__).parents[1] / "README.md").read_text()
+    block = text.split("## The deck language (sketch)")[1].split("```")[1]
+    m = read_text(block)
+    assert m.n_nodes == 10 and m.n_members == 5 and [c.name for c in m.combinations] == ["ULS"]
