@@ -164,7 +164,8 @@ def modal_checks(r) -> dict:
     if isinstance(r, HistoryResult):
         return {"static_correction": r.corrected, "warnings": list(r.warnings)}
     if isinstance(r, FreeCaseResult):
-        return {"initial_displacement_captured": r.captured, "inertia_balance_relative": r.inertia_balance,
+        return {"initial_displacement_captured": r.captured, "start_support_force_error": r.start_force_error,
+                "inertia_balance_relative": r.inertia_balance,
                 "inertia_balance_pass": bool(r.inertia_balance < BALANCE_TOL), "warnings": list(r.warnings)}
     m = r.modes
     k = len(m.omega)

@@ -409,3 +409,54 @@ def test_table_pulse_with_ends_between_steps_is_exact(tmp_path):
         return np.where(s > 0, 1 - np.cos(w * s), 0.0)
     exact = step(r.t - t1) - step(r.t - t2)
     assert np.abs(r.u[:, 1, 0] / (100e3 / K_EXACT) - exact).max() < 1e-9
+
+
+def test_corrected_velocity_is_the_rate_of_the_corrected_displacement():
+    # with the static correction u = Phi q + u_res g(t) (mode-acceleration method, Cornwell,
+    # Craig & Johnson 1983), so v = Phi q' + u_res g'(t). Reference: the 2 retained modal
+    # equations integrated by scipy's solve_ivp (DOP853, rtol 1e-11) under the exact half-sine,
+    # u_res = K^-1 F - sum phi phi^T F / w^2 from a dense solve. Tolerance 1e-3 of the peak
+    # velocity: the case's load is linear within each of its 75 steps per pulse, an error of
+    # about (pi/75)^2/8 = 2e-4 of the pulse; without the g' term the tip's vertical velocity is
+    # off by 8 % of its peak.
+    m = read_text(FRAME % (2, ", correction = on"))
+    modal, others = solve_all(m)
+    h = others[-1]
+    asm = assemble(m)
+    f = asm.free
+    from fem.analysis.static import load_vector
+    F = load_vector(m, asm, m.cases[1])[0][f]
+    K, M = asm.K[f][:, f].toarray(), asm.M[f][:, f].toarray()
+    import scipy.linalg as sla
+    w2, V = sla.eigh(K, M, subset_by_index=[0, 1])
+    u_res = np.linalg.solve(K, F) - V @ (V.T @ F / w2)
+    p = V.T @ F
+
+    def rhs(tt, y):
+        return np.r_[y[2:], p * np.sin(np.pi * tt / 0.15) * (tt < 0.15) - w2 * y[:2]]
+
+    t = h.t
+    y1 = solve_ivp(rhs, (0, 0.15), [0, 0, 0, 0], t_eval=t[t <= 0.15 + 1e-12], rtol=1e-11,
+                   atol=1e-14, method="DOP853").y
+    y2 = solve_ivp(rhs, (0.15, t[-1]), y1[:, -1], t_eval=t[t > 0.15 + 1e-12], rtol=1e-11,
+                   atol=1e-14, method="DOP853").y
+    qd = np.c_[y1, y2][2:]
+    gd = np.where(t < 0.15, np.pi / 0.15 * np.cos(np.pi * t / 0.15), 0.0)
+    H = m.node_names.index("H")
+    for d in range(3):
+        i = list(f).index(6 * H + d)
+        v = V[i] @ qd + u_res[i] * gd
+        np.testing.assert_allclose(h.v[:, 0, d], v, atol=1e-3 * np.abs(v).max())
+
+
+@pytest.mark.parametrize("shape,param", [("ramp", 0.4), ("halfsine", 0.3), ("triangle", 0.5),
+                                         ("decay", 0.2), ("harmonic", 3.0), ("table", 0.0)])
+def test_time_function_rate_is_its_slope(shape, param):
+    # reference: the central difference of the function itself (exact for the piecewise-linear
+    # shapes away from their corners, error h^2 g'''/6 < 1e-6 for the smooth ones at h = 1e-5)
+    from fem.analysis.timefn import TimeFunction
+    table = np.array([[0.0, 0.0], [0.1, 0.5], [0.25, -0.3], [0.6, 0.2]]) if shape == "table" else None
+    fn = TimeFunction(shape, param, table)
+    t = np.array([0.013, 0.07, 0.12, 0.17, 0.33, 0.41, 0.55, 0.77])
+    h = 1e-5
+    np.testing.assert_allclose(fn.rate(t), (fn(t + h) - fn(t - h)) / (2 * h), atol=1e-6 * max(1, 2 * np.pi * param))

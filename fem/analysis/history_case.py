@@ -79,7 +79,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     fixed[asm.fixed] = True
     P = np.zeros((n, k))
     kq, kv = np.zeros((n, k)), np.zeros((n, k))
-    G, statics, r_statics, m_statics = [], [], [], []
+    G, Gdot, statics, r_statics, m_statics = [], [], [], [], []
     a_ground = np.zeros((n, 3))
     corrected = bool(opt.get("correction"))
     for fn, sub, ground in _groups(case):
@@ -99,6 +99,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
         static = residual_static(F_eff, asm, lu, shapes, omega, pk) if corrected else np.zeros(n6)
         Rs, Fs = field_responses(model, asm, static[None])
         G.append(g)
+        Gdot.append(fn.rate(t))
         statics.append(static)
         r_statics.append(Rs.ravel() - np.where(fixed, F_only, 0.0))
         m_statics.append(Fs.ravel() - fe.ravel())
@@ -115,6 +116,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     sel = modal.shapes[record]                               # (r, 6, k)
     u = np.einsum("tk,rdk->trd", qg, full[record])
     vel = np.einsum("tk,rdk->trd", v, sel)
+    # the static correction moves with g_l(t), so its velocity is static * dg_l/dt (v = du/dt)
+    vel += np.einsum("tl,rdl->trd", np.array(Gdot).T, full[record][:, :, k:])
     a = np.einsum("tk,rdk->trd", acc, sel)
     a[:, :, :3] += a_ground[:, None, :]
     warnings = step_warnings(dt, omega, "the load and the output are",

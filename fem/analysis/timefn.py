@@ -54,6 +54,33 @@ class TimeFunction:
             return np.where(inside, 1 - t / a, 0.0)
         raise ValueError(f"unknown time function '{s}'")
 
+    def rate(self, t) -> np.ndarray:
+        """Slopes dg/dt just after the times t (right limits, as __call__); jumps add none."""
+        t = np.asarray(t, dtype=float)
+        s, a = self.shape, self.param
+        on = t >= 0
+        if s in ("step", "rect"):
+            return np.zeros_like(t)
+        if s == "harmonic":
+            return np.where(on, 2 * np.pi * a * np.cos(2 * np.pi * a * t), 0.0)
+        if s == "table":
+            tt, ff = self.table[:, 0], self.table[:, 1]
+            if len(tt) < 2:
+                return np.zeros_like(t)
+            k = np.clip(np.searchsorted(tt, t, side="right") - 1, 0, len(tt) - 2)
+            slope = (ff[k + 1] - ff[k]) / (tt[k + 1] - tt[k])
+            return np.where((t >= tt[0]) & (t < tt[-1]), slope, 0.0)
+        inside = on & (t < a)
+        if s == "ramp":
+            return np.where(inside, 1 / a, 0.0)
+        if s == "halfsine":
+            return np.where(inside, np.pi / a * np.cos(np.pi * t / a), 0.0)
+        if s == "triangle":
+            return np.where(inside, np.where(t < a / 2, 2 / a, -2 / a), 0.0)
+        if s == "decay":
+            return np.where(inside, -1 / a, 0.0)
+        raise ValueError(f"unknown time function '{s}'")
+
     def knots(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """Times b > 0 where the function jumps or turns, with the jump J = g(b+) - g(b-) and the
         change of slope S = g'(b+) - g'(b-): (b, J, S), each (j,). The start at t = 0 is not
