@@ -240,7 +240,7 @@ def test_end_force_table_beyond_the_row_limit_is_warned_not_written(tmp_path, mo
 def test_modes_complete_to_the_sturm_shift(capsys, tmp_path):
     # A modes case that asked for every mode below 50 Hz keeps six (the sixth at 26.5 Hz, the
     # seventh at 71.3 Hz): the Sturm count at the shift between them proves no mode is missing
-    # below sqrt((l6 + l7) / 2) / 2 pi, so a sweep to 40 Hz is covered and is not warned about;
+    # below sqrt((l6 + l7) / 2) / 2 pi, so a sweep to 40 Hz is covered (not to 60 Hz, see below);
     # four modes (the fifth at 25.7 Hz) leave it uncovered. All 30 modes cover any sweep.
     # Eigenvalues for the check from scipy.linalg.eigh on the assembled matrices.
     import scipy.linalg as sla
@@ -255,8 +255,15 @@ def test_modes_complete_to_the_sturm_shift(capsys, tmp_path):
     h = solve_all(read_text(fmax))[1][-1]
     assert len(h.zeta) == 6
     assert h.modes_complete_Hz == pytest.approx(np.sqrt(0.5 * (lam[5] + lam[6])) / (2 * np.pi), rel=1e-9)
+    # complete to 53.8 Hz: a sweep to 40 Hz is covered but with less than the 1.5x margin that
+    # keeps modes just above the band quasi-static (warned); a sweep to 30 Hz has the margin
     (tmp_path / "a.deck").write_text(fmax)
     run_deck(str(tmp_path / "a.deck"), str(tmp_path / "a"), render=False)
+    out = capsys.readouterr().out
+    assert "complete only up to 53.82 Hz, less than 1.5 times the top of the sweep (40 Hz)" in out
+    assert "ask for modes up to at least 60 Hz" in out
+    (tmp_path / "c.deck").write_text(fmax.replace("to = 40 Hz", "to = 30 Hz"))
+    run_deck(str(tmp_path / "c.deck"), str(tmp_path / "c"), render=False)
     assert "complete only up to" not in capsys.readouterr().out
     h4 = solve_all(read_text(deck % (4, "")))[1][-1]
     assert h4.modes_complete_Hz == pytest.approx(np.sqrt(0.5 * (lam[3] + lam[4])) / (2 * np.pi), rel=1e-9)

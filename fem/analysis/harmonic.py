@@ -58,6 +58,9 @@ class HarmonicResult:
     modes_complete_Hz: float = None     # no mode is missing below this frequency (Sturm check)
 
 
+MARGIN = 1.5   # modes should be complete to this multiple of a sweep's top (common practice, no source)
+
+
 def lag_degrees(X, floor: float = 0.0) -> np.ndarray:
     """Phase lag -arg X in degrees, in [-180, 180), of complex amplitudes X; 0 where |X| <= floor
     (a component that is zero but for round-off has no meaningful phase)."""
@@ -155,13 +158,21 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     else:
         member_forces = (np.einsum("wk,kqc->wqc", H, Fm[:, members])
                          + m_static.reshape(-1, 12)[members][None])
+    complete = modes_complete_to(modal)
+    top = float(freq[-1])
+    if top <= complete < MARGIN * top:
+        # a mode just above the band is driven at r = f/fn up to 1/MARGIN: amplified by up to
+        # 1/(1 - r^2) = 1.8 at the top of the sweep, which the static correction cannot see
+        warnings += (f"{case.location}: warning: case {case.name}: the modes are complete only up to "
+                     f"{complete:.4g} Hz, less than {MARGIN:g} times the top of the sweep ({top:.4g} Hz); "
+                     "modes just above the band respond dynamically there, beyond any static correction: "
+                     f"ask for modes up to at least {MARGIN * top:.4g} Hz",)
     return HarmonicResult(case.name, freq, record, u, peak.reshape(-1, 6), peak_f.reshape(-1, 6),
                           zeta, static is not None, float(omega.max() / (2 * np.pi)),
                           r_peak.reshape(-1, 6), m_peak.reshape(-1, 12), _lags(peak_c).reshape(-1, 6),
                           r_peak_f.reshape(-1, 6), _lags(r_peak_c).reshape(-1, 6),
                           m_peak_f.reshape(-1, 12), _lags(m_peak_c).reshape(-1, 12),
-                          support, reactions, members, member_forces, warnings,
-                          modes_complete_to(modal))
+                          support, reactions, members, member_forces, warnings, complete)
 
 
 def modes_complete_to(modal: ModesCaseResult) -> float:
