@@ -556,7 +556,7 @@ class _Reader:
                 if str(d) not in DIRECTIONS:
                     raise DeckError(f"unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
                 dirs.append(str(d))
-        self.supports.append((target, dirs))
+        self.supports.append((target, dirs, self.loc(s)))
 
     def st_spring(self, s):
         target, *kws = s.children
@@ -572,7 +572,7 @@ class _Reader:
             if vals[d] < 0:
                 raise DeckError(f"spring {d}: a stiffness cannot be negative", self.loc(kw))
             _not_huge(vals[d], f"spring {d}", self.loc(kw))
-        self.springs.append((target, vals))
+        self.springs.append((target, vals, self.loc(s)))
 
     def st_mass(self, s):
         target, value, *opts = s.children
@@ -621,6 +621,11 @@ class _Reader:
                 raise DeckError("loop bounds must be whole numbers", self.loc(s))
         if b.value - a.value > 1_000_000:
             raise DeckError("loop runs more than a million times", self.loc(s))
+        if b.value < a.value:
+            w = (f"{self.loc(s)}: warning: loop range {a.value:g}..{b.value:g} is empty (a range counts up), so "
+                 f"its statements are skipped; write {b.value:g}..{a.value:g} to run them")
+            if w not in self.warnings:          # once, though an enclosing loop reads it again
+                self.warnings.append(w)
         saved = self.vars.get(str(var))
         self.loop_vars.append(str(var))
         try:
@@ -681,14 +686,33 @@ class _Reader:
         self.leaning_members(mems, coords[conn[:, 1]] - coords[conn[:, 0]], cols, up, truss)
         n = len(node_names)
         restraint = np.zeros((n, 6), bool)
-        for target, dirs in self.supports:
+        first = {}                    # node -> location of the first support statement on it
+        for target, dirs, where in self.supports:
+            cols_ = [DIRECTIONS.index(d) for d in dirs]
+            again = []
             for nm in self.targets(target, nidx, "node"):
-                restraint[nidx[nm], [DIRECTIONS.index(d) for d in dirs]] = True
+                k = nidx[nm]
+                if k in first and self.repeated_support(nm, dirs, restraint[k], where, first[k]):
+                    again.append(f"{nm} (at {first[k]})")
+                first.setdefault(k, where)
+                restraint[k, cols_] = True
+            if again:
+                shown = ", ".join(again[:3]) + (", ..." if len(again) > 3 else "")
+                self.warnings.append(f"{where}: warning: this support repeats an earlier one at {len(again)} "
+                                     f"node(s), {shown}; remove one of them")
         springs = np.zeros((n, 6))
-        for target, vals in self.springs:
+        for target, vals, where in self.springs:
+            held = []
             for nm in self.targets(target, nidx, "node"):
                 for d, v in vals.items():
                     springs[nidx[nm], DIRECTIONS.index(d)] += v
+                    if v > 0 and restraint[nidx[nm], DIRECTIONS.index(d)]:
+                        held.append(f"{nm} {d}")
+            if held:
+                shown = ", ".join(held[:5]) + (", ..." if len(held) > 5 else "")
+                self.warnings.append(f"{where}: warning: a spring acts where a support already holds the node "
+                                     f"({len(held)}: {shown}), so it has no effect; to model a flexible "
+                                     "support, leave those directions out of the support")
         pmass = np.zeros((n, 6))
         on_member = np.zeros(n, bool)
         on_member[conn.ravel()] = True
@@ -773,6 +797,21 @@ class _Reader:
                      member_section=[m["section"][0] for m in mems],
                      member_material=[m["material"][0] for m in mems],
                      cases=cases, combinations=combos, settings=settings, warnings=self.warnings, **cols)
+
+    def repeated_support(self, nm, dirs, held, where, first) -> bool:
+        """A second support statement on a node: supports add up. Asking for less than is already
+        held (fixed, then pinned) is refused, since the earlier support would silently win; True
+        for the same directions again (a warning)."""
+        if not held[[DIRECTIONS.index(d) for d in dirs]].all():
+            return False                                   # it adds directions: they add up
+        have = ", ".join(d for d, x in zip(DIRECTIONS, held) if x)
+        if held.sum() > len(set(dirs)):
+            raise DeckError(f"support on node {nm} ({', '.join(dirs)}) conflicts with the support at {first}, "
+                            f"which already holds {have} there: supports add up, so the node would stay held "
+                            f"in {have}", where,
+                            f"give node {nm} one support: leave it out of the earlier one (e.g. a group or "
+                            "pattern without it)")
+        return True
 
     def coincident_nodes(self, names, coords, tol, used) -> None:
         """Distinct nodes at one place are not connected: an error when both carry something
@@ -1154,6 +1193,8 @@ class _Reader:
                     raise DeckError(f"{what}: periods and accelerations cannot be negative", where)
             elif key == "scale":
                 scale = self.value(val, U.ACCEL, what)
+                if scale <= 0:
+                    raise DeckError(f"{what} must be a positive acceleration (e.g. 1 gee)", where)
             elif key == "made_for":
                 made_for = self.value(val, U.NONE, what)
                 if not 0 <= made_for < 1:
@@ -1211,25 +1252,41 @@ class _Reader:
         if self.top_dir not in path.parents:
             raise DeckError(f"table '{rel}' is outside the deck's folder {self.top_dir}", where)
         lines = _read_utf8(path, "table", where, self.shown(path)).splitlines()
-        rows = []
+        rows, at = [], []
+        fix = (f"table named at {where}; two numbers a row, separated by a comma, semicolon, tab or spaces, "
+               "decimals with a point")
         for k, line in enumerate(lines, 1):
-            parts = [x.strip() for x in line.replace(";", ",").split(",") if x.strip()]
-            if not parts or parts[0].startswith("#"):
-                continue
-            try:
-                vals = [float(x) for x in parts]
-            except ValueError:
-                if not rows:
-                    continue              # a header line
-                raise DeckError("expected two numbers in this row", Location(self.shown(path), k, 1, line),
-                                f"table named at {where}") from None
+            parts = [x for x in re.split(r"[,;\s]+", line.split("#")[0]) if x]
+            if not parts:
+                continue                  # blank, or a comment
+            vals = []
+            for x in parts:
+                try:
+                    vals.append(float(x))
+                except ValueError:
+                    vals.append(None)
+            here = Location(self.shown(path), k, 1, line)
+            if all(v is None for v in vals) and not rows:
+                continue                  # a header line
+            if None in vals:
+                bad = parts[vals.index(None)]
+                here = Location(self.shown(path), k, line.find(bad) + 1, line)
+                raise DeckError(f"expected two numbers in this row, found '{bad}'", here, fix)
             if len(vals) != 2 or not all(map(math.isfinite, vals)):
-                raise DeckError("expected two finite numbers in this row", Location(self.shown(path), k, 1, line),
-                                f"table named at {where}")
+                raise DeckError(f"expected two finite numbers in this row, found {len(vals)}: "
+                                f"{', '.join(parts)}", here, fix)
+            if rows and vals[0] <= rows[-1][0]:
+                raise DeckError(f"the first column must increase row by row: {_g(vals[0])} follows "
+                                f"{_g(rows[-1][0])} (row {at[-1]})", here, f"table named at {where}")
             rows.append(vals)
+            at.append(k)
         table = np.array(rows).reshape(-1, 2)
-        if len(table) < 2 or np.any(np.diff(table[:, 0]) <= 0):
-            raise DeckError(f"table '{rel}' needs at least two rows with increasing times or periods", where)
+        if len(table) < 2:
+            raise DeckError(f"table '{rel}' needs at least two rows of numbers (time or period, value); "
+                            f"it has {len(table)}", where)
+        if not table[:, 1].any():
+            raise DeckError(f"table '{rel}': every value in its second column is zero, so it would give no "
+                            "response", where, "check the file, or that the right column holds the values")
         return table
 
     def dynamic_common(self, case, key, val, where, out, nidx) -> bool:
@@ -1309,6 +1366,10 @@ class _Reader:
         for key in ("duration", "step"):
             if key not in out:
                 raise DeckError(f"case {case.name}: a {case.kind} case needs {key} = ... s", case.location)
+        if out["duration"] < out["step"]:
+            raise DeckError(f"case {case.name}: duration {_g(out['duration'])} s is shorter than the step "
+                            f"{_g(out['step'])} s, so the {case.kind} case would hold its start only",
+                            case.options["duration"][1], "check the units of duration and step")
         if out["duration"] / out["step"] > 1e6:
             raise DeckError(f"case {case.name}: more than a million time steps; use a longer step", case.location)
         self.table_rows(case, int(out["duration"] / out["step"]) + 1, "time steps", out["record"], nidx, "a longer step")

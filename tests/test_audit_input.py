@@ -1,0 +1,112 @@
+"""Mistakes an engineer makes in a deck that would otherwise give a silently wrong answer: each
+is a located error, or a located warning where the deck may mean what it says."""
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from fem.deck.reader import read_deck, read_text
+from fem.errors import DeckError
+
+HEAD = """material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+node A = (0, 0, 0)
+node B = (2 m, 0, 0)
+node C = (4 m, 0, 0)
+member M : A -> B beam P S
+member N : B -> C beam P S
+support A fixed
+"""
+N_HEAD = HEAD.count("\n")
+
+
+# ---------- supports and springs: they add up, so a later one cannot loosen an earlier one
+
+def test_a_support_asking_for_less_than_an_earlier_one_is_refused():
+    # "every base fixed, this one pinned": the union would keep it fixed without a word
+    with pytest.raises(DeckError, match=r"support on node A \(ux, uy, uz\) conflicts with the support at "
+                                        r"deck.deck:8:1, which already holds ux, uy, uz, rx, ry, rz") as err:
+        read_text(HEAD + "support A* pinned\n")
+    assert err.value.location.line == N_HEAD + 1
+    assert "leave it out of the earlier one" in err.value.hint
+
+
+def test_supports_that_add_directions_add_up_and_a_repeat_is_a_warning():
+    m = read_text(HEAD + "support C (ux, uy)\nsupport C (uz)\n")
+    assert m.restraint[2].tolist() == [True, True, True, False, False, False]
+    assert m.warnings == []
+    m = read_text(HEAD + "support A fixed\n")
+    assert m.warnings == [f"deck.deck:{N_HEAD + 1}:1: warning: this support repeats an earlier one at 1 node(s), "
+                          "A (at deck.deck:8:1); remove one of them"]
+    assert m.restraint[0].all()
+
+
+def test_a_spring_on_a_supported_direction_is_a_warning():
+    # foundation springs left under a fixed support do nothing
+    m = read_text(HEAD + "spring A (uz = 1e8 N/m, rx = 0)\nspring C (uz = 1e6 N/m)\n")
+    assert m.warnings == [f"deck.deck:{N_HEAD + 1}:1: warning: a spring acts where a support already holds the "
+                          "node (1: A uz), so it has no effect; to model a flexible support, leave those "
+                          "directions out of the support"]
+
+
+# ---------- loops and time steps
+
+def test_a_reversed_loop_range_is_a_warning_given_once():
+    m = read_text(HEAD + "for k in 0..2 {\nfor i in 3..1 { node Q[i] = (i*1 m, 1 m, 0) } }\n")
+    assert m.n_nodes == 3
+    assert m.warnings == [f"deck.deck:{N_HEAD + 2}:1: warning: loop range 3..1 is empty (a range counts up), so "
+                          "its statements are skipped; write 1..3 to run them"]
+
+
+@pytest.mark.parametrize("kind,loads", [("free", "start = D"), ("history", "force C = (1 kN, 0, 0), time = step")])
+def test_a_duration_shorter_than_the_step_is_refused(kind, loads):
+    deck = (HEAD + "case D static { force C = (1 kN, 0, 0) }\ncase X modes { count = 2 }\n"
+            f"case F {kind} {{ {loads}, duration = 0.001 s, step = 0.005 s }}\n")
+    with pytest.raises(DeckError, match=f"case F: duration 0.001 s is shorter than the step 0.005 s, so the {kind} "
+                                        "case would hold its start only") as err:
+        read_text(deck)
+    assert err.value.location.line == N_HEAD + 3
+    assert err.value.location.source_line[err.value.location.column - 1:].startswith("duration")
+
+
+# ---------- CSV tables
+
+def _spectrum_deck(tmp_path: Path, csv: bytes, extra: str = "") -> Path:
+    (tmp_path / "sa.csv").write_bytes(csv)
+    deck = tmp_path / "top.deck"
+    deck.write_text(HEAD + "case X modes { count = 2 }\n"
+                    f'case E spectrum {{ table = "sa.csv", made_for = 5 percent{extra} }}\n')
+    return deck
+
+
+@pytest.mark.parametrize("csv", [
+    b"T,Sa\n0,0.3\n0.5,0.75\n2,0.2\n",
+    b"\xef\xbb\xbfT;Sa\r\n\r\n# comment\r\n0;0.3\r\n0.5;0.75\r\n\r\n2;0.2\r\n",    # BOM, CRLF, blank lines
+    b"T\tSa\n0\t0.3\n0.5\t0.75\n2\t0.2\n",                                        # tab separated
+    b"  0   0.3\n  0.5 0.75   # plateau\n  2   0.2\n",                             # spaces, trailing comment
+])
+def test_table_layouts_read_alike(tmp_path, csv):
+    m = read_deck(_spectrum_deck(tmp_path, csv))
+    sp = m.cases[-1].options["spectrum"]
+    np.testing.assert_array_equal(sp.table, [[0, 0.3 * 9.80665], [0.5, 0.75 * 9.80665], [2, 0.2 * 9.80665]])
+
+
+@pytest.mark.parametrize("csv,where,pattern", [
+    # a typo in the first row was skipped as a header, moving the table's start
+    (b"0,O.3\n0.5,0.75\n2,0.2\n", "sa.csv:1:3", "expected two numbers in this row, found 'O.3'"),
+    (b"T,Sa\n0,0.3\n0.5,0.75\n0.5,0.6\n2,0.2\n", "sa.csv:4:1",
+     r"the first column must increase row by row: 0.5 follows 0.5 \(row 3\)"),
+    (b"0,5;0,3\n1,0;0,2\n", "sa.csv:1:1", "expected two finite numbers in this row, found 4: 0, 5, 0, 3"),
+    (b"T,Sa\n0,0.3\n", "top.deck:10:", r"needs at least two rows of numbers \(time or period, value\); it has 1"),
+    (b"T,Sa\n0,0\n0.5,0\n2,0\n", "top.deck:10:", "every value in its second column is zero"),
+])
+def test_bad_tables_are_located(tmp_path, csv, where, pattern):
+    with pytest.raises(DeckError, match=pattern) as err:
+        read_deck(_spectrum_deck(tmp_path, csv))
+    assert str(err.value).startswith(where), str(err.value)
+
+
+def test_a_spectrum_scale_must_be_positive(tmp_path):
+    with pytest.raises(DeckError, match="scale must be a positive acceleration"):
+        read_deck(_spectrum_deck(tmp_path, b"0,0.3\n2,0.2\n", ", scale = -1 gee"))
