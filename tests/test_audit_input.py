@@ -110,3 +110,67 @@ def test_bad_tables_are_located(tmp_path, csv, where, pattern):
 def test_a_spectrum_scale_must_be_positive(tmp_path):
     with pytest.raises(DeckError, match="scale must be a positive acceleration"):
         read_deck(_spectrum_deck(tmp_path, b"0,0.3\n2,0.2\n", ", scale = -1 gee"))
+
+
+# ---------- ground motion in a direction the retained modes hardly move
+
+POLE = """material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+for k in 0..10 { node N[k] = (0, 0, k*1 m) }
+for k in 0..9 { member M[k] : N[k] -> N[k+1] beam P S }
+support N0 fixed
+case MODES modes { MODES_OPTIONS }
+case H history { ground = GROUND, time = halfsine(0.2 s), duration = 0.5 s, step = 0.001 s, damping = 2 percent }
+case W harmonic { ground = GROUND, from = 1 Hz, to = 5 Hz, points = 20, damping = 2 percent }
+case E spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = DIRS, missing = MISSING }
+"""
+
+
+def _pole(modes: str, ground: str, missing: str = "off"):
+    from fem.run import solve_all
+
+    text = (POLE.replace("MODES_OPTIONS", modes).replace("GROUND", ground).replace("MISSING", missing)
+            .replace("DIRS", ground.replace(" m/s^2", "")))
+    return solve_all(read_text(text))[1]
+
+
+def test_ground_motion_where_the_modes_carry_little_mass_is_warned():
+    # two modes of a cantilever pole: the first bending pair, about 61 % of the mass in X and Y
+    # (uniform cantilever, first mode; Chopra, Dynamics of Structures, 4th ed., Sec. 17.8, from
+    # memory); nothing in Z, whose first mode is axial
+    modes, hist, harm, spec = _pole("count = 2", "(1 m/s^2, 0, 0.5 m/s^2)")
+    got = modes.part.cumulative[-1, :3]
+    assert 0.5 < got[0] < 0.7 and got[2] < 1e-6
+    for r in (hist, harm, spec):
+        x = [w for w in r.warnings if "of the mass in X" in w]
+        z = [w for w in r.warnings if "of the mass in Z" in w]
+        assert len(x) == 1 and len(z) == 1, r.warnings
+        assert f"case {r.name}: the modes of MODES carry {100 * got[0]:.3g} % of the mass in X, a direction of the " \
+               "ground motion" in x[0]
+    assert spec.warnings[-1].endswith("or set missing = on") and spec.warnings[-1].startswith("deck.deck:9:1: ")
+    assert harm.warnings[-1].startswith("deck.deck:8:1: warning: case W")
+
+
+def test_no_ground_mass_warning_when_the_modes_carry_enough_or_missing_mass_is_on():
+    _, hist, harm, spec = _pole("target = (90 percent, 90 percent, 0)", "(1 m/s^2, 0, 0)")
+    assert not [w for r in (hist, harm, spec) for w in r.warnings if "of the mass in" in w]
+    *_, spec = _pole("count = 2", "(0, 0, 1 m/s^2)", missing="on")
+    assert not [w for w in spec.warnings if "of the mass in" in w]
+
+
+def test_spectrum_summary_shows_the_vertical_base_force(tmp_path, capsys):
+    from fem.cli import main
+
+    deck = tmp_path / "pole.deck"
+    deck.write_text(POLE.replace("MODES_OPTIONS", "count = 2").replace("GROUND", "(0, 0, 1 m/s^2)")
+                    .replace("DIRS", "(0, 0, 1)").replace("MISSING", "on"))
+    main(["run", str(deck), "--out", str(tmp_path / "out"), "--no-render"])
+    line = next(x for x in capsys.readouterr().out.splitlines() if x.strip().startswith("E "))
+    # vertical shaking only: no shear, and the vertical reaction is the missing mass's (the modes
+    # carry none in Z): the mass on the free DOFs times the zero-period acceleration 0.25 g x 1.2.
+    # With consistent mass the free DOFs carry all but 2/3 of the bottom member's mass (its row
+    # and column at the support: m L/3 + 2 m L/6), so 1 - 2/30 of the pole's 10 m of pipe
+    mass = 7850 * np.pi / 4 * (0.1683**2 - (0.1683 - 2 * 0.00711) ** 2) * 10 * (1 - 2 / 30)
+    assert "base shear Fx 0 kN, Fy 0 kN, base force Fz " in line
+    fz = float(line.split("base force Fz ")[1].split()[0])
+    assert fz == pytest.approx(mass * 0.25 * 9.80665 * 1.2 / 1e3, rel=1e-3)     # printed to 4 digits
