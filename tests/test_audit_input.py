@@ -174,3 +174,34 @@ def test_spectrum_summary_shows_the_vertical_base_force(tmp_path, capsys):
     assert "base shear Fx 0 kN, Fy 0 kN, base force Fz " in line
     fz = float(line.split("base force Fz ")[1].split()[0])
     assert fz == pytest.approx(mass * 0.25 * 9.80665 * 1.2 / 1e3, rel=1e-3)     # printed to 4 digits
+
+
+# ---------- values of the wrong kind: the hint names the usual slip
+
+@pytest.mark.parametrize("body,caret,message,hint", [
+    ("material W { E = 210 GPa, nu = 0.3, density = 78.5 kN/m^3 }", "78.5",
+     "material W: density needs a density, but a force per volume was given",
+     "this is a weight: divide by g0 for a density, e.g. 78.5 kN/m^3 / g0"),
+    ("member X : A -> C beam P S nsm = 0.5 kN/m", "0.5", "member X: nsm needs a mass per length, but a force per length",
+     "divide by g0 for a mass per length, e.g. 0.5 kN/m / g0"),
+    ("mass C = 25 kN", "25", "mass needs a mass, but a force was given", "e.g. 25 kN / g0"),
+    ("mass C = 2.5", "2.5", "mass needs a mass, but a bare number was given",
+     "e.g. '2.5 t', or declare 'assume mass in t'"),
+    ("spring C (rz = 1e6 N/m)", "1e6", "spring rz needs a moment, but a force per length was given",
+     "a rotational stiffness is a moment per radian"),
+    ("case X modes { fmax = 0.05 s }", "0.05", "case X: fmax needs a frequency, but a time was given",
+     "one over the period"),
+    ("case X modes { count = 2 }\ncase F free { displacement C = (0, 0, 1 mm), duration = 1 s, step = 0.01 s, "
+     "damping = 5 }", "damping", r"case F: damping: ratios lie from 0 to below 1", "5 is 500 %; for 5 % write 5 percent"),
+    ("case X modes { count = 2 }\ncase F free { displacement C = (0, 0, 1 mm), duration = 1 s, step = 0.01 s, "
+     "rayleigh = (2 percent, 1 Hz, 3 percent, 10 Hz) }", "2 percent",
+     r"rayleigh \(f1, ratio1, f2, ratio2\): f1 needs a frequency", "e.g. '5 Hz'"),
+    ("assume density in t", "density", "a density has no unit symbol of its own", "assume mass in t and assume length in mm"),
+])
+def test_a_value_of_the_wrong_kind_gets_a_pointed_hint(body, caret, message, hint):
+    with pytest.raises(DeckError, match=message) as err:
+        read_text(HEAD + body + "\n")
+    loc = err.value.location
+    assert loc.line == N_HEAD + body.count("\n") + 1, str(err.value)
+    assert loc.source_line[loc.column - 1:].startswith(caret), str(err.value)
+    assert hint in err.value.hint

@@ -219,10 +219,13 @@ class _Reader:
         elif q.dim == U.NONE and (f := self.assumed_factor(dim)) is not None:
             v = q.value * f
         elif q.dim == U.NONE:
+            example, assume = _UNIT_EXAMPLES.get(dim, ("6 m", "length in m"))
             raise DeckError(f"{what} needs {U.dim_name(dim)}, but a bare number was given", self.loc(t),
-                            "write the unit after the number, e.g. '6 m', or declare 'assume length in m'")
+                            f"write the unit after the number, e.g. '{example}'"
+                            + (f", or declare 'assume {assume}'" if assume else ""))
         else:
-            raise DeckError(f"{what} needs {U.dim_name(dim)}, but {U.dim_name(q.dim)} was given", self.loc(t))
+            raise DeckError(f"{what} needs {U.dim_name(dim)}, but {U.dim_name(q.dim)} was given", self.loc(t),
+                            _unit_remedy(dim, q.dim))
         if not math.isfinite(v):
             raise DeckError(f"{what} is not a finite number", self.loc(t))
         return v
@@ -342,6 +345,10 @@ class _Reader:
         if what not in _ASSUMABLE:
             raise DeckError(f"cannot assume units for '{what}'; {suggest(what, _ASSUMABLE)}", self.loc(s.children[0]))
         q = U.unit_value(unit)
+        if what == "density":
+            raise DeckError("a density has no unit symbol of its own: it follows from the assumed mass and "
+                            "length", self.loc(s.children[0]), "e.g. assume mass in t and assume length in mm "
+                            "make a bare density mean t/mm^3; or write the unit, density = 7850 kg/m^3")
         if q is None or q.dim != _ASSUMABLE[what]:
             raise DeckError(f"'{unit}' is not a unit of {what}", self.loc(s.children[1]))
         dim, where = _ASSUMABLE[what], self.loc(s)
@@ -1300,7 +1307,10 @@ class _Reader:
             else:
                 z = np.array([self.value(val, U.NONE, what)])
             if np.any(z < 0) or np.any(z >= 1):
-                raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
+                big = z[z >= 1]
+                raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where,
+                                f"{_g(big[0])} is {_g(100 * big[0])} %; for {_g(big[0])} % write {_g(big[0])} percent"
+                                if len(big) else "")
             out["damping"] = z
         elif key == "rayleigh":
             form = "(f1, ratio1, f2, ratio2), e.g. (1 Hz, 2 percent, 10 Hz, 2 percent), or the coefficients " \
@@ -1314,12 +1324,14 @@ class _Reader:
                     raise DeckError(f"{what}: the coefficients cannot be negative and not both zero", where)
                 out["rayleigh"] = (a0, a1)
             else:
-                f1, f2 = self.value(c[0], U.FREQ, what), self.value(c[2], U.FREQ, what)
-                z1, z2 = self.value(c[1], U.NONE, what), self.value(c[3], U.NONE, what)
+                part = f"{what} (f1, ratio1, f2, ratio2)"
+                f1, f2 = self.value(c[0], U.FREQ, part + ": f1"), self.value(c[2], U.FREQ, part + ": f2")
+                z1, z2 = self.value(c[1], U.NONE, part + ": ratio1"), self.value(c[3], U.NONE, part + ": ratio2")
                 if not (f1 > 0 and f2 > 0 and f1 != f2):
                     raise DeckError(f"{what}: two different positive frequencies are needed", where)
                 if not (0 <= z1 < 1 and 0 <= z2 < 1):
-                    raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
+                    raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where,
+                                    "write the ratios with their unit, e.g. 2 percent")
                 out["rayleigh"] = (f1, z1, f2, z2)
         elif key == "record":
             if not (isinstance(val, Token) and val.type == "STRING"):
@@ -1421,6 +1433,34 @@ _PARAM_WORDS = {"thick": ("wall", "t"), "thickness": ("wall", "t"), "t": ("wall"
                 "flange": ("tf",), "web": ("tw",), "area": ("A",), "a": ("A",), "ix": ("J",), "it": ("J",)}
 _CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum")
 _FLOAT_MAX = float(np.finfo(float).max)
+
+
+# an example of a value with its unit for each dimension a deck asks for, and the assume that
+# would let bare numbers stand for it (None where no single assume does)
+_UNIT_EXAMPLES = {
+    U.LENGTH: ("6 m", "length in m"), U.MASS: ("2.5 t", "mass in t"), U.TIME: ("0.01 s", "time in s"),
+    U.FORCE: ("12 kN", "force in kN"), U.PRESSURE: ("210 GPa", "stress in MPa"),
+    U.DENSITY: ("7850 kg/m^3", None), U.ACCEL: ("0.25 gee", None), U.MOMENT: ("20 kN*m", None),
+    U.FREQ: ("5 Hz", None), (1, 0, -2): ("4 kN/m", None), (1, -1, 0): ("12 kg/m", None),
+    (1, 2, 0): ("0.4 t*m^2", None),
+}
+
+
+def _unit_remedy(need, got) -> str:
+    """A hint for a value of the wrong kind that is a common slip: a weight for a mass (divide by
+    g0), a period for a frequency, a translational stiffness for a rotational one."""
+    weight = tuple(a + b for a, b in zip(need, U.ACCEL))
+    if got == weight:
+        example = {U.MASS: "25 kN / g0", U.DENSITY: "78.5 kN/m^3 / g0", (1, -1, 0): "0.5 kN/m / g0"}
+        return (f"this is a weight: divide by g0 for {U.dim_name(need)}"
+                + (f", e.g. {example[need]}" if need in example else ""))
+    if need == U.FREQ and got == U.TIME:
+        return "a frequency is one over the period: write it in Hz or rpm, or as 1 / (0.5 s)"
+    if need == U.TIME and got == U.FREQ:
+        return "a time is one over the frequency: write it in s, or as 1 / (2 Hz)"
+    if need == U.MOMENT and got == (1, 0, -2):
+        return "a rotational stiffness is a moment per radian, e.g. rz = 2e5 N*m"
+    return ""
 
 
 def _not_huge(v: float, what: str, where: Location) -> None:
