@@ -205,3 +205,45 @@ def test_a_value_of_the_wrong_kind_gets_a_pointed_hint(body, caret, message, hin
     assert loc.line == N_HEAD + body.count("\n") + 1, str(err.value)
     assert loc.source_line[loc.column - 1:].startswith(caret), str(err.value)
     assert hint in err.value.hint
+
+
+# ---------- cases that would silently compute nothing, or not what was written
+
+@pytest.mark.parametrize("body,message,caret", [
+    # a misspelt gravity was kept as an option nobody read: a case of zero load
+    ("case D static { gravit = (0, 0, -g0) }", "case D: unknown option 'gravit' for a static case; did you mean "
+     "'gravity'", "gravit"),
+    ("case D static { force C = (1 kN, 0, 0), damping = 5 percent }", "unknown option 'damping' for a static case",
+     "damping"),
+    ("case D static { }", "case D: this static case has no loads, so every result would be zero", "case"),
+    ("case D static { force C = (1 kN, 0, 0) }\ncase X modes { count = 2 }\n"
+     "case F free { start = D, gravity = (0, 0, -g0), duration = 1 s, step = 0.01 s }",
+     "case F: gravity belongs to static and history cases, not to a free case", "gravity"),
+    ("case X modes { count = 2 }\ncase W harmonic { gravity = (0, 0, -g0), force C = (1 kN, 0, 0), from = 1 Hz, "
+     "to = 2 Hz, damping = 2 percent }", "case W: gravity belongs to static and history cases, not to a harmonic",
+     "gravity"),
+])
+def test_a_case_that_would_compute_nothing_or_else_is_refused(body, message, caret):
+    with pytest.raises(DeckError, match=message) as err:
+        read_text(HEAD + body + "\n")
+    loc = err.value.location
+    assert loc.line == N_HEAD + body.count("\n") + 1 and loc.source_line[loc.column - 1:].startswith(caret)
+
+
+def test_a_load_only_on_held_directions_is_a_warning():
+    # every node it names is held where it pushes: it moves nothing
+    m = read_text(HEAD + "case D static { force A = (1 kN, 0, 0), moment A = (0, 0, 1 kN*m) }\n")
+    assert m.warnings == [
+        f"deck.deck:{N_HEAD + 1}:17: warning: case D: this force acts only in directions a support holds (A ux), so "
+        "it goes straight into the support and moves nothing; check the node names or pattern",
+        f"deck.deck:{N_HEAD + 1}:41: warning: case D: this moment acts only in directions a support holds (A rz), "
+        "so it goes straight into the support and moves nothing; check the node names or pattern"]
+    # a pattern that takes in a support as well as free nodes is fine: that part is a reaction
+    assert read_text(HEAD + "case D static { force * = (1 kN, 0, 0) }\n").warnings == []
+
+
+def test_a_case_named_twice_in_a_combination_is_a_warning():
+    m = read_text(HEAD + "case D static { force C = (1 kN, 0, 0) }\ncombo U = 1.35*D + 1.5*D\n")
+    assert m.warnings == [f"deck.deck:{N_HEAD + 2}:20: warning: case D appears more than once in this combination; "
+                          "its factors add up to 2.85"]
+    assert m.combinations[0].factors == {"D": pytest.approx(2.85)}

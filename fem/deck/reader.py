@@ -752,6 +752,17 @@ class _Reader:
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
         for c in cases:
             for item in c.loads:
+                if item.kind in ("force", "moment"):
+                    first = 0 if item.kind == "force" else 3
+                    acts = np.asarray(item.vector) != 0
+                    held = restraint[item.targets, first:first + 3] & acts
+                    if acts.any() and (held == acts).all():          # at every node it names
+                        at = [f"{node_names[item.targets[k]]} {DIRECTIONS[first + d]}" for k, d in np.argwhere(held)]
+                        shown = ", ".join(at[:4]) + (", ..." if len(at) > 4 else "")
+                        self.warnings.append(
+                            f"{item.location}: warning: case {c.name}: this {item.kind} acts only in directions a "
+                            f"support holds ({shown}), so it goes straight into the support and moves nothing; "
+                            "check the node names or pattern")
                 if item.kind in ("displacement", "velocity"):
                     held = restraint[item.targets, :3] & (item.vector != 0)
                     if held.any():
@@ -961,6 +972,12 @@ class _Reader:
             vec, axes = self.load_value(val, dim, f"case {name}: {kindname}", member=kindname == "line")
             case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it), axes,
                                        None if fn is None else (str(fn), self.loc(fn))))
+        if case.gravity is not None and kind in ("free", "harmonic"):
+            raise DeckError(f"case {name}: gravity belongs to static and history cases, not to a {kind} case",
+                            next(self.loc(it) for it in items if it.data == "option"
+                                                 and str(it.children[0]) == "gravity"),
+                            "release from the deflection under gravity with start = a static case"
+                            if kind == "free" else "remove it: the sweep's loads are harmonic amplitudes")
         if kind == "modes":
             self.modes_options(case)
         elif kind == "free":
@@ -974,6 +991,13 @@ class _Reader:
         elif kind != "static":
             raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes, "
                             "free, history, harmonic or spectrum", where)
+        else:
+            for key, (_, at) in case.options.items():
+                raise DeckError(f"case {name}: unknown option '{key}' for a static case; {suggest(key, ['gravity'])}",
+                                at, "a static case takes force, moment and line loads and gravity = (gx, gy, gz)")
+            if not case.loads and case.gravity is None:
+                raise DeckError(f"case {name}: this static case has no loads, so every result would be zero", where,
+                                "give force, moment or line loads, or gravity = (0, 0, -g0)")
         return case
 
     def load_value(self, val, dim, what: str, member: bool) -> tuple[np.ndarray, str]:
@@ -1623,6 +1647,9 @@ def _combo_factors(r: _Reader, t, cases: set[str]) -> dict[str, float]:
         a, b = (_combo_factors(r, c, cases) for c in t.children)
         s = 1.0 if t.data == "add" else -1.0
         for k, v in b.items():
+            if k in a:
+                r.warnings.append(f"{r.loc(t.children[1])}: warning: case {k} appears more than once in this "
+                                  f"combination; its factors add up to {_g(a[k] + s * v)}")
             a[k] = a.get(k, 0.0) + s * v
         return a
     if isinstance(t, Tree) and t.data == "neg":
