@@ -247,3 +247,13 @@ def test_a_case_named_twice_in_a_combination_is_a_warning():
     assert m.warnings == [f"deck.deck:{N_HEAD + 2}:20: warning: case D appears more than once in this combination; "
                           "its factors add up to 2.85"]
     assert m.combinations[0].factors == {"D": pytest.approx(2.85)}
+
+
+def test_a_vector_in_a_let_and_a_target_in_bare_numbers_say_how_to_write_them():
+    with pytest.raises(DeckError, match="a let parameter holds one value, not a vector") as err:
+        read_text(HEAD + "let v = (0, 0, 1)\n")
+    assert (err.value.location.line, err.value.location.column) == (N_HEAD + 1, 11)
+    assert "up = (0, 0, vz)" in err.value.hint
+    with pytest.raises(DeckError, match="fractions of the mass from 0 to 100 percent") as err:
+        read_text(HEAD + "case X modes { target = (90, 90, 0) }\n")
+    assert "target = (90 percent, 90 percent, 0)" in err.value.hint

@@ -1433,7 +1433,8 @@ class _Reader:
             elif key == "target":
                 out[key] = self.vector(val, U.NONE, what)
                 if np.any(out[key] < 0) or np.any(out[key] > 1):
-                    raise DeckError(f"{what}: fractions of the mass from 0 to 100 percent", where)
+                    raise DeckError(f"{what}: fractions of the mass from 0 to 100 percent", where,
+                                    "write them with their unit, e.g. target = (90 percent, 90 percent, 0)")
             elif key == "max":
                 v = self.value(val, U.NONE, what)
                 if v != int(v) or v < 1:
