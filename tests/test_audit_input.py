@@ -257,3 +257,14 @@ def test_a_vector_in_a_let_and_a_target_in_bare_numbers_say_how_to_write_them():
     with pytest.raises(DeckError, match="fractions of the mass from 0 to 100 percent") as err:
         read_text(HEAD + "case X modes { target = (90, 90, 0) }\n")
     assert "target = (90 percent, 90 percent, 0)" in err.value.hint
+
+
+def test_a_trigonometric_function_of_a_bare_number_needs_its_angle_unit():
+    # cos(120) meant as degrees would place the node at cos(120 rad) = 0.81 silently
+    with pytest.raises(DeckError, match=r"cos\(\) of a bare number would read it in radians: write cos\(120 deg\) "
+                                        r"or cos\(120 rad\)") as err:
+        read_text(HEAD + "node Q = (cos(120)*1 m, 1 m, 0)\n")
+    assert (err.value.location.line, err.value.location.column) == (N_HEAD + 1, 15)
+    # angles with units, radians through pi or a parameter, and 0 read as before
+    m = read_text(HEAD + "let a = 2\nnode Q = (cos(pi/3)*1 m + sin(30 deg)*1 m + cos(0)*1 m + tan(a*0.25)*1 m, 1 m, 0)\n")
+    assert m.coords[-1, 0] == pytest.approx(0.5 + 0.5 + 1 + np.tan(0.5), rel=1e-15)

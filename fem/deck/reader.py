@@ -144,6 +144,10 @@ class _Reader:
             if d == "call":
                 fname = str(ch[0])
                 args = [self.evaluate(a) for a in ch[1:]]
+                if fname in ("sin", "cos", "tan") and args and args[0].value != 0 and _plain(ch[1]):
+                    n = _g(args[0].value)
+                    raise DeckError(f"{fname}() of a bare number would read it in radians: write {fname}({n} deg) "
+                                    f"or {fname}({n} rad)", self.loc(ch[1]))
                 return self.call(fname, args, ch[0])
             ops = {"add": "__add__", "sub": "__sub__", "mul": "__mul__", "div": "__truediv__",
                    "pow": "__pow__"}
@@ -236,9 +240,7 @@ class _Reader:
         q = self.evaluate(t)
         if q.dim not in (U.NONE, WILD):
             raise DeckError(f"{what} is an angle, e.g. 30 deg, but {U.dim_name(q.dim)} was given", self.loc(t))
-        plain = isinstance(t, Tree) and all(
-            isinstance(x, Token) and x.type == "NUMBER" for x in t.scan_values(lambda v: isinstance(v, Token)))
-        if plain and q.value != 0:
+        if _plain(t) and q.value != 0:
             raise DeckError(f"{what} is an angle and needs its unit: write {_g(q.value)} deg or {_g(q.value)} rad",
                             self.loc(t), "a bare number would be read as radians")
         return self.value(t, U.NONE, what)
@@ -1494,6 +1496,12 @@ def _not_huge(v: float, what: str, where: Location) -> None:
     if abs(v) > HUGE:
         raise DeckError(f"{what} of {v:.3g} in SI units is beyond the {HUGE:.0e} that can be computed with", where,
                         "check the units")
+
+
+def _plain(t) -> bool:
+    """An expression written with bare numbers only (no unit, parameter or constant)."""
+    return isinstance(t, Tree) and all(
+        isinstance(x, Token) and x.type == "NUMBER" for x in t.scan_values(lambda v: isinstance(v, Token)))
 
 
 def _g(v: float) -> str:
