@@ -268,3 +268,32 @@ def test_a_trigonometric_function_of_a_bare_number_needs_its_angle_unit():
     # angles with units, radians through pi or a parameter, and 0 read as before
     m = read_text(HEAD + "let a = 2\nnode Q = (cos(pi/3)*1 m + sin(30 deg)*1 m + cos(0)*1 m + tan(a*0.25)*1 m, 1 m, 0)\n")
     assert m.coords[-1, 0] == pytest.approx(0.5 + 0.5 + 1 + np.tan(0.5), rel=1e-15)
+
+
+def test_a_pulse_or_table_running_past_the_duration_is_a_warning(tmp_path):
+    # halfsine(30 s) for 30 ms, or a record longer than the run: only the start is seen
+    (tmp_path / "rec.csv").write_text("t,a\n0,0\n1,1\n12,0\n")
+    (tmp_path / "h.deck").write_text(
+        HEAD + "case X modes { count = 2 }\n"
+        "case H history { time F = halfsine(30 s), force C = (1 kN, 0, 0) times F, ground = (0.1 gee, 0, 0), "
+        'table = "rec.csv", duration = 6 s, step = 0.01 s }\n')
+    w = read_deck(tmp_path / "h.deck").warnings
+    assert sorted(w) == sorted([
+        f"h.deck:{N_HEAD + 2}:101: warning: case H: the table runs to 12 s, past the duration 6 s, so only its start "
+        "is seen; check the units, or lengthen the duration",
+        f"h.deck:{N_HEAD + 2}:18: warning: case H: the halfsine lasts to 30 s, past the duration 6 s, so only its "
+        "start is seen; check the units, or lengthen the duration"])
+    # a pulse that ends within the run, and a table that ends with it, say nothing
+    (tmp_path / "h.deck").write_text(
+        HEAD + "case X modes { count = 2 }\n"
+        'case H history { force C = (1 kN, 0, 0), table = "rec.csv", duration = 12 s, step = 0.01 s }\n'
+        "case K history { force C = (1 kN, 0, 0), time = halfsine(0.03 s), duration = 1 s, step = 0.001 s }\n")
+    assert read_deck(tmp_path / "h.deck").warnings == []
+
+
+def test_a_wider_support_pattern_over_a_node_supported_on_its_own_is_fine():
+    # pin one end, then hold the rest of the line out of plane: N0 keeps its pin, no message
+    m = read_text(HEAD + "support C pinned\nsupport * (uy, uz)\n")
+    assert m.restraint[2].tolist() == [True, True, True, False, False, False]
+    assert m.restraint[1].tolist() == [False, True, True, False, False, False]
+    assert m.warnings == []

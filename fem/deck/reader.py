@@ -695,15 +695,20 @@ class _Reader:
         self.leaning_members(mems, coords[conn[:, 1]] - coords[conn[:, 0]], cols, up, truss)
         n = len(node_names)
         restraint = np.zeros((n, 6), bool)
-        first = {}                    # node -> location of the first support statement on it
+        first = {}                    # node -> (location, node count) of the first support on it
         for target, dirs, where in self.supports:
             cols_ = [DIRECTIONS.index(d) for d in dirs]
             again = []
-            for nm in self.targets(target, nidx, "node"):
+            hit = self.targets(target, nidx, "node")
+            for nm in hit:
                 k = nidx[nm]
-                if k in first and self.repeated_support(nm, dirs, restraint[k], where, first[k]):
-                    again.append(f"{nm} (at {first[k]})")
-                first.setdefault(k, where)
+                # a later support as specific as the earlier one (no more nodes) means this node; a
+                # wider pattern sweeping over a node supported on its own does not (pin one end, then
+                # support N* (uy, uz))
+                if k in first and len(hit) <= first[k][1] and \
+                        self.repeated_support(nm, dirs, restraint[k], where, first[k][0]):
+                    again.append(f"{nm} (at {first[k][0]})")
+                first.setdefault(k, (where, len(hit)))
                 restraint[k, cols_] = True
             if again:
                 shown = ", ".join(again[:3]) + (", ..." if len(again) > 3 else "")
@@ -1067,6 +1072,7 @@ class _Reader:
                                     "name further functions, e.g. time KNOCK = halfsine(0.02 s), and use "
                                     "them with 'times KNOCK' after a load")
                 extra["time"], rel = self.time_function(key, val, where, what)
+                time_where = where
                 if rel is not None:
                     tables.append((extra["time"], rel, where))
             elif key == "ground":
@@ -1131,6 +1137,23 @@ class _Reader:
                 self.warnings.append(f"{first[fname]}: warning: case {case.name}: time function {fname} is defined "
                                      f"but no load or ground follows it; add 'times {fname}' after one, or remove it")
         self.table_step_warnings(case, tables)
+        if "time" in case.options:
+            named = {None: case.options["time"], **named}
+            first[None] = time_where
+        for fname, fn in named.items():
+            self.long_function_warning(case, fn, first[fname])
+
+    def long_function_warning(self, case: LoadCase, fn, where) -> None:
+        """Warn when a pulse or a table runs past the case's duration: only its start is seen
+        (often a unit slip, 30 s for 30 ms, or a duration cut short of a record)."""
+        end = {"table": lambda: fn.table[-1, 0], "rect": lambda: fn.param, "halfsine": lambda: fn.param,
+               "triangle": lambda: fn.param, "decay": lambda: fn.param, "ramp": lambda: fn.param}.get(fn.shape)
+        if end is None or end() <= case.options["duration"] * (1 + 1e-9):
+            return
+        what = "table runs" if fn.shape == "table" else f"{fn.shape} lasts"
+        self.warnings.append(f"{where}: warning: case {case.name}: the {what} to {_g(end())} s, past the duration "
+                             f"{_g(case.options['duration'])} s, so only its start is seen; check the units, or "
+                             "lengthen the duration")
 
     def table_step_warnings(self, case: LoadCase, tables) -> None:
         """Warn when a history case's step is longer than the row spacing of a table it reads:
