@@ -45,9 +45,11 @@ def test_supports_that_add_directions_add_up_and_a_repeat_is_a_warning():
 def test_a_spring_on_a_supported_direction_is_a_warning():
     # foundation springs left under a fixed support do nothing
     m = read_text(HEAD + "spring A (uz = 1e8 N/m, rx = 0)\nspring C (uz = 1e6 N/m)\n")
-    assert m.warnings == [f"deck.deck:{N_HEAD + 1}:1: warning: a spring acts where a support already holds the "
-                          "node (1: A uz), so it has no effect; to model a flexible support, leave those "
+    assert m.warnings == [f"deck.deck:{N_HEAD + 1}:1: warning: this spring acts only where a support already holds "
+                          "the node (1: A uz), so it has no effect; to model a flexible support, leave those "
                           "directions out of the support"]
+    # a pattern of springs that also reaches free nodes (a beam on an elastic bed, one end fixed) is fine
+    assert read_text(HEAD + "spring * (uz = 1e6 N/m)\n").warnings == []
 
 
 # ---------- loops and time steps

@@ -716,16 +716,17 @@ class _Reader:
                                      f"node(s), {shown}; remove one of them")
         springs = np.zeros((n, 6))
         for target, vals, where in self.springs:
-            held = []
+            held, acting = [], 0
             for nm in self.targets(target, nidx, "node"):
                 for d, v in vals.items():
                     springs[nidx[nm], DIRECTIONS.index(d)] += v
                     if v > 0 and restraint[nidx[nm], DIRECTIONS.index(d)]:
                         held.append(f"{nm} {d}")
-            if held:
+                    acting += v > 0
+            if held and len(held) == acting:           # it acts nowhere: every spring of it is held
                 shown = ", ".join(held[:5]) + (", ..." if len(held) > 5 else "")
-                self.warnings.append(f"{where}: warning: a spring acts where a support already holds the node "
-                                     f"({len(held)}: {shown}), so it has no effect; to model a flexible "
+                self.warnings.append(f"{where}: warning: this spring acts only where a support already holds the "
+                                     f"node ({len(held)}: {shown}), so it has no effect; to model a flexible "
                                      "support, leave those directions out of the support")
         pmass = np.zeros((n, 6))
         on_member = np.zeros(n, bool)
