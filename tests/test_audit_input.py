@@ -299,3 +299,11 @@ def test_a_wider_support_pattern_over_a_node_supported_on_its_own_is_fine():
     assert m.restraint[2].tolist() == [True, True, True, False, False, False]
     assert m.restraint[1].tolist() == [False, True, True, False, False, False]
     assert m.warnings == []
+
+
+def test_record_in_a_spectrum_case_is_refused():
+    # it was accepted and did nothing
+    with pytest.raises(DeckError, match="case E: a spectrum case has no histories to record") as err:
+        read_text(HEAD + 'case X modes { count = 2 }\ncase E spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, '
+                  '0.5 s, 2 s), record = "C" }\n')
+    assert err.value.location.source_line[err.value.location.column - 1:].startswith("record")

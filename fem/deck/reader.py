@@ -1276,6 +1276,10 @@ class _Reader:
                 if word is None:
                     raise DeckError(f"{what} names a modes case", where)
                 out[key] = (word, where)
+            elif key == "record":
+                raise DeckError(f"case {case.name}: a spectrum case has no histories to record; its peaks at "
+                                "every node go to the displacement, reaction and end-force tables", where,
+                                "remove record")
             elif not self.dynamic_common(case, key, val, where, out, nidx):
                 known = ["curve", "table", "scale", "made_for", "directions", "combine", "spatial",
                          "missing", "damping", "rayleigh", "modes"]
