@@ -307,3 +307,11 @@ def test_record_in_a_spectrum_case_is_refused():
         read_text(HEAD + 'case X modes { count = 2 }\ncase E spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, '
                   '0.5 s, 2 s), record = "C" }\n')
     assert err.value.location.source_line[err.value.location.column - 1:].startswith("record")
+
+
+def test_a_release_on_a_truss_member_is_refused():
+    # a truss has no end moments to release: the member was probably meant as a beam
+    with pytest.raises(DeckError, match="member T: a truss member carries axial force only, so a release does nothing"
+                       ) as err:
+        read_text(HEAD + "member T : A -> C truss P S release j (rz)\n")
+    assert err.value.location.source_line[err.value.location.column - 1:].startswith("release")

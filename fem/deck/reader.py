@@ -529,6 +529,9 @@ class _Reader:
                 end = str(opt.children[0])
                 if end not in ("i", "j"):
                     raise DeckError(f"member {name}: release end must be 'i' or 'j', not '{end}'", self.loc(opt))
+                if kind == "truss":
+                    raise DeckError(f"member {name}: a truss member carries axial force only, so a release does "
+                                    "nothing", self.loc(opt), "remove the release, or make the member a beam")
                 for d in opt.children[1].children:
                     if str(d) not in DIRECTIONS:
                         raise DeckError(f"unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
