@@ -315,3 +315,13 @@ def test_a_release_on_a_truss_member_is_refused():
                        ) as err:
         read_text(HEAD + "member T : A -> C truss P S release j (rz)\n")
     assert err.value.location.source_line[err.value.location.column - 1:].startswith("release")
+
+
+def test_spectrum_direction_factors_written_as_percent_numbers_are_warned():
+    m = read_text(HEAD + 'case X modes { count = 2 }\ncase E spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, '
+                  '0.5 s, 2 s), directions = (100, 30, 0) }\n')
+    assert m.warnings == [f"deck.deck:{N_HEAD + 2}:71: warning: case E: direction factors multiply the spectrum, so "
+                          "100 scales the response 100-fold; for the 100/30 rule write directions = (1, 1, 0) with "
+                          'spatial = "100/30"']
+    assert read_text(HEAD + 'case X modes { count = 2 }\ncase E spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, '
+                     '0.5 s, 2 s), directions = (1, 0.3, 0) }\n').warnings == []

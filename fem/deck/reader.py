@@ -1264,6 +1264,11 @@ class _Reader:
                 out[key] = self.vector(val, U.NONE, what)
                 if not np.any(out[key]):
                     raise DeckError(f"{what}: at least one direction factor must be non-zero", where)
+                if np.abs(out[key]).max() > 2:
+                    self.warnings.append(f"{where}: warning: case {case.name}: direction factors multiply the "
+                                         f"spectrum, so {_g(np.abs(out[key]).max())} scales the response "
+                                         f"{_g(np.abs(out[key]).max())}-fold; for the 100/30 rule write "
+                                         "directions = (1, 1, 0) with spatial = \"100/30\"")
             elif key in ("combine", "spatial"):
                 if isinstance(val, Token) and val.type == "STRING":
                     word = str(val)[1:-1]
