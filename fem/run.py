@@ -580,10 +580,12 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     for r in modal:
         c = modal_checks(r)
         if isinstance(r, SpectrumResult):
-            # a shear under 1e-9 of the other is round-off of a direction not excited: shown as 0
-            fx, fy = (0.0 if v < 1e-9 * np.abs(r.base[:2]).max() else v / 1e3 for v in np.abs(r.base[:2]))
+            # a force under 1e-9 of the largest is round-off of a direction not excited: shown as 0;
+            # the vertical one is shown when the case shakes Z
+            fx, fy, fz = (0.0 if v < 1e-9 * np.abs(r.base[:3]).max() else v / 1e3 for v in np.abs(r.base[:3]))
             print(f"  {r.name:<12} response spectrum ({r.rule.upper()}, directions {r.spatial}); base shear "
-                  f"Fx {fx:.4g} kN, Fy {fy:.4g} kN; max displacement "
+                  f"Fx {fx:.4g} kN, Fy {fy:.4g} kN" + (f", base force Fz {fz:.4g} kN" if r.directions[2] else "")
+                  + "; max displacement "
                   f"{r.u[:, :3].max():.4g} m; missing mass "
                   + ", ".join(f"{a} {percent(v)}" for a, v in c["missing_mass_fraction"].items())
                   + (" (corrected)" if r.missing else ""))

@@ -208,7 +208,7 @@ def test_included_duplicate_names_the_other_file(tmp_path):
         read_deck(tmp_path / "top.deck")
 
 
-@pytest.mark.parametrize("text", ["", "# only a comment\n", 'title "nothing"\ncase D static { }\n'],
+@pytest.mark.parametrize("text", ["", "# only a comment\n", 'title "nothing"\ncase D static { gravity = (0, 0, -g0) }\n'],
                          ids=["empty", "comment", "no nodes"])
 def test_a_deck_without_nodes_is_checked_and_refused_to_run(tmp_path, text, capsys):
     # a deck of materials only (to be included) reads and checks; running it is refused

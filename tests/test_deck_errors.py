@@ -182,8 +182,8 @@ def test_bad_table_row_is_located_with_a_caret(tmp_path: Path):
     with pytest.raises(DeckError) as err:
         read_deck(tmp_path / "top.deck")
     text = str(err.value).splitlines()
-    assert text[0] == f"{Path('rec', 'g.csv')}:3:1: expected two numbers in this row"
-    assert text[1].strip() == "0.1,zero" and text[2].strip() == "^"
+    assert text[0] == f"{Path('rec', 'g.csv')}:3:5: expected two numbers in this row, found 'zero'"
+    assert text[1].strip() == "0.1,zero" and text[2] == " " * (text[1].index("0.1") + 4) + "^"
     assert text[3].startswith("hint: table named at top.deck:")
 
 

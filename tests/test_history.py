@@ -197,7 +197,7 @@ def test_history_errors(tmp_path):
         read_text(SDOF % ("step", "1 s", "0.01 m", "0"))
     (tmp_path / "rec.csv").write_text("t,a\n0,0\n0.1,1\n0.1,2\n")
     deck = (SDOF % ("step", "1 s", "0.01 s", "0")).replace("time = step", 'table = "rec.csv"')
-    with pytest.raises(DeckError, match="increasing times"):
+    with pytest.raises(DeckError, match=r"rec.csv:4:1: the first column must increase row by row: 0.1 follows 0.1 \(row 3\)"):
         read_text(deck, folder=tmp_path)
 
 

@@ -22,7 +22,7 @@ from ..deck.reader import ROWS_LIMIT
 from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import case_ratios
-from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
+from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .static import load_vector
 
 __all__ = ["HarmonicResult", "lag_degrees", "solve_harmonic_case", "sweep_frequencies"]
@@ -149,11 +149,12 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     support = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
     reactions = np.einsum("wk,ksd->wsd", H, Rm[:, support]) + r_static.reshape(-1, 6)[support][None]
     members = np.flatnonzero(np.isin(model.conn, record).any(axis=1))
-    warnings = ()
+    warnings = tuple(f"{case.location}: warning: {w}" for w in
+                     ground_mass_warnings(case, modal, [opt["ground"]] if opt.get("ground") is not None else []))
     rows = len(freq) * 2 * len(members)
     if rows > ROWS_LIMIT:
         member_forces = None
-        warnings = (f"{case.location}: warning: case {case.name}: the end-force table would have {rows:.3g} rows "
+        warnings += (f"{case.location}: warning: case {case.name}: the end-force table would have {rows:.3g} rows "
                     f"(above {ROWS_LIMIT:.0e}) and is not written; record fewer nodes or use fewer points",)
     else:
         member_forces = (np.einsum("wk,kqc->wqc", H, Fm[:, members])

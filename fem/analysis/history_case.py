@@ -12,7 +12,7 @@ from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
 from .free_case import frame_indices, peak_index, peaks, step_warnings
-from .modal_case import ModesCaseResult, effective_load, field_responses, residual_static
+from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .static import load_vector
 from .recurrence import integrate_modal, knot_kicks
 
@@ -122,6 +122,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     a[:, :, :3] += a_ground[:, None, :]
     warnings = step_warnings(dt, omega, "the load and the output are",
                              "each step is integrated exactly for a linear load")
+    warnings += ground_mass_warnings(case, modal, [gr for _, _, gr in _groups(case) if gr is not None])
     # animation frames spaced by the modes that matter, the step of the largest motion among them
     frames = frame_indices(t, q, modal.shapes, omega, [peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),

@@ -11,10 +11,11 @@ from ..errors import ModelError
 from ..model import LoadCase, Model
 from .modes import DENSE_LIMIT, ModalResult, Participation, participation, solve_modes
 
-__all__ = ["ModesCaseResult", "effective_load", "field_responses", "influence_vectors", "residual_static",
-           "solve_modes_case"]
+__all__ = ["ModesCaseResult", "effective_load", "field_responses", "ground_mass_warnings", "influence_vectors",
+           "residual_static", "solve_modes_case"]
 
 AXES = ("X", "Y", "Z", "RX", "RY", "RZ")
+GROUND_MASS = 0.9     # share of the mass the modes should carry in a direction the ground shakes
 
 
 @dataclass
@@ -158,3 +159,20 @@ def residual_static(F: np.ndarray, asm: Assembled, lu, shapes, omega, pk) -> np.
     full[asm.free] = lu.solve(F[asm.free])
     pos = omega > 0
     return full - shapes[:, pos] @ (pk[pos] / omega[pos] ** 2)
+
+
+def ground_mass_warnings(case: LoadCase, modal: ModesCaseResult, accel, remedy: str = "") -> tuple:
+    """Texts warning that a ground acceleration shakes a direction (X, Y, Z) in which the retained
+    modes carry under GROUND_MASS of the mass: the response to the rest is left out (a modes
+    case with a target in other directions, or a count too low for vertical modes). 90 % is the
+    usual requirement on the sum of effective modal masses (common practice, e.g. EN 1998-1:2004
+    4.3.3.3.1, from memory). `accel` are the ground vectors (3,) of the case."""
+    shaken = np.any([np.asarray(a, float) != 0 for a in accel], axis=0) if len(accel) else np.zeros(3, bool)
+    got = modal.part.cumulative[-1, :3] if len(modal.part.cumulative) else np.zeros(3)
+    out = []
+    for d in np.flatnonzero(shaken):
+        if np.isfinite(got[d]) and got[d] < GROUND_MASS:
+            out.append(f"case {case.name}: the modes of {modal.name} carry {100 * got[d]:.3g} % of the mass in "
+                       f"{AXES[d]}, a direction of the ground motion, so the response leaves out the rest; ask "
+                       f"{modal.name} for more modes (e.g. a target of 90 percent in {AXES[d]}){remedy}")
+    return tuple(out)

@@ -13,7 +13,7 @@ from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import case_ratios
-from .modal_case import ModesCaseResult, field_responses
+from .modal_case import ModesCaseResult, field_responses, ground_mass_warnings
 from .spectrum import combine, combine_directions, cqc_correlation
 
 __all__ = ["SpectrumResult", "solve_spectrum_case"]
@@ -68,6 +68,9 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         tmin, tmax = sp.table[0, 0], sp.table[-1, 0]
         outside = [float(t) for t in T if t < tmin or t > tmax]
     warnings = _damping_warnings(case, sp, zeta)
+    if not opt["missing"]:
+        warnings += tuple(f"{case.location}: warning: {w}" for w in
+                          ground_mass_warnings(case, modal, [opt["directions"]], " or set missing = on"))
     rho = cqc_correlation(omega, zeta)
     f = asm.free
     n6 = 6 * model.n_nodes

@@ -145,6 +145,10 @@ class _Reader:
             if d == "call":
                 fname = str(ch[0])
                 args = [self.evaluate(a) for a in ch[1:]]
+                if fname in ("sin", "cos", "tan") and args and args[0].value != 0 and self.bare(ch[1]):
+                    n = _g(args[0].value)
+                    raise DeckError(f"{fname}() of a bare number would read it in radians: write {fname}({n} deg) "
+                                    f"or {fname}({n} rad)", self.loc(ch[1]))
                 return self.call(fname, args, ch[0])
             ops = {"add": "__add__", "sub": "__sub__", "mul": "__mul__", "div": "__truediv__",
                    "pow": "__pow__"}
@@ -220,10 +224,13 @@ class _Reader:
         elif q.dim == U.NONE and (f := self.assumed_factor(dim)) is not None:
             v = q.value * f
         elif q.dim == U.NONE:
+            example, assume = _UNIT_EXAMPLES.get(dim, ("6 m", "length in m"))
             raise DeckError(f"{what} needs {U.dim_name(dim)}, but a bare number was given", self.loc(t),
-                            "write the unit after the number, e.g. '6 m', or declare 'assume length in m'")
+                            f"write the unit after the number, e.g. '{example}'"
+                            + (f", or declare 'assume {assume}'" if assume else ""))
         else:
-            raise DeckError(f"{what} needs {U.dim_name(dim)}, but {U.dim_name(q.dim)} was given", self.loc(t))
+            raise DeckError(f"{what} needs {U.dim_name(dim)}, but {U.dim_name(q.dim)} was given", self.loc(t),
+                            _unit_remedy(dim, q.dim))
         if not math.isfinite(v):
             raise DeckError(f"{what} is not a finite number", self.loc(t))
         return v
@@ -360,6 +367,10 @@ class _Reader:
         if what not in _ASSUMABLE:
             raise DeckError(f"cannot assume units for '{what}'; {suggest(what, _ASSUMABLE)}", self.loc(s.children[0]))
         q = U.unit_value(unit)
+        if what == "density":
+            raise DeckError("a density has no unit symbol of its own: it follows from the assumed mass and "
+                            "length", self.loc(s.children[0]), "e.g. assume mass in t and assume length in mm "
+                            "make a bare density mean t/mm^3; or write the unit, density = 7850 kg/m^3")
         if q is None or q.dim != _ASSUMABLE[what]:
             raise DeckError(f"'{unit}' is not a unit of {what}", self.loc(s.children[1]))
         dim, where = _ASSUMABLE[what], self.loc(s)
@@ -538,6 +549,9 @@ class _Reader:
                 end = str(opt.children[0])
                 if end not in ("i", "j"):
                     raise DeckError(f"member {name}: release end must be 'i' or 'j', not '{end}'", self.loc(opt))
+                if kind == "truss":
+                    raise DeckError(f"member {name}: a truss member carries axial force only, so a release does "
+                                    "nothing", self.loc(opt), "remove the release, or make the member a beam")
                 for d in opt.children[1].children:
                     if str(d) not in DIRECTIONS:
                         raise DeckError(f"unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
@@ -574,7 +588,7 @@ class _Reader:
                 if str(d) not in DIRECTIONS:
                     raise DeckError(f"unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
                 dirs.append(str(d))
-        self.supports.append((target, dirs))
+        self.supports.append((target, dirs, self.loc(s)))
 
     def st_spring(self, s):
         target, *kws = s.children
@@ -590,7 +604,7 @@ class _Reader:
             if vals[d] < 0:
                 raise DeckError(f"spring {d}: a stiffness cannot be negative", self.loc(kw))
             _not_huge(vals[d], f"spring {d}", self.loc(kw))
-        self.springs.append((target, vals))
+        self.springs.append((target, vals, self.loc(s)))
 
     def st_mass(self, s):
         target, value, *opts = s.children
@@ -639,6 +653,11 @@ class _Reader:
                 raise DeckError("loop bounds must be whole numbers", self.loc(s))
         if b.value - a.value > 1_000_000:
             raise DeckError("loop runs more than a million times", self.loc(s))
+        if b.value < a.value:
+            w = (f"{self.loc(s)}: warning: loop range {a.value:g}..{b.value:g} is empty (a range counts up), so "
+                 f"its statements are skipped; write {b.value:g}..{a.value:g} to run them")
+            if w not in self.warnings:          # once, though an enclosing loop reads it again
+                self.warnings.append(w)
         saved = self.vars.get(str(var))
         self.loop_vars.append(str(var))
         try:
@@ -699,14 +718,39 @@ class _Reader:
         self.leaning_members(mems, coords[conn[:, 1]] - coords[conn[:, 0]], cols, up, truss)
         n = len(node_names)
         restraint = np.zeros((n, 6), bool)
-        for target, dirs in self.supports:
-            for nm in self.targets(target, nidx, "node"):
-                restraint[nidx[nm], [DIRECTIONS.index(d) for d in dirs]] = True
+        first = {}                    # node -> (location, node count) of the first support on it
+        for target, dirs, where in self.supports:
+            cols_ = [DIRECTIONS.index(d) for d in dirs]
+            again = []
+            hit = self.targets(target, nidx, "node")
+            for nm in hit:
+                k = nidx[nm]
+                # a later support as specific as the earlier one (no more nodes) means this node; a
+                # wider pattern sweeping over a node supported on its own does not (pin one end, then
+                # support N* (uy, uz))
+                if k in first and len(hit) <= first[k][1] and \
+                        self.repeated_support(nm, dirs, restraint[k], where, first[k][0]):
+                    again.append(f"{nm} (at {first[k][0]})")
+                first.setdefault(k, (where, len(hit)))
+                restraint[k, cols_] = True
+            if again:
+                shown = ", ".join(again[:3]) + (", ..." if len(again) > 3 else "")
+                self.warnings.append(f"{where}: warning: this support repeats an earlier one at {len(again)} "
+                                     f"node(s), {shown}; remove one of them")
         springs = np.zeros((n, 6))
-        for target, vals in self.springs:
+        for target, vals, where in self.springs:
+            held, acting = [], 0
             for nm in self.targets(target, nidx, "node"):
                 for d, v in vals.items():
                     springs[nidx[nm], DIRECTIONS.index(d)] += v
+                    if v > 0 and restraint[nidx[nm], DIRECTIONS.index(d)]:
+                        held.append(f"{nm} {d}")
+                    acting += v > 0
+            if held and len(held) == acting:           # it acts nowhere: every spring of it is held
+                shown = ", ".join(held[:5]) + (", ..." if len(held) > 5 else "")
+                self.warnings.append(f"{where}: warning: this spring acts only where a support already holds the "
+                                     f"node ({len(held)}: {shown}), so it has no effect; to model a flexible "
+                                     "support, leave those directions out of the support")
         pmass = np.zeros((n, 6))
         on_member = np.zeros(n, bool)
         on_member[conn.ravel()] = True
@@ -739,6 +783,17 @@ class _Reader:
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
         for c in cases:
             for item in c.loads:
+                if item.kind in ("force", "moment"):
+                    first = 0 if item.kind == "force" else 3
+                    acts = np.asarray(item.vector) != 0
+                    held = restraint[item.targets, first:first + 3] & acts
+                    if acts.any() and (held == acts).all():          # at every node it names
+                        at = [f"{node_names[item.targets[k]]} {DIRECTIONS[first + d]}" for k, d in np.argwhere(held)]
+                        shown = ", ".join(at[:4]) + (", ..." if len(at) > 4 else "")
+                        self.warnings.append(
+                            f"{item.location}: warning: case {c.name}: this {item.kind} acts only in directions a "
+                            f"support holds ({shown}), so it goes straight into the support and moves nothing; "
+                            "check the node names or pattern")
                 if item.kind in ("displacement", "velocity"):
                     held = restraint[item.targets, :3] & (item.vector != 0)
                     if held.any():
@@ -791,6 +846,21 @@ class _Reader:
                      member_section=[m["section"][0] for m in mems],
                      member_material=[m["material"][0] for m in mems],
                      cases=cases, combinations=combos, settings=settings, warnings=self.warnings, **cols)
+
+    def repeated_support(self, nm, dirs, held, where, first) -> bool:
+        """A second support statement on a node: supports add up. Asking for less than is already
+        held (fixed, then pinned) is refused, since the earlier support would silently win; True
+        for the same directions again (a warning)."""
+        if not held[[DIRECTIONS.index(d) for d in dirs]].all():
+            return False                                   # it adds directions: they add up
+        have = ", ".join(d for d, x in zip(DIRECTIONS, held) if x)
+        if held.sum() > len(set(dirs)):
+            raise DeckError(f"support on node {nm} ({', '.join(dirs)}) conflicts with the support at {first}, "
+                            f"which already holds {have} there: supports add up, so the node would stay held "
+                            f"in {have}", where,
+                            f"give node {nm} one support: leave it out of the earlier one (e.g. a group or "
+                            "pattern without it)")
+        return True
 
     def coincident_nodes(self, names, coords, tol, used) -> None:
         """Distinct nodes at one place are not connected: an error when both carry something
@@ -933,6 +1003,12 @@ class _Reader:
             vec, axes = self.load_value(val, dim, f"case {name}: {kindname}", member=kindname == "line")
             case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it), axes,
                                        None if fn is None else (str(fn), self.loc(fn))))
+        if case.gravity is not None and kind in ("free", "harmonic"):
+            raise DeckError(f"case {name}: gravity belongs to static and history cases, not to a {kind} case",
+                            next(self.loc(it) for it in items if it.data == "option"
+                                                 and str(it.children[0]) == "gravity"),
+                            "release from the deflection under gravity with start = a static case"
+                            if kind == "free" else "remove it: the sweep's loads are harmonic amplitudes")
         if kind == "modes":
             self.modes_options(case)
         elif kind == "free":
@@ -946,6 +1022,13 @@ class _Reader:
         elif kind != "static":
             raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes, "
                             "free, history, harmonic or spectrum", where)
+        else:
+            for key, (_, at) in case.options.items():
+                raise DeckError(f"case {name}: unknown option '{key}' for a static case; {suggest(key, ['gravity'])}",
+                                at, "a static case takes force, moment and line loads and gravity = (gx, gy, gz)")
+            if not case.loads and case.gravity is None:
+                raise DeckError(f"case {name}: this static case has no loads, so every result would be zero", where,
+                                "give force, moment or line loads, or gravity = (0, 0, -g0)")
         return case
 
     def load_value(self, val, dim, what: str, member: bool) -> tuple[np.ndarray, str]:
@@ -1013,6 +1096,7 @@ class _Reader:
                                     "name further functions, e.g. time KNOCK = halfsine(0.02 s), and use "
                                     "them with 'times KNOCK' after a load")
                 extra["time"], rel = self.time_function(key, val, where, what)
+                time_where = where
                 if rel is not None:
                     tables.append((extra["time"], rel, where))
             elif key == "ground":
@@ -1077,6 +1161,23 @@ class _Reader:
                 self.warnings.append(f"{first[fname]}: warning: case {case.name}: time function {fname} is defined "
                                      f"but no load or ground follows it; add 'times {fname}' after one, or remove it")
         self.table_step_warnings(case, tables)
+        if "time" in case.options:
+            named = {None: case.options["time"], **named}
+            first[None] = time_where
+        for fname, fn in named.items():
+            self.long_function_warning(case, fn, first[fname])
+
+    def long_function_warning(self, case: LoadCase, fn, where) -> None:
+        """Warn when a pulse or a table runs past the case's duration: only its start is seen
+        (often a unit slip, 30 s for 30 ms, or a duration cut short of a record)."""
+        end = {"table": lambda: fn.table[-1, 0], "rect": lambda: fn.param, "halfsine": lambda: fn.param,
+               "triangle": lambda: fn.param, "decay": lambda: fn.param, "ramp": lambda: fn.param}.get(fn.shape)
+        if end is None or end() <= case.options["duration"] * (1 + 1e-9):
+            return
+        what = "table runs" if fn.shape == "table" else f"{fn.shape} lasts"
+        self.warnings.append(f"{where}: warning: case {case.name}: the {what} to {_g(end())} s, past the duration "
+                             f"{_g(case.options['duration'])} s, so only its start is seen; check the units, or "
+                             "lengthen the duration")
 
     def table_step_warnings(self, case: LoadCase, tables) -> None:
         """Warn when a history case's step is longer than the row spacing of a table it reads:
@@ -1172,6 +1273,8 @@ class _Reader:
                     raise DeckError(f"{what}: periods and accelerations cannot be negative", where)
             elif key == "scale":
                 scale = self.value(val, U.ACCEL, what)
+                if scale <= 0:
+                    raise DeckError(f"{what} must be a positive acceleration (e.g. 1 gee)", where)
             elif key == "made_for":
                 made_for = self.value(val, U.NONE, what)
                 if not 0 <= made_for < 1:
@@ -1181,6 +1284,11 @@ class _Reader:
                 out[key] = self.vector(val, U.NONE, what)
                 if not np.any(out[key]):
                     raise DeckError(f"{what}: at least one direction factor must be non-zero", where)
+                if np.abs(out[key]).max() > 2:
+                    self.warnings.append(f"{where}: warning: case {case.name}: direction factors multiply the "
+                                         f"spectrum, so {_g(np.abs(out[key]).max())} scales the response "
+                                         f"{_g(np.abs(out[key]).max())}-fold; for the 100/30 rule write "
+                                         "directions = (1, 1, 0) with spatial = \"100/30\"")
             elif key in ("combine", "spatial"):
                 if isinstance(val, Token) and val.type == "STRING":
                     word = str(val)[1:-1]
@@ -1196,6 +1304,10 @@ class _Reader:
                 if word is None:
                     raise DeckError(f"{what} names a modes case", where)
                 out[key] = (word, where)
+            elif key == "record":
+                raise DeckError(f"case {case.name}: a spectrum case has no histories to record; its peaks at "
+                                "every node go to the displacement, reaction and end-force tables", where,
+                                "remove record")
             elif not self.dynamic_common(case, key, val, where, out, nidx):
                 known = ["curve", "table", "scale", "made_for", "directions", "combine", "spatial",
                          "missing", "damping", "rayleigh", "modes"]
@@ -1229,25 +1341,41 @@ class _Reader:
         if self.top_dir not in path.parents:
             raise DeckError(f"table '{rel}' is outside the deck's folder {self.top_dir}", where)
         lines = _read_utf8(path, "table", where, self.shown(path)).splitlines()
-        rows = []
+        rows, at = [], []
+        fix = (f"table named at {where}; two numbers a row, separated by a comma, semicolon, tab or spaces, "
+               "decimals with a point")
         for k, line in enumerate(lines, 1):
-            parts = [x.strip() for x in line.replace(";", ",").split(",") if x.strip()]
-            if not parts or parts[0].startswith("#"):
-                continue
-            try:
-                vals = [float(x) for x in parts]
-            except ValueError:
-                if not rows:
-                    continue              # a header line
-                raise DeckError("expected two numbers in this row", Location(self.shown(path), k, 1, line),
-                                f"table named at {where}") from None
+            parts = [x for x in re.split(r"[,;\s]+", line.split("#")[0]) if x]
+            if not parts:
+                continue                  # blank, or a comment
+            vals = []
+            for x in parts:
+                try:
+                    vals.append(float(x))
+                except ValueError:
+                    vals.append(None)
+            here = Location(self.shown(path), k, 1, line)
+            if all(v is None for v in vals) and not rows:
+                continue                  # a header line
+            if None in vals:
+                bad = parts[vals.index(None)]
+                here = Location(self.shown(path), k, line.find(bad) + 1, line)
+                raise DeckError(f"expected two numbers in this row, found '{bad}'", here, fix)
             if len(vals) != 2 or not all(map(math.isfinite, vals)):
-                raise DeckError("expected two finite numbers in this row", Location(self.shown(path), k, 1, line),
-                                f"table named at {where}")
+                raise DeckError(f"expected two finite numbers in this row, found {len(vals)}: "
+                                f"{', '.join(parts)}", here, fix)
+            if rows and vals[0] <= rows[-1][0]:
+                raise DeckError(f"the first column must increase row by row: {_g(vals[0])} follows "
+                                f"{_g(rows[-1][0])} (row {at[-1]})", here, f"table named at {where}")
             rows.append(vals)
+            at.append(k)
         table = np.array(rows).reshape(-1, 2)
-        if len(table) < 2 or np.any(np.diff(table[:, 0]) <= 0):
-            raise DeckError(f"table '{rel}' needs at least two rows with increasing times or periods", where)
+        if len(table) < 2:
+            raise DeckError(f"table '{rel}' needs at least two rows of numbers (time or period, value); "
+                            f"it has {len(table)}", where)
+        if not table[:, 1].any():
+            raise DeckError(f"table '{rel}': every value in its second column is zero, so it would give no "
+                            "response", where, "check the file, or that the right column holds the values")
         return table
 
     def dynamic_common(self, case, key, val, where, out, nidx) -> bool:
@@ -1261,7 +1389,10 @@ class _Reader:
             else:
                 z = np.array([self.value(val, U.NONE, what)])
             if np.any(z < 0) or np.any(z >= 1):
-                raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
+                big = z[z >= 1]
+                raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where,
+                                f"{_g(big[0])} is {_g(100 * big[0])} %; for {_g(big[0])} % write {_g(big[0])} percent"
+                                if len(big) else "")
             out["damping"] = z
         elif key == "rayleigh":
             form = "(f1, ratio1, f2, ratio2), e.g. (1 Hz, 2 percent, 10 Hz, 2 percent), or the coefficients " \
@@ -1275,12 +1406,14 @@ class _Reader:
                     raise DeckError(f"{what}: the coefficients cannot be negative and not both zero", where)
                 out["rayleigh"] = (a0, a1)
             else:
-                f1, f2 = self.value(c[0], U.FREQ, what), self.value(c[2], U.FREQ, what)
-                z1, z2 = self.value(c[1], U.NONE, what), self.value(c[3], U.NONE, what)
+                part = f"{what} (f1, ratio1, f2, ratio2)"
+                f1, f2 = self.value(c[0], U.FREQ, part + ": f1"), self.value(c[2], U.FREQ, part + ": f2")
+                z1, z2 = self.value(c[1], U.NONE, part + ": ratio1"), self.value(c[3], U.NONE, part + ": ratio2")
                 if not (f1 > 0 and f2 > 0 and f1 != f2):
                     raise DeckError(f"{what}: two different positive frequencies are needed", where)
                 if not (0 <= z1 < 1 and 0 <= z2 < 1):
-                    raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where)
+                    raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where,
+                                    "write the ratios with their unit, e.g. 2 percent")
                 out["rayleigh"] = (f1, z1, f2, z2)
         elif key == "record":
             if not (isinstance(val, Token) and val.type == "STRING"):
@@ -1327,6 +1460,10 @@ class _Reader:
         for key in ("duration", "step"):
             if key not in out:
                 raise DeckError(f"case {case.name}: a {case.kind} case needs {key} = ... s", case.location)
+        if out["duration"] < out["step"]:
+            raise DeckError(f"case {case.name}: duration {_g(out['duration'])} s is shorter than the step "
+                            f"{_g(out['step'])} s, so the {case.kind} case would hold its start only",
+                            case.options["duration"][1], "check the units of duration and step")
         if out["duration"] / out["step"] > 1e6:
             raise DeckError(f"case {case.name}: more than a million time steps; use a longer step", case.location)
         self.table_rows(case, int(out["duration"] / out["step"]) + 1, "time steps", out["record"], nidx, "a longer step")
@@ -1354,7 +1491,8 @@ class _Reader:
             elif key == "target":
                 out[key] = self.vector(val, U.NONE, what)
                 if np.any(out[key] < 0) or np.any(out[key] > 1):
-                    raise DeckError(f"{what}: fractions of the mass from 0 to 100 percent", where)
+                    raise DeckError(f"{what}: fractions of the mass from 0 to 100 percent", where,
+                                    "write them with their unit, e.g. target = (90 percent, 90 percent, 0)")
             elif key == "max":
                 v = self.value(val, U.NONE, what)
                 if v != int(v) or v < 1:
@@ -1378,6 +1516,34 @@ _PARAM_WORDS = {"thick": ("wall", "t"), "thickness": ("wall", "t"), "t": ("wall"
                 "flange": ("tf",), "web": ("tw",), "area": ("A",), "a": ("A",), "ix": ("J",), "it": ("J",)}
 _CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum")
 _FLOAT_MAX = float(np.finfo(float).max)
+
+
+# an example of a value with its unit for each dimension a deck asks for, and the assume that
+# would let bare numbers stand for it (None where no single assume does)
+_UNIT_EXAMPLES = {
+    U.LENGTH: ("6 m", "length in m"), U.MASS: ("2.5 t", "mass in t"), U.TIME: ("0.01 s", "time in s"),
+    U.FORCE: ("12 kN", "force in kN"), U.PRESSURE: ("210 GPa", "stress in MPa"),
+    U.DENSITY: ("7850 kg/m^3", None), U.ACCEL: ("0.25 gee", None), U.MOMENT: ("20 kN*m", None),
+    U.FREQ: ("5 Hz", None), (1, 0, -2): ("4 kN/m", None), (1, -1, 0): ("12 kg/m", None),
+    (1, 2, 0): ("0.4 t*m^2", None),
+}
+
+
+def _unit_remedy(need, got) -> str:
+    """A hint for a value of the wrong kind that is a common slip: a weight for a mass (divide by
+    g0), a period for a frequency, a translational stiffness for a rotational one."""
+    weight = tuple(a + b for a, b in zip(need, U.ACCEL))
+    if got == weight:
+        example = {U.MASS: "25 kN / g0", U.DENSITY: "78.5 kN/m^3 / g0", (1, -1, 0): "0.5 kN/m / g0"}
+        return (f"this is a weight: divide by g0 for {U.dim_name(need)}"
+                + (f", e.g. {example[need]}" if need in example else ""))
+    if need == U.FREQ and got == U.TIME:
+        return "a frequency is one over the period: write it in Hz or rpm, or as 1 / (0.5 s)"
+    if need == U.TIME and got == U.FREQ:
+        return "a time is one over the frequency: write it in s, or as 1 / (2 Hz)"
+    if need == U.MOMENT and got == (1, 0, -2):
+        return "a rotational stiffness is a moment per radian, e.g. rz = 2e5 N*m"
+    return ""
 
 
 def _not_huge(v: float, what: str, where: Location) -> None:
@@ -1540,6 +1706,9 @@ def _combo_factors(r: _Reader, t, cases: set[str]) -> dict[str, float]:
         a, b = (_combo_factors(r, c, cases) for c in t.children)
         s = 1.0 if t.data == "add" else -1.0
         for k, v in b.items():
+            if k in a:
+                r.warnings.append(f"{r.loc(t.children[1])}: warning: case {k} appears more than once in this "
+                                  f"combination; its factors add up to {_g(a[k] + s * v)}")
             a[k] = a.get(k, 0.0) + s * v
         return a
     if isinstance(t, Tree) and t.data == "neg":

@@ -205,6 +205,11 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
             ch, at = stack[-1]
             return DeckError(f"the '{ch}' opened here is not closed before the '{tok}' statement on line "
                              f"{here.line}", where_at(at), f"add the closing '{_PAIRS[ch]}'")
+    # a vector given to a let: the grammar reads up to the comma
+    if str(tok) == "," and re.match(r"\s*let\b", text[text.rfind("\n", 0, pos) + 1:pos]):
+        return DeckError("a let parameter holds one value, not a vector", here,
+                         "give each component its own let (let vz = 1) and write the vector where it is used: "
+                         "up = (0, 0, vz)")
     # a statement keyword misspelled at the start of a statement
     stmts = {s for s in STATEMENTS if s.upper() in accepts}
     if tok.type == "NAME" and stmts:

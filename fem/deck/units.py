@@ -68,7 +68,7 @@ DIMENSIONS: dict[Dim, str] = {
     ACCEL: "an acceleration", MOMENT: "a moment", FREQ: "a frequency",
     (0, 2, 0): "an area", (0, 4, 0): "a second moment of area", (1, 0, -2): "a force per length",
     (1, -1, 0): "a mass per length", (1, 2, 0): "a rotary inertia", (0, 1, -1): "a velocity",
-    (0, 3, 0): "a volume", (1, 0, -1): "a damping per length",
+    (0, 3, 0): "a volume", (1, 0, -1): "a damping per length", (1, -2, -2): "a force per volume",
 }
 
 
