@@ -328,3 +328,11 @@ def test_spectrum_direction_factors_written_as_percent_numbers_are_warned():
                           'spatial = "100/30"']
     assert read_text(HEAD + 'case X modes { count = 2 }\ncase E spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, '
                      '0.5 s, 2 s), directions = (1, 0.3, 0) }\n').warnings == []
+
+
+def test_a_group_of_nodes_and_members_used_for_nodes_is_warned():
+    # support MIX fixed takes the group's nodes only; its members are left out, said once
+    m = read_text(HEAD + "group MIX = C, M\nsupport MIX fixed\nsupport MIX fixed\n")
+    w = [x for x in m.warnings if "group 'MIX'" in x]
+    assert len(w) == 1 and "also holds 1 name(s) that are not a node" in w[0]
+    assert w[0].startswith(f"deck.deck:{N_HEAD + 2}:9: warning:")

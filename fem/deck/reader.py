@@ -73,6 +73,7 @@ class _Reader:
         self.defined: dict[tuple[str, str], tuple[str, Location]] = {}   # (space, name) -> (kind, where)
         self.let_sites: dict[str, tuple] = {}     # parameter -> (file, line, column) of its let
         self.unitless: set[str] = set()           # parameters written as bare numbers (let a = 30)
+        self.mixed_seen: set[tuple[str, str]] = set()   # (group, kind) already warned as mixed
         self.loop_vars: list[str] = []
         self.warnings: list[str] = []
         self.stack: list[Path] = []
@@ -315,6 +316,12 @@ class _Reader:
             out = [m for m in self.groups[n] if m in table]
             if not out:
                 raise DeckError(f"group '{n}' holds no {what}", self.loc(t))
+            left = len(self.groups[n]) - len(out)
+            if left and (n, what) not in self.mixed_seen:
+                # a group of nodes and members: this statement takes only its kind
+                self.mixed_seen.add((n, what))
+                self.warnings.append(f"{self.loc(t)}: warning: group '{n}' also holds {left} name(s) that are "
+                                     f"not a {what}, which this statement leaves out")
             return out
         if n not in table:
             raise DeckError(f"{what} '{n}' is not defined; {suggest(n, list(table) + list(self.groups))}", self.loc(t))
