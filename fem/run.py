@@ -611,7 +611,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
                   f"{np.abs(r.peak[:, :3]).max():.4g} m"
                   + ("; static correction for truncated modes" if r.corrected else ""))
             for w in r.warnings:
-                print(f"               warning: {w}")
+                print(f"               {w}")
             continue
         if isinstance(r, FreeCaseResult):
             print(f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "
@@ -620,7 +620,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             ok = "pass" if c["inertia_balance_pass"] else "FAIL"
             print(f"               reactions balance the modal inertia forces to {r.inertia_balance:.1e} {ok}")
             for w in r.warnings:
-                print(f"               warning: {w}")
+                print(f"               {w}")
             continue
         fr = ", ".join(f"{f:.4g}" for f in r.modes.freq[:6])
         print(f"  {r.name:<12} {len(r.modes.freq)} modes ({r.modes.solver}); first Hz: {fr}")

@@ -175,6 +175,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
                      f"{100 * START_FORCE_TOL:g} %",)
     ft, frames = animation_frames(t, q, modal.shapes, omega=omega,
                                   must=[peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
+    warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
                           captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                           _inertia_balance(model, asm, modal, Rm), ft, frames, warnings, start_error)

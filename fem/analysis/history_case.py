@@ -123,6 +123,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     warnings = step_warnings(dt, omega, "the load and the output are",
                              "each step is integrated exactly for a linear load")
     warnings += ground_mass_warnings(case, modal, [gr for _, _, gr in _groups(case) if gr is not None])
+    warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
     # animation frames spaced by the modes that matter, the step of the largest motion among them
     frames = frame_indices(t, q, modal.shapes, omega, [peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
