@@ -589,9 +589,6 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
                   f"{r.u[:, :3].max():.4g} m; missing mass "
                   + ", ".join(f"{a} {percent(v)}" for a, v in c["missing_mass_fraction"].items())
                   + (" (corrected)" if r.missing else ""))
-            if r.periods_outside:
-                print(f"               warning: {len(r.periods_outside)} modal period(s) outside the table: "
-                      "held below the first period, falling as 1/T^2 beyond the last")
             for w in r.warnings:
                 print(f"               {w}")
             continue
@@ -599,10 +596,6 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             k = np.unravel_index(np.abs(r.peak[:, :3]).argmax(), r.peak[:, :3].shape)
             print(f"  {r.name:<12} harmonic sweep {r.freq[0]:.4g}-{r.freq[-1]:.4g} Hz, {len(r.freq)} "
                   f"frequencies; peak amplitude {r.peak[k]:.4g} m at {r.peak_freq[k]:.4g} Hz")
-            if r.modes_complete_Hz < r.freq[-1]:
-                print(f"               warning: the retained modes are complete only up to "
-                      f"{r.modes_complete_Hz:.4g} Hz, below the top of the sweep; ask for more modes"
-                      + (" (static correction on)" if r.corrected else " or set correction = on"))
             for w in r.warnings:
                 print(f"               {w}")
             continue

@@ -230,8 +230,10 @@ def test_end_force_table_beyond_the_row_limit_is_warned_not_written(tmp_path, mo
     results, modal = solve_all(m)
     h = modal[-1]
     assert h.member_forces is None
-    assert len(h.warnings) == 1 and "end-force table would have" in h.warnings[0]
-    assert h.warnings[0].startswith("deck.deck:") and "record fewer nodes" in h.warnings[0]
+    # (3 of 30 modes also leave the sweep's top uncovered: that is the other warning)
+    w = [x for x in h.warnings if "end-force table would have" in x]
+    assert len(w) == 1 and len(h.warnings) == 2
+    assert w[0].startswith("deck.deck:") and "record fewer nodes" in w[0]
     _write(m, results, modal, tmp_path)
     assert (tmp_path / "frf_reactions_F.csv").exists()
     assert not (tmp_path / "frf_member_forces_F.csv").exists()

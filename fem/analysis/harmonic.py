@@ -161,7 +161,11 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                          + m_static.reshape(-1, 12)[members][None])
     complete = modes_complete_to(modal)
     top = float(freq[-1])
-    if top <= complete < MARGIN * top:
+    if complete < top:
+        warnings += (f"{case.location}: warning: case {case.name}: the retained modes are complete only up to "
+                     f"{complete:.4g} Hz, below the top of the sweep ({top:.4g} Hz); ask for more modes"
+                     + (" (static correction on)" if static is not None else " or set correction = on"),)
+    elif complete < MARGIN * top:
         # a mode just above the band is driven at r = f/fn up to 1/MARGIN: amplified by up to
         # 1/(1 - r^2) = 1.8 at the top of the sweep, which the static correction cannot see
         warnings += (f"{case.location}: warning: case {case.name}: the modes are complete only up to "

@@ -68,6 +68,9 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         tmin, tmax = sp.table[0, 0], sp.table[-1, 0]
         outside = [float(t) for t in T if t < tmin or t > tmax]
     warnings = _damping_warnings(case, sp, zeta)
+    if outside:
+        warnings += (f"{case.location}: warning: case {case.name}: {len(outside)} modal period(s) outside the "
+                     "table: held below the first period, falling as 1/T^2 beyond the last",)
     if not opt["missing"]:
         warnings += tuple(f"{case.location}: warning: {w}" for w in
                           ground_mass_warnings(case, modal, [opt["directions"]], " or set missing = on"))

@@ -71,12 +71,6 @@ def _warnings(doc: dict) -> list[str]:
     out = list(doc["model"].get("warnings") or [])
     for c in doc["cases"]:
         out += [f"{c['name']}: {w}" for w in c["checks"].get("warnings") or []]
-        if c["kind"] == "harmonic" and not c["checks"]["modes_cover_band"]:
-            out.append(f"{c['name']}: the retained modes are complete only up to "
-                       f"{c['checks']['modes_complete_to_Hz']:.4g} Hz, below the top of the sweep" + (" (static correction on)" if c["checks"]["static_correction"] else ""))
-        if c["kind"] == "spectrum" and c["checks"].get("periods_outside_table_s"):
-            out.append(f"{c['name']}: {len(c['checks']['periods_outside_table_s'])} modal period(s) outside the "
-                       "spectrum table")
         if c["kind"] == "modes" and c["checks"].get("mass_target_met") is False:
             out.append(f"{c['name']}: the effective-mass target was not met")
     return out
