@@ -182,12 +182,29 @@ def _fit(p, points: np.ndarray, toward, up) -> None:
 
 RELATIVE = "relative displacement"
 # a relative scale 0-1 (mode shapes have no absolute size), wholly inside the frame on the right
-def _mode_bar(size, title: str = "relative\ndisplacement", fmt: str = "%.1f") -> dict:
+def _bar(size, title: str = "relative\ndisplacement", fmt: str = "%.1f") -> dict:
     """Colour bar settings; fonts in pixels scaled with the frame so the bar fits any size."""
     k = min(size) / 720
     return dict(title=title, color="#1d2733", vertical=True, n_labels=3, fmt=fmt,
                 position_x=0.84, position_y=0.3, width=0.045, height=0.45, title_font_size=round(13 * k),
                 label_font_size=round(12 * k), unconstrained_font_size=True)
+
+
+def _add_coloured(p, mesh, scalars: str, clim, size, title: str = "relative\ndisplacement",
+                  fmt: str = "%.1f") -> None:
+    """The members as tubes coloured by `scalars` over `clim`, with the colour bar on the right."""
+    p.add_mesh(mesh, scalars=scalars, cmap=COLORMAP, clim=clim, line_width=6, render_lines_as_tubes=True,
+               scalar_bar_args=_bar(size, title, fmt))
+    for bar in p.scalar_bars.values():
+        bar.SetVerticalTitleSeparation(8)          # keeps the title clear of the top label
+
+
+def _bar_fonts(p, size) -> None:
+    """Colour bar fonts for a new frame size (the animations are smaller than the stills)."""
+    cfg = _bar(size)
+    for bar in p.scalar_bars.values():
+        bar.GetTitleTextProperty().SetFontSize(cfg["title_font_size"])
+        bar.GetLabelTextProperty().SetFontSize(cfg["label_font_size"])
 
 
 def _deformed(poly, disp):
@@ -242,10 +259,7 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
         p = _setup(pv, poly, caption, still)
         mesh = _deformed(poly, disp)
         mesh[RELATIVE] = mag / mag.max() if mag.max() > 0 else mag
-        p.add_mesh(mesh, scalars=RELATIVE, cmap=COLORMAP, clim=[0.0, 1.0], line_width=6,
-                   render_lines_as_tubes=True, scalar_bar_args=_mode_bar(still))
-        for bar in p.scalar_bars.values():
-            bar.SetVerticalTitleSeparation(8)          # keeps the title clear of the top label
+        _add_coloured(p, mesh, RELATIVE, [0.0, 1.0], still)
         # a twist about z is seen from above; other motions across their main direction
         vv = np.array([0.0, 0.0, 1.0]) if d.startswith("twist") else _view_vector(s, hi - lo)
         view = (vv, (0, 0, 1) if vv[2] == 0 else (0, 1, 0))
@@ -260,9 +274,6 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
             base = poly.points.copy()
             shots = (disp * np.sin(2 * np.pi * k / frames) for k in range(frames))
             p.window_size = moving
-            for bar in p.scalar_bars.values():
-                bar.GetTitleTextProperty().SetFontSize(_mode_bar(moving)["title_font_size"])
-                bar.GetLabelTextProperty().SetFontSize(_mode_bar(moving)["label_font_size"])
             _fit(p, span, *view)
             out += _animate(p, mesh, base, shots, stem, fps, _clock(p, ""),
                             _cycle_captions(float(modal.modes.period[jj]), frames), size=moving,
@@ -288,6 +299,7 @@ def _animate(p, mesh, base, displacements, stem: Path, fps: float = FPS, clock=N
     import imageio.v2 as imageio
 
     p.window_size = size
+    _bar_fonts(p, size)
     images = []
     for i, d in enumerate(displacements):
         if clock is not None:
@@ -325,10 +337,7 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     # coloured by the true displacement (m) on one scale for every frame, with its bar
     mesh["motion (m)"] = np.linalg.norm(frames[worst, :, :3], axis=1)
     top = max(float(np.linalg.norm(frames[:, :, :3], axis=2).max()), 1e-12)
-    p.add_mesh(mesh, scalars="motion (m)", cmap=COLORMAP, clim=[0, top], line_width=6,
-               render_lines_as_tubes=True, scalar_bar_args=_mode_bar(still, "displacement\n(m)", "%.2g"))
-    for bar in p.scalar_bars.values():
-        bar.SetVerticalTitleSeparation(8)          # keeps the title clear of the top label
+    _add_coloured(p, mesh, "motion (m)", [0, top], still, "displacement\n(m)", "%.2g")
     clock = _clock(p, f"t = {frame_t[worst]:.4g} s (largest motion)")
     some = frames[::max(1, len(frames) // 20), :, :3] * k          # enough frames to bound the motion
     span = np.r_[poly.points, poly.points + disp, (poly.points[None] + some).reshape(-1, 3)]
@@ -341,9 +350,6 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
         marks = [f"t = {x:.4g} s" + ("  (largest motion)" if i == worst else "") for i, x in enumerate(frame_t)]
         p.window_size = moving
         _fit(p, span, *ISO)
-        for bar in p.scalar_bars.values():
-            bar.GetTitleTextProperty().SetFontSize(_mode_bar(moving)["title_font_size"])
-            bar.GetLabelTextProperty().SetFontSize(_mode_bar(moving)["label_font_size"])
         out += _animate(p, mesh, base, (frames[i, :, :3] * k for i in range(len(frame_t))), folder / name,
                         fps, clock, marks, size=moving, scale=k if k > 0 else 1.0)
     p.close()
