@@ -82,7 +82,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     G, Gdot, statics, r_statics, m_statics = [], [], [], [], []
     a_ground = np.zeros((n, 3))
     corrected = bool(opt.get("correction"))
-    for fn, sub, ground in _groups(case):
+    groups = _groups(case)
+    for fn, sub, ground in groups:
         g = fn(t)                                            # (m,) values just after each t_i
         F_eff = effective_load(model, asm, sub, ground)
         pk = phi.T @ F_eff[f]                                # (k,) modal load amplitudes
@@ -122,7 +123,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     a[:, :, :3] += a_ground[:, None, :]
     warnings = step_warnings(dt, omega, "the load and the output are",
                              "each step is integrated exactly for a linear load")
-    warnings += ground_mass_warnings(case, modal, [gr for _, _, gr in _groups(case) if gr is not None])
+    warnings += ground_mass_warnings(case, modal, [gr for _, _, gr in groups if gr is not None])
     warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
     # animation frames spaced by the modes that matter, the step of the largest motion among them
     frames = frame_indices(t, q, modal.shapes, omega, [peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])

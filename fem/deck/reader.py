@@ -1177,12 +1177,11 @@ class _Reader:
     def long_function_warning(self, case: LoadCase, fn, where) -> None:
         """Warn when a pulse or a table runs past the case's duration: only its start is seen
         (often a unit slip, 30 s for 30 ms, or a duration cut short of a record)."""
-        end = {"table": lambda: fn.table[-1, 0], "rect": lambda: fn.param, "halfsine": lambda: fn.param,
-               "triangle": lambda: fn.param, "decay": lambda: fn.param, "ramp": lambda: fn.param}.get(fn.shape)
-        if end is None or end() <= case.options["duration"] * (1 + 1e-9):
+        knots = fn.knots()[0]                 # a pulse's or table's last knot is its end
+        if not len(knots) or knots.max() <= case.options["duration"] * (1 + 1e-9):
             return
         what = "table runs" if fn.shape == "table" else f"{fn.shape} lasts"
-        self.warnings.append(f"{where}: warning: case {case.name}: the {what} to {_g(end())} s, past the duration "
+        self.warnings.append(f"{where}: warning: case {case.name}: the {what} to {_g(knots.max())} s, past the duration "
                              f"{_g(case.options['duration'])} s, so only its start is seen; check the units, or "
                              "lengthen the duration")
 
