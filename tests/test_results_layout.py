@@ -111,16 +111,8 @@ def test_every_static_case_gets_its_deformed_plot(tmp_path):
     # six static cases and a combination: seven plots (the cap is 24), each in the report
     from fem.run import run_deck
     cases = "".join(f"case L{i} static {{ force C = ({i + 1} kN, 0, 0) }}\n" for i in range(6))
-    (tmp_path / "d.deck").write_text("""
-material S { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-node A = (0, 0, 0)
-node B = (0, 0, 3 m)
-node C = (2 m, 0, 3 m)
-member U : A -> B beam P S
-member V : B -> C beam P S
-support A fixed
-""" + cases + "combo ALL = L0 + L5\n")
+    from test_case_errors import FRAME        # an L-shaped two-member frame fixed at A
+    (tmp_path / "d.deck").write_text(FRAME + cases + "combo ALL = L0 + L5\n")
     run_deck(str(tmp_path / "d.deck"), str(tmp_path / "o"), render=False)
     plots = sorted(p.name for p in (tmp_path / "o" / "plots").glob("*_deformed.png"))
     assert plots == sorted([f"L{i}_deformed.png" for i in range(6)] + ["ALL_deformed.png"])
