@@ -41,7 +41,7 @@ class FreeCaseResult:
     start_force_error: float = 0.0  # support forces K u at t = 0: largest |modes - exact|, relative
 
 
-START_FORCE_TOL = 0.02     # share of the starting support forces the modes may leave out
+START_FORCE_TOL = 0.02     # share of the starting support forces the modes may leave out (our choice, no source)
 
 
 def step_warnings(dt, omega, sampled: str, exact: str) -> tuple:
