@@ -311,6 +311,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
         _write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
                    [[r.name, j + 1, n, *map(float, r.shapes[k, :, j])]
                     for r in modal for j in range(r.shapes.shape[2]) for k, n in enumerate(nodes)])
+    from .output.character import mode_characters
     from .output.vtk import write_mode_files, write_response_files
 
     for r in modal:
@@ -344,6 +345,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "effective_mass_kg": r.part.effective_mass.tolist(),
                    "participating_total_kg": r.part.total.tolist(),
                    "reference_point_m": np.asarray(r.reference).tolist(),
+                   "mode_character": mode_characters(model, r),
                    "checks": modal_checks(r)} for r in modal] + [
                   {"name": r.name, "kind": "free" if isinstance(r, FreeCaseResult) else "history",
                    "damping_ratio": r.zeta.tolist(),

@@ -246,3 +246,37 @@ def test_sways_and_plan_twist_are_global(motor, tmp_path):
     frac = np.nan_to_num(m3.part.fraction)
     twist = int(np.argmax(frac[:, 5]))
     assert describe_mode(table, m3.shapes[:, :, twist]).label == "global: twist in plan about Z"
+
+
+def test_results_json_and_vtu_carry_the_character_and_curves(tmp_path):
+    """The run writes each mode's character into results.json, and the mode VTU holds the
+    members' interpolated shape: at each member's inner points the file's displacement is
+    member_curves' at the same scale (a round trip through meshio, 1e-12 relative)."""
+    import json
+
+    import meshio
+
+    from fem.cli import main
+    from fem.output.vtk import drawing_scale, shape_scale
+
+    d = tmp_path / "motor.deck"
+    d.write_text(MAT + MOTOR)
+    out = tmp_path / "o"
+    assert main(["run", str(d), "--out", str(out), "--no-render"]) == 0
+    doc = json.loads((out / "results.json").read_text())
+    ch = next(c for c in doc["cases"] if c["kind"] == "modes")["mode_character"]
+    assert ch[0]["label"] == "local: twist of MB2a, MB2b, turning MOTOR about X"
+    assert ch[0]["kinetic_energy_share"]["MOTOR"] == pytest.approx(1.0, abs=0.02)
+    assert ch[3]["label"] == "global: sway in X"
+    model = read_deck(d)
+    _, (modes,) = solve_all(model)
+    phi = modes.shapes[:, :, 0]
+    c = member_curves(model, phi)
+    k = drawing_scale(c, phi, shape_scale(model))
+    mesh = meshio.read(out / "modes" / "MODES_mode_001.vtu")
+    n, e = model.n_nodes, model.n_members
+    inner = mesh.point_data["displacement"][n:].reshape(e, -1, 3)
+    scale = np.abs(c.disp).max() * k
+    np.testing.assert_allclose(inner, c.disp[:, 1:-1] * k, rtol=1e-9, atol=1e-9 * scale)
+    np.testing.assert_allclose(mesh.point_data["rotation"][n:].reshape(e, -1, 3), c.rot[:, 1:-1] * k,
+                               rtol=1e-9, atol=1e-9)

@@ -27,7 +27,7 @@ import numpy as np
 
 from ..analysis.energy import Energies, field_energies
 
-__all__ = ["ModeCharacter", "describe_mode"]
+__all__ = ["ModeCharacter", "describe_mode", "mode_characters"]
 
 SEAT_SHARE = 0.6
 LOCAL_FEW = 3
@@ -164,3 +164,18 @@ def _local_words(model, en: Energies, members, springs, nodes, rotational: bool)
             i, a = np.unravel_index(int(np.argmax(turn)), turn.shape)
             words += f", turning {model.node_names[nodes[i]]} about {AXES[a]}"
     return words
+
+
+def mode_characters(model, modal, shown: int = 3) -> list[dict]:
+    """Per mode of a modes case, for results.json: scope, motion, label and the items holding
+    most of its strain and kinetic energy with their shares (the first `shown` of each)."""
+    from ..assembly import element_matrices
+
+    matrices = element_matrices(model)
+    out = []
+    for j in range(modal.shapes.shape[2]):
+        c = describe_mode(model, modal.shapes[:, :, j], matrices=matrices)
+        out.append({"scope": c.scope, "motion": c.motion, "label": c.label,
+                    "rotation_share": c.rotation_share,
+                    "strain_energy_share": dict(c.strain[:shown]), "kinetic_energy_share": dict(c.kinetic[:shown])})
+    return out
