@@ -37,8 +37,9 @@ def bending_functions(xi, L, phi=0.0):
 
     Returns
     -------
-    Nw : (e, p, 4) deflection from (w_i, theta_i, w_j, theta_j), theta = dw/dx at phi = 0;
-    Npsi : (e, p, 4) section rotation from the same end values.
+    Nw : (e, p, 4) deflection from (w_i, theta_i, w_j, theta_j), theta the end section
+        rotations (the slope dw/dx when phi = 0);
+    Npsi : (e, p, 4) section rotation along the member from the same end values.
     """
     xi = np.asarray(xi, float)[None, :]
     L = np.atleast_1d(np.asarray(L, float))[:, None]
