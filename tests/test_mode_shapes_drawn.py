@@ -257,7 +257,7 @@ def test_results_json_and_vtu_carry_the_character_and_curves(tmp_path):
     import meshio
 
     from fem.cli import main
-    from fem.output.vtk import drawing_scale, shape_scale
+    from fem.output.vtk import VTU_POINTS, drawing_scale, shape_scale
 
     d = tmp_path / "motor.deck"
     d.write_text(MAT + MOTOR)
@@ -271,7 +271,7 @@ def test_results_json_and_vtu_carry_the_character_and_curves(tmp_path):
     model = read_deck(d)
     _, (modes,) = solve_all(model)
     phi = modes.shapes[:, :, 0]
-    c = member_curves(model, phi)
+    c = member_curves(model, phi, n_points=VTU_POINTS)
     k = drawing_scale(c, phi, shape_scale(model))
     mesh = meshio.read(out / "modes" / "MODES_mode_001.vtu")
     n, e = model.n_nodes, model.n_members

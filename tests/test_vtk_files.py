@@ -31,9 +31,9 @@ def test_mode_vtu_round_trip(tmp_path):
     assert np.abs(mesh.point_data["displacement"]).max() == pytest.approx(1.5, rel=1e-12)
     np.testing.assert_array_equal(mesh.point_data["node"][:n], np.arange(n))
     assert (mesh.point_data["node"][n:] == -1).all() and mesh.cells[0].type == "line"
-    # every member is a polyline of 8 segments through 7 inner points
+    # every member is a polyline of 4 segments through 3 inner points
     members = mesh.cell_data["member"][0]
-    assert len(mesh.points) == n + 7 * (members.max() + 1) and np.bincount(members).tolist() == [8] * (members.max() + 1)
+    assert len(mesh.points) == n + 3 * (members.max() + 1) and np.bincount(members).tolist() == [4] * (members.max() + 1)
     names = list(csv.DictReader((out / "modes" / "names.csv").open()))
     assert [r["name"] for r in names if r["kind"] == "node"] == nodes
     pvd = ET.parse(out / "modes" / "MODES_modes.pvd").getroot()

@@ -22,9 +22,17 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["MemberCurves", "bending_functions", "member_curves", "prepare_curves"]
+__all__ = ["MemberCurves", "bending_functions", "member_curves", "points_per_member", "prepare_curves"]
 
 POINTS = 9     # points along each member, ends included: a cubic is drawn smooth at this count
+INNER_BUDGET = 200_000   # inner points of all members together in one drawn shape (our choice)
+
+
+def points_per_member(n_members: int, points: int = POINTS, budget: int = INNER_BUDGET) -> int:
+    """`points` along each member (ends included), or fewer, down to the two ends, on a model
+    so large that the members' inner points together would pass `budget`: keeps pictures and
+    files of large models light."""
+    return 2 + int(min(points - 2, budget // max(int(n_members), 1)))
 
 
 def bending_functions(xi, L, phi=0.0):

@@ -304,14 +304,14 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
     its energy is (character.describe_mode)."""
     from ..analysis.energy import field_energies
     from ..assembly import element_matrices
-    from ..elements.interpolate import member_curves, prepare_curves
+    from ..elements.interpolate import member_curves, points_per_member, prepare_curves
     from .character import describe_mode
 
     pv, poly = _scene(model, None)
     lo, hi = model.bounding_box()
     still, moving = _sizes(model)
     folder.mkdir(parents=True, exist_ok=True)
-    prepared = prepare_curves(model)
+    prepared = prepare_curves(model, points_per_member(model.n_members))
     matrices = element_matrices(model)
     lever = length / MAX_TURN
     out = []
@@ -407,13 +407,13 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     captioned with its time, and a PNG of the frame with the largest motion. Members follow
     their interpolated shapes; the scale makes the largest translation 5 % of the model's size
     unless the rotations would then pass MAX_TURN (as for mode shapes)."""
-    from ..elements.interpolate import member_curves, prepare_curves
+    from ..elements.interpolate import member_curves, points_per_member, prepare_curves
 
     pv, poly = _scene(model, None)
     lo, hi = model.bounding_box()
     extent = float(max(np.max(hi - lo), 1e-9))
     peak = np.abs(frames[:, :, :3]).max()
-    prepared = prepare_curves(model)
+    prepared = prepare_curves(model, points_per_member(model.n_members))
     folder.mkdir(parents=True, exist_ok=True)
     worst = int(np.argmax(np.abs(frames[:, :, :3]).max(axis=(1, 2))))
     some = range(0, len(frames), max(1, len(frames) // 20))       # enough frames to bound the motion

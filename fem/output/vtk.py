@@ -3,7 +3,9 @@ polylines through points along them carrying the members' own interpolated shape
 collection to step through them.
 
 Points: the model's nodes first, in model order (point i is node i), then the inner points of
-each member in member order (POINTS - 2 per member, evenly spaced). Cells: the line segments
+each member in member order (VTU_POINTS - 2 per member, evenly spaced; fewer when the inner
+points of all members would pass VTU_BUDGET, and none, straight members, beyond VTU_BUDGET
+members: the files of large models stay close to their node count). Cells: the line segments
 of each member's polyline. Point data `node` is the node's index (-1 at inner points) and cell
 data `member` the member's index; `names.csv` beside the files maps both to their names (VTU
 string arrays do not survive meshio).
@@ -17,13 +19,15 @@ from xml.sax.saxutils import quoteattr
 
 import numpy as np
 
-from ..elements.interpolate import POINTS, member_curves, prepare_curves
+from ..elements.interpolate import member_curves, points_per_member, prepare_curves
 from ..model import Model
 
 __all__ = ["MAX_TURN", "drawing_scale", "shape_scale", "write_vtu", "write_pvd", "write_mode_files",
            "write_response_files"]
 
 MAX_TURN = 0.5       # rad: the largest section rotation a drawn shape shows (our choice)
+VTU_POINTS = 5       # points along each member in the files: a cubic's bow shows at this count
+VTU_BUDGET = 20_000  # inner points of all members in one file, at most (our choice)
 
 
 def shape_scale(model: Model, fraction: float = 0.05) -> float:
@@ -55,7 +59,9 @@ def drawing_scale(curves, shape: np.ndarray, length: float) -> float:
 class _Grid:
     """The points and segments of the members' polylines (see the module notes)."""
 
-    def __init__(self, model: Model, n_points: int = POINTS):
+    def __init__(self, model: Model, n_points: int | None = None):
+        if n_points is None:
+            n_points = points_per_member(model.n_members, VTU_POINTS, VTU_BUDGET)
         self.prepared = prepare_curves(model, n_points)
         n, e, q = model.n_nodes, model.n_members, max(int(n_points), 2)
         inner = n + np.arange(e * (q - 2)).reshape(e, q - 2)
@@ -66,9 +72,13 @@ class _Grid:
         self.points = np.r_[model.coords, self.prepared.base[:, 1:-1].reshape(-1, 3)]
         self.model = model
 
-    def fields(self, u: np.ndarray, scale: float = 1.0) -> dict:
-        """displacement and rotation (global) at every point for a node field u (n, 6)."""
-        c = member_curves(self.model, u, prepared=self.prepared)
+    def curves(self, u: np.ndarray):
+        return member_curves(self.model, u, prepared=self.prepared)
+
+    def fields(self, u: np.ndarray, scale: float = 1.0, c=None) -> dict:
+        """displacement and rotation (global) at every point for a node field u (n, 6), from
+        its member curves `c` when they are at hand."""
+        c = self.curves(u) if c is None else c
         return {"displacement": np.r_[u[:, :3], c.disp[:, 1:-1].reshape(-1, 3)] * scale,
                 "rotation": np.r_[u[:, 3:], c.rot[:, 1:-1].reshape(-1, 3)] * scale}
 
@@ -118,9 +128,10 @@ def write_mode_files(folder: Path, model: Model, modal, length: float | None = N
     entries, files = [], []
     for j in range(modal.shapes.shape[2]):
         s = modal.shapes[:, :, j]
-        k = drawing_scale(member_curves(model, s, prepared=grid.prepared), s, length)
+        c = grid.curves(s)
+        k = drawing_scale(c, s, length)
         name = f"{modal.name}_mode_{j + 1:03d}.vtu"
-        grid.write(folder / name, grid.fields(s, k))
+        grid.write(folder / name, grid.fields(s, k, c))
         entries.append((j + 1, name))
         files.append(folder / name)
     write_pvd(folder / f"{modal.name}_modes.pvd", entries)
