@@ -239,6 +239,15 @@ def test_sways_and_plan_twist_are_global(motor, tmp_path):
                                         "support N0 fixed\ncase MODES modes { count = 2 }\n", "c.deck")
     assert {describe_mode(mast, m2.shapes[:, :, j]).label for j in range(2)} == {"global: sway in X",
                                                                                   "global: sway in Y"}
+    # one member pinned at both ends (twist held at B only): its nodes only turn, the member
+    # bends between them; sideways bending is a sway in Y, not a turn in plan
+    span, (_, (m4,)) = _solve(tmp_path, "node A = (0, 0, 0)\nnode B = (6 m, 0, 0)\nmember M : A -> B beam G S\n"
+                                        "support A pinned\nsupport B (uy, uz, rx)\ncase MODES modes { count = 3 }\n",
+                              "s.deck")
+    assert np.abs(m4.shapes[:, 1:3]).max() < 1e-12               # no node moves across the span
+    labels = [describe_mode(span, m4.shapes[:, :, j]).label for j in range(3)]
+    assert "global: sway in Y" in labels and "global: vertical motion" in labels
+    assert not any("plan" in x for x in labels)
     from tests.test_render import TABLE
     (tmp_path / "t.deck").write_text(TABLE)
     table = read_deck(tmp_path / "t.deck")

@@ -88,8 +88,6 @@ def describe_mode(model, shape: np.ndarray, energies: Energies | None = None, ma
     >>> describe_mode(model, modal.shapes[:, :, 0]).label          # doctest: +SKIP
     'local: twist of MB2a, MB2b, turning MOTOR about X'
     """
-    from .render import dominant_direction
-
     en = energies or field_energies(model, shape, matrices)
     e, n = model.n_members, model.n_nodes
     strain_m = en.member_strain.sum(1)
@@ -125,7 +123,7 @@ def describe_mode(model, shape: np.ndarray, energies: Energies | None = None, ma
         return ModeCharacter("local", motion, strain_top, kin_top, rshare, axis)
     if rotational:
         motion = f"turning about {AXES[axis]}"
-    elif dominant_direction(shape, model.coords)[0].startswith("twist"):
+    elif _plan_twist(model, shape):
         motion = "twist in plan about Z"
     else:
         first, second = np.argsort(trans)[::-1][:2]
@@ -136,6 +134,19 @@ def describe_mode(model, shape: np.ndarray, energies: Energies | None = None, ma
         else:
             motion = f"sway in {AXES[first]}"
     return ModeCharacter("global", motion, strain_top, kin_top, rshare, axis)
+
+
+def _plan_twist(model, shape: np.ndarray) -> bool:
+    """render.dominant_direction's rigid turn in plan, fitted over the nodes and the points along
+    the members (so a span whose nodes only turn, bending sideways between them, is not taken
+    for a turn in plan)."""
+    from ..elements.interpolate import member_curves
+    from .render import dominant_direction
+
+    c = member_curves(model, shape)
+    points = np.r_[model.coords, c.base.reshape(-1, 3)]
+    field = np.r_[shape, np.c_[c.disp.reshape(-1, 3), c.rot.reshape(-1, 3)]]
+    return dominant_direction(field, points)[0].startswith("twist")
 
 
 def _local_words(model, en: Energies, members, springs, nodes, rotational: bool) -> str:
