@@ -71,13 +71,13 @@ def field_energies(model, field: np.ndarray, matrices=None) -> Energies:
     u = np.asarray(field, float)
     e = len(R)
     ug = u[model.conn].reshape(e, 4, 3)
-    ul = np.einsum("eab,ekb->eka", R, ug).reshape(e, 12)
+    ul = (ug @ np.swapaxes(R, 1, 2)).reshape(e, 12)
+    # the matrices hold no terms between groups, so (k u)[group] = k[group, group] u[group]
+    ku = (k @ ul[:, :, None])[:, :, 0]
+    mu = (m @ ul[:, :, None])[:, :, 0]
     strain = np.empty((e, 4))
     kinetic = np.empty((e, 4))
     for g, idx in enumerate(_GROUPS):
-        x = ul[:, idx]
-        kg = k[:, idx][:, :, idx]
-        mg = m[:, idx][:, :, idx]
-        strain[:, g] = 0.5 * np.einsum("ea,eab,eb->e", x, kg, x)
-        kinetic[:, g] = 0.5 * np.einsum("ea,eab,eb->e", x, mg, x)
+        strain[:, g] = 0.5 * (ul[:, idx] * ku[:, idx]).sum(1)
+        kinetic[:, g] = 0.5 * (ul[:, idx] * mu[:, idx]).sum(1)
     return Energies(strain, kinetic, 0.5 * (model.springs * u ** 2).sum(1), 0.5 * model.point_mass * u ** 2, R)

@@ -93,6 +93,7 @@ class _Prepared:
     groups: list               # (members, retained DOFs, released DOFs, X (s, nb, na))
     base: np.ndarray
     xi: np.ndarray
+    shapes: tuple              # bending_functions of the x-y and x-z planes: (Nv, Pv, Nz, Pz)
 
 
 def prepare_curves(model, n_points: int = POINTS) -> _Prepared:
@@ -121,7 +122,8 @@ def prepare_curves(model, n_points: int = POINTS) -> _Prepared:
     xi = np.linspace(0.0, 1.0, max(int(n_points), 2))
     xa, xb = model.coords[model.conn[:, 0]], model.coords[model.conn[:, 1]]
     base = xa[:, None, :] + xi[None, :, None] * (xb - xa)[:, None, :]
-    return _Prepared(np.asarray(model.conn), R, L, truss, phi, groups, base, xi)
+    shapes = (*bending_functions(xi, L, phi[:, 0]), *bending_functions(xi, L, phi[:, 1]))
+    return _Prepared(np.asarray(model.conn), R, L, truss, phi, groups, base, xi, shapes)
 
 
 def member_curves(model, field: np.ndarray, n_points: int = POINTS, prepared: _Prepared | None = None
@@ -150,7 +152,7 @@ def member_curves(model, field: np.ndarray, n_points: int = POINTS, prepared: _P
     u = np.asarray(field, float)
     lead = u.shape[:-2]
     ug = u[..., pr.conn, :].reshape(*lead, len(pr.L), 4, 3)       # (..., e, [ti, ri, tj, rj], 3)
-    ul = np.einsum("eab,...ekb->...eka", pr.R, ug).reshape(*lead, len(pr.L), 12)
+    ul = (ug @ np.swapaxes(pr.R, 1, 2)).reshape(*lead, len(pr.L), 12)
     for sel, a, b, X in pr.groups:
         ua = ul[..., sel, :][..., a]
         ul[..., sel[:, None], b[None, :]] = np.einsum("sba,...sa->...sb", X, ua)
@@ -163,14 +165,14 @@ def member_curves(model, field: np.ndarray, n_points: int = POINTS, prepared: _P
     local[..., 0] = axial
     rot[..., 0] = twist
     # x-y plane: v with rz = +dv/dx; x-z plane: w with ry = -dw/dx (the frame's convention)
-    Nv, Pv = bending_functions(xi, pr.L, pr.phi[:, 0])
-    Nz, Pz = bending_functions(xi, pr.L, pr.phi[:, 1])
+    Nv, Pv, Nz, Pz = pr.shapes
     ev = ul[..., [1, 5, 7, 11]]
     ez = ul[..., [2, 4, 8, 10]] * np.array([1.0, -1.0, 1.0, -1.0])
-    local[..., 1] = np.einsum("epk,...ek->...ep", Nv, ev)
-    local[..., 2] = np.einsum("epk,...ek->...ep", Nz, ez)
-    rot[..., 2] = np.einsum("epk,...ek->...ep", Pv, ev)
-    rot[..., 1] = -np.einsum("epk,...ek->...ep", Pz, ez)
+    ev, ez = ev[..., None], ez[..., None]
+    local[..., 1] = (Nv @ ev)[..., 0]
+    local[..., 2] = (Nz @ ez)[..., 0]
+    rot[..., 2] = (Pv @ ev)[..., 0]
+    rot[..., 1] = -(Pz @ ez)[..., 0]
     t = pr.truss
     if t.any():
         # a bar is straight between its ends and carries no rotation
@@ -179,6 +181,6 @@ def member_curves(model, field: np.ndarray, n_points: int = POINTS, prepared: _P
         local[..., ti, :, 1:3] = np.stack(ends, axis=-1)
         rot[..., ti, :, :] = 0.0
         twist[..., ti, :] = 0.0
-    disp = np.einsum("eba,...epb->...epa", pr.R, local)
-    rotg = np.einsum("eba,...epb->...epa", pr.R, rot)
+    disp = local @ pr.R              # rows: global = R^T local
+    rotg = rot @ pr.R
     return MemberCurves(pr.base, disp, rotg, twist, pr.R)

@@ -16,7 +16,8 @@ The rules (our choice, no source):
 - Local words come from the kind of strain in the seat (twist, bending, stretch, springs) and
   the main direction of its motion; global words from the main direction of motion: 'sway in
   X' / 'Y', 'vertical motion', 'twist in plan about Z' (the rigid turn in plan of
-  render.dominant_direction), or 'turning about X' when rotation dominates.
+  render.dominant_direction, when the motion is mainly horizontal), or 'turning about X' when
+  rotation dominates.
 """
 
 from __future__ import annotations
@@ -80,8 +81,11 @@ def _top(names, values, total):
     return [(names[i], float(values[i] / total)) for i in order[:6] if values[i] > 0]
 
 
-def describe_mode(model, shape: np.ndarray, energies: Energies | None = None, matrices=None) -> ModeCharacter:
+def describe_mode(model, shape: np.ndarray, energies: Energies | None = None, matrices=None,
+                  prepared=None) -> ModeCharacter:
     """The character of one mode shape (n_nodes, 6): scope, motion and where its energy is.
+    `matrices` (element_matrices) and `prepared` (prepare_curves) may be passed to reuse them
+    over many modes.
 
     Examples
     --------
@@ -123,7 +127,7 @@ def describe_mode(model, shape: np.ndarray, energies: Energies | None = None, ma
         return ModeCharacter("local", motion, strain_top, kin_top, rshare, axis)
     if rotational:
         motion = f"turning about {AXES[axis]}"
-    elif _plan_twist(model, shape):
+    elif trans[:2].sum() >= trans[2] and _plan_twist(model, shape, prepared):
         motion = "twist in plan about Z"
     else:
         first, second = np.argsort(trans)[::-1][:2]
@@ -136,14 +140,15 @@ def describe_mode(model, shape: np.ndarray, energies: Energies | None = None, ma
     return ModeCharacter("global", motion, strain_top, kin_top, rshare, axis)
 
 
-def _plan_twist(model, shape: np.ndarray) -> bool:
+def _plan_twist(model, shape: np.ndarray, prepared=None) -> bool:
     """render.dominant_direction's rigid turn in plan, fitted over the nodes and the points along
     the members (so a span whose nodes only turn, bending sideways between them, is not taken
     for a turn in plan)."""
-    from ..elements.interpolate import member_curves
+    from ..elements.interpolate import member_curves, prepare_curves
     from .render import dominant_direction
 
-    c = member_curves(model, shape)
+    # the members' mid-points are enough to tell a bow from a turn
+    c = member_curves(model, shape, prepared=prepared or prepare_curves(model, 3))
     points = np.r_[model.coords, c.base.reshape(-1, 3)]
     field = np.r_[shape, np.c_[c.disp.reshape(-1, 3), c.rot.reshape(-1, 3)]]
     return dominant_direction(field, points)[0].startswith("twist")
@@ -181,11 +186,13 @@ def mode_characters(model, modal, shown: int = 3) -> list[dict]:
     """Per mode of a modes case, for results.json: scope, motion, label and the items holding
     most of its strain and kinetic energy with their shares (the first `shown` of each)."""
     from ..assembly import element_matrices
+    from ..elements.interpolate import prepare_curves
 
     matrices = element_matrices(model)
+    prepared = prepare_curves(model, 3)
     out = []
     for j in range(modal.shapes.shape[2]):
-        c = describe_mode(model, modal.shapes[:, :, j], matrices=matrices)
+        c = describe_mode(model, modal.shapes[:, :, j], matrices=matrices, prepared=prepared)
         out.append({"scope": c.scope, "motion": c.motion, "label": c.label,
                     "rotation_share": c.rotation_share,
                     "strain_energy_share": dict(c.strain[:shown]), "kinetic_energy_share": dict(c.kinetic[:shown])})

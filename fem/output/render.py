@@ -323,7 +323,7 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
         k = drawing_scale(curves, s, length)
         disp, twist = curves.disp * k, curves.twist * k
         energies = field_energies(model, s, matrices)
-        character = describe_mode(model, s, energies)
+        character = describe_mode(model, s, energies, prepared=prepared)
         p = _setup(pv, poly, _mode_caption(j, modal, jj, character), still)
         # ribbons where the twist shows and matters: its share of the strain or kinetic energy
         share = np.maximum(energies.member_strain[:, 1] / max(energies.strain, 1e-300),
