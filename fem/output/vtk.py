@@ -67,8 +67,8 @@ class _Grid:
         inner = n + np.arange(e * (q - 2)).reshape(e, q - 2)
         poly = np.c_[model.conn[:, :1], inner, model.conn[:, 1:]]                # (e, q)
         self.lines = np.stack([poly[:, :-1], poly[:, 1:]], axis=-1).reshape(-1, 2)
-        self.member = np.repeat(np.arange(e), q - 1)
-        self.node = np.r_[np.arange(n), np.full(e * (q - 2), -1)]
+        self.member = np.repeat(np.arange(e, dtype=np.int32), q - 1)
+        self.node = np.r_[np.arange(n), np.full(e * (q - 2), -1)].astype(np.int32)
         self.points = np.r_[model.coords, self.prepared.base[:, 1:-1].reshape(-1, 3)]
         self.model = model
 
