@@ -37,6 +37,11 @@ COINCIDENT = 1e-6
 # cubed in the stiffness) well inside the floating-point range.
 MAX_COORDINATE = 1e9
 ROWS_LIMIT = 5_000_000   # rows of a free, history or harmonic table (recorded nodes x samples)
+# Statements a deck's loops may execute in all, nested loops and included files counted pass by
+# pass (our choice): reading takes some 30-60 us a statement, so this bounds a deck to about a
+# minute, while a model of a hundred thousand members and nodes is far inside it. A mistyped
+# range (0..999999 nested twice) is refused at once instead of running for days.
+LOOP_STATEMENTS = 1_000_000
 _FUNCS = {"sqrt": math.sqrt, "sin": math.sin, "cos": math.cos, "tan": math.tan,
           "atan": math.atan, "abs": abs, "exp": math.exp, "log": math.log}
 _ASSUMABLE = {"length": U.LENGTH, "force": U.FORCE, "mass": U.MASS, "time": U.TIME,
@@ -75,6 +80,8 @@ class _Reader:
         self.unitless: set[str] = set()           # parameters written as bare numbers (let a = 30)
         self.mixed_seen: set[tuple[str, str]] = set()   # (group, kind) already warned as mixed
         self.loop_vars: list[str] = []
+        self.loop_sites: list[Location] = []      # the enclosing loops, outermost first
+        self.loop_steps = 0                       # statements executed inside loops so far
         self.warnings: list[str] = []
         self.stack: list[Path] = []
         self.lines: dict[Path, list[str]] = {}
@@ -329,7 +336,32 @@ class _Reader:
 
     # ---------- statements
     def statement(self, s: Tree) -> None:
+        if self.loop_sites:
+            self.loop_steps += 1
+            if self.loop_steps > LOOP_STATEMENTS:
+                raise DeckError(f"the deck's loops execute more than {LOOP_STATEMENTS:,} statements in all "
+                                "(nested loops multiply their passes)", self.loop_sites[0], _LOOP_HINT)
         getattr(self, "st_" + s.data)(s)
+
+    def scope(self) -> tuple:
+        """The parameters in force now, for a statement whose values are worked out when the
+        model is built (a case, a combination): inside a loop, the values of this pass."""
+        return dict(self.vars), frozenset(self.unitless), tuple(self.loop_vars)
+
+    def use_scope(self, scope: tuple) -> None:
+        self.vars, self.unitless, self.loop_vars = scope[0], set(scope[1]), list(scope[2])
+
+    def fixed_name(self, t):
+        """A support's, spring's or mass's target with its indices worked out now, in this pass
+        of a loop: a token of the whole name at the same place (N[up] -> N3); a pattern or a
+        plain name as written. The node table is searched when the model is built."""
+        if isinstance(t, Token) or len(t.children) < 2 or t.children[1] is None:
+            return t
+        first = t.children[0]
+        tok = Token("NAME", self.name(t), first.start_pos, first.line, first.column, first.end_line,
+                    first.end_column, first.end_pos)
+        self.token_file[id(tok)] = self.token_file.get(id(first)) or self.stack[-1]
+        return tok
 
     def st_title(self, s):
         self.title = str(s.children[0])[1:-1]
@@ -595,7 +627,7 @@ class _Reader:
                 if str(d) not in DIRECTIONS:
                     raise DeckError(f"unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
                 dirs.append(str(d))
-        self.supports.append((target, dirs, self.loc(s)))
+        self.supports.append((self.fixed_name(target), dirs, self.loc(s)))
 
     def st_spring(self, s):
         target, *kws = s.children
@@ -611,7 +643,7 @@ class _Reader:
             if vals[d] < 0:
                 raise DeckError(f"spring {d}: a stiffness cannot be negative", self.loc(kw))
             _not_huge(vals[d], f"spring {d}", self.loc(kw))
-        self.springs.append((target, vals, self.loc(s)))
+        self.springs.append((self.fixed_name(target), vals, self.loc(s)))
 
     def st_mass(self, s):
         target, value, *opts = s.children
@@ -627,7 +659,7 @@ class _Reader:
             raise DeckError("a mass or inertia cannot be negative", self.loc(s))
         for v in (m, *inertia):
             _not_huge(v, "mass", self.loc(s))
-        self.masses.append((target, np.r_[m, m, m, inertia], self.loc(s)))
+        self.masses.append((self.fixed_name(target), np.r_[m, m, m, inertia], self.loc(s)))
 
     def st_group(self, s):
         name = self.name(s.children[0])
@@ -646,11 +678,11 @@ class _Reader:
                             self.loc(kind), "kinds: " + ", ".join(_CASE_KINDS))
         self.define("result", "case", self.name(name), self.loc(s))
         self.cases.append((self.name(name), str(kind), [i for i in items if i is not None], self.loc(s),
-                           dict(self.assumed)))
+                           dict(self.assumed), self.scope()))
 
     def st_combo(self, s):
         self.define("result", "combination", self.name(s.children[0]), self.loc(s))
-        self.combos.append((self.name(s.children[0]), s.children[1], self.loc(s)))
+        self.combos.append((self.name(s.children[0]), s.children[1], self.loc(s), self.scope()))
 
     def st_loop(self, s):
         var, lo, hi, *body = s.children
@@ -658,8 +690,15 @@ class _Reader:
         for q in (a, b):
             if q.dim not in (U.NONE, WILD) or q.value != int(q.value):
                 raise DeckError("loop bounds must be whole numbers", self.loc(s))
-        if b.value - a.value > 1_000_000:
-            raise DeckError("loop runs more than a million times", self.loc(s))
+        passes = max(int(b.value) - int(a.value) + 1, 0)
+        if not body:
+            return                      # nothing to repeat
+        if self.loop_steps + passes * len(body) > LOOP_STATEMENTS:
+            again = f", and again on each pass of the loop at {self.loop_sites[-1]}" if self.loop_sites else ""
+            raise DeckError(f"this loop would execute {passes:,} passes of {len(body)} statement(s){again}, taking "
+                            f"the deck's loops past {LOOP_STATEMENTS:,} statements in all"
+                            + (f" ({self.loop_steps:,} executed so far)" if self.loop_steps else ""),
+                            self.loc(s), _LOOP_HINT)
         if b.value < a.value:
             w = (f"{self.loc(s)}: warning: loop range {a.value:g}..{b.value:g} is empty (a range counts up), so "
                  f"its statements are skipped; write {b.value:g}..{a.value:g} to run them")
@@ -667,6 +706,7 @@ class _Reader:
                 self.warnings.append(w)
         saved = self.vars.get(str(var))
         self.loop_vars.append(str(var))
+        self.loop_sites.append(self.loc(s))
         try:
             for k in range(int(a.value), int(b.value) + 1):
                 self.vars[str(var)] = Quantity(float(k), WILD if k == 0 else U.NONE)
@@ -674,6 +714,7 @@ class _Reader:
                     self.statement(st)
         finally:
             self.loop_vars.pop()
+            self.loop_sites.pop()
         # the loop variable lives inside the loop only: after it, the name means what it meant before
         if saved is not None:
             self.vars[str(var)] = saved
@@ -787,6 +828,7 @@ class _Reader:
                     "they have no stiffness and are held; connect a beam member without that release (or a "
                     "rotational spring) if the inertia matters")
         midx = {m["name"]: k for k, m in enumerate(mems)}
+        reading = self.scope()
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
         for c in cases:
             for item in c.loads:
@@ -815,7 +857,11 @@ class _Reader:
                     used[item.targets] = True
         self.coincident_nodes(node_names, coords, tol, used)
         names = {c.name for c in cases if c.kind == "static"}
-        combos = [Combination(nm, _combo_factors(self, tree, names), where) for nm, tree, where in self.combos]
+        combos = []
+        for nm, tree, where, scope in self.combos:
+            self.use_scope(scope)             # the parameters where the combination is written
+            combos.append(Combination(nm, _combo_factors(self, tree, names), where))
+        self.use_scope(reading)
         modal = [c.name for c in cases if c.kind == "modes"]
         if modal:
             self.massless_materials(mems, cols["nsm"], modal)
@@ -967,8 +1013,9 @@ class _Reader:
                     f"mass in modes case {', '.join(modal)}; give its density if their mass matters")
 
     def build_case(self, c, nidx, midx) -> LoadCase:
-        name, kind, items, where, assumed = c
+        name, kind, items, where, assumed, scope = c
         self.assumed = assumed             # the assumes in force where the case is written
+        self.use_scope(scope)              # and its parameters (in a loop, those of its pass)
         case = LoadCase(name, kind, location=where)
         seen = set()
         functions, timed = [], []     # a history case's named time functions, ground = (..) times F
@@ -1522,6 +1569,8 @@ _PARAM_WORDS = {"thick": ("wall", "t"), "thickness": ("wall", "t"), "t": ("wall"
                 "flange": ("tf",), "web": ("tw",), "area": ("A",), "a": ("A",), "ix": ("J",), "it": ("J",)}
 _CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum")
 _FLOAT_MAX = float(np.finfo(float).max)
+_LOOP_HINT = (f"check the loop ranges: a deck's loops may execute at most {LOOP_STATEMENTS:,} statements, "
+              "which keeps a mistyped range from running for hours")
 
 
 # an example of a value with its unit for each dimension a deck asks for, and the assume that
