@@ -269,15 +269,39 @@ def test_a_loop_with_an_empty_body_costs_nothing(monkeypatch):
 _DIRS = ("ux", "uy", "uz", "rx", "ry", "rz")
 
 
-def _fill(text: str, i: str, k: str) -> str:
-    return text.replace("{i}", i).replace("{k}", k)
+def _fill(text: str, i: str, k: str, j: str) -> str:
+    return text.replace("{i}", i).replace("{k}", k).replace("{j}", j)
+
+
+# statement templates: {i} the loop variable, {k} the loop's let, {j} an inner loop's variable
+# (0 when there is none), {n} the index of a name made in the loop, {a} {b} {c} node indices
+_BODY = {
+    "support": "support N[{a}] ({dirs})",
+    "spring": "spring N[{b}] (ux = ({k} + 1)*1e5 N/m, rz = ({i} + {j} + 1)*2e4 N*m)",
+    "mass": "mass N[{c}] = ({i} + {j} + s + 1)*50 kg inertia = ({k}*2 kg*m^2, 1 kg*m^2, 0)",
+    "member": "member B{m}[{n}] : N[{a}] -> T beam P S roll = ({k} + {j})*15 deg nsm = {i}*1 kg/m",
+    "group": "group G{m}[{n}] = N[{b}], N[{k}]\nmass G{m}[{n}] = ({k} + 1)*10 kg",
+    "static": "case C{m}[{n}] static { force N[{c}] = (0, 0, -({k} + 1)*1 kN)\nline M* = local(0, {j}*1 kN/m, "
+              "-{k}*1 kN/m) }",
+    "combo": "combo K{m}[{n}] = ({k} + 1)*D + ({i} + {j})*0.5*D",
+    "modes": "case Q{m}[{n}] modes { count = {k} + 1, reference = ({i}*1 m, {j}*1 m, 0) }",
+    "harmonic": "case W{m}[{n}] harmonic { force N[{a}] = (0, ({i} + 1)*1 kN, 0)\nfrom = ({i} + 1)*1 Hz, "
+                "to = ({k} + 2)*10 Hz, points = {k} + 5 + {j} }",
+    "free": "case F{m}[{n}] free { displacement N[{b}] = ({k}*1 mm, 0, 0)\nvelocity N[{c}] = (0, ({i} + {j})*0.1 m/s, "
+            "0)\nduration = ({k} + 1)*0.5 s, step = 0.01 s, damping = {i}*1 percent }",
+    "history": "case H{m}[{n}] history { force N[{a}] = (0, 0, -({k} + 1)*1 kN) times T\ntime T = halfsine(({k} + 1)"
+               "*0.05 s)\nground = (({i} + {j} + 1)*0.1 gee, 0, 0) times T\nduration = 1 s, step = 0.01 s }",
+    "spectrum": "case R{m}[{n}] spectrum { curve = plateau(({i} + 1)*0.1 gee, 1.2, ({k} + 1)*0.1 s, 0.8 s, 2 s)\n"
+                "damping = ({k} + 1)*1 percent, directions = (1, {i}*0.3, {j}) }",
+}
 
 
 @st.composite
 def loop_and_flat(draw):
-    """A deck with loops and the same deck unrolled by hand: the loop variable written as its
-    value in parentheses, a loop-local let written as its expression, indexed names written
-    out. Both share a header of nodes N0..Nn (made by a loop, or written flat)."""
+    """A deck with loops and the same deck unrolled by hand: the loop variables written as their
+    values in parentheses, a loop-local let written as its expression, indexed names written
+    out. Both share a header of nodes N0..Nn (made by a loop, or written flat), and a loop
+    variable may hide the outer parameter i, used again after the loops."""
     n = draw(st.integers(2, 5))
     s = draw(st.integers(0, 2))
     shadow = draw(st.booleans())
@@ -295,44 +319,27 @@ def loop_and_flat(draw):
         lo = draw(st.integers(0, n))
         hi = draw(st.integers(lo, n))
         c = draw(st.integers(-lo, n - hi))            # k = i + c stays within 0..n
+        inner = draw(st.sampled_from([None, 0, 1]))   # passes - 1 of an inner loop over j, if any
         k = f"k{m}"
-        index = draw(st.lists(st.sampled_from(["{i}", "{k}", f"{{k}} - ({c})"]), min_size=3, max_size=3))
-        kinds = draw(st.lists(st.sampled_from(["support", "spring", "mass", "member", "group", "static",
-                                               "combo", "modes", "harmonic"]), min_size=1, max_size=4, unique=True))
+        nodes = draw(st.lists(st.sampled_from(["{i}", "{k}", f"{{k}} - ({c})"]), min_size=3, max_size=3))
+        kinds = draw(st.lists(st.sampled_from(sorted(_BODY)), min_size=1, max_size=4, unique=True))
         dirs = draw(st.lists(st.sampled_from(_DIRS), min_size=1, max_size=6, unique=True))
-        body = []
-        for kind in kinds:
-            if kind == "support":
-                body.append(f"support N[{index[0]}] ({', '.join(dirs)})")
-            elif kind == "spring":
-                body.append(f"spring N[{index[1]}] (ux = ({{k}} + 1)*1e5 N/m, rz = ({{i}} + 1)*2e4 N*m)")
-            elif kind == "mass":
-                body.append(f"mass N[{index[2]}] = ({{i}} + s + 1)*50 kg inertia = ({{k}}*2 kg*m^2, 1 kg*m^2, 0)")
-            elif kind == "member":
-                body.append(f"member B{m}[{{i}}] : N[{index[0]}] -> T beam P S roll = {{k}}*15 deg "
-                            "nsm = {i}*1 kg/m")
-            elif kind == "group":
-                body.append(f"group G{m}[{{i}}] = N[{index[1]}], N[{{k}}]\nmass G{m}[{{i}}] = ({{k}} + 1)*10 kg")
-            elif kind == "static":
-                body.append(f"case C{m}[{{i}}] static {{ force N[{index[2]}] = (0, 0, -({{k}} + 1)*1 kN)\n"
-                            f"line M* = local(0, 0, -{{k}}*1 kN/m) }}")
-            elif kind == "combo":
-                body.append(f"combo K{m}[{{i}}] = ({{k}} + 1)*D + {{i}}*0.5*D")
-            elif kind == "modes":
-                body.append(f"case Q{m}[{{i}}] modes {{ count = {{k}} + 1, reference = ({{i}}*1 m, 0, 0) }}")
-            else:
-                body.append(f"case W{m}[{{i}}] harmonic {{ force N[{index[0]}] = (0, ({{i}} + 1)*1 kN, 0)\n"
-                            f"from = ({{i}} + 1)*1 Hz, to = ({{k}} + 2)*10 Hz, points = {{k}} + 5 }}")
-        text = "\n".join(body)
-        loop.append(f"for i in {lo}..{hi} {{ let {k} = i + ({c})\n" + _fill(text, "i", k) + " }\n")
+        text = "\n".join(_BODY[kind] for kind in kinds)
+        for key, tmpl in zip("abc", nodes):
+            text = text.replace(f"[{{{key}}}]", f"[{tmpl}]")
+        text = text.replace("{dirs}", ", ".join(dirs)).replace("{m}", str(m))
+        if inner is None:
+            body = _fill(text.replace("[{n}]", "[i]"), "i", k, "0")
+            loop.append(f"for i in {lo}..{hi} {{ let {k} = i + ({c})\n{body} }}\n")
+        else:
+            body = _fill(text.replace("[{n}]", "[i, j]"), "i", k, "j")
+            loop.append(f"for i in {lo}..{hi} {{ let {k} = i + ({c})\nfor j in 0..{inner} {{\n{body} }} }}\n")
         for v in range(lo, hi + 1):
-            kv = f"(({v}) + ({c}))"
-            flat_text = text
-            # indexed names first, with their values; then the expressions
-            for tmpl in set(index) | {"{i}", "{k}"}:
-                value = v if tmpl != "{k}" else v + c
-                flat_text = flat_text.replace(f"[{tmpl}]", str(value))
-            flat.append(_fill(flat_text, f"({v})", kv) + "\n")
+            for w in range(1 if inner is None else inner + 1):
+                out = text.replace("[{n}]", str(v) if inner is None else f"{v}_{w}")
+                for tmpl in set(nodes) | {"{k}"}:        # node names with their values
+                    out = out.replace(f"[{tmpl}]", str(v + c if tmpl == "{k}" else v))
+                flat.append(_fill(out, f"({v})", f"(({v}) + ({c}))", f"({w})" if inner is not None else "0") + "\n")
     tail = "node Z = (i*1 m, 9 m, 0)\n" if shadow else "node Z = (s*1 m, 9 m, 0)\n"
     loop.append(tail)
     flat.append(tail)
