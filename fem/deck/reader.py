@@ -38,8 +38,8 @@ COINCIDENT = 1e-6
 MAX_COORDINATE = 1e9
 ROWS_LIMIT = 5_000_000   # rows of a free, history or harmonic table (recorded nodes x samples)
 # Statements a deck's loops may execute in all, nested loops and included files counted pass by
-# pass (our choice): reading takes some 30-60 us a statement, so this bounds a deck to about a
-# minute, while a model of a hundred thousand members and nodes is far inside it. A mistyped
+# pass (our choice): reading takes some 30-100 us a statement, so this bounds a deck to a minute
+# or two, while a model of a hundred thousand members and nodes is far inside it. A mistyped
 # range (0..999999 nested twice) is refused at once instead of running for days.
 LOOP_STATEMENTS = 1_000_000
 _FUNCS = {"sqrt": math.sqrt, "sin": math.sin, "cos": math.cos, "tan": math.tan,
