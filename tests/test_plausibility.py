@@ -136,7 +136,7 @@ def test_tip_deflection_against_span(tmp_path, capsys, p, warned, code):
      "mean 7850 kg/m^3"),
     ("E = 210 GPa, nu = 0.3, density = 78.5 kg/m^3", "did you mean 8005 kg/m^3 (a unit weight in kN/m^3 "),
     ("E = 210 GPa, nu = 0.3, density = 77000 kg/m^3", "did you mean 7852 kg/m^3 (a unit weight in N/m^3 "),
-    ("E = 210 GPa, G = 81 MPa", "E/G = 2593 means more than any structural material (steel 2.6, timber about 16); "
+    ("E = 210 GPa, G = 81 MPa", "E/G = 2593 is more than any structural material has (steel 2.6, timber about 16); "
      "did you mean G = 81 GPa?"),
     ("E = 210 GPa, nu = -0.2", "E/G = 1.6 means a Poisson's ratio nu = E/(2G) - 1 = -0.2 below 0"),
 ], ids=["E MPa", "E MPa meant", "timber MPa", "E 1000x", "t/m3", "kN/m3", "N/m3", "G MPa", "nu negative"])

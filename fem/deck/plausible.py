@@ -147,10 +147,10 @@ def _materials(model: Model, defined: dict) -> list[str]:
         if not EG_RANGE[0] <= ratio <= EG_RANGE[1]:
             fix = _rescue(ratio, EG_RANGE, 2.6, [(1 / f, why) for f, why in _THOUSANDS])
             nu = ratio / 2 - 1
-            what = (f"a Poisson's ratio nu = E/(2G) - 1 = {nu:.3g} below 0, which no structural material has "
-                    "(steel 0.3, concrete 0.2)" if ratio < EG_RANGE[0] else
-                    f"more than any structural material (steel 2.6, timber about 16)")
-            out.append(head + f"E/G = {_g(ratio)} means {what}"
+            what = (f"means a Poisson's ratio nu = E/(2G) - 1 = {nu:.3g} below 0, which no structural material "
+                    "has (steel 0.3, concrete 0.2)" if ratio < EG_RANGE[0] else
+                    "is more than any structural material has (steel 2.6, timber about 16)")
+            out.append(head + f"E/G = {_g(ratio)} {what}"
                        + (f"; did you mean G = {_pressure(mat.E / fix[0])}?" if fix else "; check G or nu"))
     return out
 
@@ -161,9 +161,12 @@ def _members(model: Model, mem_loc: list, sections: dict, assume_length) -> list
     if not e:
         return []
     L = model.lengths
+    names, which = np.unique(model.member_section, return_inverse=True)     # per section, not per member
     ext = {s: section_extent(*sections[s], model.sections[s].props) if s in sections
-           else section_extent("generic", {}, model.sections[s].props) for s in set(model.member_section)}
-    size = np.array([ext[s][0] for s in model.member_section])
+           else section_extent("generic", {}, model.sections[s].props) for s in names}
+    size = np.array([ext[s][0] for s in names])[which]
+    shaped = np.array([model.sections[s].props.shape in _OUTER for s in names])[which]
+    whole = _size(model)
     out = []
 
     def report(bad, text, alike: str):
@@ -181,14 +184,13 @@ def _members(model: Model, mem_loc: list, sections: dict, assume_length) -> list
     if assume_length is not None and assume_length[1] < 1:
         slip = (f"; if the coordinates are written in metres, '{assume_length[0]}' (at {assume_length[2]}) "
                 "reads them in its unit")
-    deep = np.flatnonzero((size > L) & (size > SECTION_OF_MODEL * _size(model)))
+    deep = np.flatnonzero((size > L) & (size > SECTION_OF_MODEL * whole))
     report(deep, lambda k: (f"its section {model.member_section[k]} is {_length(size[k])} across "
                             f"({ext[model.member_section[k]][1]}), more than the member is long "
-                            f"({_length(L[k])}) and half the whole model ({_length(_size(model))} across): check the "
+                            f"({_length(L[k])}) and half the whole model ({_length(whole)} across): check the "
                             f"coordinates' and the section's units{slip}"), "are shorter than their sections are deep")
     typical = float(np.median(L))
     outlier = (L > LENGTH_OUTLIER * typical) | (L < typical / LENGTH_OUTLIER)
-    shaped = np.array([model.sections[s].props.shape in _OUTER for s in model.member_section])
     lean = np.flatnonzero(~model.truss & shaped & (L > SLENDER * size) & ~outlier)
     report(lean, lambda k: (f"it is {_length(L[k])} long with a section {_length(size[k])} across "
                             f"({model.member_section[k]}), {_g(L[k] / size[k])} times its depth, where beams "
