@@ -21,6 +21,7 @@ from .analysis.free_case import FreeCaseResult, solve_free_case
 from .analysis.harmonic import HarmonicResult, lag_degrees, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
+from .analysis.plausible import static_check, zero_mode_check, zero_mode_lines
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
 from .analysis.static import StaticResult, condition_estimate, equilibrium, factorise, held_dofs, solve_static
 from .assembly import assemble
@@ -199,6 +200,20 @@ def _modal_ok(r) -> bool:
             and c["effective_mass_sum_pass"] is not False)
 
 
+def _plausible(model: Model, results: list, modal: list) -> dict:
+    """Answer-level plausibility checks (analysis.plausible) by case name: each static case and
+    combination's largest translation against the model's size, each modes case's near-zero modes."""
+    where = {c.name: c.location for c in [*model.cases, *model.combinations]}
+    out = {r.name: static_check(model, r, where.get(r.name)) for r in results}
+    out.update({r.name: zero_mode_check(model, r) for r in modal if isinstance(r, ModesCaseResult)})
+    return out
+
+
+def _plausible_ok(checks: dict) -> bool:
+    return all(c.get("translation_within_size_pass", True) and c.get("near_zero_pass", True)
+               for c in checks.values())
+
+
 def _write_csv(path: Path, header, rows) -> None:
     with path.open("w", newline="") as fh:
         w = csv.writer(fh)
@@ -318,6 +333,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     for r in [x for x in modal_all if isinstance(x, (FreeCaseResult, HistoryResult))]:
         write_response_files(out / "response", model, r.name, r.frame_t, r.frames)
     lo, hi = model.bounding_box()
+    sane = _plausible(model, results, modal)
     doc = {
         "schema": "quaver-results/1",
         "caution": CAUTION,
@@ -335,7 +351,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "reaction_sum_N": r.reactions[:, :3].sum(0).tolist(),
                    "applied_sum_N": r.applied[:, :3].sum(0).tolist(),
                    "checks": {"equilibrium_relative": r.equilibrium,
-                              "equilibrium_pass": bool(r.equilibrium < EQUILIBRIUM_TOL)}}
+                              "equilibrium_pass": bool(r.equilibrium < EQUILIBRIUM_TOL), **sane[r.name]}}
                   for r in results if isinstance(r, StaticResult)] + [
                   {"name": r.name, "kind": "modes", "solver": r.modes.solver,
                    "frequency_Hz": r.modes.freq.tolist(), "period_s": r.modes.period.tolist(),
@@ -344,7 +360,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "effective_mass_kg": r.part.effective_mass.tolist(),
                    "participating_total_kg": r.part.total.tolist(),
                    "reference_point_m": np.asarray(r.reference).tolist(),
-                   "checks": modal_checks(r)} for r in modal] + [
+                   "checks": {**modal_checks(r), **sane[r.name]}} for r in modal] + [
                   {"name": r.name, "kind": "free" if isinstance(r, FreeCaseResult) else "history",
                    "damping_ratio": r.zeta.tolist(),
                    "time_steps": len(r.t), "duration_s": float(r.t[-1]),
@@ -573,10 +589,14 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     am = model.settings["_assembled_mass"]
     print(f"  mass check: assembled M gives {am[0]:.6g} kg in X, Y, Z "
           f"({'pass' if _mass_ok(model) else 'FAIL'} against members + point masses)")
+    sane = _plausible(model, results, modal)
     for r in results:
         ok = "pass" if r.equilibrium < EQUILIBRIUM_TOL else "FAIL"
+        size = "pass" if sane[r.name]["translation_within_size_pass"] else "FAIL"
         print(f"  {r.name:<12} max translation {np.abs(r.u[:, :3]).max():.4g} m   "
-              f"equilibrium {r.equilibrium:.1e} {ok}")
+              f"equilibrium {r.equilibrium:.1e} {ok}   within the model's size {size}")
+        for w in sane[r.name]["warnings"]:
+            print(f"               {w}")
     for r in modal:
         c = modal_checks(r)
         if isinstance(r, SpectrumResult):
@@ -633,9 +653,11 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         if c["effective_mass_sum_pass"] is not None:
             print(f"               all {len(r.modes.freq)} modes: effective masses add up to the total mass to "
                   f"{c['effective_mass_sum_error']:.1e} {'pass' if c['effective_mass_sum_pass'] else 'FAIL'}")
+        for line in zero_mode_lines(r.name, sane[r.name]):
+            print(f"               {line}")
     print(f"  {notice}")
     ok = all(r.equilibrium < EQUILIBRIUM_TOL for r in results) and all(map(_modal_ok, modal))
-    ok = ok and _mass_ok(model)
+    ok = ok and _mass_ok(model) and _plausible_ok(sane)
     short = [r.name for r in modal if getattr(r, "target_met", None) is False]
     print("  self-checks: all pass" if ok else "  self-checks: some FAIL (marked above); check before using the results")
     if short:

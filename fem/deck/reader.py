@@ -21,6 +21,7 @@ from ..errors import DeckError, Location, suggest
 from ..model import DIRECTIONS, Combination, LoadCase, LoadItem, Material, Model, Section
 from ..sections import SHAPES, make_section
 from . import units as U
+from .plausible import model_warnings
 from .syntax import keyword_callbacks
 from .syntax import parse as parse_deck_text
 from .units import Quantity
@@ -87,6 +88,7 @@ class _Reader:
         self.lines: dict[Path, list[str]] = {}
         self.token_file: dict[int, Path] = {}
         self.quantities: dict[str, Quantity] = {}      # literal text -> value, e.g. "6 m"
+        self.section_params: dict[str, tuple[str, dict]] = {}   # name -> (shape, SI dimensions)
 
     # ---------- files and locations
     def read_file(self, path: Path, where: Location | None = None) -> None:
@@ -523,6 +525,7 @@ class _Reader:
             raise DeckError(f"section {name}: its properties are not finite and positive "
                             f"(A={props.A:.3g}, Iy={props.Iy:.3g}, Iz={props.Iz:.3g}, J={props.J:.3g})", self.loc(s))
         self.sections[name] = Section(name, props)
+        self.section_params[name] = (shape, params)
 
     def section_names(self, name: str, shape_tok, kws) -> None:
         """Refuse an unknown shape or parameter name at its token, with the names that fit."""
@@ -892,13 +895,19 @@ class _Reader:
                 settings[key] = val == "on"
             else:
                 raise DeckError(f"settings: unknown key '{key}'; {suggest(key, ['mass', 'shear'])}", where)
-        return Model(title=self.title, node_names=node_names, coords=coords,
+        return self.plausible(Model(title=self.title, node_names=node_names, coords=coords,
                      member_names=[m["name"] for m in mems], conn=conn, truss=truss,
                      up=up, releases=releases, restraint=restraint, springs=springs,
                      point_mass=pmass, materials=self.materials, sections=self.sections,
                      member_section=[m["section"][0] for m in mems],
                      member_material=[m["material"][0] for m in mems],
-                     cases=cases, combinations=combos, settings=settings, warnings=self.warnings, **cols)
+                     cases=cases, combinations=combos, settings=settings, warnings=self.warnings, **cols), mems)
+
+    def plausible(self, model: Model, mems) -> Model:
+        """Add the located plausibility warnings of a built model (deck.plausible)."""
+        self.warnings += model_warnings(model, self.defined, [m["loc"] for m in mems], self.section_params,
+                                        self.assume_sites.get(U.LENGTH))
+        return model
 
     def repeated_support(self, nm, dirs, held, where, first) -> bool:
         """A second support statement on a node: supports add up. Asking for less than is already
