@@ -90,6 +90,7 @@ def test_out_forms_that_are_refused(tmp_path, deck):
         ("~", work, "~ (%s) holds files that are not Quaver results (letter.txt)" % home),
         (str(deck.parent), work, f"the results folder {deck.parent} contains the deck"),
         ("plain.txt", work, "plain.txt (%s) exists and is not a folder" % plain),
+        ("", work, "--out is empty"),
     ]
     for out, cwd, why in cases:
         err = _one_line_error(_quaver("run", deck, "--out", out, "--no-render", cwd=cwd, env={"HOME": str(home)}))

@@ -91,6 +91,9 @@ def _what(target: Path, shown: str) -> str:
 def resolve_target(out: str | None, deck: str) -> tuple[Path, str]:
     """The results folder as an absolute path, links resolved (a link to a folder keeps pointing
     at the new results), and as the user wrote it. A leading ``~`` is the home folder."""
+    if out is not None and not out.strip():
+        raise ResultsError("--out is empty; give the results folder, or leave --out out for "
+                           f"results/{Path(deck).stem}")
     shown = (out.rstrip("/") or "/") if out else str(Path("results") / Path(deck).stem)
     return Path(os.path.expanduser(shown)).resolve(), shown
 
@@ -102,8 +105,11 @@ def check_target(target: Path, shown: str, deck: Path) -> list[str]:
     if target.parent == target:
         raise ResultsError(f"the results folder {what} is the root of the file system; choose a folder of its "
                            "own with --out")
-    cwd = Path.cwd().resolve()
-    if target == cwd or target in cwd.parents:
+    try:
+        cwd = Path.cwd().resolve()
+    except OSError:
+        cwd = None                                   # the current folder was removed
+    if cwd is not None and (target == cwd or target in cwd.parents):
         here = "is the current folder" if target == cwd else "holds the current folder"
         raise ResultsError(f"the results folder {what} {here}: a run replaces its results folder by moving it, "
                            "which would leave this shell in a folder that no longer exists; choose a folder "
