@@ -346,7 +346,7 @@ sys.exit(main(["run", {str(deck)!r}, "--out", {str(out)!r}, "--no-render"]))
 # ---------------------------------------------------------------- runs killed outright
 
 def _aside_of(out: Path, pid: int) -> Path:
-    aside = out.parent / f".quaver-{pid}-old-k1"
+    aside = out.parent / f".quaver-{pid}-old-k1k1k1k1"
     out.rename(aside)
     return aside
 
@@ -359,11 +359,22 @@ def test_a_run_killed_between_the_moves_is_undone(tmp_path, deck, capsys):
     earlier = _state(out)
     pid = _dead_pid()
     aside = _aside_of(out, pid)
-    (tmp_path / f".quaver-{pid}-new-k2").mkdir()                # its staged results
-    (tmp_path / f".quaver-{pid}-new-k2" / "results.json").write_text("{}")
+    (tmp_path / f".quaver-{pid}-new-k2k2k2k2").mkdir()                # its staged results
+    (tmp_path / f".quaver-{pid}-new-k2k2k2k2" / "results.json").write_text("{}")
     assert folder.tidy_after_kill(out, "proj") == [
         "the previous results, moved aside by a run that was killed, are back in proj"]
     assert _state(out) == earlier and not aside.exists() and not _leftovers(tmp_path)
+
+
+def test_tidying_touches_only_folders_of_its_own_naming(tmp_path):
+    pid = _dead_pid()
+    for name in (f".quaver-{pid}-notes", f".quaver-{pid}-old-my-drawings", f".quaver-{pid}-new-abc"):
+        (tmp_path / name).mkdir()
+        (tmp_path / name / "mine.txt").write_text("mine")
+    (tmp_path / f".quaver-{pid}-new-abcd1234").mkdir()
+    folder.tidy_after_kill(tmp_path / "proj", "proj")
+    assert _leftovers(tmp_path) == sorted([f".quaver-{pid}-notes", f".quaver-{pid}-old-my-drawings",
+                                           f".quaver-{pid}-new-abc"])
 
 
 def test_a_run_killed_after_moving_the_new_results_in_is_finished(tmp_path, deck):
@@ -385,7 +396,7 @@ def test_folders_of_a_killed_run_still_in_use_are_kept(tmp_path, deck):
     # temporary folder is in use and is not removed
     out = tmp_path / "proj"
     pid = _dead_pid()
-    staged = tmp_path / f".quaver-{pid}-new-w1"
+    staged = tmp_path / f".quaver-{pid}-new-w1w1w1w1"
     (staged / "pictures").mkdir(parents=True)
     worker = subprocess.Popen([sys.executable, "-c", "import time; time.sleep(60)"],
                               env=dict(os.environ, **{folder.RUN_ENV: str(pid)}))

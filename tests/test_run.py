@@ -158,7 +158,7 @@ def test_results_moved_aside_by_a_killed_run_are_restored(tmp_path):
     before = (out / "results.json").read_bytes()
     dead = subprocess.Popen([sys.executable, "-c", "pass"])
     dead.wait()
-    aside = tmp_path / f".quaver-{dead.pid}-old-x1"
+    aside = tmp_path / f".quaver-{dead.pid}-old-x1x1x1x1"
     out.rename(aside)
     tidy_after_kill(out, str(out))
     assert (out / "results.json").read_bytes() == before and not aside.exists()

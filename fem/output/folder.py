@@ -406,25 +406,35 @@ def tidy_after_kill(target: Path, shown: str) -> list[str]:
     summary. Folders of a run that is alive, or whose workers are, are left alone."""
     notes = []
     for p in sorted(target.parent.glob(".quaver-*-*")):
-        m = re.fullmatch(r"\.quaver-(\d+)-(new-|old-)?.*", p.name)
+        # only names of our making: pid, role, and the 8-character suffix of tempfile.mkdtemp
+        m = re.fullmatch(r"\.quaver-(\d+)-(new-|old-)?[a-z0-9_]{8}", p.name)
         if not m or p in _mine or not p.is_dir() or p.is_symlink():
             continue
         if int(m[1]) != os.getpid() and _run_alive(int(m[1])):
             continue
-        man = _manifest(p) if m[2] == "old-" else None
-        if man is None:
-            shutil.rmtree(p, ignore_errors=True)         # a staged or placeholder folder
-            continue
-        if man["folder"] != target.name:
-            continue                                     # the previous results of another folder here
-        if not target.exists():
-            os.replace(p, target)
-            notes.append(f"the previous results, moved aside by a run that was killed, are back in {shown}")
-            continue
-        left = _move_items(p, target, foreign_items(p, man))
-        if left:
-            notes.append(f"a killed run left {_shown_items(left, p)} in {p}: they are not Quaver's and "
-                         f"{shown} already holds items of those names; move them yourself")
-            continue
-        _discard(p)
+        try:
+            note = _tidy_one(p, m[2] == "old-", target, shown)
+        except OSError as exc:
+            note = f"could not tidy {p}, left by a run that was killed ({exc.strerror or exc}); remove it yourself"
+        if note:
+            notes.append(note)
     return notes
+
+
+def _tidy_one(p: Path, aside: bool, target: Path, shown: str) -> str:
+    """Tidy one folder of a dead run; a note for the summary, or ''."""
+    man = _manifest(p) if aside else None
+    if man is None:
+        shutil.rmtree(p)                                 # a staged or placeholder folder
+        return ""
+    if man["folder"] != target.name:
+        return ""                                        # the previous results of another folder here
+    if not target.exists():
+        os.replace(p, target)
+        return f"the previous results, moved aside by a run that was killed, are back in {shown}"
+    left = _move_items(p, target, foreign_items(p, man))
+    if left:
+        return (f"a killed run left {_shown_items(left, p)} in {p}: they are not Quaver's and {shown} "
+                "already holds items of those names; move them yourself")
+    _discard(p)
+    return ""
