@@ -464,10 +464,11 @@ def test_an_internal_error_after_the_results_are_written_says_where_they_are(tmp
 
 def test_an_internal_error_is_not_a_self_check_failure(tmp_path):
     # a crash in a subprocess: status 70, not 1 (results written, a check failed) nor 2
-    code = ("import sys, fem.deck.reader as r\n"
+    code = ("import sys, fem.run as r\n"
             "def bad(*a, **k):\n    raise IndexError('list index out of range')\n"
-            "r.read_deck = bad\nfrom fem.cli import main\nsys.exit(main(['check', 'x.deck']))\n")
-    p = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300, cwd=ROOT,
+            "r.run_deck = bad\nfrom fem.cli import main\nsys.exit(main(['run', 'x.deck']))\n")
+    p = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300, cwd=tmp_path,
                        env=dict(os.environ, PYTHONPATH=str(ROOT)))
     assert p.returncode == INTERNAL_ERROR == 70
-    assert "Nothing was written." in p.stderr and "Traceback" not in p.stderr
+    assert p.stderr.startswith("internal error (IndexError: list index out of range)")
+    assert "Nothing was written." in p.stderr and "Traceback" not in p.stderr and p.stderr.endswith(".\n")
