@@ -77,7 +77,8 @@ def main(argv: list[str] | None = None) -> int:
         return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs),
                         draw_modes=max(0, args.draw_modes), fps=args.fps)
     except QuaverError as exc:
-        _say(f"error: {exc}")
+        state = folder.where()
+        _say(f"error: {exc}" + (f"\nnote: {state}" if state.startswith("the new results") else ""))
         return 2
     except BrokenPipeError:
         # the reader of our output went away (quaver check deck | head): the work is done and

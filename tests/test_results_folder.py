@@ -472,3 +472,16 @@ def test_an_internal_error_is_not_a_self_check_failure(tmp_path):
     assert p.returncode == INTERNAL_ERROR == 70
     assert p.stderr.startswith("internal error (IndexError: list index out of range)")
     assert "Nothing was written." in p.stderr and "Traceback" not in p.stderr and p.stderr.endswith(".\n")
+
+
+def test_an_error_after_the_results_are_written_says_so(tmp_path, deck, capsys, monkeypatch):
+    from fem.errors import ModelError
+
+    def cut(*a, **k):
+        if a and str(a[0]).startswith("results in"):
+            raise ModelError("a check after writing refused the model")
+    monkeypatch.setattr(run, "print", cut, raising=False)
+    out = tmp_path / "proj"
+    assert _run(deck, out) == 2
+    assert capsys.readouterr().err == (f"error: a check after writing refused the model\n"
+                                       f"note: the new results are in {out}\n")
