@@ -272,6 +272,26 @@ def test_interrupt_at_each_step_of_the_swap(tmp_path, deck, capsys, monkeypatch,
     assert (out / "notes.txt").read_text() == "notes"
 
 
+def test_interrupt_while_removing_the_earlier_results(tmp_path, deck, capsys, monkeypatch):
+    out = tmp_path / "proj"
+    assert _run(deck, out) == 0
+    (out / "notes.txt").write_text("notes")
+
+    def half(aside):                                  # removes one file, then Ctrl-C
+        (aside / "results.json").unlink()
+        raise KeyboardInterrupt
+    monkeypatch.setattr(folder, "_discard", half)
+    assert _run(deck, out) == 130
+    aside = [tmp_path / n for n in _leftovers(tmp_path)]
+    assert len(aside) == 1 and not (aside[0] / "results.json").exists()
+    assert capsys.readouterr().err == (f"interrupted: the new results are in {out}; the earlier results are in "
+                                       f"{aside[0]}, which the next run removes\n")
+    assert (out / "results.json").exists() and (out / "notes.txt").read_text() == "notes"
+    monkeypatch.undo()
+    assert _run(deck, out) == 0 and not _leftovers(tmp_path)
+    assert (out / "notes.txt").read_text() == "notes"
+
+
 def test_interrupt_into_a_new_folder(tmp_path, deck, capsys, monkeypatch):
     out = tmp_path / "fresh"
     _interrupt_at(monkeypatch, "before-move")

@@ -328,8 +328,8 @@ def swap(staged: Path, target: Path, shown: str) -> list[str]:
         _say(_after(shown, aside, left))
         _step("kept-moved")
         if left:
-            notes = [f"could not move {_shown_items(left, aside)} (not written by Quaver) back from {aside}: "
-                     f"{shown} already holds items of those names; move them yourself"]
+            notes = [f"could not move {_shown_items(left, aside)} (not written by Quaver) from the earlier "
+                     f"results into {shown}: they are in {aside}; move them yourself"]
             return notes
         _say(f"the new results are in {shown}; the earlier results were being removed from {aside}, "
              "which the next run finishes")
@@ -434,7 +434,7 @@ def _tidy_one(p: Path, aside: bool, target: Path, shown: str) -> str:
         return f"the previous results, moved aside by a run that was killed, are back in {shown}"
     left = _move_items(p, target, foreign_items(p, man))
     if left:
-        return (f"a killed run left {_shown_items(left, p)} in {p}: they are not Quaver's and {shown} "
-                "already holds items of those names; move them yourself")
+        return (f"a killed run left {_shown_items(left, p)} (not written by Quaver) in {p} and they could "
+                f"not be moved into {shown}; move them yourself")
     _discard(p)
     return ""
