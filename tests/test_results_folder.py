@@ -3,7 +3,6 @@ step of the swap, killed runs tidied without touching folders still in use, exit
 
 import json
 import os
-import signal
 import subprocess
 import sys
 from pathlib import Path
@@ -311,7 +310,8 @@ def test_interrupt_while_writing_and_while_printing_the_summary(tmp_path, deck, 
         m.setattr(run, "_report", boom)
         capsys.readouterr()
         assert _run(deck, out) == 130
-    assert capsys.readouterr().err == f"interrupted: no results were written; the earlier results in {out} are as they were\n"
+    assert capsys.readouterr().err == (f"interrupted: no results were written; the earlier results in {out} "
+                                       "are as they were\n")
     assert _state(out) == earlier and not _leftovers(tmp_path)
 
     def cut(*a, **k):                                           # Ctrl-C as the summary is printed
