@@ -1,17 +1,16 @@
 """`quaver run`: solve every static case and combination; write results.json and CSV tables.
 
 Results go to a temporary folder beside the target and are moved into place only when
-everything succeeded, so a failed run leaves the previous results untouched.
+everything succeeded, so a failed run leaves the previous results untouched; only the files a
+previous run wrote are replaced (fem.output.folder).
 """
 
 from __future__ import annotations
 
 import csv
 import json
-import os
 import re
 import shutil
-import tempfile
 from contextlib import contextmanager
 from pathlib import Path
 
@@ -28,6 +27,7 @@ from .assembly import assemble
 from .deck.reader import read_deck
 from .errors import ModelError, ResultsError
 from .model import DIRECTIONS, Model
+from .output import folder
 from .output.fmt import percent
 
 __all__ = ["run_deck", "solve_all"]
@@ -487,89 +487,32 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path, noti
     write_report(out / "report.html", doc, images, notes=[notice] if notice.startswith("pictures skipped:") else [])
 
 
-def _check_target(target: Path, deck: Path) -> None:
-    """Refuse a results folder that would hold the deck or that is not a previous result."""
-    t = target.resolve()
-    if t == deck.resolve().parent or t in deck.resolve().parents:
-        raise ResultsError(f"the results folder {target} contains the deck; choose another --out")
-    if t.exists():
-        if not t.is_dir():
-            raise ResultsError(f"{target} exists and is not a folder; choose another --out")
-        marker = t / "results.json"
-        ours = marker.exists() and '"schema": "quaver-results/' in marker.read_text(errors="ignore")[:200]
-        if any(t.iterdir()) and not ours:
-            raise ResultsError(f"{target} holds files that are not Quaver results; it is left alone - "
-                               "choose an empty or new folder with --out")
-
-
-def _tidy_after_kill(target: Path) -> None:
-    """Undo what a killed run (SIGKILL, power cut) may have left beside `target`: its temporary
-    folders (named .quaver-<pid>-..., removed only when that process is gone) and, if it died
-    between moving the previous results aside and moving the new ones in, the previous results,
-    which are moved back."""
-    for p in target.parent.glob(".quaver-*-*"):
-        pid = p.name.split("-")[1]
-        if not pid.isdigit() or int(pid) == os.getpid():
-            continue
-        try:
-            os.kill(int(pid), 0)
-        except ProcessLookupError:
-            shutil.rmtree(p, ignore_errors=True)
-        except OSError:
-            pass                     # alive under another user: not ours to touch
-    old = target.with_name(target.name + ".old")
-    if not target.exists() and (old / "results.json").exists():
-        os.replace(old, target)
-
-
-def _writable_parent(target: Path) -> None:
-    """Make sure results can be staged beside `target`; a clear ResultsError otherwise."""
-    parent = target.parent
-    head = f"cannot write the results folder {target}: "
-    tail = "; choose another --out"
-    blocker = next((a for a in (parent, *parent.parents) if a.exists() and not a.is_dir()), None)
-    if blocker is not None:
-        raise ResultsError(head + f"{blocker} is a file, not a folder" + tail)
-    try:
-        parent.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise ResultsError(head + f"its parent folder {parent} could not be created "
-                           f"({exc.strerror or exc})" + tail) from None
-    try:
-        os.rmdir(tempfile.mkdtemp(prefix=f".quaver-{os.getpid()}-", dir=parent))
-    except OSError as exc:
-        raise ResultsError(head + f"its parent folder {parent} does not take new files "
-                           f"({exc.strerror or exc})" + tail) from None
-
-
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
              draw_modes: int = 6, fps: float = 12.0) -> int:
     model = read_deck(deck)
-    target = Path(out) if out else Path("results") / Path(deck).stem
-    _writable_parent(target)        # before solving, so an unusable --out fails at once
-    _tidy_after_kill(target)
-    _check_target(target, Path(deck))
+    target, shown = folder.resolve_target(out, deck)
+    folder.check_target(target, shown, Path(deck))     # before solving, so an unusable --out fails at once
+    folder.writable_parent(target, shown)
+    notes = folder.tidy_after_kill(target, shown)
+    folder.begin(target, shown)
     results, modal = solve_all(model)
-    _writable_parent(target)
-    _check_target(target, Path(deck))
-    tmp = Path(tempfile.mkdtemp(prefix=f".quaver-{os.getpid()}-", dir=target.parent))
+    folder.writable_parent(target, shown)
+    folder.check_target(target, shown, Path(deck))
+    tmp = folder.stage(target)
     try:
         doc = _write(model, results, modal, tmp)
         notice = _render(model, modal, tmp, jobs, draw_modes, fps) if render else "pictures skipped (--no-render)"
         _report(model, results, modal, doc, tmp, notice)
-        if target.exists():
-            old = target.with_name(target.name + ".old")
-            shutil.rmtree(old, ignore_errors=True)
-            os.replace(target, old)
-            os.replace(tmp, target)
-            shutil.rmtree(old, ignore_errors=True)
-        else:
-            os.replace(tmp, target)
+        folder.write_manifest(tmp, target.name)
+        notes += folder.swap(tmp, target, shown)
+    except ResultsError:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
     except OSError as exc:
         shutil.rmtree(tmp, ignore_errors=True)
-        raise ResultsError(f"could not write results to {target}: {exc}") from None
+        raise ResultsError(f"could not write results to {shown}: {exc}") from None
     except BaseException:
-        # interrupted (Ctrl-C) or failed part-way: the previous results stay as they were
+        # interrupted (Ctrl-C) or failed part-way: folder.where() says where the results are
         shutil.rmtree(tmp, ignore_errors=True)
         raise
     print(f"{model.title or deck}: {model.n_nodes} nodes, {model.n_members} members, "
@@ -662,6 +605,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     print("  self-checks: all pass" if ok else "  self-checks: some FAIL (marked above); check before using the results")
     if short:
         print(f"  effective-mass target not met in {', '.join(short)}")
-    print(f"results in {target}/")
+    for n in notes:
+        print(f"  {n}")
+    print(f"results in {shown}/")
     print("Caution: " + CAUTION)
     return 0 if ok and not short else 1
