@@ -36,6 +36,12 @@ COINCIDENT = 1e-6
 # A million kilometres: beyond any structure, and it keeps products of coordinates (lengths
 # cubed in the stiffness) well inside the floating-point range.
 MAX_COORDINATE = 1e9
+# Our choice: expressions and loops are read by walking their tree, one Python call per level;
+# 200 levels keep that far inside the interpreter's recursion limit (1000 frames) whatever
+# calls the reader, and no deck written by hand nests so deep.
+MAX_NESTING = 200
+_EXPRESSIONS = {"add", "sub", "mul", "div", "pow", "neg", "unary", "call", "var", "number", "quantity",
+                "vector", "name", "index"}
 ROWS_LIMIT = 5_000_000   # rows of a free, history or harmonic table (recorded nodes x samples)
 _FUNCS = {"sqrt": math.sqrt, "sin": math.sin, "cos": math.cos, "tan": math.tan,
           "atan": math.atan, "abs": abs, "exp": math.exp, "log": math.log}
@@ -124,7 +130,21 @@ class _Reader:
             return str(path)
 
     def parse(self, text: str, path: Path) -> Tree:
-        return parse_deck_text(_parser(), text, Path(self.shown(path)))
+        tree = parse_deck_text(_parser(), text, Path(self.shown(path)))
+        deep = _too_deep(tree)
+        if deep is not None:
+            sub, levels = deep
+            path = path.resolve()
+            self.lines.setdefault(path, text.splitlines())
+            self.stack.append(path)
+            try:
+                where = self.loc(sub)
+            finally:
+                self.stack.pop()
+            raise DeckError(f"this is nested {levels} levels deep, above the limit of {MAX_NESTING} (each term of a "
+                            "sum or product, each sign and each enclosing loop is one level)", where,
+                            "split it with let parameters, e.g. let a = ... and let b = ..., then a + b")
+        return tree
 
     # ---------- expressions
     def evaluate(self, t) -> Quantity:
@@ -140,6 +160,10 @@ class _Reader:
                 return self.quantity(ch[0])
             if d == "var":
                 name = str(ch[0])
+                if name not in self.vars and name in U.UNITS:
+                    raise DeckError(f"'{name}' is not defined; if the unit {name} is meant, write the whole unit "
+                                    f"directly after its number, with no spaces inside it", self.loc(ch[0]),
+                                    "units are written joined: 9.81 m/s^2, 7850 kg/m^3, 25 kN*m")
                 if name not in self.vars:
                     raise DeckError(f"'{name}' is not defined; {suggest(name, self.vars)}", self.loc(ch[0]))
                 return self.vars[name]
@@ -153,6 +177,8 @@ class _Reader:
                 return self.call(fname, args, ch[0])
             ops = {"add": "__add__", "sub": "__sub__", "mul": "__mul__", "div": "__truediv__",
                    "pow": "__pow__"}
+            if d == "pow" and isinstance(ch[0], Tree) and ch[0].data == "quantity":
+                self.spaced_power(ch[0].children[0])
             if d in ops:
                 a, b = self.evaluate(ch[0]), self.evaluate(ch[1])
                 q = _binary(a, b, ops[d])
@@ -172,6 +198,16 @@ class _Reader:
         except ArithmeticError as exc:
             raise DeckError(str(exc), self.loc(t)) from None
         raise DeckError(f"expected a single value here, found {d}", self.loc(t))
+
+    def spaced_power(self, tok: Token) -> None:
+        """Refuse `9.81 m/s ^2` and `2 m ^2`: a space before '^' raises the whole quantity, number
+        included, to the power, which is never what is meant without brackets around it."""
+        line = self.loc(tok).source_line
+        rest = line[tok.end_column - 1:] if tok.end_line == tok.line else ""
+        if rest[:1] in (" ", "\t") and rest.lstrip(" \t").startswith("^"):
+            raise DeckError(f"'{tok} ^...' raises the number and its unit together to the power", self.loc(tok),
+                            ("" if "^" in str(tok) else f"for a power of the unit write it joined ({tok}^2); ")
+                            + f"for a power of the whole quantity put it in brackets: ({tok})^2")
 
     def quantity(self, tok: Token) -> Quantity:
         text = str(tok)
@@ -212,10 +248,19 @@ class _Reader:
         for a in args:
             if a.dim not in (U.NONE, WILD):
                 raise DeckError(f"{fname}() takes a plain number or an angle, got {U.dim_name(a.dim)}", self.loc(tok))
+        if fname == "log" and len(args) == 1 and args[0].value <= 0:
+            raise DeckError(f"log() needs a positive number, got {_g(args[0].value)}", self.loc(tok))
         try:
-            return Quantity(_FUNCS[fname](*[a.value for a in args]))
-        except (ValueError, TypeError, OverflowError) as exc:
+            out = _FUNCS[fname](*[a.value for a in args])
+        except OverflowError:
+            raise DeckError(f"{fname}() of this value is too large to compute (numbers reach about "
+                            f"{_FLOAT_MAX:.1e})", self.loc(tok)) from None
+        except (ValueError, TypeError) as exc:
             raise DeckError(f"{fname}(): {exc}", self.loc(tok)) from None
+        if out == 0 and fname == "exp":   # the only one of them that is never 0 but can round to it
+            raise DeckError(f"exp({_g(args[0].value)}) is too small to hold (it would become 0)", self.loc(tok),
+                            "write 0 if zero is meant")
+        return Quantity(out)
 
     def value(self, t, dim, what: str) -> float:
         """Evaluate t and check it has dimension `dim`; return the SI float."""
@@ -324,8 +369,26 @@ class _Reader:
                                      f"not a {what}, which this statement leaves out")
             return out
         if n not in table:
+            self.other_kind(n, what, t)
             raise DeckError(f"{what} '{n}' is not defined; {suggest(n, list(table) + list(self.groups))}", self.loc(t))
         return [n]
+
+    def other_kind(self, n: str, what: str, t) -> None:
+        """Refuse a name of another kind (a node where a member is wanted) by what it is."""
+        kinds = ("node", "member", "material", "section", "result", "let")
+        kind = next((self.defined[(k, n)][0] for k in kinds if (k, n) in self.defined), None)
+        if kind is None or kind in what.split(" or "):
+            return
+        acts = {"member": "a line load acts on members", "node": "this statement acts on nodes"}.get(
+            what, f"this statement takes a {what}")
+        hint = ""
+        if kind == "member" and n in self.members:
+            m = self.members[n]
+            hint = f"member {n} runs from node {m['i'][0]} to node {m['j'][0]}"
+        elif kind == "node" and what == "member":
+            hint = f"for a load at the node write force {n} = (fx, fy, fz)"
+        article = "an" if kind[0] in "aeiou" else "a"
+        raise DeckError(f"'{n}' is {article} {kind}, not a {what}; {acts}", self.loc(t), hint)
 
     # ---------- statements
     def statement(self, s: Tree) -> None:
@@ -1661,6 +1724,22 @@ def _up_vector(up: np.ndarray, x: np.ndarray, m: dict) -> np.ndarray:
                         "the member axis, so it cannot set the local axes", m["loc"],
                         "give a vector across the member (e.g. up = (1, 0, 0) for a vertical member), or leave it out")
     return u
+
+
+def _too_deep(tree: Tree):
+    """(the outermost expression or loop nested deeper than MAX_NESTING levels, its depth), or None."""
+    height = {}
+    for sub in tree.iter_subtrees():          # children before their parents, without recursion
+        height[id(sub)] = 1 + max((height[id(c)] for c in sub.children if isinstance(c, Tree)), default=0)
+    sub = tree
+    while height[id(sub)] > MAX_NESTING:
+        if sub.data in _EXPRESSIONS:
+            return sub, height[id(sub)]
+        deeper = [c for c in sub.children if isinstance(c, Tree) and height[id(c)] > MAX_NESTING]
+        if not deeper:
+            return (sub, height[id(sub)]) if sub.data == "loop" else None
+        sub = deeper[0]
+    return None
 
 
 def _binary(a: Quantity, b: Quantity, op: str) -> Quantity:
