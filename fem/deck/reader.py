@@ -9,7 +9,9 @@ from __future__ import annotations
 import difflib
 import fnmatch
 import math
+import os
 import re
+import stat
 from functools import lru_cache
 from importlib import resources
 from pathlib import Path
@@ -36,6 +38,14 @@ COINCIDENT = 1e-6
 # A million kilometres: beyond any structure, and it keeps products of coordinates (lengths
 # cubed in the stiffness) well inside the floating-point range.
 MAX_COORDINATE = 1e9
+# Our choice, from a measurement: a generated deck of node lines parsed at about 10-15 s and
+# 170 MB of memory per MB of deck (2-core machine shared with other jobs, load 4-9), so 8 MB,
+# the deck and its includes together, reads in minutes within about 1.5 GB; a deck of a hundred
+# thousand members written out line by line fits, and loops keep larger models short.
+MAX_DECK_BYTES = 8_000_000
+# Our choice: a table (two numbers a row, ~25 bytes) of 32 MB holds over a million rows, e.g.
+# 20 minutes of a record sampled at 1 kHz; read row by row at ~6 bytes of memory per byte.
+MAX_TABLE_BYTES = 32_000_000
 # Our choice: expressions and loops are read by walking their tree, one Python call per level;
 # 200 levels keep that far inside the interpreter's recursion limit (1000 frames) whatever
 # calls the reader, and no deck written by hand nests so deep.
@@ -86,16 +96,22 @@ class _Reader:
         self.lines: dict[Path, list[str]] = {}
         self.token_file: dict[int, Path] = {}
         self.quantities: dict[str, Quantity] = {}      # literal text -> value, e.g. "6 m"
+        self.deck_bytes = 0                            # bytes of deck text read so far (all files)
 
     # ---------- files and locations
     def read_file(self, path: Path, where: Location | None = None) -> None:
-        path = path.resolve()
+        path = _resolved(path, "include" if where else "deck", where)
         if path in self.stack:
             raise DeckError(f"'{self.shown(path)}' includes itself (through {' -> '.join(self.shown(p) for p in self.stack)})", where)
-        if self.top_dir not in path.parents and path.parent != self.top_dir:
+        if path == self.top_dir:
+            raise DeckError(f"include names the deck's own folder {self.top_dir}, not a file", where,
+                            "give the name of a deck file in it")
+        if self.top_dir not in path.parents:
             raise DeckError(f"include '{path}' is outside the deck's folder {self.top_dir}", where,
                             "keep included decks in the same folder as the top deck or below it")
-        text = _read_utf8(path, "deck", where, self.shown(path))
+        text = _read_utf8(path, "deck", where, self.shown(path), MAX_DECK_BYTES - self.deck_bytes,
+                          total=self.deck_bytes)
+        self.deck_bytes += len(text.encode("utf-8", errors="surrogatepass"))
         self.lines[path] = text.splitlines()
         self.stack.append(path)
         try:
@@ -485,6 +501,7 @@ class _Reader:
 
     def st_include(self, s):
         rel = str(s.children[0])[1:-1]
+        _file_name(rel, "include", self.loc(s.children[0]))
         self.read_file(self.stack[-1].parent / rel, self.loc(s.children[0]))
 
     def st_settings(self, s):
@@ -1406,10 +1423,11 @@ class _Reader:
 
     def read_table(self, rel: str, where, deck_file: Path) -> np.ndarray:
         """Two-column CSV (time s, factor), relative to the deck file and inside its folder tree."""
-        path = (deck_file.parent / rel).resolve()
+        _file_name(rel, "table", where)
+        path = _resolved(deck_file.parent / rel, "table", where)
         if self.top_dir not in path.parents:
             raise DeckError(f"table '{rel}' is outside the deck's folder {self.top_dir}", where)
-        lines = _read_utf8(path, "table", where, self.shown(path)).splitlines()
+        lines = _read_utf8(path, "table", where, self.shown(path), MAX_TABLE_BYTES).splitlines()
         rows, at = [], []
         fix = (f"table named at {where}; two numbers a row, separated by a comma, semicolon, tab or spaces, "
                "decimals with a point")
@@ -1639,19 +1657,57 @@ def _literal(text: str, where: Location) -> float:
     return v
 
 
-def _read_utf8(path: Path, what: str, where: Location | None, shown: str | None = None) -> str:
+def _file_name(name: str, what: str, where: Location | None) -> None:
+    """Refuse a file name that no file can have (empty, a NUL character, a part too long)."""
+    if not name:
+        raise DeckError(f"{what}: the file name is empty", where, 'write the name between the quotes: "legs.deck"'
+                        if what == "include" else 'write the name between the quotes: "record.csv"')
+    if "\0" in name:
+        raise DeckError(f"{what}: the file name holds a NUL character, which no file name can", where)
+    longest = max(len(part.encode("utf-8", errors="surrogatepass")) for part in name.split("/"))
+    if longest > 255 or len(name.encode("utf-8", errors="surrogatepass")) > 4095:
+        raise DeckError(f"{what}: the file name is longer than a file system allows ({longest} bytes in one part; "
+                        "the limit is 255, and 4095 for the whole path)", where)
+
+
+def _resolved(path: Path, what: str, where: Location | None) -> Path:
+    """path.resolve(), with a name no file can have or a loop of links a DeckError."""
+    _file_name(str(path), what, where)
+    try:
+        return path.resolve()
+    except (OSError, RuntimeError, ValueError) as exc:
+        reason = "its symbolic links form a loop" if isinstance(exc, RuntimeError) else \
+            getattr(exc, "strerror", None) or str(exc)
+        raise DeckError(f"{what} '{path}' cannot be followed: {reason}", where) from None
+
+
+def _read_utf8(path: Path, what: str, where: Location | None, shown: str | None = None,
+               limit: int = MAX_DECK_BYTES, total: int = 0) -> str:
     """The text of a deck or table file, which must be UTF-8 (a UTF-8 byte-order mark is
-    allowed). A folder, an unreadable file or other bytes are a DeckError that says which byte
-    on which line is wrong; `where` is the statement that named the file (None for the top deck)."""
+    allowed). A folder, anything but a regular file (a pipe or device, which could block or never
+    end), a file above `limit` bytes (checked before reading), an unreadable file or other bytes
+    are a DeckError that says what is wrong; `where` is the statement that named the file (None
+    for the top deck); `total` is the deck text already read from other files."""
     site = f" ({'included' if what == 'deck' else 'named'} at {where})" if where else ""
-    if path.is_dir():
+    try:
+        info = os.stat(path)
+    except OSError as exc:
+        raise DeckError(f"cannot read {what} '{path}': {exc.strerror}", where) from None
+    if stat.S_ISDIR(info.st_mode):
         inside = sorted(p.name for p in path.glob("*.deck"))[:5]
         hint = f"decks in it: {', '.join(inside)}" if inside else "give the path of a file"
         raise DeckError(f"{what} '{path}' is a folder, not a file", where, hint)
+    _regular(info, path, what, where)
+    _small_enough(info.st_size, path, what, where, limit, total)
     try:
-        data = path.read_bytes()
+        # non-blocking, so that a pipe put in the file's place after the check cannot hang the open
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+        with os.fdopen(fd, "rb") as f:
+            _regular(os.fstat(f.fileno()), path, what, where)
+            data = f.read(limit + 1)
     except OSError as exc:
         raise DeckError(f"cannot read {what} '{path}': {exc.strerror}", where) from None
+    _small_enough(len(data), path, what, where, limit, total)
     fix = "save it as UTF-8 (in most editors: Save As, encoding UTF-8)"
     if data.startswith((b"\xff\xfe", b"\xfe\xff")) or (b"\x00" in data[:200] and data.count(b"\x00") * 4 > len(data)):
         raise DeckError(f"{what} '{path.name}' is UTF-16 (or UTF-32) text; a {what} file must be UTF-8", where, fix)
@@ -1671,6 +1727,32 @@ def _read_utf8(path: Path, what: str, where: Location | None, shown: str | None 
         src = raw.decode("utf-8", errors="replace").rstrip("\r")
         raise DeckError(f"byte 0x{bad:02x}{like} is not UTF-8 text{site}; a {what} file must be UTF-8",
                         Location(shown or path.name, line, column, src), fix) from None
+
+
+def _regular(info: os.stat_result, path: Path, what: str, where: Location | None) -> None:
+    if not stat.S_ISREG(info.st_mode):
+        kind = ("a named pipe" if stat.S_ISFIFO(info.st_mode) else "a device" if stat.S_ISCHR(info.st_mode)
+                or stat.S_ISBLK(info.st_mode) else "a socket" if stat.S_ISSOCK(info.st_mode) else "not a file")
+        raise DeckError(f"{what} '{path}' is {kind}, not a regular file", where,
+                        f"a {what} is read from an ordinary file saved on disk")
+
+
+def _small_enough(size: int, path: Path, what: str, where: Location | None, limit: int, total: int) -> None:
+    if size <= limit:
+        return
+    cap = MAX_DECK_BYTES if what == "deck" else MAX_TABLE_BYTES
+    if what == "deck":
+        whole = f"the deck and its includes would be over {_mb(total + size)}" if total else \
+            f"the deck '{path.name}' is {_mb(size)}"
+        raise DeckError(f"{whole}, above the limit of {_mb(cap)} of deck text (reading takes about 170 MB of "
+                        "memory per MB)", where, "write repeated nodes and members with for loops, which keeps "
+                        "a deck of any model size short")
+    raise DeckError(f"table '{path.name}' is {_mb(size)}, above the limit of {_mb(cap)} for a table", where,
+                    "thin the record to the time step the case uses, or cut it to the part of interest")
+
+
+def _mb(n: int) -> str:
+    return f"{n / 1e6:.3g} MB" if n < 1e12 else f"{n:.3g} bytes"
 
 
 def _rotation_stiffness(coords, conn, truss, releases, roll, up) -> np.ndarray:
@@ -1809,7 +1891,12 @@ def _combo_factors(r: _Reader, t, cases: set[str]) -> dict[str, float]:
 def read_deck(path) -> Model:
     """Read and validate the deck at `path` (and its includes) into a Model."""
     path = Path(path)
-    if not path.exists():
+    _file_name(str(path), "deck", None)
+    try:
+        there = path.exists()
+    except OSError as exc:
+        raise DeckError(f"deck '{path}' cannot be read: {exc.strerror}") from None
+    if not there:
         raise DeckError(f"deck '{path}' does not exist")
     r = _Reader(path)
     r.read_file(path)
