@@ -13,6 +13,7 @@ import random
 import re
 import sys
 import traceback
+import warnings
 from pathlib import Path
 
 from fem.deck.reader import read_text
@@ -81,9 +82,12 @@ def mutate(text: str, rng: random.Random) -> str:
 
 
 def check(text: str, folder: Path) -> str | None:
-    """None if the outcome is acceptable, else a description of the failure."""
+    """None if the outcome is acceptable, else a description of the failure (a warning of a
+    library, which would reach the user as its own text, counts as one)."""
     try:
-        read_text(text, name="fuzz.deck", folder=folder)
+        with warnings.catch_warnings():
+            warnings.simplefilter("error")
+            read_text(text, name="fuzz.deck", folder=folder)
     except DeckError as exc:
         if exc.location is None:
             return None if "table" in str(exc) or "include" in str(exc) else f"no location: {exc}"

@@ -1479,7 +1479,7 @@ class _Reader:
                 big = z[z >= 1]
                 raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where,
                                 f"{_g(big[0])} is {_g(100 * big[0])} %; for {_g(big[0])} % write {_g(big[0])} percent"
-                                if len(big) else "")
+                                if len(big) and big[0] < 1e300 else "")
             out["damping"] = z
         elif key == "rayleigh":
             form = "(f1, ratio1, f2, ratio2), e.g. (1 Hz, 2 percent, 10 Hz, 2 percent), or the coefficients " \
