@@ -313,3 +313,15 @@ def test_typed_expressions_give_a_value_or_a_located_error():
     for _ in range(300):
         text = f"let x = 2\nlet y = {fuzz_deck.expression(rng)}\n"
         assert fuzz_deck.check(text, Path(".")) is None, text[:200]
+
+
+def test_huge_damping_ratio_is_refused_without_a_library_warning():
+    # found by tools/fuzz_deck.py: the hint computed 100 times the ratio and overflowed
+    import warnings
+    case = ("case H history { force B = (1 kN, 0, 0), time = halfsine(0.3 s), duration = 1 s, step = 0.01 s, "
+            "damping = 1e308 }\ncase M modes { count = 1 }\n")
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        with pytest.raises(DeckError, match=r"ratios lie from 0 to below 1") as err:
+            read_text(BASE + case)
+    assert err.value.hint == ""
