@@ -325,3 +325,9 @@ def test_huge_damping_ratio_is_refused_without_a_library_warning():
         with pytest.raises(DeckError, match=r"ratios lie from 0 to below 1") as err:
             read_text(BASE + case)
     assert err.value.hint == ""
+
+
+def test_other_spelling_in_a_let_suggests_the_value_with_the_symbol():
+    with pytest.raises(DeckError, match=r"unknown unit 'metres'; did you mean 'm'\?") as err:
+        read_text("node A = (0, 0, 3 metres)\n")
+    assert err.value.hint.startswith("write 3 m; the units are")

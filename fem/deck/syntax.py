@@ -220,6 +220,9 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
     if tok.type == "NAME" and re.search(r"\d[ \t]*$", text[:pos]):
         near = U.unit_suggestion(str(tok)) or _nearest(str(tok), U.UNITS)
         number = re.search(r"[\d.eE+-]*\d[ \t]*$", text[:pos]).group(0).strip()
+        if U.unit_suggestion(str(tok)):
+            return DeckError(f"unknown unit '{tok}'; did you mean '{near}'?", here,
+                             f"write {number} {near}; the units are {' '.join(U.UNITS)}")
         return DeckError(f"unknown unit '{tok}'" + (f"; did you mean '{near}'?" if near else ""), here,
                          f"the units are {' '.join(U.UNITS)}; to multiply by a parameter or a case, "
                          f"write {number}*{tok}")
