@@ -44,7 +44,8 @@ def expression(rng: random.Random) -> str:
         n = rng.randint(50, 2000)
         return rng.choice(["(" * n + "1" + ")" * n, "-" * n + "1", "+" * n + "1 m"])
     if kind == 6:                                # a function of the wrong kind of value
-        return f"{rng.choice(['sin', 'cos', 'exp', 'log', 'sqrt', 'atan', 'abs'])}({rng.choice(['2 m', '-1', '0', '1e308', '30 deg'])})"
+        fname = rng.choice(["sin", "cos", "exp", "log", "sqrt", "atan", "abs"])
+        return f"{fname}({rng.choice(['2 m', '-1', '0', '1e308', '30 deg'])})"
     return f"x{rng.choice(['+', '*', '/', '^'])}{rng.choice(['0', '-0.5', '1e308', '1e-308', 'pi'])}"
 
 
