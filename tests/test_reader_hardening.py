@@ -184,7 +184,8 @@ def test_values_are_never_turned_into_zero_or_inf(expr, message):
 
 
 def test_exp_of_a_small_negative_number_is_read():
-    # exp(-700) = 9.86e-305 (scipy/numpy agree; the float range reaches about 2.2e-308 normalised)
+    # exp(-700) is about 9.86e-305, a normal float (above 2.2e-308), so it is kept: the reference is
+    # Python's math.exp (the C library's), to a few roundings of the product
     import math
     assert _z("node C = (0, 0, exp(-700)*1e300 m)\n") == pytest.approx(math.exp(-700) * 1e300, rel=1e-14)
 
