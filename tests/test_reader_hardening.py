@@ -332,3 +332,10 @@ def test_other_spelling_in_a_let_suggests_the_value_with_the_symbol():
     with pytest.raises(DeckError, match=r"unknown unit 'metres'; did you mean 'm'\?") as err:
         read_text("node A = (0, 0, 3 metres)\n")
     assert err.value.hint.startswith("write 3 m; the units are")
+
+
+@pytest.mark.parametrize("expr", ["abs(1, 2)", "sqrt(4, 9)", "atan(1, 2)"])
+def test_function_of_two_values_is_refused(expr):
+    # abs(1, 2) used to give 1, silently dropping the second value
+    with pytest.raises(DeckError, match=r"\(\) takes one value, 2 were given"):
+        read_text(f"let x = {expr}\n")

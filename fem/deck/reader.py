@@ -252,6 +252,8 @@ class _Reader:
     def call(self, fname, args, tok) -> Quantity:
         if fname not in _FUNCS:
             raise DeckError(f"unknown function '{fname}'; {suggest(fname, _FUNCS)}", self.loc(tok))
+        if len(args) != 1:                 # every function here takes one value
+            raise DeckError(f"{fname}() takes one value, {len(args)} were given", self.loc(tok))
         if fname == "sqrt" and len(args) == 1:
             a = args[0]
             dim = a.dim if a.dim is not WILD else U.NONE
