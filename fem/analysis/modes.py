@@ -16,8 +16,10 @@ __all__ = ["DENSE_LIMIT", "ModalResult", "Participation", "massless_dofs", "part
 DENSE_LIMIT = 600   # free DOFs up to which a dense eigh is cheaper and exact
 DEFLATION_ROUNDS = 12  # re-runs for modes the Sturm count shows missed (one or more each)
 LANCZOS_TOL = 1e-12  # ARPACK's relative Ritz tolerance: eigenvalues to ~1e-12, fewer steps than 0 (eps)
-ZERO_ROUNDING = 100  # a mode of a singular K is a zero mode below this many eps of its own stiffness
-                     # scale (rigid-body modes measured at <= 4 eps; our choice, with margin)
+ZERO_ROUNDING = 10   # a mode of a K not shown positive definite is a zero mode within this many eps of
+                     # its own stiffness scale: rigid-body modes measured at <= 2 (free beams, free masts,
+                     # with and without 0.2 mm links), the first mode of a mast with a 0.1 mm link (its
+                     # factor refused) at 17; our choice
 
 
 @dataclass
@@ -132,72 +134,68 @@ def _dense(K, M):
     shift of the inverted pencil (0 when K is positive definite; None if only the direct pencil
     could be solved) and whether K is positive definite (then no mode is a zero mode).
 
-    Where M is singular (massless DOFs, or massless directions that are not single DOFs, such
-    as the axial rotation of an inclined member with lumped or translational-only mass) the
-    pencil is split along the eigenvectors of M: x = R y + N z with M N = 0. The massless
-    coordinates z carry no inertia, so Kn z + Knr y = 0 at every frequency and they are
-    condensed out exactly; the rest is a definite problem (Kc, R^T M R)."""
+    The direct reduction eigh(K, M) gives every eigenvalue to about eps times the largest
+    (Golub and Van Loan, Matrix Computations, 4th ed., sec. 8.7.2), so where the highest is
+    1e15 times the lowest (a short stiff member) the lowest come out as zero or noise. The
+    inverted pencil eigh(M, K - sigma M), mu = 1 / (lambda - sigma), gives the lowest to about
+    eps relative to themselves and loses the highest. Each is used where it is the more
+    accurate, below and above the point where their error bounds eps mu_max (lambda - sigma)^2
+    and eps lambda_max meet; the upper vectors are made M-orthogonal to the lower ones and the
+    pencil is solved again in their span (Rayleigh-Ritz), so that the set stays M-orthonormal.
+    sigma = 0 when K has a Cholesky factor (a supported structure); else a small negative shift,
+    so that rigid-body modes are found at zero. The inverted pencil needs no special care for
+    massless DOFs (they have mu = 0, an infinite eigenvalue).
+
+    For the direct pencil, where M is singular (massless DOFs, or massless directions that are
+    not single DOFs, such as the axial rotation of an inclined member with lumped or
+    translational-only mass) the pencil is split along the eigenvectors of M: x = R y + N z with
+    M N = 0. The massless coordinates z carry no inertia, so Kn z + Knr y = 0 at every frequency
+    and they are condensed out exactly; the rest is a definite problem (Kc, R^T M R)."""
     Kd = K.toarray() if sp.issparse(K) else np.asarray(K, dtype=float)
     Md = M.toarray() if sp.issparse(M) else np.asarray(M, dtype=float)
     mu, V = sla.eigh(Md)
     null = mu <= 1e-13 * max(float(mu.max(initial=0.0)), 1e-300)   # far below any mass, above round-off
     if not null.any():
-        lam, phi, sigma, definite = _two_sided(Kd, Md)
-        return lam, phi, len(Md), sigma, definite
-    R, N = V[:, ~null], V[:, null]
-    KR, KN = Kd @ R, Kd @ N
-    try:
-        T = -sla.solve(N.T @ KN, N.T @ KR, assume_a="sym")          # z = T y
-    except (sla.LinAlgError, ValueError):
-        raise ModelError("massless parts move without stiffness: give the members there a density "
-                         "or a point mass, or restrain the free directions") from None
-    Kc = R.T @ KR + (R.T @ KN) @ T
-    lam, y, sigma, definite = _two_sided((Kc + Kc.T) / 2, np.diag(mu[~null]))
-    return lam, R @ y + N @ (T @ y), int((~null).sum()), sigma, definite
-
-
-def _two_sided(A, B):
-    """All eigenpairs of the pencil (A, B), A symmetric positive semi-definite, B positive
-    definite: eigenvalues ascending, vectors B-normalised, the shift sigma of the inverted pencil
-    (None when only the direct one could be solved) and whether A is positive definite.
-
-    The direct reduction eigh(A, B) gives every eigenvalue to about eps times the largest
-    (Golub and Van Loan, Matrix Computations, 4th ed., sec. 8.7.2), so where the highest is
-    1e15 times the lowest (a short stiff member) the lowest come out as zero or noise. The
-    inverted pencil eigh(B, A - sigma B), mu = 1 / (lambda - sigma), gives the lowest to about
-    eps relative to themselves and loses the highest. Each is used where it is the more
-    accurate, below and above the geometric mean of the two error bounds
-    eps mu_max (lambda - sigma)^2 = eps lambda_max; the upper vectors are made B-orthogonal to the
-    lower ones and the pencil is solved again in their span (Rayleigh-Ritz), so that the set
-    stays B-orthonormal. sigma = 0 when A has a Cholesky factor (a supported structure); else a
-    small negative shift, so rigid-body modes are found at zero."""
-    lam_d, phi_d = sla.eigh(A, B)
-    d = np.diag(A) / np.diag(B)
+        lam_d, phi_d = sla.eigh(Kd, Md)
+    else:
+        R, N = V[:, ~null], V[:, null]
+        KR, KN = Kd @ R, Kd @ N
+        try:
+            T = -sla.solve(N.T @ KN, N.T @ KR, assume_a="sym")          # z = T y
+        except (sla.LinAlgError, ValueError):
+            raise ModelError("massless parts move without stiffness: give the members there a density "
+                             "or a point mass, or restrain the free directions") from None
+        Kc = R.T @ KR + (R.T @ KN) @ T
+        lam_d, y = sla.eigh((Kc + Kc.T) / 2, np.diag(mu[~null]))
+        phi_d = R @ y + N @ (T @ y)
+    n_fin = len(lam_d)
+    d = np.diag(Kd) / np.where(np.diag(Md) > 0, np.diag(Md), np.inf)
     sigma = 0.0
     for _ in range(2):
         try:
-            mu, y = sla.eigh(B, A - sigma * B)
+            nu, y = sla.eigh(Md, Kd - sigma * Md)
             break
-        except sla.LinAlgError:       # A singular: rigid-body modes or massless mechanisms
+        except sla.LinAlgError:       # K singular: rigid-body modes or mechanisms
             sigma = -1e-6 * float(np.median(d[d > 0])) if (d > 0).any() else -1.0
     else:
-        return lam_d, phi_d, None, False
-    mu, y = mu[::-1], y[:, ::-1]
-    top = max(abs(float(lam_d[-1])), 1e-300)
-    low = (mu > 0) & ((1.0 / np.where(mu > 0, mu, 1.0)) ** 2 <= top / mu[0])
-    s = int(np.argmin(low)) if not low.all() else len(mu)
-    lam_lo = sigma + 1.0 / mu[:s]
-    phi_lo = y[:, :s] / np.sqrt(np.einsum("ij,ij->j", y[:, :s], B @ y[:, :s]))
-    if s == len(mu):
-        return lam_lo, phi_lo, sigma, sigma == 0.0
+        return lam_d, phi_d, n_fin, None, False
+    nu, y = nu[::-1], y[:, ::-1]
+    top = max(abs(float(lam_d[-1])), 1e-300) if n_fin else 1e-300
+    ok = (nu > 0) & ((1.0 / np.where(nu > 0, nu, 1.0)) ** 2 <= top / max(nu[0], 1e-300))
+    ok[n_fin:] = False
+    s = int(np.argmin(ok)) if not ok.all() else len(nu)
+    lam_lo = sigma + 1.0 / nu[:s]
+    phi_lo = y[:, :s] / np.sqrt(np.einsum("ij,ij->j", y[:, :s], Md @ y[:, :s]))
+    if s == n_fin:
+        return lam_lo, phi_lo, n_fin, sigma, sigma == 0.0
     Q = phi_d[:, s:]
     for _ in range(2):                # twice is enough (Golub and Van Loan, sec. 5.2.8)
-        Q = Q - phi_lo @ (phi_lo.T @ (B @ Q))
-    BQ, AQ = Q.T @ B @ Q, Q.T @ A @ Q
+        Q = Q - phi_lo @ (phi_lo.T @ (Md @ Q))
+    AQ, BQ = Q.T @ Kd @ Q, Q.T @ Md @ Q
     lam_hi, z = sla.eigh((AQ + AQ.T) / 2, (BQ + BQ.T) / 2)
     lam, phi = np.r_[lam_lo, lam_hi], np.c_[phi_lo, Q @ z]
     order = np.argsort(lam, kind="stable")
-    return lam[order], phi[:, order], sigma, sigma == 0.0
+    return lam[order], phi[:, order], n_fin, sigma, sigma == 0.0
 
 
 def _kept(lam, want, lam_max) -> int:
