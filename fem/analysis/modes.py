@@ -25,9 +25,10 @@ ZERO_ROUNDING = 10   # a mode of a K not shown positive definite is a zero mode 
 @dataclass
 class ModalResult:
     """omega (k,) rad/s ascending; freq (k,) Hz; period (k,) s (inf for rigid-body modes);
-    phi (n, k) mass-normalised; residual (k,) backward error
-    ||K phi - w^2 M phi|| / ((||K|| + w^2 ||M||) ||phi||); orth_mass max |phi^T M phi - I|;
-    orth_stiff max off-diagonal |phi^T K phi| / max(w^2); sturm_count eigenvalues below
+    phi (n, k) mass-normalised; residual (k,) backward error in each mode's own scale
+    ||K phi - w^2 M phi|| / (|| |K| |phi| || + w^2 || |M| |phi| ||); orth_mass max |phi^T M phi - I|;
+    orth_stiff the largest off-diagonal |phi_i^T K phi_j| beyond its rounding bound, over
+    sqrt(w_i^2 w_j^2) (see `_checks`); sturm_count eigenvalues below
     the check shift sturm_shift (None if not computed) and sturm_expected the computed ones
     below it (the modes found plus any repeated partners of the last one); solver 'dense' or
     'shift-invert, <factorisation>'."""
