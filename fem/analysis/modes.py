@@ -78,7 +78,7 @@ def _checks(K, M, lam, phi):
     and 7.2), so a short stiff member elsewhere in the model does not hide a wrong low mode.
 
     orth_stiff: for each pair i != j, the part of |phi_i^T K phi_j| beyond the rounding bound of
-    its own computation, gamma |phi_i|^T |K| |phi_j| (Higham, eq. 3.5: a dot product of length m
+    its own computation, gamma |phi_i|^T |K| |phi_j| (Higham, sec. 3.1: a dot product of length m
     is exact to gamma_m = m u / (1 - m u) times |x|^T |y|, taken for the row lengths of K plus the
     final sum), over sqrt(w_i^2 w_j^2), the pair's own stiffness (the larger one where a mode is a
     rigid-body mode); the largest over the pairs. 0 when every coupling is explained by rounding.
@@ -136,7 +136,7 @@ def _dense(K, M):
     could be solved) and whether K is positive definite (then no mode is a zero mode).
 
     The direct reduction eigh(K, M) gives every eigenvalue to about eps times the largest
-    (Golub and Van Loan, Matrix Computations, 4th ed., sec. 8.7.2), so where the highest is
+    (Golub and Van Loan, Matrix Computations, 4th ed., sec. 8.7), so where the highest is
     1e15 times the lowest (a short stiff member) the lowest come out as zero or noise. The
     inverted pencil eigh(M, K - sigma M), mu = 1 / (lambda - sigma), gives the lowest to about
     eps relative to themselves and loses the highest. Each is used where it is the more
@@ -190,7 +190,7 @@ def _dense(K, M):
     if s == n_fin:
         return lam_lo, phi_lo, n_fin, sigma, sigma == 0.0
     Q = phi_d[:, s:]
-    for _ in range(2):                # twice is enough (Golub and Van Loan, sec. 5.2.8)
+    for _ in range(2):                # one repeat of the projection restores orthogonality (common practice)
         Q = Q - phi_lo @ (phi_lo.T @ (Md @ Q))
     AQ, BQ = Q.T @ Kd @ Q, Q.T @ Md @ Q
     lam_hi, z = sla.eigh((AQ + AQ.T) / 2, (BQ + BQ.T) / 2)
