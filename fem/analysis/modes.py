@@ -169,6 +169,8 @@ def _dense(K, M):
         Kc = R.T @ KR + (R.T @ KN) @ T
         lam_d, y = sla.eigh((Kc + Kc.T) / 2, np.diag(mu[~null]))
         phi_d = R @ y + N @ (T @ y)
+        del R, N, KR, KN, T, Kc, y
+    del V                             # the peak below is Kd, Md, phi_d and the inverted solve
     n_fin = len(lam_d)
     d = np.diag(Kd) / np.where(np.diag(Md) > 0, np.diag(Md), np.inf)
     sigma = 0.0
