@@ -181,6 +181,18 @@ def test_all_zero_modes_give_a_finite_orthogonality():
     r = solve_modes(K, M, n_modes=6)
     assert np.all(r.freq == 0.0)
     assert r.orth_stiff < ORTHO_TOL and r.orth_mass < ORTHO_TOL
+    # two of them given the same elastic component are coupled through it (1e-6 of its w^2):
+    # seen against the largest w^2 of a set that holds elastic modes, and finite in a set of
+    # zero modes only, where the rounding scale is the only one (the results file refuses
+    # non-finite numbers)
+    r12 = solve_modes(K, M, n_modes=12)
+    lam = r12.omega ** 2
+    phi = r12.phi.copy()
+    phi[:, :2] += 1e-3 * phi[:, [-1]]
+    _, _, orth_k = _checks(K, M, lam, phi)
+    assert orth_k > 0.5e-6 > 10 * ORTHO_TOL             # 1e-6 lam[-1] over lam[-1]
+    _, _, orth_k = _checks(K, M, np.zeros(6), phi[:, :6])
+    assert np.isfinite(orth_k) and orth_k > 0
 
 
 COLUMN = """

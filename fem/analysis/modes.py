@@ -81,8 +81,9 @@ def _checks(K, M, lam, phi):
     its own computation, gamma |phi_i|^T |K| |phi_j| (Higham, sec. 3.1: a dot product of length m
     is exact to gamma_m = m u / (1 - m u) times |x|^T |y|, taken for the row lengths of K plus the
     final sum), over sqrt(w_i^2 w_j^2), the pair's own stiffness (the larger one where a mode is a
-    rigid-body mode); the largest over the pairs. 0 when every coupling is explained by rounding.
-    A coupling that remains with two rigid-body modes is reported as inf."""
+    rigid-body mode; for two of them the largest w^2 of the set, or with none their rounding scale
+    |phi_i|^T |K| |phi_j|); the largest over the pairs. 0 when every coupling is explained by
+    rounding."""
     Kp, Mp = K @ phi, M @ phi
     aK = abs(K) if sp.issparse(K) else np.abs(K)
     aM = abs(M) if sp.issparse(M) else np.abs(M)
@@ -98,13 +99,15 @@ def _checks(K, M, lam, phi):
     row = int(np.diff(K.indptr).max()) if sp.issparse(K) and K.format in ("csr", "csc") else n
     u = np.finfo(float).eps / 2
     gamma = (row + n) * u / (1 - (row + n) * u)
-    excess = np.maximum(np.abs(kk) - gamma * (a.T @ (aK @ a)), 0.0)
+    bound = a.T @ (aK @ a)
+    excess = np.maximum(np.abs(kk) - gamma * bound, 0.0)
     np.fill_diagonal(excess, 0.0)
     w2 = np.maximum(lam, 0.0)
     scale = np.where((w2[:, None] > 0) & (w2[None, :] > 0), np.sqrt(np.outer(w2, w2)),
                      np.maximum(w2[:, None], w2[None, :]))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ratio = np.where(excess > 0, excess / np.where(scale > 0, scale, 0.0), 0.0)
+    # two rigid-body modes: against the largest w^2 of the set, or with none, their rounding scale
+    scale = np.where(scale > 0, scale, w2.max() if w2.max() > 0 else bound)
+    ratio = np.divide(excess, scale, out=np.zeros_like(excess), where=excess > 0)
     return res, orth_m, float(ratio.max())
 
 
