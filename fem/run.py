@@ -22,7 +22,8 @@ from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.plausible import static_check, zero_mode_check, zero_mode_lines
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
-from .analysis.static import StaticResult, condition_estimate, equilibrium, factorise, held_dofs, solve_static
+from .analysis.static import (StaticResult, condition_estimate, equilibrium, factorise, held_dofs, solve_static,
+                              stiffness_contrast)
 from .assembly import assemble
 from .deck.reader import read_deck
 from .errors import ModelError, ResultsError
@@ -92,7 +93,9 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
         if cond > COND_REFUSE:
             raise ModelError(f"the stiffness is too badly conditioned to solve in double precision (condition "
                              f"estimate {cond:.1e}, above {COND_REFUSE:.0e}): no digit of the results would be safe; "
-                             "check stiffness contrasts (springs, E, sections) and units")
+                             f"no node moves freely (not a mechanism), but member stiffnesses span about "
+                             f"{stiffness_contrast(model, asm):.0e}: "
+                             "check stiffness contrasts (springs, E, sections, very short members) and units")
         results = [solve_static(model, asm, c, lu()) for c in statics]
     by_name = {r.name: r for r in results}
     for combo in model.combinations:
