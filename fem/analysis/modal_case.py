@@ -64,6 +64,18 @@ def stiffness_condition(K, modes: ModalResult, cache: dict) -> float | None:
     return None
 
 
+def shape_rows(case: LoadCase, model: Model, count: int) -> None:
+    """Refuse a modes case whose mode-shape table (modes x nodes rows) would pass ROWS_LIMIT."""
+    from ..deck.reader import ROWS_LIMIT
+
+    rows = count * model.n_nodes
+    if rows > ROWS_LIMIT:
+        most = ROWS_LIMIT // max(model.n_nodes, 1)
+        raise ModelError(f"case {case.name}: {count} modes x {model.n_nodes} nodes would write {rows:,} rows of "
+                         f"mode shapes, above the limit of {ROWS_LIMIT:,}; ask for at most {most} modes "
+                         "(count, or a lower fmax)")
+
+
 def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseResult:
     """Solve a modes case (options count, fmax, reference already checked by the reader)."""
     count, fmax = case.options.get("count"), case.options.get("fmax")
@@ -75,6 +87,8 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
                          "vibrate; check the supports")
     if M.nnz == 0 or M.diagonal().max() <= 0:
         raise ModelError(f"case {case.name}: the model has no mass; give materials a density or add masses")
+    if count is not None:
+        shape_rows(case, model, min(count, len(f)))
     R = influence_vectors(model, point)[f]
     target = case.options.get("target")
     cache = {}
@@ -116,6 +130,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
         cond = stiffness_condition(K, modes, cache)
         if cond is not None:
             model.settings["_condition"] = cond
+    shape_rows(case, model, len(modes.omega))
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,
