@@ -64,14 +64,16 @@ def stiffness_condition(K, modes: ModalResult, cache: dict) -> float | None:
     return None
 
 
-def shape_rows(case: LoadCase, model: Model, count: int) -> None:
-    """Refuse a modes case whose mode-shape table (modes x nodes rows) would pass ROWS_LIMIT."""
+def shape_rows(case: LoadCase, model: Model, count: int, n_free: int, asked: str = "") -> None:
+    """Refuse a modes case whose mode-shape table (modes x nodes rows) would pass ROWS_LIMIT;
+    the advice is also within what the eigen solver accepts for n_free DOFs."""
     from ..deck.reader import ROWS_LIMIT
+    from .modes import DENSE_MAX, lanczos_limit
 
     rows = count * model.n_nodes
     if rows > ROWS_LIMIT:
-        most = ROWS_LIMIT // max(model.n_nodes, 1)
-        raise ModelError(f"case {case.name}: {count} modes x {model.n_nodes} nodes would write {rows:,} rows of "
+        most = min(ROWS_LIMIT // max(model.n_nodes, 1), n_free if n_free <= DENSE_MAX else lanczos_limit(n_free))
+        raise ModelError(f"case {case.name}: {asked}{count} modes x {model.n_nodes} nodes would write {rows:,} rows of "
                          f"mode shapes, above the limit of {ROWS_LIMIT:,}; ask for at most {most} modes "
                          "(count, or a lower fmax)")
 
@@ -88,7 +90,8 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
     if M.nnz == 0 or M.diagonal().max() <= 0:
         raise ModelError(f"case {case.name}: the model has no mass; give materials a density or add masses")
     if count is not None:
-        shape_rows(case, model, min(count, len(f)))
+        shape_rows(case, model, min(count, len(f)), len(f),
+                   f"count = {count} asks for all {len(f)} modes; " if count > len(f) else "")
     R = influence_vectors(model, point)[f]
     target = case.options.get("target")
     cache = {}
@@ -130,7 +133,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
         cond = stiffness_condition(K, modes, cache)
         if cond is not None:
             model.settings["_condition"] = cond
-    shape_rows(case, model, len(modes.omega))
+    shape_rows(case, model, len(modes.omega), len(f))
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,

@@ -19,11 +19,13 @@ LANCZOS_TOL = 1e-12  # ARPACK's relative Ritz tolerance: eigenvalues to ~1e-12, 
 # Size limits, our choice (measured on a loaded 2-core machine): a dense solve of n DOFs holds
 # about 8.5 n^2 doubles at its peak and took 18 s at n = 1600 (time ~ n^3: ~2 min at 3000);
 # shift-invert Lanczos took 45, 80 and 180 s for 100, 200 and 400 modes of 19 600 DOFs, its
-# basis of 2k + 1 vectors and their orthogonalisation (~ n k^2) growing with the count.
+# basis of 2k + 1 vectors and their orthogonalisation (~ n k^2) growing with the count, so 1000
+# modes of 20 000 DOFs take several times 3 min; 1500 modes of an 18 522-DOF grid had not
+# finished in 120 s.
 DENSE_MAX = 3000        # free DOFs above which finding (nearly) every mode densely is refused
 DENSE_COPIES = 9        # n x n double arrays held at the dense solve's peak (8.5 measured)
-LANCZOS_SHARE = 0.1     # above DENSE_MAX DOFs, at most this share of the finite modes by Lanczos
-LANCZOS_MAX = 2000      # and never more modes than this in one Lanczos run
+LANCZOS_SHARE = 0.05    # above DENSE_MAX DOFs, at most this share of the finite modes by Lanczos
+LANCZOS_MAX = 1000      # and never more modes than this in one Lanczos run
 
 
 @dataclass
@@ -216,7 +218,7 @@ def check_size(n: int, n_fin: int, count: int | None, dense: bool, f_max: float 
         return
     if count > limit:
         what = f"count = {count}" if f_max is None else f"fmax = {f_max:.4g} Hz takes in more than {count} modes, which"
-        most = f"{LANCZOS_MAX}" if n_fin <= DENSE_MAX else f"a tenth of the {n_fin} modes, and {LANCZOS_MAX}"
+        most = f"{LANCZOS_MAX}" if n_fin <= DENSE_MAX else f"{LANCZOS_SHARE:.0%} of the {n_fin} modes, and {LANCZOS_MAX}"
         raise ModelError(f"{what} is more modes than one Lanczos run finds in reasonable time (the limit is "
                          f"{limit}: at most {most}; the work grows with the square of the count); "
                          + (f"lower fmax or ask for at most {limit} modes (count = {limit})" if f_max else fix))
