@@ -304,9 +304,10 @@ case MODES modes { %s }
 @pytest.fixture
 def small_limits(monkeypatch):
     """The dense and Lanczos limits of a big model, scaled to the 120-DOF chain: dense eigen solves
-    above 50 DOFs are 'large', above 100 refused; Lanczos finds at most 6 modes (5 %)."""
+    above 50 DOFs are 'large', above 100 refused; Lanczos finds at most 6 modes (120 x 6^2 = 4320)."""
     monkeypatch.setattr(modes_mod, "DENSE_LIMIT", 50)
     monkeypatch.setattr(modes_mod, "DENSE_MAX", 100)
+    monkeypatch.setattr(modes_mod, "LANCZOS_WORK", 4320)
 
 
 def test_count_of_every_mode_on_a_large_model_is_refused(small_limits):
@@ -328,7 +329,7 @@ def test_dense_solve_refused_when_memory_is_short(monkeypatch):
 
 def test_lanczos_count_above_the_share_is_refused_and_the_share_runs(small_limits):
     with pytest.raises(ModelError, match=r"count = 7 is more modes than one Lanczos run finds in reasonable time "
-                                         r"\(the limit is 6: at most 5% of the 120 modes, and 1000"):
+                                         r"\(the limit is 6 for a model of 120 modes: the work grows"):
         solve_all(read_text(CHAIN % "count = 7"))
     _, modal = solve_all(read_text(CHAIN % "count = 6"))
     assert len(modal[0].modes.omega) == 6 and modal[0].modes.solver.startswith("shift-invert")
@@ -345,6 +346,18 @@ def test_lanczos_memory_refused(monkeypatch):
     monkeypatch.setattr(mem, "available_bytes", lambda: 2**10)
     with pytest.raises(ModelError, match=r"the Lanczos eigen solve of 5 modes on 120 free DOFs needs an estimated"):
         solve_all(read_text(CHAIN % "count = 5"))
+
+
+def test_target_max_above_the_lanczos_limit_is_refused(small_limits):
+    with pytest.raises(ModelError, match=r"case MODES: max = 40 modes is more than one eigen solve of 120 free DOFs "
+                                         r"finds in reasonable time \(the limit is 6\); set max = 6 or less"):
+        solve_all(read_text(CHAIN % "target = (90 percent, 90 percent, 0), max = 40"))
+
+
+def test_lanczos_limit_by_model_size():
+    assert modes_mod.lanczos_limit(120) == 1000 == modes_mod.LANCZOS_MAX
+    assert modes_mod.lanczos_limit(18522) == 734       # the 5000 modes asked of such a model are refused
+    assert modes_mod.lanczos_limit(200_000) == 223
 
 
 def test_mode_shape_rows_refused(monkeypatch):

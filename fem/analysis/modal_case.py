@@ -9,7 +9,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
-from .modes import DENSE_LIMIT, ModalResult, Participation, participation, solve_modes
+from .modes import DENSE_LIMIT, ModalResult, Participation, lanczos_limit, participation, solve_modes
 
 __all__ = ["ModesCaseResult", "effective_load", "field_responses", "ground_mass_warnings", "influence_vectors",
            "residual_static", "solve_modes_case"]
@@ -68,7 +68,7 @@ def shape_rows(case: LoadCase, model: Model, count: int, n_free: int, asked: str
     """Refuse a modes case whose mode-shape table (modes x nodes rows) would pass ROWS_LIMIT;
     the advice is also within what the eigen solver accepts for n_free DOFs."""
     from ..deck.reader import ROWS_LIMIT
-    from .modes import DENSE_MAX, lanczos_limit
+    from .modes import DENSE_MAX
 
     rows = count * model.n_nodes
     if rows > ROWS_LIMIT:
@@ -112,6 +112,10 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
     else:
         # add modes until the cumulative effective mass reaches the target in each direction
         cap = min(case.options.get("max", 300), len(f))
+        most = lanczos_limit(len(f))
+        if cap > most:
+            raise ModelError(f"case {case.name}: max = {cap} modes is more than one eigen solve of {len(f)} free "
+                             f"DOFs finds in reasonable time (the limit is {most}); set max = {most} or less")
         k = min(12, cap)
         K, M = K.tocsr(), M.tocsr()
         while True:

@@ -19,12 +19,12 @@ LANCZOS_TOL = 1e-12  # ARPACK's relative Ritz tolerance: eigenvalues to ~1e-12, 
 # Size limits, our choice (measured on a loaded 2-core machine): a dense solve of n DOFs holds
 # about 8.5 n^2 doubles at its peak and took 18 s at n = 1600 (time ~ n^3: ~2 min at 3000);
 # shift-invert Lanczos took 45, 80 and 180 s for 100, 200 and 400 modes of 19 600 DOFs, its
-# basis of 2k + 1 vectors and their orthogonalisation (~ n k^2) growing with the count, so 1000
-# modes of 20 000 DOFs take several times 3 min; 1500 modes of an 18 522-DOF grid had not
-# finished in 120 s.
+# basis of 2k + 1 vectors and their orthogonalisation (~ n k^2) growing with the count (1500
+# modes of an 18 522-DOF grid had not finished in 120 s). LANCZOS_WORK allows about three
+# times the work of the 400-mode run.
 DENSE_MAX = 3000        # free DOFs above which finding (nearly) every mode densely is refused
 DENSE_COPIES = 9        # n x n double arrays held at the dense solve's peak (8.5 measured)
-LANCZOS_SHARE = 0.05    # above DENSE_MAX DOFs, at most this share of the finite modes by Lanczos
+LANCZOS_WORK = 1e10     # finite modes x (modes asked)^2 above which a Lanczos run is refused
 LANCZOS_MAX = 1000      # and never more modes than this in one Lanczos run
 
 
@@ -192,8 +192,9 @@ def _lanczos(K, M, k, sigma, factor, found=None):
 
 
 def lanczos_limit(n_fin: int) -> int:
-    """The most modes one shift-invert Lanczos run is asked for on a model with n_fin finite modes."""
-    return LANCZOS_MAX if n_fin <= DENSE_MAX else min(LANCZOS_MAX, int(LANCZOS_SHARE * n_fin))
+    """The most modes one shift-invert Lanczos run is asked for on a model with n_fin finite
+    modes: LANCZOS_MAX, fewer on a large model (n_fin k^2 <= LANCZOS_WORK)."""
+    return max(1, min(LANCZOS_MAX, int(np.sqrt(LANCZOS_WORK / max(n_fin, 1)))))
 
 
 def check_size(n: int, n_fin: int, count: int | None, dense: bool, f_max: float | None = None) -> None:
@@ -218,9 +219,10 @@ def check_size(n: int, n_fin: int, count: int | None, dense: bool, f_max: float 
         return
     if count > limit:
         what = f"count = {count}" if f_max is None else f"fmax = {f_max:.4g} Hz takes in more than {count} modes, which"
-        most = f"{LANCZOS_MAX}" if n_fin <= DENSE_MAX else f"{LANCZOS_SHARE:.0%} of the {n_fin} modes, and {LANCZOS_MAX}"
+        why = ("" if limit == LANCZOS_MAX else f" for a model of {n_fin} modes: the work grows with the "
+               "modes times the square of the count")
         raise ModelError(f"{what} is more modes than one Lanczos run finds in reasonable time (the limit is "
-                         f"{limit}: at most {most}; the work grows with the square of the count); "
+                         f"{limit}{why}); "
                          + (f"lower fmax or ask for at most {limit} modes (count = {limit})" if f_max else fix))
     ncv = min(max(2 * count + 1, 20), n)
     need = 8.0 * (n * (ncv + 4 * count) + 2 * ncv * ncv)     # basis, found vectors, work (7 n k measured)
