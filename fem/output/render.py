@@ -441,6 +441,7 @@ def _watch_parent(parent: int) -> None:
 def _stop_workers(ex) -> None:
     """Cancel the chunks not started and end the render processes at once (SIGTERM, then
     SIGKILL after a second), instead of waiting for the chunks being drawn."""
+    # the executor's own list of its processes (private before Python 3.14's terminate_workers)
     procs = list((getattr(ex, "_processes", None) or {}).values())
     ex.shutdown(wait=False, cancel_futures=True)
     for p in procs:
