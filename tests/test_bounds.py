@@ -327,12 +327,20 @@ def test_dense_solve_refused_when_memory_is_short(monkeypatch):
         solve_all(read_text(CHAIN % "count = 119"))
 
 
-def test_lanczos_count_above_the_share_is_refused_and_the_share_runs(small_limits):
+def test_lanczos_count_above_the_limit_is_refused_and_the_limit_runs(small_limits):
     with pytest.raises(ModelError, match=r"count = 7 is more modes than one Lanczos run finds in reasonable time "
                                          r"\(the limit is 6 for a model of 120 modes: the work grows"):
         solve_all(read_text(CHAIN % "count = 7"))
     _, modal = solve_all(read_text(CHAIN % "count = 6"))
     assert len(modal[0].modes.omega) == 6 and modal[0].modes.solver.startswith("shift-invert")
+
+
+def test_a_model_small_enough_for_the_dense_solve_is_offered_every_mode(monkeypatch):
+    monkeypatch.setattr(modes_mod, "DENSE_LIMIT", 50)
+    monkeypatch.setattr(modes_mod, "LANCZOS_WORK", 4320)       # at most 6 modes by Lanczos
+    with pytest.raises(ModelError, match=r"count = 6\) or set a frequency limit \(fmax\), or for every mode "
+                                         r"\(count = 120\), which a dense solve finds\n"):
+        solve_all(read_text(CHAIN % "count = 7", "deck.deck"))
 
 
 def test_fmax_taking_in_too_many_modes_is_refused(small_limits):

@@ -221,9 +221,10 @@ def check_size(n: int, n_fin: int, count: int | None, dense: bool, f_max: float 
         what = f"count = {count}" if f_max is None else f"fmax = {f_max:.4g} Hz takes in more than {count} modes, which"
         why = ("" if limit == LANCZOS_MAX else f" for a model of {n_fin} modes: the work grows with the "
                "modes times the square of the count")
+        every = f", or for every mode (count = {n_fin}), which a dense solve finds" if n <= DENSE_MAX else ""
         raise ModelError(f"{what} is more modes than one Lanczos run finds in reasonable time (the limit is "
                          f"{limit}{why}); "
-                         + (f"lower fmax or ask for at most {limit} modes (count = {limit})" if f_max else fix))
+                         + (f"lower fmax or ask for at most {limit} modes (count = {limit})" if f_max else fix) + every)
     ncv = min(max(2 * count + 1, 20), n)
     need = 8.0 * (n * (ncv + 4 * count) + 2 * ncv * ncv)     # basis, found vectors, work (7 n k measured)
     check_memory(need, f"the Lanczos eigen solve of {count} modes on {n} free DOFs",
