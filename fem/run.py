@@ -218,6 +218,8 @@ def _plausible_ok(checks: dict) -> bool:
 
 
 def _write_csv(path: Path, header, rows) -> None:
+    """Header and rows (any iterable: the long tables pass generators, so their rows are never
+    all held as Python objects, ~0.5 kB each)."""
     with path.open("w", newline="") as fh:
         w = csv.writer(fh)
         w.writerow(header)
@@ -277,13 +279,13 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                 for name, _, _, mf in tables for k, m in enumerate(mems) for e, end in enumerate("ij")])
     for r in [x for x in modal if isinstance(x, FreeCaseResult)]:
         _write_csv(out / f"free_{r.name}.csv", ["time_s", "node", *DIRECTIONS],
-                   [[float(t), nodes[n], *map(float, r.u[i, j])] for i, t in enumerate(r.t)
-                    for j, n in enumerate(r.record)])
+                   ([float(t), nodes[n], *map(float, r.u[i, j])] for i, t in enumerate(r.t)
+                    for j, n in enumerate(r.record)))
     for r in [x for x in modal if isinstance(x, HistoryResult)]:
         _write_csv(out / f"history_{r.name}.csv",
                    ["time_s", "node", *DIRECTIONS, "vx", "vy", "vz", "ax_abs", "ay_abs", "az_abs"],
-                   [[float(t), nodes[n], *map(float, r.u[i, j]), *map(float, r.v[i, j, :3]),
-                     *map(float, r.a[i, j, :3])] for i, t in enumerate(r.t) for j, n in enumerate(r.record)])
+                   ([float(t), nodes[n], *map(float, r.u[i, j]), *map(float, r.v[i, j, :3]),
+                     *map(float, r.a[i, j, :3])] for i, t in enumerate(r.t) for j, n in enumerate(r.record)))
     harm = [x for x in modal if isinstance(x, HarmonicResult)]
     spectra = [x for x in modal if isinstance(x, SpectrumResult)]
     for r in harm:
@@ -292,23 +294,23 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
         _write_csv(out / f"frf_{r.name}.csv",
                    ["frequency_Hz", "node", *(f"amp_{d}" for d in DIRECTIONS),
                     *(f"lag_deg_{d}" for d in DIRECTIONS)],
-                   [[float(fr), nodes[n], *map(float, np.abs(r.u[i, j])), *map(float, lag[i, j])]
-                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.record)])
+                   ([float(fr), nodes[n], *map(float, np.abs(r.u[i, j])), *map(float, lag[i, j])]
+                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.record)))
         comps = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
         lag = lag_degrees(r.reactions, 1e-9 * np.abs(r.reactions).max(initial=0.0))
         _write_csv(out / f"frf_reactions_{r.name}.csv",
                    ["frequency_Hz", "node", *(f"amp_{c}" for c in comps), *(f"lag_deg_{c}" for c in comps)],
-                   [[float(fr), nodes[n], *map(float, np.abs(r.reactions[i, j])), *map(float, lag[i, j])]
-                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.support)])
+                   ([float(fr), nodes[n], *map(float, np.abs(r.reactions[i, j])), *map(float, lag[i, j])]
+                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.support)))
         if r.member_forces is not None:
             mf = r.member_forces.reshape(len(r.freq), -1, 2, 6)           # (m, q, end, 6)
             lag = lag_degrees(mf, 1e-9 * np.abs(mf).max(initial=0.0))
             _write_csv(out / f"frf_member_forces_{r.name}.csv",
                        ["frequency_Hz", "member", "end", *(f"amp_{c}" for c in END_FORCES),
                         *(f"lag_deg_{c}" for c in END_FORCES)],
-                       [[float(fr), mems[q], end, *map(float, np.abs(mf[i, j, e])), *map(float, lag[i, j, e])]
+                       ([float(fr), mems[q], end, *map(float, np.abs(mf[i, j, e])), *map(float, lag[i, j, e])]
                         for i, fr in enumerate(r.freq) for j, q in enumerate(r.members)
-                        for e, end in enumerate("ij")])
+                        for e, end in enumerate("ij")))
     free = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
     modal = [x for x in modal if isinstance(x, ModesCaseResult)]
     if modal:
@@ -327,8 +329,8 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                              float(m.residual[j])])
         _write_csv(out / "modes.csv", head, rows)
         _write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
-                   [[r.name, j + 1, n, *map(float, r.shapes[k, :, j])]
-                    for r in modal for j in range(r.shapes.shape[2]) for k, n in enumerate(nodes)])
+                   ([r.name, j + 1, n, *map(float, r.shapes[k, :, j])]
+                    for r in modal for j in range(r.shapes.shape[2]) for k, n in enumerate(nodes)))
     from .output.vtk import write_mode_files, write_response_files
 
     for r in modal:

@@ -20,6 +20,17 @@ ZERO_ROUNDING = 10   # a mode of a K not shown positive definite is a zero mode 
                      # its own stiffness scale: rigid-body modes measured at <= 2 (free beams, free masts,
                      # with and without 0.2 mm links), the first mode of a mast with a 0.1 mm link (its
                      # factor refused) at 17; our choice
+# Size limits, our choice (measured on a loaded 2-core machine): a dense solve of n DOFs holds
+# about 8.5 n^2 doubles at its peak and took 18 s at n = 1600 (time ~ n^3: ~2 min at 3000);
+# shift-invert Lanczos took 45, 80 and 180 s for 100, 200 and 400 modes of 19 600 DOFs, its
+# basis of 2k + 1 vectors and their orthogonalisation (~ n k^2) growing with the count (1500
+# modes of an 18 522-DOF grid had not finished in 120 s). LANCZOS_WORK allows about three
+# times the work of the 400-mode run.
+DENSE_MAX = 3000        # free DOFs above which finding (nearly) every mode densely is refused
+DENSE_COPIES = 10       # n x n double arrays held at the dense solve's peak (8.5 measured before the
+                        # inverted pencil was added, which holds about one more)
+LANCZOS_WORK = 1e10     # finite modes x (modes asked)^2 above which a Lanczos run is refused
+LANCZOS_MAX = 1000      # and never more modes than this in one Lanczos run
 
 
 @dataclass
@@ -268,6 +279,46 @@ def _lanczos(K, M, k, sigma, factor, found=None):
     return sigma + 1.0 / mu, factor.upper_solve(y), y
 
 
+def lanczos_limit(n_fin: int) -> int:
+    """The most modes one shift-invert Lanczos run is asked for on a model with n_fin finite
+    modes: LANCZOS_MAX, fewer on a large model (n_fin k^2 <= LANCZOS_WORK)."""
+    return max(1, min(LANCZOS_MAX, int(np.sqrt(LANCZOS_WORK / max(n_fin, 1)))))
+
+
+def check_size(n: int, n_fin: int, count: int | None, dense: bool, f_max: float | None = None) -> None:
+    """Refuse, before it starts, an eigen solve that would not end in reasonable time or not fit:
+    a dense solve of more than DENSE_MAX DOFs or of more memory than this process may take, a
+    Lanczos run for more modes than lanczos_limit or whose vectors do not fit. `count`: modes
+    asked for, or with `f_max` the modes the next run for f_max would compute."""
+    from .memory import check_memory, gib
+
+    limit = lanczos_limit(n_fin)
+    fix = f"ask for at most {limit} modes (count = {limit}) or set a frequency limit (fmax)"
+    if dense and n > DENSE_LIMIT:
+        need = DENSE_COPIES * 8.0 * n * n
+        asked = f"count = {count} asks for {'all' if count >= n_fin else 'nearly all'} of the {n_fin} modes"
+        if n > DENSE_MAX:
+            raise ModelError(f"{asked}, which only a dense solve finds: for {n} free DOFs it needs about "
+                             f"{gib(need)} and time growing as the cube of the DOFs, above the limit of "
+                             f"{DENSE_MAX} free DOFs for it (about 2 minutes on 2 cores); {fix}")
+        check_memory(need, f"the dense eigen solve of {n} free DOFs ({asked})", fix)
+        return
+    if dense or count is None:
+        return
+    if count > limit:
+        what = f"count = {count}" if f_max is None else f"fmax = {f_max:.4g} Hz takes in more than {count} modes, which"
+        why = ("" if limit == LANCZOS_MAX else f" for a model of {n_fin} modes: the work grows with the "
+               "modes times the square of the count")
+        every = f", or for every mode (count = {n_fin}), which a dense solve finds" if n <= DENSE_MAX else ""
+        raise ModelError(f"{what} is more modes than one Lanczos run finds in reasonable time (the limit is "
+                         f"{limit}{why}); "
+                         + (f"lower fmax or ask for at most {limit} modes (count = {limit})" if f_max else fix) + every)
+    ncv = min(max(2 * count + 1, 20), n)
+    need = 8.0 * (n * (ncv + 4 * count) + 2 * ncv * ncv)     # basis, found vectors, work (7 n k measured)
+    check_memory(need, f"the Lanczos eigen solve of {count} modes on {n} free DOFs",
+                 "ask for fewer modes (count), a lower fmax, or reduce the model")
+
+
 def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
                 shift: float | None = None, sturm: bool = True, factor_kind: str = "auto",
                 cache: dict | None = None) -> ModalResult:
@@ -290,7 +341,9 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
     want = min(n_modes or n_fin, n_fin)
     lam_max = (2 * np.pi * f_max) ** 2 if f_max is not None else np.inf
     extra = 2       # eigenpairs beyond the wanted ones, to place the Sturm shift past a repeated pair
-    if n <= DENSE_LIMIT or (n_modes is not None and want + extra >= n_fin - 1):
+    dense = n <= DENSE_LIMIT or (n_modes is not None and want + extra >= n_fin - 1)
+    check_size(n, n_fin, n_modes, dense)
+    if dense:
         lam, phi, n_fin, sigma, definite = _dense(K, M)
         want = min(want, n_fin)
         more = False
@@ -313,6 +366,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
             lam, phi, basis = lam[order], phi[:, order], basis[:, order]
             if n_modes is None and lam[-1 - extra] < lam_max and k < n_fin - 2:
                 k = min(2 * k, n_fin - 2)
+                check_size(n, n_fin, k - extra, False, f_max)
                 continue
             break
         more = True
