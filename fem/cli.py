@@ -1,4 +1,10 @@
-"""Command line: `quaver check DECK`, `quaver run DECK`. Heavy imports happen inside commands."""
+"""Command line: `quaver check DECK`, `quaver run DECK`. Heavy imports happen inside commands.
+
+Exit statuses: 0 all self-checks pass; 1 results written, a self-check failed; 2 a mistake in
+the deck, the model or the results folder (one message, nothing written); 70 an internal error
+(a fault in Quaver: a short message asking for a report; the traceback with --debug or
+QUAVER_DEBUG=1); 130 interrupted.
+"""
 
 from __future__ import annotations
 
@@ -6,6 +12,9 @@ import argparse
 import sys
 
 __all__ = ["main"]
+
+INTERNAL_ERROR = 70     # the conventional status of an internal software error (sysexits.h, EX_SOFTWARE)
+DEBUG_ENV = "QUAVER_DEBUG"
 
 CAUTION = ("Caution: results support, and never replace, the judgement of a qualified engineer; "
            "local codes and licensed practice govern.")
@@ -26,6 +35,9 @@ def _parser() -> argparse.ArgumentParser:
                    help="draw the first N modes of each modes case (default 6)")
     r.add_argument("--fps", type=_fps, default=12.0, metavar="N",
                    help="frames a second of the animations, 1 to 50 (default 12)")
+    for sp in (p, c, r):
+        sp.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                        help=f"show the Python traceback of an internal error (or set {DEBUG_ENV}=1)")
     return p
 
 
@@ -43,6 +55,9 @@ def _fps(text: str) -> float:
 def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     from .errors import QuaverError
+    from .output import folder
+
+    folder.begin()
 
     try:
         if args.command == "check":
@@ -62,7 +77,8 @@ def main(argv: list[str] | None = None) -> int:
         return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs),
                         draw_modes=max(0, args.draw_modes), fps=args.fps)
     except QuaverError as exc:
-        print(f"error: {exc}", file=sys.stderr)
+        state = folder.where()
+        _say(f"error: {exc}" + (f"\nnote: {state}" if state.startswith("the new results") else ""))
         return 2
     except BrokenPipeError:
         # the reader of our output went away (quaver check deck | head): the work is done and
@@ -72,5 +88,37 @@ def main(argv: list[str] | None = None) -> int:
         os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         return 0
     except KeyboardInterrupt:
-        print("interrupted: no results were written; earlier results are as they were", file=sys.stderr)
+        _say(f"interrupted: {folder.where()}")
         return 130
+    except Exception as exc:   # noqa: BLE001 - anything else is a fault in Quaver, not the user's
+        return _internal_error(exc, getattr(args, "debug", False))
+
+
+def _say(text: str) -> None:
+    """One message on stderr, ending in exactly one newline, flushed before the prompt returns."""
+    try:
+        sys.stdout.flush()
+    except OSError:
+        pass
+    sys.stderr.write(text.rstrip("\n") + "\n")
+    sys.stderr.flush()
+
+
+def _internal_error(exc: BaseException, debug: bool) -> int:
+    """A one-paragraph message asking for a report, saying where the results are."""
+    import os
+
+    from .output import folder
+
+    if debug or os.environ.get(DEBUG_ENV, "").strip() not in ("", "0"):
+        import traceback
+
+        traceback.print_exception(type(exc), exc, exc.__traceback__, file=sys.stderr)
+    text = " ".join(str(exc).split())
+    text = text[:300] + ("..." if len(text) > 300 else "")
+    state = folder.where()
+    _say(f"internal error ({type(exc).__name__}{': ' + text if text else ''}): Quaver failed in a way it "
+         f"should not, and this is not a mistake in your deck as far as it can tell. {state[:1].upper()}{state[1:]}. "
+         f"Please report it with the deck (and the files it reads), the command line and the output of the "
+         f"same command with --debug (or {DEBUG_ENV}=1), which shows where it failed.")
+    return INTERNAL_ERROR

@@ -8,7 +8,8 @@
     |   +-- MechanismError(ModelError)              singular stiffness: free nodes and directions
     +-- ResultsError(QuaverError, OSError)          results could not be written
 
-The CLI prints any QuaverError as one message and exits with status 2.
+The CLI prints any QuaverError as one message and exits with status 2; any other exception
+is an internal error (status 70, a message asking for a report; see fem/cli.py).
 """
 
 from __future__ import annotations

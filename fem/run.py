@@ -1,17 +1,16 @@
 """`quaver run`: solve every static case and combination; write results.json and CSV tables.
 
 Results go to a temporary folder beside the target and are moved into place only when
-everything succeeded, so a failed run leaves the previous results untouched.
+everything succeeded, so a failed run leaves the previous results untouched; only the files a
+previous run wrote are replaced (fem.output.folder).
 """
 
 from __future__ import annotations
 
 import csv
 import json
-import os
 import re
 import shutil
-import tempfile
 from contextlib import contextmanager
 from pathlib import Path
 
@@ -21,12 +20,15 @@ from .analysis.free_case import FreeCaseResult, solve_free_case
 from .analysis.harmonic import HarmonicResult, lag_degrees, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
+from .analysis.plausible import static_check, zero_mode_check, zero_mode_lines
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
-from .analysis.static import StaticResult, condition_estimate, equilibrium, factorise, held_dofs, solve_static
+from .analysis.static import (StaticResult, condition_estimate, equilibrium, factorise, held_dofs, solve_static,
+                              stiffness_contrast)
 from .assembly import assemble
 from .deck.reader import read_deck
 from .errors import ModelError, ResultsError
 from .model import DIRECTIONS, Model
+from .output import folder
 from .output.fmt import percent
 
 __all__ = ["run_deck", "solve_all"]
@@ -91,7 +93,9 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
         if cond > COND_REFUSE:
             raise ModelError(f"the stiffness is too badly conditioned to solve in double precision (condition "
                              f"estimate {cond:.1e}, above {COND_REFUSE:.0e}): no digit of the results would be safe; "
-                             "check stiffness contrasts (springs, E, sections) and units")
+                             f"no node moves freely (not a mechanism), but member stiffnesses span about "
+                             f"{stiffness_contrast(model, asm):.0e}: "
+                             "check stiffness contrasts (springs, E, sections, very short members) and units")
         results = [solve_static(model, asm, c, lu()) for c in statics]
     by_name = {r.name: r for r in results}
     for combo in model.combinations:
@@ -199,7 +203,23 @@ def _modal_ok(r) -> bool:
             and c["effective_mass_sum_pass"] is not False)
 
 
+def _plausible(model: Model, results: list, modal: list) -> dict:
+    """Answer-level plausibility checks (analysis.plausible) by case name: each static case and
+    combination's largest translation against the model's size, each modes case's near-zero modes."""
+    where = {c.name: c.location for c in [*model.cases, *model.combinations]}
+    out = {r.name: static_check(model, r, where.get(r.name)) for r in results}
+    out.update({r.name: zero_mode_check(model, r) for r in modal if isinstance(r, ModesCaseResult)})
+    return out
+
+
+def _plausible_ok(checks: dict) -> bool:
+    return all(c.get("translation_within_size_pass", True) and c.get("near_zero_pass", True)
+               for c in checks.values())
+
+
 def _write_csv(path: Path, header, rows) -> None:
+    """Header and rows (any iterable: the long tables pass generators, so their rows are never
+    all held as Python objects, ~0.5 kB each)."""
     with path.open("w", newline="") as fh:
         w = csv.writer(fh)
         w.writerow(header)
@@ -259,13 +279,13 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                 for name, _, _, mf in tables for k, m in enumerate(mems) for e, end in enumerate("ij")])
     for r in [x for x in modal if isinstance(x, FreeCaseResult)]:
         _write_csv(out / f"free_{r.name}.csv", ["time_s", "node", *DIRECTIONS],
-                   [[float(t), nodes[n], *map(float, r.u[i, j])] for i, t in enumerate(r.t)
-                    for j, n in enumerate(r.record)])
+                   ([float(t), nodes[n], *map(float, r.u[i, j])] for i, t in enumerate(r.t)
+                    for j, n in enumerate(r.record)))
     for r in [x for x in modal if isinstance(x, HistoryResult)]:
         _write_csv(out / f"history_{r.name}.csv",
                    ["time_s", "node", *DIRECTIONS, "vx", "vy", "vz", "ax_abs", "ay_abs", "az_abs"],
-                   [[float(t), nodes[n], *map(float, r.u[i, j]), *map(float, r.v[i, j, :3]),
-                     *map(float, r.a[i, j, :3])] for i, t in enumerate(r.t) for j, n in enumerate(r.record)])
+                   ([float(t), nodes[n], *map(float, r.u[i, j]), *map(float, r.v[i, j, :3]),
+                     *map(float, r.a[i, j, :3])] for i, t in enumerate(r.t) for j, n in enumerate(r.record)))
     harm = [x for x in modal if isinstance(x, HarmonicResult)]
     spectra = [x for x in modal if isinstance(x, SpectrumResult)]
     for r in harm:
@@ -274,23 +294,23 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
         _write_csv(out / f"frf_{r.name}.csv",
                    ["frequency_Hz", "node", *(f"amp_{d}" for d in DIRECTIONS),
                     *(f"lag_deg_{d}" for d in DIRECTIONS)],
-                   [[float(fr), nodes[n], *map(float, np.abs(r.u[i, j])), *map(float, lag[i, j])]
-                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.record)])
+                   ([float(fr), nodes[n], *map(float, np.abs(r.u[i, j])), *map(float, lag[i, j])]
+                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.record)))
         comps = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
         lag = lag_degrees(r.reactions, 1e-9 * np.abs(r.reactions).max(initial=0.0))
         _write_csv(out / f"frf_reactions_{r.name}.csv",
                    ["frequency_Hz", "node", *(f"amp_{c}" for c in comps), *(f"lag_deg_{c}" for c in comps)],
-                   [[float(fr), nodes[n], *map(float, np.abs(r.reactions[i, j])), *map(float, lag[i, j])]
-                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.support)])
+                   ([float(fr), nodes[n], *map(float, np.abs(r.reactions[i, j])), *map(float, lag[i, j])]
+                    for i, fr in enumerate(r.freq) for j, n in enumerate(r.support)))
         if r.member_forces is not None:
             mf = r.member_forces.reshape(len(r.freq), -1, 2, 6)           # (m, q, end, 6)
             lag = lag_degrees(mf, 1e-9 * np.abs(mf).max(initial=0.0))
             _write_csv(out / f"frf_member_forces_{r.name}.csv",
                        ["frequency_Hz", "member", "end", *(f"amp_{c}" for c in END_FORCES),
                         *(f"lag_deg_{c}" for c in END_FORCES)],
-                       [[float(fr), mems[q], end, *map(float, np.abs(mf[i, j, e])), *map(float, lag[i, j, e])]
+                       ([float(fr), mems[q], end, *map(float, np.abs(mf[i, j, e])), *map(float, lag[i, j, e])]
                         for i, fr in enumerate(r.freq) for j, q in enumerate(r.members)
-                        for e, end in enumerate("ij")])
+                        for e, end in enumerate("ij")))
     free = [x for x in modal if isinstance(x, (FreeCaseResult, HistoryResult))]
     modal = [x for x in modal if isinstance(x, ModesCaseResult)]
     if modal:
@@ -309,8 +329,8 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                              float(m.residual[j])])
         _write_csv(out / "modes.csv", head, rows)
         _write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
-                   [[r.name, j + 1, n, *map(float, r.shapes[k, :, j])]
-                    for r in modal for j in range(r.shapes.shape[2]) for k, n in enumerate(nodes)])
+                   ([r.name, j + 1, n, *map(float, r.shapes[k, :, j])]
+                    for r in modal for j in range(r.shapes.shape[2]) for k, n in enumerate(nodes)))
     from .output.character import mode_characters
     from .output.vtk import write_mode_files, write_response_files
 
@@ -319,6 +339,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
     for r in [x for x in modal_all if isinstance(x, (FreeCaseResult, HistoryResult))]:
         write_response_files(out / "response", model, r.name, r.frame_t, r.frames)
     lo, hi = model.bounding_box()
+    sane = _plausible(model, results, modal)
     doc = {
         "schema": "quaver-results/1",
         "caution": CAUTION,
@@ -336,7 +357,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "reaction_sum_N": r.reactions[:, :3].sum(0).tolist(),
                    "applied_sum_N": r.applied[:, :3].sum(0).tolist(),
                    "checks": {"equilibrium_relative": r.equilibrium,
-                              "equilibrium_pass": bool(r.equilibrium < EQUILIBRIUM_TOL)}}
+                              "equilibrium_pass": bool(r.equilibrium < EQUILIBRIUM_TOL), **sane[r.name]}}
                   for r in results if isinstance(r, StaticResult)] + [
                   {"name": r.name, "kind": "modes", "solver": r.modes.solver,
                    "frequency_Hz": r.modes.freq.tolist(), "period_s": r.modes.period.tolist(),
@@ -346,7 +367,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "participating_total_kg": r.part.total.tolist(),
                    "reference_point_m": np.asarray(r.reference).tolist(),
                    "mode_character": mode_characters(model, r),
-                   "checks": modal_checks(r)} for r in modal] + [
+                   "checks": {**modal_checks(r), **sane[r.name]}} for r in modal] + [
                   {"name": r.name, "kind": "free" if isinstance(r, FreeCaseResult) else "history",
                    "damping_ratio": r.zeta.tolist(),
                    "time_steps": len(r.t), "duration_s": float(r.t[-1]),
@@ -473,89 +494,32 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path, noti
     write_report(out / "report.html", doc, images, notes=[notice] if notice.startswith("pictures skipped:") else [])
 
 
-def _check_target(target: Path, deck: Path) -> None:
-    """Refuse a results folder that would hold the deck or that is not a previous result."""
-    t = target.resolve()
-    if t == deck.resolve().parent or t in deck.resolve().parents:
-        raise ResultsError(f"the results folder {target} contains the deck; choose another --out")
-    if t.exists():
-        if not t.is_dir():
-            raise ResultsError(f"{target} exists and is not a folder; choose another --out")
-        marker = t / "results.json"
-        ours = marker.exists() and '"schema": "quaver-results/' in marker.read_text(errors="ignore")[:200]
-        if any(t.iterdir()) and not ours:
-            raise ResultsError(f"{target} holds files that are not Quaver results; it is left alone - "
-                               "choose an empty or new folder with --out")
-
-
-def _tidy_after_kill(target: Path) -> None:
-    """Undo what a killed run (SIGKILL, power cut) may have left beside `target`: its temporary
-    folders (named .quaver-<pid>-..., removed only when that process is gone) and, if it died
-    between moving the previous results aside and moving the new ones in, the previous results,
-    which are moved back."""
-    for p in target.parent.glob(".quaver-*-*"):
-        pid = p.name.split("-")[1]
-        if not pid.isdigit() or int(pid) == os.getpid():
-            continue
-        try:
-            os.kill(int(pid), 0)
-        except ProcessLookupError:
-            shutil.rmtree(p, ignore_errors=True)
-        except OSError:
-            pass                     # alive under another user: not ours to touch
-    old = target.with_name(target.name + ".old")
-    if not target.exists() and (old / "results.json").exists():
-        os.replace(old, target)
-
-
-def _writable_parent(target: Path) -> None:
-    """Make sure results can be staged beside `target`; a clear ResultsError otherwise."""
-    parent = target.parent
-    head = f"cannot write the results folder {target}: "
-    tail = "; choose another --out"
-    blocker = next((a for a in (parent, *parent.parents) if a.exists() and not a.is_dir()), None)
-    if blocker is not None:
-        raise ResultsError(head + f"{blocker} is a file, not a folder" + tail)
-    try:
-        parent.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise ResultsError(head + f"its parent folder {parent} could not be created "
-                           f"({exc.strerror or exc})" + tail) from None
-    try:
-        os.rmdir(tempfile.mkdtemp(prefix=f".quaver-{os.getpid()}-", dir=parent))
-    except OSError as exc:
-        raise ResultsError(head + f"its parent folder {parent} does not take new files "
-                           f"({exc.strerror or exc})" + tail) from None
-
-
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
              draw_modes: int = 6, fps: float = 12.0) -> int:
     model = read_deck(deck)
-    target = Path(out) if out else Path("results") / Path(deck).stem
-    _writable_parent(target)        # before solving, so an unusable --out fails at once
-    _tidy_after_kill(target)
-    _check_target(target, Path(deck))
+    target, shown = folder.resolve_target(out, deck)
+    folder.check_target(target, shown, Path(deck))     # before solving, so an unusable --out fails at once
+    folder.writable_parent(target, shown)
+    notes = folder.tidy_after_kill(target, shown)
+    folder.begin(target, shown)
     results, modal = solve_all(model)
-    _writable_parent(target)
-    _check_target(target, Path(deck))
-    tmp = Path(tempfile.mkdtemp(prefix=f".quaver-{os.getpid()}-", dir=target.parent))
+    folder.writable_parent(target, shown)
+    folder.check_target(target, shown, Path(deck))
+    tmp = folder.stage(target)
     try:
         doc = _write(model, results, modal, tmp)
         notice = _render(model, modal, tmp, jobs, draw_modes, fps) if render else "pictures skipped (--no-render)"
         _report(model, results, modal, doc, tmp, notice)
-        if target.exists():
-            old = target.with_name(target.name + ".old")
-            shutil.rmtree(old, ignore_errors=True)
-            os.replace(target, old)
-            os.replace(tmp, target)
-            shutil.rmtree(old, ignore_errors=True)
-        else:
-            os.replace(tmp, target)
+        folder.write_manifest(tmp, target.name)
+        notes += folder.swap(tmp, target, shown)
+    except ResultsError:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
     except OSError as exc:
         shutil.rmtree(tmp, ignore_errors=True)
-        raise ResultsError(f"could not write results to {target}: {exc}") from None
+        raise ResultsError(f"could not write results to {shown}: {exc}") from None
     except BaseException:
-        # interrupted (Ctrl-C) or failed part-way: the previous results stay as they were
+        # interrupted (Ctrl-C) or failed part-way: folder.where() says where the results are
         shutil.rmtree(tmp, ignore_errors=True)
         raise
     print(f"{model.title or deck}: {model.n_nodes} nodes, {model.n_members} members, "
@@ -575,10 +539,14 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     am = model.settings["_assembled_mass"]
     print(f"  mass check: assembled M gives {am[0]:.6g} kg in X, Y, Z "
           f"({'pass' if _mass_ok(model) else 'FAIL'} against members + point masses)")
+    sane = _plausible(model, results, modal)
     for r in results:
         ok = "pass" if r.equilibrium < EQUILIBRIUM_TOL else "FAIL"
+        size = "pass" if sane[r.name]["translation_within_size_pass"] else "FAIL"
         print(f"  {r.name:<12} max translation {np.abs(r.u[:, :3]).max():.4g} m   "
-              f"equilibrium {r.equilibrium:.1e} {ok}")
+              f"equilibrium {r.equilibrium:.1e} {ok}   within the model's size {size}")
+        for w in sane[r.name]["warnings"]:
+            print(f"               {w}")
     for r in modal:
         c = modal_checks(r)
         if isinstance(r, SpectrumResult):
@@ -635,13 +603,17 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         if c["effective_mass_sum_pass"] is not None:
             print(f"               all {len(r.modes.freq)} modes: effective masses add up to the total mass to "
                   f"{c['effective_mass_sum_error']:.1e} {'pass' if c['effective_mass_sum_pass'] else 'FAIL'}")
+        for line in zero_mode_lines(r.name, sane[r.name]):
+            print(f"               {line}")
     print(f"  {notice}")
     ok = all(r.equilibrium < EQUILIBRIUM_TOL for r in results) and all(map(_modal_ok, modal))
-    ok = ok and _mass_ok(model)
+    ok = ok and _mass_ok(model) and _plausible_ok(sane)
     short = [r.name for r in modal if getattr(r, "target_met", None) is False]
     print("  self-checks: all pass" if ok else "  self-checks: some FAIL (marked above); check before using the results")
     if short:
         print(f"  effective-mass target not met in {', '.join(short)}")
-    print(f"results in {target}/")
+    for n in notes:
+        print(f"  {n}")
+    print(f"results in {shown}/")
     print("Caution: " + CAUTION)
     return 0 if ok and not short else 1

@@ -76,25 +76,25 @@ class SectionProps:
 
 # ----------------------------------------------------------------------------- validation
 
-def _positive(value, name: str, shape: str) -> float:
-    """Return value as float; ValueError unless finite and > 0."""
+def _positive(value, name: str, shape: str, kind: str = "length", unit: str = "m") -> float:
+    """Return value as float; ValueError unless finite and > 0 (`kind` and `unit` name the quantity)."""
     try:
         v = float(value)
     except (TypeError, ValueError):
         raise ValueError(f"{shape}: {name} must be a number, got {value!r}") from None
     if not math.isfinite(v) or v <= 0.0:
-        raise ValueError(f"{shape}: {name} must be a positive length/quantity, got {name}={v!r}")
+        raise ValueError(f"{shape}: {name} must be a positive {kind}, got {name}={v:g} {unit}")
     return v
 
 
-def _non_negative(value, name: str, shape: str) -> float:
-    """Return value as float; ValueError unless finite and >= 0."""
+def _non_negative(value, name: str, shape: str, kind: str = "length", unit: str = "m") -> float:
+    """Return value as float; ValueError unless finite and >= 0 (`kind` and `unit` name the quantity)."""
     try:
         v = float(value)
     except (TypeError, ValueError):
         raise ValueError(f"{shape}: {name} must be a number, got {value!r}") from None
     if not math.isfinite(v) or v < 0.0:
-        raise ValueError(f"{shape}: {name} must be zero or positive, got {name}={v!r}")
+        raise ValueError(f"{shape}: {name} must be zero or positive (a {kind}), got {name}={v:g} {unit}")
     return v
 
 
@@ -367,12 +367,12 @@ def generic(A: float, Iy: float, Iz: float, J: float,
     """Section given by its properties (m^2, m^4); shear areas default to 0 (rigid in shear)."""
     return SectionProps(
         "generic",
-        _positive(A, "A", "generic"),
-        _positive(Iy, "Iy", "generic"),
-        _positive(Iz, "Iz", "generic"),
-        _positive(J, "J", "generic"),
-        _non_negative(Avy, "Avy", "generic"),
-        _non_negative(Avz, "Avz", "generic"),
+        _positive(A, "A", "generic", "area", "m^2"),
+        _positive(Iy, "Iy", "generic", "second moment of area", "m^4"),
+        _positive(Iz, "Iz", "generic", "second moment of area", "m^4"),
+        _positive(J, "J", "generic", "torsion constant", "m^4"),
+        _non_negative(Avy, "Avy", "generic", "shear area", "m^2"),
+        _non_negative(Avz, "Avz", "generic", "shear area", "m^2"),
     )
 
 

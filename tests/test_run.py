@@ -146,16 +146,22 @@ def test_killed_run_keeps_previous_results_and_is_tidied(tmp_path):
 
 
 def test_results_moved_aside_by_a_killed_run_are_restored(tmp_path):
-    # Killed between moving the previous results to NAME.old and the new ones in: the next run
+    # Killed between moving the previous results aside and the new ones in: the next run
     # starts by moving them back, so a failing next run still leaves them in place.
-    from fem.run import _tidy_after_kill
+    import subprocess
+    import sys
+
+    from fem.output.folder import tidy_after_kill
 
     out = tmp_path / "res"
     assert main(["run", str(RACK), "--out", str(out), "--no-render"]) == 0
     before = (out / "results.json").read_bytes()
-    out.rename(tmp_path / "res.old")
-    _tidy_after_kill(out)
-    assert (out / "results.json").read_bytes() == before and not (tmp_path / "res.old").exists()
+    dead = subprocess.Popen([sys.executable, "-c", "pass"])
+    dead.wait()
+    aside = tmp_path / f".quaver-{dead.pid}-old-x1x1x1x1"
+    out.rename(aside)
+    tidy_after_kill(out, str(out))
+    assert (out / "results.json").read_bytes() == before and not aside.exists()
 
 
 def _cli(*args):

@@ -2,14 +2,18 @@
 
 python tools/fuzz_deck.py [cases] [seed]   (default 100000 cases) prints the count of other
 exceptions, the target being 0. tests/test_fuzz.py runs a bounded version of the same mutations.
+Besides character and token mutations it writes expressions a user may type: long sums, powers
+of negative numbers, huge and tiny exponents, units with spaces, percent signs.
 """
 
 from __future__ import annotations
 
+import argparse
 import random
 import re
 import sys
 import traceback
+import warnings
 from pathlib import Path
 
 from fem.deck.reader import read_text
@@ -22,8 +26,37 @@ UNITS = ["m", "kN", "kg", "s", "Hz", "GPa", "deg", "kg/m^3", "m/s^2", "percent",
 NAMES = ["ZZ9", "A_", "Q*", "nodeX", "S355x", "COLUMN"]
 
 
+def expression(rng: random.Random) -> str:
+    """An expression of a kind a user may type, often one the reader must refuse."""
+    kind = rng.randrange(8)
+    if kind == 0:                                # a long sum or product
+        return rng.choice("+*-").join(rng.choice(["1", "2 m", "x", "0.5"]) for _ in range(rng.randint(50, 3000)))
+    if kind == 1:                                # a fractional power of a negative number
+        return f"(-{rng.choice(['8', '2.5', '1e-3', '8 m'])})^({rng.choice(['1/3', '0.5', '-1/2', '1e-9'])})"
+    if kind == 2:                                # huge and tiny exponents and powers
+        return rng.choice(["exp(-800)*1 m", "exp(800)", "2^(-2000)", "10^400", "(1 m)^1e300", "1e-300*1e-300 m",
+                           "(2 m)^-1e18", "0^(-1)", "1e308*10", "log(0)", "1e-320", "sqrt(-1 m^2)"])
+    if kind == 3:                                # a unit written with spaces
+        return rng.choice(["9.81 m / s^2", "7850 kg / m^3", "2 kN * m", "9.81 m/s ^2", "2 m ^2", "5 m/ s"])
+    if kind == 4:                                # a percent sign or another spelling of a unit
+        return rng.choice(["2%", "2 %", "5 tonne", "3 KN", "10 sec", "2 pct", "100*x kg", "(1+x) kg"])
+    if kind == 5:                                # deep brackets and signs
+        n = rng.randint(50, 2000)
+        return rng.choice(["(" * n + "1" + ")" * n, "-" * n + "1", "+" * n + "1 m"])
+    if kind == 6:                                # a function of the wrong kind of value
+        fname = rng.choice(["sin", "cos", "exp", "log", "sqrt", "atan", "abs"])
+        return f"{fname}({rng.choice(['2 m', '-1', '0', '1e308', '30 deg'])})"
+    return f"x{rng.choice(['+', '*', '/', '^'])}{rng.choice(['0', '-0.5', '1e308', '1e-308', 'pi'])}"
+
+
 def mutate(text: str, rng: random.Random) -> str:
-    kind = rng.randrange(7)
+    kind = rng.randrange(8)
+    exprs = [m.span(1) for m in re.finditer(r"=\s*([^,;{}()\n=]+)", text)]
+    if kind == 7 and exprs:                      # a value replaced by a typed expression
+        a, b = rng.choice(exprs)
+        return "let x = 2\n" + text[:a] + expression(rng) + text[b:]
+    if kind == 7:
+        return f"let x = 2\nlet y = {expression(rng)}\n" + text
     if kind == 0 and text:                       # delete a run of characters
         i = rng.randrange(len(text))
         return text[:i] + text[i + rng.randint(1, 8):]
@@ -50,9 +83,12 @@ def mutate(text: str, rng: random.Random) -> str:
 
 
 def check(text: str, folder: Path) -> str | None:
-    """None if the outcome is acceptable, else a description of the failure."""
+    """None if the outcome is acceptable, else a description of the failure (a warning of a
+    library, which would reach the user as its own text, counts as one)."""
     try:
-        read_text(text, name="fuzz.deck", folder=folder)
+        with warnings.catch_warnings():
+            warnings.simplefilter("error")
+            read_text(text, name="fuzz.deck", folder=folder)
     except DeckError as exc:
         if exc.location is None:
             return None if "table" in str(exc) or "include" in str(exc) else f"no location: {exc}"
@@ -78,10 +114,18 @@ def run(cases: int, seed: int = 1, folder: Path = ROOT / "decks") -> list[str]:
     return bad
 
 
-if __name__ == "__main__":
-    n = int(sys.argv[1]) if len(sys.argv) > 1 else 100_000
-    seed = int(sys.argv[2]) if len(sys.argv) > 2 else 1
-    bad = run(n, seed)
-    print(f"{n} cases, {len(bad)} non-deck exceptions")
+def main(argv: list[str] | None = None) -> int:
+    ap = argparse.ArgumentParser(description="Mutation fuzzing of the deck reader: mutated demo decks must "
+                                 "give a model or a located deck error, never another exception.")
+    ap.add_argument("cases", nargs="?", type=int, default=100_000, help="number of mutated decks (default 100000)")
+    ap.add_argument("seed", nargs="?", type=int, default=1, help="random seed (default 1)")
+    args = ap.parse_args(argv)
+    bad = run(args.cases, args.seed)
+    print(f"{args.cases} cases, {len(bad)} non-deck exceptions")
     for b in bad[:5]:
         print("---\n" + b)
+    return 1 if bad else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -113,6 +113,7 @@ class SPDFactor:
     name = ""
     kind = ""          # 'band', 'superlu' or 'pardiso': the family, also used for the inertia
     split = False
+    definite = True    # a factor of a positive definite matrix (every pivot positive and resolved)
     order: Ordering | None = None
 
     def solve(self, b):  # pragma: no cover - interface
@@ -256,6 +257,7 @@ def spd_factor(A, kind: str = "auto", order: Ordering | None = None) -> SPDFacto
 class _GeneralLU(SPDFactor):
     name = "SuperLU (partial pivoting)"
     kind = "superlu"
+    definite = False
 
     def __init__(self, A):
         self.shape = A.shape

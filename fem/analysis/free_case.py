@@ -10,6 +10,7 @@ from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
 from .free import free_response, modal_initial_conditions
+from .memory import check_memory
 from .modal_case import ModesCaseResult, field_responses
 
 __all__ = ["FreeCaseResult", "animation_frames", "frame_indices", "peak_index", "peaks", "solve_free_case", "step_warnings"]
@@ -130,6 +131,13 @@ def animation_frames(t, q, shapes, static=None, g=None, omega=None, must=()):
     return t[idx], frames
 
 
+def free_bytes(steps: int, modes: int, recorded: int) -> float:
+    """Estimate of the memory a free case holds at its peak, in bytes: about nine (steps, modes)
+    float arrays (the closed-form response and its temporaries) and two (steps, recorded, 6)
+    output fields (the displacements and a temporary)."""
+    return 8.0 * steps * (9 * modes + 12 * recorded)
+
+
 def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
                     start_u: np.ndarray | None) -> FreeCaseResult:
     """start_u (n, 6) deflected shape of the start case, or None."""
@@ -147,6 +155,11 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     total = float(u0[f] @ mu)
     captured = float(q0 @ q0 / total) if total > 0 else 1.0
     t = np.arange(0.0, opt["duration"] + 0.5 * opt["step"], opt["step"])
+    recorded = model.n_nodes if opt["record"] is None else len(opt["record"])
+    check_memory(free_bytes(len(t), len(omega), recorded),
+                 f"case {case.name}: the free vibration of {len(t):,} steps x {len(omega)} modes x {recorded} "
+                 "recorded nodes", f"use a longer step or a shorter duration, fewer modes (count or fmax of "
+                 f'{modal.name}), or record fewer nodes (record = "NAME*")')
     q, _ = free_response(omega, zeta, q0, qd0, t)
     peak, peak_t = peaks(q, modal.shapes.reshape(6 * model.n_nodes, -1), t)
     record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)

@@ -22,6 +22,7 @@ from ..deck.reader import ROWS_LIMIT
 from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .static import load_vector
 
@@ -107,6 +108,31 @@ def _lags(C):
     return lag_degrees(C, 1e-9 * np.abs(C).max(initial=0.0))
 
 
+def sweep_bytes(freqs: int, modes: int, recorded: int, supports: int, members: int) -> float:
+    """Estimate of the memory a sweep holds at its peak, in bytes: the (freqs, modes) complex
+    frequency responses and, each with a temporary, the complex amplitudes of the recorded
+    nodes (freqs, recorded, 6), the supports (freqs, supports, 6) and the members written
+    (freqs, members, 12)."""
+    return 16.0 * freqs * (modes + 12 * recorded + 12 * supports + 24 * members)
+
+
+def check_sweep(case: LoadCase, freqs: int, modes: int, recorded: int, supports: int, members: int) -> None:
+    """Refuse a sweep, before it is computed, whose response or reaction table would have more
+    than ROWS_LIMIT rows (the frequencies count the points added around each resonance) or
+    which would not fit in memory."""
+    for nodes, what, fix in ((recorded, "recorded nodes", "record fewer nodes or use fewer points"),
+                             (supports, "supported or sprung nodes", "use fewer points")):
+        if freqs * nodes > ROWS_LIMIT:
+            raise ModelError(f"case {case.name}: the sweep's table at its {what} would have {freqs:,} frequencies "
+                             f"x {nodes:,} nodes = {freqs * nodes:,} rows, above the limit of {ROWS_LIMIT:,}; "
+                             f"{fix} (at most {ROWS_LIMIT // nodes:,} frequencies for {nodes:,} nodes, counting "
+                             "the points added around each resonance in the band)")
+    check_memory(sweep_bytes(freqs, modes, recorded, supports, members),
+                 f"case {case.name}: the sweep of {freqs:,} frequencies x {modes} modes "
+                 f"({recorded} recorded nodes, {supports} supports, {members} members written)",
+                 "use fewer points, fewer modes (count or fmax of the modes case) or record fewer nodes")
+
+
 def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
                         lu=None) -> HarmonicResult:
     opt = case.options
@@ -123,6 +149,12 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                              "response; give damping")
     freq = sweep_frequencies(opt["from"], opt["to"], opt["points"], opt["spacing"],
                              omega / (2 * np.pi), zeta)
+    record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
+    support = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
+    members = np.flatnonzero(np.isin(model.conn, record).any(axis=1))
+    member_rows = len(freq) * 2 * len(members)
+    write_members = member_rows <= ROWS_LIMIT
+    check_sweep(case, len(freq), len(omega), len(record), len(support), len(members) if write_members else 0)
     W = 2 * np.pi * freq
     pk = phi.T @ F[f]                                              # (k,)
     H = pk[None, :] / (omega[None, :] ** 2 - W[:, None] ** 2 + 2j * zeta * omega * W[:, None])
@@ -141,21 +173,19 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         r_static, m_static = r_static + Rs.ravel(), m_static + Fs.ravel()
     r_peak, r_peak_f, r_peak_c = _amplitude_peaks(H, Rm.reshape(len(omega), -1).T, freq, r_static)
     m_peak, m_peak_f, m_peak_c = _amplitude_peaks(H, Fm.reshape(len(omega), -1).T, freq, m_static)
-    record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
     u = np.einsum("wk,rdk->wrd", H, modal.shapes[record])
     if static is not None:
         u = u + static.reshape(-1, 6)[record][None]
     # complex reactions at every support and end forces of the members at the recorded nodes
-    support = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
     reactions = np.einsum("wk,ksd->wsd", H, Rm[:, support]) + r_static.reshape(-1, 6)[support][None]
-    members = np.flatnonzero(np.isin(model.conn, record).any(axis=1))
     warnings = tuple(f"{case.location}: warning: {w}" for w in
                      ground_mass_warnings(case, modal, [opt["ground"]] if opt.get("ground") is not None else []))
-    rows = len(freq) * 2 * len(members)
-    if rows > ROWS_LIMIT:
+    if not write_members:
         member_forces = None
-        warnings += (f"{case.location}: warning: case {case.name}: the end-force table would have {rows:.3g} rows "
-                    f"(above {ROWS_LIMIT:.0e}) and is not written; record fewer nodes or use fewer points",)
+        warnings += (f"{case.location}: warning: case {case.name}: the end-force table would have "
+                     f"{len(freq):,} frequencies x {len(members)} members x 2 ends = {member_rows:,} rows, above "
+                     f"the limit of {ROWS_LIMIT:,}, and is not written; record fewer nodes (so that at most "
+                     f"{ROWS_LIMIT // (2 * len(freq)):,} members have an end at them) or use fewer points",)
     else:
         member_forces = (np.einsum("wk,kqc->wqc", H, Fm[:, members])
                          + m_static.reshape(-1, 12)[members][None])

@@ -11,6 +11,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .memory import check_memory
 from .free_case import frame_indices, peak_index, peaks, step_warnings
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .static import load_vector
@@ -61,6 +62,15 @@ def _groups(case: LoadCase) -> list:
              ground.get(k)) for k in names]
 
 
+def history_bytes(steps: int, modes: int, groups: int, recorded: int) -> float:
+    """Estimate of the memory a history case holds at its peak, in bytes: about eleven
+    (steps, modes) float arrays (loads, knot kicks, the recurrence's inputs, outputs and
+    temporaries), three per time-function group and four (steps, recorded, 6) output fields
+    (displacement, velocity, acceleration and a temporary). Checked against a measured peak
+    in tests/test_bounds.py."""
+    return 8.0 * steps * (11 * modes + 3 * groups + 24 * recorded)
+
+
 def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
                        lu=None) -> HistoryResult:
     """Each group of loads with its own time function g_l adds its modal load
@@ -83,6 +93,11 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     a_ground = np.zeros((n, 3))
     corrected = bool(opt.get("correction"))
     groups = _groups(case)
+    recorded = model.n_nodes if opt["record"] is None else len(opt["record"])
+    check_memory(history_bytes(n, k, len(groups), recorded),
+                 f"case {case.name}: the time history of {n:,} steps x {k} modes x {recorded} recorded nodes",
+                 f"use a longer step or a shorter duration, fewer modes (count or fmax of {modal.name}), "
+                 'or record fewer nodes (record = "NAME*")')
     for fn, sub, ground in groups:
         g = fn(t)                                            # (m,) values just after each t_i
         F_eff = effective_load(model, asm, sub, ground)

@@ -9,7 +9,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
-from .modes import DENSE_LIMIT, ModalResult, Participation, participation, solve_modes
+from .modes import DENSE_LIMIT, ModalResult, Participation, lanczos_limit, participation, solve_modes
 
 __all__ = ["ModesCaseResult", "effective_load", "field_responses", "ground_mass_warnings", "influence_vectors",
            "residual_static", "solve_modes_case"]
@@ -64,6 +64,20 @@ def stiffness_condition(K, modes: ModalResult, cache: dict) -> float | None:
     return None
 
 
+def shape_rows(case: LoadCase, model: Model, count: int, n_free: int, asked: str = "") -> None:
+    """Refuse a modes case whose mode-shape table (modes x nodes rows) would pass ROWS_LIMIT;
+    the advice is also within what the eigen solver accepts for n_free DOFs."""
+    from ..deck.reader import ROWS_LIMIT
+    from .modes import DENSE_MAX
+
+    rows = count * model.n_nodes
+    if rows > ROWS_LIMIT:
+        most = min(ROWS_LIMIT // max(model.n_nodes, 1), n_free if n_free <= DENSE_MAX else lanczos_limit(n_free))
+        raise ModelError(f"case {case.name}: {asked}{count} modes x {model.n_nodes} nodes would write {rows:,} rows of "
+                         f"mode shapes, above the limit of {ROWS_LIMIT:,}; ask for at most {most} modes "
+                         "(count, or a lower fmax)")
+
+
 def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseResult:
     """Solve a modes case (options count, fmax, reference already checked by the reader)."""
     count, fmax = case.options.get("count"), case.options.get("fmax")
@@ -75,6 +89,9 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
                          "vibrate; check the supports")
     if M.nnz == 0 or M.diagonal().max() <= 0:
         raise ModelError(f"case {case.name}: the model has no mass; give materials a density or add masses")
+    if count is not None:
+        shape_rows(case, model, min(count, len(f)), len(f),
+                   f"count = {count} asks for all {len(f)} modes; " if count > len(f) else "")
     R = influence_vectors(model, point)[f]
     target = case.options.get("target")
     cache = {}
@@ -95,6 +112,10 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
     else:
         # add modes until the cumulative effective mass reaches the target in each direction
         cap = min(case.options.get("max", 300), len(f))
+        most = lanczos_limit(len(f))
+        if cap > most:
+            raise ModelError(f"case {case.name}: max = {cap} modes is more than one eigen solve of {len(f)} free "
+                             f"DOFs finds in reasonable time (the limit is {most}); set max = {most} or less")
         k = min(12, cap)
         K, M = K.tocsr(), M.tocsr()
         while True:
@@ -116,6 +137,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
         cond = stiffness_condition(K, modes, cache)
         if cond is not None:
             model.settings["_condition"] = cond
+    shape_rows(case, model, len(modes.omega), len(f))
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,

@@ -16,14 +16,30 @@ __all__ = ["DENSE_LIMIT", "ModalResult", "Participation", "massless_dofs", "part
 DENSE_LIMIT = 600   # free DOFs up to which a dense eigh is cheaper and exact
 DEFLATION_ROUNDS = 12  # re-runs for modes the Sturm count shows missed (one or more each)
 LANCZOS_TOL = 1e-12  # ARPACK's relative Ritz tolerance: eigenvalues to ~1e-12, fewer steps than 0 (eps)
+ZERO_ROUNDING = 10   # a mode of a K not shown positive definite is a zero mode within this many eps of
+                     # its own stiffness scale: rigid-body modes measured at <= 2 (free beams, free masts,
+                     # with and without 0.2 mm links), the first mode of a mast with a 0.1 mm link (its
+                     # factor refused) at 17; our choice
+# Size limits, our choice (measured on a loaded 2-core machine): a dense solve of n DOFs holds
+# about 8.5 n^2 doubles at its peak and took 18 s at n = 1600 (time ~ n^3: ~2 min at 3000);
+# shift-invert Lanczos took 45, 80 and 180 s for 100, 200 and 400 modes of 19 600 DOFs, its
+# basis of 2k + 1 vectors and their orthogonalisation (~ n k^2) growing with the count (1500
+# modes of an 18 522-DOF grid had not finished in 120 s). LANCZOS_WORK allows about three
+# times the work of the 400-mode run.
+DENSE_MAX = 3000        # free DOFs above which finding (nearly) every mode densely is refused
+DENSE_COPIES = 10       # n x n double arrays held at the dense solve's peak (8.5 measured before the
+                        # inverted pencil was added, which holds about one more)
+LANCZOS_WORK = 1e10     # finite modes x (modes asked)^2 above which a Lanczos run is refused
+LANCZOS_MAX = 1000      # and never more modes than this in one Lanczos run
 
 
 @dataclass
 class ModalResult:
     """omega (k,) rad/s ascending; freq (k,) Hz; period (k,) s (inf for rigid-body modes);
-    phi (n, k) mass-normalised; residual (k,) backward error
-    ||K phi - w^2 M phi|| / ((||K|| + w^2 ||M||) ||phi||); orth_mass max |phi^T M phi - I|;
-    orth_stiff max off-diagonal |phi^T K phi| / max(w^2); sturm_count eigenvalues below
+    phi (n, k) mass-normalised; residual (k,) backward error in each mode's own scale
+    ||K phi - w^2 M phi|| / (|| |K| |phi| || + w^2 || |M| |phi| ||); orth_mass max |phi^T M phi - I|;
+    orth_stiff the largest off-diagonal |phi_i^T K phi_j| beyond its rounding bound, over
+    sqrt(w_i^2 w_j^2) (see `_checks`); sturm_count eigenvalues below
     the check shift sturm_shift (None if not computed) and sturm_expected the computed ones
     below it (the modes found plus any repeated partners of the last one); solver 'dense' or
     'shift-invert, <factorisation>'."""
@@ -55,17 +71,55 @@ class Participation:
     cumulative: np.ndarray
 
 
+def _own_scale(K, phi) -> np.ndarray:
+    """(k,) |phi_j|^T |K| |phi_j|: the stiffness scale of each mode's own motion, the rounding
+    unit of phi_j^T K phi_j (a short stiff member that moves rigidly in a mode raises it; one
+    that stays still does not)."""
+    aK = abs(K) if sp.issparse(K) else np.abs(K)
+    a = np.abs(phi)
+    return np.einsum("ij,ij->j", a, aK @ a)
+
+
 def _checks(K, M, lam, phi):
+    """Residuals and orthogonality, each against the modes' own scales, never the whole model's.
+
+    residual_j = ||K phi - w^2 M phi|| / (|| |K| |phi| || + w^2 || |M| |phi| ||): the backward error
+    of the pair in the norm of its own motion (a normwise backward error with |K| |phi| in place
+    of ||K|| ||phi||; Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed., sec. 7.1
+    and 7.2), so a short stiff member elsewhere in the model does not hide a wrong low mode.
+
+    orth_stiff: for each pair i != j, the part of |phi_i^T K phi_j| beyond the rounding bound of
+    its own computation, gamma |phi_i|^T |K| |phi_j| (Higham, sec. 3.1: a dot product of length m
+    is exact to gamma_m = m u / (1 - m u) times |x|^T |y|, taken for the row lengths of K plus the
+    final sum), over sqrt(w_i^2 w_j^2), the pair's own stiffness (the larger one where a mode is a
+    rigid-body mode; for two of them the largest w^2 of the set, or with none their rounding scale
+    |phi_i|^T |K| |phi_j|); the largest over the pairs. 0 when every coupling is explained by
+    rounding."""
     Kp, Mp = K @ phi, M @ phi
-    nk = spla.norm(K, 1) if sp.issparse(K) else np.linalg.norm(K, 1)
-    nm = spla.norm(M, 1) if sp.issparse(M) else np.linalg.norm(M, 1)
-    res = np.linalg.norm(Kp - Mp * lam, axis=0) / ((nk + np.abs(lam) * nm) * np.linalg.norm(phi, axis=0))
+    aK = abs(K) if sp.issparse(K) else np.abs(K)
+    aM = abs(M) if sp.issparse(M) else np.abs(M)
+    a = np.abs(phi)
+    den = np.linalg.norm(aK @ a, axis=0) + np.abs(lam) * np.linalg.norm(aM @ a, axis=0)
+    res = np.linalg.norm(Kp - Mp * lam, axis=0) / np.where(den > 0, den, 1.0)
     mm = phi.T @ Mp
     kk = phi.T @ Kp
     orth_m = float(np.abs(mm - np.eye(len(lam))).max()) if len(lam) else 0.0
-    off = kk - np.diag(np.diag(kk))
-    orth_k = float(np.abs(off).max() / max(np.abs(lam).max(), 1e-300)) if len(lam) else 0.0
-    return res, orth_m, orth_k
+    if len(lam) < 2:
+        return res, orth_m, 0.0
+    n = K.shape[0]
+    row = int(np.diff(K.indptr).max()) if sp.issparse(K) and K.format in ("csr", "csc") else n
+    u = np.finfo(float).eps / 2
+    gamma = (row + n) * u / (1 - (row + n) * u)
+    bound = a.T @ (aK @ a)
+    excess = np.maximum(np.abs(kk) - gamma * bound, 0.0)
+    np.fill_diagonal(excess, 0.0)
+    w2 = np.maximum(lam, 0.0)
+    scale = np.where((w2[:, None] > 0) & (w2[None, :] > 0), np.sqrt(np.outer(w2, w2)),
+                     np.maximum(w2[:, None], w2[None, :]))
+    # two rigid-body modes: against the largest w^2 of the set, or with none, their rounding scale
+    scale = np.where(scale > 0, scale, w2.max() if w2.max() > 0 else bound)
+    ratio = np.divide(excess, scale, out=np.zeros_like(excess), where=excess > 0)
+    return res, orth_m, float(ratio.max())
 
 
 def _one_blas_thread(factor):
@@ -91,30 +145,74 @@ def massless_dofs(M) -> np.ndarray:
 
 
 def _dense(K, M):
-    """All finite eigenpairs of the dense pencil, ascending, and their number (the rank of M).
+    """All finite eigenpairs of the dense pencil, ascending, their number (the rank of M), the
+    shift of the inverted pencil (0 when K is positive definite; None if only the direct pencil
+    could be solved) and whether K is positive definite (then no mode is a zero mode).
 
-    Where M is singular (massless DOFs, or massless directions that are not single DOFs, such
-    as the axial rotation of an inclined member with lumped or translational-only mass) the
-    pencil is split along the eigenvectors of M: x = R y + N z with M N = 0. The massless
-    coordinates z carry no inertia, so Kn z + Knr y = 0 at every frequency and they are
-    condensed out exactly; the rest is a definite problem (Kc, R^T M R)."""
+    The direct reduction eigh(K, M) gives every eigenvalue to about eps times the largest
+    (Golub and Van Loan, Matrix Computations, 4th ed., sec. 8.7), so where the highest is
+    1e15 times the lowest (a short stiff member) the lowest come out as zero or noise. The
+    inverted pencil eigh(M, K - sigma M), mu = 1 / (lambda - sigma), gives the lowest to about
+    eps relative to themselves and loses the highest. Each is used where it is the more
+    accurate, below and above the point where their error bounds eps mu_max (lambda - sigma)^2
+    and eps lambda_max meet; the upper vectors are made M-orthogonal to the lower ones and the
+    pencil is solved again in their span (Rayleigh-Ritz), so that the set stays M-orthonormal.
+    sigma = 0 when K has a Cholesky factor (a supported structure); else a small negative shift,
+    so that rigid-body modes are found at zero. The inverted pencil needs no special care for
+    massless DOFs (they have mu = 0, an infinite eigenvalue).
+
+    For the direct pencil, where M is singular (massless DOFs, or massless directions that are
+    not single DOFs, such as the axial rotation of an inclined member with lumped or
+    translational-only mass) the pencil is split along the eigenvectors of M: x = R y + N z with
+    M N = 0. The massless coordinates z carry no inertia, so Kn z + Knr y = 0 at every frequency
+    and they are condensed out exactly; the rest is a definite problem (Kc, R^T M R)."""
     Kd = K.toarray() if sp.issparse(K) else np.asarray(K, dtype=float)
     Md = M.toarray() if sp.issparse(M) else np.asarray(M, dtype=float)
     mu, V = sla.eigh(Md)
     null = mu <= 1e-13 * max(float(mu.max(initial=0.0)), 1e-300)   # far below any mass, above round-off
     if not null.any():
-        lam, phi = sla.eigh(Kd, Md)
-        return lam, phi, len(lam)
-    R, N = V[:, ~null], V[:, null]
-    KR, KN = Kd @ R, Kd @ N
-    try:
-        T = -sla.solve(N.T @ KN, N.T @ KR, assume_a="sym")          # z = T y
-    except (sla.LinAlgError, ValueError):
-        raise ModelError("massless parts move without stiffness: give the members there a density "
-                         "or a point mass, or restrain the free directions") from None
-    Kc = R.T @ KR + (R.T @ KN) @ T
-    lam, y = sla.eigh((Kc + Kc.T) / 2, np.diag(mu[~null]))
-    return lam, R @ y + N @ (T @ y), int((~null).sum())
+        lam_d, phi_d = sla.eigh(Kd, Md)
+    else:
+        R, N = V[:, ~null], V[:, null]
+        KR, KN = Kd @ R, Kd @ N
+        try:
+            T = -sla.solve(N.T @ KN, N.T @ KR, assume_a="sym")          # z = T y
+        except (sla.LinAlgError, ValueError):
+            raise ModelError("massless parts move without stiffness: give the members there a density "
+                             "or a point mass, or restrain the free directions") from None
+        Kc = R.T @ KR + (R.T @ KN) @ T
+        lam_d, y = sla.eigh((Kc + Kc.T) / 2, np.diag(mu[~null]))
+        phi_d = R @ y + N @ (T @ y)
+        del R, N, KR, KN, T, Kc, y
+    del V                             # the peak below is Kd, Md, phi_d and the inverted solve
+    n_fin = len(lam_d)
+    d = np.diag(Kd) / np.where(np.diag(Md) > 0, np.diag(Md), np.inf)
+    sigma = 0.0
+    for _ in range(2):
+        try:
+            nu, y = sla.eigh(Md, Kd - sigma * Md)
+            break
+        except sla.LinAlgError:       # K singular: rigid-body modes or mechanisms
+            sigma = -1e-6 * float(np.median(d[d > 0])) if (d > 0).any() else -1.0
+    else:
+        return lam_d, phi_d, n_fin, None, False
+    nu, y = nu[::-1], y[:, ::-1]
+    top = max(abs(float(lam_d[-1])), 1e-300) if n_fin else 1e-300
+    ok = (nu > 0) & ((1.0 / np.where(nu > 0, nu, 1.0)) ** 2 <= top / max(nu[0], 1e-300))
+    ok[n_fin:] = False
+    s = int(np.argmin(ok)) if not ok.all() else len(nu)
+    lam_lo = sigma + 1.0 / nu[:s]
+    phi_lo = y[:, :s] / np.sqrt(np.einsum("ij,ij->j", y[:, :s], Md @ y[:, :s]))
+    if s == n_fin:
+        return lam_lo, phi_lo, n_fin, sigma, sigma == 0.0
+    Q = phi_d[:, s:]
+    for _ in range(2):                # one repeat of the projection restores orthogonality (common practice)
+        Q = Q - phi_lo @ (phi_lo.T @ (Md @ Q))
+    AQ, BQ = Q.T @ Kd @ Q, Q.T @ Md @ Q
+    lam_hi, z = sla.eigh((AQ + AQ.T) / 2, (BQ + BQ.T) / 2)
+    lam, phi = np.r_[lam_lo, lam_hi], np.c_[phi_lo, Q @ z]
+    order = np.argsort(lam, kind="stable")
+    return lam[order], phi[:, order], n_fin, sigma, sigma == 0.0
 
 
 def _kept(lam, want, lam_max) -> int:
@@ -181,6 +279,46 @@ def _lanczos(K, M, k, sigma, factor, found=None):
     return sigma + 1.0 / mu, factor.upper_solve(y), y
 
 
+def lanczos_limit(n_fin: int) -> int:
+    """The most modes one shift-invert Lanczos run is asked for on a model with n_fin finite
+    modes: LANCZOS_MAX, fewer on a large model (n_fin k^2 <= LANCZOS_WORK)."""
+    return max(1, min(LANCZOS_MAX, int(np.sqrt(LANCZOS_WORK / max(n_fin, 1)))))
+
+
+def check_size(n: int, n_fin: int, count: int | None, dense: bool, f_max: float | None = None) -> None:
+    """Refuse, before it starts, an eigen solve that would not end in reasonable time or not fit:
+    a dense solve of more than DENSE_MAX DOFs or of more memory than this process may take, a
+    Lanczos run for more modes than lanczos_limit or whose vectors do not fit. `count`: modes
+    asked for, or with `f_max` the modes the next run for f_max would compute."""
+    from .memory import check_memory, gib
+
+    limit = lanczos_limit(n_fin)
+    fix = f"ask for at most {limit} modes (count = {limit}) or set a frequency limit (fmax)"
+    if dense and n > DENSE_LIMIT:
+        need = DENSE_COPIES * 8.0 * n * n
+        asked = f"count = {count} asks for {'all' if count >= n_fin else 'nearly all'} of the {n_fin} modes"
+        if n > DENSE_MAX:
+            raise ModelError(f"{asked}, which only a dense solve finds: for {n} free DOFs it needs about "
+                             f"{gib(need)} and time growing as the cube of the DOFs, above the limit of "
+                             f"{DENSE_MAX} free DOFs for it (about 2 minutes on 2 cores); {fix}")
+        check_memory(need, f"the dense eigen solve of {n} free DOFs ({asked})", fix)
+        return
+    if dense or count is None:
+        return
+    if count > limit:
+        what = f"count = {count}" if f_max is None else f"fmax = {f_max:.4g} Hz takes in more than {count} modes, which"
+        why = ("" if limit == LANCZOS_MAX else f" for a model of {n_fin} modes: the work grows with the "
+               "modes times the square of the count")
+        every = f", or for every mode (count = {n_fin}), which a dense solve finds" if n <= DENSE_MAX else ""
+        raise ModelError(f"{what} is more modes than one Lanczos run finds in reasonable time (the limit is "
+                         f"{limit}{why}); "
+                         + (f"lower fmax or ask for at most {limit} modes (count = {limit})" if f_max else fix) + every)
+    ncv = min(max(2 * count + 1, 20), n)
+    need = 8.0 * (n * (ncv + 4 * count) + 2 * ncv * ncv)     # basis, found vectors, work (7 n k measured)
+    check_memory(need, f"the Lanczos eigen solve of {count} modes on {n} free DOFs",
+                 "ask for fewer modes (count), a lower fmax, or reduce the model")
+
+
 def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
                 shift: float | None = None, sturm: bool = True, factor_kind: str = "auto",
                 cache: dict | None = None) -> ModalResult:
@@ -203,8 +341,10 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
     want = min(n_modes or n_fin, n_fin)
     lam_max = (2 * np.pi * f_max) ** 2 if f_max is not None else np.inf
     extra = 2       # eigenpairs beyond the wanted ones, to place the Sturm shift past a repeated pair
-    if n <= DENSE_LIMIT or (n_modes is not None and want + extra >= n_fin - 1):
-        lam, phi, n_fin = _dense(K, M)
+    dense = n <= DENSE_LIMIT or (n_modes is not None and want + extra >= n_fin - 1)
+    check_size(n, n_fin, n_modes, dense)
+    if dense:
+        lam, phi, n_fin, sigma, definite = _dense(K, M)
         want = min(want, n_fin)
         more = False
         solver = "dense"
@@ -216,6 +356,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
         if "factor" not in cache:
             cache["factor"] = shift_invert_factor(K, M, shift, factor_kind)
         factor, sigma = cache["factor"]
+        definite = sigma == 0 and factor.definite       # K itself has a Cholesky factor
         inertia_kind, band_order = factor.kind, factor.order
         k = min((want if n_modes else 20) + extra, n_fin - 2)
         while True:
@@ -225,6 +366,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
             lam, phi, basis = lam[order], phi[:, order], basis[:, order]
             if n_modes is None and lam[-1 - extra] < lam_max and k < n_fin - 2:
                 k = min(2 * k, n_fin - 2)
+                check_size(n, n_fin, k - extra, False, f_max)
                 continue
             break
         more = True
@@ -260,15 +402,25 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
         keep = _kept(lam, want, lam_max)
     lam_all = lam
     lam, phi = lam[:keep], phi[:, :keep]
-    # rigid-body modes come out at round-off, of either sign: about eps times the largest
-    # eigenvalue computed, and, after a negative shift sigma, up to ~20 LANCZOS_TOL |sigma| (the
-    # accuracy of mu = 1/(lambda - sigma) at lambda = 0; 17x measured on a free pipe). Zero
-    # those (far below any real mode: 1e-12 of 2e9 rad^2/s^2 is 3e-4 Hz; 1e3 LANCZOS_TOL of
-    # the free pipe's |sigma| = 2.2e6 is 7e-3 Hz, its first elastic mode 41 Hz), clip the
-    # negative rest
-    scale = float(np.abs(lam_all).max(initial=0.0))
-    noise = max(1e-12 * scale, 1e3 * LANCZOS_TOL * abs(sigma)) if basis is not None else 1e-12 * scale
-    lam = np.maximum(np.where(np.abs(lam) <= noise, 0.0, lam), 0.0)
+    # Zero modes. A positive definite K (shown by its factor: every supported structure) has
+    # none, however stiff some member is, and the inverted solve gives every lambda > 0. Else
+    # rigid-body modes come out at round-off, of either sign: about eps times their own
+    # stiffness scale |phi|^T |K| |phi| (the rounding unit of phi^T K phi, which does not grow
+    # with a stiff member that does not move in the mode), and, after a negative shift sigma, up
+    # to ~20 LANCZOS_TOL |sigma| (the accuracy of mu = 1/(lambda - sigma) at lambda = 0; 17x
+    # measured on a free pipe; eps |sigma| for the dense inverted pencil). Zero those (1e3
+    # LANCZOS_TOL of the free pipe's |sigma| = 2.2e6 is 7e-3 Hz, its first elastic mode 41 Hz),
+    # clip the negative rest
+    if not definite and len(lam):
+        tol = LANCZOS_TOL if basis is not None else np.finfo(float).eps
+        own = _own_scale(K, phi) / np.einsum("ij,ij->j", phi, M @ phi)
+        noise = ZERO_ROUNDING * np.finfo(float).eps * own
+        if sigma is not None:
+            noise = np.maximum(noise, 1e3 * tol * abs(sigma))
+        else:       # only the direct pencil was solved: its rounding unit is the largest eigenvalue
+            noise = np.maximum(noise, 1e-12 * float(np.abs(lam_all).max(initial=0.0)))
+        lam = np.where(np.abs(lam) <= noise, 0.0, lam)
+    lam = np.maximum(lam, 0.0)
     # mass-normalise (eigh and eigsh already do; renormalise against round-off)
     mnorm = np.sqrt(np.einsum("ij,ij->j", phi, M @ phi))
     phi = phi / mnorm

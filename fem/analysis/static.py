@@ -9,11 +9,11 @@ import scipy.sparse.linalg as spla
 
 from .. import elements as el
 from ..assembly import Assembled, element_matrices
-from ..errors import MechanismError
+from ..errors import MechanismError, ModelError
 from ..model import DIRECTIONS, LoadCase, Model
 
-__all__ = ["StaticResult", "condition_estimate", "factorise", "load_vector", "solve_static", "support_forces",
-           "equilibrium"]
+__all__ = ["StaticResult", "condition_estimate", "factorise", "load_vector", "solve_static", "stiffness_contrast",
+           "support_forces", "equilibrium"]
 
 
 @dataclass
@@ -83,18 +83,42 @@ def _scatter(out, idx, vals, rows=False):
     out += np.bincount(idx.ravel(), weights=vals, minlength=out.size)
 
 
+def _normalised_stiffness(model: Model, asm: Assembled):
+    """K over the free DOFs with every member's stiffness divided by its own largest diagonal
+    entry and every spring set to 1: the same zero-energy motions as K (a sum of positive
+    semi-definite parts with positive weights vanishes only where every part does), but no
+    contrast between members, so a very short or very stiff member is not taken for a hinge."""
+    import scipy.sparse as sp
+
+    k = asm.k_local
+    scale = np.abs(np.diagonal(k, axis1=1, axis2=2)).max(axis=1, initial=0.0)
+    kg = el.to_global(k / np.where(scale > 0, scale, 1.0)[:, None, None], asm.R)
+    dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
+    n = 6 * model.n_nodes
+    rows = np.r_[np.repeat(dofs, 12, axis=1).ravel(), np.arange(n)]
+    cols = np.r_[np.tile(dofs, (1, 12)).ravel(), np.arange(n)]
+    vals = np.r_[kg.ravel(), (model.springs.ravel() > 0).astype(float)]
+    Kn = sp.coo_matrix((vals, (rows, cols)), shape=(n, n)).tocsr()
+    return Kn[asm.free][:, asm.free]
+
+
 def free_motions(model: Model, asm: Assembled, Kff, max_modes: int = 6):
     """Zero-stiffness motions of K over the free DOFs: a list of mechanisms, each the list of
     (node, direction) pairs that move most in it (components above 10 % of the largest).
 
-    Found from the lowest eigenvectors of K scaled to unit diagonal (dense up to 3000 DOFs,
-    shift-invert Lanczos above), so rigid rotations show up as rotations, not pivot accidents."""
+    Found from the lowest eigenvectors of the member-normalised stiffness (each member and
+    spring at its own scale, `_normalised_stiffness`) scaled to unit diagonal (dense up to 3000
+    DOFs, shift-invert Lanczos above), so rigid rotations show up as rotations, not pivot
+    accidents, and a stiffness contrast between members (a 0.1 mm link, a member with
+    E = 0.2 Pa at a support) is not a mechanism: it is left to the condition estimate. `Kff` is
+    used when the model's member matrices do not match it (a K built elsewhere)."""
     import scipy.linalg as sla
 
-    d = np.abs(Kff.diagonal())
+    Kn = _normalised_stiffness(model, asm) if Kff.shape == (len(asm.free),) * 2 else Kff
+    d = np.abs(Kn.diagonal())
     d = np.where(d > 0, d, 1.0)
     s = 1 / np.sqrt(d)
-    A = Kff.multiply(s[:, None]).multiply(s[None, :]).tocsc()
+    A = Kn.multiply(s[:, None]).multiply(s[None, :]).tocsc()
     n = A.shape[0]
     k = min(max_modes, n)
     if n <= 3000:
@@ -108,6 +132,17 @@ def free_motions(model: Model, asm: Assembled, Kff, max_modes: int = 6):
         big = big[np.argsort(-v[big])][:8]
         out.append([(model.node_names[asm.free[i] // 6], DIRECTIONS[asm.free[i] % 6]) for i in big])
     return out
+
+
+def stiffness_contrast(model: Model, asm: Assembled) -> float:
+    """Ratio of the largest to the smallest member or spring stiffness scale (the largest
+    diagonal entry of each member's matrix, each spring's constant): the contrast that a
+    singular-looking K without a free motion comes from."""
+    k = asm.k_local
+    scale = np.abs(np.diagonal(k, axis1=1, axis2=2)).max(axis=1, initial=0.0)
+    scale = np.r_[scale, model.springs[model.springs > 0]]
+    scale = scale[scale > 0]
+    return float(scale.max() / scale.min()) if len(scale) else 1.0
 
 
 class _Symmetric:
@@ -146,8 +181,13 @@ def factorise(model: Model, asm: Assembled):
     except RuntimeError:
         lu, singular = None, True
     motions = free_motions(model, asm, Kff) if singular else []
-    if singular and (motions or lu is None):
-        motions = motions or [[]]
+    if singular and lu is None and not motions:
+        # no motion is free, yet the matrix is exactly singular: the contrast is beyond double precision
+        raise ModelError(f"the stiffness is singular to working precision, but no node can move without "
+                         f"straining a member or spring: a stiffness contrast of about "
+                         f"{stiffness_contrast(model, asm):.0e} between members, beyond double precision "
+                         "(1e16), not a mechanism; check E, sections, springs and units, and very short members")
+    if singular and motions:
         text = "; ".join(f"motion {i + 1}: " + ", ".join(f"{n} {d}" for n, d in mm)
                          for i, mm in enumerate(motions))
         raise MechanismError(f"the structure is a mechanism (singular stiffness), {len(motions)} free "

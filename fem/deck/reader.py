@@ -9,7 +9,9 @@ from __future__ import annotations
 import difflib
 import fnmatch
 import math
+import os
 import re
+import stat
 from functools import lru_cache
 from importlib import resources
 from pathlib import Path
@@ -21,6 +23,7 @@ from ..errors import DeckError, Location, suggest
 from ..model import DIRECTIONS, Combination, LoadCase, LoadItem, Material, Model, Section
 from ..sections import SHAPES, make_section
 from . import units as U
+from .plausible import model_warnings
 from .syntax import keyword_callbacks
 from .syntax import parse as parse_deck_text
 from .units import Quantity
@@ -36,7 +39,27 @@ COINCIDENT = 1e-6
 # A million kilometres: beyond any structure, and it keeps products of coordinates (lengths
 # cubed in the stiffness) well inside the floating-point range.
 MAX_COORDINATE = 1e9
+# Our choice, from a measurement: a generated deck of node lines parsed at about 10-15 s and
+# 170 MB of memory per MB of deck (2-core machine shared with other jobs, load 4-9); `quaver
+# check` of an 8 MB one (176 000 node lines) took 190 s with a peak of 1.36 GB. So 8 MB, the
+# deck and its includes together, reads in minutes within about 1.5 GB; a deck of a hundred
+# thousand members written out line by line fits, and loops keep larger models short.
+MAX_DECK_BYTES = 8_000_000
+# Our choice: a table (two numbers a row, ~25 bytes) of 32 MB holds over a million rows, e.g.
+# 20 minutes of a record sampled at 1 kHz; read row by row at ~6 bytes of memory per byte.
+MAX_TABLE_BYTES = 32_000_000
+# Our choice: expressions and loops are read by walking their tree, one Python call per level;
+# 200 levels keep that far inside the interpreter's recursion limit (1000 frames) whatever
+# calls the reader, and no deck written by hand nests so deep.
+MAX_NESTING = 200
+_EXPRESSIONS = {"add", "sub", "mul", "div", "pow", "neg", "unary", "call", "var", "number", "quantity",
+                "vector", "name", "index"}
 ROWS_LIMIT = 5_000_000   # rows of a free, history or harmonic table (recorded nodes x samples)
+# Statements a deck's loops may execute in all, nested loops and included files counted pass by
+# pass (our choice): reading takes some 30-100 us a statement, so this bounds a deck to a minute
+# or two, while a model of a hundred thousand members and nodes is far inside it. A mistyped
+# range (0..999999 nested twice) is refused at once instead of running for days.
+LOOP_STATEMENTS = 1_000_000
 _FUNCS = {"sqrt": math.sqrt, "sin": math.sin, "cos": math.cos, "tan": math.tan,
           "atan": math.atan, "abs": abs, "exp": math.exp, "log": math.log}
 _ASSUMABLE = {"length": U.LENGTH, "force": U.FORCE, "mass": U.MASS, "time": U.TIME,
@@ -75,21 +98,30 @@ class _Reader:
         self.unitless: set[str] = set()           # parameters written as bare numbers (let a = 30)
         self.mixed_seen: set[tuple[str, str]] = set()   # (group, kind) already warned as mixed
         self.loop_vars: list[str] = []
+        self.loop_sites: list[Location] = []      # the enclosing loops, outermost first
+        self.loop_steps = 0                       # statements executed inside loops so far
         self.warnings: list[str] = []
         self.stack: list[Path] = []
         self.lines: dict[Path, list[str]] = {}
         self.token_file: dict[int, Path] = {}
         self.quantities: dict[str, Quantity] = {}      # literal text -> value, e.g. "6 m"
+        self.section_params: dict[str, tuple[str, dict]] = {}   # name -> (shape, SI dimensions)
+        self.deck_bytes = 0                            # bytes of deck text read so far (all files)
 
     # ---------- files and locations
     def read_file(self, path: Path, where: Location | None = None) -> None:
-        path = path.resolve()
+        path = _resolved(path, "include" if where else "deck", where)
         if path in self.stack:
             raise DeckError(f"'{self.shown(path)}' includes itself (through {' -> '.join(self.shown(p) for p in self.stack)})", where)
-        if self.top_dir not in path.parents and path.parent != self.top_dir:
+        if path == self.top_dir:
+            raise DeckError(f"include names the deck's own folder {self.top_dir}, not a file", where,
+                            "give the name of a deck file in it")
+        if self.top_dir not in path.parents:
             raise DeckError(f"include '{path}' is outside the deck's folder {self.top_dir}", where,
                             "keep included decks in the same folder as the top deck or below it")
-        text = _read_utf8(path, "deck", where, self.shown(path))
+        text = _read_utf8(path, "deck", where, self.shown(path), MAX_DECK_BYTES - self.deck_bytes,
+                          total=self.deck_bytes)
+        self.deck_bytes += len(text.encode("utf-8", errors="surrogatepass"))
         self.lines[path] = text.splitlines()
         self.stack.append(path)
         try:
@@ -124,7 +156,21 @@ class _Reader:
             return str(path)
 
     def parse(self, text: str, path: Path) -> Tree:
-        return parse_deck_text(_parser(), text, Path(self.shown(path)))
+        tree = parse_deck_text(_parser(), text, Path(self.shown(path)))
+        deep = _too_deep(tree)
+        if deep is not None:
+            sub, levels = deep
+            path = path.resolve()
+            self.lines.setdefault(path, text.splitlines())
+            self.stack.append(path)
+            try:
+                where = self.loc(sub)
+            finally:
+                self.stack.pop()
+            raise DeckError(f"this is nested {levels} levels deep, above the limit of {MAX_NESTING} (each term of a "
+                            "sum or product, each sign and each enclosing loop is one level)", where,
+                            "split it with let parameters, e.g. let a = ... and let b = ..., then a + b")
+        return tree
 
     # ---------- expressions
     def evaluate(self, t) -> Quantity:
@@ -140,6 +186,10 @@ class _Reader:
                 return self.quantity(ch[0])
             if d == "var":
                 name = str(ch[0])
+                if name not in self.vars and name in U.UNITS:
+                    raise DeckError(f"'{name}' is not defined; if the unit {name} is meant, write the whole unit "
+                                    f"directly after its number, with no spaces inside it", self.loc(ch[0]),
+                                    "units are written joined: 9.81 m/s^2, 7850 kg/m^3, 25 kN*m")
                 if name not in self.vars:
                     raise DeckError(f"'{name}' is not defined; {suggest(name, self.vars)}", self.loc(ch[0]))
                 return self.vars[name]
@@ -153,6 +203,8 @@ class _Reader:
                 return self.call(fname, args, ch[0])
             ops = {"add": "__add__", "sub": "__sub__", "mul": "__mul__", "div": "__truediv__",
                    "pow": "__pow__"}
+            if d == "pow" and isinstance(ch[0], Tree) and ch[0].data == "quantity":
+                self.spaced_power(ch[0].children[0])
             if d in ops:
                 a, b = self.evaluate(ch[0]), self.evaluate(ch[1])
                 q = _binary(a, b, ops[d])
@@ -172,6 +224,16 @@ class _Reader:
         except ArithmeticError as exc:
             raise DeckError(str(exc), self.loc(t)) from None
         raise DeckError(f"expected a single value here, found {d}", self.loc(t))
+
+    def spaced_power(self, tok: Token) -> None:
+        """Refuse `9.81 m/s ^2` and `2 m ^2`: a space before '^' raises the whole quantity, number
+        included, to the power, which is never what is meant without brackets around it."""
+        line = self.loc(tok).source_line
+        rest = line[tok.end_column - 1:] if tok.end_line == tok.line else ""
+        if rest[:1] in (" ", "\t") and rest.lstrip(" \t").startswith("^"):
+            raise DeckError(f"'{tok} ^...' raises the number and its unit together to the power", self.loc(tok),
+                            ("" if "^" in str(tok) else f"for a power of the unit write it joined ({tok}^2); ")
+                            + f"for a power of the whole quantity put it in brackets: ({tok})^2")
 
     def quantity(self, tok: Token) -> Quantity:
         text = str(tok)
@@ -199,6 +261,8 @@ class _Reader:
     def call(self, fname, args, tok) -> Quantity:
         if fname not in _FUNCS:
             raise DeckError(f"unknown function '{fname}'; {suggest(fname, _FUNCS)}", self.loc(tok))
+        if len(args) != 1:                 # every function here takes one value
+            raise DeckError(f"{fname}() takes one value, {len(args)} were given", self.loc(tok))
         if fname == "sqrt" and len(args) == 1:
             a = args[0]
             dim = a.dim if a.dim is not WILD else U.NONE
@@ -212,10 +276,19 @@ class _Reader:
         for a in args:
             if a.dim not in (U.NONE, WILD):
                 raise DeckError(f"{fname}() takes a plain number or an angle, got {U.dim_name(a.dim)}", self.loc(tok))
+        if fname == "log" and len(args) == 1 and args[0].value <= 0:
+            raise DeckError(f"log() needs a positive number, got {_g(args[0].value)}", self.loc(tok))
         try:
-            return Quantity(_FUNCS[fname](*[a.value for a in args]))
-        except (ValueError, TypeError, OverflowError) as exc:
+            out = _FUNCS[fname](*[a.value for a in args])
+        except OverflowError:
+            raise DeckError(f"{fname}() of this value is too large to compute (numbers reach about "
+                            f"{_FLOAT_MAX:.1e})", self.loc(tok)) from None
+        except (ValueError, TypeError) as exc:
             raise DeckError(f"{fname}(): {exc}", self.loc(tok)) from None
+        if out == 0 and fname == "exp":   # the only one of them that is never 0 but can round to it
+            raise DeckError(f"exp({_g(args[0].value)}) is too small to hold (it would become 0)", self.loc(tok),
+                            "write 0 if zero is meant")
+        return Quantity(out)
 
     def value(self, t, dim, what: str) -> float:
         """Evaluate t and check it has dimension `dim`; return the SI float."""
@@ -324,12 +397,55 @@ class _Reader:
                                      f"not a {what}, which this statement leaves out")
             return out
         if n not in table:
+            self.other_kind(n, what, t)
             raise DeckError(f"{what} '{n}' is not defined; {suggest(n, list(table) + list(self.groups))}", self.loc(t))
         return [n]
 
+    def other_kind(self, n: str, what: str, t) -> None:
+        """Refuse a name of another kind (a node where a member is wanted) by what it is."""
+        kinds = ("node", "member", "material", "section", "result", "let")
+        kind = next((self.defined[(k, n)][0] for k in kinds if (k, n) in self.defined), None)
+        if kind is None or kind in what.split(" or "):
+            return
+        acts = {"member": "a line load acts on members", "node": "this statement acts on nodes"}.get(
+            what, f"this statement takes a {what}")
+        hint = ""
+        if kind == "member" and n in self.members:
+            m = self.members[n]
+            hint = f"member {n} runs from node {m['i'][0]} to node {m['j'][0]}"
+        elif kind == "node" and what == "member":
+            hint = f"for a load at the node write force {n} = (fx, fy, fz)"
+        article = "an" if kind[0] in "aeiou" else "a"
+        raise DeckError(f"'{n}' is {article} {kind}, not a {what}; {acts}", self.loc(t), hint)
+
     # ---------- statements
     def statement(self, s: Tree) -> None:
+        if self.loop_sites:
+            self.loop_steps += 1
+            if self.loop_steps > LOOP_STATEMENTS:
+                raise DeckError(f"the deck's loops execute more than {LOOP_STATEMENTS:,} statements in all "
+                                "(nested loops multiply their passes)", self.loop_sites[0], _LOOP_HINT)
         getattr(self, "st_" + s.data)(s)
+
+    def scope(self) -> tuple:
+        """The parameters in force now, for a statement whose values are worked out when the
+        model is built (a case, a combination): inside a loop, the values of this pass."""
+        return dict(self.vars), frozenset(self.unitless), tuple(self.loop_vars)
+
+    def use_scope(self, scope: tuple) -> None:
+        self.vars, self.unitless, self.loop_vars = scope[0], set(scope[1]), list(scope[2])
+
+    def fixed_name(self, t):
+        """A support's, spring's or mass's target with its indices worked out now, in this pass
+        of a loop: a token of the whole name at the same place (N[up] -> N3); a pattern or a
+        plain name as written. The node table is searched when the model is built."""
+        if isinstance(t, Token) or len(t.children) < 2 or t.children[1] is None:
+            return t
+        first = t.children[0]
+        tok = Token("NAME", self.name(t), first.start_pos, first.line, first.column, first.end_line,
+                    first.end_column, first.end_pos)
+        self.token_file[id(tok)] = self.token_file.get(id(first)) or self.stack[-1]
+        return tok
 
     def st_title(self, s):
         self.title = str(s.children[0])[1:-1]
@@ -422,6 +538,7 @@ class _Reader:
 
     def st_include(self, s):
         rel = str(s.children[0])[1:-1]
+        _file_name(rel, "include", self.loc(s.children[0]))
         self.read_file(self.stack[-1].parent / rel, self.loc(s.children[0]))
 
     def st_settings(self, s):
@@ -491,6 +608,7 @@ class _Reader:
             raise DeckError(f"section {name}: its properties are not finite and positive "
                             f"(A={props.A:.3g}, Iy={props.Iy:.3g}, Iz={props.Iz:.3g}, J={props.J:.3g})", self.loc(s))
         self.sections[name] = Section(name, props)
+        self.section_params[name] = (shape, params)
 
     def section_names(self, name: str, shape_tok, kws) -> None:
         """Refuse an unknown shape or parameter name at its token, with the names that fit."""
@@ -595,7 +713,7 @@ class _Reader:
                 if str(d) not in DIRECTIONS:
                     raise DeckError(f"unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
                 dirs.append(str(d))
-        self.supports.append((target, dirs, self.loc(s)))
+        self.supports.append((self.fixed_name(target), dirs, self.loc(s)))
 
     def st_spring(self, s):
         target, *kws = s.children
@@ -611,7 +729,7 @@ class _Reader:
             if vals[d] < 0:
                 raise DeckError(f"spring {d}: a stiffness cannot be negative", self.loc(kw))
             _not_huge(vals[d], f"spring {d}", self.loc(kw))
-        self.springs.append((target, vals, self.loc(s)))
+        self.springs.append((self.fixed_name(target), vals, self.loc(s)))
 
     def st_mass(self, s):
         target, value, *opts = s.children
@@ -627,7 +745,7 @@ class _Reader:
             raise DeckError("a mass or inertia cannot be negative", self.loc(s))
         for v in (m, *inertia):
             _not_huge(v, "mass", self.loc(s))
-        self.masses.append((target, np.r_[m, m, m, inertia], self.loc(s)))
+        self.masses.append((self.fixed_name(target), np.r_[m, m, m, inertia], self.loc(s)))
 
     def st_group(self, s):
         name = self.name(s.children[0])
@@ -646,11 +764,11 @@ class _Reader:
                             self.loc(kind), "kinds: " + ", ".join(_CASE_KINDS))
         self.define("result", "case", self.name(name), self.loc(s))
         self.cases.append((self.name(name), str(kind), [i for i in items if i is not None], self.loc(s),
-                           dict(self.assumed)))
+                           dict(self.assumed), self.scope()))
 
     def st_combo(self, s):
         self.define("result", "combination", self.name(s.children[0]), self.loc(s))
-        self.combos.append((self.name(s.children[0]), s.children[1], self.loc(s)))
+        self.combos.append((self.name(s.children[0]), s.children[1], self.loc(s), self.scope()))
 
     def st_loop(self, s):
         var, lo, hi, *body = s.children
@@ -658,8 +776,15 @@ class _Reader:
         for q in (a, b):
             if q.dim not in (U.NONE, WILD) or q.value != int(q.value):
                 raise DeckError("loop bounds must be whole numbers", self.loc(s))
-        if b.value - a.value > 1_000_000:
-            raise DeckError("loop runs more than a million times", self.loc(s))
+        passes = max(int(b.value) - int(a.value) + 1, 0)
+        if not body:
+            return                      # nothing to repeat
+        if self.loop_steps + passes * len(body) > LOOP_STATEMENTS:
+            again = f", and again on each pass of the loop at {self.loop_sites[-1]}" if self.loop_sites else ""
+            raise DeckError(f"this loop would execute {passes:,} passes of {len(body)} statement(s){again}, taking "
+                            f"the deck's loops past {LOOP_STATEMENTS:,} statements in all"
+                            + (f" ({self.loop_steps:,} executed so far)" if self.loop_steps else ""),
+                            self.loc(s), _LOOP_HINT)
         if b.value < a.value:
             w = (f"{self.loc(s)}: warning: loop range {a.value:g}..{b.value:g} is empty (a range counts up), so "
                  f"its statements are skipped; write {b.value:g}..{a.value:g} to run them")
@@ -667,6 +792,7 @@ class _Reader:
                 self.warnings.append(w)
         saved = self.vars.get(str(var))
         self.loop_vars.append(str(var))
+        self.loop_sites.append(self.loc(s))
         try:
             for k in range(int(a.value), int(b.value) + 1):
                 self.vars[str(var)] = Quantity(float(k), WILD if k == 0 else U.NONE)
@@ -674,6 +800,7 @@ class _Reader:
                     self.statement(st)
         finally:
             self.loop_vars.pop()
+            self.loop_sites.pop()
         # the loop variable lives inside the loop only: after it, the name means what it meant before
         if saved is not None:
             self.vars[str(var)] = saved
@@ -787,6 +914,7 @@ class _Reader:
                     "they have no stiffness and are held; connect a beam member without that release (or a "
                     "rotational spring) if the inertia matters")
         midx = {m["name"]: k for k, m in enumerate(mems)}
+        reading = self.scope()
         cases = [self.build_case(c, nidx, midx) for c in self.cases]
         for c in cases:
             for item in c.loads:
@@ -815,7 +943,11 @@ class _Reader:
                     used[item.targets] = True
         self.coincident_nodes(node_names, coords, tol, used)
         names = {c.name for c in cases if c.kind == "static"}
-        combos = [Combination(nm, _combo_factors(self, tree, names), where) for nm, tree, where in self.combos]
+        combos = []
+        for nm, tree, where, scope in self.combos:
+            self.use_scope(scope)             # the parameters where the combination is written
+            combos.append(Combination(nm, _combo_factors(self, tree, names), where))
+        self.use_scope(reading)
         modal = [c.name for c in cases if c.kind == "modes"]
         if modal:
             self.massless_materials(mems, cols["nsm"], modal)
@@ -846,13 +978,19 @@ class _Reader:
                 settings[key] = val == "on"
             else:
                 raise DeckError(f"settings: unknown key '{key}'; {suggest(key, ['mass', 'shear'])}", where)
-        return Model(title=self.title, node_names=node_names, coords=coords,
+        return self.plausible(Model(title=self.title, node_names=node_names, coords=coords,
                      member_names=[m["name"] for m in mems], conn=conn, truss=truss,
                      up=up, releases=releases, restraint=restraint, springs=springs,
                      point_mass=pmass, materials=self.materials, sections=self.sections,
                      member_section=[m["section"][0] for m in mems],
                      member_material=[m["material"][0] for m in mems],
-                     cases=cases, combinations=combos, settings=settings, warnings=self.warnings, **cols)
+                     cases=cases, combinations=combos, settings=settings, warnings=self.warnings, **cols), mems)
+
+    def plausible(self, model: Model, mems) -> Model:
+        """Add the located plausibility warnings of a built model (deck.plausible)."""
+        self.warnings += model_warnings(model, self.defined, [m["loc"] for m in mems], self.section_params,
+                                        self.assume_sites.get(U.LENGTH))
+        return model
 
     def repeated_support(self, nm, dirs, held, where, first) -> bool:
         """A second support statement on a node: supports add up. Asking for less than is already
@@ -967,8 +1105,9 @@ class _Reader:
                     f"mass in modes case {', '.join(modal)}; give its density if their mass matters")
 
     def build_case(self, c, nidx, midx) -> LoadCase:
-        name, kind, items, where, assumed = c
+        name, kind, items, where, assumed, scope = c
         self.assumed = assumed             # the assumes in force where the case is written
+        self.use_scope(scope)              # and its parameters (in a loop, those of its pass)
         case = LoadCase(name, kind, location=where)
         seen = set()
         functions, timed = [], []     # a history case's named time functions, ground = (..) times F
@@ -1343,10 +1482,11 @@ class _Reader:
 
     def read_table(self, rel: str, where, deck_file: Path) -> np.ndarray:
         """Two-column CSV (time s, factor), relative to the deck file and inside its folder tree."""
-        path = (deck_file.parent / rel).resolve()
+        _file_name(rel, "table", where)
+        path = _resolved(deck_file.parent / rel, "table", where)
         if self.top_dir not in path.parents:
             raise DeckError(f"table '{rel}' is outside the deck's folder {self.top_dir}", where)
-        lines = _read_utf8(path, "table", where, self.shown(path)).splitlines()
+        lines = _read_utf8(path, "table", where, self.shown(path), MAX_TABLE_BYTES).splitlines()
         rows, at = [], []
         fix = (f"table named at {where}; two numbers a row, separated by a comma, semicolon, tab or spaces, "
                "decimals with a point")
@@ -1398,7 +1538,7 @@ class _Reader:
                 big = z[z >= 1]
                 raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where,
                                 f"{_g(big[0])} is {_g(100 * big[0])} %; for {_g(big[0])} % write {_g(big[0])} percent"
-                                if len(big) else "")
+                                if len(big) and big[0] < 1e300 else "")
             out["damping"] = z
         elif key == "rayleigh":
             form = "(f1, ratio1, f2, ratio2), e.g. (1 Hz, 2 percent, 10 Hz, 2 percent), or the coefficients " \
@@ -1522,6 +1662,8 @@ _PARAM_WORDS = {"thick": ("wall", "t"), "thickness": ("wall", "t"), "t": ("wall"
                 "flange": ("tf",), "web": ("tw",), "area": ("A",), "a": ("A",), "ix": ("J",), "it": ("J",)}
 _CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum")
 _FLOAT_MAX = float(np.finfo(float).max)
+_LOOP_HINT = (f"check the loop ranges: a deck's loops may execute at most {LOOP_STATEMENTS:,} statements, "
+              "which keeps a mistyped range from running for hours")
 
 
 # an example of a value with its unit for each dimension a deck asks for, and the assume that
@@ -1576,19 +1718,57 @@ def _literal(text: str, where: Location) -> float:
     return v
 
 
-def _read_utf8(path: Path, what: str, where: Location | None, shown: str | None = None) -> str:
+def _file_name(name: str, what: str, where: Location | None) -> None:
+    """Refuse a file name that no file can have (empty, a NUL character, a part too long)."""
+    if not name:
+        raise DeckError(f"{what}: the file name is empty", where, 'write the name between the quotes: "legs.deck"'
+                        if what == "include" else 'write the name between the quotes: "record.csv"')
+    if "\0" in name:
+        raise DeckError(f"{what}: the file name holds a NUL character, which no file name can", where)
+    longest = max(len(part.encode("utf-8", errors="surrogatepass")) for part in name.split("/"))
+    if longest > 255 or len(name.encode("utf-8", errors="surrogatepass")) > 4095:
+        raise DeckError(f"{what}: the file name is longer than a file system allows ({longest} bytes in one part; "
+                        "the limit is 255, and 4095 for the whole path)", where)
+
+
+def _resolved(path: Path, what: str, where: Location | None) -> Path:
+    """path.resolve(), with a name no file can have or a loop of links a DeckError."""
+    _file_name(str(path), what, where)
+    try:
+        return path.resolve()
+    except (OSError, RuntimeError, ValueError) as exc:
+        reason = "its symbolic links form a loop" if isinstance(exc, RuntimeError) else \
+            getattr(exc, "strerror", None) or str(exc)
+        raise DeckError(f"{what} '{path}' cannot be followed: {reason}", where) from None
+
+
+def _read_utf8(path: Path, what: str, where: Location | None, shown: str | None = None,
+               limit: int = MAX_DECK_BYTES, total: int = 0) -> str:
     """The text of a deck or table file, which must be UTF-8 (a UTF-8 byte-order mark is
-    allowed). A folder, an unreadable file or other bytes are a DeckError that says which byte
-    on which line is wrong; `where` is the statement that named the file (None for the top deck)."""
+    allowed). A folder, anything but a regular file (a pipe or device, which could block or never
+    end), a file above `limit` bytes (checked before reading), an unreadable file or other bytes
+    are a DeckError that says what is wrong; `where` is the statement that named the file (None
+    for the top deck); `total` is the deck text already read from other files."""
     site = f" ({'included' if what == 'deck' else 'named'} at {where})" if where else ""
-    if path.is_dir():
+    try:
+        info = os.stat(path)
+    except OSError as exc:
+        raise DeckError(f"cannot read {what} '{path}': {exc.strerror}", where) from None
+    if stat.S_ISDIR(info.st_mode):
         inside = sorted(p.name for p in path.glob("*.deck"))[:5]
         hint = f"decks in it: {', '.join(inside)}" if inside else "give the path of a file"
         raise DeckError(f"{what} '{path}' is a folder, not a file", where, hint)
+    _regular(info, path, what, where)
+    _small_enough(info.st_size, path, what, where, limit, total)
     try:
-        data = path.read_bytes()
+        # non-blocking, so that a pipe put in the file's place after the check cannot hang the open
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+        with os.fdopen(fd, "rb") as f:
+            _regular(os.fstat(f.fileno()), path, what, where)
+            data = f.read(limit + 1)
     except OSError as exc:
         raise DeckError(f"cannot read {what} '{path}': {exc.strerror}", where) from None
+    _small_enough(len(data), path, what, where, limit, total)
     fix = "save it as UTF-8 (in most editors: Save As, encoding UTF-8)"
     if data.startswith((b"\xff\xfe", b"\xfe\xff")) or (b"\x00" in data[:200] and data.count(b"\x00") * 4 > len(data)):
         raise DeckError(f"{what} '{path.name}' is UTF-16 (or UTF-32) text; a {what} file must be UTF-8", where, fix)
@@ -1608,6 +1788,32 @@ def _read_utf8(path: Path, what: str, where: Location | None, shown: str | None 
         src = raw.decode("utf-8", errors="replace").rstrip("\r")
         raise DeckError(f"byte 0x{bad:02x}{like} is not UTF-8 text{site}; a {what} file must be UTF-8",
                         Location(shown or path.name, line, column, src), fix) from None
+
+
+def _regular(info: os.stat_result, path: Path, what: str, where: Location | None) -> None:
+    if not stat.S_ISREG(info.st_mode):
+        kind = ("a named pipe" if stat.S_ISFIFO(info.st_mode) else "a device" if stat.S_ISCHR(info.st_mode)
+                or stat.S_ISBLK(info.st_mode) else "a socket" if stat.S_ISSOCK(info.st_mode) else "not a file")
+        raise DeckError(f"{what} '{path}' is {kind}, not a regular file", where,
+                        f"a {what} is read from an ordinary file saved on disk")
+
+
+def _small_enough(size: int, path: Path, what: str, where: Location | None, limit: int, total: int) -> None:
+    if size <= limit:
+        return
+    cap = MAX_DECK_BYTES if what == "deck" else MAX_TABLE_BYTES
+    if what == "deck":
+        whole = f"the deck and its includes would be over {_mb(total + size)}" if total else \
+            f"the deck '{path.name}' is {_mb(size)}"
+        raise DeckError(f"{whole}, above the limit of {_mb(cap)} of deck text (reading takes about 170 MB of "
+                        "memory per MB)", where, "write repeated nodes and members with for loops, which keeps "
+                        "a deck of any model size short")
+    raise DeckError(f"table '{path.name}' is {_mb(size)}, above the limit of {_mb(cap)} for a table", where,
+                    "thin the record to the time step the case uses, or cut it to the part of interest")
+
+
+def _mb(n: int) -> str:
+    return f"{n / 1e6:.3g} MB" if n < 1e12 else f"{n:.3g} bytes"
 
 
 def _rotation_stiffness(coords, conn, truss, releases, roll, up) -> np.ndarray:
@@ -1661,6 +1867,22 @@ def _up_vector(up: np.ndarray, x: np.ndarray, m: dict) -> np.ndarray:
                         "the member axis, so it cannot set the local axes", m["loc"],
                         "give a vector across the member (e.g. up = (1, 0, 0) for a vertical member), or leave it out")
     return u
+
+
+def _too_deep(tree: Tree):
+    """(the outermost expression or loop nested deeper than MAX_NESTING levels, its depth), or None."""
+    height = {}
+    for sub in tree.iter_subtrees():          # children before their parents, without recursion
+        height[id(sub)] = 1 + max((height[id(c)] for c in sub.children if isinstance(c, Tree)), default=0)
+    sub = tree
+    while height[id(sub)] > MAX_NESTING:
+        if sub.data in _EXPRESSIONS:
+            return sub, height[id(sub)]
+        deeper = [c for c in sub.children if isinstance(c, Tree) and height[id(c)] > MAX_NESTING]
+        if not deeper:
+            return (sub, height[id(sub)]) if sub.data == "loop" else None
+        sub = deeper[0]
+    return None
 
 
 def _binary(a: Quantity, b: Quantity, op: str) -> Quantity:
@@ -1730,7 +1952,12 @@ def _combo_factors(r: _Reader, t, cases: set[str]) -> dict[str, float]:
 def read_deck(path) -> Model:
     """Read and validate the deck at `path` (and its includes) into a Model."""
     path = Path(path)
-    if not path.exists():
+    _file_name(str(path), "deck", None)
+    try:
+        there = path.exists()
+    except OSError as exc:
+        raise DeckError(f"deck '{path}' cannot be read: {exc.strerror}") from None
+    if not there:
         raise DeckError(f"deck '{path}' does not exist")
     r = _Reader(path)
     r.read_file(path)

@@ -91,6 +91,31 @@ def _brackets(text: str, upto: int):
     return stack, stray
 
 
+def _unit_slip(text: str, start: int, word: str, where_at) -> DeckError | None:
+    """A DeckError if `word` at offset `start` is a unit that does not follow its number
+    directly (`100*up kg`) or a word after a number that is not a unit (`5 tonne`), else None."""
+    before = text[text.rfind("\n", 0, start) + 1:start]
+    if word in U.UNITS:
+        after = re.search(r"([A-Za-z_]\w*|\))[ \t]*$", before)
+        if after is None:
+            return None
+        scaled = re.search(r"(?<![\w.])(\d+(?:\.\d*)?(?:[eE][+-]?\d+)?)[ \t]*\*[ \t]*([A-Za-z_]\w*)[ \t]*$", before)
+        if scaled:
+            fix = f"write {scaled.group(2)}*{scaled.group(1)} {word}"
+        elif after.group(1) == ")":
+            fix = f"write (...)*1 {word}"
+        else:
+            fix = f"write {after.group(1)}*1 {word}"
+        what = "a bracket" if after.group(1) == ")" else f"the name '{after.group(1)}'"
+        return DeckError(f"the unit '{word}' follows {what}; a unit is written directly after a number "
+                         f"(100 {word})", where_at(start), f"to scale a quantity by a parameter, {fix}")
+    if re.search(r"(?<![\w.])(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?[ \t]*$", before):
+        near = U.unit_suggestion(word) or _nearest(word, U.UNITS)
+        return DeckError(f"unknown unit '{word}'" + (f"; did you mean '{near}'?" if near else ""), where_at(start),
+                         f"the units are {' '.join(U.UNITS)}; if '{word}' is an option, write {word} = value")
+    return None
+
+
 def _nearest(word: str, choices) -> str | None:
     close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
     return close[0] if close else None
@@ -156,6 +181,11 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
             hint = "names use the letters A-Z and a-z, digits and '_'"
         elif ch == '"':
             hint = 'a quoted text ends on the line where it starts: close it with "'
+        elif ch == "%":
+            num = re.search(r"(\d[\d.eE+-]*)[ \t]*$", text[:exc.pos_in_stream])
+            return DeckError(f"unexpected character '%': write a percentage with the unit percent, "
+                             f"{num.group(1) if num else '2'} percent", where_at(exc.pos_in_stream),
+                             "percent is a unit like any other: damping = 2 percent means 0.02")
         return DeckError(f"unexpected character {ch!r}", where_at(exc.pos_in_stream), hint)
 
     tok = getattr(exc, "token", None)
@@ -171,6 +201,8 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
                              f"add the closing '{_PAIRS[ch]}' (a block or list ends in the file it starts in)")
         end = len(text.rstrip())
         prev = re.search(r"([A-Za-z_]\w*)\s*$", text)
+        if prev and "EQUAL" in accepts and (err := _unit_slip(text, prev.start(1), prev.group(1), where_at)):
+            return err
         if prev and accepts == {"EQUAL"}:
             return DeckError(f"'{prev.group(1)}' needs a value: write {prev.group(1)} = ...", where_at(prev.start(1)),
                              "an option is written name = value")
@@ -178,9 +210,19 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
                          where_at(end), "complete the last statement")
     pos = tok.start_pos
     here = where_at(pos)
+    # a word read as an option name (the parser wants its '=') or a name where none fits, right
+    # after a value: most often a unit written apart from its number or misspelled
+    prev = re.search(r"([A-Za-z_]\w*)\s*$", text[:pos])
+    if prev and "EQUAL" in accepts and (err := _unit_slip(text, prev.start(1), prev.group(1), where_at)):
+        return err
+    if tok.type == "NAME" and str(tok) in U.UNITS and (err := _unit_slip(text, pos, str(tok), where_at)):
+        return err
     if tok.type == "NAME" and re.search(r"\d[ \t]*$", text[:pos]):
-        near = _nearest(str(tok), U.UNITS)
+        near = U.unit_suggestion(str(tok)) or _nearest(str(tok), U.UNITS)
         number = re.search(r"[\d.eE+-]*\d[ \t]*$", text[:pos]).group(0).strip()
+        if U.unit_suggestion(str(tok)):
+            return DeckError(f"unknown unit '{tok}'; did you mean '{near}'?", here,
+                             f"write {number} {near}; the units are {' '.join(U.UNITS)}")
         return DeckError(f"unknown unit '{tok}'" + (f"; did you mean '{near}'?" if near else ""), here,
                          f"the units are {' '.join(U.UNITS)}; to multiply by a parameter or a case, "
                          f"write {number}*{tok}")

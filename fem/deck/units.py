@@ -9,7 +9,11 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-__all__ = ["DIMENSIONS", "UNITS", "Quantity", "dim_name", "unit_value"]
+__all__ = ["DIMENSIONS", "UNITS", "Quantity", "dim_name", "unit_suggestion", "unit_value"]
+
+# Our choice: no formula of this field raises a unit beyond a small power (m^4 for a second
+# moment of area); a larger one is a typing slip, and its exponent would grow without bound.
+MAX_UNIT_POWER = 12
 
 # exponents of (mass, length, time)
 Dim = tuple[int, int, int]
@@ -50,6 +54,14 @@ class Quantity:
         p = o.value
         if self.dim != NONE and p != int(p):
             raise ArithmeticError("a quantity with units can only be raised to a whole power")
+        if self.dim != NONE and abs(p) > MAX_UNIT_POWER:
+            raise ArithmeticError(f"a quantity with units raised to the power {p:g} has no physical meaning "
+                                  f"(the limit is {MAX_UNIT_POWER})")
+        if self.value < 0 and p != int(p):
+            raise ArithmeticError(f"the power {p:g} of a negative number ({self.value:g}) is not a real number; "
+                                  "for an odd root of a negative value put the sign outside, e.g. -(8^(1/3))")
+        if self.value == 0 and p < 0:
+            raise ArithmeticError(f"0 to a negative power ({p:g}) is a division by zero")
         return Quantity(self.value ** p, tuple(int(a * p) for a in self.dim))
 
 
@@ -99,3 +111,23 @@ def unit_value(symbol: str) -> Quantity | None:
     """The SI quantity of one unit symbol, or None if unknown."""
     entry = UNITS.get(symbol)
     return Quantity(*entry) if entry else None
+
+
+# other spellings of units a user may type, -> the symbol of the deck
+_SPELLINGS = {
+    "tonne": "t", "tonnes": "t", "ton": "t", "tons": "t", "kgs": "kg", "kilogram": "kg", "kilograms": "kg",
+    "gram": "g", "grams": "g", "lbs": "lb", "pound": "lb", "pounds": "lb",
+    "meter": "m", "meters": "m", "metre": "m", "metres": "m", "millimeter": "mm", "millimetre": "mm",
+    "inch": "in", "inches": "in", "foot": "ft", "feet": "ft",
+    "sec": "s", "secs": "s", "second": "s", "seconds": "s", "msec": "ms", "minute": "min", "minutes": "min",
+    "newton": "N", "newtons": "N", "kips": "kip", "degree": "deg", "degrees": "deg", "radian": "rad",
+    "radians": "rad", "pct": "percent", "g0": "gee", "rps": "Hz", "cps": "Hz",
+}
+
+
+def unit_suggestion(word: str) -> str | None:
+    """The deck's unit symbol for another spelling of it (tonne -> t, KN -> kN), or None."""
+    if word in _SPELLINGS:
+        return _SPELLINGS[word]
+    lower = {u.lower(): u for u in UNITS}
+    return lower.get(word.lower()) or _SPELLINGS.get(word.lower())

@@ -101,12 +101,25 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         if c["kind"] == "static":
             rows.append([f"{c['name']}: equilibrium of reactions and loads", f"{ch['equilibrium_relative']:.1e}",
                          _ok(ch["equilibrium_pass"])])
+            if "translation_within_size_pass" in ch:
+                big = ch["largest_translation"]
+                rows.append([f"{c['name']}: largest translation within the model's size",
+                             f"{big['value_m']:.4g} m at {html.escape(str(big['node']))} {big['direction']}, "
+                             f"{ch['translation_over_size']:.3g} of {ch['model_size_m']:.4g} m",
+                             _ok(ch["translation_within_size_pass"])])
         elif c["kind"] == "modes":
             rows.append([f"{c['name']}: eigen residual (largest)", f"{ch['max_residual']:.1e}", _ok(ch["residual_pass"])])
             rows.append([f"{c['name']}: M- and K-orthogonality", f"{max(ch['mass_orthogonality'], ch['stiffness_orthogonality']):.1e}",
                          _ok(ch["orthogonality_pass"])])
             rows.append([f"{c['name']}: no mode missed (Sturm count)", f"{ch['sturm_count']} below the shift, {ch['sturm_expected']} computed",
                          _ok(ch["none_missed"])])
+            if "near_zero_pass" in ch:
+                slow = ch["near_zero_modes"]
+                rows.append([f"{c['name']}: no near-zero mode beyond the rigid-body motions the supports leave free "
+                             f"({ch['rigid_body_motions_free']})",
+                             "none below " + f"{ch['near_zero_limit_Hz']:g} Hz" if not slow else
+                             f"modes {', '.join(str(m['mode']) for m in slow[:6])}{' ...' if len(slow) > 6 else ''} "
+                             f"below {ch['near_zero_limit_Hz']:g} Hz", _ok(ch["near_zero_pass"])])
             if ch.get("effective_mass_sum_pass") is not None:
                 rows.append([f"{c['name']}: all modes, effective masses sum to the total", f"{ch['effective_mass_sum_error']:.1e}",
                              _ok(ch["effective_mass_sum_pass"])])
