@@ -83,12 +83,14 @@ def _scatter(out, idx, vals, rows=False):
     out += np.bincount(idx.ravel(), weights=vals, minlength=out.size)
 
 
-def free_motions(model: Model, asm: Assembled, Kff, max_modes: int = 6):
-    """Zero-stiffness motions of K over the free DOFs: a list of mechanisms, each the list of
-    (node, direction) pairs that move most in it (components above 10 % of the largest).
+def zero_energy_motions(Kff, max_modes: int = 6):
+    """Up to `max_modes` motions of zero strain energy of K over the free DOFs: y (n, k) with
+    orthonormal columns in the coordinates that scale K to unit diagonal, and that scaling
+    s (n,) (a motion in physical units is s * y).
 
-    Found from the lowest eigenvectors of K scaled to unit diagonal (dense up to 3000 DOFs,
-    shift-invert Lanczos above), so rigid rotations show up as rotations, not pivot accidents."""
+    The lowest eigenvectors of the scaled K (dense up to 3000 DOFs, shift-invert Lanczos
+    above) whose eigenvalues lie below 1e-9, so rigid rotations show up as rotations, not
+    pivot accidents."""
     import scipy.linalg as sla
 
     d = np.abs(Kff.diagonal())
@@ -101,8 +103,16 @@ def free_motions(model: Model, asm: Assembled, Kff, max_modes: int = 6):
         lam, vec = sla.eigh(A.toarray(), subset_by_index=[0, k - 1])
     else:
         lam, vec = spla.eigsh(A, k=k, sigma=-1e-6, which="LM")
+    return vec[:, lam < 1e-9], s
+
+
+def free_motions(model: Model, asm: Assembled, Kff, max_modes: int = 6):
+    """Zero-stiffness motions of K over the free DOFs: a list of mechanisms, each the list of
+    (node, direction) pairs that move most in it (components above 10 % of the largest), from
+    `zero_energy_motions`."""
+    vec, s = zero_energy_motions(Kff, max_modes)
     out = []
-    for j in np.flatnonzero(lam < 1e-9):
+    for j in range(vec.shape[1]):
         v = np.abs(vec[:, j] * s)        # back to physical scaling
         big = np.flatnonzero(v >= 0.1 * v.max())
         big = big[np.argsort(-v[big])][:8]
@@ -121,7 +131,7 @@ class _Symmetric:
         return self.factor.solve(b)
 
 
-def factorise(model: Model, asm: Assembled):
+def factorise(model: Model, asm: Assembled, what: str = "static solve"):
     """Factor K over the free DOFs. A positive definite K (every stable structure) is factored
     by the family the eigen solver would choose for it (banded Cholesky, PARDISO or SuperLU in a
     symmetric ordering, `factor.spd_factor`); otherwise a pivoting sparse LU finds out why: a
@@ -132,7 +142,7 @@ def factorise(model: Model, asm: Assembled):
     from .memory import check_factor_memory
 
     order = ordering(Kff)
-    check_factor_memory(Kff, "static solve", order)
+    check_factor_memory(Kff, what, order)
     try:
         return _Symmetric(spd_factor(Kff, order=order))
     except NotPositiveDefinite:
