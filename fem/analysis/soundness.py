@@ -233,7 +233,7 @@ def _in_our_words(w: warnings.WarningMessage, where: str) -> str | None:
     if issubclass(cat, (DeprecationWarning, PendingDeprecationWarning, FutureWarning, sp.SparseEfficiencyWarning)):
         return None
     if issubclass(cat, sla.LinAlgWarning):
-        m = re.search(r"rcond\s*=\s*([-+0-9.eE]+)", text)
+        m = re.search(r"rcond\s*=\s*(\d[\d.]*(?:[eE][-+]?\d+)?)", text)
         rc = f" (reciprocal condition {float(m.group(1)):.1e})" if m else ""
         return (f"warning: {where}: a dense solve met a nearly singular matrix{rc}; numbers that depend on it "
                 "may be inaccurate: check stiffness contrasts, massless parts and units")
