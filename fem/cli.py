@@ -46,9 +46,8 @@ def main(argv: list[str] | None = None) -> int:
 
     try:
         if args.command == "check":
-            from .deck.reader import read_deck
-
             from .analysis.soundness import examine, summary_lines
+            from .deck.reader import read_deck
 
             model = read_deck(args.deck)
             # the same mechanism, free-structure and conditioning checks as `quaver run`, refused

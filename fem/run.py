@@ -22,7 +22,7 @@ from .analysis.harmonic import HarmonicResult, lag_degrees, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
-from .analysis.soundness import COND_REFUSE, COND_WARN, examine, quiet, summary_lines  # noqa: F401 - the levels, for readers of run
+from .analysis.soundness import examine, quiet, summary_lines
 from .analysis.static import StaticResult, equilibrium, factorise, solve_static
 from .deck.reader import read_deck
 from .errors import ModelError, ResultsError

@@ -66,7 +66,8 @@ def _both(tmp_path, capsys, text):
     return out
 
 
-@pytest.mark.parametrize("cases", [MODES + STATIC, MODES, STATIC], ids=["static and modes", "modes only", "static only"])
+@pytest.mark.parametrize("cases", [MODES + STATIC, MODES, STATIC],
+                         ids=["static and modes", "modes only", "static only"])
 def test_mast_mechanism_is_refused_by_check_and_run_alike(tmp_path, capsys, cases):
     # a truss panel without diagonals is a mechanism (a four-sided truss panel shears freely:
     # a kinematic fact, common practice, no source): refused by both commands with one message

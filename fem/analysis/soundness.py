@@ -247,7 +247,8 @@ def _in_our_words(w: warnings.WarningMessage, where: str) -> str | None:
                                  "refused, the rest may be affected: check the magnitudes and units in the deck")
     if issubclass(cat, np.exceptions.ComplexWarning):
         return f"warning: {where}: complex numbers were cut to their real parts"
-    return f"warning: {where}: the numerical library reported a {cat.__name__}; the self-checks say whether the results hold"
+    return (f"warning: {where}: the numerical library reported a {cat.__name__}; the self-checks say whether "
+            "the results hold")
 
 
 @contextmanager
