@@ -290,3 +290,11 @@ def test_one_factor_of_K_serves_checks_static_cases_and_modes(monkeypatch):
     EI = 200e9 * np.pi / 64 * (od ** 4 - (od - 2 * t) ** 4)
     # (cubic elements are exact for end loads; 1e-6 allows for the condition, ~1e12, of K)
     assert -results[0].u[150, 2] == pytest.approx(1e3 * 75.0 ** 3 / (3 * EI), rel=1e-6)
+
+
+def test_static_load_on_a_held_rotation_is_refused_by_check_and_run(tmp_path, capsys):
+    # the hinge's rotation meets only released ends: held, and a moment there has nothing to act on
+    deck = CANTILEVER % "(2 m, 0, 0)" + "case S static { moment B = (0, 1 kN*m, 0) }\n"
+    (c_code, c_err, _), (r_code, r_err, _) = _both(tmp_path, capsys, deck)
+    assert c_code == r_code == 2 and c_err == r_err
+    assert "case S: load acts where nothing resists it: B ry" in c_err

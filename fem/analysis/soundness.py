@@ -81,18 +81,23 @@ def examine(model: Model) -> tuple[Assembled, Soundness]:
 def assess(model: Model, asm: Assembled) -> Soundness:
     """The cheap checks that can refuse a model, before any expensive solve.
 
-    Raises MechanismError for a mechanism (nodes and directions of each free motion, and the
-    released member ends at those nodes), or for a free structure when a case needs K^-1;
+    Raises MechanismError for a static load on a held DOF, for a mechanism (nodes and
+    directions of each free motion, and the released member ends at those nodes), or for a free
+    structure when a case needs K^-1;
     ModelError when K is too badly conditioned to give a safe digit. Stores the held DOFs
     (`_held`), the condition estimate (`_condition`) and the rigid-body motions of a free
     structure (`_rigid_motions`) in model.settings, and adds a note on a free structure to
     model.warnings."""
-    from .static import condition_estimate, factorise, held_dofs
+    from .static import check_resisted, condition_estimate, factorise, held_dofs, load_vector
 
     sound = Soundness(held_dofs(model, asm))
     model.settings["_held"] = sound.held
     model.settings["_condition"] = None
     model.settings["_rigid_motions"] = []
+    if len(asm.inert):
+        for c in model.cases:
+            if c.kind == "static":      # a static load on a held DOF is refused (cheap: no solve)
+                check_resisted(model, asm, c, load_vector(model, asm, c)[0])
     if not len(asm.free):
         return sound
     Kff = asm.K[asm.free][:, asm.free].tocsc()

@@ -222,14 +222,19 @@ def support_forces(model: Model, asm: Assembled, residual: np.ndarray, u: np.nda
     return out
 
 
-def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> StaticResult:
-    lu = lu or factorise(model, asm)
-    f, fe = load_vector(model, asm, case)
+def check_resisted(model: Model, asm: Assembled, case: LoadCase, f: np.ndarray) -> None:
+    """Refuse a load vector f (6n,) of `case` that acts on a held DOF (nothing resists it there)."""
     loaded = asm.inert[np.abs(f[asm.inert]) > 0]
     if loaded.size:
         free = [(model.node_names[d // 6], DIRECTIONS[d % 6]) for d in loaded]
         shown = ", ".join(f"{n} {d}" for n, d in free[:12])
-        raise MechanismError(f"case {case.name}: load acts where nothing resists it: {shown}", free)
+        raise MechanismError(f"case {case.name}: load acts where nothing resists it: {shown}", free, case.location)
+
+
+def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> StaticResult:
+    lu = lu or factorise(model, asm)
+    f, fe = load_vector(model, asm, case)
+    check_resisted(model, asm, case, f)
     u = np.zeros(6 * model.n_nodes)
     u[asm.free] = lu.solve(f[asm.free])
     if not np.isfinite(u).all():
