@@ -298,3 +298,44 @@ def test_static_load_on_a_held_rotation_is_refused_by_check_and_run(tmp_path, ca
     (c_code, c_err, _), (r_code, r_err, _) = _both(tmp_path, capsys, deck)
     assert c_code == r_code == 2 and c_err == r_err
     assert "case S: load acts where nothing resists it: B ry" in c_err
+
+
+def _fuzz():
+    sys.path.insert(0, str(ROOT / "tools"))
+    import fuzz_pipeline
+
+    return fuzz_pipeline
+
+
+def test_fuzz_counts_library_text_as_a_failure():
+    fz = _fuzz()
+    assert fz._leaked("  MODES 4 modes\n/x/modes.py:111: LinAlgWarning: An ill-conditioned matrix\n").startswith(
+        "library text reached the user: /x/modes.py:111: LinAlgWarning")
+    assert fz._leaked('Traceback (most recent call last):\n  File "a.py", line 1\n')
+    assert fz._leaked("  warning: case M: a dense solve met a nearly singular matrix\n  self-checks: all pass\n") is None
+
+
+def test_fuzz_released_inclined_member_is_refused_modes_only(tmp_path):
+    # the mutation on the lean frame: a member inclined in elevation from a node, its far end
+    # released about both cross axes, static cases dropped; the run is refused as a mechanism
+    import random
+
+    from fem.errors import MechanismError
+    from fem.run import run_deck
+
+    fz = _fuzz()
+    for seed in range(50):
+        text = fz.released_inclined_member(fz.lean_frame(), random.Random(seed))
+        if "static" not in text and "(0, 0, 1.5)" not in text and "RLS0 = (" in text:
+            node = text.split("node RLS0 = (")[1].split(")")[0]
+            if "0.9 m" in node or "1.1 m" in node:       # inclined in elevation
+                break
+    else:
+        pytest.fail("no seed gave an inclined released member in a modes-only deck")
+    assert fz.check(text, fz.TABLES, tmp_path / "a", report=False) is None
+    (tmp_path / "b").mkdir()
+    (tmp_path / "b" / "d.deck").write_text(text)
+    for name, t in fz.TABLES.items():
+        (tmp_path / "b" / name).write_text(t)
+    with pytest.raises(MechanismError, match=r"RLM0 end j at RLS0 \(released ry, rz\)"):
+        run_deck(str(tmp_path / "b" / "d.deck"), str(tmp_path / "b" / "out"), render=False)
