@@ -21,10 +21,9 @@ from .analysis.harmonic import HarmonicResult, lag_degrees, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.plausible import static_check, zero_mode_check, zero_mode_lines
+from .analysis.soundness import examine, quiet, summary_lines
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
-from .analysis.static import (StaticResult, condition_estimate, equilibrium, factorise, held_dofs, solve_static,
-                              stiffness_contrast)
-from .assembly import assemble
+from .analysis.static import StaticResult, equilibrium, factorise, solve_static
 from .deck.reader import read_deck
 from .errors import ModelError, ResultsError
 from .model import DIRECTIONS, Model
@@ -38,8 +37,6 @@ CAUTION = ("Results support, and never replace, the judgement of a qualified eng
 EQUILIBRIUM_TOL = 1e-8   # relative; a direct solve reaches ~1e-12, far looser means a bad model
 
 
-COND_WARN = 1e11         # above this fewer than ~5 significant digits are safe in double precision
-COND_REFUSE = 1e16       # beyond 1/eps (4.5e15) no digit of a solution is safe: refuse rather than print noise
 RESIDUAL_TOL = 1e-8      # backward error of an eigenpair; a double-precision solve gives ~1e-14
 ORTHO_TOL = 1e-8
 BALANCE_TOL = 1e-6       # per-mode reactions vs inertia forces; limited by the eigen residuals
@@ -67,21 +64,19 @@ def _at_case(case):
 def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     from .progress import stage
 
-    if not model.n_nodes:
-        raise ModelError(f"{model.source or 'the deck'} defines no nodes, so there is nothing to analyse; "
-                         "define nodes (node NAME = (x, y, z)) and members between them")
-    with stage(f"assembling {model.n_members} members"):
-        asm = assemble(model)
+    # the checks `quaver check` makes, before any expensive solve: a mechanism, a free structure
+    # asked for a static answer, or a hopeless condition is refused here whatever the cases
+    asm, sound = examine(model)
     model.settings["_assembled_mass"] = assembled_mass(model, asm)
-    model.settings["_held"] = held_dofs(model, asm)
     modal = []
     for c in model.cases:
         if c.kind == "modes":
-            with stage(f"modes case {c.name}: eigen solve"), _at_case(c):
-                modal.append(solve_modes_case(model, asm, c))
+            with stage(f"modes case {c.name}: eigen solve"), _at_case(c), quiet(model, f"case {c.name}"):
+                modal.append(solve_modes_case(model, asm, c, factor=sound.spd))
     statics = [c for c in model.cases if c.kind == "static"]
     results = []
-    factor = []          # one factorisation of K, shared by every case that needs one
+    # one factorisation of K, the checks' own, shared by every case that needs one
+    factor = [] if sound.factor is None else [sound.factor]
 
     def lu():
         if not factor:
@@ -89,14 +84,8 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
         return factor[0]
 
     if statics or model.combinations:
-        model.settings["_condition"] = cond = condition_estimate(asm.K[asm.free][:, asm.free].tocsc(), lu())
-        if cond > COND_REFUSE:
-            raise ModelError(f"the stiffness is too badly conditioned to solve in double precision (condition "
-                             f"estimate {cond:.1e}, above {COND_REFUSE:.0e}): no digit of the results would be safe; "
-                             f"no node moves freely (not a mechanism), but member stiffnesses span about "
-                             f"{stiffness_contrast(model, asm):.0e}: "
-                             "check stiffness contrasts (springs, E, sections, very short members) and units")
-        results = [solve_static(model, asm, c, lu()) for c in statics]
+        with quiet(model, "static cases"):
+            results = [solve_static(model, asm, c, lu()) for c in statics]
     by_name = {r.name: r for r in results}
     for combo in model.combinations:
         parts = [(f, by_name[n]) for n, f in combo.factors.items()]
@@ -108,7 +97,7 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     by_name = {r.name: r for r in results}
     modal_by = {r.name: r for r in modal}
     for c in model.cases:
-        with _at_case(c):
+        with _at_case(c), quiet(model, f"case {c.name}"):
             _solve_response(model, asm, c, by_name, modal_by, modal, lu)
     return results, modal
 
@@ -526,16 +515,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
           f"total mass {model.total_mass():.6g} kg")
     for w in model.warnings:
         print(f"  {w}")
-    held = model.settings["_held"]
-    if held:
-        shown = ", ".join(f"{n} {d}" for n, d in held[:10]) + (" ..." if len(held) > 10 else "")
-        print(f"  note: {len(held)} DOF(s) have no stiffness and are held: {shown}; a load there is refused")
-    cond = model.settings.get("_condition")
-    if cond is not None:
-        lost = max(0.0, np.log10(cond))
-        level = "warning: " if cond > COND_WARN else ""
-        print(f"  {level}stiffness condition estimate {cond:.1e} (about {lost:.0f} of 16 digits at risk"
-              + ("; check stiffness contrasts and units" if cond > COND_WARN else "") + ")")
+    for line in summary_lines(model):
+        print(f"  {line}")
     am = model.settings["_assembled_mass"]
     print(f"  mass check: assembled M gives {am[0]:.6g} kg in X, Y, Z "
           f"({'pass' if _mass_ok(model) else 'FAIL'} against members + point masses)")
