@@ -16,13 +16,12 @@ from pathlib import Path
 
 import numpy as np
 
-from .analysis.free_case import BALANCE_TOL, FreeCaseResult, solve_free_case  # noqa: F401 (BALANCE_TOL kept importable)
+from .analysis.free_case import BALANCE_TOL, FreeCaseResult, solve_free_case  # noqa: F401 (re-exported)
 from .analysis.harmonic import HarmonicResult, lag_degrees, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.plausible import static_check, zero_mode_check, zero_mode_lines
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
-from .analysis.static import EQUILIBRIUM_TOL  # noqa: F401 (kept importable from here)
 from .analysis.static import (StaticResult, combine, condition_estimate, factorise, held_dofs, precision_lines,
                               solve_static, static_ok, stiffness_contrast)
 from .assembly import assemble

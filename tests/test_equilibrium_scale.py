@@ -21,8 +21,16 @@ import scipy.linalg as sla
 
 from fem.analysis.free_case import BALANCE_TOL, inertia_balance_terms
 from fem.analysis.modal_case import field_responses
-from fem.analysis.static import (EQUILIBRIUM_TOL, ROUNDING_FACTOR, SOLVE_TOL, balance, load_vector,
-                                 precision_lines, static_ok, support_forces)
+from fem.analysis.static import (
+    EQUILIBRIUM_TOL,
+    ROUNDING_FACTOR,
+    SOLVE_TOL,
+    balance,
+    load_vector,
+    precision_lines,
+    static_ok,
+    support_forces,
+)
 from fem.assembly import assemble
 from fem.deck.reader import read_text
 from fem.run import modal_checks, solve_all

@@ -305,8 +305,8 @@ def balance(coords, applied, reactions, residual=None, gross=None, u=None, diag=
         rel.append(float(np.max(rnd)) / ref)
         lim.append(max(EQUILIBRIUM_TOL, ROUNDING_FACTOR * rel[-1]))
         ok = ok and bool(np.all(err <= np.maximum(EQUILIBRIUM_TOL * ref, ROUNDING_FACTOR * rnd)))
-    out["equilibrium_rounding"] = max(rel, default=0.0)
-    out["equilibrium_limit"] = max(lim, default=EQUILIBRIUM_TOL)
+    out["equilibrium_rounding"] = float(max(rel, default=0.0))
+    out["equilibrium_limit"] = float(max(lim, default=EQUILIBRIUM_TOL))
     out["equilibrium_pass"] = ok
     out["solve_backward_error"] = out["solve_backward_error_pass"] = None
     if residual is None or u is None or diag is None:
@@ -318,7 +318,8 @@ def balance(coords, applied, reactions, residual=None, gross=None, u=None, diag=
     us = np.abs(np.asarray(u).ravel()[free]) * s
     fs = np.abs(applied.ravel()[free]) / s
     den = knorm * us.max(initial=0.0) + fs.max(initial=0.0)
-    eta = float(r.max(initial=0.0) / den) if den > 0 else (0.0 if r.max(initial=0.0) == 0 else np.inf)
+    # with nothing loaded and nothing moving, any residual at all is wholly wrong: 1, not infinity
+    eta = float(r.max(initial=0.0) / den) if den > 0 else (0.0 if r.max(initial=0.0) == 0 else 1.0)
     out["solve_backward_error"] = eta
     out["solve_backward_error_pass"] = bool(eta < SOLVE_TOL)
     return out
