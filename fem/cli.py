@@ -61,15 +61,23 @@ def main(argv: list[str] | None = None) -> int:
 
     try:
         if args.command == "check":
+            from .analysis.soundness import examine, summary_lines
             from .deck.reader import read_deck
 
             model = read_deck(args.deck)
+            # the same mechanism, free-structure and conditioning checks as `quaver run`, refused
+            # with the same message; no case is solved. A deck without nodes (materials and
+            # sections to include elsewhere) has nothing to check
+            if model.n_nodes:
+                examine(model)
             lo, hi = model.bounding_box()
             print(f"{model.title or args.deck}: {model.n_nodes} nodes, {model.n_members} members, "
                   f"total mass {model.total_mass():.6g} kg")
             print(f"bounding box {lo} .. {hi} m")
             for w in model.warnings:
                 print(w)
+            for line in summary_lines(model):
+                print(line)
             print(CAUTION)
             return 0
         from .run import run_deck

@@ -86,9 +86,9 @@ class ModelError(QuaverError, ValueError):
 class MechanismError(ModelError):
     """The stiffness matrix is singular; `free` lists (node, direction) pairs that are unrestrained."""
 
-    def __init__(self, message: str, free: list[tuple[str, str]]):
+    def __init__(self, message: str, free: list[tuple[str, str]], location: Location | None = None):
         self.free = free
-        super().__init__(message)
+        super().__init__(message, location)
 
 
 class ResultsError(QuaverError, OSError):

@@ -21,10 +21,9 @@ from .analysis.harmonic import HarmonicResult, lag_degrees, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.plausible import static_check, zero_mode_check, zero_mode_lines
+from .analysis.soundness import examine, quiet, summary_lines
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
-from .analysis.static import (StaticResult, combine, condition_estimate, factorise, held_dofs, precision_lines,
-                              solve_static, static_ok, stiffness_contrast)
-from .assembly import assemble
+from .analysis.static import StaticResult, combine, factorise, precision_lines, solve_static, static_ok
 from .deck.reader import read_deck
 from .errors import ModelError, ResultsError
 from .model import DIRECTIONS, Model
@@ -37,8 +36,6 @@ CAUTION = ("Results support, and never replace, the judgement of a qualified eng
            "local codes and licensed practice govern.")
 
 
-COND_WARN = 1e11         # above this fewer than ~5 significant digits are safe in double precision
-COND_REFUSE = 1e16       # beyond 1/eps (4.5e15) no digit of a solution is safe: refuse rather than print noise
 RESIDUAL_TOL = 1e-8      # backward error of an eigenpair; a double-precision solve gives ~1e-14
 ORTHO_TOL = 1e-8
 
@@ -65,21 +62,19 @@ def _at_case(case):
 def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     from .progress import stage
 
-    if not model.n_nodes:
-        raise ModelError(f"{model.source or 'the deck'} defines no nodes, so there is nothing to analyse; "
-                         "define nodes (node NAME = (x, y, z)) and members between them")
-    with stage(f"assembling {model.n_members} members"):
-        asm = assemble(model)
+    # the checks `quaver check` makes, before any expensive solve: a mechanism, a free structure
+    # asked for a static answer, or a hopeless condition is refused here whatever the cases
+    asm, sound = examine(model)
     model.settings["_assembled_mass"] = assembled_mass(model, asm)
-    model.settings["_held"] = held_dofs(model, asm)
     modal = []
     for c in model.cases:
         if c.kind == "modes":
-            with stage(f"modes case {c.name}: eigen solve"), _at_case(c):
-                modal.append(solve_modes_case(model, asm, c))
+            with stage(f"modes case {c.name}: eigen solve"), _at_case(c), quiet(model, f"case {c.name}"):
+                modal.append(solve_modes_case(model, asm, c, factor=sound.spd))
     statics = [c for c in model.cases if c.kind == "static"]
     results = []
-    factor = []          # one factorisation of K, shared by every case that needs one
+    # one factorisation of K, the checks' own, shared by every case that needs one
+    factor = [] if sound.factor is None else [sound.factor]
 
     def lu():
         if not factor:
@@ -87,14 +82,8 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
         return factor[0]
 
     if statics or model.combinations:
-        model.settings["_condition"] = cond = condition_estimate(asm.K[asm.free][:, asm.free].tocsc(), lu())
-        if cond > COND_REFUSE:
-            raise ModelError(f"the stiffness is too badly conditioned to solve in double precision (condition "
-                             f"estimate {cond:.1e}, above {COND_REFUSE:.0e}): no digit of the results would be safe; "
-                             f"no node moves freely (not a mechanism), but member stiffnesses span about "
-                             f"{stiffness_contrast(model, asm):.0e}: "
-                             "check stiffness contrasts (springs, E, sections, very short members) and units")
-        results = [solve_static(model, asm, c, lu()) for c in statics]
+        with quiet(model, "static cases"):
+            results = [solve_static(model, asm, c, lu()) for c in statics]
     by_name = {r.name: r for r in results}
     for combo in model.combinations:
         parts = [(f, by_name[n]) for n, f in combo.factors.items()]
@@ -102,7 +91,7 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     by_name = {r.name: r for r in results}
     modal_by = {r.name: r for r in modal}
     for c in model.cases:
-        with _at_case(c):
+        with _at_case(c), quiet(model, f"case {c.name}"):
             _solve_response(model, asm, c, by_name, modal_by, modal, lu)
     return results, modal
 
@@ -325,6 +314,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
         _write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
                    ([r.name, j + 1, n, *map(float, r.shapes[k, :, j])]
                     for r in modal for j in range(r.shapes.shape[2]) for k, n in enumerate(nodes)))
+    from .output.character import mode_characters
     from .output.vtk import write_mode_files, write_response_files
 
     for r in modal:
@@ -358,6 +348,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "effective_mass_kg": r.part.effective_mass.tolist(),
                    "participating_total_kg": r.part.total.tolist(),
                    "reference_point_m": np.asarray(r.reference).tolist(),
+                   "mode_character": mode_characters(model, r),
                    "checks": {**modal_checks(r), **sane[r.name]}} for r in modal] + [
                   {"name": r.name, "kind": "free" if isinstance(r, FreeCaseResult) else "history",
                    "damping_ratio": r.zeta.tolist(),
@@ -517,16 +508,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
           f"total mass {model.total_mass():.6g} kg")
     for w in model.warnings:
         print(f"  {w}")
-    held = model.settings["_held"]
-    if held:
-        shown = ", ".join(f"{n} {d}" for n, d in held[:10]) + (" ..." if len(held) > 10 else "")
-        print(f"  note: {len(held)} DOF(s) have no stiffness and are held: {shown}; a load there is refused")
-    cond = model.settings.get("_condition")
-    if cond is not None:
-        lost = max(0.0, np.log10(cond))
-        level = "warning: " if cond > COND_WARN else ""
-        print(f"  {level}stiffness condition estimate {cond:.1e} (about {lost:.0f} of 16 digits at risk"
-              + ("; check stiffness contrasts and units" if cond > COND_WARN else "") + ")")
+    for line in summary_lines(model):
+        print(f"  {line}")
     am = model.settings["_assembled_mass"]
     print(f"  mass check: assembled M gives {am[0]:.6g} kg in X, Y, Z "
           f"({'pass' if _mass_ok(model) else 'FAIL'} against members + point masses)")

@@ -5,6 +5,7 @@ import json
 import os
 import subprocess
 import sys
+import time
 from pathlib import Path
 
 import pytest
@@ -423,6 +424,13 @@ def test_folders_of_a_killed_run_still_in_use_are_kept(tmp_path, deck):
     try:
         if not Path("/proc").is_dir():
             pytest.skip("no /proc: workers of a dead run cannot be found (they die with their run)")
+        # the child's environment shows in /proc only once it has started the new program
+        marker = f"{folder.RUN_ENV}={pid}".encode()
+        environ = Path(f"/proc/{worker.pid}/environ")
+        for _ in range(200):
+            if marker in environ.read_bytes():
+                break
+            time.sleep(0.02)
         folder.tidy_after_kill(out, "proj")
         assert staged.is_dir()
     finally:

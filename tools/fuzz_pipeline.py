@@ -2,7 +2,11 @@
 
 Every outcome of `fem.run.run_deck` (pictures off, into a temporary folder) must be a finished
 run or a QuaverError with a message; never another exception, never NaN or infinity in
-results.json or the CSV tables, and a refused run leaves no results folder behind.
+results.json or the CSV tables, never a library's warning text or a traceback in what the user
+sees, never a finished run whose stiffness condition estimate is above the refusal level, and a
+refused run leaves no results folder behind. Mutations include short stiff links, released ends
+on inclined members with modes-only cases, and hostile expressions (long sums, deep
+parentheses, fractional powers of negative numbers).
 
 PYTHONPATH=. python tools/fuzz_pipeline.py [cases] [seed] [--keep DIR] [--checks] (default 2000
 cases) prints the failures; about 0.5-1.5 s a case, plots every tenth. tests/test_fuzz_pipeline.py
@@ -254,11 +258,98 @@ def drop_cases_but(text, rng):
     return "\n".join(out)
 
 
+def _node_coords(text: str) -> dict[str, tuple[float, float, float]]:
+    """Node names and coordinates (m) of a deck, read by Quaver's own reader (loops and
+    expressions evaluated); empty when the deck does not read."""
+    from fem.deck.reader import read_deck
+
+    with tempfile.TemporaryDirectory(prefix="quaver-fuzz-read-") as tmp:
+        (Path(tmp) / "d.deck").write_text(text)
+        for name, t in TABLES.items():
+            (Path(tmp) / name).write_text(t)
+        try:
+            with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+                m = read_deck(str(Path(tmp) / "d.deck"))
+        except Exception:  # noqa: BLE001 - a deck broken by an earlier mutation: nothing to add to
+            return {}
+    return {n: tuple(map(float, x)) for n, x in zip(m.node_names, m.coords)}
+
+
+def _fresh(text: str, stem: str) -> str:
+    """A node or member name not yet in the deck."""
+    k = 0
+    while re.search(rf"\b{stem}{k}\b", text):
+        k += 1
+    return f"{stem}{k}"
+
+
+def _section_material(text: str, rng) -> tuple[str, str] | None:
+    sections = re.findall(r"^section (\w+)", text, flags=re.M)
+    materials = re.findall(r"^material (\w+)", text, flags=re.M)
+    return (rng.choice(sections), rng.choice(materials)) if sections and materials else None
+
+
+def short_stiff_link(text, rng):
+    """A short link member (0.1 mm to 100 mm) from a node to a new one that carries a mass, leads
+    on to another node, or both: stiffer than the rest of the model by the ratio of lengths
+    cubed, the contrast that once zeroed real modes."""
+    coords, props = _node_coords(text), _section_material(text, rng)
+    if not coords or props is None:
+        return text
+    name = rng.choice(sorted(coords))
+    d = rng.choice([1e-4, 5e-4, 5e-3, 2e-2, 0.1])
+    axis = rng.choice([(1, 0, 0), (0, 1, 0), (0, 0, 1), (0.6, 0, 0.8), (0.57735, 0.57735, 0.57735)])
+    x = [c + d * a for c, a in zip(coords[name], axis)]
+    node, link = _fresh(text, "LNK"), _fresh(text, "LINK")
+    text += (f"\nnode {node} = ({x[0]!r} m, {x[1]!r} m, {x[2]!r} m)\n"
+             f"member {link} : {name} -> {node} beam {props[0]} {props[1]}\n")
+    tail = rng.choice(["mass", "member", "both"])
+    if tail in ("mass", "both"):
+        text += f"mass {node} = 50 kg\n"
+    if tail in ("member", "both"):
+        other = rng.choice(sorted(set(coords) - {name}) or [name])
+        text += f"member {_fresh(text, 'ONWARD')} : {node} -> {other} beam {props[0]} {props[1]}\n"
+    return text
+
+
+def released_inclined_member(text, rng):
+    """A member from a node to a new free end released about both cross axes, inclined in plan,
+    in elevation or both, and (mostly) only the modes cases kept: the end rotation about the
+    member's local z meets no stiffness and no mass, a mechanism on every path."""
+    coords, props = _node_coords(text), _section_material(text, rng)
+    if not coords or props is None:
+        return text
+    name = rng.choice(sorted(coords))
+    off = rng.choice([(1.2, 0, 0.9), (0.8, 0.6, 0), (0.5, 0.7, 1.1), (2, 0, 2), (0, 0, 1.5)])
+    x = [c + o for c, o in zip(coords[name], off)]
+    node, mem = _fresh(text, "RLS"), _fresh(text, "RLM")
+    text += (f"\nnode {node} = ({x[0]!r} m, {x[1]!r} m, {x[2]!r} m)\n"
+             f"member {mem} : {name} -> {node} beam {props[0]} {props[1]} release j (ry, rz)\n")
+    if rng.random() < 0.7:
+        text = re.sub(r"^case \w+ (?!modes\b)\w+ \{[^}]*\}[ \t]*\n?", "", text, flags=re.M)
+        text = re.sub(r"^combo .*\n?", "", text, flags=re.M)
+    return text
+
+
+def expression(text, rng):
+    """An expression a hostile or careless deck might hold, as a parameter or in a mass: a long
+    sum, deep parentheses, a fractional power of a negative number."""
+    n = rng.choice([20, 3000, 30000])
+    expr = rng.choice(["+".join(["1"] * n), "(" * min(n, 5000) + "1" + ")" * min(n, 5000),
+                       "(-8)^(1/3)", "(-2)^0.5", "(-1)^(2/3)", "-8^(1/3)", "(-8)^3", "(-0.5)^(-1.5)",
+                       "0^(-1)", "(-8)^(1/3) - (-8)^(1/3)"])
+    if rng.random() < 0.5:
+        return text + f"\nlet {_fresh(text, 'EXPR')} = {expr}\n"
+    node = rng.choice(re.findall(r"^node (\w+)", text, flags=re.M) or ["A0"])
+    return text + f"\nmass {node} = ({expr}) * 1 kg\n"
+
+
 MUTATIONS = [
     drop_supports, fix_everything, drop_member, releases_everywhere, all_truss, all_beam,
     duplicate_node, move_node_onto_another, no_mass, rotary_mass_only, mass_on_loose_node,
     lumped_shear, far_node, drop_cases_but, springs_for_supports, heavy_or_light_mass,
-    unsupported_in_a_plane, far_reference, repeat_statement,
+    unsupported_in_a_plane, far_reference, repeat_statement, short_stiff_link, released_inclined_member,
+    expression,
     _sub_value("E", ["1 Pa", "1e-9 Pa", "1e6 GPa", "1e300 Pa", "0", "-1 GPa"]),
     _sub_value("nu", ["0", "0.4999999", "-0.99", "0.5", "-1"]),
     _sub_value("density", ["0 kg/m^3", "1e-9 kg/m^3", "1e9 kg/m^3", "-1 kg/m^3"]),
@@ -311,6 +402,32 @@ TABLE_MUTATIONS = {
 
 # ----------------------------------------------------------------------------- checking
 
+# a library's own words on the user's screen: a warning class with its source line, a traceback
+_LIBRARY_TEXT = re.compile(r"\b[A-Z]\w*Warning\b|^\s*File \"|\.py:\d+|Traceback", re.M)
+COND_REFUSE = 1e16       # fem.analysis.soundness: a run above it must have been refused
+
+
+@contextlib.contextmanager
+def _warnings_as_a_user_sees_them():
+    """Python's default warning filters of a fresh process (each warning shown once per place,
+    deprecations hidden), whatever earlier cases of this process showed."""
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("default")
+        for cat in (DeprecationWarning, PendingDeprecationWarning, ImportWarning, ResourceWarning):
+            warnings.filterwarnings("ignore", category=cat)
+        yield
+
+
+def _leaked(text: str) -> str | None:
+    m = _LIBRARY_TEXT.search(text)
+    if m is None:
+        return None
+    line = text[text.rfind("\n", 0, m.start()) + 1:].split("\n")[0]
+    return f"library text reached the user: {line.strip()[:200]}"
+
+
 _BAD_NUMBER = re.compile(r"(?i)(?<![a-z_])(nan|-?inf(inity)?)(?![a-z_])")
 
 
@@ -348,11 +465,14 @@ def check(deck_text: str, tables: dict[str, str], work: Path, report: bool = Tru
     out = work / "out"
     sink = io.StringIO()
     try:
-        with contextlib.redirect_stdout(sink), contextlib.redirect_stderr(sink), \
+        with contextlib.redirect_stdout(sink), contextlib.redirect_stderr(sink), _warnings_as_a_user_sees_them(), \
                 (contextlib.nullcontext() if report else _without_report()):
             code = run_deck(str(deck), str(out), render=False, jobs=1)
     except QuaverError as exc:
         msg = str(exc)
+        leaked = _leaked(sink.getvalue() + "\n" + msg)
+        if leaked:
+            return leaked
         if "non-finite number" in msg:
             return f"a non-finite result reached the writer (the backstop refused it): {msg}"
         if not msg.strip():
@@ -366,9 +486,16 @@ def check(deck_text: str, tables: dict[str, str], work: Path, report: bool = Tru
         return None
     except Exception:  # noqa: BLE001 - the point is to catch everything else
         return traceback.format_exc(limit=-4)
-    why = _finite_json((out / "results.json").read_text())
+    leaked = _leaked(sink.getvalue())
+    if leaked:
+        return leaked
+    raw = (out / "results.json").read_text()
+    why = _finite_json(raw)
     if why:
         return why
+    cond = json.loads(raw)["model"].get("stiffness_condition_estimate")
+    if cond is not None and cond > COND_REFUSE:
+        return f"a run with a stiffness condition estimate of {cond:.1e} (above {COND_REFUSE:.0e}) was not refused"
     for f in out.glob("*.csv"):
         with f.open(newline="") as fh:
             rows = csv.reader(fh)
@@ -402,7 +529,11 @@ def mutated(rng: random.Random, depth: int = 2, bases: dict[str, str] | None = N
 
 
 # failures already reported where they belong, kept apart so that new ones stand out
-KNOWN: list[tuple[str, str]] = []
+KNOWN: list[tuple[str, str]] = [
+    (r"RecursionError", "a long sum in an expression exhausts the reader's recursion (issue 11, item 7)"),
+    (r"TypeError: must be real number, not complex",
+     "a fractional power of a negative number gives a complex value in the reader (issue 11, item 7)"),
+]
 
 
 def known(why: str) -> str | None:

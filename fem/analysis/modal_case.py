@@ -60,7 +60,10 @@ def stiffness_condition(K, modes: ModalResult, cache: dict) -> float | None:
     if factor is not None and factor[1] == 0:
         return condition_estimate(K.tocsc(), _Symmetric(factor[0]))
     if factor is None and K.shape[0] <= DENSE_LIMIT:
-        return condition_estimate(K.tocsc(), spla.splu(K.tocsc()))
+        try:
+            return condition_estimate(K.tocsc(), spla.splu(K.tocsc()))
+        except RuntimeError:       # exactly singular: a mechanism, refused by the model's checks
+            return None
     return None
 
 
@@ -78,8 +81,11 @@ def shape_rows(case: LoadCase, model: Model, count: int, n_free: int, asked: str
                          "(count, or a lower fmax)")
 
 
-def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseResult:
-    """Solve a modes case (options count, fmax, reference already checked by the reader)."""
+def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None) -> ModesCaseResult:
+    """Solve a modes case (options count, fmax, reference already checked by the reader).
+
+    `factor`: a `factor.SPDFactor` of K over the free DOFs already made (by the model's checks),
+    used by shift-invert Lanczos at zero shift instead of factoring K again."""
     count, fmax = case.options.get("count"), case.options.get("fmax")
     point = case.options.get("reference", np.zeros(3))
     f = asm.free
@@ -94,7 +100,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase) -> ModesCaseR
                    f"count = {count} asks for all {len(f)} modes; " if count > len(f) else "")
     R = influence_vectors(model, point)[f]
     target = case.options.get("target")
-    cache = {}
+    cache = {} if factor is None else {"factor": (factor, 0.0)}
     if target is None:
         modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=count, f_max=fmax, cache=cache)
         if len(modes.omega) == 0:

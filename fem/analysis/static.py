@@ -119,31 +119,45 @@ def _normalised_stiffness(model: Model, asm: Assembled):
     return Kn[asm.free][:, asm.free]
 
 
-def free_motions(model: Model, asm: Assembled, Kff, max_modes: int = 6):
-    """Zero-stiffness motions of K over the free DOFs: a list of mechanisms, each the list of
-    (node, direction) pairs that move most in it (components above 10 % of the largest).
+def motion_probe(model: Model, asm: Assembled, Kff):
+    """The matrix in which zero-energy motions are looked for: the member-normalised stiffness
+    (`_normalised_stiffness`), so that a stiffness contrast between members (a 0.1 mm link, a
+    member with E = 0.2 Pa at a support) is not taken for a mechanism and is left to the
+    condition estimate; `Kff` itself when the model's member matrices do not match it (a K
+    built elsewhere)."""
+    return _normalised_stiffness(model, asm) if Kff.shape == (len(asm.free),) * 2 else Kff
 
-    Found from the lowest eigenvectors of the member-normalised stiffness (each member and
-    spring at its own scale, `_normalised_stiffness`) scaled to unit diagonal (dense up to 3000
-    DOFs, shift-invert Lanczos above), so rigid rotations show up as rotations, not pivot
-    accidents, and a stiffness contrast between members (a 0.1 mm link, a member with
-    E = 0.2 Pa at a support) is not a mechanism: it is left to the condition estimate. `Kff` is
-    used when the model's member matrices do not match it (a K built elsewhere)."""
+
+def zero_energy_motions(Kff, max_modes: int = 6):
+    """Up to `max_modes` motions of zero strain energy of K over the free DOFs: y (n, k) with
+    orthonormal columns in the coordinates that scale K to unit diagonal, and that scaling
+    s (n,) (a motion in physical units is s * y).
+
+    The lowest eigenvectors of the scaled K (dense up to 3000 DOFs, shift-invert Lanczos
+    above) whose eigenvalues lie below 1e-9, so rigid rotations show up as rotations, not
+    pivot accidents."""
     import scipy.linalg as sla
 
-    Kn = _normalised_stiffness(model, asm) if Kff.shape == (len(asm.free),) * 2 else Kff
-    d = np.abs(Kn.diagonal())
+    d = np.abs(Kff.diagonal())
     d = np.where(d > 0, d, 1.0)
     s = 1 / np.sqrt(d)
-    A = Kn.multiply(s[:, None]).multiply(s[None, :]).tocsc()
+    A = Kff.multiply(s[:, None]).multiply(s[None, :]).tocsc()
     n = A.shape[0]
     k = min(max_modes, n)
     if n <= 3000:
         lam, vec = sla.eigh(A.toarray(), subset_by_index=[0, k - 1])
     else:
         lam, vec = spla.eigsh(A, k=k, sigma=-1e-6, which="LM")
+    return vec[:, lam < 1e-9], s
+
+
+def free_motions(model: Model, asm: Assembled, Kff, max_modes: int = 6):
+    """Zero-stiffness motions of K over the free DOFs: a list of mechanisms, each the list of
+    (node, direction) pairs that move most in it (components above 10 % of the largest), from
+    `zero_energy_motions` of the member-normalised stiffness (`motion_probe`)."""
+    vec, s = zero_energy_motions(motion_probe(model, asm, Kff), max_modes)
     out = []
-    for j in np.flatnonzero(lam < 1e-9):
+    for j in range(vec.shape[1]):
         v = np.abs(vec[:, j] * s)        # back to physical scaling
         big = np.flatnonzero(v >= 0.1 * v.max())
         big = big[np.argsort(-v[big])][:8]
@@ -173,7 +187,7 @@ class _Symmetric:
         return self.factor.solve(b)
 
 
-def factorise(model: Model, asm: Assembled):
+def factorise(model: Model, asm: Assembled, what: str = "static solve"):
     """Factor K over the free DOFs. A positive definite K (every stable structure) is factored
     by the family the eigen solver would choose for it (banded Cholesky, PARDISO or SuperLU in a
     symmetric ordering, `factor.spd_factor`); otherwise a pivoting sparse LU finds out why: a
@@ -184,7 +198,7 @@ def factorise(model: Model, asm: Assembled):
     from .memory import check_factor_memory
 
     order = ordering(Kff)
-    check_factor_memory(Kff, "static solve", order)
+    check_factor_memory(Kff, what, order)
     try:
         return _Symmetric(spd_factor(Kff, order=order))
     except NotPositiveDefinite:
@@ -219,7 +233,14 @@ def condition_estimate(Kff, lu) -> float:
     if n == 0:
         return 1.0
     inv = spla.LinearOperator((n, n), matvec=lu.solve, rmatvec=lambda x: lu.solve(x, trans="T"), dtype=float)
-    return float(spla.norm(Kff, 1) * spla.onenormest(inv))
+    # the estimator draws random start vectors from numpy's global generator: seeded (and the
+    # caller's state put back) so that the same model always gets the same estimate
+    state = np.random.get_state()
+    np.random.seed(20261203)
+    try:
+        return float(spla.norm(Kff, 1) * spla.onenormest(inv))
+    finally:
+        np.random.set_state(state)
 
 
 def held_dofs(model: Model, asm: Assembled) -> list[tuple[str, str]]:
@@ -358,14 +379,19 @@ def support_forces(model: Model, asm: Assembled, residual: np.ndarray, u: np.nda
     return out
 
 
-def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> StaticResult:
-    lu = lu or factorise(model, asm)
-    f, fe = load_vector(model, asm, case)
+def check_resisted(model: Model, asm: Assembled, case: LoadCase, f: np.ndarray) -> None:
+    """Refuse a load vector f (6n,) of `case` that acts on a held DOF (nothing resists it there)."""
     loaded = asm.inert[np.abs(f[asm.inert]) > 0]
     if loaded.size:
         free = [(model.node_names[d // 6], DIRECTIONS[d % 6]) for d in loaded]
         shown = ", ".join(f"{n} {d}" for n, d in free[:12])
-        raise MechanismError(f"case {case.name}: load acts where nothing resists it: {shown}", free)
+        raise MechanismError(f"case {case.name}: load acts where nothing resists it: {shown}", free, case.location)
+
+
+def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> StaticResult:
+    lu = lu or factorise(model, asm)
+    f, fe = load_vector(model, asm, case)
+    check_resisted(model, asm, case, f)
     u = np.zeros(6 * model.n_nodes)
     u[asm.free] = lu.solve(f[asm.free])
     if not np.isfinite(u).all():

@@ -17,8 +17,10 @@ from pathlib import Path
 import numpy as np
 
 from .fmt import percent
+from .vtk import MAX_TURN, drawing_scale
 
-__all__ = ["can_render", "render_all", "render_modes", "render_response", "dominant_direction", "one_line"]
+__all__ = ["can_render", "render_all", "render_modes", "render_response", "dominant_direction", "drawing_scale",
+           "one_line"]
 
 _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64, 64)); "
           "p.add_mesh(pv.Sphere()); p.screenshot(None); p.close()")
@@ -103,15 +105,18 @@ def dominant_direction(shape: np.ndarray, coords: np.ndarray | None = None) -> t
     return name, share
 
 
-def _view_vector(shape: np.ndarray, extent: np.ndarray) -> np.ndarray:
-    """Look along an axis across the main motion, choosing the one that shows the structure
-    largest, so the motion lies in the picture plane."""
-    tr = np.abs(shape[:, :3]).sum(axis=0)
-    main = int(np.argmax(tr))
+def _view_vector(main: int, extent: np.ndarray) -> np.ndarray:
+    """Look along an axis across the main motion (global axis `main`, of the translation or of
+    the rotation), choosing the one that shows the structure largest, so the motion lies in
+    the picture plane."""
     area = [extent[(a + 1) % 3] * extent[(a + 2) % 3] if a != main else -1 for a in range(3)]
     v = np.zeros(3)
     v[int(np.argmax(area))] = 1.0
     return v
+
+
+RIBBON_TURN = 0.05   # rad: a ribbon is drawn on a member whose drawn twist reaches this and
+RIBBON_SHARE = 0.1   # whose twist holds this share of the mode's strain or kinetic energy (our choice)
 
 
 def _scene(model, radius):
@@ -120,6 +125,53 @@ def _scene(model, radius):
     lines = np.c_[np.full(len(model.conn), 2), model.conn].ravel()
     poly = pv.PolyData(model.coords.astype(float), lines=lines)
     return pv, poly
+
+
+class _Drawn:
+    """The deformed members: tubes along each member's interpolated curve, and a ribbon across
+    the members whose drawn twist shows (its width turns with the twist, so a member twisting
+    between its ends is seen to). Points are updated in place for animation frames."""
+
+    def __init__(self, pv, model, prepared, ribbons=(), lever: float = 0.0):
+        e, q = prepared.base.shape[:2]
+        self.base = prepared.base
+        lines = np.c_[np.full(e, q), np.arange(e * q).reshape(e, q)].ravel()
+        self.mesh = pv.PolyData(prepared.base.reshape(-1, 3).copy(), lines=lines)
+        self.lever = lever
+        self.ribbon = None
+        self.twisted = np.asarray(ribbons, int)
+        if len(self.twisted):
+            lo, hi = model.bounding_box()
+            ext = float(max(np.max(hi - lo), 1e-9))
+            r = self.twisted
+            L = np.linalg.norm(self.base[r, -1] - self.base[r, 0], axis=1)
+            self.half = np.minimum(0.25 * L, 0.04 * ext)[:, None, None]
+            self.ey, self.ez = prepared.R[r, 1][:, None, :], prepared.R[r, 2][:, None, :]
+            a = (np.arange(len(r))[:, None] * q + np.arange(q - 1)[None, :]).ravel() * 2
+            faces = np.c_[np.full(len(a), 4), a, a + 2, a + 3, a + 1].ravel()
+            self.ribbon = pv.PolyData(np.zeros((len(r) * q * 2, 3)), faces=faces)
+
+    def move(self, disp: np.ndarray, twist: np.ndarray, colour: str | None = None, norm: float = 1.0):
+        """Members to base + disp (e, p, 3), ribbons turned by twist (e, p); with `colour`, the
+        point data of that name set to the drawn motion / norm."""
+        self.mesh.points = (self.base + disp).reshape(-1, 3)
+        if colour:
+            m = np.linalg.norm(disp, axis=-1)
+            if self.lever:
+                m = np.hypot(m, twist * self.lever)
+            self.mesh[colour] = (m / norm).ravel()
+        if self.ribbon is not None:
+            self.ribbon.points = self.ribbon_points(disp, twist)
+
+    def ribbon_points(self, disp: np.ndarray, twist: np.ndarray) -> np.ndarray:
+        """The ribbons' corner points for a shape (none without ribbons), (k, 3)."""
+        r = self.twisted
+        if not len(r):
+            return np.zeros((0, 3))
+        t = twist[r][:, :, None]
+        across = self.half * (np.cos(t) * self.ey + np.sin(t) * self.ez)
+        c = self.base[r] + disp[r]
+        return np.stack([c - across, c + across], axis=2).reshape(-1, 3)
 
 
 def _sizes(model) -> tuple[tuple[int, int], tuple[int, int]]:
@@ -207,19 +259,20 @@ def _bar_fonts(p, size) -> None:
         bar.GetLabelTextProperty().SetFontSize(cfg["label_font_size"])
 
 
-def _deformed(poly, disp):
-    """Deformed copy whose points are later updated in place for animation frames."""
-    moved = poly.copy()
-    moved.points = poly.points + disp
-    moved["motion (m)"] = np.linalg.norm(disp, axis=1)
-    return moved
+RIBBON = "#c2562e"       # the twist ribbons: a warm accent apart from the colour map
 
 
-def _frame(p, mesh, base, disp, recolour: bool = True, scale: float = 1.0):
-    """Move the mesh to base + disp; colour by the true motion |disp| / scale when recolouring."""
-    mesh.points = base + disp
-    if recolour:
-        mesh["motion (m)"] = np.linalg.norm(disp, axis=1) / scale
+def _deformed(p, drawn: _Drawn) -> None:
+    """Add the ribbons, if any, to the plotter (the tubes go in with their colour bar)."""
+    if drawn.ribbon is not None:
+        # the quads' edges mark cross-sections along the member, turned by the twist
+        p.add_mesh(drawn.ribbon, color=RIBBON, opacity=0.7, show_edges=True, edge_color="#5a2410",
+                   line_width=1)
+
+
+def _frame(p, drawn: _Drawn, disp, twist, colour: str | None = None, norm: float = 1.0):
+    """Move the drawing to the frame's shape (recoloured when `colour` is given) and render."""
+    drawn.move(disp, twist, colour, norm)
     p.render()
 
 
@@ -234,36 +287,65 @@ def _cycle_captions(period: float, frames: int) -> list[str]:
     return [f"t = {k * period / frames:.3g} s of one period ({period:.3g} s)" for k in range(frames)]
 
 
+def _mode_caption(j: int, modal, jj: int, character) -> str:
+    eff = modal.part.fraction[jj, :3]
+    return (f"mode {j + 1}   {modal.modes.freq[jj]:.4g} Hz   period {modal.modes.period[jj]:.4g} s\n"
+            f"{character.label}\n{character.where(2)}\n"
+            f"effective mass X {percent(eff[0])}  Y {percent(eff[1])}  Z {percent(eff[2])}")
+
+
 def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
                  gif: bool = True, fps: float = FPS) -> list[Path]:
     """Per mode: PNG in the plane of largest motion, an isometric PNG, and a GIF of one cycle,
-    all from one plotter whose points are updated in place. Colour: the shape's displacement
-    relative to its largest (0 to 1)."""
+    all from one plotter whose points are updated in place. Members are drawn along their own
+    interpolated shapes (several points each), twisting members with a ribbon; the shape is
+    scaled by drawing_scale. Colour: the drawn motion (translation, and twist times the lever
+    length / MAX_TURN) relative to its largest, 0 to 1. Caption: what the mode does and where
+    its energy is (character.describe_mode)."""
+    from ..analysis.energy import field_energies
+    from ..assembly import element_matrices
+    from ..elements.interpolate import member_curves, points_per_member, prepare_curves
+    from .character import describe_mode
+
     pv, poly = _scene(model, None)
     lo, hi = model.bounding_box()
     still, moving = _sizes(model)
     folder.mkdir(parents=True, exist_ok=True)
+    prepared = prepare_curves(model, points_per_member(model.n_members))
+    matrices = element_matrices(model)
+    lever = length / MAX_TURN
     out = []
     first = modal.first_mode
     for jj in range(modal.shapes.shape[2]):
         j = first + jj
         s = modal.shapes[:, :, jj]
-        peak = np.abs(s[:, :3]).max()
-        disp = s[:, :3] * (length / peak if peak > 0 else 0.0)
-        d, share = dominant_direction(s, model.coords)
-        eff = modal.part.fraction[jj, :3]
-        caption = (f"mode {j + 1}   {modal.modes.freq[jj]:.4g} Hz   period {modal.modes.period[jj]:.4g} s\n"
-                   f"main motion {d}\neffective mass X {percent(eff[0])}  Y {percent(eff[1])}  "
-                   f"Z {percent(eff[2])}")
-        mag = np.linalg.norm(disp, axis=1)
-        p = _setup(pv, poly, caption, still)
-        mesh = _deformed(poly, disp)
-        mesh[RELATIVE] = mag / mag.max() if mag.max() > 0 else mag
-        _add_coloured(p, mesh, RELATIVE, [0.0, 1.0], still)
-        # a twist about z is seen from above; other motions across their main direction
-        vv = np.array([0.0, 0.0, 1.0]) if d.startswith("twist") else _view_vector(s, hi - lo)
+        curves = member_curves(model, s, prepared=prepared)
+        k = drawing_scale(curves, s, length)
+        disp, twist = curves.disp * k, curves.twist * k
+        energies = field_energies(model, s, matrices)
+        character = describe_mode(model, s, energies, prepared=prepared)
+        p = _setup(pv, poly, _mode_caption(j, modal, jj, character), still)
+        # ribbons where the twist shows and matters: its share of the strain or kinetic energy
+        share = np.maximum(energies.member_strain[:, 1] / max(energies.strain, 1e-300),
+                           energies.member_kinetic[:, 1] / max(energies.kinetic, 1e-300))
+        ribbons = np.flatnonzero((np.abs(twist).max(axis=1) >= RIBBON_TURN) & (share >= RIBBON_SHARE))
+        drawn = _Drawn(pv, model, prepared, ribbons, lever)
+        motion = np.hypot(np.linalg.norm(disp, axis=-1), twist * lever)
+        drawn.move(disp, twist, RELATIVE, max(float(motion.max()), 1e-300))
+        _add_coloured(p, drawn.mesh, RELATIVE, [0.0, 1.0], still, "relative\nmotion")
+        _deformed(p, drawn)
+        # a twist in plan is seen from above, a mode of rotations along its axis of rotation
+        # (a twisting member's ribbon fans out around it); other motions across their main direction
+        if character.motion.startswith("twist in plan"):
+            vv = np.array([0.0, 0.0, 1.0])
+        elif character.rotational:
+            vv = np.eye(3)[character.axis]
+        else:
+            vv = _view_vector(character.axis, hi - lo)
         view = (vv, (0, 0, 1) if vv[2] == 0 else (0, 1, 0))
-        span = np.r_[poly.points, poly.points + disp, poly.points - disp]   # the whole cycle
+        pts = prepared.base.reshape(-1, 3)
+        span = np.r_[poly.points, pts + disp.reshape(-1, 3), pts - disp.reshape(-1, 3),    # the whole cycle
+                     drawn.ribbon_points(disp, twist), drawn.ribbon_points(-disp, -twist)]
         _fit(p, span, *view)
         stem = folder / f"{modal.name}_mode_{j + 1:03d}"
         p.screenshot(str(stem) + "_plane.png")
@@ -271,13 +353,13 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
         p.screenshot(str(stem) + "_iso.png")
         out += [Path(str(stem) + "_plane.png"), Path(str(stem) + "_iso.png")]
         if gif:
-            base = poly.points.copy()
-            shots = (disp * np.sin(2 * np.pi * k / frames) for k in range(frames))
+            def show(i, drawn=drawn, disp=disp, twist=twist):
+                a = np.sin(2 * np.pi * i / frames)
+                _frame(p, drawn, disp * a, twist * a)
             p.window_size = moving
             _fit(p, span, *view)
-            out += _animate(p, mesh, base, shots, stem, fps, _clock(p, ""),
-                            _cycle_captions(float(modal.modes.period[jj]), frames), size=moving,
-                            recolour=False)
+            out += _animate(p, show, frames, stem, fps, _clock(p, ""),
+                            _cycle_captions(float(modal.modes.period[jj]), frames), size=moving)
         p.close()
     return out
 
@@ -291,20 +373,21 @@ def video_available() -> bool:
     return True
 
 
-def _animate(p, mesh, base, displacements, stem: Path, fps: float = FPS, clock=None,
-             captions=(), size=GIF_SIZE, recolour: bool = True, scale: float = 1.0) -> list[Path]:
-    """Render each displacement field once, with its caption in the `clock` text actor; write
-    stem.gif always and stem.mp4 when an encoder is available. Frames are taken from the live
-    plotter (points updated in place), so one context serves every frame and both files."""
+def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
+             captions=(), size=GIF_SIZE) -> list[Path]:
+    """Render frames 0..count-1 once each (show(i) moves the drawing to frame i), with its
+    caption in the `clock` text actor; write stem.gif always and stem.mp4 when an encoder is
+    available. Frames are taken from the live plotter (points updated in place), so one
+    context serves every frame and both files."""
     import imageio.v2 as imageio
 
     p.window_size = size
     _bar_fonts(p, size)
     images = []
-    for i, d in enumerate(displacements):
+    for i in range(count):
         if clock is not None:
             clock.set_text("lower_left", captions[i])
-        _frame(p, mesh, base, d, recolour, scale)
+        show(i)
         images.append(p.screenshot(None, return_img=True))
     gif = stem.with_suffix(".gif")
     imageio.mimsave(gif, images, duration=1000 / fps, loop=0)
@@ -321,37 +404,47 @@ def _animate(p, mesh, base, displacements, stem: Path, fps: float = FPS, clock=N
 def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool = True,
                     fps: float = FPS) -> list[Path]:
     """GIF of a free or history response at an exaggerated but constant scale, each frame
-    captioned with its time, and a PNG of the frame with the largest motion."""
+    captioned with its time, and a PNG of the frame with the largest motion. Members follow
+    their interpolated shapes; the scale makes the largest translation 5 % of the model's size
+    unless the rotations would then pass MAX_TURN (as for mode shapes)."""
+    from ..elements.interpolate import member_curves, points_per_member, prepare_curves
+
     pv, poly = _scene(model, None)
     lo, hi = model.bounding_box()
     extent = float(max(np.max(hi - lo), 1e-9))
     peak = np.abs(frames[:, :, :3]).max()
-    k = 0.05 * extent / peak if peak > 0 else 0.0
+    prepared = prepare_curves(model, points_per_member(model.n_members))
     folder.mkdir(parents=True, exist_ok=True)
     worst = int(np.argmax(np.abs(frames[:, :, :3]).max(axis=(1, 2))))
-    disp = frames[worst, :, :3] * k
+    some = range(0, len(frames), max(1, len(frames) // 20))       # enough frames to bound the motion
+    curves = member_curves(model, frames[sorted({worst, *some})], prepared=prepared)
+    k = drawing_scale(curves, frames, 0.05 * extent)
     caption = f"{name}   largest motion {peak:.3g} m\nat t = {frame_t[worst]:.4g} s (drawn x{k:.3g})"
     still, moving = _sizes(model)
     p = _setup(pv, poly, caption, still)
-    mesh = _deformed(poly, disp)
+    # ribbons on the members whose twist sets the drawing scale (within half of MAX_TURN of it)
+    drawn = _Drawn(pv, model, prepared, np.flatnonzero(np.abs(curves.twist * k).max(axis=(0, 2)) >= MAX_TURN / 2))
     # coloured by the true displacement (m) on one scale for every frame, with its bar
-    mesh["motion (m)"] = np.linalg.norm(frames[worst, :, :3], axis=1)
-    top = max(float(np.linalg.norm(frames[:, :, :3], axis=2).max()), 1e-12)
-    _add_coloured(p, mesh, "motion (m)", [0, top], still, "displacement\n(m)", "%.2g")
+    one = member_curves(model, frames[worst], prepared=prepared)
+    drawn.move(one.disp * k, one.twist * k, "motion (m)", k if k > 0 else 1.0)
+    top = max(float(np.linalg.norm(curves.disp, axis=-1).max()), 1e-12)
+    _add_coloured(p, drawn.mesh, "motion (m)", [0, top], still, "displacement\n(m)", "%.2g")
+    _deformed(p, drawn)
     clock = _clock(p, f"t = {frame_t[worst]:.4g} s (largest motion)")
-    some = frames[::max(1, len(frames) // 20), :, :3] * k          # enough frames to bound the motion
-    span = np.r_[poly.points, poly.points + disp, (poly.points[None] + some).reshape(-1, 3)]
+    pts = prepared.base.reshape(-1, 3)
+    span = np.r_[poly.points, (pts[None] + k * curves.disp.reshape(len(curves.disp), -1, 3)).reshape(-1, 3)]
     _fit(p, span, *ISO)
     png = folder / f"{name}_peak.png"
     p.screenshot(str(png))
     out = [png]
     if gif:
-        base = poly.points.copy()
+        def show(i):
+            c = member_curves(model, frames[i], prepared=prepared)
+            _frame(p, drawn, c.disp * k, c.twist * k, "motion (m)", k if k > 0 else 1.0)
         marks = [f"t = {x:.4g} s" + ("  (largest motion)" if i == worst else "") for i, x in enumerate(frame_t)]
         p.window_size = moving
         _fit(p, span, *ISO)
-        out += _animate(p, mesh, base, (frames[i, :, :3] * k for i in range(len(frame_t))), folder / name,
-                        fps, clock, marks, size=moving, scale=k if k > 0 else 1.0)
+        out += _animate(p, show, len(frame_t), folder / name, fps, clock, marks, size=moving)
     p.close()
     return out
 

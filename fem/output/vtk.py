@@ -1,16 +1,33 @@
 """Mode-shape and response files any VTK viewer opens: one VTU per frame (meshio), members as
-line cells, and a PVD collection to step through them."""
+polylines through points along them carrying the members' own interpolated shapes, and a PVD
+collection to step through them.
+
+Points: the model's nodes first, in model order (point i is node i), then the inner points of
+each member in member order (VTU_POINTS - 2 per member, evenly spaced; fewer when the inner
+points of all members would pass VTU_BUDGET, and none, straight members, beyond VTU_BUDGET
+members: the files of large models stay close to their node count). Cells: the line segments
+of each member's polyline. Point data `node` is the node's index (-1 at inner points) and cell
+data `member` the member's index; `names.csv` beside the files maps both to their names (VTU
+string arrays do not survive meshio).
+"""
 
 from __future__ import annotations
 
+import csv
 from pathlib import Path
 from xml.sax.saxutils import quoteattr
 
 import numpy as np
 
+from ..elements.interpolate import member_curves, points_per_member, prepare_curves
 from ..model import Model
 
-__all__ = ["shape_scale", "write_vtu", "write_pvd", "write_mode_files", "write_response_files"]
+__all__ = ["MAX_TURN", "drawing_scale", "shape_scale", "write_vtu", "write_pvd", "write_mode_files",
+           "write_response_files"]
+
+MAX_TURN = 0.5       # rad: the largest section rotation a drawn shape shows (our choice)
+VTU_POINTS = 5       # points along each member in the files: a cubic's bow shows at this count
+VTU_BUDGET = 20_000  # inner points of all members in one file, at most (our choice)
 
 
 def shape_scale(model: Model, fraction: float = 0.05) -> float:
@@ -20,7 +37,62 @@ def shape_scale(model: Model, fraction: float = 0.05) -> float:
     return fraction * float(max(np.max(hi - lo), 1e-9))
 
 
+def drawing_scale(curves, shape: np.ndarray, length: float) -> float:
+    """The factor a shape is drawn at: its largest translation along the members becomes
+    `length`, unless its rotations (the members' section rotations and twist, the nodes'
+    rotations) would then exceed MAX_TURN; then the largest rotation is drawn MAX_TURN. So a
+    mode of big rotations and tiny translations shows its rotations and keeps its translations
+    tiny instead of blowing them up into a sway. `curves` is member_curves of `shape`."""
+    if length <= 0:
+        return 0.0
+    tr = float(np.abs(curves.disp).max(initial=0.0))
+    rot = max(float(np.linalg.norm(curves.rot, axis=-1).max(initial=0.0)),
+              float(np.abs(shape[..., 3:]).max(initial=0.0)))
+    k = np.inf
+    if tr > 0:
+        k = length / tr
+    if rot > 0:
+        k = min(k, MAX_TURN / rot)
+    return float(k) if np.isfinite(k) else 0.0
+
+
+class _Grid:
+    """The points and segments of the members' polylines (see the module notes)."""
+
+    def __init__(self, model: Model, n_points: int | None = None):
+        if n_points is None:
+            n_points = points_per_member(model.n_members, VTU_POINTS, VTU_BUDGET)
+        self.prepared = prepare_curves(model, n_points)
+        n, e, q = model.n_nodes, model.n_members, max(int(n_points), 2)
+        inner = n + np.arange(e * (q - 2)).reshape(e, q - 2)
+        poly = np.c_[model.conn[:, :1], inner, model.conn[:, 1:]]                # (e, q)
+        self.lines = np.stack([poly[:, :-1], poly[:, 1:]], axis=-1).reshape(-1, 2)
+        self.member = np.repeat(np.arange(e, dtype=np.int32), q - 1)
+        self.node = np.r_[np.arange(n), np.full(e * (q - 2), -1)].astype(np.int32)
+        self.points = np.r_[model.coords, self.prepared.base[:, 1:-1].reshape(-1, 3)]
+        self.model = model
+
+    def curves(self, u: np.ndarray):
+        return member_curves(self.model, u, prepared=self.prepared)
+
+    def fields(self, u: np.ndarray, scale: float = 1.0, c=None) -> dict:
+        """displacement and rotation (global) at every point for a node field u (n, 6), from
+        its member curves `c` when they are at hand."""
+        c = self.curves(u) if c is None else c
+        return {"displacement": np.r_[u[:, :3], c.disp[:, 1:-1].reshape(-1, 3)] * scale,
+                "rotation": np.r_[u[:, 3:], c.rot[:, 1:-1].reshape(-1, 3)] * scale}
+
+    def write(self, path: Path, point_data: dict) -> None:
+        import meshio
+
+        data = {k: np.ascontiguousarray(v, dtype=float) for k, v in point_data.items()}
+        data["node"] = self.node
+        meshio.Mesh(self.points, [("line", self.lines)], point_data=data,
+                    cell_data={"member": [self.member]}).write(path, file_format="vtu")
+
+
 def write_vtu(path: Path, model: Model, point_data: dict) -> None:
+    """Nodes as points and members as straight line cells, with node point data (n, ...)."""
     import meshio
 
     mesh = meshio.Mesh(model.coords, [("line", model.conn)],
@@ -36,33 +108,47 @@ def write_pvd(path: Path, entries: list[tuple[float, str]]) -> None:
     path.write_text("\n".join(lines))
 
 
+def _write_names(folder: Path, model: Model) -> Path:
+    path = folder / "names.csv"
+    with path.open("w", newline="") as f:
+        w = csv.writer(f)
+        w.writerow(["kind", "index", "name"])
+        w.writerows(["node", i, n] for i, n in enumerate(model.node_names))
+        w.writerows(["member", i, n] for i, n in enumerate(model.member_names))
+    return path
+
+
 def write_mode_files(folder: Path, model: Model, modal, length: float | None = None) -> list[Path]:
-    """modes/<case>_mode_<j>.vtu for every mode plus <case>_modes.pvd; shapes scaled so the
-    largest translation is `length` (default shape_scale(model)); returns the files."""
+    """modes/<case>_mode_<j>.vtu for every mode plus <case>_modes.pvd and names.csv; each shape
+    is drawn as in the pictures, along the members, at drawing_scale with `length` (default
+    shape_scale(model)); returns the files."""
     length = shape_scale(model) if length is None else length
     folder.mkdir(parents=True, exist_ok=True)
+    grid = _Grid(model)
     entries, files = [], []
     for j in range(modal.shapes.shape[2]):
         s = modal.shapes[:, :, j]
-        peak = np.abs(s[:, :3]).max()
-        k = length / peak if peak > 0 else 0.0
+        c = grid.curves(s)
+        k = drawing_scale(c, s, length)
         name = f"{modal.name}_mode_{j + 1:03d}.vtu"
-        write_vtu(folder / name, model, {"displacement": s[:, :3] * k, "rotation": s[:, 3:] * k})
+        grid.write(folder / name, grid.fields(s, k, c))
         entries.append((j + 1, name))
         files.append(folder / name)
     write_pvd(folder / f"{modal.name}_modes.pvd", entries)
-    return files + [folder / f"{modal.name}_modes.pvd"]
+    return files + [folder / f"{modal.name}_modes.pvd", _write_names(folder, model)]
 
 
 def write_response_files(folder: Path, model: Model, name: str, t: np.ndarray, u_all: np.ndarray,
                          every: int = 1) -> list[Path]:
-    """Deformed shapes over time, u_all (m, n, 6) true scale, every `every`-th step."""
+    """Deformed shapes over time, u_all (m, n, 6) true scale, every `every`-th step, along
+    the members as for modes."""
     folder.mkdir(parents=True, exist_ok=True)
+    grid = _Grid(model)
     entries, files = [], []
     for i in range(0, len(t), every):
         fname = f"{name}_{i:06d}.vtu"
-        write_vtu(folder / fname, model, {"displacement": u_all[i, :, :3], "rotation": u_all[i, :, 3:]})
+        grid.write(folder / fname, grid.fields(u_all[i]))
         entries.append((float(t[i]), fname))
         files.append(folder / fname)
     write_pvd(folder / f"{name}.pvd", entries)
-    return files + [folder / f"{name}.pvd"]
+    return files + [folder / f"{name}.pvd", _write_names(folder, model)]
