@@ -16,14 +16,14 @@ from pathlib import Path
 
 import numpy as np
 
-from .analysis.free_case import FreeCaseResult, solve_free_case
+from .analysis.free_case import BALANCE_TOL, FreeCaseResult, solve_free_case  # noqa: F401 (re-exported)
 from .analysis.harmonic import HarmonicResult, lag_degrees, solve_harmonic_case
 from .analysis.history_case import HistoryResult, solve_history_case
 from .analysis.modal_case import AXES, ModesCaseResult, solve_modes_case
 from .analysis.plausible import static_check, zero_mode_check, zero_mode_lines
 from .analysis.soundness import examine, quiet, summary_lines
 from .analysis.spectrum_case import SpectrumResult, solve_spectrum_case
-from .analysis.static import StaticResult, equilibrium, factorise, solve_static
+from .analysis.static import StaticResult, combine, factorise, precision_lines, solve_static, static_ok
 from .deck.reader import read_deck
 from .errors import ModelError, ResultsError
 from .model import DIRECTIONS, Model
@@ -34,12 +34,10 @@ __all__ = ["run_deck", "solve_all"]
 
 CAUTION = ("Results support, and never replace, the judgement of a qualified engineer; "
            "local codes and licensed practice govern.")
-EQUILIBRIUM_TOL = 1e-8   # relative; a direct solve reaches ~1e-12, far looser means a bad model
 
 
 RESIDUAL_TOL = 1e-8      # backward error of an eigenpair; a double-precision solve gives ~1e-14
 ORTHO_TOL = 1e-8
-BALANCE_TOL = 1e-6       # per-mode reactions vs inertia forces; limited by the eigen residuals
 
 
 def assembled_mass(model: Model, asm) -> np.ndarray:
@@ -89,11 +87,7 @@ def solve_all(model: Model) -> tuple[list[StaticResult], list[ModesCaseResult]]:
     by_name = {r.name: r for r in results}
     for combo in model.combinations:
         parts = [(f, by_name[n]) for n, f in combo.factors.items()]
-        u, reactions, forces, applied = (sum(f * getattr(r, a) for f, r in parts)
-                                         for a in ("u", "reactions", "member_forces", "applied"))
-        comb = StaticResult(combo.name, u, reactions, forces, applied,
-                            equilibrium(model.coords, applied, reactions))
-        results.append(comb)
+        results.append(combine(combo.name, parts, model.coords))
     by_name = {r.name: r for r in results}
     modal_by = {r.name: r for r in modal}
     for c in model.cases:
@@ -158,8 +152,8 @@ def modal_checks(r) -> dict:
         return {"static_correction": r.corrected, "warnings": list(r.warnings)}
     if isinstance(r, FreeCaseResult):
         return {"initial_displacement_captured": r.captured, "start_support_force_error": r.start_force_error,
-                "inertia_balance_relative": r.inertia_balance,
-                "inertia_balance_pass": bool(r.inertia_balance < BALANCE_TOL), "warnings": list(r.warnings)}
+                "inertia_balance_relative": r.inertia_balance, "inertia_balance_rounding": r.inertia_rounding,
+                "inertia_balance_pass": bool(r.inertia_ok), "warnings": list(r.warnings)}
     m = r.modes
     k = len(m.omega)
     complete_err, complete_ok = _all_modes_check(r)
@@ -184,7 +178,7 @@ def _mass_ok(model: Model) -> bool:
 
 def _modal_ok(r) -> bool:
     if isinstance(r, FreeCaseResult):
-        return r.inertia_balance < BALANCE_TOL
+        return bool(r.inertia_ok)
     if isinstance(r, (HistoryResult, HarmonicResult, SpectrumResult)):
         return True
     c = modal_checks(r)
@@ -345,8 +339,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                    "max_translation_m": float(np.abs(r.u[:, :3]).max()),
                    "reaction_sum_N": r.reactions[:, :3].sum(0).tolist(),
                    "applied_sum_N": r.applied[:, :3].sum(0).tolist(),
-                   "checks": {"equilibrium_relative": r.equilibrium,
-                              "equilibrium_pass": bool(r.equilibrium < EQUILIBRIUM_TOL), **sane[r.name]}}
+                   "checks": {**r.checks(model.coords), **sane[r.name]}}
                   for r in results if isinstance(r, StaticResult)] + [
                   {"name": r.name, "kind": "modes", "solver": r.modes.solver,
                    "frequency_Hz": r.modes.freq.tolist(), "period_s": r.modes.period.tolist(),
@@ -522,10 +515,13 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
           f"({'pass' if _mass_ok(model) else 'FAIL'} against members + point masses)")
     sane = _plausible(model, results, modal)
     for r in results:
-        ok = "pass" if r.equilibrium < EQUILIBRIUM_TOL else "FAIL"
+        ch = r.checks(model.coords)
+        ok = "pass" if static_ok(ch) else "FAIL"
         size = "pass" if sane[r.name]["translation_within_size_pass"] else "FAIL"
         print(f"  {r.name:<12} max translation {np.abs(r.u[:, :3]).max():.4g} m   "
               f"equilibrium {r.equilibrium:.1e} {ok}   within the model's size {size}")
+        for w in precision_lines(ch):
+            print(f"               {w}")
         for w in sane[r.name]["warnings"]:
             print(f"               {w}")
     for r in modal:
@@ -587,7 +583,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         for line in zero_mode_lines(r.name, sane[r.name]):
             print(f"               {line}")
     print(f"  {notice}")
-    ok = all(r.equilibrium < EQUILIBRIUM_TOL for r in results) and all(map(_modal_ok, modal))
+    ok = all(static_ok(r.checks(model.coords)) for r in results) and all(map(_modal_ok, modal))
     ok = ok and _mass_ok(model) and _plausible_ok(sane)
     short = [r.name for r in modal if getattr(r, "target_met", None) is False]
     print("  self-checks: all pass" if ok else "  self-checks: some FAIL (marked above); check before using the results")

@@ -23,7 +23,8 @@ class FreeCaseResult:
     represent (1 = all of it); reaction_peak (n, 6) and member_peak (e, 12) largest |reaction|
     and |member end force| over time (N, N m; end forces in local axes), superposed from the
     per-mode fields in time; inertia_balance: largest mismatch, relative, between each mode's
-    base reaction (with spring forces) and its inertia force w^2 M phi in X, Y, Z."""
+    base reaction (with spring forces) and its inertia force w^2 M phi in X, Y, Z;
+    inertia_rounding and inertia_ok: its rounding scale and verdict (`inertia_balance_terms`)."""
 
     name: str
     t: np.ndarray
@@ -40,8 +41,11 @@ class FreeCaseResult:
     frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
     warnings: tuple = ()
     start_force_error: float = 0.0  # support forces K u at t = 0: largest |modes - exact|, relative
+    inertia_rounding: float = 0.0   # the mismatch rounding alone can leave, on inertia_balance's scale
+    inertia_ok: bool = True         # every mode and direction within its limit (inertia_balance_terms)
 
 
+BALANCE_TOL = 1e-6        # per-mode reactions vs inertia forces; limited by the eigen residuals
 START_FORCE_TOL = 0.02     # share of the starting support forces the modes may leave out (our choice, no source)
 
 
@@ -189,28 +193,49 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     ft, frames = animation_frames(t, q, modal.shapes, omega=omega,
                                   must=[peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
     warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
+    rel, rounding, ok = inertia_balance_terms(model, asm, modal, Rm)
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
                           captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                          _inertia_balance(model, asm, modal, Rm), ft, frames, warnings, start_error)
+                          rel, ft, frames, warnings, start_error, rounding, ok)
 
 
 def _inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:
+    """The largest relative mismatch of `inertia_balance_terms`."""
+    return inertia_balance_terms(model, asm, modal, Rm)[0]
+
+
+def inertia_balance_terms(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> tuple[float, float, bool]:
     """Mode by mode, supports and springs hold the structure against its inertia forces:
     sum of reactions (springs' -k phi included) = -w^2 r^T M phi in X, Y, Z (K r = 0 for a rigid
-    translation r of the members). Returns the largest mismatch relative to the largest force
-    entering these sums, |K| |phi| at the supports included, so that round-off in stiff
-    models is judged against the terms that produced it (0 when nothing moves)."""
+    translation r of the members).
+
+    Returns (relative, rounding, ok): the largest mismatch relative to the largest force entering
+    these sums, |K| |phi| at the supports included (0 when nothing moves); the largest mismatch
+    that rounding alone can leave, on the same scale: eps times, per mode and direction, the sizes
+    |K| |phi| + w^2 |M| |phi| of every nodal term of the sum, at free DOFs too (the mismatch is
+    the sum of K phi - w^2 M phi over the free DOFs, each entry computed, and each entry of K
+    stored, to about eps times its own terms: Higham, Accuracy and Stability of Numerical
+    Algorithms, 2nd ed., sec. 3.1; large where a short stiff member moves with the mode); and
+    whether every mode and direction is within the larger of BALANCE_TOL of the scale and
+    ROUNDING_FACTOR times its rounding."""
+    from .static import EPS, ROUNDING_FACTOR
+
     shapes = modal.shapes                                        # (n, 6, k)
     k = shapes.shape[2]
     w2 = modal.modes.omega ** 2
     inertia = w2[:, None] * modal.part.gamma[:, :3]              # (k, 3), gamma = phi^T M r
     spring = np.einsum("nd,ndk->kd", model.springs[:, :3], shapes[:, :3])
     held = Rm[:, :, :3].sum(axis=1)                             # springs' -k phi included
-    gross = abs(asm.K) @ np.abs(shapes.reshape(-1, k))          # (6n, k) sizes of the K phi terms
-    mask = np.zeros(len(gross), bool)
+    a = np.abs(shapes.reshape(-1, k))
+    size = abs(asm.K) @ a                                       # (6n, k) sizes of the K phi terms
+    mask = np.zeros(len(size), bool)
     mask[asm.fixed] = True
-    gross = np.where(mask[:, None], gross, 0.0).reshape(-1, 6, k)[:, :3].sum(axis=0).T
+    gross = np.where(mask[:, None], size, 0.0).reshape(-1, 6, k)[:, :3].sum(axis=0).T
     scale = max(np.abs(inertia).max(initial=0.0), np.abs(spring).max(initial=0.0), gross.max(initial=0.0))
+    every = (size + w2 * (abs(asm.M) @ a)).reshape(-1, 6, k)[:, :3].sum(axis=0).T     # (k, 3)
+    bound = EPS * (every + np.abs(inertia) + np.abs(spring))
+    miss = np.abs(held + inertia)
     if scale == 0:
-        return 0.0
-    return float(np.abs(held + inertia).max() / scale)
+        return 0.0, 0.0, bool(np.all(miss <= ROUNDING_FACTOR * bound))
+    ok = bool(np.all(miss <= np.maximum(BALANCE_TOL * scale, ROUNDING_FACTOR * bound)))
+    return float(miss.max() / scale), float(bound.max() / scale), ok

@@ -12,8 +12,14 @@ from ..assembly import Assembled, element_matrices
 from ..errors import MechanismError, ModelError
 from ..model import DIRECTIONS, LoadCase, Model
 
-__all__ = ["StaticResult", "condition_estimate", "factorise", "load_vector", "solve_static", "stiffness_contrast",
-           "support_forces", "equilibrium"]
+__all__ = ["EQUILIBRIUM_TOL", "ROUNDING_FACTOR", "SOLVE_TOL", "StaticResult", "balance", "combine", "condition_estimate", "precision_lines", "static_ok",
+           "factorise", "load_vector", "solve_static", "stiffness_contrast", "support_forces", "equilibrium"]
+
+EPS = np.finfo(float).eps
+EQUILIBRIUM_TOL = 1e-8   # relative; a direct solve reaches ~1e-12, far looser means a bad model
+ROUNDING_FACTOR = 4      # multiple of the rounding scale a correct solution may reach (our choice; measured <= 0.6)
+PRECISION_WARN = 1e-6    # rounding of the balance worth a warning: a millionth of the loads (our choice)
+SOLVE_TOL = 1e-10        # scaled normwise backward error of the solve (our choice; measured <= 5e-16)
 
 
 @dataclass
@@ -22,7 +28,9 @@ class StaticResult:
     springs to ground on the structure (zero elsewhere);
     member_forces (e, 12) local end forces N, Vy, Vz, T, My, Mz at i then j (forces on the member);
     equilibrium: relative out-of-balance of applied loads and reactions, forces and moments
-    (see `equilibrium`)."""
+    (see `equilibrium`); residual (6n,) K u - f at the free DOFs (0 elsewhere), N / N m;
+    gross (6n,) |K| |u| + |f|, the sizes of the terms that make up K u - f, N / N m (see
+    `balance` for the checks built on them)."""
 
     name: str
     u: np.ndarray
@@ -30,6 +38,15 @@ class StaticResult:
     member_forces: np.ndarray
     applied: np.ndarray
     equilibrium: float
+    residual: np.ndarray = None
+    gross: np.ndarray = None
+    diag: np.ndarray = None         # (6n,) diagonal of K at the free DOFs, 0 elsewhere (shared by the cases)
+    knorm: float = 1.0              # ||D^-1/2 K D^-1/2||_inf, D = diag(K) over the free DOFs
+
+    def checks(self, coords: np.ndarray) -> dict:
+        """The self-checks of this solution (`balance`), by results.json name."""
+        return balance(coords, self.applied, self.reactions, self.residual, self.gross, self.u, self.diag,
+                       self.knorm)
 
 
 def load_vector(model: Model, asm: Assembled, case: LoadCase):
@@ -254,6 +271,102 @@ def equilibrium(coords: np.ndarray, applied: np.ndarray, reactions: np.ndarray) 
                      np.abs(moment).max() / max(m_ref, 1e-300) if m_ref else 0.0))
 
 
+def _moment_scale(arm, a):
+    """Sum of the moment sizes of nodal force and moment magnitudes a (n, 6) about the centroid."""
+    return float((np.linalg.norm(arm, axis=1) * np.linalg.norm(a[:, :3], axis=1)).sum() + a[:, 3:].sum())
+
+
+def balance(coords, applied, reactions, residual=None, gross=None, u=None, diag=None, knorm=1.0) -> dict:
+    """Self-checks of a static solution, each against the rounding scale of its own computation.
+
+    coords (n, 3) m; applied, reactions (n, 6); residual, gross (6n,) as in `StaticResult`;
+    u (6n,) displacements; diag (6n,) the diagonal of K at the free DOFs, 0 elsewhere; knorm
+    ||D^-1/2 K D^-1/2||_inf over the free DOFs (see below). The loads f are `applied`.
+
+    - equilibrium_relative: `equilibrium` (out-of-balance of loads and support forces over the
+      loads and support forces).
+    - equilibrium_rounding: the out-of-balance that rounding alone can leave, on the same
+      relative scale: eps times the sizes of the terms that make it up, |applied| + |reactions|
+      + |K| |u| + |f| summed over the nodes in each direction (for the moment, times their lever
+      arms). Every entry of K is stored, and every entry of K u computed, to about eps times its
+      own terms (Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed., sec. 3.1), and
+      a backward-stable solve leaves K u - f of that size (sec. 7.1), so the balance of even the
+      exact solution of the stored K is only defined to this much: large where a short stiff
+      member (|K| ~ 1e18 N/m) moves with the structure, and then the results carry errors of
+      about that size too (the stored K itself is that far from the structure's).
+    - equilibrium_limit: what equilibrium_relative is held to, the larger of EQUILIBRIUM_TOL
+      and ROUNDING_FACTOR times equilibrium_rounding; equilibrium_pass: the force in each
+      direction and the moment about each axis within it.
+    - solve_backward_error: the normwise backward error of the solve (Rigal and Gaches; Higham,
+      2nd ed., sec. 7.1, thm. 7.1, infinity norm) of the system scaled to a unit diagonal,
+      D^-1/2 K D^-1/2 (D^1/2 u) = D^-1/2 f with D = diag(K) over the free DOFs: the smallest
+      relative change of K and f, in that scaling, that makes u exact. The scaling makes it free
+      of units (m against rad) and judges a soft part of the structure at its own scale, not at
+      the scale of the stiffest member; solve_backward_error_pass: below SOLVE_TOL. None where
+      no residual is kept.
+    """
+    applied, reactions = np.asarray(applied), np.asarray(reactions)
+    out = {"equilibrium_relative": equilibrium(coords, applied, reactions)}
+    n = len(coords)
+    gross = np.zeros((n, 6)) if gross is None else np.asarray(gross).reshape(n, 6)
+    total = applied + reactions
+    arm = coords - coords.mean(axis=0)
+    force = np.abs(total[:, :3].sum(axis=0))
+    moment = np.abs((np.cross(arm, total[:, :3]) + total[:, 3:]).sum(axis=0))
+    f_ref = np.abs(applied[:, :3]).sum()
+    m_ref = _moment_scale(arm, np.abs(applied) + np.abs(reactions))
+    both = np.abs(applied) + np.abs(reactions) + gross
+    f_round = EPS * both[:, :3].sum(axis=0)                  # (3,) one per direction
+    m_round = EPS * _moment_scale(arm, both)
+    rel, lim, ok = [], [], True
+    for err, ref, rnd in ((force, f_ref, f_round), (moment, m_ref, m_round)):
+        if ref == 0:                      # nothing to balance: only rounding may be left over
+            ok = ok and bool(np.all(err <= ROUNDING_FACTOR * rnd))
+            continue
+        rel.append(float(np.max(rnd)) / ref)
+        lim.append(max(EQUILIBRIUM_TOL, ROUNDING_FACTOR * rel[-1]))
+        ok = ok and bool(np.all(err <= np.maximum(EQUILIBRIUM_TOL * ref, ROUNDING_FACTOR * rnd)))
+    out["equilibrium_rounding"] = float(max(rel, default=0.0))
+    out["equilibrium_limit"] = float(max(lim, default=EQUILIBRIUM_TOL))
+    out["equilibrium_pass"] = ok
+    out["solve_backward_error"] = out["solve_backward_error_pass"] = None
+    if residual is None or u is None or diag is None:
+        return out
+    s = np.sqrt(np.abs(np.asarray(diag).ravel()))
+    free = s > 0
+    s = s[free]
+    r = np.abs(np.asarray(residual).ravel()[free]) / s
+    us = np.abs(np.asarray(u).ravel()[free]) * s
+    fs = np.abs(applied.ravel()[free]) / s
+    den = knorm * us.max(initial=0.0) + fs.max(initial=0.0)
+    # with nothing loaded and nothing moving, any residual at all is wholly wrong: 1, not infinity
+    eta = float(r.max(initial=0.0) / den) if den > 0 else (0.0 if r.max(initial=0.0) == 0 else 1.0)
+    out["solve_backward_error"] = eta
+    out["solve_backward_error_pass"] = bool(eta < SOLVE_TOL)
+    return out
+
+
+def static_ok(checks: dict) -> bool:
+    """Whether the `balance` checks of a static result pass (a check not run does not fail)."""
+    return bool(checks["equilibrium_pass"]) and checks["solve_backward_error_pass"] is not False
+
+
+def precision_lines(checks: dict) -> list[str]:
+    """Lines for the summary: the backward error when it fails, and a warning when rounding
+    limits how well this case can balance to more than PRECISION_WARN of its loads."""
+    out = []
+    if checks["solve_backward_error_pass"] is False:
+        out.append(f"backward error of the solve {checks['solve_backward_error']:.1e} FAIL (above {SOLVE_TOL:.0e}): "
+                   "the displacements do not solve the stiffness equations")
+    if checks["equilibrium_rounding"] > PRECISION_WARN:
+        out.append(f"warning: loads and support forces can only balance to about {checks['equilibrium_rounding']:.1e} "
+                   "here, from rounding at members far stiffer than the rest that move with the structure (e.g. very "
+                   f"short members); the check is held to {checks['equilibrium_limit']:.1e}, and displacements and "
+                   "forces may be in error by about the out-of-balance (those members' own forces by more); "
+                   "lengthen or soften such members, or leave them out")
+    return out
+
+
 def support_forces(model: Model, asm: Assembled, residual: np.ndarray, u: np.ndarray) -> np.ndarray:
     """Forces of the supports and springs on the structure, (..., 6n): the out-of-balance
     K u - f at restrained DOFs, and -k u where a spring to ground holds a free DOF (the spring
@@ -284,11 +397,48 @@ def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> Stati
     if not np.isfinite(u).all():
         raise MechanismError(f"case {case.name}: the solve did not give finite displacements; "
                              "the stiffness is singular or badly conditioned", [])
-    reactions = support_forces(model, asm, asm.K @ u - f, u)
+    Ku = asm.K @ u
+    reactions = support_forces(model, asm, Ku - f, u)
+    residual = np.zeros_like(u)
+    residual[asm.free] = Ku[asm.free] - f[asm.free]
+    gross = abs(asm.K) @ np.abs(u) + np.abs(f)
+    diag, knorm = _scaled_stiffness(asm)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     T = el.transform_matrix(asm.R)
     ue = np.einsum("eab,eb->ea", T, u[dofs])
     mf = np.einsum("eab,eb->ea", asm.k_local, ue) - fe
     applied = f.reshape(-1, 6)
     return StaticResult(case.name, u.reshape(-1, 6), reactions.reshape(-1, 6), mf, applied,
-                        equilibrium(model.coords, applied, reactions.reshape(-1, 6)))
+                        equilibrium(model.coords, applied, reactions.reshape(-1, 6)), residual, gross, diag, knorm)
+
+
+def _scaled_stiffness(asm: Assembled):
+    """diag (6n,) of K at the free DOFs (0 elsewhere) and ||D^-1/2 K D^-1/2||_inf over them, cached
+    on `asm` (every case and combination of a run shares them)."""
+    got = getattr(asm, "_scaled_stiffness", None)
+    if got is None:
+        Kff = asm.K[asm.free][:, asm.free]
+        d = np.abs(Kff.diagonal())
+        s = 1 / np.sqrt(np.where(d > 0, d, 1.0))
+        knorm = float((abs(Kff) @ s * s).max(initial=1.0))
+        diag = np.zeros(asm.K.shape[0])
+        diag[asm.free] = d
+        got = (diag, knorm)
+        try:
+            asm._scaled_stiffness = got
+        except AttributeError:      # a frozen or slotted Assembled: recompute next time
+            pass
+    return got
+
+
+def combine(name: str, parts, coords) -> StaticResult:
+    """The combination sum of factor * result over `parts` [(factor, StaticResult)], with its
+    own balance: residual summed with the factors, gross terms with their sizes |factor|."""
+    u, reactions, forces, applied = (sum(f * getattr(r, a) for f, r in parts)
+                                     for a in ("u", "reactions", "member_forces", "applied"))
+    kept = all(r.residual is not None for _, r in parts) and parts
+    residual = sum(f * r.residual for f, r in parts) if kept else None
+    gross = sum(abs(f) * r.gross for f, r in parts) if kept else None
+    first = parts[0][1] if parts else None
+    return StaticResult(name, u, reactions, forces, applied, equilibrium(coords, applied, reactions), residual,
+                        gross, first.diag if kept else None, first.knorm if kept else 1.0)

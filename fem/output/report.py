@@ -99,8 +99,12 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
     for c in doc["cases"]:
         ch = c["checks"]
         if c["kind"] == "static":
-            rows.append([f"{c['name']}: equilibrium of reactions and loads", f"{ch['equilibrium_relative']:.1e}",
-                         _ok(ch["equilibrium_pass"])])
+            limit = ch.get("equilibrium_limit", 1e-8)
+            rows.append([f"{c['name']}: equilibrium of reactions and loads", f"{ch['equilibrium_relative']:.1e}"
+                         + (f" (rounding allows {limit:.1e})" if limit > 1e-8 else ""), _ok(ch["equilibrium_pass"])])
+            if ch.get("solve_backward_error") is not None:
+                rows.append([f"{c['name']}: displacements solve the stiffness equations (backward error)",
+                             f"{ch['solve_backward_error']:.1e}", _ok(ch["solve_backward_error_pass"])])
             if "translation_within_size_pass" in ch:
                 big = ch["largest_translation"]
                 rows.append([f"{c['name']}: largest translation within the model's size",
