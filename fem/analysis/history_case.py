@@ -11,11 +11,11 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
-from .memory import check_memory
 from .free_case import frame_indices, peak_index, peaks, step_warnings
+from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
-from .static import load_vector
 from .recurrence import integrate_modal, knot_kicks
+from .static import load_vector
 
 __all__ = ["HistoryResult", "solve_history_case"]
 

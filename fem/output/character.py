@@ -93,7 +93,7 @@ def describe_mode(model, shape: np.ndarray, energies: Energies | None = None, ma
     'local: twist of MB2a, MB2b, turning MOTOR about X'
     """
     en = energies or field_energies(model, shape, matrices)
-    e, n = model.n_members, model.n_nodes
+    e = model.n_members
     strain_m = en.member_strain.sum(1)
     kin_m = en.member_kinetic.sum(1)
     kin_n = en.node_kinetic.sum(1)
