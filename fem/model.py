@@ -110,6 +110,7 @@ class Model:
     combinations: list[Combination] = field(default_factory=list)
     settings: dict = field(default_factory=dict)
     source: str = ""
+    overrides: dict[str, str] = field(default_factory=dict)   # let parameters set from outside, name -> text
     warnings: list[str] = field(default_factory=list)   # located notes from reading the deck
 
     @property
