@@ -237,3 +237,30 @@ def test_unknown_case_on_the_command_line_exits_2(tmp_path, capsys):
     assert main(["run", str(deck), "--out", str(tmp_path / "r"), "--no-render", "--case", "SHAEK"]) == 2
     assert "did you mean 'SHAKE'?" in capsys.readouterr().err
     assert not (tmp_path / "r").exists()
+
+
+# ---------- carried_mass: the mass per length a member carries without stiffening it
+ONE_MEMBER = """material S { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 114.3 mm, wall = 6 mm)
+node A = (0, 0, 0)
+node B = (5 m, 0, 0)
+member M : A -> B beam P S {option}
+support A fixed
+"""
+
+
+def test_carried_mass_adds_to_the_member_mass():
+    """Member mass (rho A + carried mass) L: the definition of a mass per length, no source needed."""
+    bare = read_text(ONE_MEMBER.replace("{option}", ""))
+    model = read_text(ONE_MEMBER.replace("{option}", "carried_mass = 12 kg/m"))
+    assert model.carried_mass.tolist() == [12.0]
+    rho_a = 7850 * bare.A[0]
+    assert model.total_mass() == pytest.approx((rho_a + 12.0) * 5.0, rel=1e-15)
+    assert bare.total_mass() == pytest.approx(rho_a * 5.0, rel=1e-15)
+    assert np.array_equal(model.Iy, bare.Iy) and np.array_equal(model.E, bare.E)   # no stiffness added
+
+
+def test_old_keyword_points_to_the_new_name():
+    with pytest.raises(DeckError, match=r"deck.deck:5:28: member M: 'nsm' is not an option here; the mass per "
+                                        r"length a member carries without stiffening it .* is written carried_mass"):
+        read_text(ONE_MEMBER.replace("{option}", "nsm = 12 kg/m"))

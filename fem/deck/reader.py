@@ -742,7 +742,7 @@ class _Reader:
             raise DeckError(f"member {name}: kind must be 'beam' or 'truss', not '{kind}'", self.loc(ch[3]))
         m = dict(name=name, i=(self.name(ch[1]), ch[1]), j=(self.name(ch[2]), ch[2]), kind=kind,
                  section=(self.name(ch[4]), ch[4]), material=(self.name(ch[5]), ch[5]),
-                 roll=0.0, up=None, nsm=0.0, releases=np.zeros(12, bool), loc=self.loc(s))
+                 roll=0.0, up=None, carried_mass=0.0, releases=np.zeros(12, bool), loc=self.loc(s))
         seen = set()
         for opt in ch[6:]:
             if opt.data == "release":
@@ -763,12 +763,16 @@ class _Reader:
                 m["roll"] = self.angle(val, f"member {name}: roll")
             elif key == "up":
                 m["up"] = self.vector(val, U.NONE, f"member {name}: up")
+            elif key == "carried_mass":
+                m["carried_mass"] = self.value(val, (1, -1, 0), f"member {name}: carried_mass")
+                if m["carried_mass"] < 0:
+                    raise DeckError(f"member {name}: carried_mass (mass per length) cannot be negative", self.loc(opt))
             elif key == "nsm":
-                m["nsm"] = self.value(val, (1, -1, 0), f"member {name}: nsm")
-                if m["nsm"] < 0:
-                    raise DeckError(f"member {name}: nsm (mass per length) cannot be negative", self.loc(opt))
+                raise DeckError(f"member {name}: 'nsm' is not an option here; the mass per length a member carries "
+                                "without stiffening it (contents, insulation, trays) is written carried_mass",
+                                self.loc(opt.children[0]), "e.g. carried_mass = 12 kg/m")
             else:
-                raise DeckError(f"member {name}: unknown option '{key}'; {suggest(key, ['roll', 'up', 'nsm'])}", self.loc(opt))
+                raise DeckError(f"member {name}: unknown option '{key}'; {suggest(key, ['roll', 'up', 'carried_mass'])}", self.loc(opt))
         motion = _released_motion(m["releases"]) if kind == "beam" else None
         if motion:
             raise DeckError(f"member {name}: its end releases let it {motion} with nothing to resist it", self.loc(s),
@@ -896,7 +900,7 @@ class _Reader:
         mems = list(self.members.values())
         e = len(mems)
         conn = np.zeros((e, 2), int)
-        cols = {k: np.zeros(e) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "Avy", "Avz", "roll", "nsm")}
+        cols = {k: np.zeros(e) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "Avy", "Avz", "roll", "carried_mass")}
         up = np.full((e, 3), np.nan)
         releases = np.zeros((e, 12), bool)
         truss = np.zeros(e, bool)
@@ -917,7 +921,7 @@ class _Reader:
             sp, mat = self.sections[sname].props, self.materials[mname]
             for key, val in (("E", mat.E), ("G", mat.G), ("rho", mat.density), ("A", sp.A), ("Iy", sp.Iy),
                              ("Iz", sp.Iz), ("J", sp.J), ("Avy", sp.Avy), ("Avz", sp.Avz),
-                             ("roll", m["roll"]), ("nsm", m["nsm"])):
+                             ("roll", m["roll"]), ("carried_mass", m["carried_mass"])):
                 cols[key][k] = val
             releases[k] = m["releases"]
             truss[k] = m["kind"] == "truss"
@@ -1031,7 +1035,7 @@ class _Reader:
         self.use_scope(reading)
         modal = [c.name for c in cases if c.kind == "modes"]
         if modal:
-            self.massless_materials(mems, cols["nsm"], modal)
+            self.massless_materials(mems, cols["carried_mass"], modal)
         for c in cases:
             if c.kind not in ("free", "history", "harmonic", "spectrum"):
                 continue
@@ -1116,7 +1120,7 @@ class _Reader:
         if not len(mems):
             return
         with np.errstate(divide="ignore"):          # log10(0) = -inf: a zero term is no risk
-            lg = {k: np.log10(np.abs(cols[k])) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "nsm")}
+            lg = {k: np.log10(np.abs(cols[k])) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "carried_mass")}
             lL = np.log10(np.linalg.norm(axis, axis=1))
         lI = np.maximum(lg["Iy"], lg["Iz"])
         terms = {
@@ -1124,7 +1128,7 @@ class _Reader:
             "torsional stiffness G*J/L": (lg["G"] + lg["J"] - lL, "N*m"),
             "bending stiffness 12*E*I/L^3": (np.log10(12) + lg["E"] + lI - 3 * lL, "N/m"),
             "bending stiffness 4*E*I/L": (np.log10(4) + lg["E"] + lI - lL, "N*m"),
-            "mass (density*A + nsm)*L": (np.log10(2) + np.maximum(lg["rho"] + lg["A"], lg["nsm"]) + lL, "kg"),
+            "mass (density*A + carried_mass)*L": (np.log10(2) + np.maximum(lg["rho"] + lg["A"], lg["carried_mass"]) + lL, "kg"),
             "rotary mass density*(Iy + Iz)*L": (np.log10(2) + lg["rho"] + lI + lL, "kg*m^2"),
         }
         limit = math.log10(HUGE)
@@ -1173,12 +1177,12 @@ class _Reader:
         if len(odd) > 10:
             self.warnings.append(f"{mems[odd[10]]['loc']}: warning: {len(odd) - 10} more members lean like this")
 
-    def massless_materials(self, mems, nsm, modal) -> None:
+    def massless_materials(self, mems, carried_mass, modal) -> None:
         """Warn about materials of zero density whose members carry no mass in the modes."""
         for name, mat in self.materials.items():
             if mat.density != 0:
                 continue
-            count = sum(1 for k, m in enumerate(mems) if m["material"][0] == name and nsm[k] == 0)
+            count = sum(1 for k, m in enumerate(mems) if m["material"][0] == name and carried_mass[k] == 0)
             if count:
                 where = self.defined[("material", name)][1]
                 self.warnings.append(
