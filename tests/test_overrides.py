@@ -229,6 +229,10 @@ def test_run_only_the_named_cases(tmp_path, capsys):
     full_lines = set((full / "displacements.csv").read_text().splitlines())
     assert set(lines) <= full_lines
     assert not (part / "free_RING.csv").exists() and (full / "free_RING.csv").exists()
+    # into a folder of a run of every case: the files of the cases not solved go (no stale tables)
+    assert main(["run", str(deck), "--out", str(full), "--no-render", "--case", "PUSH"]) == 0
+    assert not (full / "free_RING.csv").exists() and not (full / "modes.csv").exists()
+    assert [c["name"] for c in json.loads((full / "results.json").read_text())["cases"]] == ["PUSH"]
 
 
 def test_unknown_case_on_the_command_line_exits_2(tmp_path, capsys):
