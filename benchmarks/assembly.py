@@ -32,7 +32,7 @@ def grid_model(n_members: int) -> Model:
                  member_names=[f"M{i}" for i in range(e)], conn=conn, truss=np.zeros(e, bool),
                  E=210e9 * one, G=81e9 * one, rho=7850 * one, A=5e-3 * one, Iy=8e-5 * one,
                  Iz=6e-6 * one, J=2e-7 * one, Avy=0 * one, Avz=0 * one, roll=0 * one,
-                 up=np.full((e, 3), np.nan), nsm=0 * one, releases=np.zeros((e, 12), bool),
+                 up=np.full((e, 3), np.nan), carried_mass=0 * one, releases=np.zeros((e, 12), bool),
                  restraint=np.zeros((n, 6), bool), springs=np.zeros((n, 6)),
                  point_mass=np.zeros((n, 6)))
 

@@ -67,13 +67,13 @@ def element_matrices(model: Model, condense: bool = True, sel=None):
     if shear and not lumped:
         # the mass of the same shear-flexible member, with the rotary inertia of bending
         m = el.frame_mass_timoshenko(L, model.rho, model.A, model.Iy, model.Iz, model.J, model.E,
-                                     model.G, model.Avy, model.Avz, model.nsm)
+                                     model.G, model.Avy, model.Avz, model.carried_mass)
     else:
-        m = el.frame_mass(L, model.rho, model.A, model.Iy, model.Iz, model.J, model.nsm, lumped)
+        m = el.frame_mass(L, model.rho, model.A, model.Iy, model.Iz, model.J, model.carried_mass, lumped)
     t = model.truss
     if t.any():
         k[t] = el.truss_stiffness(L[t], model.E[t], model.A[t])
-        m[t] = el.truss_mass(L[t], model.rho[t], model.A[t], model.nsm[t], lumped)
+        m[t] = el.truss_mass(L[t], model.rho[t], model.A[t], model.carried_mass[t], lumped)
     rel = model.releases & ~t[:, None]
     if condense and rel.any():
         try:
@@ -87,7 +87,7 @@ def element_matrices(model: Model, condense: bool = True, sel=None):
 
 
 _MEMBER_FIELDS = ("conn", "truss", "E", "G", "rho", "A", "Iy", "Iz", "J", "Avy", "Avz", "roll", "up",
-                  "nsm", "releases")
+                  "carried_mass", "releases")
 
 
 def _subset(model: Model, sel) -> Model:

@@ -35,6 +35,11 @@ def _parser() -> argparse.ArgumentParser:
                    help="draw the first N modes of each modes case (default 6)")
     r.add_argument("--fps", type=_fps, default=12.0, metavar="N",
                    help="frames a second of the animations, 1 to 50 (default 12)")
+    r.add_argument("--case", action="append", metavar="NAME", dest="cases",
+                   help="solve only this case or combination and what it needs (repeatable)")
+    for sp in (c, r):
+        sp.add_argument("--set", action="append", type=_setting, metavar="NAME=VALUE", dest="let",
+                        help="replace the value of the deck's let NAME, e.g. --set 'bay=7 m' (repeatable)")
     for sp in (p, c, r):
         sp.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                         help=f"show the Python traceback of an internal error (or set {DEBUG_ENV}=1)")
@@ -52,6 +57,25 @@ def _fps(text: str) -> float:
     return v
 
 
+def _setting(text: str) -> tuple[str, str]:
+    name, eq, value = text.partition("=")
+    if not eq or not name.strip() or not value.strip():
+        raise argparse.ArgumentTypeError(f"'{text}' is not NAME=VALUE, e.g. --set 'bay=7 m'")
+    return name.strip(), value.strip()
+
+
+def _overrides(pairs) -> dict[str, str] | None:
+    """The --set options as a dict; a name given twice is refused rather than the last winning."""
+    from .errors import DeckError
+
+    out = {}
+    for name, value in pairs or ():
+        if name in out:
+            raise DeckError(f"--set {name} is given twice ({out[name]} and {value}); keep one of them")
+        out[name] = value
+    return out or None
+
+
 def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     from .errors import QuaverError
@@ -64,7 +88,7 @@ def main(argv: list[str] | None = None) -> int:
             from .analysis.soundness import examine, summary_lines
             from .deck.reader import read_deck
 
-            model = read_deck(args.deck)
+            model = read_deck(args.deck, let=_overrides(args.let))
             # the same mechanism, free-structure and conditioning checks as `quaver run`, refused
             # with the same message; no case is solved. A deck without nodes (materials and
             # sections to include elsewhere) has nothing to check
@@ -74,6 +98,8 @@ def main(argv: list[str] | None = None) -> int:
             print(f"{model.title or args.deck}: {model.n_nodes} nodes, {model.n_members} members, "
                   f"total mass {model.total_mass():.6g} kg")
             print(f"bounding box {lo} .. {hi} m")
+            if model.overrides:
+                print("overrides: " + ", ".join(f"{k} = {v}" for k, v in model.overrides.items()))
             for w in model.warnings:
                 print(w)
             for line in summary_lines(model):
@@ -83,7 +109,8 @@ def main(argv: list[str] | None = None) -> int:
         from .run import run_deck
 
         return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs),
-                        draw_modes=max(0, args.draw_modes), fps=args.fps)
+                        draw_modes=max(0, args.draw_modes), fps=args.fps, let=_overrides(args.let),
+                        cases=args.cases)
     except QuaverError as exc:
         state = folder.where()
         _say(f"error: {exc}" + (f"\nnote: {state}" if state.startswith("the new results") else ""))

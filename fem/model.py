@@ -72,7 +72,8 @@ class Model:
     E, G, rho : (e,) material per member, Pa, Pa, kg/m^3
     A, Iy, Iz, J, Avy, Avz : (e,) section per member, m^2 / m^4
     roll : (e,) rad; up : (e, 3) reference vectors (nan rows where none given)
-    nsm : (e,) non-structural mass per length, kg/m
+    carried_mass : (e,) mass per length each member carries without stiffening it (contents,
+        insulation, trays), kg/m
     releases : (e, 12) bool, released local end DOFs
     restraint : (n, 6) bool, restrained DOFs
     springs : (n, 6) spring stiffness to ground, N/m or N m/rad
@@ -97,7 +98,7 @@ class Model:
     Avz: np.ndarray
     roll: np.ndarray
     up: np.ndarray
-    nsm: np.ndarray
+    carried_mass: np.ndarray
     releases: np.ndarray
     restraint: np.ndarray
     springs: np.ndarray
@@ -110,6 +111,7 @@ class Model:
     combinations: list[Combination] = field(default_factory=list)
     settings: dict = field(default_factory=dict)
     source: str = ""
+    overrides: dict[str, str] = field(default_factory=dict)   # let parameters set from outside, name -> text
     warnings: list[str] = field(default_factory=list)   # located notes from reading the deck
 
     @property
@@ -126,8 +128,8 @@ class Model:
         return np.linalg.norm(d, axis=1)
 
     def member_mass(self) -> np.ndarray:
-        """Mass of each member (structural plus non-structural), kg."""
-        return (self.rho * self.A + self.nsm) * self.lengths
+        """Mass of each member (its own plus the mass it carries), kg."""
+        return (self.rho * self.A + self.carried_mass) * self.lengths
 
     def total_mass(self) -> float:
         """Translational mass of the whole model: members plus point masses, kg."""

@@ -334,7 +334,10 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                   "bounding_box_m": [lo.tolist(), hi.tolist()],
                   "assembled_mass_kg": model.settings["_assembled_mass"].tolist(),
                   "stiffness_condition_estimate": model.settings.get("_condition"),
-                  "mass_check_pass": _mass_ok(model), "warnings": list(model.warnings)},
+                  "mass_check_pass": _mass_ok(model), "warnings": list(model.warnings),
+                  "overrides": dict(model.overrides),
+                  "cases_asked": (None if "_cases_asked" not in model.settings else
+                                  dict(zip(("asked", "needed"), model.settings["_cases_asked"])))},
         "cases": [{"name": r.name, "kind": "static",
                    "max_translation_m": float(np.abs(r.u[:, :3]).max()),
                    "reaction_sum_N": r.reactions[:, :3].sum(0).tolist(),
@@ -477,8 +480,17 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path, noti
 
 
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
-             draw_modes: int = 6, fps: float = 12.0) -> int:
-    model = read_deck(deck)
+             draw_modes: int = 6, fps: float = 12.0, let: dict | None = None, cases=None) -> int:
+    """Solve the deck and write its results folder; `let` overrides let parameters (read_deck),
+    `cases` names the cases and combinations to solve (with what they need; all when None)."""
+    model = read_deck(deck, let=let)
+    added = None
+    if cases:
+        from .case_selection import select_cases
+
+        asked = list(dict.fromkeys(cases))
+        model, added = select_cases(model, asked)
+        model.settings["_cases_asked"] = (asked, added)
     target, shown = folder.resolve_target(out, deck)
     folder.check_target(target, shown, Path(deck))     # before solving, so an unusable --out fails at once
     folder.writable_parent(target, shown)
@@ -506,6 +518,11 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         raise
     print(f"{model.title or deck}: {model.n_nodes} nodes, {model.n_members} members, "
           f"total mass {model.total_mass():.6g} kg")
+    if model.overrides:
+        print("  overrides: " + ", ".join(f"{k} = {v}" for k, v in model.overrides.items()))
+    if added is not None:
+        print(f"  cases solved: {', '.join(asked)} as asked (--case)"
+              + (f", with {', '.join(added)} which they need" if added else ""))
     for w in model.warnings:
         print(f"  {w}")
     for line in summary_lines(model):

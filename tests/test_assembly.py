@@ -25,7 +25,7 @@ def random_frame(n_nodes=60, n_members=300, seed=3) -> Model:
                  member_names=[f"M{k}" for k in range(e)], conn=conn, truss=rng.random(e) < 0.2,
                  E=210e9 * u[0], G=81e9 * u[1], rho=7850 * u[2], A=5e-3 * u[3], Iy=8e-5 * u[4],
                  Iz=6e-6 * u[5], J=2e-7 * u[6], Avy=0 * u[7], Avz=0 * u[8], roll=u[9],
-                 up=np.full((e, 3), np.nan), nsm=10 * u[10], releases=releases,
+                 up=np.full((e, 3), np.nan), carried_mass=10 * u[10], releases=releases,
                  restraint=np.zeros((n_nodes, 6), bool), springs=rng.uniform(0, 1e6, (n_nodes, 6)),
                  point_mass=rng.uniform(0, 100, (n_nodes, 6)))
 

@@ -184,7 +184,7 @@ def test_spectrum_summary_shows_the_vertical_base_force(tmp_path, capsys):
     ("material W { E = 210 GPa, nu = 0.3, density = 78.5 kN/m^3 }", "78.5",
      "material W: density needs a density, but a force per volume was given",
      "this is a weight: divide by g0 for a density, e.g. 78.5 kN/m^3 / g0"),
-    ("member X : A -> C beam P S nsm = 0.5 kN/m", "0.5", "member X: nsm needs a mass per length, but a force per length",
+    ("member X : A -> C beam P S carried_mass = 0.5 kN/m", "0.5", "member X: carried_mass needs a mass per length, but a force per length",
      "divide by g0 for a mass per length, e.g. 0.5 kN/m / g0"),
     ("mass C = 25 kN", "25", "mass needs a mass, but a force was given", "e.g. 25 kN / g0"),
     ("mass C = 2.5", "2.5", "mass needs a mass, but a bare number was given",

@@ -89,7 +89,7 @@ MISTAKES = [
     ("density negative", "material T { E = 200 GPa, nu = 0.3, density = -1 kg/m^3 }", 1, "density cannot be negative"),
     ("generic area zero", "section G = generic(A = 0, Iy = 1e-6 m^4, Iz = 1e-6 m^4, J = 1e-6 m^4)", 1, "A"),
     ("wall negative", "section Q = pipe(od = 100 mm, wall = -1 mm)", 1, "wall"),
-    ("negative non-structural mass", "member N : B -> A beam P S nsm = -1 kg/m", 1, "nsm .mass per length. cannot be negative"),
+    ("negative carried mass", "member N : B -> A beam P S carried_mass = -1 kg/m", 1, "carried_mass .mass per length. cannot be negative"),
     ("negative spring", "spring B (uz = -1e6 N/m)", 1, "a stiffness cannot be negative"),
     ("negative mass", "mass B = -1 t", 1, "cannot be negative"),
     ("initial displacement at a support", "case X modes { count = 2 }\n"
@@ -157,7 +157,7 @@ def test_a_mass_on_a_supported_bare_node_is_allowed():
 def test_zero_density_with_modes_is_warned_with_the_count():
     body = ("material LIGHT { E = 70 GPa, nu = 0.3, density = 0 kg/m^3 }\nnode C = (4 m, 0, 0)\nnode D = (6 m, 0, 0)\n"
             "member N1 : B -> C beam P LIGHT\nmember N2 : C -> D beam P LIGHT\n"
-            "member N3 : D -> A beam P LIGHT nsm = 3 kg/m\nmass D = 1 t\n")
+            "member N3 : D -> A beam P LIGHT carried_mass = 3 kg/m\nmass D = 1 t\n")
     m = read_text(HEAD + body + "case MODES modes { count = 3 }\n")
     assert m.warnings == [f"deck.deck:{N_HEAD + 1}:1: warning: material LIGHT has zero density, so 2 member(s) "
                           "of it carry no mass in modes case MODES; give its density if their mass matters"]

@@ -366,7 +366,7 @@ HUGE_INPUT = [
     ("bending of a very short member", "member N : A -> C beam Q S",
      r"member N: its bending stiffness 12\*E\*I/L\^3 is about 1e1\d\d N/m"),
     ("density", "material H { E = 200 GPa, nu = 0.3, density = 1e200 kg/m^3 }\nmember N : A -> B beam P H",
-     r"member N: its mass \(density\*A \+ nsm\)\*L is about 1e19\d kg"),
+     r"member N: its mass \(density\*A \+ carried_mass\)\*L is about 1e19\d kg"),
     ("spring", "spring B (ux = 1e200 N/m)", r"spring ux of 1e\+200 in SI units is beyond"),
     ("point mass", "mass B = 1e160 kg", r"mass of 1e\+160 in SI units is beyond"),
 ]

@@ -302,20 +302,20 @@ def test_udl_axial_and_totals():
 # ---------------------------------------------------------------- mass
 
 def test_mass_total_and_symmetry():
-    """Rigid translation: u^T M u = (rho A + nsm) L for every direction (consistent and lumped);
+    """Rigid translation: u^T M u = (rho A + carried_mass) L for every direction (consistent and lumped);
     truss mass likewise. Exact up to round-off."""
-    L, nsm = 3.0, 12.0
-    mt = (RHO * A + nsm) * L
+    L, carried_mass = 3.0, 12.0
+    mt = (RHO * A + carried_mass) * L
     for lumped in (False, True):
-        for M in (frame_mass(L, RHO, A, I, 2 * I, J, nsm=nsm, lumped=lumped)[0],
-                  truss_mass(L, RHO, A, nsm=nsm, lumped=lumped)[0]):
+        for M in (frame_mass(L, RHO, A, I, 2 * I, J, carried_mass=carried_mass, lumped=lumped)[0],
+                  truss_mass(L, RHO, A, carried_mass=carried_mass, lumped=lumped)[0]):
             assert np.allclose(M, M.T, atol=0)
             for t in np.eye(3):
                 u = np.r_[t, 0, 0, 0, t, 0, 0, 0]
                 assert u @ M @ u == pytest.approx(mt, rel=1e-13)
             assert np.linalg.eigvalsh(M).min() > -1e-12 * np.abs(M).max()
-    # torsional inertia: rigid rotation about x gives rho Ip L (nsm excluded)
-    M = frame_mass(L, RHO, A, I, 2 * I, J, nsm=nsm)[0]
+    # torsional inertia: rigid rotation about x gives rho Ip L (carried_mass excluded)
+    M = frame_mass(L, RHO, A, I, 2 * I, J, carried_mass=carried_mass)[0]
     u = np.r_[0, 0, 0, 1, 0, 0, 0, 0, 0, 1, 0, 0]
     assert u @ M @ u == pytest.approx(RHO * 3 * I * L, rel=1e-13)
 
@@ -363,13 +363,13 @@ def test_batched_equals_one_by_one():
     Ls = np.array([1.0, 2.5, 4.0])
     Izs = np.array([I, 2 * I, 3 * I])
     kb = frame_stiffness(Ls, E, G, A, I, Izs, J, Avy=0.5 * A, Avz=np.array([0, 0.4 * A, 0]))
-    mb = frame_mass(Ls, RHO, A, I, Izs, J, nsm=[0.0, 5.0, 1.0])
+    mb = frame_mass(Ls, RHO, A, I, Izs, J, carried_mass=[0.0, 5.0, 1.0])
     for e in range(3):
         avz = [0, 0.4 * A, 0][e]
         assert np.allclose(kb[e], frame_stiffness(Ls[e], E, G, A, I, Izs[e], J,
                                                   Avy=0.5 * A, Avz=avz)[0], rtol=1e-14, atol=0)
         assert np.allclose(mb[e], frame_mass(Ls[e], RHO, A, I, Izs[e], J,
-                                             nsm=[0.0, 5.0, 1.0][e])[0], rtol=1e-14, atol=0)
+                                             carried_mass=[0.0, 5.0, 1.0][e])[0], rtol=1e-14, atol=0)
 
 
 def test_condensed_mass_keeps_rigid_motion_and_kinetic_energy():

@@ -98,10 +98,10 @@ KINDS = [
     ("node", "for i in 1..3 { let k = i + s\n node Q[i] = (k*1 m, i*0.5 m, 2 m) }",
      "node Q1 = (2*1 m, 1*0.5 m, 2 m)\nnode Q2 = (3*1 m, 2*0.5 m, 2 m)\nnode Q3 = (4*1 m, 3*0.5 m, 2 m)"),
     ("member", "for i in 1..3 { let k = i + s\n member B[i] : N[i - 1] -> N[k] beam P S roll = k*10 deg "
-               "nsm = i*2 kg/m release j (rz) }",
-     "member B1 : N0 -> N2 beam P S roll = 2*10 deg nsm = 1*2 kg/m release j (rz)\n"
-     "member B2 : N1 -> N3 beam P S roll = 3*10 deg nsm = 2*2 kg/m release j (rz)\n"
-     "member B3 : N2 -> N4 beam P S roll = 4*10 deg nsm = 3*2 kg/m release j (rz)"),
+               "carried_mass = i*2 kg/m release j (rz) }",
+     "member B1 : N0 -> N2 beam P S roll = 2*10 deg carried_mass = 1*2 kg/m release j (rz)\n"
+     "member B2 : N1 -> N3 beam P S roll = 3*10 deg carried_mass = 2*2 kg/m release j (rz)\n"
+     "member B3 : N2 -> N4 beam P S roll = 4*10 deg carried_mass = 3*2 kg/m release j (rz)"),
     ("material and section", "for i in 1..2 { let k = i + s\n material T[i] { E = k*100 GPa, nu = 0.3, "
                              "density = i*1000 kg/m^3 }\n section R[i] = rect(b = k*10 mm, h = i*20 mm)\n"
                              " member B[i] : N[i] -> N[k + 1] beam R[i] T[k - 1] }",
@@ -279,7 +279,7 @@ _BODY = {
     "support": "support N[{a}] ({dirs})",
     "spring": "spring N[{b}] (ux = ({k} + 1)*1e5 N/m, rz = ({i} + {j} + 1)*2e4 N*m)",
     "mass": "mass N[{c}] = ({i} + {j} + s + 1)*50 kg inertia = ({k}*2 kg*m^2, 1 kg*m^2, 0)",
-    "member": "member B{m}[{n}] : N[{a}] -> T beam P S roll = ({k} + {j})*15 deg nsm = {i}*1 kg/m",
+    "member": "member B{m}[{n}] : N[{a}] -> T beam P S roll = ({k} + {j})*15 deg carried_mass = {i}*1 kg/m",
     "group": "group G{m}[{n}] = N[{b}], N[{k}]\nmass G{m}[{n}] = ({k} + 1)*10 kg",
     "static": "case C{m}[{n}] static { force N[{c}] = (0, 0, -({k} + 1)*1 kN)\nline M* = local(0, {j}*1 kN/m, "
               "-{k}*1 kN/m) }",

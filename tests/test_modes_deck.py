@@ -179,7 +179,7 @@ settings {{ mass = {mass} }}
 node A = (0, 0, 0)
 node B = ({b})
 node C = ({c})
-member M1 : A -> B beam P S nsm = 50 kg/m
+member M1 : A -> B beam P S carried_mass = 50 kg/m
 member M2 : B -> C beam P S
 support A fixed
 case MODES modes {{ count = 40 }}

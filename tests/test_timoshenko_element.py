@@ -28,7 +28,7 @@ G = E / (2 * (1 + NU))
 # a deep rectangle 200 x 600 mm, so Iy and Iz differ and a swapped plane shows
 A, IY, IZ = 0.12, 0.2 * 0.6**3 / 12, 0.6 * 0.2**3 / 12
 J = 1e-3
-NSM = 35.0
+CARRIED = 35.0
 # the two bending planes: (translation DOF, rotation DOF, sign of the rotation vs dv/dx,
 # second moment, keyword of the shear area)
 PLANES = {"x-y": (1, 5, 1.0, IZ, "Avy"), "x-z": (2, 4, -1.0, IY, "Avz")}
@@ -93,14 +93,14 @@ def _shear_area(I, L, phi):
 
 def _expected_mass(plane_matrices, L, phi_y, phi_z):
     """12 x 12 consistent mass from the symbolic shape functions: the two bending planes, and
-    linear interpolation for axial (rho A + nsm) and torsion (rho (Iy + Iz))."""
+    linear interpolation for axial (rho A + carried_mass) and torsion (rho (Iy + Iz))."""
     m = np.zeros((12, 12))
     lin = np.array([[1 / 3, 1 / 6], [1 / 6, 1 / 3]]) * L
-    m[np.ix_([0, 6], [0, 6])] = (RHO * A + NSM) * lin
+    m[np.ix_([0, 6], [0, 6])] = (RHO * A + CARRIED) * lin
     m[np.ix_([3, 9], [3, 9])] = RHO * (IY + IZ) * lin
     for (v, r, sgn, I, _), phi in zip(PLANES.values(), (phi_y, phi_z)):
         D = np.diag([1, sgn, 1, sgn])
-        block = (RHO * A + NSM) * np.asarray(plane_matrices["MA"](L, phi), dtype=float)
+        block = (RHO * A + CARRIED) * np.asarray(plane_matrices["MA"](L, phi), dtype=float)
         block += RHO * I * np.asarray(plane_matrices["MI"](L, phi), dtype=float)
         m[np.ix_([v, r, v + 6, r + 6], [v, r, v + 6, r + 6])] = D @ block @ D
     return m
@@ -108,7 +108,7 @@ def _expected_mass(plane_matrices, L, phi_y, phi_z):
 
 def _mass(L, phi_y, phi_z):
     return frame_mass_timoshenko(L, RHO, A, IY, IZ, J, E, G, Avy=_shear_area(IZ, L, phi_y),
-                                 Avz=_shear_area(IY, L, phi_z), nsm=NSM)[0]
+                                 Avz=_shear_area(IY, L, phi_z), carried_mass=CARRIED)[0]
 
 
 @pytest.mark.parametrize("L, phi_y, phi_z", [(1.5, 0.0, 0.0), (2.0, 0.05, 0.3), (0.8, 0.7, 2.5),
@@ -143,12 +143,12 @@ def test_zero_phi_is_euler_bernoulli_plus_rotary_inertia():
     L = 2.4
     rot = np.array([[36, 3 * L, -36, 3 * L], [3 * L, 4 * L**2, -3 * L, -(L**2)],
                     [-36, -3 * L, 36, -3 * L], [3 * L, -(L**2), -3 * L, 4 * L**2]]) / (30 * L)
-    expected = frame_mass(L, RHO, A, IY, IZ, J, nsm=NSM)[0]
+    expected = frame_mass(L, RHO, A, IY, IZ, J, carried_mass=CARRIED)[0]
     for v, r, sgn, I, _ in PLANES.values():
         D = np.diag([1, sgn, 1, sgn])
         dofs = [v, r, v + 6, r + 6]
         expected[np.ix_(dofs, dofs)] += RHO * I * D @ rot @ D
-    got = frame_mass_timoshenko(L, RHO, A, IY, IZ, J, E, G, nsm=NSM)[0]
+    got = frame_mass_timoshenko(L, RHO, A, IY, IZ, J, E, G, carried_mass=CARRIED)[0]
     np.testing.assert_allclose(got, expected, rtol=0, atol=RTOL * np.abs(expected).max())
     # a vanishing shear flexibility tends to the same matrix (no jump at As = 0)
     tiny = _mass(L, 1e-9, 1e-9)
@@ -157,14 +157,14 @@ def test_zero_phi_is_euler_bernoulli_plus_rotary_inertia():
 
 @pytest.mark.parametrize("phi_y, phi_z", [(0.0, 0.0), (0.3, 1.2), (5.0, 0.02)])
 def test_rigid_motions_carry_the_physical_inertia(phi_y, phi_z):
-    # physical facts, with no element theory: a rigid translation moves the mass (rho A + nsm) L;
+    # physical facts, with no element theory: a rigid translation moves the mass (rho A + carried_mass) L;
     # a rigid rotation theta about local z (or y) through end i moves every slice by theta x and
-    # turns it by theta, so 2 T / theta^2 = (rho A + nsm) L^3 / 3 + rho Iz L (or rho Iy L).
+    # turns it by theta, so 2 T / theta^2 = (rho A + carried_mass) L^3 / 3 + rho Iz L (or rho Iy L).
     # The interpolation holds rigid motions exactly (they solve the static equations), so the
     # element reproduces these to round-off whatever phi.
     L = 2.0
     m = _mass(L, phi_y, phi_z)
-    mL = (RHO * A + NSM) * L
+    mL = (RHO * A + CARRIED) * L
     for t in np.eye(3):
         u = np.r_[t, 0, 0, 0, t, 0, 0, 0]
         assert u @ m @ u == pytest.approx(mL, rel=1e-13)
@@ -179,10 +179,10 @@ def test_rigid_motions_carry_the_physical_inertia(phi_y, phi_z):
 
 def test_batched_over_members_equals_one_by_one():
     Ls = np.array([0.5, 1.5, 4.0])
-    Iys, nsm = np.array([IY, 2 * IY, 0.5 * IY]), np.array([0.0, NSM, 3.0])
+    Iys, carried_mass = np.array([IY, 2 * IY, 0.5 * IY]), np.array([0.0, CARRIED, 3.0])
     Avy, Avz = np.array([0.0, 0.08, 0.1]), np.array([0.1, 0.0, 0.05])
-    mb = frame_mass_timoshenko(Ls, RHO, A, Iys, IZ, J, E, G, Avy=Avy, Avz=Avz, nsm=nsm)
+    mb = frame_mass_timoshenko(Ls, RHO, A, Iys, IZ, J, E, G, Avy=Avy, Avz=Avz, carried_mass=carried_mass)
     assert mb.shape == (3, 12, 12)
     for e in range(3):
-        one = frame_mass_timoshenko(Ls[e], RHO, A, Iys[e], IZ, J, E, G, Avy=Avy[e], Avz=Avz[e], nsm=nsm[e])
+        one = frame_mass_timoshenko(Ls[e], RHO, A, Iys[e], IZ, J, E, G, Avy=Avy[e], Avz=Avz[e], carried_mass=carried_mass[e])
         np.testing.assert_allclose(mb[e], one[0], rtol=1e-15, atol=0)

@@ -61,7 +61,7 @@ member X1 : A2 -> B3 truss BR S
 member R0 : B0 -> TIP truss BR S
 member R1 : B1 -> TIP truss BR S
 member R2 : B2 -> TIP truss BR S
-member R3 : B3 -> TIP beam BR S nsm = 5 kg/m
+member R3 : B3 -> TIP beam BR S carried_mass = 5 kg/m
 support A* fixed
 spring TIP (uz = 1e6 N/m)
 mass B1 = 400 kg
@@ -191,7 +191,7 @@ def move_node_onto_another(text, rng):
 
 def no_mass(text, rng):
     text = re.sub(r"density = [^,}\n]+", "density = 0 kg/m^3", text)
-    text = re.sub(r" nsm = [^\s]+ kg/m", "", text)
+    text = re.sub(r" carried_mass = [^\s]+ kg/m", "", text)
     return "\n".join(ln for ln in _lines(text) if not ln.startswith("mass"))
 
 
@@ -357,7 +357,7 @@ MUTATIONS = [
     _sub_value("od", ["1e-3 mm", "10 m", "60.3 mm"]),
     _sub_value("t", ["1e-5 mm", "49.9 mm"]),
     _sub_value("tw", ["1e-5 mm", "199 mm"]),
-    _sub_value("nsm", ["0 kg/m", "1e9 kg/m", "-5 kg/m"]),
+    _sub_value("carried_mass", ["0 kg/m", "1e9 kg/m", "-5 kg/m"]),
     _sub_value("roll", ["1e6 deg", "-90 deg", "0"]),
     _sub_value("up", ["(0, 0, 0)", "(1, 0, 0)", "(0, 1e-12, 1)", "(0, 0, -1)"]),
     _sub_value("step", ["1e-5 s", "0.5 s", "10 s", "0.3 s", "1e-4 s"]),

@@ -65,7 +65,7 @@ def load_vector(model: Model, asm: Assembled, case: LoadCase):
         elif item.kind == "line":
             _scatter(w_own if item.axes == "local" else w, item.targets[:, None], item.vector, rows=True)
     if case.gravity is not None:
-        w += (model.rho * model.A + model.nsm)[:, None] * case.gravity
+        w += (model.rho * model.A + model.carried_mass)[:, None] * case.gravity
         f += np.c_[model.point_mass[:, :3] * case.gravity, np.zeros((model.n_nodes, 3))].ravel()
     w_local = np.einsum("eab,eb->ea", asm.R, w) + w_own
     fe = el.uniform_load_fixed_end(asm.L, w_local)

@@ -76,7 +76,7 @@ def _parser() -> Lark:
 
 
 class _Reader:
-    def __init__(self, top: Path):
+    def __init__(self, top: Path, let: dict | None = None):
         self.top_dir = top.resolve().parent
         self.vars: dict[str, Quantity] = {"pi": Quantity(math.pi), "g0": Quantity(9.80665, U.ACCEL)}
         self.assumed: dict[tuple, float] = {}
@@ -107,6 +107,8 @@ class _Reader:
         self.quantities: dict[str, Quantity] = {}      # literal text -> value, e.g. "6 m"
         self.section_params: dict[str, tuple[str, dict]] = {}   # name -> (shape, SI dimensions)
         self.deck_bytes = 0                            # bytes of deck text read so far (all files)
+        self.overrides = self.override_trees(let or {})  # name -> (text, expression tree) from --set
+        self.overridden: dict[str, str] = {}           # the overrides used, name -> text, in deck order
 
     # ---------- files and locations
     def read_file(self, path: Path, where: Location | None = None) -> None:
@@ -171,6 +173,72 @@ class _Reader:
                             "sum or product, each sign and each enclosing loop is one level)", where,
                             "split it with let parameters, e.g. let a = ... and let b = ..., then a + b")
         return tree
+
+    # ---------- overrides of let parameters (--set NAME=VALUE, read_deck(let=...))
+    def override_trees(self, let: dict) -> dict[str, tuple[str, Tree]]:
+        """Each override parsed as the expression of a let, so the deck's own evaluator reads it;
+        its tokens are located in a line of its own named after the option, '--set NAME'."""
+        out = {}
+        for name, value in let.items():
+            label = f"--set {name}"
+            if not isinstance(name, str) or not re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*", name):
+                raise DeckError(f"{label}: '{name}' is not a parameter name (letters, digits and _)")
+            text = _override_text(value, label)
+            line = f"let {name} = {text}"
+            path = Path(label)
+            self.lines[path] = [line]
+            self.stack.append(path)
+            try:
+                tree = self.parse(line + "\n", path)
+            finally:
+                self.stack.pop()
+            stmts = tree.children
+            if len(stmts) != 1 or stmts[0].data != "let":
+                raise DeckError(f"{label}: '{text}' is not one value", None,
+                                "give a value or an expression, e.g. --set H=30 m or --set n=4")
+            for sub in stmts[0].iter_subtrees():
+                sub.meta.qfile = path
+                for c in sub.children:
+                    if isinstance(c, Token):
+                        self.token_file[id(c)] = path
+            out[name] = (text, stmts[0].children[1])
+        return out
+
+    def overridden_let(self, name: str, expr, where: Location) -> Quantity:
+        """The value of `let name = expr` with its override: the same dimension as the deck's
+        own expression (worked out too, so the check never depends on the override), and a
+        parameter written as a bare number stays one."""
+        text, tree = self.overrides[name]
+        label = f"--set {name}"
+        if self.loop_sites:
+            raise DeckError(f"{label}: the let of {name} at {where} is inside the loop at {self.loop_sites[-1]}, "
+                            "which works it out again on every pass, so one value cannot replace it",
+                            None, "move the let out of the loop if it is the same on every pass")
+        own = self.evaluate(expr)
+        new = self.evaluate(tree)
+        own_bare, new_bare = self.bare(expr), self.bare(tree)
+        own_text = _source_text(self.loc(expr), expr)
+        gives = f"the deck's let at {where} gives {own_text}"
+        if own_bare and not new_bare:
+            raise DeckError(f"{label}: a bare number is expected ({gives}, a bare number), got {text} "
+                            f"({U.dim_name(new.dim) if new.dim is not WILD else 'with a unit'})", None,
+                            "a parameter written as a bare number stays one; give the number alone")
+        if new_bare and not own_bare:
+            raise DeckError(f"{label}: {U.dim_name(own.dim)} is expected ({gives}), got the bare number {text}",
+                            None, f"write the value with its unit, as the deck does: --set {name}={own_text}")
+        if not own_bare and WILD not in (own.dim, new.dim) and own.dim != new.dim:
+            raise DeckError(f"{label}: {U.dim_name(own.dim)} is expected ({gives}), got {text} "
+                            f"({U.dim_name(new.dim)})", None, _unit_remedy(own.dim, new.dim))
+        self.overridden[name] = text
+        return new
+
+    def unused_overrides(self) -> None:
+        """Refuse an override that names no let of the deck, with the nearest let name."""
+        for name in self.overrides:
+            if name not in self.overridden:
+                lets = [n for (space, n) in self.defined if space == "let"]
+                raise DeckError(f"--set {name}: the deck has no let of that name; "
+                                + (suggest(name, lets) if lets else "it defines no parameters with let"))
 
     # ---------- expressions
     def evaluate(self, t) -> Quantity:
@@ -467,6 +535,13 @@ class _Reader:
         if first is None:
             self.defined[("let", name)] = ("parameter", where)
         self.let_sites[name] = site
+        if name in self.overrides:
+            self.vars[name] = self.overridden_let(name, s.children[1], where)
+            if self.bare(s.children[1]):
+                self.unitless.add(name)
+            else:
+                self.unitless.discard(name)
+            return
         self.vars[name] = self.evaluate(s.children[1])
         if self.bare(s.children[1]):
             self.unitless.add(name)
@@ -667,7 +742,7 @@ class _Reader:
             raise DeckError(f"member {name}: kind must be 'beam' or 'truss', not '{kind}'", self.loc(ch[3]))
         m = dict(name=name, i=(self.name(ch[1]), ch[1]), j=(self.name(ch[2]), ch[2]), kind=kind,
                  section=(self.name(ch[4]), ch[4]), material=(self.name(ch[5]), ch[5]),
-                 roll=0.0, up=None, nsm=0.0, releases=np.zeros(12, bool), loc=self.loc(s))
+                 roll=0.0, up=None, carried_mass=0.0, releases=np.zeros(12, bool), loc=self.loc(s))
         seen = set()
         for opt in ch[6:]:
             if opt.data == "release":
@@ -688,12 +763,16 @@ class _Reader:
                 m["roll"] = self.angle(val, f"member {name}: roll")
             elif key == "up":
                 m["up"] = self.vector(val, U.NONE, f"member {name}: up")
+            elif key == "carried_mass":
+                m["carried_mass"] = self.value(val, (1, -1, 0), f"member {name}: carried_mass")
+                if m["carried_mass"] < 0:
+                    raise DeckError(f"member {name}: carried_mass (mass per length) cannot be negative", self.loc(opt))
             elif key == "nsm":
-                m["nsm"] = self.value(val, (1, -1, 0), f"member {name}: nsm")
-                if m["nsm"] < 0:
-                    raise DeckError(f"member {name}: nsm (mass per length) cannot be negative", self.loc(opt))
+                raise DeckError(f"member {name}: 'nsm' is not an option here; the mass per length a member carries "
+                                "without stiffening it (contents, insulation, trays) is written carried_mass",
+                                self.loc(opt.children[0]), "e.g. carried_mass = 12 kg/m")
             else:
-                raise DeckError(f"member {name}: unknown option '{key}'; {suggest(key, ['roll', 'up', 'nsm'])}", self.loc(opt))
+                raise DeckError(f"member {name}: unknown option '{key}'; {suggest(key, ['roll', 'up', 'carried_mass'])}", self.loc(opt))
         motion = _released_motion(m["releases"]) if kind == "beam" else None
         if motion:
             raise DeckError(f"member {name}: its end releases let it {motion} with nothing to resist it", self.loc(s),
@@ -777,6 +856,12 @@ class _Reader:
             if q.dim not in (U.NONE, WILD) or q.value != int(q.value):
                 raise DeckError("loop bounds must be whole numbers", self.loc(s))
         passes = max(int(b.value) - int(a.value) + 1, 0)
+        for sub in (x for st in body for x in st.iter_subtrees()):
+            if sub.data == "let" and str(sub.children[0]) in self.overrides:
+                nm = str(sub.children[0])
+                raise DeckError(f"--set {nm}: the let of {nm} at {self.loc(sub)} is inside the loop at {self.loc(s)}, "
+                                "which works it out again on every pass, so one value cannot replace it", None,
+                                "move the let out of the loop if it is the same on every pass")
         if not body:
             return                      # nothing to repeat
         if self.loop_steps + passes * len(body) > LOOP_STATEMENTS:
@@ -815,7 +900,7 @@ class _Reader:
         mems = list(self.members.values())
         e = len(mems)
         conn = np.zeros((e, 2), int)
-        cols = {k: np.zeros(e) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "Avy", "Avz", "roll", "nsm")}
+        cols = {k: np.zeros(e) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "Avy", "Avz", "roll", "carried_mass")}
         up = np.full((e, 3), np.nan)
         releases = np.zeros((e, 12), bool)
         truss = np.zeros(e, bool)
@@ -836,7 +921,7 @@ class _Reader:
             sp, mat = self.sections[sname].props, self.materials[mname]
             for key, val in (("E", mat.E), ("G", mat.G), ("rho", mat.density), ("A", sp.A), ("Iy", sp.Iy),
                              ("Iz", sp.Iz), ("J", sp.J), ("Avy", sp.Avy), ("Avz", sp.Avz),
-                             ("roll", m["roll"]), ("nsm", m["nsm"])):
+                             ("roll", m["roll"]), ("carried_mass", m["carried_mass"])):
                 cols[key][k] = val
             releases[k] = m["releases"]
             truss[k] = m["kind"] == "truss"
@@ -950,7 +1035,7 @@ class _Reader:
         self.use_scope(reading)
         modal = [c.name for c in cases if c.kind == "modes"]
         if modal:
-            self.massless_materials(mems, cols["nsm"], modal)
+            self.massless_materials(mems, cols["carried_mass"], modal)
         for c in cases:
             if c.kind not in ("free", "history", "harmonic", "spectrum"):
                 continue
@@ -1035,7 +1120,7 @@ class _Reader:
         if not len(mems):
             return
         with np.errstate(divide="ignore"):          # log10(0) = -inf: a zero term is no risk
-            lg = {k: np.log10(np.abs(cols[k])) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "nsm")}
+            lg = {k: np.log10(np.abs(cols[k])) for k in ("E", "G", "rho", "A", "Iy", "Iz", "J", "carried_mass")}
             lL = np.log10(np.linalg.norm(axis, axis=1))
         lI = np.maximum(lg["Iy"], lg["Iz"])
         terms = {
@@ -1043,7 +1128,7 @@ class _Reader:
             "torsional stiffness G*J/L": (lg["G"] + lg["J"] - lL, "N*m"),
             "bending stiffness 12*E*I/L^3": (np.log10(12) + lg["E"] + lI - 3 * lL, "N/m"),
             "bending stiffness 4*E*I/L": (np.log10(4) + lg["E"] + lI - lL, "N*m"),
-            "mass (density*A + nsm)*L": (np.log10(2) + np.maximum(lg["rho"] + lg["A"], lg["nsm"]) + lL, "kg"),
+            "mass (density*A + carried_mass)*L": (np.log10(2) + np.maximum(lg["rho"] + lg["A"], lg["carried_mass"]) + lL, "kg"),
             "rotary mass density*(Iy + Iz)*L": (np.log10(2) + lg["rho"] + lI + lL, "kg*m^2"),
         }
         limit = math.log10(HUGE)
@@ -1092,12 +1177,12 @@ class _Reader:
         if len(odd) > 10:
             self.warnings.append(f"{mems[odd[10]]['loc']}: warning: {len(odd) - 10} more members lean like this")
 
-    def massless_materials(self, mems, nsm, modal) -> None:
+    def massless_materials(self, mems, carried_mass, modal) -> None:
         """Warn about materials of zero density whose members carry no mass in the modes."""
         for name, mat in self.materials.items():
             if mat.density != 0:
                 continue
-            count = sum(1 for k, m in enumerate(mems) if m["material"][0] == name and nsm[k] == 0)
+            count = sum(1 for k, m in enumerate(mems) if m["material"][0] == name and carried_mass[k] == 0)
             if count:
                 where = self.defined[("material", name)][1]
                 self.warnings.append(
@@ -1694,6 +1779,32 @@ def _unit_remedy(need, got) -> str:
     return ""
 
 
+def _override_text(value, label: str) -> str:
+    """An override's value as deck text: a string as given, a plain number in a form that reads
+    back to the same float."""
+    if isinstance(value, bool) or not isinstance(value, (str, int, float, np.integer, np.floating)):
+        raise DeckError(f"{label}: the value is deck text such as '30 m' or a plain number, not "
+                        f"{type(value).__name__}")
+    if isinstance(value, str):
+        text = value.strip()
+    elif isinstance(value, (float, np.floating)):
+        text = repr(float(value))
+    else:
+        text = str(int(value))
+    if not text or "\n" in text or "\r" in text:
+        raise DeckError(f"{label}: the value is empty or spans lines", None,
+                        "give one value, e.g. --set H=30 m or --set n=4")
+    return text
+
+
+def _source_text(where: Location, t) -> str:
+    """The text of an expression as written, from its line (the start of its line when it
+    spans more than one)."""
+    meta = t if isinstance(t, Token) else t.meta
+    end = getattr(meta, "end_column", None) if getattr(meta, "end_line", None) == where.line else None
+    return where.source_line[where.column - 1:(end - 1) if end else None].strip()
+
+
 def _not_huge(v: float, what: str, where: Location) -> None:
     from ..assembly import HUGE
 
@@ -1949,8 +2060,25 @@ def _combo_factors(r: _Reader, t, cases: set[str]) -> dict[str, float]:
     raise DeckError("a combination is a sum of factor*CASE terms, e.g. 1.35*DEAD + 1.5*PIPES", r.loc(t))
 
 
-def read_deck(path) -> Model:
-    """Read and validate the deck at `path` (and its includes) into a Model."""
+def read_deck(path, let: dict | None = None) -> Model:
+    """Read and validate the deck at `path` (and its includes) into a Model.
+
+    Parameters
+    ----------
+    path : str or Path
+        The deck file.
+    let : dict, optional
+        Overrides of the deck's `let` parameters, name -> value, e.g. ``{"H": "30 m", "n": 4}``:
+        deck text read by the deck's own evaluator (it may use the parameters defined before
+        that let), or a plain number for a parameter the deck writes as a bare number. Each
+        replaces the value of its let before anything uses it; it must have the dimension of
+        the deck's own expression. A name with no let in the deck, or the let of a loop (worked
+        out again on every pass), is refused. ``model.overrides`` records the ones used.
+
+    Examples
+    --------
+    >>> model = read_deck("decks/rack.deck", let={"bay": "7 m"})   # doctest: +SKIP
+    """
     path = Path(path)
     _file_name(str(path), "deck", None)
     try:
@@ -1959,22 +2087,27 @@ def read_deck(path) -> Model:
         raise DeckError(f"deck '{path}' cannot be read: {exc.strerror}") from None
     if not there:
         raise DeckError(f"deck '{path}' does not exist")
-    r = _Reader(path)
+    r = _Reader(path, let)
     r.read_file(path)
+    r.unused_overrides()
     model = r.build()
     model.source = str(path)
+    model.overrides = dict(r.overridden)
     return model
 
 
-def read_text(text: str, name: str = "deck.deck", folder: str | Path = ".") -> Model:
-    """Read a deck from a string (used by tests); includes resolve relative to `folder`."""
+def read_text(text: str, name: str = "deck.deck", folder: str | Path = ".", let: dict | None = None) -> Model:
+    """Read a deck from a string (used by tests); includes resolve relative to `folder`;
+    `let` overrides parameters as in read_deck."""
     path = Path(folder) / name
-    r = _Reader(path)
+    r = _Reader(path, let)
     r.lines[path.resolve()] = text.splitlines()
     r.stack.append(path.resolve())
     for stmt in r.parse(text, path).children:
         r.statement(stmt)
     r.stack.pop()
+    r.unused_overrides()
     r.stack.append(path.resolve())
     model = r.build()
+    model.overrides = dict(r.overridden)
     return model

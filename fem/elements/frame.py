@@ -200,7 +200,7 @@ def _axial_torsion_mass(m, mL, tL):
               [mL / 3, mL / 3, mL / 6, tL / 3, tL / 3, tL / 6])
 
 
-def frame_mass(L, rho, A, Iy, Iz, J, nsm=0.0, lumped=False):
+def frame_mass(L, rho, A, Iy, Iz, J, carried_mass=0.0, lumped=False):
     """Local mass of 3D frame members (Euler-Bernoulli).
 
     Parameters
@@ -209,13 +209,13 @@ def frame_mass(L, rho, A, Iy, Iz, J, nsm=0.0, lumped=False):
         Length (m), density (kg/m^3), area (m^2), second moments (m^4);
         ``J`` is accepted for a uniform signature but the torsional inertia
         uses the polar moment Ip = Iy + Iz.
-    nsm : (n,) array_like or scalar
-        Non-structural mass per length (kg/m), added to rho*A in the
+    carried_mass : (n,) array_like or scalar
+        Mass per length carried without stiffness (kg/m), added to rho*A in the
         translational terms only.
     lumped : bool
         False: consistent mass (cubic Hermite bending, linear axial and
         torsion; bending rotary inertia is neglected).  True: half the
-        member mass (rho*A + nsm)*L/2 on each node's three translations,
+        member mass (rho*A + carried_mass)*L/2 on each node's three translations,
         torsional inertia rho*Ip*L/2 on each rx, and zero for ry, rz.
 
     Returns
@@ -226,9 +226,9 @@ def frame_mass(L, rho, A, Iy, Iz, J, nsm=0.0, lumped=False):
     --------
     frame_mass_timoshenko : the consistent mass that goes with shear-flexible stiffness.
     """
-    L, rho, A, Iy, Iz, nsm = _bcast(L, rho, A, Iy, Iz, nsm)
+    L, rho, A, Iy, Iz, carried_mass = _bcast(L, rho, A, Iy, Iz, carried_mass)
     n = L.shape[0]
-    mL = (rho * A + nsm) * L
+    mL = (rho * A + carried_mass) * L
     tL = rho * (Iy + Iz) * L
     m = np.zeros((n, 12, 12))
     if lumped:
@@ -244,7 +244,7 @@ def frame_mass(L, rho, A, Iy, Iz, J, nsm=0.0, lumped=False):
     return m
 
 
-def frame_mass_timoshenko(L, rho, A, Iy, Iz, J, E, G, Avy=None, Avz=None, nsm=0.0):
+def frame_mass_timoshenko(L, rho, A, Iy, Iz, J, E, G, Avy=None, Avz=None, carried_mass=0.0):
     """Consistent local mass of shear-flexible (Timoshenko) frame members, with rotary inertia.
 
     The bending terms use the interdependent interpolation of the two-node Timoshenko member
@@ -252,7 +252,7 @@ def frame_mass_timoshenko(L, rho, A, Iy, Iz, J, E, G, Avy=None, Avz=None, nsm=0.
     and section rotation quadratic, the pair that solves the homogeneous static equations
     exactly, so both depend on phi = 12 EI / (G As L^2) of each plane.  The mass is
     ``int rho*A N_w^T N_w + rho*I N_psi^T N_psi dx`` per plane: translational inertia of
-    (rho*A + nsm) and rotary inertia of the section, rho*Iz for bending in x-y (rz) and rho*Iy
+    (rho*A + carried_mass) and rotary inertia of the section, rho*Iz for bending in x-y (rz) and rho*Iy
     for bending in x-z (ry).  A plane without shear area (phi = 0) gets the Euler-Bernoulli
     mass plus the rotary inertia rho*I/(30 L) [[36, 3L, -36, 3L], [3L, 4L^2, -3L, -L^2], ...].
     Axial and torsion terms are those of :func:`frame_mass`.
@@ -265,8 +265,8 @@ def frame_mass_timoshenko(L, rho, A, Iy, Iz, J, E, G, Avy=None, Avz=None, nsm=0.
         Young's and shear moduli (Pa).
     Avy, Avz : (n,) array_like, optional
         Shear areas along local y and z (m^2); zero or None: rigid in shear.
-    nsm : (n,) array_like or scalar
-        Non-structural mass per length (kg/m), translational only.
+    carried_mass : (n,) array_like or scalar
+        Mass per length carried without stiffness (kg/m), translational only.
 
     Returns
     -------
@@ -279,9 +279,9 @@ def frame_mass_timoshenko(L, rho, A, Iy, Iz, J, E, G, Avy=None, Avz=None, nsm=0.
     >>> m.shape
     (1, 12, 12)
     """
-    L, rho, A, Iy, Iz, E, G, nsm = _bcast(L, rho, A, Iy, Iz, E, G, nsm)
+    L, rho, A, Iy, Iz, E, G, carried_mass = _bcast(L, rho, A, Iy, Iz, E, G, carried_mass)
     n = L.shape[0]
-    mL = (rho * A + nsm) * L
+    mL = (rho * A + carried_mass) * L
     m = np.zeros((n, 12, 12))
     _axial_torsion_mass(m, mL, rho * (Iy + Iz) * L)
     for v, r, sgn, I, As in ((1, 5, 1.0, Iz, Avy), (2, 4, -1.0, Iy, Avz)):
@@ -308,16 +308,16 @@ def truss_stiffness(L, E, A):
     return k
 
 
-def truss_mass(L, rho, A, nsm=0.0, lumped=False):
+def truss_mass(L, rho, A, carried_mass=0.0, lumped=False):
     """Local mass of truss members, (n, 12, 12).
 
     Consistent: m L/6 [[2, 1], [1, 2]] for each of ux, uy, uz (the transverse
     terms are the rigid-link mass of a bar with linear displacement).
     Lumped: m L/2 on each translation.  Rotations carry no mass.
-    ``m = rho*A + nsm`` (kg/m).
+    ``m = rho*A + carried_mass`` (kg/m).
     """
-    L, rho, A, nsm = _bcast(L, rho, A, nsm)
-    mL = (rho * A + nsm) * L
+    L, rho, A, carried_mass = _bcast(L, rho, A, carried_mass)
+    mL = (rho * A + carried_mass) * L
     m = np.zeros((L.shape[0], 12, 12))
     for d in (0, 1, 2):
         if lumped:
