@@ -22,7 +22,7 @@ import numpy as np
 from ..elements.interpolate import member_curves, points_per_member, prepare_curves
 from ..model import Model
 
-__all__ = ["MAX_TURN", "drawing_scale", "shape_scale", "write_vtu", "write_pvd", "write_mode_files",
+__all__ = ["MAX_TURN", "drawing_scale", "shape_scale", "write_pvd", "write_mode_files",
            "write_response_files"]
 
 MAX_TURN = 0.5       # rad: the largest section rotation a drawn shape shows (our choice)
@@ -89,15 +89,6 @@ class _Grid:
         data["node"] = self.node
         meshio.Mesh(self.points, [("line", self.lines)], point_data=data,
                     cell_data={"member": [self.member]}).write(path, file_format="vtu")
-
-
-def write_vtu(path: Path, model: Model, point_data: dict) -> None:
-    """Nodes as points and members as straight line cells, with node point data (n, ...)."""
-    import meshio
-
-    mesh = meshio.Mesh(model.coords, [("line", model.conn)],
-                       point_data={k: np.ascontiguousarray(v, dtype=float) for k, v in point_data.items()})
-    mesh.write(path, file_format="vtu")
 
 
 def write_pvd(path: Path, entries: list[tuple[float, str]]) -> None:
