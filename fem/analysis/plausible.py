@@ -30,7 +30,7 @@ import numpy as np
 
 from ..model import DIRECTIONS, Model
 
-__all__ = ["NEAR_ZERO_HZ", "SIZE_FAIL", "SIZE_WARN", "free_rigid_motions", "model_size", "static_check",
+__all__ = ["NEAR_ZERO_HZ", "SIZE_FAIL", "SIZE_WARN", "model_size", "static_check",
            "zero_mode_check", "zero_mode_lines"]
 
 SIZE_FAIL = 1.0
@@ -72,24 +72,6 @@ def static_check(model: Model, r, location=None) -> dict:
     return out
 
 
-def free_rigid_motions(model: Model) -> int:
-    """How many rigid-body motions (of 6) the supports and springs leave free: 6 for a free
-    structure, 0 for one held in every rigid motion."""
-    from .modal_case import influence_vectors
-
-    if not model.n_nodes:
-        return 6
-    size = max(model_size(model), 1e-300)
-    R = influence_vectors(model, model.coords.mean(axis=0)).reshape(model.n_nodes, 6, 6)
-    R[:, :3, 3:] /= size                      # rotations as displacements over the model's size
-    held = model.restraint | (model.springs > 0)
-    rows = R[held]
-    if not len(rows):
-        return 6
-    s = np.linalg.svd(rows, compute_uv=False)
-    return 6 - int(np.sum(s > 1e-9 * s[0]))
-
-
 def _motion(model: Model, shape: np.ndarray) -> str:
     """Words for the motion of one mode (n, 6): the main direction and the nodes moving most."""
     from ..output.render import dominant_direction
@@ -112,9 +94,11 @@ def _motion(model: Model, shape: np.ndarray) -> str:
 
 def zero_mode_check(model: Model, r, location=None) -> dict:
     """Modes of a modes case `r` (ModesCaseResult) at zero or near-zero frequency (below
-    NEAR_ZERO_HZ) beyond the rigid-body motions the supports leave free: the checks entries,
-    with each such mode named with its motion."""
-    free = free_rigid_motions(model)
+    NEAR_ZERO_HZ) beyond the rigid-body motions the supports leave free (found from K's own
+    zero-energy motions by the model's checks before any case, `soundness.assess`, and kept in
+    model.settings["_rigid_motions"]): the checks entries, with each such mode named with its
+    motion."""
+    free = len(model.settings["_rigid_motions"])
     freq = r.modes.freq
     slow = np.flatnonzero(freq < NEAR_ZERO_HZ)
     odd = slow[free:] if free else slow     # the lowest `free` are the expected rigid-body modes
