@@ -372,9 +372,9 @@ def test_lanczos_limit_by_model_size():
 
 
 def test_mode_shape_rows_refused(monkeypatch):
-    import fem.deck.reader as reader
+    import fem.limits as limits
 
-    monkeypatch.setattr(reader, "ROWS_LIMIT", 100)
+    monkeypatch.setattr(limits, "ROWS_LIMIT", 100)
     with pytest.raises(ModelError, match=r"case MODES: 5 modes x 21 nodes would write 105 rows of mode shapes, "
                                          r"above the limit of 100; ask for at most 4 modes"):
         solve_all(read_text(CHAIN % "count = 5"))

@@ -35,8 +35,9 @@ def test_huge_section_dimensions_are_a_deck_error():
     text = ("material S { E = 200 GPa, nu = 0.3 }\n"
             "section X = ishape(d = 1e308 mm, bf = 300 mm, tf = 19 mm, tw = 11 mm)\n")
     assert fuzz_deck.check(text, Path(".")) is None
+    import pytest
+
     from fem.deck.reader import read_text
     from fem.errors import DeckError
-    import pytest
     with pytest.raises(DeckError, match="section X"):
         read_text(text)

@@ -248,6 +248,7 @@ def test_modes_complete_to_the_sturm_shift(capsys, tmp_path):
     # four modes (the fifth at 25.7 Hz) leave it uncovered. All 30 modes cover any sweep.
     # Eigenvalues for the check from scipy.linalg.eigh on the assembled matrices.
     import scipy.linalg as sla
+
     from fem.run import run_deck
 
     deck = FRAME.replace("to = 60 Hz", "to = 40 Hz")

@@ -454,7 +454,7 @@ def test_corrected_velocity_is_the_rate_of_the_corrected_displacement():
 def test_time_function_rate_is_its_slope(shape, param):
     # reference: the central difference of the function itself (exact for the piecewise-linear
     # shapes away from their corners, error h^2 g'''/6 < 1e-6 for the smooth ones at h = 1e-5)
-    from fem.analysis.timefn import TimeFunction
+    from fem.timefn import TimeFunction
     table = np.array([[0.0, 0.0], [0.1, 0.5], [0.25, -0.3], [0.6, 0.2]]) if shape == "table" else None
     fn = TimeFunction(shape, param, table)
     t = np.array([0.013, 0.07, 0.12, 0.17, 0.33, 0.41, 0.55, 0.77])

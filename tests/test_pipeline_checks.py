@@ -188,6 +188,7 @@ def test_eigen_residual_of_every_mode_is_stored(tmp_path):
     # the backward error of each eigenpair, recomputed here from the stored shapes, frequencies
     # and the assembled matrices (definition in docs/results.md); eigh/eigsh reach ~1e-15
     import csv
+
     from fem.assembly import assemble
     from fem.deck.reader import read_text
     text = FRAME + "case M modes { count = 4 }\n"

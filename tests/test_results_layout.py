@@ -3,8 +3,6 @@
 import csv
 import json
 
-import numpy as np
-
 from fem.deck.reader import read_text
 from fem.run import _write, solve_all
 
@@ -111,7 +109,7 @@ def test_every_static_case_gets_its_deformed_plot(tmp_path):
     # six static cases and a combination: seven plots (the cap is 24), each in the report
     from fem.run import run_deck
     cases = "".join(f"case L{i} static {{ force C = ({i + 1} kN, 0, 0) }}\n" for i in range(6))
-    from test_case_errors import FRAME        # an L-shaped two-member frame fixed at A
+    from test_case_errors import FRAME  # an L-shaped two-member frame fixed at A
     (tmp_path / "d.deck").write_text(FRAME + cases + "combo ALL = L0 + L5\n")
     run_deck(str(tmp_path / "d.deck"), str(tmp_path / "o"), render=False)
     plots = sorted(p.name for p in (tmp_path / "o" / "plots").glob("*_deformed.png"))

@@ -3,7 +3,8 @@
 import numpy as np
 import pytest
 
-from fem.analysis.spectrum import Spectrum, combine, combine_directions, cqc_correlation, damping_correction
+from fem.analysis.modal_sum import combine, combine_directions, cqc_correlation
+from fem.spectrum import Spectrum, damping_correction
 
 G = 9.80665
 

@@ -114,7 +114,6 @@ def test_spectrum_peak_equals_history_peak_of_the_same_record(tmp_path):
     # the record, but its 2 ms step only samples the peak, (w dt)^2 / 8 = 8e-5, so 1e-3.
     from scipy.integrate import solve_ivp
 
-    from fem.run import run_deck
     rec = np.loadtxt("decks/records/synthetic_ground.csv", delimiter=",", comments="#", skiprows=2)
     np.savetxt(tmp_path / "ground.csv", rec, delimiter=",", header="time_s,factor")
     k = 12 * 200e9 * 3.55e-6 / 27

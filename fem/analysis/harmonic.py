@@ -18,8 +18,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..assembly import Assembled
-from ..deck.reader import ROWS_LIMIT
 from ..errors import ModelError
+from ..limits import ROWS_LIMIT
 from ..model import LoadCase, Model
 from .damping import case_ratios
 from .memory import check_memory

@@ -70,7 +70,7 @@ def stiffness_condition(K, modes: ModalResult, cache: dict) -> float | None:
 def shape_rows(case: LoadCase, model: Model, count: int, n_free: int, asked: str = "") -> None:
     """Refuse a modes case whose mode-shape table (modes x nodes rows) would pass ROWS_LIMIT;
     the advice is also within what the eigen solver accepts for n_free DOFs."""
-    from ..deck.reader import ROWS_LIMIT
+    from ..limits import ROWS_LIMIT
     from .modes import DENSE_MAX
 
     rows = count * model.n_nodes

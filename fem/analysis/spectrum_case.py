@@ -14,7 +14,7 @@ from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import case_ratios
 from .modal_case import ModesCaseResult, field_responses, ground_mass_warnings
-from .spectrum import combine, combine_directions, cqc_correlation
+from .modal_sum import combine, combine_directions, cqc_correlation
 
 __all__ = ["SpectrumResult", "solve_spectrum_case"]
 
