@@ -330,3 +330,16 @@ def test_stiffening_a_member_without_strain_energy_leaves_the_mode_unchanged():
     f10 = solve(scaled(m, {"E": (i, 1)}, 10.0)).modes.freq
     assert f10[1] == pytest.approx(s.freq[1], rel=1e-10)
     assert f10[0] > s.freq[0] * 1.01
+
+
+def test_lumped_mass_and_released_end():
+    # lumped mass is not condensed at a released end (assembly's rule); the energies follow it
+    m = read_text(FRAME.format(shear="off").replace("settings { shear = off }",
+                                                    "settings { shear = off, mass = lumped }"))
+    assert m.settings.get("mass") == "lumped"
+    r = solve(m)
+    s = frequency_sensitivity(m, r)
+    assert s.energy_check.max() < 1e-12
+    i = m.member_names.index("B1")
+    agree(row(s, "member mass", "B1"), central(m, {"rho": (i, 1)}), s.lam)
+    agree(row(s, "bending", "B1") + row(s, "axial", "B1"), central(m, {"E": (i, 1)}), s.lam)
