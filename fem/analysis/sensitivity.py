@@ -104,7 +104,8 @@ class FrequencySensitivity:
     d_lambda (P, k) d lambda / d p, rad^2/s^2 per unit scale (p = 1 is the model as given)
     d_freq (P, k) d f / d p, Hz per unit scale (= d f / d ln p at p = 1); nan for f = 0
     freq (k,) Hz; lam (k,) rad^2/s^2; mode (k,) indices into the modes result
-    repeated (k,) True for modes in a cluster of equal eigenvalues (derivatives one-sided)
+    repeated (k,) True for modes in a cluster of equal eigenvalues (derivatives one-sided);
+        cluster (k,) the cluster number of each mode
     member_strain_share, member_kinetic_share (e, k): each member's share of the mode's strain
         energy and kinetic energy (all kinds; the springs and point masses hold the rest)
     shapes (n, 6, k) the modes, mass-normalised, for the added-mass and added-spring derivatives
@@ -126,6 +127,7 @@ class FrequencySensitivity:
     energy_check: np.ndarray
     node_names: list[str] = field(default_factory=list)
     member_names: list[str] = field(default_factory=list)
+    cluster: np.ndarray = field(default_factory=lambda: np.zeros(0, int))   # (k,) repeated-cluster number
 
     def log_derivative(self) -> np.ndarray:
         """(P, k) d ln f / d ln p: half the part's share of the strain energy (stiffness kinds) or
@@ -137,29 +139,48 @@ class FrequencySensitivity:
         """(k,) d f / d m, Hz per kg, for a mass m added at `node` moving in `directions` (global
         ux, uy, uz = 0, 1, 2; a point mass moves in all three): -lambda sum phi_d^2 / (8 pi^2 f).
         Zero where the mode has a node point (phi = 0 there). Rotational directions 3..5 give
-        Hz per kg m^2 of rotary inertia."""
-        i = self.node_names.index(node) if isinstance(node, str) else int(node)
-        dl = -self.lam * (self.shapes[i, list(directions)] ** 2).sum(0)
-        return self._to_freq(dl)
+        Hz per kg m^2 of rotary inertia. Repeated modes: the eigenvalues of the cluster matrix."""
+        w = np.zeros(6)
+        w[list(directions)] = 1.0
+        return self._to_freq(-self.lam * self._at_node(node, w))
 
     def added_spring(self, node: str | int, direction: int) -> np.ndarray:
         """(k,) d f / d k, Hz per N/m (or per N m/rad), for a spring to ground added at `node` in
-        global direction 0..5: phi_d^2 / (8 pi^2 f)."""
+        global direction 0..5: phi_d^2 / (8 pi^2 f). Repeated modes as for added_mass."""
+        w = np.zeros(6)
+        w[direction] = 1.0
+        return self._to_freq(self._at_node(node, w))
+
+    def _at_node(self, node, w) -> np.ndarray:
+        """(k,) sum_d w_d phi_d^2 at one node; in a repeated cluster the eigenvalues of the
+        cluster's matrix sum_d w_d phi_a,d phi_b,d (put in ascending order by _to_freq)."""
         i = self.node_names.index(node) if isinstance(node, str) else int(node)
-        return self._to_freq(self.shapes[i, direction] ** 2)
+        phi = self.shapes[i]                                      # (6, k)
+        out = (w[:, None] * phi ** 2).sum(0)
+        for c in np.unique(self.cluster):
+            cols = np.flatnonzero(self.cluster == c)
+            if len(cols) > 1:
+                out[cols] = np.linalg.eigvalsh(phi[:, cols].T @ (w[:, None] * phi[:, cols]))
+        return out
 
     def _to_freq(self, dl):
+        dl = np.array(dl, dtype=float)
+        for c in np.unique(self.cluster):          # one-sided derivatives of a cluster ascend
+            cols = np.flatnonzero(self.cluster == c)
+            dl[cols] = np.sort(dl[cols])
         with np.errstate(divide="ignore", invalid="ignore"):
             return np.where(self.freq > 0, dl / (8 * np.pi ** 2 * np.where(self.freq > 0, self.freq, 1.0)), np.nan)
 
     def rows(self, mode: int, top: int | None = None, kinds=STIFFNESS_KINDS) -> list[dict]:
-        """Ranked rows for raising mode `mode` (a column index, 0-based): the parameters of
-        `kinds`, largest d f / d ln p first (for stiffness: where the mode keeps its strain
-        energy, so stiffening there raises it most). Each row: rank, kind, target, d_freq (Hz per
-        unit scale), percent (% change of f per 1 % change of the part, = 100 d ln f / d ln p
-        x 0.01 / 0.01), share (the part's share of the mode's strain or kinetic energy)."""
+        """Ranked rows for moving mode `mode` (a column index, 0-based): the parameters of
+        `kinds` (by default the stiffness ones), largest |d f / d ln p| first. For stiffness
+        kinds that is where the mode keeps its strain energy, so stiffening there raises it
+        most; for mass kinds (negative) where lightening raises it most. Each row: rank, kind,
+        target, d_freq (Hz per unit scale), percent (d ln f / d ln p: the % change of f for a
+        1 % change of the part), share (the part's share of the mode's strain or kinetic
+        energy, 2 |d ln f / d ln p|)."""
         sel = np.flatnonzero(np.isin(self.kind, list(kinds)))
-        order = sel[np.argsort(-self.d_lambda[sel, mode], kind="stable")]
+        order = sel[np.argsort(-np.abs(self.d_lambda[sel, mode]), kind="stable")]
         logd = self.log_derivative()[:, mode]
         return [{"rank": r + 1, "kind": str(self.kind[p]), "target": str(self.target[p]),
                  "d_freq": float(self.d_freq[p, mode]), "percent": float(logd[p]), "share": abs(2 * float(logd[p]))}
@@ -276,4 +297,4 @@ def frequency_sensitivity(model, result, groups="member", modes=None, matrices=N
         u_share = member_u / np.where(lam > 0, lam / 2, np.nan)
         t_share = member_t / 0.5
     return FrequencySensitivity(kind, target, d_lam, d_freq, freq, lam, sel, repeated, u_share, t_share,
-                                shapes, check, node_names, list(model.member_names))
+                                shapes, check, node_names, list(model.member_names), ids)
