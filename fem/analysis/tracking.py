@@ -26,7 +26,6 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.optimize import linear_sum_assignment
 
 __all__ = ["ModeMatch", "SweepTracking", "common_dofs", "mac", "match_modes", "track_sweep"]
 
@@ -97,6 +96,8 @@ def match_modes(reference, shapes, M=None, freq=None, ref_freq=None, high: float
     >>> m.index.tolist(), m.crossings
     ([1, 0], [(0, 1)])
     """
+    from scipy.optimize import linear_sum_assignment  # scipy.optimize is slow to import: only when used
+
     matrix = mac(reference, shapes, M)
     k_ref, k_var = matrix.shape
     rows, cols = linear_sum_assignment(1.0 - matrix)
