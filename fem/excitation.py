@@ -34,11 +34,12 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-__all__ = ["DEFAULT_MARGIN", "DEFAULT_ORDERS", "Band", "FrequencyBand", "Machine", "excitation_bands"]
+__all__ = ["DEFAULT_MARGIN", "DEFAULT_ORDERS", "STROUHAL_CIRCLE", "Band", "FrequencyBand", "Machine", "excitation_bands"]
 
 DEFAULT_MARGIN = 0.20          # required separation, fraction of the excitation frequency; our choice
 DEFAULT_ORDERS = (1.0, 2.0)    # multiples of the running speed checked when none are given; our choice
                                # (1x for unbalance, 2x for misalignment and looseness)
+STROUHAL_CIRCLE = 0.18         # Strouhal number of a circular cylinder (EN 1991-1-4:2005 Annex E, from memory)
 
 
 def _name(value, what: str) -> str:
@@ -216,8 +217,38 @@ class FrequencyBand:
         _node(self.node, who)
         object.__setattr__(self, "margin", _margin(self.margin, who))
 
+    @classmethod
+    def vortex_shedding(cls, name: str, width: float, wind: tuple[float, float], strouhal: float = STROUHAL_CIRCLE,
+                        margin: float = DEFAULT_MARGIN, node: str | None = None) -> FrequencyBand:
+        """The band of vortex-shedding frequencies f = St v / b of a member of cross-wind width b
+        (m; the outside diameter of a pipe or stack) in winds v from wind[0] to wind[1] (m/s).
+        The Strouhal number St defaults to STROUHAL_CIRCLE, 0.18 for a circular cylinder
+        (EN 1991-1-4:2005 Annex E, from memory); give the section's own for others.
+
+        >>> band = FrequencyBand.vortex_shedding("STACK", 0.5, (5.0, 15.0))
+        >>> round(band.low, 9), round(band.high, 9)
+        (1.8, 5.4)
+        """
+        who = f"band {_name(name, 'a frequency band')}"
+        b = _above_zero(width, f"{who}: width (m)")
+        if not isinstance(wind, (tuple, list)) or len(wind) != 2:
+            raise ValueError(f"{who}: wind is a range of wind speeds (low, high) in m/s, got {wind!r}")
+        v_lo, v_hi = (_above_zero(v, f"{who}: a wind speed (m/s)") for v in wind)
+        if v_hi < v_lo:
+            raise ValueError(f"{who}: the wind range ends ({v_hi:g} m/s) below where it starts ({v_lo:g} m/s)")
+        st = _above_zero(strouhal, f"{who}: the Strouhal number")
+        return cls(name, st * v_lo / b, st * v_hi / b, margin, node)
+
     def bands(self) -> tuple[Band, ...]:
         return (Band(self.name, "band", self.low, self.high, self.margin, None, self.node),)
+
+
+def _above_zero(value, what: str) -> float:
+    """A finite number > 0 (a width, a wind speed, a ratio) as float."""
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(float(value)) \
+            or float(value) <= 0:
+        raise ValueError(f"{what} must be a finite number above 0, got {value!r}")
+    return float(value)
 
 
 def excitation_bands(excitations) -> tuple[Band, ...]:

@@ -292,3 +292,48 @@ case MODES modes { count = 6 }
         assert r.node_share == pytest.approx(1.0)
         assert r.node_motion > 0
     assert check.complete
+
+
+def test_vortex_shedding_band_by_hand():
+    # f = St v / b (EN 1991-1-4:2005 Annex E, St = 0.18 for a circular cylinder, from memory;
+    # reference-values.md Sec. 9): a 0.3239 m pipe in winds of 4 to 12 m/s sheds at
+    # 0.18 x 4 / 0.3239 = 2.2229 Hz to 0.18 x 12 / 0.3239 = 6.6687 Hz.
+    band = FrequencyBand.vortex_shedding("PIPE", 0.3239, (4.0, 12.0), node="N2")
+    assert (band.low, band.high) == pytest.approx((0.72 / 0.3239, 2.16 / 0.3239), rel=1e-15)
+    assert (band.low, band.high) == pytest.approx((2.2229, 6.6687), abs=1e-4)
+    assert band.margin == DEFAULT_MARGIN and band.node == "N2"
+    other = FrequencyBand.vortex_shedding("BOX", 0.2, (5.0, 5.0), strouhal=0.12, margin=0.0)
+    assert other.low == other.high == pytest.approx(3.0)
+    for args, match in (((0.0, (4.0, 12.0)), "width .m. must be a finite number above 0"),
+                        ((0.3, (12.0, 4.0)), "the wind range ends .4 m/s. below where it starts .12 m/s."),
+                        ((0.3, 12.0), "wind is a range of wind speeds")):
+        with pytest.raises(ValueError, match=match):
+            FrequencyBand.vortex_shedding("PIPE", *args)
+
+
+def test_results_json_form_is_strict_and_complete():
+    import json
+
+    pump = Machine("PUMP", speed=(4.0, 5.5), orders=(1, 2, 3), node="N1")
+    check = check_resonance(chain(), [pump, FrequencyBand("STACK", 15.0, 15.5, margin=0.05)], NODES)
+    doc = json.loads(json.dumps(check.as_json(), allow_nan=False))      # no NaN may reach the file
+    assert doc["ok"] is False and doc["complete"] is True and doc["failures"] == 3
+    assert doc["modes_complete_to_Hz"] is None                           # every mode of the model: inf
+    assert doc["modes_needed_to_Hz"] == pytest.approx(19.8)              # 16.5 x 1.2 (3x band)
+    assert [b["order"] for b in doc["bands"]] == ["1x", "2x", "3x", "band"]
+    assert doc["bands"][0]["speed_Hz"] == [4.0, 5.5] and doc["bands"][3]["speed_Hz"] is None
+    assert len(doc["rows"]) == 8 and doc["rows"] == check.table()
+
+
+def test_summary_lines_name_the_failures_closest_first():
+    pump = Machine("PUMP", speed=(4.0, 5.5), orders=(1, 2, 3), node="N2")
+    lines = check_resonance(chain(), [pump], NODES).summary_lines()
+    assert lines[0] == "resonance check of MODES: 2 mode-band pairs inside the required margin"
+    # mode 2 is inside the 3x band (margin 0, 20 short); mode 1 is 12.4 % above 1x (7.6 short)
+    assert lines[1] == ("  mode 2 at 16.18 Hz vs PUMP 3x (12-16.5 Hz): inside the band, needs 20 %; "
+                        "N2 moves 62 % of the mode's most")
+    assert lines[2].startswith("  mode 1 at 6.18 Hz vs PUMP 1x (4-5.5 Hz): margin +12.4 %, needs 20 %")
+    assert len(lines) == 3
+    short = check_resonance(chain(n_modes=1), [Machine("P", speed=(4.0, 5.5), orders=(3,))], NODES)
+    assert short.summary_lines()[0].endswith("every mode clear of every excitation band by its margin")
+    assert "modes above were not checked" in short.summary_lines()[-1]

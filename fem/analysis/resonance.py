@@ -153,6 +153,38 @@ class ResonanceCheck:
                 num(r.node_motion), num(100 * r.node_share)))))
         return out
 
+    def as_json(self) -> dict:
+        """The check for results.json: plain values only (no NaN or inf), keys as below."""
+        def num(x):
+            return float(x) if np.isfinite(x) else None
+
+        bands = [{"source": b.source, "order": b.order, "low_Hz": b.low, "high_Hz": b.high,
+                  "required_percent": 100 * b.margin, "multiple": b.multiple, "node": b.node,
+                  "speed_Hz": None if b.speed is None else list(b.speed)} for b in self.bands]
+        return {"case": self.case, "ok": self.ok, "complete": self.complete,
+                "modes_complete_to_Hz": num(self.complete_to), "modes_needed_to_Hz": float(self.needed_to),
+                "failures": int((~self.passed).sum()), "bands": bands, "rows": self.table()}
+
+    def summary_lines(self, limit: int = 10) -> list[str]:
+        """A few lines for the console: the verdict, then the failing rows (closest first, at most
+        `limit`), then a line when the modes did not reach high enough to check every band."""
+        fails = sorted(self.failures(), key=lambda r: (abs(r.margin) - r.required, r.mode))
+        lines = [f"resonance check of {self.case}: " + (
+            "every mode clear of every excitation band by its margin" if not fails else
+            f"{len(fails)} mode-band pair{'s' if len(fails) != 1 else ''} inside the required margin")]
+        for r in fails[:limit]:
+            band = f"{r.low:.4g} Hz" if r.low == r.high else f"{r.low:.4g}-{r.high:.4g} Hz"
+            at = "" if r.node is None else f"; {r.node} moves {100 * r.node_share:.0f} % of the mode's most"
+            margin = "inside the band" if r.margin == 0 else f"margin {r.margin:+.1f} %"
+            lines.append(f"  mode {r.mode} at {r.freq:.4g} Hz vs {r.source} {r.order} ({band}): {margin}, "
+                         f"needs {r.required:.0f} %{at}")
+        if len(fails) > limit:
+            lines.append(f"  ... and {len(fails) - limit} more (see the table)")
+        if not self.complete:
+            lines.append(f"  the modes reach only {self.complete_to:.4g} Hz, below the top of the bands' margins "
+                         f"({self.needed_to:.4g} Hz): modes above were not checked; ask the modes case for more")
+        return lines
+
     def crossings(self, source: str | None = None) -> list[Crossing]:
         """Where the modes meet the rays of the orders that follow a running speed (of `source`
         only, when given), sorted by source, order and speed; modes at 0 Hz meet no ray."""
