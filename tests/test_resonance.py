@@ -337,3 +337,27 @@ def test_summary_lines_name_the_failures_closest_first():
     short = check_resonance(chain(n_modes=1), [Machine("P", speed=(4.0, 5.5), orders=(3,))], NODES)
     assert short.summary_lines()[0].endswith("every mode clear of every excitation band by its margin")
     assert "modes above were not checked" in short.summary_lines()[-1]
+
+
+def test_docs_examples_run_and_print_what_the_page_shows(tmp_path, capsys, monkeypatch):
+    # docs/resonance.md's Python blocks, run as written (OUT is the folder the page writes to);
+    # the printed lines must be the ones the page shows.
+    import pathlib
+    import re
+
+    root = pathlib.Path(__file__).resolve().parents[1]
+    page = (root / "docs" / "resonance.md").read_text()
+    blocks = re.findall(r"```python\n(.*?)```", page, re.S)
+    shown = re.findall(r"```\n(resonance check.*?)```", page, re.S)
+    assert len(blocks) == 2 and len(shown) == 1
+    monkeypatch.chdir(root)
+    env = {"Machine": Machine, "OUT": tmp_path}
+    exec(blocks[0], env)
+    first = capsys.readouterr().out.strip()
+    assert first == blocks[0].strip().splitlines()[-1].lstrip("# ")
+    exec(blocks[1], env)
+    printed = capsys.readouterr().out.splitlines()
+    for want, got in zip(shown[0].strip().splitlines(), printed):
+        if want.strip() != "...":
+            assert got == want
+    assert (tmp_path / "resonance_MODES_FAN-3.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"

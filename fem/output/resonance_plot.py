@@ -1,14 +1,16 @@
 """The frequency-vs-speed diagram of a machine: where its excitation orders meet the modes.
 
 Layout (our own): running speed in rpm across, frequency in Hz up. Each mode is a horizontal
-line, labelled with its number and frequency at the right; a failing mode is drawn in the
-warning colour. Each order that follows the speed (1x, 2x, blade pass) is a ray from the
+line, labelled with its number and frequency at the right (failing modes first, a label left out
+where it would overlap another); a failing mode is drawn in the warning colour, a clear one in
+grey. Each order that follows the speed (1x, 2x, blade pass) is a ray from the
 origin with its required margin as a pale wedge around it; over the operating speeds the wedge
 is darker: a mode line crossing a dark wedge fails. Orders fixed in frequency (line, 2x line)
 are horizontal bands. The operating range is a shaded column (a single line for a fixed
 speed). Where a mode meets a ray the crossing is marked: a filled diamond when the mode fails
 against that order, an open circle when it passes; a crossing is labelled ('mode 3 on 2x') when
-it lies in the operating range or fails.
+it lies in the operating range or fails, unless the label would cover another (the table holds
+every crossing's mode and order).
 
 matplotlib (Agg) is imported only when a diagram is drawn.
 """
@@ -28,6 +30,8 @@ WEDGE = "#6aa9a0"                 # margins around the orders (pale everywhere, 
 FIXED = "#9b7fc4"                 # orders fixed in frequency
 SPEED_ROOM = 1.3                  # speed axis to this factor of the top running speed
 FREQ_ROOM = 1.15                  # frequency axis to this factor of the highest band's margin
+LABEL_GAP = 0.032                 # height of a 7 pt label, a fraction of the axes (4.6 in figure)
+CHAR_WIDTH = 0.0075               # width of one 7 pt character, a fraction of the axes (7.2 in figure)
 
 
 def _machine_bands(check, source):
@@ -81,13 +85,18 @@ def resonance_figure(check, source: str | None = None):
                     textcoords="offset points", ha="right", fontsize=7, color="#3d7d74")
     cols = [b for b, _ in bands]
     fails = ~check.passed[:, cols].all(axis=1)
-    for j, f in enumerate(check.freq):
-        if not 0 < f <= y_top:
-            continue
-        colour = FAIL if fails[j] else INK
-        ax.axhline(f, color=colour, lw=1.5 if fails[j] else 0.9, zorder=3)
-        ax.annotate(f"mode {check.first_mode + j + 1}  {f:.4g} Hz", (x_top, f), xytext=(3, 0),
-                    textcoords="offset points", va="center", fontsize=7, color=colour, annotation_clip=False)
+    drawn = [j for j, f in enumerate(check.freq) if 0 < f <= y_top]
+    for j in drawn:
+        ax.axhline(check.freq[j], color=FAIL if fails[j] else MUTED, lw=1.4 if fails[j] else 0.7, zorder=3)
+    # labels at the right, failing modes first, none closer than a line of text to one placed
+    placed: list[float] = []
+    for j in sorted(drawn, key=lambda j: (not fails[j], check.freq[j])):
+        f = check.freq[j]
+        if all(abs(f - g) >= LABEL_GAP * y_top for g in placed):
+            placed.append(f)
+            ax.annotate(f"mode {check.first_mode + j + 1}  {f:.4g} Hz", (x_top, f), xytext=(3, 0),
+                        textcoords="offset points", va="center", fontsize=7, color=FAIL if fails[j] else INK,
+                        annotation_clip=False)
     shown = [c for c in check.crossings(name) if c.speed * 60 <= x_top and c.freq <= y_top]
     for passed, gid, label, style in (
             (False, "crossings-fail", "crossing inside its margin", dict(marker="D", ms=6, mfc=FAIL, mec="white")),
@@ -95,10 +104,18 @@ def resonance_figure(check, source: str | None = None):
         pts = [c for c in shown if c.passed == passed]
         ax.plot([60 * c.speed for c in pts], [c.freq for c in pts], ls="none", zorder=4, gid=gid,
                 label=label if pts else None, **style)
-    for c in shown:
-        if c.in_range or not c.passed:
-            ax.annotate(f"mode {c.mode} on {c.order}", (60 * c.speed, c.freq), xytext=(-5, 5), ha="right",
-                        textcoords="offset points", fontsize=7, color=FAIL if not c.passed else INK, zorder=5)
+    # labels of failing crossings (those in the operating range first), then of passing ones in the
+    # range, each above and left of its marker, skipped where it would cover one already placed
+    boxes: list[tuple] = []
+    for c in sorted((c for c in shown if c.in_range or not c.passed), key=lambda c: (c.passed, not c.in_range)):
+        text = f"mode {c.mode} on {c.order}"
+        x0, y0 = 60 * c.speed / x_top, c.freq / y_top
+        box = (x0 - CHAR_WIDTH * len(text), y0, x0, y0 + 1.3 * LABEL_GAP)
+        if any(box[0] < b[2] and b[0] < box[2] and box[1] < b[3] and b[1] < box[3] for b in boxes):
+            continue
+        boxes.append(box)
+        ax.annotate(text, (60 * c.speed, c.freq), xytext=(-5, 5), ha="right", textcoords="offset points",
+                    fontsize=7, color=FAIL if not c.passed else INK, zorder=5)
     if shown:
         ax.legend(loc="upper left", fontsize=7, frameon=False)
     ax.set_xlim(0, x_top)
@@ -108,10 +125,12 @@ def resonance_figure(check, source: str | None = None):
     n_fail = int(fails.sum())
     verdict = f"{n_fail} mode{'s' if n_fail != 1 else ''} inside a margin" if n_fail else "every mode clear"
     speed = f"{60 * lo:.4g} rpm" if hi == lo else f"{60 * lo:.4g}-{60 * hi:.4g} rpm"
-    ax.set_title(f"{check.case}: {name} at {speed}, {verdict}", color=INK, loc="left", fontsize=10)
+    ax.set_title(f"{check.case}: {name} at {speed}, {verdict}", color=INK, loc="left", fontsize=10,
+                 pad=6 if check.complete else 16)
     if not check.complete:
-        ax.text(0.01, 0.98, f"modes computed only up to {check.complete_to:.4g} Hz", transform=ax.transAxes,
-                va="top", fontsize=7, color=FAIL)
+        ax.text(0, 1.01, f"modes computed only up to {check.complete_to:.4g} Hz: the bands reach "
+                f"{check.needed_to:.4g} Hz with their margins, modes above are not checked",
+                transform=ax.transAxes, va="bottom", fontsize=7, color=FAIL)
     fig.tight_layout()
     return fig
 
