@@ -173,6 +173,12 @@ class Machine:
         _node(self.node, who)
         object.__setattr__(self, "margin", _margin(self.margin, who))
 
+    def as_json(self) -> dict:
+        """The machine for results.json: speeds in Hz and rpm, the margin in percent."""
+        return {"name": self.name, "kind": "machine", "speed_Hz": list(self.speed),
+                "speed_rpm": [60 * s for s in self.speed], "orders": list(self.orders), "blades": self.blades,
+                "line_Hz": self.line, "node": self.node, "margin_percent": 100 * self.margin}
+
     @property
     def fixed(self) -> bool:
         """True for a fixed running speed."""
@@ -241,6 +247,11 @@ class FrequencyBand:
 
     def bands(self) -> tuple[Band, ...]:
         return (Band(self.name, "band", self.low, self.high, self.margin, None, self.node),)
+
+    def as_json(self) -> dict:
+        """The band for results.json, the margin in percent."""
+        return {"name": self.name, "kind": "band", "low_Hz": self.low, "high_Hz": self.high, "node": self.node,
+                "margin_percent": 100 * self.margin}
 
 
 def _above_zero(value, what: str) -> float:

@@ -361,3 +361,37 @@ def test_docs_examples_run_and_print_what_the_page_shows(tmp_path, capsys, monke
         if want.strip() != "...":
             assert got == want
     assert (tmp_path / "resonance_MODES_FAN-3.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_excitations_for_results_json():
+    import json
+
+    fan = Machine("FAN", speed=(600 / 60, 990 / 60), blades=6, line=50.0, node="N2", margin=0.25)
+    doc = json.loads(json.dumps(fan.as_json(), allow_nan=False))
+    assert doc == {"name": "FAN", "kind": "machine", "speed_Hz": [10.0, 16.5], "speed_rpm": [600.0, 990.0],
+                   "orders": [1.0, 2.0], "blades": 6, "line_Hz": 50.0, "node": "N2", "margin_percent": 25.0}
+    band = FrequencyBand("WALK", 1.6, 2.4, margin=0.0).as_json()
+    assert band == {"name": "WALK", "kind": "band", "low_Hz": 1.6, "high_Hz": 2.4, "node": None,
+                    "margin_percent": 0.0}
+    with pytest.raises(ValueError, match="node_names gives 3 names for the 2 nodes of case MODES"):
+        check_resonance(chain(), [fan], ("N1", "N2", "N3"))
+
+
+def test_diagram_of_a_machine_with_only_fixed_orders(tmp_path):
+    # A motor on the grid with no speed order: no rays, so no crossings; its line bands still show
+    # whether a mode fails: line 8 Hz, f1 = 6.18 Hz is 22.7 % below (clear); 2x line 16 Hz,
+    # f2 = 16.18 Hz is 1.1 % above (fails); f2 is 102 % above the line frequency (clear).
+    from fem.output.resonance_plot import plot_resonance, resonance_figure
+
+    motor = Machine("M", speed=24.0, orders=(), line=8.0)
+    check = check_resonance(chain(), [motor], NODES)
+    assert [(r.mode, r.order) for r in check.failures()] == [(2, "2x line")]
+    assert check.margin[1, 1] == pytest.approx(100 * (F2 - 16) / 16, rel=RTOL)
+    assert check.crossings() == []
+    fig = resonance_figure(check)
+    marked = [len(line.get_xdata()) for line in fig.axes[0].get_lines() if line.get_gid()]
+    assert marked == [0, 0]
+    assert "1 mode inside a margin" in fig.axes[0].get_title(loc="left")
+    assert plot_resonance(tmp_path / "m.png", check).read_bytes()[:4] == b"\x89PNG"
+    with pytest.raises(ValueError, match="plain bands have no speed to draw"):
+        resonance_figure(check_resonance(chain(), [FrequencyBand("W", 1.0, 2.0)], NODES))

@@ -265,6 +265,8 @@ def check_resonance(modal, excitations, node_names=(), motion=None) -> Resonance
     freq = np.asarray(modal.modes.freq, float)
     k = len(freq)
     shapes = np.asarray(modal.shapes, float)
+    if names and len(names) != shapes.shape[0]:
+        raise ValueError(f"node_names gives {len(names)} names for the {shapes.shape[0]} nodes of case {modal.name}")
     margin, passed = margins(freq, bands)
     frac = np.asarray(modal.part.fraction, float)
     eff = np.full((k, 6), np.nan)
