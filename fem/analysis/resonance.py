@@ -141,9 +141,7 @@ class ResonanceCheck:
     def table(self, failed_only: bool = False) -> list[dict]:
         """Rows as dicts keyed by COLUMNS, for a CSV table or results.json (plain Python values;
         None where a value does not apply)."""
-        def num(x):
-            return None if not np.isfinite(x) else float(x)
-
+        num = _plain
         out = []
         for r in (self.failures() if failed_only else self.rows()):
             m = r.effective_mass
@@ -154,15 +152,13 @@ class ResonanceCheck:
         return out
 
     def as_json(self) -> dict:
-        """The check for results.json: plain values only (no NaN or inf), keys as below."""
-        def num(x):
-            return float(x) if np.isfinite(x) else None
-
+        """The check for results.json: plain values only (no NaN or inf). modes_complete_to_Hz is
+        None when the case holds every mode of the model."""
         bands = [{"source": b.source, "order": b.order, "low_Hz": b.low, "high_Hz": b.high,
                   "required_percent": 100 * b.margin, "multiple": b.multiple, "node": b.node,
                   "speed_Hz": None if b.speed is None else list(b.speed)} for b in self.bands]
         return {"case": self.case, "ok": self.ok, "complete": self.complete,
-                "modes_complete_to_Hz": num(self.complete_to), "modes_needed_to_Hz": float(self.needed_to),
+                "modes_complete_to_Hz": _plain(self.complete_to), "modes_needed_to_Hz": float(self.needed_to),
                 "failures": int((~self.passed).sum()), "bands": bands, "rows": self.table()}
 
     def summary_lines(self, limit: int = 10) -> list[str]:
@@ -180,7 +176,7 @@ class ResonanceCheck:
             at = "" if r.node is None else f"; {r.node} moves {100 * r.node_share:.0f} % of the mode's most"
             margin = "inside the band" if r.margin == 0 else f"margin {r.margin:+.1f} %"
             lines.append(f"  mode {r.mode} at {r.freq:.4g} Hz vs {r.source} {r.order} ({band}): {margin}, "
-                         f"needs {r.required:.0f} %{at}")
+                         f"needs {r.required:.3g} %{at}")
         if len(fails) > limit:
             lines.append(f"  ... and {len(fails) - limit} more (see the table)")
         if not self.complete:
@@ -201,6 +197,11 @@ class ResonanceCheck:
                 out.append(Crossing(band.source, band.order, self.first_mode + int(j) + 1, float(self.freq[j]), s,
                                     bool(lo <= s <= hi), bool(self.passed[j, b])))
         return out
+
+
+def _plain(x) -> float | None:
+    """A float for JSON, None for NaN or infinity."""
+    return float(x) if np.isfinite(x) else None
 
 
 def margins(freq, bands) -> tuple[np.ndarray, np.ndarray]:
