@@ -74,6 +74,16 @@ def _node(value, who: str) -> str | None:
     return value
 
 
+def _low_high_margin(band, who: str) -> None:
+    """Check and store a frozen band's low <= high (Hz) and its margin."""
+    low, high = _positive(band.low, f"{who}: low"), _positive(band.high, f"{who}: high")
+    if high < low:
+        raise ValueError(f"{who}: high ({high:g} Hz) is below low ({low:g} Hz); give the band as low, high")
+    object.__setattr__(band, "low", low)
+    object.__setattr__(band, "high", high)
+    object.__setattr__(band, "margin", _margin(band.margin, who))
+
+
 @dataclass(frozen=True)
 class Band:
     """One band of excitation frequencies of one source.
@@ -97,13 +107,7 @@ class Band:
 
     def __post_init__(self):
         _name(self.source, "a band")
-        who = f"band {self.order!r} of {self.source}"
-        low, high = _positive(self.low, f"{who}: low"), _positive(self.high, f"{who}: high")
-        if high < low:
-            raise ValueError(f"{who}: high ({high:g} Hz) is below low ({low:g} Hz); give the band as low, high")
-        object.__setattr__(self, "low", low)
-        object.__setattr__(self, "high", high)
-        object.__setattr__(self, "margin", _margin(self.margin, who))
+        _low_high_margin(self, f"band {self.order!r} of {self.source}")
 
     @property
     def avoid(self) -> tuple[float, float]:
@@ -215,13 +219,8 @@ class FrequencyBand:
 
     def __post_init__(self):
         who = f"band {_name(self.name, 'a frequency band')}"
-        low, high = _positive(self.low, f"{who}: low"), _positive(self.high, f"{who}: high")
-        if high < low:
-            raise ValueError(f"{who}: high ({high:g} Hz) is below low ({low:g} Hz); give the band as low, high")
-        object.__setattr__(self, "low", low)
-        object.__setattr__(self, "high", high)
         _node(self.node, who)
-        object.__setattr__(self, "margin", _margin(self.margin, who))
+        _low_high_margin(self, who)
 
     @classmethod
     def vortex_shedding(cls, name: str, width: float, wind: tuple[float, float], strouhal: float = STROUHAL_CIRCLE,

@@ -395,3 +395,12 @@ def test_diagram_of_a_machine_with_only_fixed_orders(tmp_path):
     assert plot_resonance(tmp_path / "m.png", check).read_bytes()[:4] == b"\x89PNG"
     with pytest.raises(ValueError, match="plain bands have no speed to draw"):
         resonance_figure(check_resonance(chain(), [FrequencyBand("W", 1.0, 2.0)], NODES))
+
+
+def test_excitation_docstring_examples():
+    import doctest
+
+    import fem.excitation
+
+    result = doctest.testmod(fem.excitation)
+    assert result.attempted >= 3 and result.failed == 0
