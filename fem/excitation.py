@@ -32,6 +32,7 @@ Examples
 from __future__ import annotations
 
 import math
+import numbers
 from dataclasses import dataclass
 
 __all__ = ["DEFAULT_MARGIN", "DEFAULT_ORDERS", "STROUHAL_CIRCLE", "Band", "FrequencyBand", "Machine", "excitation_bands"]
@@ -50,7 +51,7 @@ def _name(value, what: str) -> str:
 
 def _positive(value, what: str) -> float:
     """A finite number > 0 as float; what names it in the message."""
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
+    if isinstance(value, bool) or not isinstance(value, numbers.Real):
         raise ValueError(f"{what} must be a number, got {value!r}")
     v = float(value)
     if not math.isfinite(v) or v <= 0:
@@ -59,7 +60,7 @@ def _positive(value, what: str) -> float:
 
 
 def _margin(value, who: str) -> float:
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(float(value)):
+    if isinstance(value, bool) or not isinstance(value, numbers.Real) or not math.isfinite(float(value)):
         raise ValueError(f"{who}: margin must be a number (a fraction: 0.2 for 20 %), got {value!r}")
     v = float(value)
     if not 0 <= v < 1:
@@ -148,7 +149,7 @@ class Machine:
     def __post_init__(self):
         who = f"machine {_name(self.name, 'a machine')}"
         s = self.speed
-        if isinstance(s, (tuple, list)):
+        if not isinstance(s, numbers.Real) and hasattr(s, "__len__") and not isinstance(s, (str, bytes)):
             if len(s) != 2:
                 raise ValueError(f"{who}: speed is one running speed or a range (low, high) in Hz, "
                                  f"got {len(s)} values")
@@ -166,10 +167,12 @@ class Machine:
         if len(set(orders)) != len(orders):
             raise ValueError(f"{who}: an order is given twice in {orders}")
         object.__setattr__(self, "orders", orders)
-        if self.blades is not None and (isinstance(self.blades, bool) or not isinstance(self.blades, int)
+        if self.blades is not None and (isinstance(self.blades, bool) or not isinstance(self.blades, numbers.Integral)
                                         or self.blades < 1):
             raise ValueError(f"{who}: blades must be a whole number of blades or vanes, 1 or more, "
                              f"got {self.blades!r}")
+        if self.blades is not None:
+            object.__setattr__(self, "blades", int(self.blades))
         if self.line is not None:
             object.__setattr__(self, "line", _positive(self.line, f"{who}: line"))
         if not orders and self.blades is None and self.line is None:
@@ -236,7 +239,7 @@ class FrequencyBand:
         """
         who = f"band {_name(name, 'a frequency band')}"
         b = _above_zero(width, f"{who}: width (m)")
-        if not isinstance(wind, (tuple, list)) or len(wind) != 2:
+        if isinstance(wind, (str, bytes)) or not hasattr(wind, "__len__") or len(wind) != 2:
             raise ValueError(f"{who}: wind is a range of wind speeds (low, high) in m/s, got {wind!r}")
         v_lo, v_hi = (_above_zero(v, f"{who}: a wind speed (m/s)") for v in wind)
         if v_hi < v_lo:
@@ -255,7 +258,7 @@ class FrequencyBand:
 
 def _above_zero(value, what: str) -> float:
     """A finite number > 0 (a width, a wind speed, a ratio) as float."""
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(float(value)) \
+    if isinstance(value, bool) or not isinstance(value, numbers.Real) or not math.isfinite(float(value)) \
             or float(value) <= 0:
         raise ValueError(f"{what} must be a finite number above 0, got {value!r}")
     return float(value)

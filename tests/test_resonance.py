@@ -200,6 +200,7 @@ def test_incomplete_modes_are_reported():
     (lambda: Machine("P", speed=10.0, orders=()), "nothing excites"),
     (lambda: Machine("P", speed=10.0, blades=0), "blades must be a whole number"),
     (lambda: Machine("P", speed=10.0, blades=6.5), "blades must be a whole number"),
+    (lambda: Machine("P", speed=10.0, blades="6"), "blades must be a whole number"),
     (lambda: Machine("P", speed=10.0, line=-50.0), "line must be"),
     (lambda: Machine("P", speed=10.0, margin=20), "below 1 .a fraction"),
     (lambda: Machine("P", speed=10.0, margin=-0.1), "at least 0"),
@@ -208,7 +209,7 @@ def test_incomplete_modes_are_reported():
     (lambda: FrequencyBand("W", 0.0, 4.0), "W: low must be"),
     (lambda: excitation_bands([Machine("A", 10.0), FrequencyBand("A", 1.0, 2.0)]), "two excitations are named"),
 ], ids=["no-name", "zero-speed", "nan-speed", "reversed-range", "three-speeds", "text-speed", "order-twice",
-        "negative-order", "no-orders", "zero-blades", "fractional-blades", "negative-line", "percent-margin",
+        "negative-order", "no-orders", "zero-blades", "fractional-blades", "text-blades", "negative-line", "percent-margin",
         "negative-margin", "empty-node", "reversed-band", "zero-band", "duplicate-name"])
 def test_bad_excitations_are_refused_in_words(make, match):
     with pytest.raises(ValueError, match=match):
@@ -404,3 +405,16 @@ def test_excitation_docstring_examples():
 
     result = doctest.testmod(fem.excitation)
     assert result.attempted >= 3 and result.failed == 0
+
+
+def test_numpy_numbers_are_taken_as_numbers():
+    fan = Machine("FAN", speed=np.array([10.0, 16.5]), orders=np.arange(1, 3), blades=np.int64(6),
+                  margin=np.float64(0.25))
+    assert fan.speed == (10.0, 16.5) and fan.orders == (1.0, 2.0) and fan.margin == 0.25
+    assert [b.order for b in fan.bands()] == ["1x", "2x", "blade pass 6x"]
+    import json
+
+    assert json.loads(json.dumps(fan.as_json()))["blades"] == 6         # plain Python numbers inside
+    assert FrequencyBand.vortex_shedding("P", np.float64(0.5), np.array([5.0, 15.0])).low == pytest.approx(1.8)
+    with pytest.raises(ValueError, match="must be a number"):
+        Machine("FAN", speed=True)
