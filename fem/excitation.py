@@ -149,7 +149,8 @@ class Machine:
     def __post_init__(self):
         who = f"machine {_name(self.name, 'a machine')}"
         s = self.speed
-        if not isinstance(s, numbers.Real) and hasattr(s, "__len__") and not isinstance(s, (str, bytes)):
+        if not isinstance(s, numbers.Real) and hasattr(s, "__iter__") and not isinstance(s, (str, bytes)):
+            s = tuple(s)
             if len(s) != 2:
                 raise ValueError(f"{who}: speed is one running speed or a range (low, high) in Hz, "
                                  f"got {len(s)} values")
