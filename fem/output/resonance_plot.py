@@ -53,6 +53,7 @@ def resonance_figure(check, source: str | None = None):
 
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
+    from matplotlib import patheffects
 
     name, bands = _machine_bands(check, source)
     lo, hi = bands[0][1].speed
@@ -107,6 +108,7 @@ def resonance_figure(check, source: str | None = None):
     # labels of failing crossings (those in the operating range first), then of passing ones in the
     # range, each above and left of its marker, skipped where it would cover one already placed
     boxes: list[tuple] = []
+    halo = [patheffects.withStroke(linewidth=2.5, foreground="white")]     # legible over the lines
     for c in sorted((c for c in shown if c.in_range or not c.passed), key=lambda c: (c.passed, not c.in_range)):
         text = f"mode {c.mode} on {c.order}"
         x0, y0 = 60 * c.speed / x_top, c.freq / y_top
@@ -115,7 +117,7 @@ def resonance_figure(check, source: str | None = None):
             continue
         boxes.append(box)
         ax.annotate(text, (60 * c.speed, c.freq), xytext=(-5, 5), ha="right", textcoords="offset points",
-                    fontsize=7, color=FAIL if not c.passed else INK, zorder=5)
+                    fontsize=7, color=FAIL if not c.passed else INK, zorder=5, path_effects=halo)
     if shown:
         ax.legend(loc="upper left", fontsize=7, frameon=False)
     ax.set_xlim(0, x_top)
