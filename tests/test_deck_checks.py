@@ -9,7 +9,7 @@ import pytest
 from fem.analysis.static import held_dofs, solve_static
 from fem.assembly import assemble
 from fem.cli import main
-from fem.deck.checks import COINCIDENT
+from fem.deck.model_checks import COINCIDENT
 from fem.deck.reader import read_deck, read_text
 from fem.errors import DeckError
 

@@ -10,11 +10,11 @@ from lark import Tree
 from ..errors import DeckError, suggest
 from ..model import DIRECTIONS, Combination, Model
 from ..notes import Note
-from . import checks
+from . import model_checks
 from . import units as U
-from .checks import COINCIDENT
 from .definitions import Definitions
 from .expressions import Evaluator
+from .model_checks import COINCIDENT
 from .plausible import model_warnings
 
 __all__ = ["build"]
@@ -33,9 +33,9 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list) -> Model:
     tol = COINCIDENT * float(np.linalg.norm(hi - lo))
     conn, cols, up, releases, truss = _members(defs, mems, node_names, nidx, coords, tol)
     axis = coords[conn[:, 1]] - coords[conn[:, 0]]
-    checks.huge_members(mems, cols, axis)
-    notes.extend(checks.parallel_members(mems, conn))
-    notes.extend(checks.leaning_members(mems, axis, cols, up, truss))
+    model_checks.huge_members(mems, cols, axis)
+    notes.extend(model_checks.parallel_members(mems, conn))
+    notes.extend(model_checks.leaning_members(mems, axis, cols, up, truss))
     restraint = _restraints(defs, nidx, notes)
     springs = _springs(defs, nidx, restraint, notes)
     on_member = np.zeros(len(node_names), bool)
@@ -46,13 +46,13 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list) -> Model:
     midx = {m["name"]: k for k, m in enumerate(mems)}
     reading = ev.scope()
     cases = [build_case(c, nidx, midx) for c in defs.cases]
-    notes.extend(checks.loads_on_supports(cases, restraint, node_names))
+    notes.extend(model_checks.loads_on_supports(cases, restraint, node_names))
     used = on_member | restraint.any(axis=1) | (springs > 0).any(axis=1) | (pmass > 0).any(axis=1)
     for c in cases:
         for item in c.loads:
             if item.kind in ("force", "moment", "displacement", "velocity"):
                 used[item.targets] = True
-    notes.extend(checks.coincident_nodes(defs.nodes, node_names, coords, tol, used))
+    notes.extend(model_checks.coincident_nodes(defs.nodes, node_names, coords, tol, used))
     names = {c.name for c in cases if c.kind == "static"}
     combos = []
     for nm, tree, where, scope in defs.combos:
@@ -61,7 +61,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list) -> Model:
     ev.use_scope(reading)
     modal = [c.name for c in cases if c.kind == "modes"]
     if modal:
-        notes.extend(checks.massless_materials(defs.materials, defs.defined, mems, cols["carried_mass"], modal))
+        notes.extend(model_checks.massless_materials(defs.materials, defs.defined, mems, cols["carried_mass"], modal))
     _response_sources(cases, names | {cb.name for cb in combos}, names, modal)
     model = Model(title=defs.title, node_names=node_names, coords=coords,
                   member_names=[m["name"] for m in mems], conn=conn, truss=truss,
@@ -128,12 +128,12 @@ def _restraints(defs: Definitions, nidx, notes) -> np.ndarray:
             # wider pattern sweeping over a node supported on its own does not (pin one end, then
             # support N* (uy, uz))
             if k in first and len(hit) <= first[k][1] and \
-                    checks.repeated_support(nm, dirs, restraint[k], where, first[k][0]):
+                    model_checks.repeated_support(nm, dirs, restraint[k], where, first[k][0]):
                 again.append(f"{nm} (at {first[k][0]})")
             first.setdefault(k, (where, len(hit)))
             restraint[k, cols_] = True
         if again:
-            notes.append(checks.support_repeats(where, again))
+            notes.append(model_checks.support_repeats(where, again))
     return restraint
 
 
@@ -149,7 +149,7 @@ def _springs(defs: Definitions, nidx, restraint, notes) -> np.ndarray:
                     held.append(f"{nm} {d}")
                 acting += v > 0
         if held and len(held) == acting:           # it acts nowhere: every spring of it is held
-            notes.append(checks.idle_spring(where, held))
+            notes.append(model_checks.idle_spring(where, held))
     return springs
 
 
@@ -174,7 +174,7 @@ def _masses(defs: Definitions, nidx, restraint, springs, on_member, turned, note
                                 "mass would not move with the structure and would be left out of its modes",
                                 where, "connect the node with a member, or put the mass on a node of the structure")
         if idle:
-            notes.append(checks.idle_inertia(where, idle))
+            notes.append(model_checks.idle_inertia(where, idle))
     return pmass
 
 

@@ -10,7 +10,7 @@ The reader in parts, in the order a deck flows through them::
     statements.py   each statement checked and recorded in ...
     definitions.py  ... the located definitions and their name spaces
     build.py        the Model's arrays from the definitions (case_options.py builds each case)
-    checks.py       located notes on what reads but is probably not meant (plausible.py: sizes)
+    model_checks.py located notes on what reads but is probably not meant (plausible.py: sizes)
     tables.py       CSV tables named by cases
 """
 
@@ -45,7 +45,8 @@ class _Reader(CaseOptions):
         self.statements = Statements(self.sources, self.ev, self.defs, self.warnings)
         self.loc = self.sources.loc
         self.token_file, self.stack = self.sources.token_file, self.sources.stack
-        self.value, self.vector, self.name, self.use_scope = self.ev.value, self.ev.vector, self.ev.name, self.ev.use_scope
+        self.value, self.vector, self.name = self.ev.value, self.ev.vector, self.ev.name
+        self.use_scope = self.ev.use_scope
         self.targets, self.once = self.defs.targets, self.defs.once
 
     @property
