@@ -58,6 +58,7 @@ class _Reader(CaseOptions):
         self.ev.assumed = value
 
     def note(self, location, text: str, kind: str = "warning") -> None:
+        """Record a located note (for the case options, which append plain texts today)."""
         self.warnings.append(Note(location, text, kind))
 
     def read_table(self, rel: str, where, deck_file: Path):
