@@ -78,7 +78,8 @@ class Model:
     restraint : (n, 6) bool, restrained DOFs
     springs : (n, 6) spring stiffness to ground, N/m or N m/rad
     point_mass : (n, 6) mass and rotary inertia at nodes, kg and kg m^2
-    warnings : "file:line:column: warning: ..." texts the reader found worth saying, not refusing
+    warnings : what the reader found worth saying, not refusing: fem.notes.Note (str(note) is
+        "file:line:column: warning: ..."); some are still plain texts of that form
     """
 
     title: str
@@ -112,7 +113,7 @@ class Model:
     settings: dict = field(default_factory=dict)
     source: str = ""
     overrides: dict[str, str] = field(default_factory=dict)   # let parameters set from outside, name -> text
-    warnings: list[str] = field(default_factory=list)   # located notes from reading the deck
+    warnings: list = field(default_factory=list)   # located notes from reading the deck
 
     @property
     def n_nodes(self) -> int:

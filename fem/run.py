@@ -334,7 +334,7 @@ def _write(model: Model, results: list[StaticResult], modal: list[ModesCaseResul
                   "bounding_box_m": [lo.tolist(), hi.tolist()],
                   "assembled_mass_kg": model.settings["_assembled_mass"].tolist(),
                   "stiffness_condition_estimate": model.settings.get("_condition"),
-                  "mass_check_pass": _mass_ok(model), "warnings": list(model.warnings),
+                  "mass_check_pass": _mass_ok(model), "warnings": [str(w) for w in model.warnings],
                   "overrides": dict(model.overrides),
                   "cases_asked": (None if "_cases_asked" not in model.settings else
                                   dict(zip(("asked", "needed"), model.settings["_cases_asked"])))},

@@ -37,17 +37,19 @@ def test_supports_that_add_directions_add_up_and_a_repeat_is_a_warning():
     assert m.restraint[2].tolist() == [True, True, True, False, False, False]
     assert m.warnings == []
     m = read_text(HEAD + "support A fixed\n")
-    assert m.warnings == [f"deck.deck:{N_HEAD + 1}:1: warning: this support repeats an earlier one at 1 node(s), "
-                          "A (at deck.deck:8:1); remove one of them"]
+    assert [str(w) for w in m.warnings] == [
+        f"deck.deck:{N_HEAD + 1}:1: warning: this support repeats an earlier one at 1 node(s), "
+        "A (at deck.deck:8:1); remove one of them"]
     assert m.restraint[0].all()
 
 
 def test_a_spring_on_a_supported_direction_is_a_warning():
     # foundation springs left under a fixed support do nothing
     m = read_text(HEAD + "spring A (uz = 1e8 N/m, rx = 0)\nspring C (uz = 1e6 N/m)\n")
-    assert m.warnings == [f"deck.deck:{N_HEAD + 1}:1: warning: this spring acts only where a support already holds "
-                          "the node (1: A uz), so it has no effect; to model a flexible support, leave those "
-                          "directions out of the support"]
+    assert [str(w) for w in m.warnings] == [
+        f"deck.deck:{N_HEAD + 1}:1: warning: this spring acts only where a support already holds "
+        "the node (1: A uz), so it has no effect; to model a flexible support, leave those "
+        "directions out of the support"]
     # a pattern of springs that also reaches free nodes (a beam on an elastic bed, one end fixed) is fine
     assert read_text(HEAD + "spring * (uz = 1e6 N/m)\n").warnings == []
 
@@ -57,8 +59,9 @@ def test_a_spring_on_a_supported_direction_is_a_warning():
 def test_a_reversed_loop_range_is_a_warning_given_once():
     m = read_text(HEAD + "for k in 0..2 {\nfor i in 3..1 { node Q[i] = (i*1 m, 1 m, 0) } }\n")
     assert m.n_nodes == 3
-    assert m.warnings == [f"deck.deck:{N_HEAD + 2}:1: warning: loop range 3..1 is empty (a range counts up), so "
-                          "its statements are skipped; write 1..3 to run them"]
+    assert [str(w) for w in m.warnings] == [
+        f"deck.deck:{N_HEAD + 2}:1: warning: loop range 3..1 is empty (a range counts up), so "
+        "its statements are skipped; write 1..3 to run them"]
 
 
 @pytest.mark.parametrize("kind,loads", [("free", "start = D"), ("history", "force C = (1 kN, 0, 0), time = step")])
@@ -235,7 +238,7 @@ def test_a_case_that_would_compute_nothing_or_else_is_refused(body, message, car
 def test_a_load_only_on_held_directions_is_a_warning():
     # every node it names is held where it pushes: it moves nothing
     m = read_text(HEAD + "case D static { force A = (1 kN, 0, 0), moment A = (0, 0, 1 kN*m) }\n")
-    assert m.warnings == [
+    assert [str(w) for w in m.warnings] == [
         f"deck.deck:{N_HEAD + 1}:17: warning: case D: this force acts only in directions a support holds (A ux), so "
         "it goes straight into the support and moves nothing; check the node names or pattern",
         f"deck.deck:{N_HEAD + 1}:41: warning: case D: this moment acts only in directions a support holds (A rz), "
@@ -246,8 +249,9 @@ def test_a_load_only_on_held_directions_is_a_warning():
 
 def test_a_case_named_twice_in_a_combination_is_a_warning():
     m = read_text(HEAD + "case D static { force C = (1 kN, 0, 0) }\ncombo U = 1.35*D + 1.5*D\n")
-    assert m.warnings == [f"deck.deck:{N_HEAD + 2}:20: warning: case D appears more than once in this combination; "
-                          "its factors add up to 2.85"]
+    assert [str(w) for w in m.warnings] == [
+        f"deck.deck:{N_HEAD + 2}:20: warning: case D appears more than once in this combination; "
+        "its factors add up to 2.85"]
     assert m.combinations[0].factors == {"D": pytest.approx(2.85)}
 
 
@@ -333,6 +337,6 @@ def test_spectrum_direction_factors_written_as_percent_numbers_are_warned():
 def test_a_group_of_nodes_and_members_used_for_nodes_is_warned():
     # support MIX fixed takes the group's nodes only; its members are left out, said once
     m = read_text(HEAD + "group MIX = C, M\nsupport MIX fixed\nsupport MIX fixed\n")
-    w = [x for x in m.warnings if "group 'MIX'" in x]
+    w = [str(x) for x in m.warnings if "group 'MIX'" in str(x)]
     assert len(w) == 1 and "also holds 1 name(s) that are not a node" in w[0]
     assert w[0].startswith(f"deck.deck:{N_HEAD + 2}:9: warning:")

@@ -11,8 +11,9 @@ from pathlib import Path
 import pytest
 
 from fem.cli import main
-from fem.deck import reader
-from fem.deck.reader import MAX_NESTING, read_deck, read_text
+from fem.deck import sources
+from fem.deck.expressions import MAX_NESTING
+from fem.deck.reader import read_deck, read_text
 from fem.errors import DeckError
 from fem.sections import generic, pipe
 
@@ -254,14 +255,14 @@ def test_check_of_a_deck_that_is_not_a_file_exits_2(deck, message, capsys):
 def test_deck_above_the_size_limit_is_refused_before_reading(folder):
     big = folder / "big.deck"
     with open(big, "wb") as f:           # sparse: nothing is written to disk, and nothing is read
-        f.truncate(reader.MAX_DECK_BYTES + 1)
+        f.truncate(sources.MAX_DECK_BYTES + 1)
     with pytest.raises(DeckError, match=r"the deck 'big.deck' is 8 MB, above the limit of 8 MB of deck text"):
         read_deck(big)
 
 
 def test_deck_and_includes_count_together(folder, monkeypatch):
     top = BASE + 'include "a.deck"\n'
-    monkeypatch.setattr(reader, "MAX_DECK_BYTES", len(top) + 50)
+    monkeypatch.setattr(sources, "MAX_DECK_BYTES", len(top) + 50)
     (folder / "a.deck").write_text("# " + "x" * 100 + "\n")
     (folder / "top.deck").write_text(top)
     with pytest.raises(DeckError, match=r"the deck and its includes would be over .* MB, above the limit") as err:
@@ -272,7 +273,7 @@ def test_deck_and_includes_count_together(folder, monkeypatch):
 
 
 def test_table_above_its_size_limit(folder, monkeypatch):
-    monkeypatch.setattr(reader, "MAX_TABLE_BYTES", 100)
+    monkeypatch.setattr(sources, "MAX_TABLE_BYTES", 100)
     (folder / "rec.csv").write_text("".join(f"{k * 0.01:.2f}, 0.1\n" for k in range(50)))
     case = ('case H history { ground = (0.1 gee, 0, 0), table = "rec.csv", duration = 1 s, step = 0.01 s, '
             'damping = 2 percent }\ncase M modes { count = 1 }\n')

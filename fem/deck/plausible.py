@@ -58,6 +58,7 @@ import math
 import numpy as np
 
 from ..model import Model
+from ..notes import Note
 
 __all__ = ["DENSITY_RANGE", "EG_RANGE", "E_RANGE", "LENGTH_OUTLIER", "SECTION_OF_MODEL", "SLENDER", "model_warnings",
            "section_extent"]
@@ -117,20 +118,20 @@ def _rescue(value: float, band: tuple, typical: float, factors) -> tuple[float, 
 _THOUSANDS = [(1000.0 ** n, f"a unit prefix off by {1000 ** abs(n):g}") for n in (1, -1, 2, -2, 3, -3)]
 
 
-def _materials(model: Model, defined: dict) -> list[str]:
+def _materials(model: Model, defined: dict) -> list[Note]:
     used = set(model.member_material)
     out = []
     for name, mat in model.materials.items():
         if name not in used:
             continue
         where = defined.get(("material", name), (None, None))[1]
-        head = f"{where}: warning: material {name}: " if where else f"warning: material {name}: "
+        head = f"material {name}: "
         if not E_RANGE[0] <= mat.E <= E_RANGE[1]:
             fix = _rescue(mat.E, E_RANGE, _TYPICAL_E, _THOUSANDS)
-            out.append(head + f"E = {_pressure(mat.E)} is outside the range of structural materials "
-                       f"({_pressure(E_RANGE[0])} to {_pressure(E_RANGE[1])}; timber about 7-20 GPa, concrete "
-                       "27-44 GPa, aluminium 70 GPa, steel 210 GPa)"
-                       + (f"; did you mean {_pressure(fix[0])}?" if fix else "; check its unit"))
+            out.append(Note(where, head + f"E = {_pressure(mat.E)} is outside the range of structural materials "
+                            f"({_pressure(E_RANGE[0])} to {_pressure(E_RANGE[1])}; timber about 7-20 GPa, concrete "
+                            "27-44 GPa, aluminium 70 GPa, steel 210 GPa)"
+                            + (f"; did you mean {_pressure(fix[0])}?" if fix else "; check its unit")))
         if mat.density > 0 and not DENSITY_RANGE[0] <= mat.density <= DENSITY_RANGE[1]:
             g = 9.80665               # standard gravity, m/s^2
             # a prefix off by 1000 first (t/m^3 or g/cm^3 for kg/m^3), then a unit weight typed
@@ -139,10 +140,10 @@ def _materials(model: Model, defined: dict) -> list[str]:
                    or _rescue(mat.density, DENSITY_RANGE, _TYPICAL_DENSITY,
                               [(1 / g, "a unit weight in N/m^3 written as a density"),
                                (1000 / g, "a unit weight in kN/m^3 written as a density")]))
-            out.append(head + f"density = {_g(mat.density)} kg/m^3 is outside the range of structural materials "
-                       f"({_g(DENSITY_RANGE[0])} to {_g(DENSITY_RANGE[1])} kg/m^3; timber about 350-700, concrete "
-                       "2400, aluminium 2700, steel 7850)"
-                       + (f"; did you mean {_g(fix[0])} kg/m^3 ({fix[1]})?" if fix else "; check its unit"))
+            out.append(Note(where, head + f"density = {_g(mat.density)} kg/m^3 is outside the range of structural materials "
+                            f"({_g(DENSITY_RANGE[0])} to {_g(DENSITY_RANGE[1])} kg/m^3; timber about 350-700, concrete "
+                            "2400, aluminium 2700, steel 7850)"
+                            + (f"; did you mean {_g(fix[0])} kg/m^3 ({fix[1]})?" if fix else "; check its unit")))
         ratio = mat.E / mat.G
         if not EG_RANGE[0] <= ratio <= EG_RANGE[1]:
             fix = _rescue(ratio, EG_RANGE, 2.6, [(1 / f, why) for f, why in _THOUSANDS])
@@ -150,12 +151,12 @@ def _materials(model: Model, defined: dict) -> list[str]:
             what = (f"means a Poisson's ratio nu = E/(2G) - 1 = {nu:.3g} below 0, which no structural material "
                     "has (steel 0.3, concrete 0.2)" if ratio < EG_RANGE[0] else
                     "is more than any structural material has (steel 2.6, timber about 16)")
-            out.append(head + f"E/G = {_g(ratio)} {what}"
-                       + (f"; did you mean G = {_pressure(mat.E / fix[0])}?" if fix else "; check G or nu"))
+            out.append(Note(where, head + f"E/G = {_g(ratio)} {what}"
+                            + (f"; did you mean G = {_pressure(mat.E / fix[0])}?" if fix else "; check G or nu")))
     return out
 
 
-def _members(model: Model, mem_loc: list, sections: dict, assume_length) -> list[str]:
+def _members(model: Model, mem_loc: list, sections: dict, assume_length) -> list[Note]:
     """Sections against their members' length; members against the median member length."""
     e = model.n_members
     if not e:
@@ -174,11 +175,11 @@ def _members(model: Model, mem_loc: list, sections: dict, assume_length) -> list
         if not len(bad):
             return
         k = bad[0]
-        out.append(f"{mem_loc[k]}: warning: member {model.member_names[k]}: {text(k)}")
+        out.append(Note(mem_loc[k], f"member {model.member_names[k]}: {text(k)}"))
         if len(bad) > 1:
             names = ", ".join(model.member_names[j] for j in bad[1:1 + SHOWN])
             more = f" and {len(bad) - 1 - SHOWN} more" if len(bad) > 1 + SHOWN else ""
-            out.append(f"{mem_loc[bad[1]]}: warning: {len(bad) - 1} more members {alike}: {names}{more}")
+            out.append(Note(mem_loc[bad[1]], f"{len(bad) - 1} more members {alike}: {names}{more}"))
 
     slip = ""
     if assume_length is not None and assume_length[1] < 1:
@@ -212,8 +213,8 @@ def _members(model: Model, mem_loc: list, sections: dict, assume_length) -> list
 
 
 def model_warnings(model: Model, defined: dict, mem_loc: list, sections: dict,
-                   assume_length=None) -> list[str]:
-    """Located plausibility warnings of a built model.
+                   assume_length=None) -> list[Note]:
+    """Located plausibility warnings of a built model, as Notes.
 
     defined: (space, name) -> (kind, Location) as the reader keeps it (materials are located
     at their statement); mem_loc: the Location of each member's statement, in model order;

@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-__all__ = ["DIMENSIONS", "UNITS", "Quantity", "dim_name", "unit_suggestion", "unit_value"]
+__all__ = ["DIMENSIONS", "UNITS", "UNIT_EXAMPLES", "Quantity", "dim_name", "unit_remedy", "unit_suggestion", "unit_value"]
 
 # Our choice: no formula of this field raises a unit beyond a small power (m^4 for a second
 # moment of area); a larger one is a typing slip, and its exponent would grow without bound.
@@ -131,3 +131,31 @@ def unit_suggestion(word: str) -> str | None:
         return _SPELLINGS[word]
     lower = {u.lower(): u for u in UNITS}
     return lower.get(word.lower()) or _SPELLINGS.get(word.lower())
+
+
+# an example of a value with its unit for each dimension a deck asks for, and the assume that
+# would let bare numbers stand for it (None where no single assume does)
+UNIT_EXAMPLES = {
+    LENGTH: ("6 m", "length in m"), MASS: ("2.5 t", "mass in t"), TIME: ("0.01 s", "time in s"),
+    FORCE: ("12 kN", "force in kN"), PRESSURE: ("210 GPa", "stress in MPa"),
+    DENSITY: ("7850 kg/m^3", None), ACCEL: ("0.25 gee", None), MOMENT: ("20 kN*m", None),
+    FREQ: ("5 Hz", None), (1, 0, -2): ("4 kN/m", None), (1, -1, 0): ("12 kg/m", None),
+    (1, 2, 0): ("0.4 t*m^2", None),
+}
+
+
+def unit_remedy(need, got) -> str:
+    """A hint for a value of the wrong kind that is a common slip: a weight for a mass (divide by
+    g0), a period for a frequency, a translational stiffness for a rotational one."""
+    weight = tuple(a + b for a, b in zip(need, ACCEL))
+    if got == weight:
+        example = {MASS: "25 kN / g0", DENSITY: "78.5 kN/m^3 / g0", (1, -1, 0): "0.5 kN/m / g0"}
+        return (f"this is a weight: divide by g0 for {dim_name(need)}"
+                + (f", e.g. {example[need]}" if need in example else ""))
+    if need == FREQ and got == TIME:
+        return "a frequency is one over the period: write it in Hz or rpm, or as 1 / (0.5 s)"
+    if need == TIME and got == FREQ:
+        return "a time is one over the frequency: write it in s, or as 1 / (2 Hz)"
+    if need == MOMENT and got == (1, 0, -2):
+        return "a rotational stiffness is a moment per radian, e.g. rz = 2e5 N*m"
+    return ""

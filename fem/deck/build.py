@@ -1,0 +1,284 @@
+"""Building the Model's arrays from a deck's located definitions: node coordinates, member
+connectivity and properties (releases, up vectors), supports, springs, point masses, the cases
+and the combinations' factors, with the model checks run on the way."""
+
+from __future__ import annotations
+
+import numpy as np
+from lark import Tree
+
+from ..errors import DeckError, suggest
+from ..model import DIRECTIONS, Combination, Model
+from ..notes import Note
+from . import model_checks
+from . import units as U
+from .definitions import Definitions
+from .expressions import Evaluator
+from .model_checks import COINCIDENT
+from .plausible import model_warnings
+
+__all__ = ["build"]
+
+_COLUMNS = ("E", "G", "rho", "A", "Iy", "Iz", "J", "Avy", "Avz", "roll", "carried_mass")
+
+
+def build(defs: Definitions, ev: Evaluator, build_case, notes: list) -> Model:
+    """The Model of the definitions; `build_case(case, nidx, midx)` makes each case from its
+    statement, and the notes found on the way are added to `notes` (the model's warnings)."""
+    node_names = list(defs.nodes)
+    nidx = {n: k for k, n in enumerate(node_names)}
+    coords = np.array([defs.nodes[n][0] for n in node_names]).reshape(-1, 3)
+    mems = list(defs.members.values())
+    lo, hi = (coords.min(axis=0), coords.max(axis=0)) if len(coords) else (np.zeros(3), np.zeros(3))
+    tol = COINCIDENT * float(np.linalg.norm(hi - lo))
+    conn, cols, up, releases, truss = _members(defs, mems, node_names, nidx, coords, tol)
+    axis = coords[conn[:, 1]] - coords[conn[:, 0]]
+    model_checks.huge_members(mems, cols, axis)
+    notes.extend(model_checks.parallel_members(mems, conn))
+    notes.extend(model_checks.leaning_members(mems, axis, cols, up, truss))
+    restraint = _restraints(defs, nidx, notes)
+    springs = _springs(defs, nidx, restraint, notes)
+    on_member = np.zeros(len(node_names), bool)
+    on_member[conn.ravel()] = True
+    turned = _rotation_stiffness(coords, conn, truss, releases, cols["roll"], up) > 0 \
+        if any((vec[3:] > 0).any() for _, vec, _ in defs.masses) else np.ones((len(node_names), 3), bool)
+    pmass = _masses(defs, nidx, restraint, springs, on_member, turned, notes)
+    midx = {m["name"]: k for k, m in enumerate(mems)}
+    reading = ev.scope()
+    cases = [build_case(c, nidx, midx) for c in defs.cases]
+    notes.extend(model_checks.loads_on_supports(cases, restraint, node_names))
+    used = on_member | restraint.any(axis=1) | (springs > 0).any(axis=1) | (pmass > 0).any(axis=1)
+    for c in cases:
+        for item in c.loads:
+            if item.kind in ("force", "moment", "displacement", "velocity"):
+                used[item.targets] = True
+    notes.extend(model_checks.coincident_nodes(defs.nodes, node_names, coords, tol, used))
+    names = {c.name for c in cases if c.kind == "static"}
+    combos = []
+    for nm, tree, where, scope in defs.combos:
+        ev.use_scope(scope)             # the parameters where the combination is written
+        combos.append(Combination(nm, _combo_factors(defs, ev, notes, tree, names), where))
+    ev.use_scope(reading)
+    modal = [c.name for c in cases if c.kind == "modes"]
+    if modal:
+        notes.extend(model_checks.massless_materials(defs.materials, defs.defined, mems, cols["carried_mass"], modal))
+    _response_sources(cases, names | {cb.name for cb in combos}, names, modal)
+    model = Model(title=defs.title, node_names=node_names, coords=coords,
+                  member_names=[m["name"] for m in mems], conn=conn, truss=truss,
+                  up=up, releases=releases, restraint=restraint, springs=springs,
+                  point_mass=pmass, materials=defs.materials, sections=defs.sections,
+                  member_section=[m["section"][0] for m in mems],
+                  member_material=[m["material"][0] for m in mems],
+                  cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes, **cols)
+    notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
+                                ev.assume_sites.get(U.LENGTH)))
+    return model
+
+
+def _members(defs: Definitions, mems, node_names, nidx, coords, tol):
+    """(conn (e, 2), property columns (e,) each, up (e, 3) NaN where not given, releases (e, 12),
+    truss (e,)), each member's nodes, section and material looked up where it names them."""
+    e = len(mems)
+    conn = np.zeros((e, 2), int)
+    cols = {k: np.zeros(e) for k in _COLUMNS}
+    up = np.full((e, 3), np.nan)
+    releases = np.zeros((e, 12), bool)
+    truss = np.zeros(e, bool)
+    loc = defs.loc
+    for k, m in enumerate(mems):
+        for end, col in (("i", 0), ("j", 1)):
+            nm, tok = m[end]
+            if nm not in nidx:
+                raise DeckError(f"member {m['name']}: node '{nm}' is not defined; {suggest(nm, node_names)}", loc(tok))
+            conn[k, col] = nidx[nm]
+        sname, tok = m["section"]
+        if sname not in defs.sections:
+            raise DeckError(f"member {m['name']} uses section '{sname}', which is not defined; {suggest(sname, defs.sections)}", loc(tok))
+        mname, tok = m["material"]
+        if mname not in defs.materials:
+            raise DeckError(f"member {m['name']} uses material '{mname}', which is not defined; {suggest(mname, defs.materials)}", loc(tok))
+        sp, mat = defs.sections[sname].props, defs.materials[mname]
+        for key, val in (("E", mat.E), ("G", mat.G), ("rho", mat.density), ("A", sp.A), ("Iy", sp.Iy),
+                         ("Iz", sp.Iz), ("J", sp.J), ("Avy", sp.Avy), ("Avz", sp.Avz),
+                         ("roll", m["roll"]), ("carried_mass", m["carried_mass"])):
+            cols[key][k] = val
+        releases[k] = m["releases"]
+        truss[k] = m["kind"] == "truss"
+        axis = coords[conn[k, 1]] - coords[conn[k, 0]]
+        length = float(np.linalg.norm(axis))
+        if conn[k, 0] == conn[k, 1] or length <= tol:
+            raise DeckError(f"member {m['name']} has zero length (its ends coincide within {tol:.3g} m, "
+                            f"{COINCIDENT:g} of the model size)", m["loc"])
+        if m["up"] is not None:
+            up[k] = _up_vector(m["up"], axis / length, m)
+    return conn, cols, up, releases, truss
+
+
+def _restraints(defs: Definitions, nidx, notes) -> np.ndarray:
+    """(n, 6) bool: the directions the supports hold at each node."""
+    restraint = np.zeros((len(nidx), 6), bool)
+    first = {}                    # node -> (location, node count) of the first support on it
+    for target, dirs, where in defs.supports:
+        cols_ = [DIRECTIONS.index(d) for d in dirs]
+        again = []
+        hit = defs.targets(target, nidx, "node")
+        for nm in hit:
+            k = nidx[nm]
+            # a later support as specific as the earlier one (no more nodes) means this node; a
+            # wider pattern sweeping over a node supported on its own does not (pin one end, then
+            # support N* (uy, uz))
+            if k in first and len(hit) <= first[k][1] and \
+                    model_checks.repeated_support(nm, dirs, restraint[k], where, first[k][0]):
+                again.append(f"{nm} (at {first[k][0]})")
+            first.setdefault(k, (where, len(hit)))
+            restraint[k, cols_] = True
+        if again:
+            notes.append(model_checks.support_repeats(where, again))
+    return restraint
+
+
+def _springs(defs: Definitions, nidx, restraint, notes) -> np.ndarray:
+    """(n, 6): the spring stiffness at each node and direction, N/m or N*m."""
+    springs = np.zeros((len(nidx), 6))
+    for target, vals, where in defs.springs:
+        held, acting = [], 0
+        for nm in defs.targets(target, nidx, "node"):
+            for d, v in vals.items():
+                springs[nidx[nm], DIRECTIONS.index(d)] += v
+                if v > 0 and restraint[nidx[nm], DIRECTIONS.index(d)]:
+                    held.append(f"{nm} {d}")
+                acting += v > 0
+        if held and len(held) == acting:           # it acts nowhere: every spring of it is held
+            notes.append(model_checks.idle_spring(where, held))
+    return springs
+
+
+def _masses(defs: Definitions, nidx, restraint, springs, on_member, turned, notes) -> np.ndarray:
+    """(n, 6): the point masses (kg) and rotary inertias (kg*m^2) at each node; a mass on a node
+    nothing holds is refused. `turned` (n, 3): the rotations some beam end keeps."""
+    pmass = np.zeros((len(nidx), 6))
+    for target, vec, where in defs.masses:
+        idle = {}
+        for nm in defs.targets(target, nidx, "node"):
+            k = nidx[nm]
+            pmass[k] += vec
+            # rotations that no beam end, support or spring holds carry no stiffness: the
+            # assembly holds them (a truss node's rotations), so inertia there does nothing
+            dead = (vec[3:] > 0) & ~turned[k] & ~restraint[k, 3:] & ~(springs[k, 3:] > 0)
+            if dead.any():
+                idle[nm] = ", ".join(d for d, x in zip(DIRECTIONS[3:], dead) if x)
+            loose = (vec[:3] > 0) & ~restraint[k, :3] & ~(springs[k, :3] > 0)
+            if not on_member[k] and loose.any():
+                dirs = ", ".join(d for d, x in zip(DIRECTIONS, loose) if x)
+                raise DeckError(f"mass on node {nm}, which no member, support or spring holds in {dirs}: the "
+                                "mass would not move with the structure and would be left out of its modes",
+                                where, "connect the node with a member, or put the mass on a node of the structure")
+        if idle:
+            notes.append(model_checks.idle_inertia(where, idle))
+    return pmass
+
+
+def _response_sources(cases, starts: set, names: set, modal: list) -> None:
+    """Each response case's static start and modes case, checked and written into its options
+    as names (the first modes case when it names none)."""
+    for c in cases:
+        if c.kind not in ("free", "history", "harmonic", "spectrum"):
+            continue
+        start = c.options.get("start")
+        if start and start[0] not in starts:
+            raise DeckError(f"case {c.name}: start '{start[0]}' is not a static case or combination; "
+                            f"{suggest(start[0], names)}", start[1])
+        mref = c.options.get("modes")
+        if mref and mref[0] not in modal:
+            raise DeckError(f"case {c.name}: '{mref[0]}' is not a modes case; {suggest(mref[0], modal)}", mref[1])
+        if not modal:
+            raise DeckError(f"case {c.name}: this case is computed from modes; add a modes case",
+                            c.location)
+        c.options["start"] = start[0] if start else None
+        c.options["modes"] = mref[0] if mref else modal[0]
+
+
+def _settings(given: dict) -> dict:
+    """The model settings from `settings` statements: mass (consistent or lumped), shear (on or off)."""
+    settings = {}
+    for key, (val, where) in given.items():
+        if key == "mass":
+            if val not in ("consistent", "lumped"):
+                raise DeckError("settings: mass must be 'consistent' or 'lumped'", where)
+            settings[key] = val
+        elif key == "shear":
+            if val not in ("on", "off"):
+                raise DeckError("settings: shear must be 'on' or 'off'", where)
+            settings[key] = val == "on"
+        else:
+            raise DeckError(f"settings: unknown key '{key}'; {suggest(key, ['mass', 'shear'])}", where)
+    return settings
+
+
+def _rotation_stiffness(coords, conn, truss, releases, roll, up) -> np.ndarray:
+    """(n, 3): for each node and global rotation, how much of it the beam ends there keep
+    (sum over ends of the kept local rotation axes' squared components): 0 where only truss
+    members or released ends meet, as on the diagonal of the assembled K."""
+    from ..elements.frame import local_axes
+
+    out = np.zeros((len(coords), 3))
+    beams = np.flatnonzero(~truss)
+    if not len(beams):
+        return out
+    xi, xj = coords[conn[beams, 0]], coords[conn[beams, 1]]
+    R, _ = local_axes(xi, xj, roll=roll[beams])
+    given = ~np.isnan(up[beams]).any(axis=1)
+    if given.any():
+        R[given] = local_axes(xi[given], xj[given], roll=roll[beams][given], up=up[beams][given])[0]
+    for end, first in ((0, 3), (1, 9)):
+        kept = ~releases[beams, first:first + 3]
+        np.add.at(out, conn[beams, end], np.einsum("bl,blg->bg", kept.astype(float), R ** 2))
+    out[out < 1e-12] = 0.0      # round-off of the axes of members along global axes
+    return out
+
+
+def _up_vector(up: np.ndarray, x: np.ndarray, m: dict) -> np.ndarray:
+    """The member's `up` vector as a unit vector, refused if zero or along the member axis x."""
+    big = float(np.abs(up).max())
+    if big == 0:
+        raise DeckError(f"member {m['name']}: the up vector is zero", m["loc"], "give a vector across the member")
+    u = up / big
+    u = u / np.linalg.norm(u)
+    if abs(float(u @ x)) > 1 - 1e-9:
+        raise DeckError(f"member {m['name']}: the up vector ({', '.join(f'{v:g}' for v in up)}) is parallel to "
+                        "the member axis, so it cannot set the local axes", m["loc"],
+                        "give a vector across the member (e.g. up = (1, 0, 0) for a vertical member), or leave it out")
+    return u
+
+
+def _combo_factors(defs: Definitions, ev: Evaluator, notes: list, t, cases: set[str]) -> dict[str, float]:
+    """A combination's expression as case name -> factor; `cases` the static cases."""
+    if isinstance(t, Tree) and t.data == "var":
+        n = str(t.children[0])
+        if n not in cases:
+            other = defs.defined.get(("result", n))
+            if other is not None:
+                kind = next((k for nm, k, *_ in defs.cases if nm == n), None)
+                what = f"a {kind} case" if other[0] == "case" else "a combination"
+                raise DeckError(f"combination refers to '{n}', which is {what} (at {other[1]}); a combination "
+                                "adds static cases only", ev.loc(t),
+                                "write out the static cases it is made of" if other[0] != "case" else "")
+            raise DeckError(f"combination refers to case '{n}', which is not defined; {suggest(n, cases)}", ev.loc(t))
+        return {n: 1.0}
+    if isinstance(t, Tree) and t.data in ("add", "sub"):
+        a, b = (_combo_factors(defs, ev, notes, c, cases) for c in t.children)
+        s = 1.0 if t.data == "add" else -1.0
+        for k, v in b.items():
+            if k in a:
+                notes.append(Note(ev.loc(t.children[1]), f"case {k} appears more than once in this combination; "
+                                                         f"its factors add up to {a[k] + s * v:g}"))
+            a[k] = a.get(k, 0.0) + s * v
+        return a
+    if isinstance(t, Tree) and t.data == "neg":
+        return {k: -v for k, v in _combo_factors(defs, ev, notes, t.children[0], cases).items()}
+    if isinstance(t, Tree) and t.data == "mul":
+        x, y = t.children
+        if isinstance(y, Tree) and y.data in ("var", "add", "sub", "neg", "mul"):
+            f = ev.value(x, U.NONE, "combination factor")
+            return {k: f * v for k, v in _combo_factors(defs, ev, notes, y, cases).items()}
+    raise DeckError("a combination is a sum of factor*CASE terms, e.g. 1.35*DEAD + 1.5*PIPES", ev.loc(t))

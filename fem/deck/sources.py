@@ -1,0 +1,226 @@
+"""Deck sources: the files a deck reads (the top deck, its includes, its tables), the stack of
+includes being read, and the Location of every token in them.
+
+Every file goes through one guarded path: its name must be one a file can have, its links must
+resolve, it must be a regular file inside the top deck's folder, below a size limit, and UTF-8.
+"""
+
+from __future__ import annotations
+
+import os
+import stat
+from contextlib import contextmanager
+from functools import lru_cache
+from importlib import resources
+from pathlib import Path
+
+from lark import Lark, Token, Tree
+
+from ..errors import DeckError, Location
+from .expressions import MAX_NESTING, too_deep
+from .syntax import keyword_callbacks
+from .syntax import parse as parse_deck_text
+
+__all__ = ["MAX_DECK_BYTES", "MAX_TABLE_BYTES", "Sources", "file_name", "read_utf8", "resolved"]
+
+# Our choice, from a measurement: a generated deck of node lines parsed at about 10-15 s and
+# 170 MB of memory per MB of deck (2-core machine shared with other jobs, load 4-9); `quaver
+# check` of an 8 MB one (176 000 node lines) took 190 s with a peak of 1.36 GB. So 8 MB, the
+# deck and its includes together, reads in minutes within about 1.5 GB; a deck of a hundred
+# thousand members written out line by line fits, and loops keep larger models short.
+MAX_DECK_BYTES = 8_000_000
+# Our choice: a table (two numbers a row, ~25 bytes) of 32 MB holds over a million rows, e.g.
+# 20 minutes of a record sampled at 1 kHz; read row by row at ~6 bytes of memory per byte.
+MAX_TABLE_BYTES = 32_000_000
+
+
+@lru_cache(maxsize=1)
+def _parser() -> Lark:
+    here = Path(__file__).resolve().parents[2] / "grammar" / "deck.lark"
+    text = here.read_text() if here.exists() else \
+        resources.files("fem.grammar").joinpath("deck.lark").read_text()
+    return Lark(text, parser="lalr", lexer="contextual", propagate_positions=True,
+                lexer_callbacks=keyword_callbacks())
+
+
+class Sources:
+    """The files of one deck: their lines, which file each token came from, the include stack
+    (the file being read last) and the deck text read so far."""
+
+    def __init__(self, top: Path):
+        self.top_dir = top.resolve().parent
+        self.stack: list[Path] = []
+        self.lines: dict[Path, list[str]] = {}
+        self.token_file: dict[int, Path] = {}
+        self.deck_bytes = 0                            # bytes of deck text read so far (all files)
+
+    def load(self, path: Path, where: Location | None = None) -> tuple[Path, Tree]:
+        """The deck file at `path` (the top deck, or an include named at `where`) checked, read
+        and parsed, its tokens located: (its resolved path, its tree)."""
+        path = resolved(path, "include" if where else "deck", where)
+        if path in self.stack:
+            raise DeckError(f"'{self.shown(path)}' includes itself (through {' -> '.join(self.shown(p) for p in self.stack)})", where)
+        if path == self.top_dir:
+            raise DeckError(f"include names the deck's own folder {self.top_dir}, not a file", where,
+                            "give the name of a deck file in it")
+        if self.top_dir not in path.parents:
+            raise DeckError(f"include '{path}' is outside the deck's folder {self.top_dir}", where,
+                            "keep included decks in the same folder as the top deck or below it")
+        text = read_utf8(path, "deck", where, self.shown(path), MAX_DECK_BYTES - self.deck_bytes,
+                         total=self.deck_bytes)
+        self.deck_bytes += len(text.encode("utf-8", errors="surrogatepass"))
+        self.lines[path] = text.splitlines()
+        tree = self.parse(text, path)
+        self.mark(tree, path)
+        return path, tree
+
+    def mark(self, tree: Tree, path: Path) -> None:
+        """Remember each item's file, once per file."""
+        for sub in tree.iter_subtrees():
+            sub.meta.qfile = path
+            for c in sub.children:
+                if isinstance(c, Token):
+                    self.token_file[id(c)] = path
+
+    @contextmanager
+    def reading(self, path: Path):
+        """`path` is the file being read while the block runs (the last resort of `loc`)."""
+        self.stack.append(path)
+        try:
+            yield
+        finally:
+            self.stack.pop()
+
+    def loc(self, item) -> Location:
+        meta = getattr(item, "meta", None)
+        path = self.token_file.get(id(item)) or getattr(meta, "qfile", None) or self.stack[-1]
+        if isinstance(item, Token):
+            line, col = item.line, item.column
+        else:
+            meta = item.meta
+            line, col = getattr(meta, "line", 1), getattr(meta, "column", 1)
+        src = self.lines[path][line - 1] if 0 < line <= len(self.lines[path]) else ""
+        return Location(self.shown(path), line, col, src)
+
+    def shown(self, path: Path) -> str:
+        """How a file is named in messages: its place below the top deck's folder (rack.deck,
+        parts/legs.deck), so that included files of the same name in different folders differ."""
+        try:
+            return str(path.relative_to(self.top_dir))
+        except ValueError:
+            return str(path)
+
+    def parse(self, text: str, path: Path) -> Tree:
+        tree = parse_deck_text(_parser(), text, Path(self.shown(path)))
+        deep = too_deep(tree)
+        if deep is not None:
+            sub, levels = deep
+            path = path.resolve()
+            self.lines.setdefault(path, text.splitlines())
+            with self.reading(path):
+                where = self.loc(sub)
+            raise DeckError(f"this is nested {levels} levels deep, above the limit of {MAX_NESTING} (each term of a "
+                            "sum or product, each sign and each enclosing loop is one level)", where,
+                            "split it with let parameters, e.g. let a = ... and let b = ..., then a + b")
+        return tree
+
+
+def file_name(name: str, what: str, where: Location | None) -> None:
+    """Refuse a file name that no file can have (empty, a NUL character, a part too long)."""
+    if not name:
+        raise DeckError(f"{what}: the file name is empty", where, 'write the name between the quotes: "legs.deck"'
+                        if what == "include" else 'write the name between the quotes: "record.csv"')
+    if "\0" in name:
+        raise DeckError(f"{what}: the file name holds a NUL character, which no file name can", where)
+    longest = max(len(part.encode("utf-8", errors="surrogatepass")) for part in name.split("/"))
+    if longest > 255 or len(name.encode("utf-8", errors="surrogatepass")) > 4095:
+        raise DeckError(f"{what}: the file name is longer than a file system allows ({longest} bytes in one part; "
+                        "the limit is 255, and 4095 for the whole path)", where)
+
+
+def resolved(path: Path, what: str, where: Location | None) -> Path:
+    """path.resolve(), with a name no file can have or a loop of links a DeckError."""
+    file_name(str(path), what, where)
+    try:
+        return path.resolve()
+    except (OSError, RuntimeError, ValueError) as exc:
+        reason = "its symbolic links form a loop" if isinstance(exc, RuntimeError) else \
+            getattr(exc, "strerror", None) or str(exc)
+        raise DeckError(f"{what} '{path}' cannot be followed: {reason}", where) from None
+
+
+def read_utf8(path: Path, what: str, where: Location | None, shown: str | None = None,
+              limit: int | None = None, total: int = 0) -> str:
+    """The text of a deck or table file, which must be UTF-8 (a UTF-8 byte-order mark is
+    allowed). A folder, anything but a regular file (a pipe or device, which could block or never
+    end), a file above `limit` bytes (checked before reading), an unreadable file or other bytes
+    are a DeckError that says what is wrong; `where` is the statement that named the file (None
+    for the top deck); `total` is the deck text already read from other files; `limit` is the
+    size limit of a deck or a table unless given."""
+    if limit is None:
+        limit = MAX_DECK_BYTES if what == "deck" else MAX_TABLE_BYTES
+    site = f" ({'included' if what == 'deck' else 'named'} at {where})" if where else ""
+    try:
+        info = os.stat(path)
+    except OSError as exc:
+        raise DeckError(f"cannot read {what} '{path}': {exc.strerror}", where) from None
+    if stat.S_ISDIR(info.st_mode):
+        inside = sorted(p.name for p in path.glob("*.deck"))[:5]
+        hint = f"decks in it: {', '.join(inside)}" if inside else "give the path of a file"
+        raise DeckError(f"{what} '{path}' is a folder, not a file", where, hint)
+    _regular(info, path, what, where)
+    _small_enough(info.st_size, path, what, where, limit, total)
+    try:
+        # non-blocking, so that a pipe put in the file's place after the check cannot hang the open
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+        with os.fdopen(fd, "rb") as f:
+            _regular(os.fstat(f.fileno()), path, what, where)
+            data = f.read(limit + 1)
+    except OSError as exc:
+        raise DeckError(f"cannot read {what} '{path}': {exc.strerror}", where) from None
+    _small_enough(len(data), path, what, where, limit, total)
+    fix = "save it as UTF-8 (in most editors: Save As, encoding UTF-8)"
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")) or (b"\x00" in data[:200] and data.count(b"\x00") * 4 > len(data)):
+        raise DeckError(f"{what} '{path.name}' is UTF-16 (or UTF-32) text; a {what} file must be UTF-8", where, fix)
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        start = data.rfind(b"\n", 0, exc.start) + 1
+        end = data.find(b"\n", exc.start)
+        raw = data[start:end if end >= 0 else len(data)]
+        line = data.count(b"\n", 0, exc.start) + 1
+        column = len(data[start:exc.start].decode("utf-8", errors="replace")) + 1
+        bad = data[exc.start]
+        guess = bytes([bad]).decode("cp1252", errors="replace")
+        like = f" ('{guess}' in the Windows/Latin-1 encoding)" if guess.isprintable() and guess != "\ufffd" else ""
+        src = raw.decode("utf-8", errors="replace").rstrip("\r")
+        raise DeckError(f"byte 0x{bad:02x}{like} is not UTF-8 text{site}; a {what} file must be UTF-8",
+                        Location(shown or path.name, line, column, src), fix) from None
+
+
+def _regular(info: os.stat_result, path: Path, what: str, where: Location | None) -> None:
+    if not stat.S_ISREG(info.st_mode):
+        kind = ("a named pipe" if stat.S_ISFIFO(info.st_mode) else "a device" if stat.S_ISCHR(info.st_mode)
+                or stat.S_ISBLK(info.st_mode) else "a socket" if stat.S_ISSOCK(info.st_mode) else "not a file")
+        raise DeckError(f"{what} '{path}' is {kind}, not a regular file", where,
+                        f"a {what} is read from an ordinary file saved on disk")
+
+
+def _small_enough(size: int, path: Path, what: str, where: Location | None, limit: int, total: int) -> None:
+    if size <= limit:
+        return
+    cap = MAX_DECK_BYTES if what == "deck" else MAX_TABLE_BYTES
+    if what == "deck":
+        whole = f"the deck and its includes would be over {_mb(total + size)}" if total else \
+            f"the deck '{path.name}' is {_mb(size)}"
+        raise DeckError(f"{whole}, above the limit of {_mb(cap)} of deck text (reading takes about 170 MB of "
+                        "memory per MB)", where, "write repeated nodes and members with for loops, which keeps "
+                        "a deck of any model size short")
+    raise DeckError(f"table '{path.name}' is {_mb(size)}, above the limit of {_mb(cap)} for a table", where,
+                    "thin the record to the time step the case uses, or cut it to the part of interest")
+
+
+def _mb(n: int) -> str:
+    return f"{n / 1e6:.3g} MB" if n < 1e12 else f"{n:.3g} bytes"
