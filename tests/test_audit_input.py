@@ -90,7 +90,7 @@ def _spectrum_deck(tmp_path: Path, csv: bytes, extra: str = "") -> Path:
 ])
 def test_table_layouts_read_alike(tmp_path, csv):
     m = read_deck(_spectrum_deck(tmp_path, csv))
-    sp = m.cases[-1].options["spectrum"]
+    sp = m.cases[-1].spectrum
     np.testing.assert_array_equal(sp.table, [[0, 0.3 * 9.80665], [0.5, 0.75 * 9.80665], [2, 0.2 * 9.80665]])
 
 

@@ -91,6 +91,7 @@ class _Reader(CaseOptions):
         self.springs: list = []
         self.masses: list = []
         self.cases: list = []
+        self.references: dict = {}      # response case -> (start, modes) as written: (name, where) or None
         self.combos: list = []
         self.settings: dict = {}
         self.defined: dict[tuple[str, str], tuple[str, Location]] = {}   # (space, name) -> (kind, where)
@@ -1039,18 +1040,15 @@ class _Reader(CaseOptions):
         for c in cases:
             if c.kind not in ("free", "history", "harmonic", "spectrum"):
                 continue
-            start = c.options.get("start")
+            start, mref = self.references[c.name]
             if start and start[0] not in names | {cb.name for cb in combos}:
                 raise DeckError(f"case {c.name}: start '{start[0]}' is not a static case or combination; "
                                 f"{suggest(start[0], names)}", start[1])
-            mref = c.options.get("modes")
             if mref and mref[0] not in modal:
                 raise DeckError(f"case {c.name}: '{mref[0]}' is not a modes case; {suggest(mref[0], modal)}", mref[1])
             if not modal:
                 raise DeckError(f"case {c.name}: this case is computed from modes; add a modes case",
                                 c.location)
-            c.options["start"] = start[0] if start else None
-            c.options["modes"] = mref[0] if mref else modal[0]
         settings = {}
         for key, (val, where) in self.settings.items():
             if key == "mass":
