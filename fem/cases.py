@@ -105,10 +105,10 @@ def _g(v: float) -> str:
 
 
 def _vector(v, n: int = 3) -> np.ndarray:
-    """A copy of v as a float array of n values (a case keeps its own)."""
+    """A copy of v as a float array of n finite values (a case keeps its own)."""
     out = np.array(v, dtype=float).reshape(-1)
-    if out.shape != (n,):
-        raise RuleError(f"expected {n} values, got {out.size}")
+    if out.shape != (n,) or not np.isfinite(out).all():
+        raise RuleError(f"expected {n} finite values, got {v!r}")
     return out
 
 
@@ -174,7 +174,7 @@ class Damping:
         if self.zeta is not None:
             z = np.array(self.zeta, dtype=float).reshape(-1)
             object.__setattr__(self, "zeta", z)
-            if not z.size or np.any(z < 0) or np.any(z >= 1):
+            if not z.size or not np.all((z >= 0) & (z < 1)):
                 big = z[z >= 1]
                 raise RuleError("damping: ratios lie from 0 to below 1 (e.g. 2 percent)", "damping",
                                 hint=f"{_g(big[0])} is {_g(100 * big[0])} %; for {_g(big[0])} % write "
@@ -182,7 +182,7 @@ class Damping:
         if self.rayleigh is not None:
             a0, a1 = coefficients = tuple(float(x) for x in self.rayleigh)
             object.__setattr__(self, "rayleigh", coefficients)
-            if a0 < 0 or a1 < 0 or a0 + a1 == 0:
+            if not (a0 >= 0 and a1 >= 0 and a0 + a1 > 0):
                 raise RuleError("rayleigh: the coefficients cannot be negative and not both zero", "rayleigh")
         if self.anchors is not None:
             f1, z1, f2, z2 = anchors = tuple(float(x) for x in self.anchors)
@@ -240,7 +240,7 @@ class _Case:
 
 
 def _whole(v, at_least: int, most: float, message: str, option: str) -> int:
-    if v != int(v) or not at_least <= v <= most:
+    if not (np.isfinite(v) and v == int(v) and at_least <= v <= most):
         raise RuleError(message, option)
     return int(v)
 
@@ -290,11 +290,11 @@ class ModesCase(_Case):
             object.__setattr__(self, "count", _whole(self.count, 1, np.inf,
                                                      f"case {name}: count must be a whole number of at least 1",
                                                      "count"))
-        if self.fmax is not None and self.fmax <= 0:
+        if self.fmax is not None and not self.fmax > 0:
             raise RuleError(f"case {name}: fmax must be positive", "fmax")
         if self.target is not None:
             object.__setattr__(self, "target", _vector(self.target))
-            if np.any(self.target < 0) or np.any(self.target > 1):
+            if not np.all((self.target >= 0) & (self.target <= 1)):
                 raise RuleError(f"case {name}: target: fractions of the mass from 0 to 100 percent", "target",
                                 hint="write them with their unit, e.g. target = (90 percent, 90 percent, 0)")
         object.__setattr__(self, "max_count", _whole(self.max_count, 1, np.inf,
@@ -340,7 +340,7 @@ class _Timed(_Response):
         object.__setattr__(self, "record", _record(self.record))
         name = self.name
         for key in ("duration", "step"):
-            if getattr(self, key) <= 0:
+            if not getattr(self, key) > 0:
                 raise RuleError(f"case {name}: {key} must be positive", key)
         if self.duration < self.step:
             raise RuleError(f"case {name}: duration {_g(self.duration)} s is shorter than the step "
@@ -450,14 +450,14 @@ class HarmonicCase(_Response):
         if self.ground is not None:
             object.__setattr__(self, "ground", _vector(self.ground))
         for key, value in (("from", self.fmin), ("to", self.fmax)):
-            if value <= 0:
+            if not value > 0:
                 raise RuleError(f"case {name}: {key} must be a positive frequency", key)
         object.__setattr__(self, "points", _whole(self.points, 2, 1_000_000,
                                                   f"case {name}: points is a whole number from 2 to a million",
                                                   "points"))
         if self.spacing not in ("linear", "log"):
             raise RuleError(f"case {name}: spacing is linear or log", "spacing")
-        if self.fmax <= self.fmin:
+        if not self.fmax > self.fmin:
             raise RuleError(f"case {name}: 'to' must be above 'from'")
         if not self.loads and self.ground is None:
             raise RuleError(f"case {name}: give force amplitudes or a ground acceleration")

@@ -75,6 +75,12 @@ RULES = [
     ("count", ModesCase, dict(count=1.5), "case C: count must be a whole number of at least 1"),
     ("count-0", ModesCase, dict(count=0), "case C: count must be a whole number of at least 1"),
     ("fmax", ModesCase, dict(fmax=0.0), "case C: fmax must be positive"),
+    # not a number is refused as out of range, not let through by a comparison that is false
+    ("count-inf", ModesCase, dict(count=float("inf")), "case C: count must be a whole number of at least 1"),
+    ("duration-nan", FreeCase, dict(modes="M", duration=float("nan"), step=0.1, start="P"),
+     "case C: duration must be positive"),
+    ("gravity-nan", StaticCase, dict(gravity=(0, float("nan"), 0)),
+     "expected 3 finite values"),
     ("target", ModesCase, dict(target=(1.2, 0, 0)), "case C: target: fractions of the mass from 0 to 100 percent"),
     ("max", ModesCase, dict(max_count=0), "case C: max must be a whole number of at least 1"),
     ("target-and-count", ModesCase, dict(target=(0.9, 0, 0), count=3), "give a mass target or count/fmax, not both"),
@@ -133,6 +139,7 @@ def test_rules_refused(cls, fields, message):
 DAMPING_RULES = [
     ("ratio-over-one", dict(zeta=2.0), "damping: ratios lie from 0 to below 1", "2 is 200 %; for 2 % write 2 percent"),
     ("negative", dict(zeta=(0.02, -0.01)), "damping: ratios lie from 0 to below 1", ""),
+    ("nan", dict(zeta=float("nan")), "damping: ratios lie from 0 to below 1", ""),
     ("two-forms", dict(zeta=0.02, rayleigh=(0.1, 0.001)), "give damping = ... or rayleigh = ..., not both", ""),
     ("coefficients", dict(rayleigh=(-0.1, 0.001)), "rayleigh: the coefficients cannot be negative", ""),
     ("same-anchors", dict(anchors=(2.0, 0.02, 2.0, 0.03)), "rayleigh: two different positive frequencies", ""),
