@@ -45,7 +45,7 @@ from typing import ClassVar, Union
 
 import numpy as np
 
-from .errors import Location
+from .errors import Location, suggest
 from .spectrum import Spectrum
 from .timefn import TimeFunction
 
@@ -413,10 +413,28 @@ class HistoryCase(_Timed):
             raise RuleError(f"case {name}: give loads or a ground acceleration")
         if self.correction and (self.ground is not None or self.grounds):
             raise RuleError(f"case {name}: the static correction applies to force loads only")
-        for fname in [item.time for item in self.loads] + [f for _, f in self.grounds]:
-            if fname is None and self.time is None or fname is not None and fname not in self.functions:
-                raise RuleError(f"case {name}: a load or ground follows time function {fname!r}, which the "
-                                "case does not define")
+        for what, fname in [(item.kind, item.time) for item in self.loads] + [("ground", f) for _, f in self.grounds]:
+            if fname is None and self.time is None:
+                message, hint = no_time_function(name, what)
+                raise RuleError(message, hint=hint)
+            if fname is not None and fname not in self.functions:
+                message, hint = function_not_defined(name, what, fname, self.functions)
+                raise RuleError(message, hint=hint)
+
+
+def function_not_defined(case: str, what: str, fname: str, named) -> tuple[str, str]:
+    """The message and hint for a load or ground of history case `case` that follows a time
+    function the case does not define (the deck reader points them at the name)."""
+    near = suggest(fname, named) if named else "this case names none"
+    return (f"case {case}: {what} follows time function '{fname}', which is not defined in the case; {near}",
+            f'define it in the case, e.g. time {fname} = halfsine(0.05 s) or table {fname} = "record.csv"')
+
+
+def no_time_function(case: str, what: str) -> tuple[str, str]:
+    """The message and hint for a load of history case `case` with no time function to follow."""
+    return (f"case {case}: this {what} has no time function",
+            "add 'times NAME' after it, with NAME defined in the case (time NAME = ...), "
+            "or give the case one time = shape(...) for all such loads")
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)

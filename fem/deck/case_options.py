@@ -23,6 +23,8 @@ from ..cases import (
     RuleError,
     SpectrumCase,
     StaticCase,
+    function_not_defined,
+    no_time_function,
 )
 from ..errors import DeckError, Location, suggest
 from ..limits import ROWS_LIMIT
@@ -214,11 +216,8 @@ class CaseOptions:
 
         def known(fname, where, what):
             if fname not in named:
-                hint = suggest(fname, named) if named else "this case names none"
-                raise DeckError(f"case {case.name}: {what} follows time function '{fname}', which is not defined "
-                                f"in the case; {hint}", where,
-                                f"define it in the case, e.g. time {fname} = halfsine(0.05 s) or "
-                                f'table {fname} = "record.csv"')
+                message, hint = function_not_defined(case.name, what, fname, named)
+                raise DeckError(message, where, hint)
             return fname
 
         grounds = [(self.vector(val, U.ACCEL, f"case {case.name}: ground"), known(fname, floc, "ground"))
@@ -227,9 +226,8 @@ class CaseOptions:
             if item.time is not None:
                 item.time = known(*item.time, item.kind)
             elif "time" not in extra:
-                raise DeckError(f"case {case.name}: this {item.kind} has no time function", item.location,
-                                "add 'times NAME' after it, with NAME defined in the case (time NAME = ...), "
-                                "or give the case one time = shape(...) for all such loads")
+                message, hint = no_time_function(case.name, item.kind)
+                raise DeckError(message, item.location, hint)
         out = self.timed_options(case, rest, nidx, history=True)
         out = self.typed(case, HistoryCase, **out, **extra, functions=named, grounds=tuple(grounds))
         self.table_rows(out, out.steps, "time steps", out.record, nidx, "a longer step")
