@@ -307,3 +307,11 @@ def test_examples_in_docstrings():
     import fem.cases
 
     assert doctest.testmod(fem.cases).failed == 0
+
+
+def test_cases_survive_pickling():
+    # models travel to worker processes (pictures, studies on Dask) by pickle
+    import pickle
+
+    cases = _python_cases()
+    assert all(a == b for a, b in zip(cases, pickle.loads(pickle.dumps(cases)), strict=True))
