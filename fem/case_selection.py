@@ -20,10 +20,7 @@ def _needs(model: Model, name: str) -> list[str]:
     combo = next((c for c in model.combinations if c.name == name), None)
     if combo is not None:
         return list(combo.factors)
-    case = next(c for c in model.cases if c.name == name)
-    if case.kind in ("free", "history", "harmonic", "spectrum"):
-        return [n for n in (case.options.get("modes"), case.options.get("start")) if n]
-    return []
+    return list(next(c for c in model.cases if c.name == name).needs)
 
 
 def select_cases(model: Model, names) -> tuple[Model, list[str]]:

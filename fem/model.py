@@ -10,12 +10,15 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .cases import Case, LoadItem
 from .errors import Location
 from .sections import SectionProps
 
 __all__ = ["DIRECTIONS", "Combination", "LoadCase", "LoadItem", "Material", "Model", "Section"]
 
 DIRECTIONS = ("ux", "uy", "uz", "rx", "ry", "rz")
+
+LoadCase = Case     # any of the typed cases of fem.cases (StaticCase, ModesCase, ...)
 
 
 @dataclass(frozen=True)
@@ -30,27 +33,6 @@ class Material:
 class Section:
     name: str
     props: SectionProps
-
-
-@dataclass
-class LoadItem:
-    kind: str                 # "force", "moment", "line"
-    targets: np.ndarray       # node or member indices
-    vector: np.ndarray        # (3,) SI, in the axes below
-    location: Location | None = None
-    axes: str = "global"      # "global", or "local": member x, y, z (line loads only)
-    time: str | None = None   # history cases: the name of the case's time function it follows
-                              # (None: the case's time = ...)
-
-
-@dataclass
-class LoadCase:
-    name: str
-    kind: str                               # "static", "modes", ...
-    loads: list[LoadItem] = field(default_factory=list)
-    gravity: np.ndarray | None = None       # (3,) m/s^2
-    options: dict = field(default_factory=dict)  # key -> (value, Location)
-    location: Location | None = None
 
 
 @dataclass
@@ -108,7 +90,7 @@ class Model:
     sections: dict[str, Section] = field(default_factory=dict)
     member_section: list[str] = field(default_factory=list)
     member_material: list[str] = field(default_factory=list)
-    cases: list[LoadCase] = field(default_factory=list)
+    cases: list[Case] = field(default_factory=list)      # typed cases (fem.cases), in deck order
     combinations: list[Combination] = field(default_factory=list)
     settings: dict = field(default_factory=dict)
     source: str = ""

@@ -101,18 +101,18 @@ def _solve_response(model, asm, c, by_name, modal_by, modal, lu) -> None:
     from .progress import stage
 
     if c.kind == "free":
-        start = by_name[c.options["start"]].u if c.options["start"] else None
-        modal.append(solve_free_case(model, asm, c, modal_by[c.options["modes"]], start))
+        start = by_name[c.start].u if c.start else None
+        modal.append(solve_free_case(model, asm, c, modal_by[c.modes], start))
     elif c.kind == "history":
         with stage(f"history case {c.name}: integrating"):
-            modal.append(solve_history_case(model, asm, c, modal_by[c.options["modes"]],
-                                            lu() if c.options.get("correction") else None))
+            modal.append(solve_history_case(model, asm, c, modal_by[c.modes],
+                                            lu() if c.correction else None))
     elif c.kind == "spectrum":
-        modal.append(solve_spectrum_case(model, asm, c, modal_by[c.options["modes"]],
-                                         lu() if c.options.get("missing") else None))
+        modal.append(solve_spectrum_case(model, asm, c, modal_by[c.modes],
+                                         lu() if c.missing else None))
     elif c.kind == "harmonic":
-        modal.append(solve_harmonic_case(model, asm, c, modal_by[c.options["modes"]],
-                                         lu() if c.options.get("correction") else None))
+        modal.append(solve_harmonic_case(model, asm, c, modal_by[c.modes],
+                                         lu() if c.correction else None))
 
 
 def unit_shape_mass_stiffness(r) -> tuple[np.ndarray, np.ndarray]:
@@ -469,12 +469,12 @@ def _report(model: Model, results: list, modal: list, doc: dict, out: Path, noti
             j = int(np.argmax(np.abs(x.u[:, :, :3]).max(axis=(0, 2))))
             node = model.node_names[x.record[j]]
             case = next(c for c in model.cases if c.name == x.name)
-            nat = modes[case.options["modes"]].modes.freq    # the modes this sweep was built on
+            nat = modes[case.modes].modes.freq    # the modes this sweep was built on
             images[x.name] = [(plots.plot_frf(pdir / f"{x.name}_frf.png", x, node, j, nat),
                                f"frequency response at {node}")]
         elif isinstance(x, SpectrumResult):
             case = next(c for c in model.cases if c.name == x.name)
-            images[x.name] = [(plots.plot_spectrum(pdir / f"{x.name}_spectrum.png", x, case.options["spectrum"]),
+            images[x.name] = [(plots.plot_spectrum(pdir / f"{x.name}_spectrum.png", x, case.spectrum),
                                "spectrum and modal periods")]
     write_report(out / "report.html", doc, images, notes=[notice] if notice.startswith("pictures skipped:") else [])
 

@@ -388,7 +388,7 @@ def test_times_outside_a_history_case_is_refused():
 
 def test_unused_time_function_is_warned():
     m = read_text(TWO % ("time = step, time SPARE = rect(0.1 s), force H = (1 kN, 0, 0)", ""))
-    w = [x for x in m.warnings if "SPARE" in x]
+    w = [str(x) for x in m.warnings if "SPARE" in str(x)]
     assert len(w) == 1 and w[0].startswith("deck.deck:11:") and "no load or ground follows it" in w[0]
 
 

@@ -145,7 +145,6 @@ def free_bytes(steps: int, modes: int, recorded: int) -> float:
 def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
                     start_u: np.ndarray | None) -> FreeCaseResult:
     """start_u (n, 6) deflected shape of the start case, or None."""
-    opt = case.options
     u0 = _nodal(model, case.loads, "displacement")
     v0 = _nodal(model, case.loads, "velocity")
     if start_u is not None:
@@ -158,15 +157,15 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     mu = M @ u0[f]
     total = float(u0[f] @ mu)
     captured = float(q0 @ q0 / total) if total > 0 else 1.0
-    t = np.arange(0.0, opt["duration"] + 0.5 * opt["step"], opt["step"])
-    recorded = model.n_nodes if opt["record"] is None else len(opt["record"])
+    t = np.arange(0.0, case.duration + 0.5 * case.step, case.step)
+    recorded = model.n_nodes if case.record is None else len(case.record)
     check_memory(free_bytes(len(t), len(omega), recorded),
                  f"case {case.name}: the free vibration of {len(t):,} steps x {len(omega)} modes x {recorded} "
                  "recorded nodes", f"use a longer step or a shorter duration, fewer modes (count or fmax of "
                  f'{modal.name}), or record fewer nodes (record = "NAME*")')
     q, _ = free_response(omega, zeta, q0, qd0, t)
     peak, peak_t = peaks(q, modal.shapes.reshape(6 * model.n_nodes, -1), t)
-    record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
+    record = case.record if case.record is not None else np.arange(model.n_nodes)
     sel = modal.shapes[record]                       # (r, 6, k)
     u = np.einsum("tk,rdk->trd", q, sel)
     # reactions and member end forces of each mode (K phi), superposed in time like the
@@ -182,7 +181,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     R0 = field_responses(model, asm, u0[None])[0][0]
     scale = float(np.abs(R0).max())
     start_error = float(np.abs(np.tensordot(q0, Rm, axes=(0, 0)) - R0).max() / scale) if scale > 0 else 0.0
-    warnings = step_warnings(opt["step"], omega, "the output and its peaks are",
+    warnings = step_warnings(case.step, omega, "the output and its peaks are",
                              "each sample is exact, the motion between samples is not seen")
     if start_error > START_FORCE_TOL:
         warnings += (f"the {k} retained modes miss up to {100 * start_error:.3g} % of the largest "

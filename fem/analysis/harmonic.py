@@ -135,21 +135,20 @@ def check_sweep(case: LoadCase, freqs: int, modes: int, recorded: int, supports:
 
 def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
                         lu=None) -> HarmonicResult:
-    opt = case.options
     n6 = 6 * model.n_nodes
     f = asm.free
     phi, omega = modal.modes.phi, modal.modes.omega
     zeta = case_ratios(case, omega)
-    F = effective_load(model, asm, case, opt.get("ground"))
+    F = effective_load(model, asm, case, case.ground)
     if np.any((zeta == 0) & (omega > 0)):
         nat = omega / (2 * np.pi)
-        inside = (nat >= opt["from"]) & (nat <= opt["to"]) & (zeta == 0)
+        inside = (nat >= case.fmin) & (nat <= case.fmax) & (zeta == 0)
         if inside.any():
             raise ModelError(f"case {case.name}: undamped modes inside the sweep have unbounded "
                              "response; give damping")
-    freq = sweep_frequencies(opt["from"], opt["to"], opt["points"], opt["spacing"],
+    freq = sweep_frequencies(case.fmin, case.fmax, case.points, case.spacing,
                              omega / (2 * np.pi), zeta)
-    record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
+    record = case.record if case.record is not None else np.arange(model.n_nodes)
     support = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
     members = np.flatnonzero(np.isin(model.conn, record).any(axis=1))
     member_rows = len(freq) * 2 * len(members)
@@ -159,7 +158,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     pk = phi.T @ F[f]                                              # (k,)
     H = pk[None, :] / (omega[None, :] ** 2 - W[:, None] ** 2 + 2j * zeta * omega * W[:, None])
     shapes = modal.shapes.reshape(n6, -1)
-    static = residual_static(F, asm, lu, shapes, omega, pk) if opt.get("correction") else None
+    static = residual_static(F, asm, lu, shapes, omega, pk) if case.correction else None
     peak, peak_f, peak_c = _amplitude_peaks(H, shapes, freq, static)
     # reactions and member end forces: per mode, superposed per frequency, with the static part
     # and, for member loads, minus the fixed-end forces (loads in phase with the excitation)
@@ -179,7 +178,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     # complex reactions at every support and end forces of the members at the recorded nodes
     reactions = np.einsum("wk,ksd->wsd", H, Rm[:, support]) + r_static.reshape(-1, 6)[support][None]
     warnings = tuple(f"{case.location}: warning: {w}" for w in
-                     ground_mass_warnings(case, modal, [opt["ground"]] if opt.get("ground") is not None else []))
+                     ground_mass_warnings(case, modal, [case.ground] if case.ground is not None else []))
     if not write_members:
         member_forces = None
         warnings += (f"{case.location}: warning: case {case.name}: the end-force table would have "

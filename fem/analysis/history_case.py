@@ -4,7 +4,8 @@ truncated modes for force loads (mode-acceleration method, Cornwell, Craig & Joh
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 
@@ -43,22 +44,28 @@ class HistoryResult:
     warnings: tuple = ()
 
 
+class _Part(NamedTuple):
+    """The loads and gravity of a history case that follow one time function."""
+
+    loads: tuple
+    gravity: np.ndarray | None
+
+
 def _groups(case: LoadCase) -> list:
     """The case's loads and ground accelerations grouped by the time function that scales them:
-    [(TimeFunction, sub-case with those loads, ground (3,) m/s^2 or None)]. Loads and a
+    [(TimeFunction, _Part with those loads, ground (3,) m/s^2 or None)]. Loads and a
     `ground = ...` without their own function follow the case's `time` (gravity too)."""
-    opt = case.options
-    functions = {None: opt.get("time"), **opt.get("functions", {})}
+    functions = {None: case.time, **case.functions}
     loads, ground = {}, {}
     for item in case.loads:
         loads.setdefault(getattr(item, "time", None), []).append(item)
-    if opt.get("ground") is not None:
-        ground[None] = np.asarray(opt["ground"], float)
-    for vec, name in opt.get("grounds", ()):
+    if case.ground is not None:
+        ground[None] = np.asarray(case.ground, float)
+    for vec, name in case.grounds:
         ground[name] = ground.get(name, 0.0) + np.asarray(vec, float)
     names = sorted(set(loads) | set(ground) | ({None} if case.gravity is not None else set()),
                    key=lambda x: "" if x is None else str(x))
-    return [(functions[k], replace(case, loads=loads.get(k, []), gravity=case.gravity if k is None else None),
+    return [(functions[k], _Part(tuple(loads.get(k, [])), case.gravity if k is None else None),
              ground.get(k)) for k in names]
 
 
@@ -75,11 +82,10 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
                        lu=None) -> HistoryResult:
     """Each group of loads with its own time function g_l adds its modal load
     phi^T F_l g_l(t) (superposition); the jumps and kinks of each g_l are integrated exactly."""
-    opt = case.options
     n6 = 6 * model.n_nodes
     f = asm.free
-    dt = opt["step"]
-    t = np.arange(0.0, opt["duration"] + 0.5 * dt, dt)
+    dt = case.step
+    t = np.arange(0.0, case.duration + 0.5 * dt, dt)
     n = len(t)
     phi, omega = modal.modes.phi, modal.modes.omega
     zeta = case_ratios(case, omega, below_one=True)
@@ -91,9 +97,9 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     kq, kv = np.zeros((n, k)), np.zeros((n, k))
     G, Gdot, statics, r_statics, m_statics = [], [], [], [], []
     a_ground = np.zeros((n, 3))
-    corrected = bool(opt.get("correction"))
+    corrected = case.correction
     groups = _groups(case)
-    recorded = model.n_nodes if opt["record"] is None else len(opt["record"])
+    recorded = model.n_nodes if case.record is None else len(case.record)
     check_memory(history_bytes(n, k, len(groups), recorded),
                  f"case {case.name}: the time history of {n:,} steps x {k} modes x {recorded} recorded nodes",
                  f"use a longer step or a shorter duration, fewer modes (count or fmax of {modal.name}), "
@@ -127,7 +133,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     peak, peak_t = peaks(qg, np.hstack([shapes, np.array(statics).T]), t)
     r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, np.array(r_statics).T]), t)
     m_peak, _ = peaks(qg, np.hstack([Fm.reshape(k, -1).T, np.array(m_statics).T]), t)
-    record = opt["record"] if opt["record"] is not None else np.arange(model.n_nodes)
+    record = case.record if case.record is not None else np.arange(model.n_nodes)
     full = np.concatenate([modal.shapes, np.array(statics).T.reshape(model.n_nodes, 6, -1)], axis=2)
     sel = modal.shapes[record]                               # (r, 6, k)
     u = np.einsum("tk,rdk->trd", qg, full[record])

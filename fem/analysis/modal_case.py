@@ -82,12 +82,11 @@ def shape_rows(case: LoadCase, model: Model, count: int, n_free: int, asked: str
 
 
 def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None) -> ModesCaseResult:
-    """Solve a modes case (options count, fmax, reference already checked by the reader).
+    """Solve a modes case (a `ModesCase`, its options checked on construction).
 
     `factor`: a `factor.SPDFactor` of K over the free DOFs already made (by the model's checks),
     used by shift-invert Lanczos at zero shift instead of factoring K again."""
-    count, fmax = case.options.get("count"), case.options.get("fmax")
-    point = case.options.get("reference", np.zeros(3))
+    count, fmax, point = case.n_modes, case.fmax, case.reference
     f = asm.free
     K, M = asm.K[f][:, f], asm.M[f][:, f]
     if len(f) == 0:
@@ -99,7 +98,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None) 
         shape_rows(case, model, min(count, len(f)), len(f),
                    f"count = {count} asks for all {len(f)} modes; " if count > len(f) else "")
     R = influence_vectors(model, point)[f]
-    target = case.options.get("target")
+    target = case.target
     cache = {} if factor is None else {"factor": (factor, 0.0)}
     if target is None:
         modes = solve_modes(K.tocsr(), M.tocsr(), n_modes=count, f_max=fmax, cache=cache)
@@ -117,7 +116,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None) 
                                   f"has only {len(modes.omega)}; all of them are computed")
     else:
         # add modes until the cumulative effective mass reaches the target in each direction
-        cap = min(case.options.get("max", 300), len(f))
+        cap = min(case.max_count, len(f))
         most = lanczos_limit(len(f))
         if cap > most:
             raise ModelError(f"case {case.name}: max = {cap} modes is more than one eigen solve of {len(f)} free "

@@ -57,11 +57,7 @@ class Soundness:
 def first_stiffness_case(model: Model) -> LoadCase | None:
     """The first case whose solution needs K^-1: a static case (combinations and free-case starts
     are built on them) or a history, harmonic or spectrum case with its static correction."""
-    for c in model.cases:
-        if c.kind == "static" or (c.kind in ("history", "harmonic") and c.options.get("correction")) \
-                or (c.kind == "spectrum" and c.options.get("missing")):
-            return c
-    return None
+    return next((c for c in model.cases if c.static_part), None)
 
 
 def examine(model: Model) -> tuple[Assembled, Soundness]:

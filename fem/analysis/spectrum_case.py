@@ -55,8 +55,7 @@ def _base(model, R):
 
 def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
                         lu=None) -> SpectrumResult:
-    opt = case.options
-    sp = opt["spectrum"]
+    sp = case.spectrum
     phi, omega = modal.modes.phi, modal.modes.omega
     if np.any(omega <= 0):
         raise ModelError(f"case {case.name}: rigid-body modes have no spectral response; "
@@ -71,9 +70,9 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     if outside:
         warnings += (f"{case.location}: warning: case {case.name}: {len(outside)} modal period(s) outside the "
                      "table: held below the first period, falling as 1/T^2 beyond the last",)
-    if not opt["missing"]:
+    if not case.missing:
         warnings += tuple(f"{case.location}: warning: {w}" for w in
-                          ground_mass_warnings(case, modal, [opt["directions"]], " or set missing = on"))
+                          ground_mass_warnings(case, modal, [case.directions], " or set missing = on"))
     rho = cqc_correlation(omega, zeta)
     f = asm.free
     n6 = 6 * model.n_nodes
@@ -82,7 +81,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     per_dir_u, per_dir_r, per_dir_m, sas, modal_u, missing_frac = [], [], [], [], [], []
     per_dir_b = []
     for d in range(3):
-        factor = opt["directions"][d]
+        factor = case.directions[d]
         if factor == 0:
             continue
         r = np.zeros((model.n_nodes, 6))
@@ -94,7 +93,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         Rm, Fm = field_responses(model, asm, U)
         total = float(r @ (M @ r))
         missing_frac.append(1 - float(np.sum(gamma**2)) / total if total > 0 else np.nan)   # 0/0: no mass moves
-        if opt["missing"]:
+        if case.missing:
             # residual rigid response: K^-1 M (r - sum gamma phi) at the zero-period acceleration,
             # one more term uncorrelated with every mode: SRSS with the modal combination under
             # srss and cqc, added absolutely under abs
@@ -108,17 +107,17 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
             U2, R2, F2, rr = np.r_[U, umm[None]], np.r_[Rm, Rmm], np.r_[Fm, Fmm], rho_x
         else:
             U2, R2, F2, rr = U, Rm, Fm, rho
-        per_dir_u.append(combine(U2.reshape(len(U2), -1, 6), opt["combine"], rr))
-        per_dir_r.append(combine(R2, opt["combine"], rr))
-        per_dir_m.append(combine(F2, opt["combine"], rr))
-        per_dir_b.append(combine(_base(model, R2), opt["combine"], rr))
+        per_dir_u.append(combine(U2.reshape(len(U2), -1, 6), case.combine, rr))
+        per_dir_r.append(combine(R2, case.combine, rr))
+        per_dir_m.append(combine(F2, case.combine, rr))
+        per_dir_b.append(combine(_base(model, R2), case.combine, rr))
         sas.append(sa)
         modal_u.append(U.reshape(len(U), -1, 6))
-    rule = opt["spatial"]
+    rule = case.spatial
     return SpectrumResult(case.name, combine_directions(per_dir_u, rule),
                           combine_directions(per_dir_r, rule), combine_directions(per_dir_m, rule),
-                          T, np.array(sas), zeta, opt["combine"], rule, opt["directions"],
-                          opt["missing"], np.array(missing_frac), outside,
+                          T, np.array(sas), zeta, case.combine, rule, case.directions,
+                          case.missing, np.array(missing_frac), outside,
                           combine_directions(per_dir_b, rule), sp.damping_factor(zeta), warnings)
 
 

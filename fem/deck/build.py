@@ -22,9 +22,10 @@ __all__ = ["build"]
 _COLUMNS = ("E", "G", "rho", "A", "Iy", "Iz", "J", "Avy", "Avz", "roll", "carried_mass")
 
 
-def build(defs: Definitions, ev: Evaluator, build_case, notes: list) -> Model:
+def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references: dict) -> Model:
     """The Model of the definitions; `build_case(case, nidx, midx)` makes each case from its
-    statement, and the notes found on the way are added to `notes` (the model's warnings)."""
+    statement, and the notes found on the way are added to `notes` (the model's warnings);
+    `references` holds each response case's start and modes case as written (name, where)."""
     node_names = list(defs.nodes)
     nidx = {n: k for k, n in enumerate(node_names)}
     coords = np.array([defs.nodes[n][0] for n in node_names]).reshape(-1, 3)
@@ -62,7 +63,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list) -> Model:
     modal = [c.name for c in cases if c.kind == "modes"]
     if modal:
         notes.extend(model_checks.massless_materials(defs.materials, defs.defined, mems, cols["carried_mass"], modal))
-    _response_sources(cases, names | {cb.name for cb in combos}, names, modal)
+    _response_sources(cases, references, names | {cb.name for cb in combos}, names, modal)
     model = Model(title=defs.title, node_names=node_names, coords=coords,
                   member_names=[m["name"] for m in mems], conn=conn, truss=truss,
                   up=up, releases=releases, restraint=restraint, springs=springs,
@@ -178,24 +179,21 @@ def _masses(defs: Definitions, nidx, restraint, springs, on_member, turned, note
     return pmass
 
 
-def _response_sources(cases, starts: set, names: set, modal: list) -> None:
-    """Each response case's static start and modes case, checked and written into its options
-    as names (the first modes case when it names none)."""
+def _response_sources(cases, references: dict, starts: set, names: set, modal: list) -> None:
+    """Each response case's static start and modes case as written, checked against the deck's
+    cases (the case itself already holds the names; the first modes case when it names none)."""
     for c in cases:
         if c.kind not in ("free", "history", "harmonic", "spectrum"):
             continue
-        start = c.options.get("start")
+        start, mref = references[c.name]
         if start and start[0] not in starts:
             raise DeckError(f"case {c.name}: start '{start[0]}' is not a static case or combination; "
                             f"{suggest(start[0], names)}", start[1])
-        mref = c.options.get("modes")
         if mref and mref[0] not in modal:
             raise DeckError(f"case {c.name}: '{mref[0]}' is not a modes case; {suggest(mref[0], modal)}", mref[1])
         if not modal:
             raise DeckError(f"case {c.name}: this case is computed from modes; add a modes case",
                             c.location)
-        c.options["start"] = start[0] if start else None
-        c.options["modes"] = mref[0] if mref else modal[0]
 
 
 def _settings(given: dict) -> dict:

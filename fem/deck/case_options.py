@@ -1,36 +1,70 @@
-"""Case options: a case's located option trees and loads turned into the case the analyses read,
-each rule checked where it is written."""
+"""Case options: a case's located option trees and loads mapped onto the typed cases of
+fem.cases. The rules of the values are the constructors'; a rule they refuse is reported here
+at the option it concerns. The rules that need the deck stay here: the form an option is written
+in, node names in `record`, tables, time functions named in the case, rows of results per node."""
 
 from __future__ import annotations
 
 import fnmatch
+from dataclasses import dataclass, field
 
 import numpy as np
 from lark import Token, Tree
 
-from ..errors import DeckError, suggest
+from ..cases import (
+    CASE_TYPES,
+    SPECTRUM_DAMPING,
+    Damping,
+    FreeCase,
+    HarmonicCase,
+    HistoryCase,
+    LoadItem,
+    ModesCase,
+    RuleError,
+    SpectrumCase,
+    StaticCase,
+    function_not_defined,
+    no_time_function,
+)
+from ..errors import DeckError, Location, suggest
 from ..limits import ROWS_LIMIT
-from ..model import LoadCase, LoadItem
 from . import units as U
 
 __all__ = ["CaseOptions"]
 
 
+@dataclass
+class _Draft:
+    """A case as written, before its typed case is built: options key -> (tree, location), and
+    `at` key -> location of every option (gravity too)."""
+
+    name: str
+    kind: str
+    location: Location
+    loads: list = field(default_factory=list)
+    gravity: np.ndarray | None = None
+    options: dict = field(default_factory=dict)
+    at: dict = field(default_factory=dict)
+
+
 class CaseOptions:
     """Mixed into the reader: building each case from its statement. Uses the reader's loc, value,
-    vector, name, targets, once, use_scope, read_table, token_file, stack, assumed and warnings."""
+    vector, name, targets, once, use_scope, read_table, token_file, stack, assumed, note, cases and references."""
 
-    def build_case(self, c, nidx, midx) -> LoadCase:
+    def build_case(self, c, nidx, midx):
+        """The typed case (fem.cases) of a case statement; `self.references[name]` keeps the
+        names a response case gives for its modes case and start, with their locations."""
         name, kind, items, where, assumed, scope = c
         self.assumed = assumed             # the assumes in force where the case is written
         self.use_scope(scope)              # and its parameters (in a loop, those of its pass)
-        case = LoadCase(name, kind, location=where)
+        case = _Draft(name, kind, where)
         seen = set()
         functions, timed = [], []     # a history case's named time functions, ground = (..) times F
         for it in items:
             if it.data == "option":
                 key, val = str(it.children[0]), it.children[1]
                 self.once(seen, key, self.loc(it), f"case {name}")
+                case.at[key] = self.loc(it)
                 if key == "gravity":
                     case.gravity = self.vector(val, U.ACCEL, f"case {name}: gravity")
                 else:
@@ -65,33 +99,33 @@ class CaseOptions:
             vec, axes = self.load_value(val, dim, f"case {name}: {kindname}", member=kindname == "line")
             case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it), axes,
                                        None if fn is None else (str(fn), self.loc(fn))))
-        if case.gravity is not None and kind in ("free", "harmonic"):
-            raise DeckError(f"case {name}: gravity belongs to static and history cases, not to a {kind} case",
-                            next(self.loc(it) for it in items if it.data == "option"
-                                                 and str(it.children[0]) == "gravity"),
-                            "release from the deflection under gravity with start = a static case"
-                            if kind == "free" else "remove it: the sweep's loads are harmonic amplitudes")
-        if kind == "modes":
-            self.modes_options(case)
-        elif kind == "free":
-            self.free_options(case, nidx)
-        elif kind == "history":
-            self.history_options(case, nidx, functions, timed)
-        elif kind == "harmonic":
-            self.harmonic_options(case, nidx)
-        elif kind == "spectrum":
-            self.spectrum_options(case, nidx)
-        elif kind != "static":
+        if kind not in CASE_TYPES:
             raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes, "
                             "free, history, harmonic or spectrum", where)
-        else:
-            for key, (_, at) in case.options.items():
-                raise DeckError(f"case {name}: unknown option '{key}' for a static case; {suggest(key, ['gravity'])}",
-                                at, "a static case takes force, moment and line loads and gravity = (gx, gy, gz)")
-            if not case.loads and case.gravity is None:
-                raise DeckError(f"case {name}: this static case has no loads, so every result would be zero", where,
-                                "give force, moment or line loads, or gravity = (0, 0, -g0)")
-        return case
+        if kind == "history":
+            return self.history_options(case, nidx, functions, timed)
+        return {"static": self.static_options, "modes": self.modes_options, "free": self.free_options,
+                "harmonic": self.harmonic_options, "spectrum": self.spectrum_options}[kind](case, nidx)
+
+    def typed(self, case: _Draft, cls, **fields):
+        """`cls` built from the draft's name, loads, gravity and location and `fields`; a rule it
+        refuses becomes a DeckError at the first option the rule concerns that the deck writes
+        (else at the case), with the same text and hint."""
+        try:
+            return cls(name=case.name, loads=tuple(case.loads), gravity=case.gravity, location=case.location,
+                       **fields)
+        except RuleError as exc:
+            raise self.located(case, exc) from None
+
+    def located(self, case: _Draft, exc: RuleError, prefix: str = "") -> DeckError:
+        where = next((at for key, at in case.at.items() if key in exc.options), case.location)
+        return DeckError(prefix + exc.message, where, exc.hint)
+
+    def static_options(self, case: _Draft, nidx) -> StaticCase:
+        for key, (_, at) in case.options.items():
+            raise DeckError(f"case {case.name}: unknown option '{key}' for a static case; {suggest(key, ['gravity'])}",
+                            at, "a static case takes force, moment and line loads and gravity = (gx, gy, gz)")
+        return self.typed(case, StaticCase)
 
     def load_value(self, val, dim, what: str, member: bool) -> tuple[np.ndarray, str]:
         """A load's three components and their axes: (x, y, z) in global axes, or, for member
@@ -142,7 +176,7 @@ class CaseOptions:
                 raise DeckError(f"{what}: the {name} parameter must be positive", where)
         return TimeFunction(name, param), None
 
-    def history_options(self, case: LoadCase, nidx, functions=(), timed=()) -> None:
+    def history_options(self, case: _Draft, nidx, functions=(), timed=()) -> HistoryCase:
         """Options of a time-history case: the free-case options plus time, table, ground,
         correction; `functions` the named time functions (kind, name, value, location) and
         `timed` the ground accelerations with their own function (value, name, name's location,
@@ -182,11 +216,8 @@ class CaseOptions:
 
         def known(fname, where, what):
             if fname not in named:
-                hint = suggest(fname, named) if named else "this case names none"
-                raise DeckError(f"case {case.name}: {what} follows time function '{fname}', which is not defined "
-                                f"in the case; {hint}", where,
-                                f"define it in the case, e.g. time {fname} = halfsine(0.05 s) or "
-                                f'table {fname} = "record.csv"')
+                message, hint = function_not_defined(case.name, what, fname, named)
+                raise DeckError(message, where, hint)
             return fname
 
         grounds = [(self.vector(val, U.ACCEL, f"case {case.name}: ground"), known(fname, floc, "ground"))
@@ -195,82 +226,58 @@ class CaseOptions:
             if item.time is not None:
                 item.time = known(*item.time, item.kind)
             elif "time" not in extra:
-                raise DeckError(f"case {case.name}: this {item.kind} has no time function", item.location,
-                                "add 'times NAME' after it, with NAME defined in the case (time NAME = ...), "
-                                "or give the case one time = shape(...) for all such loads")
-        case.options = rest
-        self.free_options(case, nidx, history=True)
-        case.options.update(extra)
-        case.options["functions"] = named
-        case.options["grounds"] = grounds
-        if "ground" in extra and "time" not in extra:
-            raise DeckError(f"case {case.name}: ground = ... needs the case's time = shape(...) or "
-                            "table = \"file.csv\", or its own function: ground = (...) times NAME", case.location)
-        if case.gravity is not None and "time" not in case.options:
-            raise DeckError(f"case {case.name}: gravity follows the case's time = shape(...); give one",
-                            case.location)
-        if "time" not in case.options and not named:
-            raise DeckError(f"case {case.name}: a history case needs time = shape(...) or table = \"file.csv\"",
-                            case.location)
-        if not case.loads and "ground" not in case.options and not grounds:
-            raise DeckError(f"case {case.name}: give loads or a ground acceleration", case.location)
-        if case.options.get("correction") and ("ground" in case.options or grounds):
-            raise DeckError(f"case {case.name}: the static correction applies to force loads only",
-                            case.location)
-        used = {item.time for item in case.loads} | {name for _, name in grounds}
+                message, hint = no_time_function(case.name, item.kind)
+                raise DeckError(message, item.location, hint)
+        out = self.timed_options(case, rest, nidx, history=True)
+        out = self.typed(case, HistoryCase, **out, **extra, functions=named, grounds=tuple(grounds))
+        self.table_rows(out, out.steps, "time steps", out.record, nidx, "a longer step")
+        used = {item.time for item in out.loads} | {name for _, name in grounds}
         for fname in named:
             if fname not in used:
-                self.warnings.append(f"{first[fname]}: warning: case {case.name}: time function {fname} is defined "
+                self.note(first[fname], f"case {case.name}: time function {fname} is defined "
                                      f"but no load or ground follows it; add 'times {fname}' after one, or remove it")
-        self.table_step_warnings(case, tables)
-        if "time" in case.options:
-            named = {None: case.options["time"], **named}
+        self.table_step_warnings(out, tables)
+        if out.time is not None:
+            named = {None: out.time, **named}
             first[None] = time_where
         for fname, fn in named.items():
-            self.long_function_warning(case, fn, first[fname])
+            self.long_function_warning(out, fn, first[fname])
+        return out
 
-    def long_function_warning(self, case: LoadCase, fn, where) -> None:
+    def long_function_warning(self, case: HistoryCase, fn, where) -> None:
         """Warn when a pulse or a table runs past the case's duration: only its start is seen
         (often a unit slip, 30 s for 30 ms, or a duration cut short of a record)."""
         knots = fn.knots()[0]                 # a pulse's or table's last knot is its end
-        if not len(knots) or knots.max() <= case.options["duration"] * (1 + 1e-9):
+        if not len(knots) or knots.max() <= case.duration * (1 + 1e-9):
             return
         what = "table runs" if fn.shape == "table" else f"{fn.shape} lasts"
-        self.warnings.append(f"{where}: warning: case {case.name}: the {what} to {_g(knots.max())} s, past the duration "
-                             f"{_g(case.options['duration'])} s, so only its start is seen; check the units, or "
+        self.note(where, f"case {case.name}: the {what} to {_g(knots.max())} s, past the duration "
+                             f"{_g(case.duration)} s, so only its start is seen; check the units, or "
                              "lengthen the duration")
 
-    def table_step_warnings(self, case: LoadCase, tables) -> None:
+    def table_step_warnings(self, case: HistoryCase, tables) -> None:
         """Warn when a history case's step is longer than the row spacing of a table it reads:
         the load is read at the steps, so the rows between them are skipped."""
-        dt = case.options["step"]
+        dt = case.step
         for fn, rel, where in tables:
             h = fn.spacing()
             if dt > h * (1 + 1e-9):
-                self.warnings.append(
-                    f"{where}: warning: case {case.name}: step {dt:.3g} s is longer than the {h:.3g} s row "
+                self.note(where, f"case {case.name}: step {dt:.3g} s is longer than the {h:.3g} s row "
                     f"spacing of table '{rel}', so rows between steps are skipped (the load is read at the "
                     f"steps only); use step <= {h:.3g} s")
 
-    def harmonic_options(self, case: LoadCase, nidx) -> None:
+    def harmonic_options(self, case: _Draft, nidx) -> HarmonicCase:
         """Options of a harmonic sweep: from, to, points, spacing, ground, correction, damping,
         rayleigh, modes, record."""
-        out = {"damping": np.zeros(1), "record": None, "points": 200, "spacing": "linear"}
+        out = {}
         for key, (val, where) in case.options.items():
             what = f"case {case.name}: {key}"
             word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
             if key in ("from", "to"):
-                out[key] = self.value(val, U.FREQ, what)
-                if out[key] <= 0:
-                    raise DeckError(f"{what} must be a positive frequency", where)
+                out["fmin" if key == "from" else "fmax"] = self.value(val, U.FREQ, what)
             elif key == "points":
-                v = self.value(val, U.NONE, what)
-                if v != int(v) or not 2 <= v <= 1_000_000:
-                    raise DeckError(f"{what} is a whole number from 2 to a million", where)
-                out[key] = int(v)
+                out[key] = self.value(val, U.NONE, what)
             elif key == "spacing":
-                if word not in ("linear", "log"):
-                    raise DeckError(f"{what} is linear or log", where)
                 out[key] = word
             elif key == "ground":
                 out[key] = self.vector(val, U.ACCEL, what)
@@ -278,36 +285,26 @@ class CaseOptions:
                 if word not in ("on", "off"):
                     raise DeckError(f"{what} is on or off", where)
                 out[key] = word == "on"
-            elif key == "modes":
-                if word is None:
-                    raise DeckError(f"{what} names a modes case", where)
-                out[key] = (word, where)
             elif not self.dynamic_common(case, key, val, where, out, nidx):
                 known = ["from", "to", "points", "spacing", "ground", "correction", "damping",
                          "rayleigh", "modes", "record"]
                 raise DeckError(f"case {case.name}: unknown option '{key}' for a harmonic case; "
                                 f"{suggest(key, known)}", where)
-        for key in ("from", "to"):
-            if key not in out:
+        for key, field_name in (("from", "fmin"), ("to", "fmax")):
+            if field_name not in out:
                 raise DeckError(f"case {case.name}: a harmonic case needs {key} = ... Hz", case.location)
-        if out["to"] <= out["from"]:
-            raise DeckError(f"case {case.name}: 'to' must be above 'from'", case.location)
-        self.table_rows(case, out["points"], "frequencies", out["record"], nidx, "fewer points")
-        if not case.loads and "ground" not in out:
-            raise DeckError(f"case {case.name}: give force amplitudes or a ground acceleration", case.location)
-        if out.get("correction") and "ground" in out:
-            raise DeckError(f"case {case.name}: the static correction applies to force loads only", case.location)
-        case.options = out
+        out = self.typed(case, HarmonicCase, **self.response_fields(case, out))
+        self.table_rows(out, out.points, "frequencies", out.record, nidx, "fewer points")
+        return out
 
-    def spectrum_options(self, case: LoadCase, nidx) -> None:
+    def spectrum_options(self, case: _Draft, nidx) -> SpectrumCase:
         """Options of a response-spectrum case: curve or table (+ scale, made_for), directions,
         combine, spatial, missing, damping, rayleigh, modes."""
         from ..spectrum import Spectrum
 
         curves = {"plateau": (U.ACCEL, U.NONE, U.TIME, U.TIME, U.TIME),
                   "twoperiod": (U.ACCEL, U.ACCEL, U.TIME)}
-        out = {"damping": np.array([0.05]), "record": None, "combine": "cqc", "spatial": "srss",
-               "missing": False, "directions": np.array([1.0, 0.0, 0.0])}
+        out = {}
         curve = table = None
         scale, made_for, made_for_where = 9.80665, None, None
         for key, (val, where) in case.options.items():
@@ -343,28 +340,19 @@ class CaseOptions:
                 made_for_where = where
             elif key == "directions":
                 out[key] = self.vector(val, U.NONE, what)
-                if not np.any(out[key]):
-                    raise DeckError(f"{what}: at least one direction factor must be non-zero", where)
-                if np.abs(out[key]).max() > 2:
-                    self.warnings.append(f"{where}: warning: case {case.name}: direction factors multiply the "
+                if np.any(out[key]) and np.abs(out[key]).max() > 2:
+                    self.note(where, f"case {case.name}: direction factors multiply the "
                                          f"spectrum, so {_g(np.abs(out[key]).max())} scales the response "
                                          f"{_g(np.abs(out[key]).max())}-fold; for the 100/30 rule write "
                                          "directions = (1, 1, 0) with spatial = \"100/30\"")
             elif key in ("combine", "spatial"):
                 if isinstance(val, Token) and val.type == "STRING":
                     word = str(val)[1:-1]
-                allowed = ("cqc", "srss", "abs") if key == "combine" else ("srss", "100/30")
-                if word not in allowed:
-                    raise DeckError(f"{what} is one of {', '.join(allowed)} (write \"100/30\" in quotes)", where)
                 out[key] = word
             elif key == "missing":
                 if word not in ("on", "off"):
                     raise DeckError(f"{what} is on or off", where)
                 out[key] = word == "on"
-            elif key == "modes":
-                if word is None:
-                    raise DeckError(f"{what} names a modes case", where)
-                out[key] = (word, where)
             elif key == "record":
                 raise DeckError(f"case {case.name}: a spectrum case has no histories to record; its peaks at "
                                 "every node go to the displacement, reaction and end-force tables", where,
@@ -376,42 +364,37 @@ class CaseOptions:
                                 f"{suggest(key, known)}", where)
         if (curve is None) == (table is None):
             raise DeckError(f"case {case.name}: give either curve = ... or table = \"file.csv\"", case.location)
-        if case.loads or case.gravity is not None:
-            raise DeckError(f"case {case.name}: a spectrum case takes no loads", case.location)
+        out = self.response_fields(case, out)
         # a design curve is evaluated at each mode's own damping by the case; the ratio kept here
         # only draws the curve
-        zeta_curve = float(out["damping"][0])
+        damping = out.get("damping")
+        zeta_curve = SPECTRUM_DAMPING if damping is None or damping.zeta is None else float(damping.zeta[0])
         if curve:
             if made_for is not None:
                 raise DeckError(f"case {case.name}: made_for belongs to a table; a design curve is evaluated "
                                 "at each mode's own damping ratio", made_for_where, "remove made_for")
-            out["spectrum"] = Spectrum(curve[0], curve[1], zeta=zeta_curve)
+            spectrum = Spectrum(curve[0], curve[1], zeta=zeta_curve)
         else:
             tab = table.copy()
             tab[:, 1] *= scale
-            out["spectrum"] = Spectrum("table", table=tab, zeta=zeta_curve, made_for=made_for)
-            if made_for is None:
-                self.warnings.append(f"{case.location}: warning: case {case.name}: the spectrum table does not say "
-                                     "the damping it was made for; it is assumed to hold for the case's damping and "
-                                     "used unscaled at every mode (give made_for = ... percent to scale it per mode)")
-        case.options = out
+            spectrum = Spectrum("table", table=tab, zeta=zeta_curve, made_for=made_for)
+        out = self.typed(case, SpectrumCase, spectrum=spectrum, **out)
+        if table is not None and made_for is None:
+            self.note(case.location, f"case {case.name}: the spectrum table does not say "
+                                 "the damping it was made for; it is assumed to hold for the case's damping and "
+                                 "used unscaled at every mode (give made_for = ... percent to scale it per mode)")
+        return out
 
     def dynamic_common(self, case, key, val, where, out, nidx) -> bool:
-        """Options every modal response case shares: damping, rayleigh, record. True if handled."""
+        """Options every modal response case shares: damping, rayleigh, modes, record. True if
+        handled; the values go to `out` (damping as "zeta", rayleigh as "rayleigh" (a0, a1) or
+        "anchors" (f1, z1, f2, z2), modes as (name, location))."""
         what = f"case {case.name}: {key}"
-        if key in ("damping", "rayleigh") and {"damping", "rayleigh"} <= set(case.options):
-            raise DeckError(f"case {case.name}: give damping = ... or rayleigh = ..., not both", where)
         if key == "damping":
             if isinstance(val, Tree) and val.data == "vector":
-                z = np.array([self.value(c, U.NONE, what) for c in val.children])
+                out["zeta"] = np.array([self.value(c, U.NONE, what) for c in val.children])
             else:
-                z = np.array([self.value(val, U.NONE, what)])
-            if np.any(z < 0) or np.any(z >= 1):
-                big = z[z >= 1]
-                raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where,
-                                f"{_g(big[0])} is {_g(100 * big[0])} %; for {_g(big[0])} % write {_g(big[0])} percent"
-                                if len(big) and big[0] < 1e300 else "")
-            out["damping"] = z
+                out["zeta"] = np.array([self.value(val, U.NONE, what)])
         elif key == "rayleigh":
             form = "(f1, ratio1, f2, ratio2), e.g. (1 Hz, 2 percent, 10 Hz, 2 percent), or the coefficients " \
                    "(a0, a1) of C = a0 M + a1 K, e.g. (0.3 Hz, 0.002 s)"
@@ -419,20 +402,17 @@ class CaseOptions:
                 raise DeckError(f"{what} is {form}", where)
             c = val.children
             if len(c) == 2:
-                a0, a1 = self.value(c[0], U.FREQ, what + " a0"), self.value(c[1], U.TIME, what + " a1")
-                if a0 < 0 or a1 < 0 or a0 + a1 == 0:
-                    raise DeckError(f"{what}: the coefficients cannot be negative and not both zero", where)
-                out["rayleigh"] = (a0, a1)
+                out["rayleigh"] = (self.value(c[0], U.FREQ, what + " a0"), self.value(c[1], U.TIME, what + " a1"))
             else:
                 part = f"{what} (f1, ratio1, f2, ratio2)"
                 f1, f2 = self.value(c[0], U.FREQ, part + ": f1"), self.value(c[2], U.FREQ, part + ": f2")
                 z1, z2 = self.value(c[1], U.NONE, part + ": ratio1"), self.value(c[3], U.NONE, part + ": ratio2")
-                if not (f1 > 0 and f2 > 0 and f1 != f2):
-                    raise DeckError(f"{what}: two different positive frequencies are needed", where)
-                if not (0 <= z1 < 1 and 0 <= z2 < 1):
-                    raise DeckError(f"{what}: ratios lie from 0 to below 1 (e.g. 2 percent)", where,
-                                    "write the ratios with their unit, e.g. 2 percent")
-                out["rayleigh"] = (f1, z1, f2, z2)
+                out["anchors"] = (f1, z1, f2, z2)
+        elif key == "modes":
+            word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
+            if word is None:
+                raise DeckError(f"{what} names a modes case", where)
+            out[key] = (word, where)
         elif key == "record":
             if not (isinstance(val, Token) and val.type == "STRING"):
                 raise DeckError(f'{what} is a quoted node name or pattern, e.g. record = "P10_*"', where)
@@ -445,6 +425,24 @@ class CaseOptions:
             return False
         return True
 
+    def response_fields(self, case: _Draft, out: dict) -> dict:
+        """`out` of dynamic_common with the damping built (a rule it breaks located at its
+        option) and the modes case named: the one given, else the deck's first modes case ("" when
+        there is none, which build() refuses); the names given for modes and start are kept in
+        self.references with their locations for build() to check."""
+        damping = {k: out.pop(k) for k in ("zeta", "rayleigh", "anchors") if k in out}
+        if damping:
+            try:
+                out["damping"] = Damping(**damping)
+            except RuleError as exc:
+                raise self.located(case, exc, f"case {case.name}: ") from None
+        mref, start = out.pop("modes", None), out.get("start")
+        self.references[case.name] = (start, mref)
+        if start is not None:
+            out["start"] = start[0]
+        out["modes"] = mref[0] if mref else next((n for n, k, *_ in self.cases if k == "modes"), "")
+        return out
+
     def table_rows(self, case, samples: int, what: str, record, nidx, remedy: str) -> None:
         """Refuse a response table (samples x recorded nodes rows, held in memory as well) too
         large to write or hold: ROWS_LIMIT rows are about 0.7 GB of CSV."""
@@ -454,20 +452,21 @@ class CaseOptions:
                             f"of results, above the limit of {ROWS_LIMIT:.0e}", case.location,
                             f'record fewer nodes (record = "NAME*"), or use {remedy}')
 
-    def free_options(self, case: LoadCase, nidx, history: bool = False) -> None:
-        """Options of a free-vibration case: duration, step, damping, start, modes, record."""
-        out = {"damping": np.zeros(1), "record": None}
-        for key, (val, where) in case.options.items():
+    def timed_options(self, case: _Draft, options: dict, nidx, history: bool = False) -> dict:
+        """The fields of the options a free and a history case share: duration, step, damping,
+        rayleigh, modes, record, and a free case's start."""
+        out = {}
+        for key, (val, where) in options.items():
             what = f"case {case.name}: {key}"
             word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
             if key in ("duration", "step"):
                 out[key] = self.value(val, U.TIME, what)
-                if out[key] <= 0:
-                    raise DeckError(f"{what} must be positive", where)
-            elif key in ("modes",) or (key == "start" and not history):
+            elif key == "start" and not history:
                 if word is None:
                     raise DeckError(f"{what} names a case, e.g. {key} = WIND", where)
                 out[key] = (word, where)
+            elif key == "modes" and word is None:
+                raise DeckError(f"{what} names a case, e.g. {key} = WIND", where)
             elif self.dynamic_common(case, key, val, where, out, nidx):
                 pass
             else:
@@ -478,53 +477,31 @@ class CaseOptions:
         for key in ("duration", "step"):
             if key not in out:
                 raise DeckError(f"case {case.name}: a {case.kind} case needs {key} = ... s", case.location)
-        if out["duration"] < out["step"]:
-            raise DeckError(f"case {case.name}: duration {_g(out['duration'])} s is shorter than the step "
-                            f"{_g(out['step'])} s, so the {case.kind} case would hold its start only",
-                            case.options["duration"][1], "check the units of duration and step")
-        if out["duration"] / out["step"] > 1e6:
-            raise DeckError(f"case {case.name}: more than a million time steps; use a longer step", case.location)
-        self.table_rows(case, int(out["duration"] / out["step"]) + 1, "time steps", out["record"], nidx, "a longer step")
-        if not history and not case.loads and "start" not in out:
-            raise DeckError(f"case {case.name}: give a start (a static case) or initial displacement/velocity",
-                            case.location)
-        case.options = out
+        return self.response_fields(case, out)
 
-    def modes_options(self, case: LoadCase) -> None:
-        """Turn a modes case's option trees into plain values: count, fmax (Hz), reference (m)."""
+    def free_options(self, case: _Draft, nidx) -> FreeCase:
+        """Options of a free-vibration case: duration, step, damping, start, modes, record."""
+        out = self.typed(case, FreeCase, **self.timed_options(case, case.options, nidx))
+        self.table_rows(out, out.steps, "time steps", out.record, nidx, "a longer step")
+        return out
+
+    def modes_options(self, case: _Draft, nidx) -> ModesCase:
+        """A modes case's option trees as values: count, fmax (Hz), reference (m), target, max."""
         out = {}
         for key, (val, where) in case.options.items():
             what = f"case {case.name}: {key}"
-            if key == "count":
-                v = self.value(val, U.NONE, what)
-                if v != int(v) or v < 1:
-                    raise DeckError(f"{what} must be a whole number of at least 1", where)
-                out[key] = int(v)
+            if key in ("count", "max"):
+                out["max_count" if key == "max" else key] = self.value(val, U.NONE, what)
             elif key == "fmax":
                 out[key] = self.value(val, U.FREQ, what)
-                if out[key] <= 0:
-                    raise DeckError(f"{what} must be positive", where)
             elif key == "reference":
                 out[key] = self.vector(val, U.LENGTH, what)
             elif key == "target":
                 out[key] = self.vector(val, U.NONE, what)
-                if np.any(out[key] < 0) or np.any(out[key] > 1):
-                    raise DeckError(f"{what}: fractions of the mass from 0 to 100 percent", where,
-                                    "write them with their unit, e.g. target = (90 percent, 90 percent, 0)")
-            elif key == "max":
-                v = self.value(val, U.NONE, what)
-                if v != int(v) or v < 1:
-                    raise DeckError(f"{what} must be a whole number of at least 1", where)
-                out[key] = int(v)
             else:
                 raise DeckError(f"case {case.name}: unknown option '{key}' for modes; "
                                 f"{suggest(key, ['count', 'fmax', 'reference', 'target', 'max'])}", where)
-        if case.loads or case.gravity is not None:
-            raise DeckError(f"case {case.name}: a modes case takes no loads", case.location)
-        if "target" in out and ("count" in out or "fmax" in out):
-            raise DeckError(f"case {case.name}: give a mass target or count/fmax, not both", case.location)
-        out.setdefault("count", None if ("fmax" in out or "target" in out) else 12)
-        case.options = out
+        return self.typed(case, ModesCase, **out)
 
 
 def _g(v: float) -> str:

@@ -38,7 +38,7 @@ class _Reader(CaseOptions):
     once, use_scope, read_table, token_file, stack, assumed, warnings)."""
 
     def __init__(self, top: Path, let: dict | None = None):
-        self.warnings: list = []                  # Notes (the case options may add plain texts)
+        self.warnings: list = []                  # the Notes the reading finds
         self.sources = Sources(top)
         self.ev = Evaluator(self.sources, let)
         self.defs = Definitions(self.ev.name, self.sources.loc, self.warnings)
@@ -48,6 +48,8 @@ class _Reader(CaseOptions):
         self.value, self.vector, self.name = self.ev.value, self.ev.vector, self.ev.name
         self.use_scope = self.ev.use_scope
         self.targets, self.once = self.defs.targets, self.defs.once
+        self.cases = self.defs.cases             # the case statements, for the default modes case
+        self.references: dict = {}      # response case -> (start, modes) as written: (name, where) or None
 
     @property
     def assumed(self) -> dict:
@@ -58,7 +60,7 @@ class _Reader(CaseOptions):
         self.ev.assumed = value
 
     def note(self, location, text: str, kind: str = "warning") -> None:
-        """Record a located note (for the case options, which append plain texts today)."""
+        """Record a located note of the case options."""
         self.warnings.append(Note(location, text, kind))
 
     def read_table(self, rel: str, where, deck_file: Path):
@@ -67,7 +69,7 @@ class _Reader(CaseOptions):
     def model(self) -> Model:
         """The Model of what has been read, once every statement has run."""
         self.ev.unused_overrides(n for (space, n) in self.defs.defined if space == "let")
-        model = build(self.defs, self.ev, self.build_case, self.warnings)
+        model = build(self.defs, self.ev, self.build_case, self.warnings, self.references)
         model.overrides = dict(self.ev.overridden)
         return model
 
