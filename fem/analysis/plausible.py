@@ -92,13 +92,11 @@ def _motion(model: Model, shape: np.ndarray) -> str:
     return f"main motion {main}; moving most: {', '.join(parts)}"
 
 
-def zero_mode_check(model: Model, r, location=None) -> dict:
+def zero_mode_check(model: Model, r, free: int) -> dict:
     """Modes of a modes case `r` (ModesCaseResult) at zero or near-zero frequency (below
-    NEAR_ZERO_HZ) beyond the rigid-body motions the supports leave free (found from K's own
-    zero-energy motions by the model's checks before any case, `soundness.assess`, and kept in
-    model.settings["_rigid_motions"]): the checks entries, with each such mode named with its
-    motion."""
-    free = len(model.settings["_rigid_motions"])
+    NEAR_ZERO_HZ) beyond the `free` rigid-body motions the supports leave free (found from K's
+    own zero-energy motions by the model's checks before any case: `soundness.assess`,
+    `Soundness.rigid`): the checks entries, with each such mode named with its motion."""
     freq = r.modes.freq
     slow = np.flatnonzero(freq < NEAR_ZERO_HZ)
     odd = slow[free:] if free else slow     # the lowest `free` are the expected rigid-body modes
