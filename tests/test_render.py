@@ -210,7 +210,7 @@ def test_noisy_probe_reason_keeps_the_message_only():
 
 
 def test_failure_while_drawing_keeps_results(deck, tmp_path, monkeypatch, capsys):
-    from fem.output import render
+    from fem.output import render, render_pool
 
     def broken(*args, **kwargs):
         (args[0]).mkdir(parents=True, exist_ok=True)
@@ -218,7 +218,7 @@ def test_failure_while_drawing_keeps_results(deck, tmp_path, monkeypatch, capsys
         raise RuntimeError("\x1b[31mvtkOpenGLRenderWindow: failed\nto make current\x1b[0m")
 
     monkeypatch.setattr(render, "can_render", lambda: (True, ""))
-    monkeypatch.setattr(render, "render_all", broken)
+    monkeypatch.setattr(render_pool, "render_all", broken)
     out = tmp_path / "res"
     text = _run_in_process(deck, out, capsys)
     lines = [ln.strip() for ln in text.splitlines() if "pictures skipped" in ln]

@@ -29,6 +29,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..model import DIRECTIONS, Model
+from .motion import dominant_direction
 
 __all__ = ["NEAR_ZERO_HZ", "SIZE_FAIL", "SIZE_WARN", "model_size", "static_check",
            "zero_mode_check", "zero_mode_lines"]
@@ -74,8 +75,6 @@ def static_check(model: Model, r, location=None) -> dict:
 
 def _motion(model: Model, shape: np.ndarray) -> str:
     """Words for the motion of one mode (n, 6): the main direction and the nodes moving most."""
-    from ..output.render import dominant_direction
-
     main, _ = dominant_direction(shape, model.coords)
     # rotations weighed by the median member length, so a turn compares with a translation
     lever = float(np.median(model.lengths)) if model.n_members else 1.0

@@ -18,7 +18,7 @@ def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float
     responses = results.of_kind("free", "history")
     if not modes and not responses:
         return "no modes or responses to draw"
-    from . import render
+    from . import render, render_pool
     from .vtk import shape_scale
 
     model = results.model
@@ -26,7 +26,7 @@ def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float
         ok, why = render.can_render()
         if not ok:
             return f"pictures skipped: {why}; results are complete"
-        files = render.render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs,
+        files = render_pool.render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs,
                                   draw_modes, fps)
     except Exception as exc:   # noqa: BLE001 - pictures are extras; a drawing failure must not lose results
         # half-drawn pictures would look complete in the report: drop them all
