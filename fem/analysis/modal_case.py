@@ -95,7 +95,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None,
         part = participation(modes.phi, M, R)
         met = None
         if count is not None and count > len(modes.omega) and notes is not None:
-            notes.append(Note(case.location or None, f"case {case.name} asks for {count} modes, but the model "
+            notes.append(Note(case.location, f"case {case.name} asks for {count} modes, but the model "
                               f"has only {len(modes.omega)}; all of them are computed"))
     else:
         # add modes until the cumulative effective mass reaches the target in each direction
