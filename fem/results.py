@@ -19,7 +19,7 @@ from .notes import Note
 __all__ = ["Results"]
 
 
-@dataclass(frozen=True, eq=False)
+@dataclass(frozen=True, eq=False, repr=False)
 class Results:
     """Every result of one solve, its self-checks and its notes.
 
@@ -66,6 +66,10 @@ class Results:
     notes: tuple[Note, ...] = ()
     cases_asked: dict | None = None
     built_on: dict = field(default_factory=dict)
+
+    def __repr__(self) -> str:
+        cases = ", ".join(f"{n} ({r.kind})" for n, r in self.cases.items())
+        return f"<Results of {self.model.title or self.model.source or 'a model'}: {cases or 'no cases'}; ok={self.ok}>"
 
     def __getitem__(self, name: str):
         """The result of the case or combination `name`."""

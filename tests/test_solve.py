@@ -106,6 +106,8 @@ def test_results_hold_every_case_by_name_in_order_with_its_kind(mixed):
     # a combination is the factored sum of its cases (linear statics)
     np.testing.assert_allclose(r["C1"].u, 1.35 * r["ST"].u + 1.5 * r["WIND"].u, rtol=1e-12, atol=1e-15)
     assert r.cases_asked is None and r.soundness.rigid == [] and r.soundness.condition > 1
+    assert repr(r) == ("<Results of a model: ST (static), WIND (static), C1 (static), MODES (modes), FV (free), "
+                       f"TH (history), HA (harmonic), RS (spectrum); ok={r.ok}>")
 
 
 def test_the_solves_notes_are_notes_not_model_warnings(mixed):
