@@ -1,5 +1,7 @@
 """Command line: `quaver check DECK`, `quaver run DECK`. Heavy imports happen inside commands.
 
+`quaver run` is `run_deck`: read_deck -> solve -> write_results -> print_summary.
+
 Exit statuses: 0 all self-checks pass; 1 results written, a self-check failed; 2 a mistake in
 the deck, the model or the results folder (one message, nothing written); 70 an internal error
 (a fault in Quaver: a short message asking for a report; the traceback with --debug or
@@ -11,7 +13,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-__all__ = ["main"]
+__all__ = ["main", "run_deck"]
 
 INTERNAL_ERROR = 70     # the conventional status of an internal software error (sysexits.h, EX_SOFTWARE)
 DEBUG_ENV = "QUAVER_DEBUG"
@@ -92,22 +94,19 @@ def main(argv: list[str] | None = None) -> int:
             # the same mechanism, free-structure and conditioning checks as `quaver run`, refused
             # with the same message; no case is solved. A deck without nodes (materials and
             # sections to include elsewhere) has nothing to check
-            if model.n_nodes:
-                examine(model)
+            sound = examine(model)[1] if model.n_nodes else None
             lo, hi = model.bounding_box()
             print(f"{model.title or args.deck}: {model.n_nodes} nodes, {model.n_members} members, "
                   f"total mass {model.total_mass():.6g} kg")
             print(f"bounding box {lo} .. {hi} m")
             if model.overrides:
                 print("overrides: " + ", ".join(f"{k} = {v}" for k, v in model.overrides.items()))
-            for w in model.warnings:
+            for w in [*model.warnings, *(sound.notes if sound else ())]:
                 print(w)
-            for line in summary_lines(model):
+            for line in summary_lines(sound):
                 print(line)
             print(CAUTION)
             return 0
-        from .run import run_deck
-
         return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs),
                         draw_modes=max(0, args.draw_modes), fps=args.fps, let=_overrides(args.let),
                         cases=args.cases)
@@ -127,6 +126,30 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except Exception as exc:   # noqa: BLE001 - anything else is a fault in Quaver, not the user's
         return _internal_error(exc, getattr(args, "debug", False))
+
+
+def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
+             draw_modes: int = 6, fps: float = 12.0, let: dict | None = None, cases=None) -> int:
+    """Solve the deck and write its results folder (default results/<deck name>); `let`
+    overrides let parameters (read_deck), `cases` names the cases and combinations to solve
+    (with what they need; all when None). Prints the summary; returns the exit status."""
+    from dataclasses import replace
+    from pathlib import Path
+
+    from .deck.reader import read_deck
+    from .output.summary import print_summary
+    from .output.write import prepare_folder, write_results
+    from .solve import solve
+
+    model = read_deck(deck, let=let)
+    if cases:
+        from .case_selection import select_cases
+
+        select_cases(model, cases)        # an unknown name is refused before the folder is looked at
+    _, shown, notes = prepare_folder(out, Path(deck))   # before solving: an unusable --out fails at once
+    results = solve(model, cases)
+    written = write_results(results, shown, render=render, jobs=jobs, draw_modes=draw_modes, fps=fps)
+    return print_summary(results, replace(written, notes=(*notes, *written.notes)), deck)
 
 
 def _say(text: str) -> None:

@@ -132,11 +132,11 @@ case E spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions
 
 
 def _pole(modes: str, ground: str, missing: str = "off"):
-    from fem.run import solve_all
+    from fem.solve import solve
 
     text = (POLE.replace("MODES_OPTIONS", modes).replace("GROUND", ground).replace("MISSING", missing)
             .replace("DIRS", ground.replace(" m/s^2", "")))
-    return solve_all(read_text(text))[1]
+    return solve(read_text(text)).modal
 
 
 def test_ground_motion_where_the_modes_carry_little_mass_is_warned():

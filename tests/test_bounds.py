@@ -22,7 +22,7 @@ from fem.analysis.modal_case import solve_modes_case
 from fem.assembly import assemble
 from fem.deck.reader import read_text
 from fem.errors import ModelError
-from fem.run import solve_all
+from fem.solve import solve
 
 ROOT = Path(__file__).parents[1]
 GiB = 2 ** 30
@@ -204,7 +204,7 @@ def test_free_refused_with_the_estimate(mast, monkeypatch):
 def test_history_refused_in_a_run_located_at_the_case(monkeypatch):
     monkeypatch.setattr(mem, "available_bytes", lambda: 2**20)
     with pytest.raises(ModelError, match=r"^deck\.deck:10:1: case H: the time history .* needs an estimated"):
-        solve_all(read_text(MAST.replace("case REL", "# case REL"), "deck.deck"))
+        solve(read_text(MAST.replace("case REL", "# case REL"), "deck.deck"))
 
 
 # ---- harmonic sweeps -------------------------------------------------------------------------
@@ -312,7 +312,7 @@ def small_limits(monkeypatch):
 
 def test_count_of_every_mode_on_a_large_model_is_refused(small_limits):
     with pytest.raises(ModelError) as e:
-        solve_all(read_text(CHAIN % "count = 1000000000", "deck.deck"))
+        solve(read_text(CHAIN % "count = 1000000000", "deck.deck"))
     msg = str(e.value)
     assert msg.startswith("deck.deck:7:1: count = 1000000000 asks for all of the 120 modes, which only a dense "
                           "solve finds: for 120 free DOFs it needs about 1 MiB")
@@ -324,14 +324,14 @@ def test_dense_solve_refused_when_memory_is_short(monkeypatch):
     monkeypatch.setattr(mem, "available_bytes", lambda: 2**19)
     with pytest.raises(ModelError, match=r"the dense eigen solve of 120 free DOFs \(count = 119 asks for nearly all "
                                          r"of the 120 modes\) needs an estimated 1 MiB, more than the 0 MiB"):
-        solve_all(read_text(CHAIN % "count = 119"))
+        solve(read_text(CHAIN % "count = 119"))
 
 
 def test_lanczos_count_above_the_limit_is_refused_and_the_limit_runs(small_limits):
     with pytest.raises(ModelError, match=r"count = 7 is more modes than one Lanczos run finds in reasonable time "
                                          r"\(the limit is 6 for a model of 120 modes: the work grows"):
-        solve_all(read_text(CHAIN % "count = 7"))
-    _, modal = solve_all(read_text(CHAIN % "count = 6"))
+        solve(read_text(CHAIN % "count = 7"))
+    modal = solve(read_text(CHAIN % "count = 6")).modal
     assert len(modal[0].modes.omega) == 6 and modal[0].modes.solver.startswith("shift-invert")
 
 
@@ -340,13 +340,13 @@ def test_a_model_small_enough_for_the_dense_solve_is_offered_every_mode(monkeypa
     monkeypatch.setattr(modes_mod, "LANCZOS_WORK", 4320)       # at most 6 modes by Lanczos
     with pytest.raises(ModelError, match=r"count = 6\) or set a frequency limit \(fmax\), or for every mode "
                                          r"\(count = 120\), which a dense solve finds\n"):
-        solve_all(read_text(CHAIN % "count = 7", "deck.deck"))
+        solve(read_text(CHAIN % "count = 7", "deck.deck"))
 
 
 def test_fmax_taking_in_too_many_modes_is_refused(small_limits):
     with pytest.raises(ModelError, match=r"fmax = 1e\+06 Hz takes in more than \d+ modes, which is more modes than "
                                          r"one Lanczos run finds .*lower fmax"):
-        solve_all(read_text(CHAIN % "fmax = 1000000 Hz"))
+        solve(read_text(CHAIN % "fmax = 1000000 Hz"))
 
 
 def test_lanczos_memory_refused(monkeypatch):
@@ -356,13 +356,13 @@ def test_lanczos_memory_refused(monkeypatch):
     # Lanczos vectors are what cannot fit
     monkeypatch.setattr(mem, "check_factor_memory", lambda *a, **k: 0)
     with pytest.raises(ModelError, match=r"the Lanczos eigen solve of 5 modes on 120 free DOFs needs an estimated"):
-        solve_all(read_text(CHAIN % "count = 5"))
+        solve(read_text(CHAIN % "count = 5"))
 
 
 def test_target_max_above_the_lanczos_limit_is_refused(small_limits):
     with pytest.raises(ModelError, match=r"case MODES: max = 40 modes is more than one eigen solve of 120 free DOFs "
                                          r"finds in reasonable time \(the limit is 6\); set max = 6 or less"):
-        solve_all(read_text(CHAIN % "target = (90 percent, 90 percent, 0), max = 40"))
+        solve(read_text(CHAIN % "target = (90 percent, 90 percent, 0), max = 40"))
 
 
 def test_lanczos_limit_by_model_size():
@@ -377,4 +377,4 @@ def test_mode_shape_rows_refused(monkeypatch):
     monkeypatch.setattr(limits, "ROWS_LIMIT", 100)
     with pytest.raises(ModelError, match=r"case MODES: 5 modes x 21 nodes would write 105 rows of mode shapes, "
                                          r"above the limit of 100; ask for at most 4 modes"):
-        solve_all(read_text(CHAIN % "count = 5"))
+        solve(read_text(CHAIN % "count = 5"))

@@ -4,7 +4,7 @@ import pytest
 
 from fem.deck.reader import read_text
 from fem.errors import ModelError
-from fem.run import solve_all
+from fem.solve import solve
 
 FRAME = """
 material S { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
@@ -21,7 +21,7 @@ support A fixed
 def test_modes_case_error_carries_its_location():
     m = read_text(FRAME + "case M modes { fmax = 0.001 Hz }\n", "frame.deck")
     with pytest.raises(ModelError) as err:
-        solve_all(m)
+        solve(m)
     text = str(err.value)
     assert text.startswith("frame.deck:10:1: case M: no mode lies at or below fmax")
     assert text.splitlines()[1].strip() == "case M modes { fmax = 0.001 Hz }"
@@ -31,13 +31,14 @@ def test_modes_case_error_carries_its_location():
 def test_more_modes_than_the_model_has_is_warned():
     # 3 nodes, one fixed: 12 free DOFs, all with mass (consistent mass), so 12 modes at most
     m = read_text(FRAME + "case M modes { count = 50 }\n", "frame.deck")
-    _, modal = solve_all(m)
+    solved = solve(m)
+    modal = solved.modal
     assert len(modal[0].modes.omega) == 12
-    assert any("frame.deck:10:1" in w and "asks for 50 modes" in w and "only 12" in w for w in m.warnings)
+    assert any("frame.deck:10:1" in w and "asks for 50 modes" in w and "only 12" in w for w in solved.warnings)
 
 
 def test_modes_only_run_estimates_the_stiffness_condition():
-    # no static case: the estimate comes from the modes case. Hager-Higham's estimator is a
+    # no static case: the estimate comes from the model's checks. Hager-Higham's estimator is a
     # lower bound of the 1-norm condition number, exact or near it for small matrices
     # (Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed., sec. 15.3); numpy's
     # cond(K, 1) on the dense K is the reference.
@@ -46,15 +47,15 @@ def test_modes_only_run_estimates_the_stiffness_condition():
     from fem.assembly import assemble
 
     m = read_text(FRAME + "case M modes { count = 4 }\n")
-    solve_all(m)
+    cond = solve(m).soundness.condition
     asm = assemble(m)
     K = asm.K[asm.free][:, asm.free].toarray()
     exact = np.linalg.cond(K, 1)
-    assert 0.3 * exact <= m.settings["_condition"] <= exact * (1 + 1e-9)
+    assert 0.3 * exact <= cond <= exact * (1 + 1e-9)
 
 
 def test_modes_only_stiff_contrast_is_warned(tmp_path, capsys):
-    from fem.run import run_deck
+    from fem.cli import run_deck
 
     stiff = FRAME.replace("material S { E = 210 GPa", "material S { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }\n"
                           "material X { E = 2.1e9 GPa").replace("member V : B -> C beam P S", "member V : B -> C beam P X")
@@ -67,5 +68,4 @@ def test_modes_only_stiff_contrast_is_warned(tmp_path, capsys):
 def test_free_structure_has_no_condition_estimate():
     # a free-free member: K is singular by design (six rigid-body modes), no estimate is made
     m = read_text(FRAME.replace("support A fixed\n", "") + "case M modes { count = 8 }\n")
-    solve_all(m)
-    assert m.settings.get("_condition") is None
+    assert solve(m).soundness.condition is None

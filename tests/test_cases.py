@@ -21,7 +21,7 @@ from fem.cases import (
 )
 from fem.deck.reader import read_text
 from fem.errors import DeckError
-from fem.run import solve_all
+from fem.solve import solve
 from fem.spectrum import Spectrum
 from fem.timefn import TimeFunction
 
@@ -221,9 +221,9 @@ def test_deck_cases_equal_python_cases_and_solve_alike():
     for deck_case, python_case in zip(model.cases, built):
         assert deck_case == python_case, deck_case.name           # every field but the locations
     assert model.cases[1] != replace(built[1], count=5)
-    by_deck = solve_all(read_text(FRAME + CASES))
-    by_python = solve_all(replace(read_text(FRAME + CASES), cases=built))
-    for a, b in zip([*by_deck[0], *by_deck[1]], [*by_python[0], *by_python[1]], strict=True):
+    by_deck = solve(read_text(FRAME + CASES))
+    by_python = solve(replace(read_text(FRAME + CASES), cases=built))
+    for a, b in zip(by_deck, by_python, strict=True):
         assert a.name == b.name
         for field in ("u", "shapes", "zeta", "peak", "reactions", "member_forces", "member_peak"):
             if hasattr(a, field):
@@ -249,13 +249,13 @@ def test_python_case_solved_end_to_end():
     # amplitude is u_st / (2 zeta) (reference-values.md section 5, Chopra 2017 Sec. 3.2:
     # R_d(1) = 1/(2 zeta), 10 at 5 %), u_st = F / k with k = w^2 m of the one mode (1000 t)
     model = read_text(SDOF)
-    fn = solve_all(model)[1][0].modes.freq[0]
+    fn = solve(model)["MODES"].modes.freq[0]
     # the bar's EA/L with the area of the table, which has 7 digits
     assert fn == pytest.approx(np.sqrt(K_BAR / 1e6) / (2 * np.pi), rel=1e-6)
     sweep = HarmonicCase(name="H", modes="MODES", fmin=fn, fmax=2.0 * fn, points=2,
                          loads=(LoadItem("force", np.array([1]), np.array([100e3, 0.0, 0.0])),),
                          damping=Damping(zeta=0.05))
-    h = solve_all(replace(model, cases=[*model.cases, sweep]))[1][-1]
+    h = solve(replace(model, cases=[*model.cases, sweep]))["H"]
     assert h.freq[0] == fn
     k = (2 * np.pi * fn) ** 2 * 1e6
     # one mode and one frequency: exact but for rounding, hence 1e-9

@@ -83,14 +83,13 @@ def test_mast_mechanism_is_refused_by_check_and_run_alike(tmp_path, capsys, case
 def test_sound_mast_checks_and_runs_with_the_same_notes(tmp_path, capsys):
     from fem.analysis.soundness import summary_lines
     from fem.deck.reader import read_text
-    from fem.run import solve_all
+    from fem.solve import solve
 
     sound = _mast([0, 1, 2]) + MODES + STATIC
     (c_code, _, c_out), (r_code, _, r_out) = _both(tmp_path, capsys, sound)
     assert c_code == 0 and r_code in (0, 1)
     m = read_text(sound)
-    solve_all(m)
-    lines = summary_lines(m)
+    lines = summary_lines(solve(m).soundness)
     assert any("stiffness condition estimate" in ln for ln in lines)
     for ln in lines:
         assert ln in c_out.splitlines() and f"  {ln}" in r_out.splitlines()
@@ -181,12 +180,13 @@ def test_rigid_motions_left_by_partial_supports_are_named(supports, names):
     # kinematics, common practice, no source: vertical restraint alone leaves the plan motions
     # (X, Y, turn about Z); a single pin leaves the three turns about it
     from fem.deck.reader import read_text
-    from fem.run import solve_all
+    from fem.solve import solve
 
     m = read_text(FREE + supports + "\ncase MODES modes { count = 8 }\n")
-    _, modal = solve_all(m)
-    assert m.settings["_rigid_motions"] == names
-    assert any(f"free in {len(names)} rigid-body motion(s)" in w for w in m.warnings)
+    solved = solve(m)
+    modal = solved.modal
+    assert solved.soundness.rigid == names
+    assert any(f"free in {len(names)} rigid-body motion(s)" in w for w in solved.warnings)
     assert int(np.sum(modal[0].modes.freq == 0)) == len(names)
 
 
@@ -237,17 +237,16 @@ def test_library_warnings_are_said_in_our_words():
     import scipy.linalg as sla
 
     from fem.analysis.soundness import quiet
-    from fem.deck.reader import read_text
 
-    m = read_text(FREE)
+    notes = []
     with warnings.catch_warnings(record=True) as escaped:
         warnings.simplefilter("always")
-        with quiet(m, "case X"):
+        with quiet(notes, "case X"):
             sla.solve(sla.hilbert(14), np.ones(14))    # condition ~1e19, not exactly singular
             np.exp(np.array([1000.0]))
             np.exp(np.array([1000.0]))           # said once
     assert not escaped
-    said = [w for w in m.warnings if w.startswith("warning: case X:")]
+    said = [str(w) for w in notes if str(w).startswith("warning: case X:")]
     assert any("a dense solve met a nearly singular matrix" in w for w in said), said
     assert sum("overflowed" in w for w in said) == 1
 
@@ -267,7 +266,7 @@ def test_one_factor_of_K_serves_checks_static_cases_and_modes(monkeypatch):
     from fem.analysis.modes import DENSE_LIMIT, solve_modes
     from fem.assembly import assemble
     from fem.deck.reader import read_text
-    from fem.run import solve_all
+    from fem.solve import solve
 
     calls = []
     real = fac.spd_factor
@@ -275,7 +274,8 @@ def test_one_factor_of_K_serves_checks_static_cases_and_modes(monkeypatch):
     m = read_text(_beam_line(150, "case S static { force N150 = (0, 0, -1 kN) }\ncase MODES modes { count = 6 }\n"
                                   "case HIT history { force N150 = (0, 0, 1 kN), time = halfsine(0.01 s), "
                                   "duration = 0.05 s, step = 0.001 s, correction = on }\n"))
-    results, modal = solve_all(m)
+    solved = solve(m)
+    results, modal = solved.statics, solved.modal
     n_free = 6 * 150
     assert n_free > DENSE_LIMIT
     assert calls == [(n_free, n_free)]
@@ -320,8 +320,8 @@ def test_fuzz_released_inclined_member_is_refused_modes_only(tmp_path):
     # released about both cross axes, static cases dropped; the run is refused as a mechanism
     import random
 
+    from fem.cli import run_deck
     from fem.errors import MechanismError
-    from fem.run import run_deck
 
     fz = _fuzz()
     for seed in range(50):

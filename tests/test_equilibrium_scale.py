@@ -28,12 +28,12 @@ from fem.analysis.static import (
     balance,
     load_vector,
     precision_lines,
-    static_ok,
     support_forces,
 )
 from fem.assembly import assemble
+from fem.checks import modal_checks, static_ok
 from fem.deck.reader import read_text
-from fem.run import modal_checks, solve_all
+from fem.solve import solve
 
 LINKS = [0.1, 1.0, 5.0, 20.0]        # mm
 IDS = [f"{x:g}mm" for x in LINKS]
@@ -69,7 +69,8 @@ case LET_GO free {{ start = STORM, duration = 1 s, step = 0.002 s, damping = 1 p
 
 def tower(link):
     model = read_text(TOWER.format(link=link))
-    statics, modal = solve_all(model)
+    solved = solve(model)
+    statics, modal = solved.statics, solved.modal
     return model, assemble(model), {r.name: r for r in statics}, {r.name: r for r in modal}
 
 

@@ -6,7 +6,7 @@ import scipy.linalg as sla
 
 from fem.deck.reader import read_text
 from fem.errors import DeckError
-from fem.run import solve_all
+from fem.solve import solve
 
 DECK = """
 material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
@@ -27,7 +27,8 @@ def test_release_matches_full_system_expm():
     # (scipy.linalg.expm); tolerance 1e-9 of the initial deflection covers round-off.
     from fem.assembly import assemble
     m = read_text(DECK % 24)
-    statics, others = solve_all(m)
+    solved = solve(m)
+    statics, others = solved.statics, solved.modal
     free = others[-1]
     u_tip0 = statics[0].u[4, 2]
     assert free.u[0, 0, 2] == pytest.approx(u_tip0, rel=1e-10)
@@ -46,7 +47,7 @@ def test_release_matches_full_system_expm():
 
 def test_truncated_modes_capture_less():
     m = read_text(DECK % 2)
-    _, others = solve_all(m)
+    others = solve(m).modal
     assert 0.9 < others[-1].captured < 1.0
 
 
@@ -142,7 +143,7 @@ def test_free_case_force_peaks_match_full_system(damping, a0a1):
         wi, wj, zi, zj = 2 * np.pi * 4, 2 * np.pi * 100, 0.02, 0.03
         a0a1 = (2 * wi * wj * (zi * wj - zj * wi) / (wj**2 - wi**2), 2 * (zj * wj - zi * wi) / (wj**2 - wi**2))
     m = read_text(FRAME % damping)
-    fr = solve_all(m)[1][-1]
+    fr = solve(m).modal[-1]
     r_ref, m_ref = _full_system_force_peaks(m, fr.t, *a0a1)
     np.testing.assert_allclose(fr.reaction_peak, r_ref, atol=1e-8 * r_ref.max())
     np.testing.assert_allclose(fr.member_peak, m_ref, atol=1e-8 * m_ref.max())
@@ -174,7 +175,7 @@ def test_released_cantilever_single_mode_base_forces():
     E, I, L = 200e9, 1.171623e-5, 5.0
     b, s = 1.87510407 / L, 0.734095514
     m = read_text(CANTILEVER)
-    _, others = solve_all(m)
+    others = solve(m).modal
     modes, fr = others
     assert modes.modes.freq[0] == pytest.approx(6.44505, rel=2e-6)
     tip = fr.peak[20, 2]
@@ -194,9 +195,9 @@ def test_inertia_balance_check_sees_springs():
     from fem.analysis.free_case import _inertia_balance
     from fem.analysis.modal_case import field_responses
     from fem.assembly import assemble
-    from fem.run import BALANCE_TOL
+    from fem.checks import BALANCE_TOL
     m = read_text((DECK % 24).replace("mass N4 = 50 kg", "mass N4 = 50 kg\nspring N4 (uz = 2e6 N/m)"))
-    modal, fr = solve_all(m)[1]
+    modal, fr = solve(m).modal
     assert fr.inertia_balance < 1e-10
     asm = assemble(m)
     m.springs[:] = 0.0          # reactions without the spring's force (K keeps the spring)
@@ -210,11 +211,11 @@ def test_free_case_rows_in_the_tables(tmp_path):
     import csv
     import json
 
-    from fem.run import run_deck
+    from fem.cli import run_deck
     deck = tmp_path / "c.deck"
     deck.write_text(DECK % 24)
     assert run_deck(str(deck), str(tmp_path / "out"), render=False) == 0
-    fr = solve_all(read_text(DECK % 24))[1][-1]
+    fr = solve(read_text(DECK % 24)).modal[-1]
     out = tmp_path / "out"
     rows = [r for r in csv.DictReader((out / "reactions.csv").open()) if r["case"] == "REL"]
     assert [r["node"] for r in rows] == ["N0"]
@@ -257,7 +258,8 @@ def test_start_support_forces_held_by_the_modes(count):
     # the dense free K, M (1e-9 relative); with all 24 modes Phi Phi^T M = I, nothing is missed.
     from fem.assembly import assemble
     m = read_text((DECK % count).replace("(0, 0, -10 kN)", "(10 kN, 0, -10 kN)"))
-    statics, others = solve_all(m)
+    solved = solve(m)
+    statics, others = solved.statics, solved.modal
     free = others[-1]
     asm = assemble(m)
     f = asm.free

@@ -10,7 +10,7 @@ from fem.analysis.static import load_vector
 from fem.assembly import assemble
 from fem.deck.reader import read_text
 from fem.errors import DeckError
-from fem.run import solve_all
+from fem.solve import solve
 
 SDOF = """
 material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
@@ -35,7 +35,7 @@ K_BAR = 200e9 * 3.600457e-3 / 2.0
 def test_sdof_amplification_and_phase(r, rd, lag):
     fn = np.sqrt(K_BAR / 1e6) / (2 * np.pi)
     m = read_text(SDOF % (r * fn, 1.7 * fn if r < 1.7 else 2.5 * fn))
-    h = solve_all(m)[1][-1]
+    h = solve(m).modal[-1]
     i = np.argmin(np.abs(h.freq - r * fn))
     u = h.u[i, 0, 0] if h.record[0] == 1 else h.u[i, 1, 0]
     assert abs(u) / (100e3 / K_BAR) == pytest.approx(rd, rel=1e-4)
@@ -84,7 +84,7 @@ def direct(m, freq):
 def test_all_modes_equal_direct_complex_solve():
     # all 30 modes kept and classical (Rayleigh) damping: modal superposition is exact
     m = read_text(FRAME % (30, ""))
-    h = solve_all(m)[1][-1]
+    h = solve(m).modal[-1]
     ref = direct(m, h.freq)
     np.testing.assert_allclose(h.u[:, 0, :3], ref, rtol=1e-8, atol=1e-10 * np.abs(ref).max())
 
@@ -96,7 +96,7 @@ def test_residual_correction_reduces_truncation_error():
     m = read_text(FRAME % (3, ""))
 
     def err(extra):
-        h = solve_all(read_text(FRAME % (3, extra)))[1][-1]
+        h = solve(read_text(FRAME % (3, extra))).modal[-1]
         low = h.freq < 0.5 * h.highest_mode_Hz
         r = direct(m, h.freq[low])
         return (np.linalg.norm(h.u[low, 0, :3] - r, axis=1) / np.linalg.norm(r, axis=1)).max()
@@ -118,7 +118,7 @@ def test_member_force_amplitudes_match_direct_solve():
     # direct complex solves with the member stiffness
     from fem.analysis.modal_case import field_responses
     m = read_text(FRAME % (30, ""))
-    h = solve_all(m)[1][-1]
+    h = solve(m).modal[-1]
     asm = assemble(m)
     f = asm.free
     F = load_vector(m, asm, m.cases[1])[0][f]
@@ -144,7 +144,7 @@ def test_sdof_reaction_amplitude_and_phase(r):
     # section 5, values C)
     from fem.analysis.harmonic import lag_degrees
     fn = np.sqrt(K_BAR / 1e6) / (2 * np.pi)
-    modes, h = solve_all(read_text(SDOF % (r * fn, 1.7 * fn if r < 1.7 else 2.5 * fn)))[1]
+    modes, h = solve(read_text(SDOF % (r * fn, 1.7 * fn if r < 1.7 else 2.5 * fn))).modal
     i = np.argmin(np.abs(h.freq - r * fn))
     # the model's own natural frequency and stiffness (K_BAR is printed to 7 digits only)
     fn = modes.modes.freq[0]
@@ -189,9 +189,10 @@ def test_reaction_and_end_force_phases_match_direct_complex_solve(tmp_path):
     import json
 
     from fem.analysis.harmonic import lag_degrees
-    from fem.run import _write
+    from fem.output.write import write_results
     m = read_text(FRAME % (30, ""))
-    results, modal = solve_all(m)
+    solved = solve(m)
+    modal = solved.modal
     h = modal[-1]
     R, Fm = _direct_fields(m, h.freq)
     assert list(h.support) == [0] and [m.member_names[q] for q in h.members] == ["ARM"]
@@ -204,17 +205,18 @@ def test_reaction_and_end_force_phases_match_direct_complex_solve(tmp_path):
     assert np.abs(d[big]).max() < 1e-5
     # the phase moves through the sweep: the base reaction is not a stored constant
     assert np.ptp(lag_degrees(R[:, 0, 0])) > 90
-    doc = _write(m, results, modal, tmp_path)
-    with (tmp_path / "frf_reactions_F.csv").open() as fh:
+    out = tmp_path / "out"
+    doc = write_results(solved, out, render=False).doc
+    with (out / "frf_reactions_F.csv").open() as fh:
         rows = [row for row in csv.DictReader(fh) if row["node"] == "N0"]
     assert len(rows) == len(h.freq)
     k = int(np.argmax(np.abs(R[:, 0, 0])))
     assert float(rows[k]["amp_Fx"]) == pytest.approx(abs(R[k, 0, 0]), rel=1e-8)
     assert float(rows[k]["lag_deg_Fx"]) == pytest.approx(lag_degrees(R[k, 0, 0]), abs=1e-5)
-    with (tmp_path / "frf_member_forces_F.csv").open() as fh:
+    with (out / "frf_member_forces_F.csv").open() as fh:
         rows = [row for row in csv.DictReader(fh) if row["member"] == "ARM" and row["end"] == "j"]
     assert float(rows[k]["lag_deg_Mz"]) == pytest.approx(lag_degrees(Fm[k, arm, 11]), abs=1e-5)
-    case = next(c for c in json.loads((tmp_path / "results.json").read_text())["cases"] if c["name"] == "F")
+    case = next(c for c in json.loads((out / "results.json").read_text())["cases"] if c["name"] == "F")
     peak = case["reaction_peaks"]["N0"]
     assert peak["amplitude"][0] == pytest.approx(np.abs(R[:, 0, 0]).max(), rel=1e-8)
     assert peak["frequency_Hz"][0] == pytest.approx(h.freq[k], rel=1e-12)
@@ -224,21 +226,21 @@ def test_reaction_and_end_force_phases_match_direct_complex_solve(tmp_path):
 
 def test_end_force_table_beyond_the_row_limit_is_warned_not_written(tmp_path, monkeypatch):
     import fem.analysis.harmonic as harmonic
-    from fem.run import _write
+    from fem.output.write import write_results
     # 102 frequencies (points and those around the modes) x 1 recorded node and 1 support fit
     # under 150 rows; the end forces of the members there (x 2 ends) do not
     monkeypatch.setattr(harmonic, "ROWS_LIMIT", 150)
     m = read_text(FRAME % (3, ""))
-    results, modal = solve_all(m)
-    h = modal[-1]
+    solved = solve(m)
+    h = solved.modal[-1]
     assert h.member_forces is None
     # (3 of 30 modes also leave the sweep's top uncovered: that is the other warning)
     w = [x for x in h.warnings if "end-force table would have" in x]
     assert len(w) == 1 and len(h.warnings) == 2
     assert w[0].startswith("deck.deck:") and "record fewer nodes" in w[0]
-    _write(m, results, modal, tmp_path)
-    assert (tmp_path / "frf_reactions_F.csv").exists()
-    assert not (tmp_path / "frf_member_forces_F.csv").exists()
+    write_results(solved, tmp_path / "out", render=False)
+    assert (tmp_path / "out" / "frf_reactions_F.csv").exists()
+    assert not (tmp_path / "out" / "frf_member_forces_F.csv").exists()
 
 
 def test_modes_complete_to_the_sturm_shift(capsys, tmp_path):
@@ -249,7 +251,7 @@ def test_modes_complete_to_the_sturm_shift(capsys, tmp_path):
     # Eigenvalues for the check from scipy.linalg.eigh on the assembled matrices.
     import scipy.linalg as sla
 
-    from fem.run import run_deck
+    from fem.cli import run_deck
 
     deck = FRAME.replace("to = 60 Hz", "to = 40 Hz")
     m = read_text(deck % (30, ""))
@@ -257,7 +259,7 @@ def test_modes_complete_to_the_sturm_shift(capsys, tmp_path):
     f = asm.free
     lam = sla.eigh(asm.K[f][:, f].toarray(), asm.M[f][:, f].toarray(), eigvals_only=True)
     fmax = deck.replace("count = %d", "fmax = 50 Hz") % ("",)
-    h = solve_all(read_text(fmax))[1][-1]
+    h = solve(read_text(fmax)).modal[-1]
     assert len(h.zeta) == 6
     assert h.modes_complete_Hz == pytest.approx(np.sqrt(0.5 * (lam[5] + lam[6])) / (2 * np.pi), rel=1e-9)
     # complete to 53.8 Hz: a sweep to 40 Hz is covered but with less than the 1.5x margin that
@@ -270,9 +272,9 @@ def test_modes_complete_to_the_sturm_shift(capsys, tmp_path):
     (tmp_path / "c.deck").write_text(fmax.replace("to = 40 Hz", "to = 30 Hz"))
     run_deck(str(tmp_path / "c.deck"), str(tmp_path / "c"), render=False)
     assert "complete only up to" not in capsys.readouterr().out
-    h4 = solve_all(read_text(deck % (4, "")))[1][-1]
+    h4 = solve(read_text(deck % (4, ""))).modal[-1]
     assert h4.modes_complete_Hz == pytest.approx(np.sqrt(0.5 * (lam[3] + lam[4])) / (2 * np.pi), rel=1e-9)
     (tmp_path / "b.deck").write_text(deck % (4, ""))
     run_deck(str(tmp_path / "b.deck"), str(tmp_path / "b"), render=False)
     assert "complete only up to 19" in capsys.readouterr().out
-    assert solve_all(read_text(deck % (30, "")))[1][-1].modes_complete_Hz == np.inf
+    assert solve(read_text(deck % (30, ""))).modal[-1].modes_complete_Hz == np.inf

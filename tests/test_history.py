@@ -8,7 +8,7 @@ from scipy.integrate import solve_ivp
 from fem.assembly import assemble
 from fem.deck.reader import read_text
 from fem.errors import DeckError
-from fem.run import solve_all
+from fem.solve import solve
 
 # a massless axial bar carrying a point mass is a single-DOF oscillator: k = EA/L, m
 SDOF = """
@@ -30,7 +30,7 @@ K_EXACT = 200e9 * np.pi * (0.1683**2 - (0.1683 - 2 * 0.00711)**2) / 4 / 2.0
 
 def sdof(time, duration, step, damping="0"):
     m = read_text(SDOF % (time, duration, step, damping))
-    _, others = solve_all(m)
+    others = solve(m).modal
     return others[-1]
 
 
@@ -136,7 +136,7 @@ def full_solution(m, tmax, dt):
 
 def test_all_modes_equal_direct_integration():
     m = read_text(FRAME % (30, ""))
-    _, others = solve_all(m)
+    others = solve(m).modal
     h = others[-1]
     t, uz = full_solution(m, 0.6, 0.002)
     # all 30 modes: the same piecewise-linear problem solved two ways; rtol of solve_ivp
@@ -148,7 +148,7 @@ def test_truncation_error_drops_with_modes_and_correction():
 
     def err(k, corr):
         m = read_text(FRAME % (k, ", correction = on" if corr else ""))
-        h = solve_all(m)[1][-1]
+        h = solve(m).modal[-1]
         return np.abs(h.u[:, 0, 2] - uz).max() / np.abs(uz).max()
 
     e2, e4, e2c = err(2, False), err(4, False), err(2, True)
@@ -179,7 +179,7 @@ def test_ground_motion_sdof_vs_solve_ivp():
     wn = np.sqrt(k / 2000)
     fg = 0.8 * wn / (2 * np.pi)
     m = read_text(GROUND % fg)
-    h = solve_all(m)[1][-1]
+    h = solve(m).modal[-1]
     t = h.t
     ag = 0.2 * 9.80665 * np.sin(2 * np.pi * fg * t)
     sol = solve_ivp(lambda tt, y: [y[1], -np.interp(tt, t, ag) - 2 * 0.05 * wn * y[1] - wn**2 * y[0]],
@@ -208,7 +208,7 @@ def test_table_time_function_from_deck_file(tmp_path):
     (tmp_path / "rec" / "f.csv").write_text("# time, factor\n0,1\n10,1\n")
     deck = tmp_path / "d.deck"
     deck.write_text((SDOF % ("step", "0.5 s", "0.001 s", "0")).replace("time = step", 'table = "rec/f.csv"'))
-    tab = solve_all(read_deck(deck))[1][-1]
+    tab = solve(read_deck(deck)).modal[-1]
     step = sdof("step", "0.5 s", "0.001 s")
     np.testing.assert_allclose(tab.u, step.u, atol=1e-15)
 
@@ -227,7 +227,7 @@ def test_member_peaks_match_direct_integration():
     # directly integrated displacements (solve_ivp, rtol 1e-10) with the member stiffness
     from fem.analysis.modal_case import field_responses
     m = read_text(FRAME % (30, ""))
-    h = solve_all(m)[1][-1]
+    h = solve(m).modal[-1]
     asm = assemble(m)
     f = asm.free
     from fem.analysis.static import load_vector
@@ -303,9 +303,9 @@ def test_two_loads_with_two_functions_equal_the_sum_of_single_runs(correction):
     both = """time HUM = harmonic(24.5 Hz), time KNOCK = halfsine(0.0235 s)
               force N2 = (0, 1.2 kN, 0) times HUM
               force H = (-8 kN, 0, 3 kN) times KNOCK"""
-    r = solve_all(read_text(TWO % (both, correction)))[1][-1]
-    a = solve_all(read_text(TWO % ("force N2 = (0, 1.2 kN, 0), time = harmonic(24.5 Hz)", correction)))[1][-1]
-    b = solve_all(read_text(TWO % ("force H = (-8 kN, 0, 3 kN), time = halfsine(0.0235 s)", correction)))[1][-1]
+    r = solve(read_text(TWO % (both, correction))).modal[-1]
+    a = solve(read_text(TWO % ("force N2 = (0, 1.2 kN, 0), time = harmonic(24.5 Hz)", correction))).modal[-1]
+    b = solve(read_text(TWO % ("force H = (-8 kN, 0, 3 kN), time = halfsine(0.0235 s)", correction))).modal[-1]
     for x in ("u", "v", "a", "frames"):
         ref = getattr(a, x) + getattr(b, x)
         np.testing.assert_allclose(getattr(r, x), ref, atol=1e-12 * np.abs(ref).max(), err_msg=x)
@@ -336,7 +336,7 @@ def test_two_direction_ground_motion_equals_the_sum_of_single_directions(tmp_pat
         deck.write_text(TWO.replace("step = 0.0017 s", "step = 0.002 s") % (body, ""))
         m = read_deck(deck)
         assert not [w for w in m.warnings if "row spacing" in w]
-        return solve_all(m)[1][-1]
+        return solve(m).modal[-1]
 
     r = run('''table EW = "ew.csv", table NS = "ns.csv"
                ground = (0.3 gee, 0, 0) times EW
@@ -351,8 +351,8 @@ def test_two_direction_ground_motion_equals_the_sum_of_single_directions(tmp_pat
 
 def test_named_function_equals_the_case_function():
     # the old form (one time = ... for the case) and a named function give the same run
-    old = solve_all(read_text(TWO % ("force H = (-8 kN, 0, 3 kN), time = rect(0.05 s)", "")))[1][-1]
-    new = solve_all(read_text(TWO % ("time P = rect(0.05 s), force H = (-8 kN, 0, 3 kN) times P", "")))[1][-1]
+    old = solve(read_text(TWO % ("force H = (-8 kN, 0, 3 kN), time = rect(0.05 s)", ""))).modal[-1]
+    new = solve(read_text(TWO % ("time P = rect(0.05 s), force H = (-8 kN, 0, 3 kN) times P", ""))).modal[-1]
     np.testing.assert_array_equal(new.u, old.u)
     np.testing.assert_array_equal(new.member_peak, old.member_peak)
 
@@ -403,7 +403,7 @@ def test_table_pulse_with_ends_between_steps_is_exact(tmp_path):
     (tmp_path / "p.csv").write_text(f"{t1:.17g},1\n{t2:.17g},1\n")
     deck = tmp_path / "d.deck"
     deck.write_text((SDOF % ("step", f"{2 * T} s", f"{T / 17.3} s", "0")).replace("time = step", 'table = "p.csv"'))
-    r = solve_all(read_deck(deck))[1][-1]
+    r = solve(read_deck(deck)).modal[-1]
 
     def step(s):
         return np.where(s > 0, 1 - np.cos(w * s), 0.0)
@@ -420,7 +420,7 @@ def test_corrected_velocity_is_the_rate_of_the_corrected_displacement():
     # about (pi/75)^2/8 = 2e-4 of the pulse; without the g' term the tip's vertical velocity is
     # off by 8 % of its peak.
     m = read_text(FRAME % (2, ", correction = on"))
-    modal, others = solve_all(m)
+    others = solve(m).modal
     h = others[-1]
     asm = assemble(m)
     f = asm.free

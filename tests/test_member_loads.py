@@ -8,7 +8,7 @@ from fem.analysis.static import solve_static
 from fem.assembly import assemble
 from fem.deck.reader import read_text
 from fem.errors import DeckError
-from fem.run import solve_all
+from fem.solve import solve
 
 E = 200e9
 # generic section with distinct bending stiffnesses, so a load on the wrong axis shows
@@ -176,7 +176,7 @@ def test_history_step_of_a_local_axial_load():
 case H history {{ line M = local(10 kN/m, 0, 0), time = step, duration = {1.5 * T} s,
                   step = {T / 400} s, damping = 0 }}
 """)
-    h = solve_all(m)[1][-1]
+    h = solve(m).modal[-1]
     u_static = w * L / 2 / K_AX
     np.testing.assert_allclose(h.peak[1, :3], 2 * u_static * X_AX, rtol=1e-4, atol=1e-9 * u_static)
     assert h.member_peak[0, 0] == pytest.approx(1.5 * w * L, rel=1e-4)
@@ -196,7 +196,7 @@ def test_harmonic_local_axial_load():
 case F harmonic {{ line M = local(10 kN/m, 0, 0), from = {0.4 * fn} Hz, to = {0.5 * fn} Hz,
                    points = 2, damping = 5 percent }}
 """)
-    h = solve_all(m)[1][-1]
+    h = solve(m).modal[-1]
     i = int(np.argmin(np.abs(h.freq - 0.5 * fn)))
     assert h.freq[i] == pytest.approx(0.5 * fn, rel=1e-12)
     ub = h.u[i, list(h.record).index(1), :3]
@@ -211,8 +211,8 @@ def test_history_and_harmonic_take_local_loads_like_global_ones():
     # the same load written in member axes and in global components gives the same response
     T = _axial_mode_period()
     opts = f"time = halfsine({T / 3} s), duration = {T} s, step = {T / 200} s, damping = 2 percent"
-    a = solve_all(read_text(SDOF + f"case H history {{ line M = local(0, 3 kN/m, 5 kN/m), {opts} }}"))[1][-1]
-    b = solve_all(read_text(SDOF + f"case H history {{ line M = (-4 kN/m, 3 kN/m, 3 kN/m), {opts} }}"))[1][-1]
+    a = solve(read_text(SDOF + f"case H history {{ line M = local(0, 3 kN/m, 5 kN/m), {opts} }}")).modal[-1]
+    b = solve(read_text(SDOF + f"case H history {{ line M = (-4 kN/m, 3 kN/m, 3 kN/m), {opts} }}")).modal[-1]
     for x, y in ((a.peak, b.peak), (a.reaction_peak, b.reaction_peak), (a.member_peak, b.member_peak)):
         np.testing.assert_allclose(x, y, atol=1e-9 * np.abs(y).max())
 

@@ -12,7 +12,7 @@ from fem.deck.reader import read_deck
 from fem.elements import frame as fr
 from fem.elements.interpolate import bending_functions, member_curves
 from fem.output.character import describe_mode
-from fem.run import solve_all
+from fem.solve import solve
 
 E, G = 200e9, 80e9
 IY, IZ, J, A = 2e-5, 3e-5, 1e-5, 0.01
@@ -24,7 +24,8 @@ def _solve(tmp_path, text, name="m.deck"):
     d = tmp_path / name
     d.write_text(MAT + text)
     model = read_deck(d)
-    return model, solve_all(model)
+    solved = solve(model)
+    return model, (solved.statics, solved.modal)
 
 
 def _along(model, u, member=0, n=41):
@@ -251,7 +252,7 @@ def test_sways_and_plan_twist_are_global(motor, tmp_path):
     from tests.test_render import TABLE
     (tmp_path / "t.deck").write_text(TABLE)
     table = read_deck(tmp_path / "t.deck")
-    _, (m3,) = solve_all(table)
+    (m3,) = solve(table).modal
     frac = np.nan_to_num(m3.part.fraction)
     twist = int(np.argmax(frac[:, 5]))
     assert describe_mode(table, m3.shapes[:, :, twist]).label == "global: twist in plan about Z"
@@ -278,7 +279,7 @@ def test_results_json_and_vtu_carry_the_character_and_curves(tmp_path):
     assert ch[0]["kinetic_energy_share"]["MOTOR"] == pytest.approx(1.0, abs=0.02)
     assert ch[3]["label"] == "global: sway in X"
     model = read_deck(d)
-    _, (modes,) = solve_all(model)
+    (modes,) = solve(model).modal
     phi = modes.shapes[:, :, 0]
     c = member_curves(model, phi, n_points=VTU_POINTS)
     k = drawing_scale(c, phi, shape_scale(model))

@@ -89,7 +89,7 @@ def test_modal_mass_and_stiffness_of_a_tip_mass_on_a_massless_cantilever(tmp_pat
     # finite mode computed the effective masses add up to the total mass (physical fact).
     import json
 
-    from fem.run import run_deck
+    from fem.cli import run_deck
     deck = tmp_path / "tip.deck"
     deck.write_text("""
 material LIGHT { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }

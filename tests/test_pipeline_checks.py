@@ -8,9 +8,11 @@ import numpy as np
 import pytest
 
 from fem.assembly import assemble
+from fem.cli import run_deck
 from fem.deck.reader import read_text
 from fem.errors import DeckError, ModelError, QuaverError
-from fem.run import _strict, run_deck, solve_all
+from fem.output.results_json import strict
+from fem.solve import solve
 
 FRAME = """material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
 section P = pipe(od = 168.3 mm, wall = 7.11 mm)
@@ -38,7 +40,7 @@ def _refused(tmp_path, text, pattern, kind=ModelError):
 
 def test_fmax_below_the_first_mode_says_where_the_first_mode_is(tmp_path):
     m = read_text(FRAME + "case M modes { count = 1 }\n")
-    f1 = solve_all(m)[1][0].modes.freq[0]
+    f1 = solve(m).modal[0].modes.freq[0]
     _refused(tmp_path, FRAME + "case M modes { fmax = 0.001 Hz }\n"
              "case H harmonic { force C = (1 kN, 0, 0), from = 1 Hz, to = 10 Hz, damping = 2 percent }\n",
              rf"no mode lies at or below fmax = 0.001 Hz \(the lowest is {f1:.4g} Hz\)")
@@ -109,16 +111,16 @@ def test_free_structure_results_are_strict_json(tmp_path):
 
 
 def test_a_broken_number_is_refused_not_written():
-    assert _strict({"period_s": [float("inf"), 1.0]}) == {"period_s": [None, 1.0]}
+    assert strict({"period_s": [float("inf"), 1.0]}) == {"period_s": [None, 1.0]}
     with pytest.raises(ModelError, match=r"non-finite number \(nan\) at cases\[0\].peak_amplitude_m"):
-        _strict({"cases": [{"peak_amplitude_m": float("nan")}]})
+        strict({"cases": [{"peak_amplitude_m": float("nan")}]})
     assert issubclass(ModelError, QuaverError)
 
 
 def test_no_mode_checks_never_see_an_empty_mode_set():
     # count larger than the model's finite modes: all of them, and the checks stay finite
     m = read_text(FRAME + "case M modes { count = 500 }\n")
-    r = solve_all(m)[1][0]
+    r = solve(m).modal[0]
     assert 0 < len(r.modes.omega) <= 18 and np.isfinite(r.modes.residual).all()
 
 
@@ -133,7 +135,7 @@ def _run(tmp_path, text, tables=()):
 
 def test_coarse_free_step_is_warned_with_the_figure(tmp_path, capsys):
     m = read_text(FRAME + "case M modes { count = 4 }\n")
-    T = solve_all(m)[1][0].modes.period[-1]
+    T = solve(m).modal[0].modes.period[-1]
     _, doc = _run(tmp_path, FRAME + "case M modes { count = 4 }\n"
                   f"case F free {{ velocity C = (0.1 m/s, 0, 0), duration = {20 * T} s, step = {T / 4} s }}\n")
     w = doc["cases"][-1]["checks"]["warnings"]

@@ -295,8 +295,8 @@ def test_rigid_motions_left_free_by_the_supports(support, free):
     from fem.analysis.soundness import examine
 
     model = read_text(deck)
-    examine(model)      # the model's checks before any case find the motions from K itself
-    assert len(model.settings["_rigid_motions"]) == free
+    _, sound = examine(model)      # the model's checks before any case find the motions from K itself
+    assert len(sound.rigid) == free
 
 
 # ---------- 6. the demo decks raise no plausibility warning and pass
@@ -309,13 +309,14 @@ def test_demo_decks_raise_no_plausibility_warning(name):
 def test_mast_answers_are_plausible():
     from fem.analysis.modal_case import ModesCaseResult
     from fem.analysis.plausible import static_check, zero_mode_check
-    from fem.run import solve_all
+    from fem.solve import solve
 
     model = read_deck(ROOT / "decks" / "mast.deck")
-    results, modal = solve_all(model)
+    solved = solve(model)
+    results, modal = solved.statics, solved.modal
     for r in results:
         c = static_check(model, r)
         assert c["translation_within_size_pass"] and not c["warnings"]
     for r in modal:
         if isinstance(r, ModesCaseResult):
-            assert zero_mode_check(model, r)["near_zero_pass"]
+            assert zero_mode_check(model, r, len(solved.soundness.rigid))["near_zero_pass"]

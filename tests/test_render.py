@@ -31,11 +31,11 @@ import numpy as np
 from PIL import Image
 from pathlib import Path
 from fem.deck.reader import read_deck
-from fem.run import solve_all
+from fem.solve import solve
 from fem.output.render import render_modes, _FIELD
 from fem.output.vtk import shape_scale
 m = read_deck(sys.argv[1])
-_, others = solve_all(m)
+others = solve(m).modal
 out = Path(sys.argv[2])
 moved = render_modes(out / "a", m, others[0], shape_scale(m), gif=False)
 still = render_modes(out / "b", m, others[0], 0.0, gif=False)
@@ -210,7 +210,7 @@ def test_noisy_probe_reason_keeps_the_message_only():
 
 
 def test_failure_while_drawing_keeps_results(deck, tmp_path, monkeypatch, capsys):
-    from fem.output import render
+    from fem.output import render, render_pool
 
     def broken(*args, **kwargs):
         (args[0]).mkdir(parents=True, exist_ok=True)
@@ -218,7 +218,7 @@ def test_failure_while_drawing_keeps_results(deck, tmp_path, monkeypatch, capsys
         raise RuntimeError("\x1b[31mvtkOpenGLRenderWindow: failed\nto make current\x1b[0m")
 
     monkeypatch.setattr(render, "can_render", lambda: (True, ""))
-    monkeypatch.setattr(render, "render_all", broken)
+    monkeypatch.setattr(render_pool, "render_all", broken)
     out = tmp_path / "res"
     text = _run_in_process(deck, out, capsys)
     lines = [ln.strip() for ln in text.splitlines() if "pictures skipped" in ln]
@@ -272,12 +272,12 @@ def test_torsional_mode_is_named_a_twist(tmp_path):
 
     from fem.deck.reader import read_deck
     from fem.output.render import dominant_direction
-    from fem.run import solve_all
+    from fem.solve import solve
 
     d = tmp_path / "table.deck"
     d.write_text(TABLE)
     model = read_deck(d)
-    _, (modes,) = solve_all(model)
+    (modes,) = solve(model).modal
     names = [dominant_direction(modes.shapes[:, :, j], model.coords)[0] for j in range(3)]
     frac = np.nan_to_num(modes.part.fraction)
     twist = int(np.argmax(frac[:, 5]))

@@ -20,11 +20,11 @@ import numpy as np
 from PIL import Image
 from pathlib import Path
 from fem.deck.reader import read_deck
-from fem.run import solve_all
+from fem.solve import solve
 from fem.output.render import render_modes, _FIELD
 from fem.output.vtk import shape_scale
 m = read_deck(sys.argv[1])
-_, (modes,) = solve_all(m)
+(modes,) = solve(m).modal
 out = Path(sys.argv[2])
 got = {}
 for j in (0, 3):

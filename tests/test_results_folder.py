@@ -11,7 +11,9 @@ from pathlib import Path
 import pytest
 
 import fem.output.folder as folder
-import fem.run as run
+import fem.output.report as report
+import fem.output.summary as summary
+import fem.solve
 from fem.cli import INTERNAL_ERROR, main
 
 ROOT = Path(__file__).parents[1]
@@ -308,7 +310,7 @@ def test_interrupt_while_writing_and_while_printing_the_summary(tmp_path, deck, 
     def boom(*a, **k):
         raise KeyboardInterrupt
     with monkeypatch.context() as m:
-        m.setattr(run, "_report", boom)
+        m.setattr(report, "report", boom)
         capsys.readouterr()
         assert _run(deck, out) == 130
     assert capsys.readouterr().err == (f"interrupted: no results were written; the earlier results in {out} "
@@ -319,7 +321,7 @@ def test_interrupt_while_writing_and_while_printing_the_summary(tmp_path, deck, 
         if a and str(a[0]).startswith("results in"):
             raise KeyboardInterrupt
     deck.write_text(TINY.replace("1 kN", "3 kN"))
-    monkeypatch.setattr(run, "print", cut, raising=False)
+    monkeypatch.setattr(summary, "print", cut, raising=False)
     assert _run(deck, out) == 130
     assert capsys.readouterr().err == f"interrupted: the new results are in {out}\n"
     assert _state(out) != earlier and not _leftovers(tmp_path)
@@ -460,9 +462,9 @@ def _umask() -> int:
 # ---------------------------------------------------------------- internal errors
 
 def test_an_internal_error_has_its_own_status_and_asks_for_a_report(tmp_path, deck, capsys, monkeypatch):
-    def broken(model):
+    def broken(model, cases=None):
         raise ZeroDivisionError("float division by zero")
-    monkeypatch.setattr(run, "solve_all", broken)
+    monkeypatch.setattr(fem.solve, "solve", broken)
     out = tmp_path / "proj"
     assert _run(deck, out) == INTERNAL_ERROR
     err = capsys.readouterr().err
@@ -483,7 +485,7 @@ def test_an_internal_error_after_the_results_are_written_says_where_they_are(tmp
     def cut(*a, **k):
         if a and str(a[0]).startswith("results in"):
             raise RuntimeError("summary broke")
-    monkeypatch.setattr(run, "print", cut, raising=False)
+    monkeypatch.setattr(summary, "print", cut, raising=False)
     out = tmp_path / "proj"
     assert _run(deck, out) == INTERNAL_ERROR
     assert f"The new results are in {out}." in capsys.readouterr().err
@@ -492,7 +494,7 @@ def test_an_internal_error_after_the_results_are_written_says_where_they_are(tmp
 
 def test_an_internal_error_is_not_a_self_check_failure(tmp_path):
     # a crash in a subprocess: status 70, not 1 (results written, a check failed) nor 2
-    code = ("import sys, fem.run as r\n"
+    code = ("import sys, fem.cli as r\n"
             "def bad(*a, **k):\n    raise IndexError('list index out of range')\n"
             "r.run_deck = bad\nfrom fem.cli import main\nsys.exit(main(['run', 'x.deck']))\n")
     p = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300, cwd=tmp_path,
@@ -508,7 +510,7 @@ def test_an_error_after_the_results_are_written_says_so(tmp_path, deck, capsys, 
     def cut(*a, **k):
         if a and str(a[0]).startswith("results in"):
             raise ModelError("a check after writing refused the model")
-    monkeypatch.setattr(run, "print", cut, raising=False)
+    monkeypatch.setattr(summary, "print", cut, raising=False)
     out = tmp_path / "proj"
     assert _run(deck, out) == 2
     assert capsys.readouterr().err == (f"error: a check after writing refused the model\n"

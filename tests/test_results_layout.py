@@ -4,7 +4,8 @@ import csv
 import json
 
 from fem.deck.reader import read_text
-from fem.run import _write, solve_all
+from fem.output.write import write_results
+from fem.solve import solve
 
 # cases written deliberately out of the documented order
 MIXED = """
@@ -31,10 +32,11 @@ def test_cases_are_written_in_the_documented_order(tmp_path):
     # the deck), harmonic, spectrum; the peak tables: static, combinations, spectrum, then the
     # free, history and harmonic envelopes as in the deck
     m = read_text(MIXED)
-    doc = _write(m, *solve_all(m), tmp_path)
+    out = tmp_path / "out"
+    doc = write_results(solve(m), out, render=False).doc
     assert [c["name"] for c in doc["cases"]] == ["ST1", "ST2", "C1", "MODES", "TH", "FV", "HA", "RS"]
-    assert json.loads((tmp_path / "results.json").read_text())["cases"][0]["name"] == "ST1"
-    with (tmp_path / "displacements.csv").open() as fh:
+    assert json.loads((out / "results.json").read_text())["cases"][0]["name"] == "ST1"
+    with (out / "displacements.csv").open() as fh:
         order = list(dict.fromkeys(row["case"] for row in csv.DictReader(fh)))
     assert order == ["ST1", "ST2", "C1", "RS", "HA", "TH", "FV"]
 
@@ -69,7 +71,7 @@ def test_summary_shows_undefined_fractions_as_na(tmp_path, capsys):
     # no mass moves in Y or Z: their effective-mass and missing-mass fractions are 0/0, printed
     # n/a (null in results.json), and each missing-mass fraction is labelled by its direction;
     # with both modes kept the X fraction is round-off around zero, printed 0.0%
-    from fem.run import run_deck
+    from fem.cli import run_deck
     (tmp_path / "s.deck").write_text(SHEAR2)
     run_deck(str(tmp_path / "s.deck"), str(tmp_path / "out"), render=False)
     text = capsys.readouterr().out
@@ -88,7 +90,7 @@ def test_report_modes_table_of_a_free_structure(tmp_path):
     # a free-free pipe: six rigid-body modes have no period (null in results.json), shown as
     # 'rigid' in the report's modes table; a direction of the shear frame without moving mass
     # shows n/a there, not 0.0
-    from fem.run import run_deck
+    from fem.cli import run_deck
     (tmp_path / "f.deck").write_text("""
 material S { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
 section P = pipe(od = 168.3 mm, wall = 7.11 mm)
@@ -107,7 +109,7 @@ case MODES modes { count = 8 }
 
 def test_every_static_case_gets_its_deformed_plot(tmp_path):
     # six static cases and a combination: seven plots (the cap is 24), each in the report
-    from fem.run import run_deck
+    from fem.cli import run_deck
     cases = "".join(f"case L{i} static {{ force C = ({i + 1} kN, 0, 0) }}\n" for i in range(6))
     from test_case_errors import FRAME  # an L-shaped two-member frame fixed at A
     (tmp_path / "d.deck").write_text(FRAME + cases + "combo ALL = L0 + L5\n")

@@ -77,7 +77,7 @@ def test_mast_deck_runs_with_passing_checks(tmp_path, capsys):
 
 
 def test_interrupted_run_keeps_previous_results(tmp_path, monkeypatch, capsys):
-    import fem.run as run
+    import fem.output.report as report
     out = tmp_path / "res"
     assert main(["run", str(RACK), "--out", str(out), "--no-render"]) == 0
     before = (out / "results.json").read_text()
@@ -85,7 +85,7 @@ def test_interrupted_run_keeps_previous_results(tmp_path, monkeypatch, capsys):
     def boom(*a, **k):
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(run, "_report", boom)
+    monkeypatch.setattr(report, "report", boom)
     assert main(["run", str(RACK), "--out", str(out), "--no-render"]) == 130
     assert "interrupted" in capsys.readouterr().err
     assert (out / "results.json").read_text() == before

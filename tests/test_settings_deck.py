@@ -1,5 +1,5 @@
 """`settings { shear = on }` and `settings { mass = lumped }` end to end, from deck text through
-fem.run.solve_all, against closed forms."""
+fem.solve.solve, against closed forms."""
 
 import numpy as np
 import pytest
@@ -7,7 +7,7 @@ import scipy.linalg
 import scipy.optimize
 
 from fem.deck.reader import read_text
-from fem.run import solve_all
+from fem.solve import solve
 
 E, NU, RHO = 200e9, 0.3, 7850.0
 G = E / (2 * (1 + NU))
@@ -36,8 +36,8 @@ def test_shear_on_deep_cantilever_tip_deflection():
     kappa = 10 * (1 + NU) / (12 + 11 * NU)
     assert kappa == pytest.approx(0.849673, abs=1e-6)
     bending, shear = P * L**3 / (3 * E * I), P * L / (kappa * G * A)
-    on = solve_all(read_text(cantilever("rect(b = 100 mm, h = 400 mm)", 3, L, "on")))[0][0]
-    off = solve_all(read_text(cantilever("rect(b = 100 mm, h = 400 mm)", 3, L, "off")))[0][0]
+    on = solve(read_text(cantilever("rect(b = 100 mm, h = 400 mm)", 3, L, "on"))).statics[0]
+    off = solve(read_text(cantilever("rect(b = 100 mm, h = 400 mm)", 3, L, "off"))).statics[0]
     assert -on.u[3, 2] == pytest.approx(bending + shear, rel=1e-9)
     assert -off.u[3, 2] == pytest.approx(bending, rel=1e-9)
     assert shear / bending == pytest.approx(0.122, abs=1e-3)
@@ -52,8 +52,8 @@ def test_shear_on_pipe_cantilever_reference_numbers():
     # (Cowper 1966). Printed to 6-7 digits: tolerance 2e-6 (the section is computed from the
     # nominal od and wall, whose A and I the table gives to 7 digits).
     deck = cantilever("pipe(od = 168.3 mm, wall = 7.11 mm)", 5, 5.0, "%s").replace("-50 kN", "-10 kN")
-    on = solve_all(read_text(deck % "on"))[0][0]
-    off = solve_all(read_text(deck % "off"))[0][0]
+    on = solve(read_text(deck % "on")).statics[0]
+    off = solve(read_text(deck % "off")).statics[0]
     assert -off.u[5, 2] == pytest.approx(0.1778160, rel=2e-6)
     assert on.u[5, 2] - off.u[5, 2] == pytest.approx(-0.339176e-3, rel=2e-6)
 
@@ -95,7 +95,7 @@ def _timoshenko_ss(j, rotary=True):
 
 def _deep_frequencies(n, settings="shear = on"):
     deck = simply_supported(f"rect(b = {DEEP_B * 1e3:g} mm, h = {DEEP_H * 1e3:g} mm)", n, DEEP_L, settings)
-    return solve_all(read_text(deck))[1][0].modes.freq
+    return solve(read_text(deck)).modal[0].modes.freq
 
 
 def test_shear_on_deep_simply_supported_frequencies():
@@ -202,7 +202,7 @@ support N* (ux, rx)
 support N0 fixed
 case MODES modes {{ count = 5 }}
 """
-        return solve_all(read_text(deck))[1][0].modes.freq
+        return solve(read_text(deck)).modal[0].modes.freq
 
     # Observed: from above as h^2, errors 4.61e-5, 1.17e-4, 1.44e-3, 2.81e-3, 8.71e-3 on 8
     # pieces and 1.12e-5, 2.89e-5, 3.55e-4, 7.03e-4, 2.16e-3 on 16 (x-y, x-z, x-y, x-z, x-y
@@ -239,7 +239,7 @@ def test_lumped_mass_frequencies_converge_to_euler_bernoulli():
     exact = _euler_pinned()
     errors = {}
     for n in (8, 16, 32):
-        freq = solve_all(read_text(simply_supported(PIPE, n, PIPE_L, "mass = lumped")))[1][0].modes.freq
+        freq = solve(read_text(simply_supported(PIPE, n, PIPE_L, "mass = lumped"))).modal[0].modes.freq
         errors[n] = freq / exact - 1
     assert all(np.all(e < 0) for e in errors.values())
     assert np.all(np.abs(errors[8]) < [2.2e-5, 3.9e-4, 2.3e-3])
@@ -256,7 +256,7 @@ def test_lumped_mass_fine_mesh_frequencies():
     deck = simply_supported(PIPE, 128, PIPE_L, "mass = lumped", count=6, held="rx")
     model = read_text(deck)
     assert model.settings["mass"] == "lumped"
-    modal = solve_all(model)[1][0]
+    modal = solve(model).modal[0]
     np.testing.assert_allclose(modal.modes.freq, np.repeat(_euler_pinned(), 2), rtol=1e-7)
     assert modal.modes.residual.max() < 1e-8
     # lumped mass: each member's mass sits at its ends, so participation sums to the free mass

@@ -5,7 +5,7 @@ import pytest
 
 from fem.deck.reader import read_deck, read_text
 from fem.errors import DeckError
-from fem.run import solve_all
+from fem.solve import solve
 
 # two-storey shear frame: guided columns with 12 EI / h^3 = 40 MN/m per storey, 100 t floors
 SHEAR2 = """
@@ -31,7 +31,7 @@ case EQ spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), damping =
 ])
 def test_two_storey_worked_example(rule, roof, base):
     m = read_text(SHEAR2 % rule)
-    _, others = solve_all(m)
+    others = solve(m).modal
     modes, eq = others[0], others[-1]
     # T_2 = 2 pi / (1.618034 x 20 rad/s) = 0.1941611 s; the table prints 0.194162, so 6e-6
     np.testing.assert_allclose(modes.modes.period, [0.508320, 0.194162], rtol=6e-6)
@@ -42,7 +42,7 @@ def test_two_storey_worked_example(rule, roof, base):
 
 
 def test_abs_is_an_upper_bound():
-    u = {r: solve_all(read_text(SHEAR2 % r))[1][-1].u[2, 0] for r in ("srss", "cqc", "abs")}
+    u = {r: solve(read_text(SHEAR2 % r)).modal[-1].u[2, 0] for r in ("srss", "cqc", "abs")}
     assert u["abs"] >= u["cqc"] and u["abs"] >= u["srss"]
 
 
@@ -70,7 +70,7 @@ def test_missing_mass_correction(tmp_path):
     # their SRSS per floor is what the case reports; base shear sqrt(2.742238^2 + 0.257762^2) kN
     (tmp_path / "flat.csv").write_text("period_s,sa\n0,1\n1000,1\n")
     (tmp_path / "s.deck").write_text(SHEAR3)
-    eq = solve_all(read_deck(tmp_path / "s.deck"))[1][-1]
+    eq = solve(read_deck(tmp_path / "s.deck")).modal[-1]
     mode1 = np.array([2.742238, 4.941343, 6.161754])
     umm = np.array([0.257762, 0.058657, -0.161754])
     np.testing.assert_allclose(eq.u[1:, 0], np.hypot(mode1, umm), rtol=2e-6)
@@ -133,7 +133,7 @@ def test_spectrum_peak_equals_history_peak_of_the_same_record(tmp_path):
     np.savetxt(tmp_path / "spectrum.csv", np.c_[periods, sa], delimiter=",", header="period_s,sa_g")
     (tmp_path / "sdof.deck").write_text(SDOF)
     m = read_deck(tmp_path / "sdof.deck")
-    _, others = solve_all(m)
+    others = solve(m).modal
     modes, th, rs = others
     assert modes.modes.omega[0] == pytest.approx(wn, rel=1e-12)
     assert rs.u[1, 0] == pytest.approx(d, rel=1e-6)                # spectral value at a table row
@@ -162,7 +162,7 @@ def test_design_curve_at_each_modes_own_damping():
     # (T = 0.508 s) lies on the T_C/T branch, mode 2 (0.194 s) on the plateau (T_B = 0.15 s,
     # T_C = 0.5 s). Roof displacements from Gamma phi_roof = 1.170820 and -0.170820
     # (reference-values.md section 6 'Worked RSA', values C, 6 digits) combined by SRSS.
-    eq = solve_all(read_text(RAYLEIGH2 % "srss"))[1][-1]
+    eq = solve(read_text(RAYLEIGH2 % "srss")).modal[-1]
     ag, s, tc = 0.25 * 9.80665, 1.2, 0.5
     T = eq.periods
     z = _hand_rayleigh(2 * np.pi / T)
@@ -188,7 +188,7 @@ def test_table_made_for_another_damping_is_scaled_per_mode(tmp_path):
     (tmp_path / "flat.csv").write_text("period_s,sa\n0.01,4\n10,4\n")
     (tmp_path / "s.deck").write_text(FLAT2 % "srss")
     m = read_deck(tmp_path / "s.deck")
-    eq = solve_all(m)[1][-1]
+    eq = solve(m).modal[-1]
     z = _hand_rayleigh(2 * np.pi / eq.periods)
     assert _eta(0.02) == pytest.approx(1.195229, rel=1e-6)
     factor = np.array([_eta(z[0]), _eta(z[1])]) / 1.195229
@@ -204,7 +204,7 @@ def test_table_without_made_for_is_used_unscaled_and_warned(tmp_path):
     (tmp_path / "flat.csv").write_text("period_s,sa\n0.01,4\n10,4\n")
     (tmp_path / "s.deck").write_text((FLAT2 % "srss").replace("made_for = 2 percent, ", ""))
     m = read_deck(tmp_path / "s.deck")
-    eq = solve_all(m)[1][-1]
+    eq = solve(m).modal[-1]
     np.testing.assert_allclose(eq.sa[0], 4.0, rtol=1e-14)
     np.testing.assert_allclose(eq.damping_factor, 1.0)
     assert not eq.warnings
@@ -216,7 +216,7 @@ def test_table_made_for_the_case_damping_is_not_scaled(tmp_path):
     (tmp_path / "flat.csv").write_text("period_s,sa\n0.01,4\n10,4\n")
     deck = (FLAT2 % "srss").replace("rayleigh = (1 Hz, 2 percent, 10 Hz, 8 percent)", "damping = 2 percent")
     (tmp_path / "s.deck").write_text(deck)
-    eq = solve_all(read_deck(tmp_path / "s.deck"))[1][-1]
+    eq = solve(read_deck(tmp_path / "s.deck")).modal[-1]
     np.testing.assert_allclose(eq.sa[0], 4.0, rtol=1e-14)
     assert not eq.warnings
 
@@ -232,7 +232,7 @@ def test_made_for_with_a_design_curve_is_refused(tmp_path):
 
 def test_twoperiod_curve_at_other_damping_is_warned():
     deck = (RAYLEIGH2 % "srss").replace("plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s)", "twoperiod(0.8 gee, 0.4 gee, 6 s)")
-    eq = solve_all(read_text(deck))[1][-1]
+    eq = solve(read_text(deck)).modal[-1]
     assert len(eq.warnings) == 1 and "5 % damped design spectrum" in eq.warnings[0]
     np.testing.assert_allclose(eq.damping_factor, 1.0)
 
@@ -243,7 +243,7 @@ def test_missing_mass_term_is_added_absolutely_under_abs(tmp_path):
     # (test_missing_mass_correction); values of reference-values.md section 6 (C)
     (tmp_path / "flat.csv").write_text("period_s,sa\n0,1\n1000,1\n")
     (tmp_path / "s.deck").write_text(SHEAR3.replace("combine = srss", "combine = abs"))
-    eq = solve_all(read_deck(tmp_path / "s.deck"))[1][-1]
+    eq = solve(read_deck(tmp_path / "s.deck")).modal[-1]
     mode1 = np.array([2.742238, 4.941343, 6.161754])
     umm = np.array([0.257762, 0.058657, -0.161754])
     np.testing.assert_allclose(eq.u[1:, 0], mode1 + np.abs(umm), rtol=2e-6)

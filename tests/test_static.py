@@ -325,7 +325,7 @@ def test_combination_equilibrium_is_its_own():
     # A combination's check is computed from its own combined loads and reactions (statics of
     # the superposed state), not copied from its parts: spoiling one combined reaction must show.
     from fem.analysis.static import equilibrium
-    from fem.run import solve_all
+    from fem.solve import solve
 
     m = read_text(PIPE + """
 node A = (0, 0, 0)
@@ -338,7 +338,7 @@ case D static { force C = (0, 0, -20 kN) }
 case W static { force C = (5 kN, 0, 0) }
 combo U = 1.35*D + 1.5*W
 """)
-    results, _ = solve_all(m)
+    results = solve(m).statics
     by = {r.name: r for r in results}
     u = by["U"]
     np.testing.assert_allclose(u.reactions, 1.35 * by["D"].reactions + 1.5 * by["W"].reactions)

@@ -1,6 +1,6 @@
 """Pipeline fuzzing: small valid decks, mutated semantically, run end to end.
 
-Every outcome of `fem.run.run_deck` (pictures off, into a temporary folder) must be a finished
+Every outcome of `fem.cli.run_deck` (pictures off, into a temporary folder) must be a finished
 run or a QuaverError with a message; never another exception, never NaN or infinity in
 results.json or the CSV tables, never a library's warning text or a traceback in what the user
 sees, never a finished run whose stiffness condition estimate is above the refusal level, and a
@@ -26,8 +26,8 @@ import tempfile
 import traceback
 from pathlib import Path
 
+from fem.cli import run_deck
 from fem.errors import DeckError, QuaverError
-from fem.run import run_deck
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -442,14 +442,14 @@ def _finite_json(text: str) -> str | None:
 @contextlib.contextmanager
 def _without_report():
     """Plots and report.html take most of a small run's time; leave them out when asked."""
-    import fem.run
+    import fem.output.report
 
-    saved = fem.run._report
-    fem.run._report = lambda *args, **kwargs: None
+    saved = fem.output.report.report
+    fem.output.report.report = lambda *args, **kwargs: None
     try:
         yield
     finally:
-        fem.run._report = saved
+        fem.output.report.report = saved
 
 
 def check(deck_text: str, tables: dict[str, str], work: Path, report: bool = True,

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -25,6 +26,8 @@ class FreeCaseResult:
     per-mode fields in time; inertia_balance: largest mismatch, relative, between each mode's
     base reaction (with spring forces) and its inertia force w^2 M phi in X, Y, Z;
     inertia_rounding and inertia_ok: its rounding scale and verdict (`inertia_balance_terms`)."""
+
+    kind: ClassVar[str] = "free"
 
     name: str
     t: np.ndarray

@@ -14,6 +14,7 @@ Structures, Sec. 3.2).
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -34,6 +35,8 @@ class HarmonicResult:
     """freq (m,) Hz; record (r,); u (m, r, 6) complex displacement amplitude (relative to the
     ground for base excitation), phase = angle(u) lag-positive convention u = |u| e^{-i phase};
     peak (n, 6) largest |u| over the sweep and peak_freq (n, 6) where."""
+
+    kind: ClassVar[str] = "harmonic"
 
     name: str
     freq: np.ndarray

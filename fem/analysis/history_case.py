@@ -5,7 +5,7 @@ truncated modes for force loads (mode-acceleration method, Cornwell, Craig & Joh
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import NamedTuple
+from typing import ClassVar, NamedTuple
 
 import numpy as np
 
@@ -26,6 +26,8 @@ class HistoryResult:
     """t (m,) s; record (r,) node indices; u, v (m, r, 6) displacement and velocity relative to
     the ground; a (m, r, 6) absolute acceleration; peak, peak_time (n, 6) largest |u| and when;
     zeta (k,) modal damping; corrected: static correction applied."""
+
+    kind: ClassVar[str] = "history"
 
     name: str
     t: np.ndarray

@@ -3,13 +3,15 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
 from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
-from .modes import DENSE_LIMIT, ModalResult, Participation, lanczos_limit, participation, solve_modes
+from ..notes import Note
+from .modes import ModalResult, Participation, lanczos_limit, participation, solve_modes
 
 __all__ = ["ModesCaseResult", "effective_load", "field_responses", "ground_mass_warnings", "influence_vectors",
            "residual_static", "solve_modes_case"]
@@ -20,6 +22,7 @@ GROUND_MASS = 0.9     # share of the mass the modes should carry in a direction 
 
 @dataclass
 class ModesCaseResult:
+    kind: ClassVar[str] = "modes"
     name: str
     modes: ModalResult
     part: Participation
@@ -45,28 +48,6 @@ def influence_vectors(model: Model, point) -> np.ndarray:
     return R.reshape(6 * n, 6)
 
 
-def stiffness_condition(K, modes: ModalResult, cache: dict) -> float | None:
-    """1-norm condition estimate of the free stiffness K for a modes-only run, from the eigen
-    solve's own factor when its shift was zero (a supported structure), or a sparse LU for a
-    model small enough for the dense eigen path; None for a structure with rigid-body modes,
-    whose K is singular by design, and for a large model factored at another shift."""
-    import scipy.sparse.linalg as spla
-
-    from .static import _Symmetric, condition_estimate
-
-    if not len(modes.omega) or modes.omega[0] <= 0:
-        return None
-    factor = cache.get("factor")
-    if factor is not None and factor[1] == 0:
-        return condition_estimate(K.tocsc(), _Symmetric(factor[0]))
-    if factor is None and K.shape[0] <= DENSE_LIMIT:
-        try:
-            return condition_estimate(K.tocsc(), spla.splu(K.tocsc()))
-        except RuntimeError:       # exactly singular: a mechanism, refused by the model's checks
-            return None
-    return None
-
-
 def shape_rows(case: LoadCase, model: Model, count: int, n_free: int, asked: str = "") -> None:
     """Refuse a modes case whose mode-shape table (modes x nodes rows) would pass ROWS_LIMIT;
     the advice is also within what the eigen solver accepts for n_free DOFs."""
@@ -81,11 +62,13 @@ def shape_rows(case: LoadCase, model: Model, count: int, n_free: int, asked: str
                          "(count, or a lower fmax)")
 
 
-def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None) -> ModesCaseResult:
+def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None,
+                     notes: list[Note] | None = None) -> ModesCaseResult:
     """Solve a modes case (a `ModesCase`, its options checked on construction).
 
     `factor`: a `factor.SPDFactor` of K over the free DOFs already made (by the model's checks),
-    used by shift-invert Lanczos at zero shift instead of factoring K again."""
+    used by shift-invert Lanczos at zero shift instead of factoring K again. What is worth
+    saying (more modes asked for than the model has) is appended to `notes`."""
     count, fmax, point = case.n_modes, case.fmax, case.reference
     f = asm.free
     K, M = asm.K[f][:, f], asm.M[f][:, f]
@@ -110,10 +93,9 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None) 
                              "raise fmax or ask for a count")
         part = participation(modes.phi, M, R)
         met = None
-        if count is not None and count > len(modes.omega):
-            where = f"{case.location}: " if case.location else ""
-            model.warnings.append(f"{where}warning: case {case.name} asks for {count} modes, but the model "
-                                  f"has only {len(modes.omega)}; all of them are computed")
+        if count is not None and count > len(modes.omega) and notes is not None:
+            notes.append(Note(case.location, f"case {case.name} asks for {count} modes, but the model "
+                              f"has only {len(modes.omega)}; all of them are computed"))
     else:
         # add modes until the cumulative effective mass reaches the target in each direction
         cap = min(case.max_count, len(f))
@@ -138,10 +120,6 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None) 
             if keep < len(modes.omega):      # solve again so every check speaks of these modes
                 modes = solve_modes(K, M, n_modes=keep, cache=cache)
                 part = participation(modes.phi, M, R)
-    if "_condition" not in model.settings:
-        cond = stiffness_condition(K, modes, cache)
-        if cond is not None:
-            model.settings["_condition"] = cond
     shape_rows(case, model, len(modes.omega), len(f))
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi

@@ -29,6 +29,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..model import DIRECTIONS, Model
+from .motion import dominant_direction
 
 __all__ = ["NEAR_ZERO_HZ", "SIZE_FAIL", "SIZE_WARN", "model_size", "static_check",
            "zero_mode_check", "zero_mode_lines"]
@@ -74,8 +75,6 @@ def static_check(model: Model, r, location=None) -> dict:
 
 def _motion(model: Model, shape: np.ndarray) -> str:
     """Words for the motion of one mode (n, 6): the main direction and the nodes moving most."""
-    from ..output.render import dominant_direction
-
     main, _ = dominant_direction(shape, model.coords)
     # rotations weighed by the median member length, so a turn compares with a translation
     lever = float(np.median(model.lengths)) if model.n_members else 1.0
@@ -92,13 +91,11 @@ def _motion(model: Model, shape: np.ndarray) -> str:
     return f"main motion {main}; moving most: {', '.join(parts)}"
 
 
-def zero_mode_check(model: Model, r, location=None) -> dict:
+def zero_mode_check(model: Model, r, free: int) -> dict:
     """Modes of a modes case `r` (ModesCaseResult) at zero or near-zero frequency (below
-    NEAR_ZERO_HZ) beyond the rigid-body motions the supports leave free (found from K's own
-    zero-energy motions by the model's checks before any case, `soundness.assess`, and kept in
-    model.settings["_rigid_motions"]): the checks entries, with each such mode named with its
-    motion."""
-    free = len(model.settings["_rigid_motions"])
+    NEAR_ZERO_HZ) beyond the `free` rigid-body motions the supports leave free (found from K's
+    own zero-energy motions by the model's checks before any case: `soundness.assess`,
+    `Soundness.rigid`): the checks entries, with each such mode named with its motion."""
     freq = r.modes.freq
     slow = np.flatnonzero(freq < NEAR_ZERO_HZ)
     odd = slow[free:] if free else slow     # the lowest `free` are the expected rigid-body modes

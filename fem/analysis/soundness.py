@@ -7,7 +7,8 @@ cases, static corrections and a modes case at zero shift reuse it), the nodes an
 a mechanism, a free structure told apart from a mechanism (its zero-energy motions are all
 rigid-body motions: legitimate for modes, refused for anything that solves K u = f), and the
 condition estimate with its warning and refusal levels. `quiet` turns the warnings numpy and
-scipy raise into the model's own warnings, so no library text reaches the user.
+scipy raise into notes of our own, so no library text reaches the user. Nothing here writes
+into the model: what the checks find is returned in a `Soundness`.
 """
 
 from __future__ import annotations
@@ -22,6 +23,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..errors import MechanismError, ModelError
 from ..model import DIRECTIONS, LoadCase, Model
+from ..notes import Note
 
 __all__ = ["COND_REFUSE", "COND_WARN", "Soundness", "assess", "examine", "first_stiffness_case", "quiet",
            "summary_lines"]
@@ -37,15 +39,29 @@ AXES = "XYZ"
 
 @dataclass
 class Soundness:
-    """held: (node, direction) pairs held because nothing resists them; factor: the factor of K
-    over the free DOFs (solve(b)), None for a free structure or when nothing is free;
-    condition: 1-norm condition estimate of that K (None without a factor); rigid: the
-    rigid-body motions a free structure has, in words ('translation X', 'rotation about Z')."""
+    """What the model's checks found before any case was solved.
+
+    Attributes
+    ----------
+    held : list of (node, direction)
+        DOFs held because nothing resists them.
+    factor : object or None
+        The factor of K over the free DOFs (``solve(b)``); None for a free structure or when
+        nothing is free.
+    condition : float or None
+        1-norm condition estimate of that K (None without a factor).
+    rigid : list of str
+        The rigid-body motions a free structure has, in words ('translation X', 'rotation
+        about Z'); empty for a supported structure.
+    notes : list of Note
+        What the checks found worth saying (a free structure; library warnings in our words).
+    """
 
     held: list[tuple[str, str]]
     factor: object | None = None
     condition: float | None = None
     rigid: list[str] = field(default_factory=list)
+    notes: list[Note] = field(default_factory=list)
 
     @property
     def spd(self):
@@ -61,35 +77,34 @@ def first_stiffness_case(model: Model) -> LoadCase | None:
 
 
 def examine(model: Model) -> tuple[Assembled, Soundness]:
-    """Assemble the model and `assess` it (with library warnings turned into model warnings)."""
+    """Assemble the model and `assess` it (with library warnings turned into the notes of the
+    Soundness returned)."""
     from ..assembly import assemble
     from ..progress import stage
 
     if not model.n_nodes:
         raise ModelError(f"{model.source or 'the deck'} defines no nodes, so there is nothing to analyse; "
                          "define nodes (node NAME = (x, y, z)) and members between them")
-    with stage(f"assembling {model.n_members} members"), quiet(model, "assembling the model"):
+    notes: list[Note] = []
+    with stage(f"assembling {model.n_members} members"), quiet(notes, "assembling the model"):
         asm = assemble(model)
-    with stage("factoring the stiffness"), quiet(model, "checking the stiffness"):
-        return asm, assess(model, asm)
+    with stage("factoring the stiffness"), quiet(notes, "checking the stiffness"):
+        return asm, assess(model, asm, notes)
 
 
-def assess(model: Model, asm: Assembled) -> Soundness:
+def assess(model: Model, asm: Assembled, notes: list[Note] | None = None) -> Soundness:
     """The cheap checks that can refuse a model, before any expensive solve.
 
     Raises MechanismError for a static load on a held DOF, for a mechanism (nodes and
     directions of each free motion, and the released member ends at those nodes), or for a free
     structure when a case needs K^-1;
-    ModelError when K is too badly conditioned to give a safe digit. Stores the held DOFs
-    (`_held`), the condition estimate (`_condition`) and the rigid-body motions of a free
-    structure (`_rigid_motions`) in model.settings, and adds a note on a free structure to
-    model.warnings."""
+    ModelError when K is too badly conditioned to give a safe digit. Returns the held DOFs,
+    the factor, the condition estimate and the rigid-body motions of a free structure, with a
+    note on a free structure added to `notes` (a list it shares with the caller, kept as the
+    Soundness's notes)."""
     from .static import check_resisted, condition_estimate, factorise, held_dofs, load_vector, stiffness_contrast
 
-    sound = Soundness(held_dofs(model, asm))
-    model.settings["_held"] = sound.held
-    model.settings["_condition"] = None
-    model.settings["_rigid_motions"] = []
+    sound = Soundness(held_dofs(model, asm), notes=[] if notes is None else notes)
     if len(asm.inert):
         for c in model.cases:
             if c.kind == "static":      # a static load on a held DOF is refused (cheap: no solve)
@@ -103,7 +118,7 @@ def assess(model: Model, asm: Assembled) -> Soundness:
         rigid = rigid_motions(model, asm, Kff)
         if rigid is None:
             raise _with_releases(model, exc) from None
-        sound.rigid = model.settings["_rigid_motions"] = rigid
+        sound.rigid = rigid
         text = _free_text(model, rigid)
         case = first_stiffness_case(model)
         if case is not None:
@@ -111,11 +126,10 @@ def assess(model: Model, asm: Assembled) -> Soundness:
             raise MechanismError(f"case {case.name}: {text}, so the {what} has no unique answer; add supports "
                                  "that hold these motions (a modes case alone can run on a free structure)",
                                  exc.free, case.location) from None
-        model.warnings.append(f"note: {text}, so {len(rigid)} of its modes are rigid-body modes at 0 Hz, "
-                              "and a static case would be refused")
+        sound.notes.append(Note(None, f"{text}, so {len(rigid)} of its modes are rigid-body modes at 0 Hz, "
+                                "and a static case would be refused", "note"))
         return sound
     sound.condition = cond = condition_estimate(Kff, sound.factor)
-    model.settings["_condition"] = cond
     if cond > COND_REFUSE:
         raise ModelError(f"the stiffness is too badly conditioned to solve in double precision (condition "
                          f"estimate {cond:.1e}, above {COND_REFUSE:.0e}): no digit of the results would be safe; "
@@ -200,15 +214,17 @@ def _with_releases(model: Model, exc: MechanismError) -> MechanismError:
     return MechanismError(f"{exc.message}; released member ends there: {shown}", exc.free)
 
 
-def summary_lines(model: Model) -> list[str]:
-    """The held-DOF note and the condition line of the summary, from what `assess` stored; the
-    same words in `quaver check` and `quaver run`."""
+def summary_lines(sound: Soundness | None) -> list[str]:
+    """The held-DOF note and the condition line of the summary, from what `assess` found (None:
+    nothing was checked); the same words in `quaver check` and `quaver run`."""
     lines = []
-    held = model.settings.get("_held") or []
+    if sound is None:
+        return lines
+    held = sound.held
     if held:
         shown = ", ".join(f"{n} {d}" for n, d in held[:10]) + (" ..." if len(held) > 10 else "")
         lines.append(f"note: {len(held)} DOF(s) have no stiffness and are held: {shown}; a load there is refused")
-    cond = model.settings.get("_condition")
+    cond = sound.condition
     if cond is not None:
         lost = max(0.0, np.log10(cond))
         level = "warning: " if cond > COND_WARN else ""
@@ -226,8 +242,8 @@ _FLOATING = (("overflow", "a number overflowed (grew past the largest double)"),
 
 
 def _in_our_words(w: warnings.WarningMessage, where: str) -> str | None:
-    """One library warning said in Quaver's words, or None when it is no matter for the user
-    (performance hints, deprecations, underflow to zero)."""
+    """One library warning said in Quaver's words (the text of a warning Note), or None when it
+    is no matter for the user (performance hints, deprecations, underflow to zero)."""
     import scipy.linalg as sla
     import scipy.sparse as sp
     import scipy.sparse.linalg as spla
@@ -238,31 +254,33 @@ def _in_our_words(w: warnings.WarningMessage, where: str) -> str | None:
     if issubclass(cat, sla.LinAlgWarning):
         m = re.search(r"rcond\s*=\s*(\d[\d.]*(?:[eE][-+]?\d+)?)", text)
         rc = f" (reciprocal condition {float(m.group(1)):.1e})" if m else ""
-        return (f"warning: {where}: a dense solve met a nearly singular matrix{rc}; numbers that depend on it "
+        return (f"{where}: a dense solve met a nearly singular matrix{rc}; numbers that depend on it "
                 "may be inaccurate: check stiffness contrasts, massless parts and units")
     if issubclass(cat, spla.MatrixRankWarning):
-        return (f"warning: {where}: a sparse solve met an exactly singular matrix (a mechanism or a part "
+        return (f"{where}: a sparse solve met an exactly singular matrix (a mechanism or a part "
                 "that nothing holds); check supports and end releases")
     if issubclass(cat, RuntimeWarning):
         for key, said in _FLOATING:
             if key in text:
-                return said and (f"warning: {where}: {said}; results with numbers that are not finite are "
+                return said and (f"{where}: {said}; results with numbers that are not finite are "
                                  "refused, the rest may be affected: check the magnitudes and units in the deck")
     if issubclass(cat, np.exceptions.ComplexWarning):
-        return f"warning: {where}: complex numbers were cut to their real parts"
-    return (f"warning: {where}: the numerical library reported a {cat.__name__}; the self-checks say whether "
+        return f"{where}: complex numbers were cut to their real parts"
+    return (f"{where}: the numerical library reported a {cat.__name__}; the self-checks say whether "
             "the results hold")
 
 
 @contextmanager
-def quiet(model: Model, where: str):
-    """Run numerical work with numpy's and scipy's warnings caught and said, once each, in the
-    model's warnings (prefixed by `where`, e.g. 'case MODES'), so that no library text (with its
-    source line) reaches the user. When the work raises, its error speaks instead."""
+def quiet(notes: list[Note], where: str):
+    """Run numerical work with numpy's and scipy's warnings caught and said, once each, as
+    warning Notes appended to `notes` (prefixed by `where`, e.g. 'case MODES'), so that no
+    library text (with its source line) reaches the user. When the work raises, its error
+    speaks instead."""
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         yield
     for w in caught:
         text = _in_our_words(w, where)
-        if text and text not in model.warnings:
-            model.warnings.append(text)
+        note = text and Note(None, text)
+        if note and note not in notes:
+            notes.append(note)

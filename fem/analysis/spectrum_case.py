@@ -6,6 +6,7 @@ optional missing-mass correction for the truncated modes."""
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -27,6 +28,8 @@ class SpectrumResult:
     those ordinates carry for damping (Spectrum.damping_factor: eta for a design curve,
     eta(zeta) / eta(made_for) for a table, else 1); modal_u (d, k, n, 6) signed per-mode
     displacement peaks; missing_fraction (d,); warnings: located texts."""
+
+    kind: ClassVar[str] = "spectrum"
 
     name: str
     u: np.ndarray

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 import scipy.sparse.linalg as spla
@@ -12,7 +13,7 @@ from ..assembly import Assembled, element_matrices
 from ..errors import MechanismError, ModelError
 from ..model import DIRECTIONS, LoadCase, Model
 
-__all__ = ["EQUILIBRIUM_TOL", "ROUNDING_FACTOR", "SOLVE_TOL", "StaticResult", "balance", "combine", "condition_estimate", "precision_lines", "static_ok",
+__all__ = ["EQUILIBRIUM_TOL", "ROUNDING_FACTOR", "SOLVE_TOL", "StaticResult", "balance", "combine", "condition_estimate", "precision_lines",
            "factorise", "load_vector", "solve_static", "stiffness_contrast", "support_forces", "equilibrium"]
 
 EPS = np.finfo(float).eps
@@ -31,6 +32,8 @@ class StaticResult:
     (see `equilibrium`); residual (6n,) K u - f at the free DOFs (0 elsewhere), N / N m;
     gross (6n,) |K| |u| + |f|, the sizes of the terms that make up K u - f, N / N m (see
     `balance` for the checks built on them)."""
+
+    kind: ClassVar[str] = "static"
 
     name: str
     u: np.ndarray
@@ -344,11 +347,6 @@ def balance(coords, applied, reactions, residual=None, gross=None, u=None, diag=
     out["solve_backward_error"] = eta
     out["solve_backward_error_pass"] = bool(eta < SOLVE_TOL)
     return out
-
-
-def static_ok(checks: dict) -> bool:
-    """Whether the `balance` checks of a static result pass (a check not run does not fail)."""
-    return bool(checks["equilibrium_pass"]) and checks["solve_backward_error_pass"] is not False
 
 
 def precision_lines(checks: dict) -> list[str]:

@@ -16,8 +16,8 @@ The rules (our choice, no source):
 - Local words come from the kind of strain in the seat (twist, bending, stretch, springs) and
   the main direction of its motion; global words from the main direction of motion: 'sway in
   X' / 'Y', 'vertical motion', 'twist in plan about Z' (the rigid turn in plan of
-  render.dominant_direction, when the motion is mainly horizontal), or 'turning about X' when
-  rotation dominates.
+  analysis.motion.dominant_direction, when the motion is mainly horizontal), or 'turning about
+  X' when rotation dominates.
 """
 
 from __future__ import annotations
@@ -141,11 +141,11 @@ def describe_mode(model, shape: np.ndarray, energies: Energies | None = None, ma
 
 
 def _plan_twist(model, shape: np.ndarray, prepared=None) -> bool:
-    """render.dominant_direction's rigid turn in plan, fitted over the nodes and the points along
-    the members (so a span whose nodes only turn, bending sideways between them, is not taken
-    for a turn in plan)."""
+    """analysis.motion.dominant_direction's rigid turn in plan, fitted over the nodes and the
+    points along the members (so a span whose nodes only turn, bending sideways between them,
+    is not taken for a turn in plan)."""
+    from ..analysis.motion import dominant_direction
     from ..elements.interpolate import member_curves, prepare_curves
-    from .render import dominant_direction
 
     # the members' mid-points are enough to tell a bow from a turn
     c = member_curves(model, shape, prepared=prepared or prepare_curves(model, 3))

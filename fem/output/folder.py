@@ -98,9 +98,10 @@ def resolve_target(out: str | None, deck: str) -> tuple[Path, str]:
     return Path(os.path.expanduser(shown)).resolve(), shown
 
 
-def check_target(target: Path, shown: str, deck: Path) -> list[str]:
-    """Refuse a results folder that cannot safely hold results; return the items in it that
-    Quaver did not write (they will be kept)."""
+def check_target(target: Path, shown: str, deck: Path | None) -> list[str]:
+    """Refuse a results folder that cannot safely hold results (or that holds the `deck`, when
+    the results come from one); return the items in it that Quaver did not write (they will be
+    kept)."""
     what = _what(target, shown)
     if target.parent == target:
         raise ResultsError(f"the results folder {what} is the root of the file system; choose a folder of its "
@@ -114,8 +115,8 @@ def check_target(target: Path, shown: str, deck: Path) -> list[str]:
         raise ResultsError(f"the results folder {what} {here}: a run replaces its results folder by moving it, "
                            "which would leave this shell in a folder that no longer exists; choose a folder "
                            "below it, e.g. --out results")
-    d = deck.resolve()
-    if target == d.parent or target in d.parents:
+    d = None if deck is None else deck.resolve()
+    if d is not None and (target == d.parent or target in d.parents):
         raise ResultsError(f"the results folder {what} contains the deck; choose another --out")
     if not target.exists():
         return []

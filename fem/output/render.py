@@ -1,6 +1,7 @@
 """Offscreen pictures and animations of mode shapes and responses (pyvista on the CPU).
 
-pyvista/VTK are imported only here and only when rendering. Whether an OpenGL context can be
+The processes that draw many of them at once are in `render_pool`. pyvista/VTK are imported
+only here and only when rendering. Whether an OpenGL context can be
 made is first probed in a child process, so a machine without one skips the pictures with a
 one-line notice instead of crashing (results stay complete).
 """
@@ -16,11 +17,11 @@ from pathlib import Path
 
 import numpy as np
 
+from ..analysis.motion import dominant_direction
 from .fmt import percent
 from .vtk import MAX_TURN, drawing_scale
 
-__all__ = ["can_render", "render_all", "render_modes", "render_response", "dominant_direction", "drawing_scale",
-           "one_line"]
+__all__ = ["can_render", "render_modes", "render_response", "dominant_direction", "drawing_scale", "one_line"]
 
 _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64, 64)); "
           "p.add_mesh(pv.Sphere()); p.screenshot(None); p.close()")
@@ -73,36 +74,6 @@ def can_render() -> tuple[bool, str]:
         return False, f"no OpenGL context could be created ({last})"
     os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
     return True, ""
-
-
-def dominant_direction(shape: np.ndarray, coords: np.ndarray | None = None) -> tuple[str, np.ndarray]:
-    """Name of the main motion of a mode, 'X', 'Y', 'Z' or 'twist about z', and the share of
-    each translation (3,).
-
-    shape (n, 6) one mode at every node; coords (n, 3) m. The plan motion is fitted by a rigid
-    one, a translation (a, b) plus a turn theta about the vertical axis through the nodes'
-    centroid, in least squares over the nodes' horizontal translations and their rotations
-    about z (weighted by the nodes' mean plan radius rho, so both count as lengths). The mode
-    is a twist when the turn moves the nodes more (|theta| rho) than the translation does and
-    more than their mean vertical motion: rotations dominate and the translations circulate."""
-    tr = np.abs(shape[:, :3]).sum(axis=0)
-    share = tr / max(tr.sum(), 1e-300)
-    name = "XYZ"[int(np.argmax(share))]
-    if coords is None or not len(shape):
-        return name, share
-    r = coords[:, :2] - coords[:, :2].mean(axis=0)
-    rho = float(np.sqrt((r ** 2).sum(axis=1).mean()))
-    ext = float(np.ptp(coords, axis=0).max()) if len(coords) > 1 else 0.0
-    if rho <= 1e-6 * max(ext, 1e-300):
-        rho = ext / 2                     # every node on one vertical line: its length is the lever
-    if rho <= 0:
-        return name, share
-    n = len(shape)
-    turn = (np.sum(r[:, 0] * shape[:, 1] - r[:, 1] * shape[:, 0]) + rho ** 2 * shape[:, 5].sum()) / (2 * n * rho ** 2)
-    mean = shape[:, :3].mean(axis=0)
-    if abs(turn) * rho > max(np.hypot(mean[0], mean[1]), abs(mean[2])):
-        return "twist about z", share
-    return name, share
 
 
 def _view_vector(main: int, extent: np.ndarray) -> np.ndarray:
@@ -447,101 +418,3 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
         out += _animate(p, show, len(frame_t), folder / name, fps, clock, marks, size=moving)
     p.close()
     return out
-
-
-def _render_chunk(args):
-    kind, folder, model, item, extra, fps = args
-    if kind == "modes":
-        return render_modes(folder, model, item, extra, fps=fps)
-    return render_response(folder, model, item.name, item.frame_t, item.frames, fps=fps)
-
-
-def render_all(folder: Path, model, modal_cases, responses, length: float, jobs: int = 1,
-               max_modes: int = 6, fps: float = FPS) -> list[Path]:
-    """Pictures and animations (played at `fps` frames a second) of the first `max_modes` modes
-    of every modes case and of every free/history response, in `jobs` parallel processes (each
-    with its own offscreen context)."""
-    from dataclasses import replace
-
-    tasks = []
-    for m in modal_cases:
-        # one task per mode so the work spreads over the processes
-        for j in range(min(m.shapes.shape[2], max_modes)):
-            one = replace(m, shapes=m.shapes[:, :, j:j + 1],
-                          modes=replace(m.modes, freq=m.modes.freq[j:j + 1], period=m.modes.period[j:j + 1]),
-                          part=replace(m.part, fraction=m.part.fraction[j:j + 1]))
-            tasks.append(("modes", folder, model, replace(one, first_mode=j), length, fps))
-    tasks += [("response", folder, model, r, None, fps) for r in responses]
-    from ..progress import bar
-
-    if jobs <= 1 or len(tasks) <= 1:
-        return [f for t in bar(tasks, len(tasks), "rendering") for f in _render_chunk(t)]
-    import multiprocessing as mp
-    from concurrent.futures import ProcessPoolExecutor
-
-    ex = ProcessPoolExecutor(max_workers=jobs, mp_context=mp.get_context("spawn"),
-                             initializer=_worker_start, initargs=(os.getpid(),))
-    try:
-        done = bar(ex.map(_render_chunk, tasks), len(tasks), "rendering")
-        files = [f for files in done for f in files]
-    except BaseException:
-        # Ctrl-C or a failed drawing: stop the workers now rather than wait for their chunks
-        _stop_workers(ex)
-        raise
-    ex.shutdown(wait=True)
-    return files
-
-
-PARENT_POLL = 0.5     # s between a render worker's checks that its parent is alive (our choice)
-
-
-def _worker_start(parent: int) -> None:
-    """Initialiser of a render process: it ends with its parent and holds none of its output.
-
-    Ctrl-C is left to the parent, which stops the workers at once; their stdout and stderr go
-    to the null device, so a pipe from the run (`quaver run ... | tee log`) ends with the run;
-    on Linux the kernel kills the worker when its parent dies (PR_SET_PDEATHSIG), and a
-    thread checking the parent's pid does the same elsewhere or if that call fails."""
-    import signal
-    import threading
-
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    null = os.open(os.devnull, os.O_WRONLY)
-    os.dup2(null, 1)
-    os.dup2(null, 2)
-    os.close(null)
-    if sys.platform.startswith("linux"):
-        try:
-            import ctypes
-
-            ctypes.CDLL(None, use_errno=True).prctl(1, int(signal.SIGKILL), 0, 0, 0)   # 1 = PR_SET_PDEATHSIG
-        except (OSError, AttributeError):
-            pass
-    if os.getppid() != parent:      # the parent died before the death signal was armed
-        os._exit(1)
-    threading.Thread(target=_watch_parent, args=(parent,), name="parent-watch", daemon=True).start()
-
-
-def _watch_parent(parent: int) -> None:
-    """End this process as soon as its parent is gone (it is then re-parented)."""
-    import time
-
-    while os.getppid() == parent:
-        time.sleep(PARENT_POLL)
-    os._exit(1)
-
-
-def _stop_workers(ex) -> None:
-    """Cancel the chunks not started and end the render processes at once (SIGTERM, then
-    SIGKILL after a second), instead of waiting for the chunks being drawn."""
-    # the executor's own list of its processes (private before Python 3.14's terminate_workers)
-    procs = list((getattr(ex, "_processes", None) or {}).values())
-    ex.shutdown(wait=False, cancel_futures=True)
-    for p in procs:
-        if p.is_alive():
-            p.terminate()
-    for p in procs:
-        p.join(1.0)
-        if p.is_alive():
-            p.kill()
-            p.join(1.0)

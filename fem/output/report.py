@@ -4,13 +4,17 @@ from __future__ import annotations
 
 import base64
 import html
+import re
 from pathlib import Path
 
 import numpy as np
 
 from .fmt import percent
 
-__all__ = ["write_report"]
+__all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "report", "write_report"]
+
+HISTORY_PLOTS = 12       # history plots per case in the report; every recorded node is in the CSV
+STATIC_PLOTS = 24     # deformed-shape plots of the first static cases and combinations (report size)
 
 STYLE = """
 body { font-family: system-ui, sans-serif; color: #1d2733; max-width: 1100px; margin: 2em auto;
@@ -193,3 +197,81 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
     parts.append(f'<p class="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p></body></html>')
     path.write_text("\n".join(parts), encoding="utf-8")
     return path
+
+
+def _mode_images(pdir: Path, pics: Path, m) -> list:
+    """The participation plot of a modes case, then its pictures found in `pics`."""
+    from . import plots
+
+    images = [(plots.plot_participation(pdir / f"{m.name}_participation.png", m), "effective modal mass")]
+    for j in range(min(6, m.shapes.shape[2])):
+        # pictures of the first six modes, animations of the first three (keeps the file small)
+        kinds = (("_plane.png", "across the main motion"), ("_iso.png", "isometric view"),
+                 (".gif", "one cycle"))[: 3 if j < 3 else 2]
+        for suffix, cap in kinds:
+            f = pics / f"{m.name}_mode_{j + 1:03d}{suffix}"
+            if f.exists():
+                images.append((f, f"mode {j + 1}, {m.modes.freq[j]:.4g} Hz, {cap}"))
+    return images
+
+
+def _motion_images(pdir: Path, pics: Path, model, x) -> list:
+    """A free or history case: one plot per recorded node; past HISTORY_PLOTS, those that move
+    most (in record order); then its animation and largest-motion picture."""
+    from . import plots
+
+    top = np.abs(x.u[:, :, :3]).max(axis=(0, 2))
+    keep = np.sort(np.argsort(-top, kind="stable")[:HISTORY_PLOTS])
+    more = (f" ({len(keep)} of {len(x.record)} recorded nodes, those that move most; every node "
+            f"is in the CSV table)") if len(keep) < len(x.record) else ""
+    images = []
+    for j in keep:
+        node = model.node_names[x.record[j]]
+        f = pdir / f"{x.name}_history_{re.sub(r'[^A-Za-z0-9_.-]', '_', node)}.png"
+        images.append((plots.plot_history(f, x, node, j), f"displacement history at {node}{more}"))
+    for f, cap in ((pics / f"{x.name}.gif", "response animation"), (pics / f"{x.name}_peak.png", "largest motion")):
+        if f.exists():
+            images.append((f, cap))
+    return images
+
+
+def _harmonic_images(pdir: Path, results, x) -> list:
+    from . import plots
+
+    j = int(np.argmax(np.abs(x.u[:, :, :3]).max(axis=(0, 2))))
+    node = results.model.node_names[x.record[j]]
+    nat = results.modes_of(x.name).modes.freq    # the modes this sweep was built on
+    return [(plots.plot_frf(pdir / f"{x.name}_frf.png", x, node, j, nat), f"frequency response at {node}")]
+
+
+def _spectrum_images(pdir: Path, results, x) -> list:
+    from . import plots
+
+    spectrum = results.definition(x.name).spectrum
+    return [(plots.plot_spectrum(pdir / f"{x.name}_spectrum.png", x, spectrum), "spectrum and modal periods")]
+
+
+def report(results, doc: dict, out: Path, notice: str = "") -> None:
+    """Plots into out/plots and the self-contained out/report.html of `results` (a
+    `fem.results.Results`) and its results document `doc`."""
+    from . import plots
+    from .vtk import shape_scale
+
+    model = results.model
+    pdir = out / "plots"
+    pdir.mkdir(exist_ok=True)
+    pics = out / "pictures"
+    images: dict[str, list] = {}
+    for m in results.of_kind("modes"):
+        images[m.name] = _mode_images(pdir, pics, m)
+    for r in results.statics[:STATIC_PLOTS]:
+        images[r.name] = [(plots.plot_static(pdir / f"{r.name}_deformed.png", model, r, shape_scale(model)),
+                           "deformed shape")]
+    drawn = {"free": lambda x: _motion_images(pdir, pics, model, x),
+             "history": lambda x: _motion_images(pdir, pics, model, x),
+             "harmonic": lambda x: _harmonic_images(pdir, results, x),
+             "spectrum": lambda x: _spectrum_images(pdir, results, x)}
+    for x in results.modal:
+        if x.kind in drawn:
+            images[x.name] = drawn[x.kind](x)
+    write_report(out / "report.html", doc, images, notes=[notice] if notice.startswith("pictures skipped:") else [])

@@ -1,0 +1,110 @@
+"""Drawing many pictures at once: the modes and responses of a run spread over processes,
+each with its own offscreen context, that end with the run (`render_all`)."""
+
+from __future__ import annotations
+
+import os
+import sys
+from pathlib import Path
+
+from .render import FPS, render_modes, render_response
+
+__all__ = ["PARENT_POLL", "render_all"]
+
+
+def _render_chunk(args):
+    kind, folder, model, item, extra, fps = args
+    if kind == "modes":
+        return render_modes(folder, model, item, extra, fps=fps)
+    return render_response(folder, model, item.name, item.frame_t, item.frames, fps=fps)
+
+
+def render_all(folder: Path, model, modal_cases, responses, length: float, jobs: int = 1,
+               max_modes: int = 6, fps: float = FPS) -> list[Path]:
+    """Pictures and animations (played at `fps` frames a second) of the first `max_modes` modes
+    of every modes case and of every free/history response, in `jobs` parallel processes (each
+    with its own offscreen context)."""
+    from dataclasses import replace
+
+    tasks = []
+    for m in modal_cases:
+        # one task per mode so the work spreads over the processes
+        for j in range(min(m.shapes.shape[2], max_modes)):
+            one = replace(m, shapes=m.shapes[:, :, j:j + 1],
+                          modes=replace(m.modes, freq=m.modes.freq[j:j + 1], period=m.modes.period[j:j + 1]),
+                          part=replace(m.part, fraction=m.part.fraction[j:j + 1]))
+            tasks.append(("modes", folder, model, replace(one, first_mode=j), length, fps))
+    tasks += [("response", folder, model, r, None, fps) for r in responses]
+    from ..progress import bar
+
+    if jobs <= 1 or len(tasks) <= 1:
+        return [f for t in bar(tasks, len(tasks), "rendering") for f in _render_chunk(t)]
+    import multiprocessing as mp
+    from concurrent.futures import ProcessPoolExecutor
+
+    ex = ProcessPoolExecutor(max_workers=jobs, mp_context=mp.get_context("spawn"),
+                             initializer=_worker_start, initargs=(os.getpid(),))
+    try:
+        done = bar(ex.map(_render_chunk, tasks), len(tasks), "rendering")
+        files = [f for files in done for f in files]
+    except BaseException:
+        # Ctrl-C or a failed drawing: stop the workers now rather than wait for their chunks
+        _stop_workers(ex)
+        raise
+    ex.shutdown(wait=True)
+    return files
+
+
+PARENT_POLL = 0.5     # s between a render worker's checks that its parent is alive (our choice)
+
+
+def _worker_start(parent: int) -> None:
+    """Initialiser of a render process: it ends with its parent and holds none of its output.
+
+    Ctrl-C is left to the parent, which stops the workers at once; their stdout and stderr go
+    to the null device, so a pipe from the run (`quaver run ... | tee log`) ends with the run;
+    on Linux the kernel kills the worker when its parent dies (PR_SET_PDEATHSIG), and a
+    thread checking the parent's pid does the same elsewhere or if that call fails."""
+    import signal
+    import threading
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    null = os.open(os.devnull, os.O_WRONLY)
+    os.dup2(null, 1)
+    os.dup2(null, 2)
+    os.close(null)
+    if sys.platform.startswith("linux"):
+        try:
+            import ctypes
+
+            ctypes.CDLL(None, use_errno=True).prctl(1, int(signal.SIGKILL), 0, 0, 0)   # 1 = PR_SET_PDEATHSIG
+        except (OSError, AttributeError):
+            pass
+    if os.getppid() != parent:      # the parent died before the death signal was armed
+        os._exit(1)
+    threading.Thread(target=_watch_parent, args=(parent,), name="parent-watch", daemon=True).start()
+
+
+def _watch_parent(parent: int) -> None:
+    """End this process as soon as its parent is gone (it is then re-parented)."""
+    import time
+
+    while os.getppid() == parent:
+        time.sleep(PARENT_POLL)
+    os._exit(1)
+
+
+def _stop_workers(ex) -> None:
+    """Cancel the chunks not started and end the render processes at once (SIGTERM, then
+    SIGKILL after a second), instead of waiting for the chunks being drawn."""
+    # the executor's own list of its processes (private before Python 3.14's terminate_workers)
+    procs = list((getattr(ex, "_processes", None) or {}).values())
+    ex.shutdown(wait=False, cancel_futures=True)
+    for p in procs:
+        if p.is_alive():
+            p.terminate()
+    for p in procs:
+        p.join(1.0)
+        if p.is_alive():
+            p.kill()
+            p.join(1.0)

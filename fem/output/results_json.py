@@ -1,0 +1,155 @@
+"""results.json: the results document (schema quaver-results/1) and its strict JSON.
+
+Each case's entry is built by the function of its result kind; the verdicts come from the
+solve's self-checks (`fem.checks`), never judged here.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import ModelError
+from .tables import END_FORCES, REACTIONS, supported_nodes, unit_shape_mass_stiffness
+
+__all__ = ["CAUTION", "SCHEMA", "results_doc", "strict", "write_results_json"]
+
+SCHEMA = "quaver-results/1"
+CAUTION = ("Results support, and never replace, the judgement of a qualified engineer; "
+           "local codes and licensed practice govern.")
+
+
+def _force_peaks(model, r, sup) -> dict:
+    """Entries of a free or history case: peak |reaction| at every supported or sprung node, and
+    the largest peak of each end-force component over all members."""
+    mp = r.member_peak.reshape(-1, 6)                 # rows: member 0 end i, member 0 end j, ...
+    where = mp.argmax(axis=0) if len(mp) else []
+    return {"reaction_peaks": {model.node_names[k]: r.reaction_peak[k].tolist() for k in sup},
+            "member_force_peak_max": {c: {"value": float(mp[w, j]), "member": model.member_names[w // 2],
+                                          "end": "ij"[w % 2]} for j, (c, w) in enumerate(zip(END_FORCES, where))}}
+
+
+def _harmonic_force_peaks(model, r) -> dict:
+    """Entries of a harmonic case: at every supported or sprung node the largest reaction
+    amplitude per component over the sweep with its frequency and lag there; the largest
+    end-force amplitude of each component over all members, likewise."""
+    mp = r.member_peak.reshape(-1, 6)
+    mf, ml = r.member_peak_freq.reshape(-1, 6), r.member_peak_lag.reshape(-1, 6)
+    where = mp.argmax(axis=0) if len(mp) else []
+    return {"reaction_peaks": {model.node_names[k]: {"amplitude": r.reaction_peak[k].tolist(),
+                                                     "frequency_Hz": r.reaction_peak_freq[k].tolist(),
+                                                     "lag_deg": r.reaction_peak_lag[k].tolist()} for k in r.support},
+            "member_force_peak_max": {c: {"amplitude": float(mp[w, j]), "member": model.member_names[w // 2],
+                                          "end": "ij"[w % 2], "frequency_Hz": float(mf[w, j]),
+                                          "lag_deg": float(ml[w, j])}
+                                      for j, (c, w) in enumerate(zip(END_FORCES, where))}}
+
+
+def _static(results, r) -> dict:
+    checks = results.checks
+    return {"name": r.name, "kind": "static", "max_translation_m": float(np.abs(r.u[:, :3]).max()),
+            "reaction_sum_N": r.reactions[:, :3].sum(0).tolist(), "applied_sum_N": r.applied[:, :3].sum(0).tolist(),
+            "checks": {**checks.cases[r.name], **checks.plausible[r.name]}}
+
+
+def _modes(results, r) -> dict:
+    from .character import mode_characters
+
+    checks = results.checks
+    mass, stiffness = unit_shape_mass_stiffness(r)
+    return {"name": r.name, "kind": "modes", "solver": r.modes.solver,
+            "frequency_Hz": r.modes.freq.tolist(), "period_s": r.modes.period.tolist(),
+            "modal_mass_kg": mass.tolist(), "modal_stiffness_N_per_m": stiffness.tolist(),
+            "effective_mass_kg": r.part.effective_mass.tolist(), "participating_total_kg": r.part.total.tolist(),
+            "reference_point_m": np.asarray(r.reference).tolist(),
+            "mode_character": mode_characters(results.model, r),
+            "checks": {**checks.cases[r.name], **checks.plausible[r.name]}}
+
+
+def _response(results, r) -> dict:
+    model = results.model
+    return {"name": r.name, "kind": r.kind, "damping_ratio": r.zeta.tolist(),
+            "time_steps": len(r.t), "duration_s": float(r.t[-1]),
+            "peak_translation_m": float(np.abs(r.peak[:, :3]).max()),
+            "peaks": {model.node_names[k]: {"value": r.peak[k].tolist(), "time_s": r.peak_time[k].tolist()}
+                      for k in range(model.n_nodes)},
+            **_force_peaks(model, r, supported_nodes(model)),
+            "checks": results.checks.cases[r.name]}
+
+
+def _harmonic(results, r) -> dict:
+    model = results.model
+    return {"name": r.name, "kind": "harmonic", "damping_ratio": r.zeta.tolist(),
+            "frequencies": len(r.freq), "band_Hz": [float(r.freq[0]), float(r.freq[-1])],
+            "peak_amplitude_m": float(np.abs(r.peak[:, :3]).max()),
+            "peaks": {model.node_names[k]: {"amplitude": r.peak[k].tolist(), "frequency_Hz": r.peak_freq[k].tolist(),
+                                            "lag_deg": r.peak_lag[k].tolist()} for k in range(model.n_nodes)},
+            **_harmonic_force_peaks(model, r),
+            "checks": results.checks.cases[r.name]}
+
+
+def _spectrum(results, r) -> dict:
+    return {"name": r.name, "kind": "spectrum", "combination": r.rule,
+            "direction_rule": r.spatial, "direction_factors": r.directions.tolist(),
+            "damping_ratio": r.zeta.tolist(), "period_s": r.periods.tolist(),
+            "sa_m_s2": r.sa.tolist(), "damping_factor": r.damping_factor.tolist(),
+            "base_reaction": dict(zip(REACTIONS, map(float, r.base))),
+            "max_displacement_m": float(r.u[:, :3].max()),
+            "checks": results.checks.cases[r.name]}
+
+
+# each kind's entry, and the order of the kinds in the document's list of cases
+_ENTRY = {"static": _static, "modes": _modes, "free": _response, "history": _response,
+          "harmonic": _harmonic, "spectrum": _spectrum}
+_ORDER = (("static",), ("modes",), ("free", "history"), ("harmonic",), ("spectrum",))
+
+
+def results_doc(results) -> dict:
+    """The results document of `results` (a `fem.results.Results`), as plain Python values."""
+    model = results.model
+    lo, hi = model.bounding_box()
+    return {
+        "schema": SCHEMA,
+        "caution": CAUTION,
+        "model": {"title": model.title, "deck": model.source, "nodes": model.n_nodes,
+                  "members": model.n_members, "total_mass_kg": model.total_mass(),
+                  "member_theory": "Timoshenko (shear and rotary inertia)" if model.settings.get("shear")
+                  else "Euler-Bernoulli",
+                  "mass_matrix": model.settings.get("mass", "consistent"),
+                  "bounding_box_m": [lo.tolist(), hi.tolist()],
+                  "assembled_mass_kg": results.assembled_mass.tolist(),
+                  "stiffness_condition_estimate": results.soundness.condition,
+                  "mass_check_pass": results.checks.mass_pass, "warnings": results.warnings,
+                  "overrides": dict(model.overrides),
+                  "cases_asked": None if results.cases_asked is None else dict(results.cases_asked)},
+        "cases": [_ENTRY[r.kind](results, r) for kinds in _ORDER for r in results.of_kind(*kinds)],
+    }
+
+
+# keys whose values may be undefined for a sound model, written as null: the period of a
+# rigid-body mode (infinite) and mass fractions in a direction in which no mass moves (0/0)
+_MAY_BE_NULL = ("period_s", "cumulative_mass_fraction", "missing_mass_fraction")
+
+
+def strict(x, path: str = "", nullable: bool = False):
+    """A copy of the results document for strict JSON: undefined values (see _MAY_BE_NULL)
+    become null; any other NaN or infinity means the numbers broke down and is refused."""
+    if isinstance(x, dict):
+        return {k: strict(v, f"{path}.{k}" if path else k, nullable or k in _MAY_BE_NULL) for k, v in x.items()}
+    if isinstance(x, (list, tuple)):
+        return [strict(v, f"{path}[{i}]", nullable) for i, v in enumerate(x)]
+    if isinstance(x, float) and not np.isfinite(x):
+        if nullable:
+            return None
+        raise ModelError(f"the results hold a non-finite number ({x}) at {path}: the model is outside the range "
+                         "that double precision can compute; check the magnitudes and units in the deck")
+    return x
+
+
+def write_results_json(results, out: Path) -> dict:
+    """Write out/results.json; returns the document."""
+    doc = results_doc(results)
+    (out / "results.json").write_text(json.dumps(strict(doc), indent=2, allow_nan=False))
+    return doc

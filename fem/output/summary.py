@@ -1,0 +1,134 @@
+"""The console summary of a run and its exit status.
+
+One line for the model, its notes and checks, then a line or a few per result (each kind has
+its own function), the pictures' notice, the verdict of the self-checks, where the results are,
+and the caution. The verdicts come from the solve's self-checks (`fem.checks`).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..analysis.plausible import zero_mode_lines
+from ..analysis.soundness import summary_lines
+from ..analysis.static import precision_lines
+from .fmt import percent
+from .results_json import CAUTION
+
+__all__ = ["print_summary"]
+
+_CONTINUED = " " * 15      # indent of a result's further lines
+
+
+def _static(results, r) -> list[str]:
+    ch = results.checks.cases[r.name]
+    sane = results.checks.plausible[r.name]
+    ok = "pass" if results.checks.passed[r.name] else "FAIL"
+    size = "pass" if sane["translation_within_size_pass"] else "FAIL"
+    lines = [f"  {r.name:<12} max translation {np.abs(r.u[:, :3]).max():.4g} m   "
+             f"equilibrium {r.equilibrium:.1e} {ok}   within the model's size {size}"]
+    lines += [f"{_CONTINUED}{w}" for w in precision_lines(ch)]
+    lines += [f"{_CONTINUED}{w}" for w in sane["warnings"]]
+    return lines
+
+
+def _spectrum(results, r) -> list[str]:
+    c = results.checks.cases[r.name]
+    # a force under 1e-9 of the largest is round-off of a direction not excited: shown as 0;
+    # the vertical one is shown when the case shakes Z
+    fx, fy, fz = (0.0 if v < 1e-9 * np.abs(r.base[:3]).max() else v / 1e3 for v in np.abs(r.base[:3]))
+    return [f"  {r.name:<12} response spectrum ({r.rule.upper()}, directions {r.spatial}); base shear "
+            f"Fx {fx:.4g} kN, Fy {fy:.4g} kN" + (f", base force Fz {fz:.4g} kN" if r.directions[2] else "")
+            + "; max displacement "
+            f"{r.u[:, :3].max():.4g} m; missing mass "
+            + ", ".join(f"{a} {percent(v)}" for a, v in c["missing_mass_fraction"].items())
+            + (" (corrected)" if r.missing else "")]
+
+
+def _harmonic(results, r) -> list[str]:
+    k = np.unravel_index(np.abs(r.peak[:, :3]).argmax(), r.peak[:, :3].shape)
+    return [f"  {r.name:<12} harmonic sweep {r.freq[0]:.4g}-{r.freq[-1]:.4g} Hz, {len(r.freq)} "
+            f"frequencies; peak amplitude {r.peak[k]:.4g} m at {r.peak_freq[k]:.4g} Hz"]
+
+
+def _history(results, r) -> list[str]:
+    return [f"  {r.name:<12} time history, {len(r.t)} steps; peak translation "
+            f"{np.abs(r.peak[:, :3]).max():.4g} m"
+            + ("; static correction for truncated modes" if r.corrected else "")]
+
+
+def _free(results, r) -> list[str]:
+    c = results.checks.cases[r.name]
+    ok = "pass" if c["inertia_balance_pass"] else "FAIL"
+    return [f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "
+            f"{np.abs(r.peak[:, :3]).max():.4g} m; modes capture "
+            f"{percent(r.captured, 2)} of the initial displacement (M-norm)",
+            f"{_CONTINUED}reactions balance the modal inertia forces to {r.inertia_balance:.1e} {ok}"]
+
+
+def _modes(results, r) -> list[str]:
+    c = results.checks.cases[r.name]
+    fr = ", ".join(f"{f:.4g}" for f in r.modes.freq[:6])
+    lines = [f"  {r.name:<12} {len(r.modes.freq)} modes ({r.modes.solver}); first Hz: {fr}"]
+    cum = "  ".join(f"{a} {percent(v)}" for a, v in c["cumulative_mass_fraction"].items())
+    missed = "not run" if c["none_missed"] is None else ("pass" if c["none_missed"] else "FAIL")
+    if r.target is not None:
+        got = r.part.cumulative[-1, :3]
+        lines.append(f"{_CONTINUED}mass target {', '.join(percent(v, 0) for v in r.target)} (X, Y, Z), "
+                     f"reached {', '.join(percent(v) for v in got)}: "
+                     + ("met" if r.target_met else f"NOT met with {len(r.modes.freq)} modes (the cap); "
+                        "raise max or check the model"))
+    verdict = {True: "pass", False: "FAIL"}
+    lines.append(f"{_CONTINUED}residual {c['max_residual']:.1e} {verdict[c['residual_pass']]}  "
+                 f"orthogonality M {c['mass_orthogonality']:.1e} K {c['stiffness_orthogonality']:.1e} "
+                 f"{verdict[c['orthogonality_pass']]}"
+                 f"  Sturm count {missed}  effective mass {cum}")
+    if c["effective_mass_sum_pass"] is not None:
+        lines.append(f"{_CONTINUED}all {len(r.modes.freq)} modes: effective masses add up to the total mass to "
+                     f"{c['effective_mass_sum_error']:.1e} {'pass' if c['effective_mass_sum_pass'] else 'FAIL'}")
+    lines += [f"{_CONTINUED}{line}" for line in zero_mode_lines(r.name, results.checks.plausible[r.name])]
+    return lines
+
+
+# each kind's lines; a response case's own warnings follow them
+_LINES = {"static": _static, "modes": _modes, "free": _free, "history": _history,
+          "harmonic": _harmonic, "spectrum": _spectrum}
+_OWN_WARNINGS = ("free", "history", "harmonic", "spectrum")
+
+
+def print_summary(results, written, name: str = "") -> int:
+    """Print the summary of `results` written as `written` (a `fem.output.write.Written`);
+    `name` stands for the model when it has no title (the deck as given). Returns the exit
+    status: 0 when every self-check passes and every target is met, else 1."""
+    model = results.model
+    print(f"{model.title or name or model.source}: {model.n_nodes} nodes, {model.n_members} members, "
+          f"total mass {model.total_mass():.6g} kg")
+    if model.overrides:
+        print("  overrides: " + ", ".join(f"{k} = {v}" for k, v in model.overrides.items()))
+    if results.cases_asked is not None:
+        asked, added = results.cases_asked["asked"], results.cases_asked["needed"]
+        print(f"  cases solved: {', '.join(asked)} as asked (--case)"
+              + (f", with {', '.join(added)} which they need" if added else ""))
+    for w in results.warnings:
+        print(f"  {w}")
+    for line in summary_lines(results.soundness):
+        print(f"  {line}")
+    am = results.assembled_mass
+    print(f"  mass check: assembled M gives {am[0]:.6g} kg in X, Y, Z "
+          f"({'pass' if results.checks.mass_pass else 'FAIL'} against members + point masses)")
+    for r in [*results.statics, *results.modal]:
+        for line in _LINES[r.kind](results, r):
+            print(line)
+        for w in r.warnings if r.kind in _OWN_WARNINGS else ():
+            print(f"{_CONTINUED}{w}")
+    print(f"  {written.notice}")
+    checks = results.checks
+    print("  self-checks: all pass" if checks.all_pass else
+          "  self-checks: some FAIL (marked above); check before using the results")
+    if checks.short:
+        print(f"  effective-mass target not met in {', '.join(checks.short)}")
+    for n in written.notes:
+        print(f"  {n}")
+    print(f"results in {written.folder}/")
+    print("Caution: " + CAUTION)
+    return 0 if results.ok else 1

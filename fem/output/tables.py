@@ -1,0 +1,143 @@
+"""The CSV tables of a results folder, each result's rows picked by its kind.
+
+displacements.csv, reactions.csv and member_forces.csv hold static cases and combinations,
+then the combined peaks of spectrum cases, then the peak envelopes (values >= 0) of free,
+history and harmonic cases. modes.csv and mode_shapes.csv hold the modes cases; free_, history_
+and frf_ tables the time and frequency series of each response case.
+"""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+
+import numpy as np
+
+from ..analysis.harmonic import lag_degrees
+from ..analysis.modal_case import AXES
+from ..model import DIRECTIONS
+
+__all__ = ["END_FORCES", "supported_nodes", "unit_shape_mass_stiffness", "write_tables"]
+
+END_FORCES = ("N", "Vy", "Vz", "T", "My", "Mz")
+REACTIONS = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
+
+# the fields of the shared tables (displacements, reactions, member end forces) by result kind
+_SHARED = {"static": ("u", "reactions", "member_forces"), "spectrum": ("u", "reactions", "member_forces"),
+           "free": ("peak", "reaction_peak", "member_peak"), "history": ("peak", "reaction_peak", "member_peak"),
+           "harmonic": ("peak", "reaction_peak", "member_peak")}
+
+
+def write_csv(path: Path, header, rows) -> None:
+    """Header and rows (any iterable: the long tables pass generators, so their rows are never
+    all held as Python objects, ~0.5 kB each)."""
+    with path.open("w", newline="") as fh:
+        w = csv.writer(fh)
+        w.writerow(header)
+        w.writerows(rows)
+
+
+def _fraction(x) -> float | str:
+    """A mass fraction for a table: empty where no mass moves in that direction (0/0)."""
+    return float(x) if np.isfinite(x) else ""
+
+
+def supported_nodes(model) -> np.ndarray:
+    """Indices of the nodes with a support or a spring to ground."""
+    return np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
+
+
+def unit_shape_mass_stiffness(r) -> tuple[np.ndarray, np.ndarray]:
+    """Modal mass (kg) and stiffness (N/m) of each mode shape scaled so that its largest nodal
+    translation is 1 m (its largest rotation 1 rad if no node translates): the generalised
+    mass phi^T M phi and stiffness w^2 phi^T M phi before mass normalisation."""
+    sh = r.shapes                                           # (n, 6, k), mass-normalised
+    top = np.abs(sh[:, :3]).max(axis=(0, 1))
+    top = np.where(top > 0, top, np.abs(sh[:, 3:]).max(axis=(0, 1)))
+    mass = 1.0 / np.where(top > 0, top, np.inf) ** 2
+    return mass, mass * r.modes.omega ** 2
+
+
+def _free_table(out: Path, model, r) -> None:
+    nodes = model.node_names
+    write_csv(out / f"free_{r.name}.csv", ["time_s", "node", *DIRECTIONS],
+              ([float(t), nodes[n], *map(float, r.u[i, j])] for i, t in enumerate(r.t)
+               for j, n in enumerate(r.record)))
+
+
+def _history_table(out: Path, model, r) -> None:
+    nodes = model.node_names
+    write_csv(out / f"history_{r.name}.csv",
+              ["time_s", "node", *DIRECTIONS, "vx", "vy", "vz", "ax_abs", "ay_abs", "az_abs"],
+              ([float(t), nodes[n], *map(float, r.u[i, j]), *map(float, r.v[i, j, :3]),
+                *map(float, r.a[i, j, :3])] for i, t in enumerate(r.t) for j, n in enumerate(r.record)))
+
+
+def _harmonic_tables(out: Path, model, r) -> None:
+    nodes, mems = model.node_names, model.member_names
+    # lags set to 0 below 1e-9 of a table's largest amplitude, where the phase is round-off
+    lag = lag_degrees(r.u, 1e-9 * np.abs(r.u).max(initial=0.0))
+    write_csv(out / f"frf_{r.name}.csv",
+              ["frequency_Hz", "node", *(f"amp_{d}" for d in DIRECTIONS), *(f"lag_deg_{d}" for d in DIRECTIONS)],
+              ([float(fr), nodes[n], *map(float, np.abs(r.u[i, j])), *map(float, lag[i, j])]
+               for i, fr in enumerate(r.freq) for j, n in enumerate(r.record)))
+    lag = lag_degrees(r.reactions, 1e-9 * np.abs(r.reactions).max(initial=0.0))
+    write_csv(out / f"frf_reactions_{r.name}.csv",
+              ["frequency_Hz", "node", *(f"amp_{c}" for c in REACTIONS), *(f"lag_deg_{c}" for c in REACTIONS)],
+              ([float(fr), nodes[n], *map(float, np.abs(r.reactions[i, j])), *map(float, lag[i, j])]
+               for i, fr in enumerate(r.freq) for j, n in enumerate(r.support)))
+    if r.member_forces is not None:
+        mf = r.member_forces.reshape(len(r.freq), -1, 2, 6)           # (m, q, end, 6)
+        lag = lag_degrees(mf, 1e-9 * np.abs(mf).max(initial=0.0))
+        write_csv(out / f"frf_member_forces_{r.name}.csv",
+                  ["frequency_Hz", "member", "end", *(f"amp_{c}" for c in END_FORCES),
+                   *(f"lag_deg_{c}" for c in END_FORCES)],
+                  ([float(fr), mems[q], end, *map(float, np.abs(mf[i, j, e])), *map(float, lag[i, j, e])]
+                   for i, fr in enumerate(r.freq) for j, q in enumerate(r.members)
+                   for e, end in enumerate("ij")))
+
+
+# the tables of its own that a result of each kind writes
+_OWN_TABLES = {"free": _free_table, "history": _history_table, "harmonic": _harmonic_tables}
+
+
+def _modes_tables(out: Path, model, modal: list) -> None:
+    head = ["case", "mode", "frequency_Hz", "omega_rad_s", "period_s", "modal_mass_kg", "modal_stiffness_N_per_m"]
+    head += [f"gamma_{a}" for a in AXES] + [f"mass_fraction_{a}" for a in AXES]
+    head += [f"cumulative_{a}" for a in AXES] + ["eigen_residual"]
+    rows = []
+    for r in modal:
+        m, p = r.modes, r.part
+        mm, mk = unit_shape_mass_stiffness(r)
+        for j in range(len(m.omega)):
+            rows.append([r.name, j + 1, float(m.freq[j]), float(m.omega[j]), float(m.period[j]),
+                         float(mm[j]), float(mk[j]),
+                         *map(float, p.gamma[j]), *map(_fraction, p.fraction[j]), *map(_fraction, p.cumulative[j]),
+                         float(m.residual[j])])
+    write_csv(out / "modes.csv", head, rows)
+    write_csv(out / "mode_shapes.csv", ["case", "mode", "node", *DIRECTIONS],
+              ([r.name, j + 1, n, *map(float, r.shapes[k, :, j])]
+               for r in modal for j in range(r.shapes.shape[2]) for k, n in enumerate(model.node_names)))
+
+
+def write_tables(results, out: Path) -> None:
+    """Every CSV table of `results` (a `fem.results.Results`) into the folder `out`."""
+    model = results.model
+    nodes, mems = model.node_names, model.member_names
+    shown = [*results.statics, *results.of_kind("spectrum"), *results.of_kind("free", "history", "harmonic")]
+    tables = [(r.name, *(getattr(r, a) for a in _SHARED[r.kind])) for r in shown]
+    write_csv(out / "displacements.csv", ["case", "node", *DIRECTIONS],
+              [[name, n, *map(float, u[k])] for name, u, _, _ in tables for k, n in enumerate(nodes)])
+    sup = supported_nodes(model)
+    write_csv(out / "reactions.csv", ["case", "node", *REACTIONS],
+              [[name, nodes[k], *map(float, rr[k])] for name, _, rr, _ in tables for k in sup])
+    write_csv(out / "member_forces.csv", ["case", "member", "end", *END_FORCES],
+              [[name, m, end, *map(float, mf[k, 6 * e:6 * e + 6])]
+               for name, _, _, mf in tables for k, m in enumerate(mems) for e, end in enumerate("ij")])
+    for r in results.modal:
+        write = _OWN_TABLES.get(r.kind)
+        if write is not None:
+            write(out, model, r)
+    modes = results.of_kind("modes")
+    if modes:
+        _modes_tables(out, model, modes)

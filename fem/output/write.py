@@ -1,0 +1,129 @@
+"""`write_results`: a results folder that loses nothing, holding exactly what `quaver run` writes.
+
+The tables, VTU files, results.json, pictures and report go to a folder staged beside the
+target and are swapped into place only when everything succeeded (`fem.output.folder`), so a
+failed or interrupted run leaves the previous results as they were.
+"""
+
+from __future__ import annotations
+
+import shutil
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from ..errors import ResultsError
+from . import folder as _folder
+from . import pictures, report
+from .results_json import write_results_json
+from .tables import write_tables
+
+__all__ = ["Written", "prepare_folder", "write_results"]
+
+
+@dataclass(frozen=True)
+class Written:
+    """What `write_results` did.
+
+    Attributes
+    ----------
+    folder : str
+        The results folder as given (as the summary shows it).
+    path : Path
+        The results folder, absolute, links resolved.
+    doc : dict
+        The results document written to results.json.
+    notice : str
+        One line on the pictures (drawn, skipped and why).
+    notes : tuple of str
+        What the folder's safety steps did worth saying (items of the user's kept, a folder
+        left by a killed run tidied).
+    """
+
+    folder: str
+    path: Path
+    doc: dict
+    notice: str
+    notes: tuple[str, ...] = field(default_factory=tuple)
+
+
+def _deck(results) -> Path | None:
+    return Path(results.model.source) if results.model.source else None
+
+
+def prepare_folder(folder, deck: Path | None) -> tuple[Path, str, list[str]]:
+    """Check that `folder` can take results (from `deck`, which it may not hold) before any
+    solve, so an unusable folder fails at once; tidy what a killed run left there. Returns the
+    folder resolved, as given, and the notes of the tidying."""
+    target, shown = _folder.resolve_target(None if folder is None else str(folder), str(deck or "results"))
+    _folder.check_target(target, shown, deck)
+    _folder.writable_parent(target, shown)
+    notes = _folder.tidy_after_kill(target, shown)
+    _folder.begin(target, shown)
+    return target, shown, notes
+
+
+def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_modes: int = 6,
+                  fps: float = 12.0) -> Written:
+    """Write the results folder of `results` (a `fem.results.Results`): CSV tables, VTU files
+    of mode shapes and responses, results.json, pictures (unless `render` is False) and the
+    report, staged and swapped in only when all succeeded.
+
+    Parameters
+    ----------
+    results : Results
+        From `fem.solve.solve`.
+    folder : str or Path
+        The results folder; a Quaver results folder there is replaced, items in it that Quaver
+        did not write are kept; a folder of other files is refused.
+    render : bool
+        Draw pictures and animations (pyvista, off screen).
+    jobs : int
+        Processes for drawing.
+    draw_modes : int
+        Draw the first `draw_modes` modes of each modes case.
+    fps : float
+        Frames a second of the animations.
+
+    Returns
+    -------
+    Written
+        The folder, the results document, the pictures' notice and the folder's notes.
+
+    Raises
+    ------
+    ResultsError
+        The folder cannot take results (nothing is written, earlier results are kept).
+
+    Examples
+    --------
+    >>> written = write_results(solve(read_deck("decks/rack.deck")), "results/rack")  # doctest: +SKIP
+    """
+    from .vtk import write_mode_files, write_response_files
+
+    deck = _deck(results)
+    target, shown, notes = prepare_folder(folder, deck)
+    tmp = _folder.stage(target)
+    model = results.model
+    try:
+        write_tables(results, tmp)
+        for r in results.of_kind("modes"):
+            write_mode_files(tmp / "modes", model, r)
+        for r in results.of_kind("free", "history"):
+            write_response_files(tmp / "response", model, r.name, r.frame_t, r.frames)
+        doc = write_results_json(results, tmp)
+        notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps) if render
+                  else "pictures skipped (--no-render)")
+        report.report(results, doc, tmp, notice)
+        _folder.write_manifest(tmp, target.name)
+        notes += _folder.swap(tmp, target, shown)
+    except ResultsError:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    except OSError as exc:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise ResultsError(f"could not write results to {shown}: {exc}") from None
+    except BaseException:
+        # interrupted (Ctrl-C) or failed part-way: folder.where() says where the results are
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    return Written(shown, target, doc, notice, tuple(notes))

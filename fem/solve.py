@@ -1,0 +1,168 @@
+"""`solve(model)`: every case of a model, its self-checks and notes, in one `Results`.
+
+The model's checks come first (`analysis.soundness.examine`: a mechanism, a free structure
+asked for a static answer or a hopeless condition is refused before any expensive solve); then
+the modes cases, the static cases and combinations, and the response cases built on them. One
+factorisation of K, the checks' own, serves every case that needs one. A table keyed by
+``case.kind`` picks each solver. The model is read, never written: solving twice gives the same
+results.
+"""
+
+from __future__ import annotations
+
+from contextlib import contextmanager
+
+import numpy as np
+
+from .analysis.free_case import solve_free_case
+from .analysis.harmonic import solve_harmonic_case
+from .analysis.history_case import solve_history_case
+from .analysis.modal_case import solve_modes_case
+from .analysis.soundness import examine, quiet
+from .analysis.spectrum_case import solve_spectrum_case
+from .analysis.static import combine, factorise, solve_static
+from .checks import evaluate
+from .errors import ModelError
+from .model import Model
+from .results import Results
+
+__all__ = ["assembled_mass", "solve"]
+
+
+def assembled_mass(model: Model, asm) -> np.ndarray:
+    """Translational mass seen by the assembled M in X, Y, Z (rigid translations), kg."""
+    r = np.zeros((6 * model.n_nodes, 3))
+    for d in range(3):
+        r[d::6, d] = 1.0
+    return np.einsum("ij,ij->j", r, asm.M @ r)
+
+
+@contextmanager
+def _at_case(case):
+    """Locate a ModelError raised while solving one case at the case's definition in the deck."""
+    try:
+        yield
+    except ModelError as exc:
+        if type(exc) is ModelError and exc.location is None and case.location is not None:
+            raise ModelError(exc.message, case.location) from None
+        raise
+
+
+def _links(case) -> tuple[str | None, str | None, bool]:
+    """What a response case is built on: the name of its modes case, the name of its static
+    start (a free case's), and whether it needs K's factor (a static correction, or a
+    spectrum's missing-mass term). The one place the solve reads a case's options."""
+    return case.modes, getattr(case, "start", None), case.static_part
+
+
+class _Run:
+    """What the solvers of one solve share: the model, its assembly, the results so far and
+    one factor of K, made when first needed (or the model's checks' own)."""
+
+    def __init__(self, model: Model, asm, factor):
+        self.model, self.asm = model, asm
+        self.statics: dict = {}
+        self.modes: dict = {}
+        self._factor = factor
+
+    def lu(self):
+        if self._factor is None:
+            self._factor = factorise(self.model, self.asm)
+        return self._factor
+
+
+def _free(run: _Run, case):
+    modes, start, _ = _links(case)
+    return solve_free_case(run.model, run.asm, case, run.modes[modes], run.statics[start].u if start else None)
+
+
+def _history(run: _Run, case):
+    from .progress import stage
+
+    modes, _, factor = _links(case)
+    with stage(f"history case {case.name}: integrating"):
+        return solve_history_case(run.model, run.asm, case, run.modes[modes], run.lu() if factor else None)
+
+
+def _harmonic(run: _Run, case):
+    modes, _, factor = _links(case)
+    return solve_harmonic_case(run.model, run.asm, case, run.modes[modes], run.lu() if factor else None)
+
+
+def _spectrum(run: _Run, case):
+    modes, _, factor = _links(case)
+    return solve_spectrum_case(run.model, run.asm, case, run.modes[modes], run.lu() if factor else None)
+
+
+# the solver of each response case kind; modes and static cases are solved before them, in bulk
+RESPONSE_SOLVERS = {"free": _free, "history": _history, "harmonic": _harmonic, "spectrum": _spectrum}
+
+
+def solve(model: Model, cases=None) -> Results:
+    """Solve every case and combination of `model` (or only those named in `cases`, with the
+    cases they are built on) and check the answers.
+
+    Parameters
+    ----------
+    model : Model
+        A model from `fem.deck.reader.read_deck` or `read_text`; it is not changed.
+    cases : iterable of str, optional
+        Names of cases and combinations to solve; each brings the cases it needs (a
+        combination its static cases, a response case its modes case and static start). An
+        unknown name raises DeckError with the nearest one. All cases when None or empty.
+
+    Returns
+    -------
+    Results
+        Every result by name, the model's checks (`soundness`), the assembled mass, the
+        self-checks and the notes of the solve.
+
+    Raises
+    ------
+    MechanismError, ModelError
+        A model that cannot be solved (a mechanism, a free structure asked for a static
+        answer, a stiffness too badly conditioned), or a case that cannot be.
+
+    Examples
+    --------
+    >>> from fem.deck.reader import read_deck               # doctest: +SKIP
+    >>> results = solve(read_deck("decks/rack.deck"))       # doctest: +SKIP
+    >>> results["MODES"].modes.freq[:3]                     # doctest: +SKIP
+    >>> results.ok                                          # doctest: +SKIP
+    True
+    """
+    from .progress import stage
+
+    asked = None
+    if cases:
+        from .case_selection import select_cases
+
+        names = list(dict.fromkeys(cases))
+        model, added = select_cases(model, names)
+        asked = {"asked": names, "needed": added}
+    asm, sound = examine(model)
+    notes = list(sound.notes)
+    run = _Run(model, asm, sound.factor)
+    for c in model.cases:
+        if c.kind == "modes":
+            with stage(f"modes case {c.name}: eigen solve"), _at_case(c), quiet(notes, f"case {c.name}"):
+                run.modes[c.name] = solve_modes_case(model, asm, c, factor=sound.spd, notes=notes)
+    statics = [c for c in model.cases if c.kind == "static"]
+    if statics or model.combinations:
+        with quiet(notes, "static cases"):
+            run.statics = {c.name: solve_static(model, asm, c, run.lu()) for c in statics}
+    for combo in model.combinations:
+        parts = [(f, run.statics[n]) for n, f in combo.factors.items()]
+        run.statics[combo.name] = combine(combo.name, parts, model.coords)
+    responses, built_on = {}, {}
+    for c in model.cases:
+        solver = RESPONSE_SOLVERS.get(c.kind)
+        if solver is not None:
+            with _at_case(c), quiet(notes, f"case {c.name}"):
+                responses[c.name] = solver(run, c)
+            built_on[c.name] = _links(c)[0]
+    mass = assembled_mass(model, asm)
+    modal = [*run.modes.values(), *responses.values()]
+    checks = evaluate(model, list(run.statics.values()), modal, mass, len(sound.rigid))
+    return Results(model, {**run.statics, **run.modes, **responses}, sound, mass, checks, tuple(notes),
+                   asked, built_on)
