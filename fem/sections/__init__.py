@@ -1,0 +1,44 @@
+"""Cross-section properties: shapes from dimensions (:mod:`.shapes`) and standard sections by
+designation (:mod:`.catalogue`)."""
+
+from .shapes import (
+    _NU,
+    CATALOGUE,
+    SHAPES,
+    SectionProps,
+    _angle_leg_moments,
+    _fillet,
+    _rounded_rect,
+    angle,
+    angle_principal_angle,
+    channel,
+    cowper_kappa_hollow_circle,
+    cowper_kappa_rectangle,
+    cowper_kappa_solid_circle,
+    generic,
+    ishape,
+    make_section,
+    pipe,
+    rect,
+    rhs,
+    round_bar,
+)
+
+__all__ = [
+    "CATALOGUE",
+    "SHAPES",
+    "SectionProps",
+    "angle",
+    "angle_principal_angle",
+    "channel",
+    "cowper_kappa_hollow_circle",
+    "cowper_kappa_rectangle",
+    "cowper_kappa_solid_circle",
+    "generic",
+    "ishape",
+    "make_section",
+    "pipe",
+    "rect",
+    "rhs",
+    "round_bar",
+]
