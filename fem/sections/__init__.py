@@ -1,6 +1,7 @@
 """Cross-section properties: shapes from dimensions (:mod:`.shapes`) and standard sections by
 designation (:mod:`.catalogue`)."""
 
+from .catalogue import CatalogueEntry, catalogue_designations, catalogue_entry, catalogue_section
 from .shapes import (
     _NU,
     CATALOGUE,
@@ -27,9 +28,13 @@ from .shapes import (
 __all__ = [
     "CATALOGUE",
     "SHAPES",
+    "CatalogueEntry",
     "SectionProps",
     "angle",
     "angle_principal_angle",
+    "catalogue_designations",
+    "catalogue_entry",
+    "catalogue_section",
     "channel",
     "cowper_kappa_hollow_circle",
     "cowper_kappa_rectangle",
