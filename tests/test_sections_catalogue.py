@@ -271,8 +271,9 @@ def test_catalogue_row_against_published(designation):
 
 def test_catalogue_families_and_sizes():
     fams = {catalogue_entry(d).family for d in ALL}
-    assert fams == {"IPE", "HEB"}
+    assert fams == {"IPE", "HEB", "W"}
     assert len(catalogue_designations("HEB")) == 24 and len(catalogue_designations("IPE")) == 18
+    assert len(catalogue_designations("W")) >= 20
 
 
 @pytest.mark.parametrize("spelling", ["HEB 300", "HEB300", "heb 300", " heb300 ", "HE 300 B", "he300b"])
@@ -287,6 +288,8 @@ def test_catalogue_section_is_the_shape_from_its_dimensions():
     assert e.shape == "ishape" and e.standard == "EN 10365"
     assert e.dims == pytest.approx({"d": 0.300, "bf": 0.300, "tf": 0.019, "tw": 0.011, "r": 0.027}, rel=1e-12)
     assert catalogue_section("HEB 300") == ishape(**e.dims)
+    w = catalogue_entry("w14x90")
+    assert w.designation == "W14X90" and w.dims["r"] == pytest.approx((1.31 - 0.71) * 0.0254, rel=1e-12)
 
 
 def test_catalogue_through_make_section_and_nu():
@@ -302,9 +305,10 @@ def test_catalogue_through_make_section_and_nu():
 @pytest.mark.parametrize("bad, match", [
     ("HEB 310", r"unknown section designation 'HEB 310'; did you mean 'HEB 300' or 'HEB 320' or 'HEB 280'\?"),
     ("IPE 290", r"unknown section designation 'IPE 290'; did you mean 'IPE 300' or 'IPE 270' or 'IPE 330'\?"),
-    ("Z 42", r"unknown section designation 'Z 42'; families: IPE, HEB"),
+    ("W14X91", r"did you mean 'W14X90'"),
+    ("Z 42", r"unknown section designation 'Z 42'; families: IPE, HEB, W"),
     (300, r"a section designation must be text such as 'HEB 300', got 300"),
-], ids=["HEB310", "IPE290", "unknown-family", "not-text"])
+], ids=["HEB310", "IPE290", "W14X91", "unknown-family", "not-text"])
 def test_unknown_designation(bad, match):
     with pytest.raises(ValueError, match=match):
         catalogue_section(bad)

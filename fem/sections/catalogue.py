@@ -125,6 +125,7 @@ def _equal_angle(row):
 _FAMILIES = (
     _Family("IPE", "en10365_ipe.csv", "EN 10365", _european_i),
     _Family("HEB", "en10365_heb.csv", "EN 10365", _european_i),
+    _Family("W", "aisc_w.csv", "ASTM A6/A6M", _w_shape),
 )
 
 
