@@ -271,9 +271,11 @@ def test_catalogue_row_against_published(designation):
 
 def test_catalogue_families_and_sizes():
     fams = {catalogue_entry(d).family for d in ALL}
-    assert fams == {"IPE", "HEB", "W"}
+    assert fams == {"IPE", "HEB", "W", "HSS rectangular", "HSS round / pipe"}
     assert len(catalogue_designations("HEB")) == 24 and len(catalogue_designations("IPE")) == 18
     assert len(catalogue_designations("W")) >= 20
+    rect_hss = [catalogue_entry(d) for d in catalogue_designations("HSS rectangular")]
+    assert any(e.dims["b"] == e.dims["h"] for e in rect_hss) and any(e.dims["b"] != e.dims["h"] for e in rect_hss)
 
 
 @pytest.mark.parametrize("spelling", ["HEB 300", "HEB300", "heb 300", " heb300 ", "HE 300 B", "he300b"])
@@ -290,11 +292,15 @@ def test_catalogue_section_is_the_shape_from_its_dimensions():
     assert catalogue_section("HEB 300") == ishape(**e.dims)
     w = catalogue_entry("w14x90")
     assert w.designation == "W14X90" and w.dims["r"] == pytest.approx((1.31 - 0.71) * 0.0254, rel=1e-12)
+    assert catalogue_section("Pipe6SCH40") == pipe(6.625 * 0.0254, 0.261 * 0.0254)
 
 
 def test_catalogue_through_make_section_and_nu():
     s = make_section("catalogue", {"designation": "HEB 300"})
     assert s == catalogue_section("HEB 300")
+    p = make_section("catalogue", {"designation": "Pipe6SCH40"}, nu=0.25)
+    assert p == pipe(6.625 * 0.0254, 0.261 * 0.0254, nu=0.25)
+    assert p != catalogue_section("Pipe6SCH40")
     with pytest.raises(ValueError, match=r"section shape 'catalogue' takes exactly one parameter, designation"):
         make_section("catalogue", {"designation": "HEB 300", "r": 0.01})
     with pytest.raises(ValueError, match=r"known shapes: pipe, round, rhs, rect, ishape, angle, channel, "
@@ -306,7 +312,7 @@ def test_catalogue_through_make_section_and_nu():
     ("HEB 310", r"unknown section designation 'HEB 310'; did you mean 'HEB 300' or 'HEB 320' or 'HEB 280'\?"),
     ("IPE 290", r"unknown section designation 'IPE 290'; did you mean 'IPE 300' or 'IPE 270' or 'IPE 330'\?"),
     ("W14X91", r"did you mean 'W14X90'"),
-    ("Z 42", r"unknown section designation 'Z 42'; families: IPE, HEB, W"),
+    ("Z 42", r"unknown section designation 'Z 42'; families: IPE, HEB, W, HSS rectangular"),
     (300, r"a section designation must be text such as 'HEB 300', got 300"),
 ], ids=["HEB310", "IPE290", "W14X91", "unknown-family", "not-text"])
 def test_unknown_designation(bad, match):

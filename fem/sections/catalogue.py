@@ -126,6 +126,8 @@ _FAMILIES = (
     _Family("IPE", "en10365_ipe.csv", "EN 10365", _european_i),
     _Family("HEB", "en10365_heb.csv", "EN 10365", _european_i),
     _Family("W", "aisc_w.csv", "ASTM A6/A6M", _w_shape),
+    _Family("HSS rectangular", "aisc_hss_rect.csv", "ASTM A500", _hss_rect),
+    _Family("HSS round / pipe", "aisc_round.csv", "ASTM A500 (HSS), ASME B36.10M (pipe)", _round),
 )
 
 
