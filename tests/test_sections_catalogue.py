@@ -271,9 +271,9 @@ def test_catalogue_row_against_published(designation):
 
 def test_catalogue_families_and_sizes():
     fams = {catalogue_entry(d).family for d in ALL}
-    assert fams == {"IPE", "HEB", "W", "HSS rectangular", "HSS round / pipe"}
-    assert len(catalogue_designations("HEB")) == 24 and len(catalogue_designations("IPE")) == 18
+    assert fams == {"IPE", "HEB", "W", "HSS rectangular", "HSS round / pipe", "L equal"}
     assert len(catalogue_designations("W")) >= 20
+    assert len(catalogue_designations("HEB")) == 24 and len(catalogue_designations("IPE")) == 18
     rect_hss = [catalogue_entry(d) for d in catalogue_designations("HSS rectangular")]
     assert any(e.dims["b"] == e.dims["h"] for e in rect_hss) and any(e.dims["b"] != e.dims["h"] for e in rect_hss)
 

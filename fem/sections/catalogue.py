@@ -128,6 +128,7 @@ _FAMILIES = (
     _Family("W", "aisc_w.csv", "ASTM A6/A6M", _w_shape),
     _Family("HSS rectangular", "aisc_hss_rect.csv", "ASTM A500", _hss_rect),
     _Family("HSS round / pipe", "aisc_round.csv", "ASTM A500 (HSS), ASME B36.10M (pipe)", _round),
+    _Family("L equal", "aisc_l_equal.csv", "ASTM A6/A6M", _equal_angle),
 )
 
 
