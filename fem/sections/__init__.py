@@ -3,13 +3,9 @@ designation (:mod:`.catalogue`)."""
 
 from .catalogue import CatalogueEntry, catalogue_designations, catalogue_entry, catalogue_section
 from .shapes import (
-    _NU,
     CATALOGUE,
     SHAPES,
     SectionProps,
-    _angle_leg_moments,
-    _fillet,
-    _rounded_rect,
     angle,
     angle_principal_angle,
     channel,
@@ -23,6 +19,9 @@ from .shapes import (
     rect,
     rhs,
     round_bar,
+)
+from .shapes import (
+    _angle_leg_moments as _angle_leg_moments,  # private, used by tests
 )
 
 __all__ = [
