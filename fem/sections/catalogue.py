@@ -7,18 +7,15 @@ shape functions of :mod:`fem.sections.shapes` (with root fillets and corner radi
 catalogue section is exactly the section a user would get by typing its dimensions; the
 published properties are kept beside them for the checks in tests/test_sections_catalogue.py.
 
-Families:
+Families (table files in fem/sections/data; each header names the standard and the source):
 
-=============  ==========================  ==============================================
-family         example                     table
-=============  ==========================  ==============================================
-IPE            ``IPE 300``                 en10365_ipe.csv (EN 10365)
-HEB            ``HEB 300``, ``HE 300 B``   en10365_heb.csv (EN 10365)
-W              ``W14X90``                  aisc_w.csv (ASTM A6; AISC Shapes Database v15.0)
-HSS (rect.)    ``HSS4X4X1/4``              aisc_hss_rect.csv (ASTM A500; AISC v15.0)
-HSS / Pipe     ``HSS4X.250``, ``Pipe6SCH40``  aisc_round.csv (ASTM A500, ASME B36.10M; AISC v15.0)
-L (equal)      ``L4X4X1/2``                aisc_l_equal.csv (ASTM A6; AISC v15.0)
-=============  ==========================  ==============================================
+- IPE, e.g. ``IPE 300``: en10365_ipe.csv (EN 10365)
+- HEB, e.g. ``HEB 300`` or ``HE 300 B``: en10365_heb.csv (EN 10365)
+- W, e.g. ``W14X90``: aisc_w.csv (ASTM A6; AISC Shapes Database v15.0)
+- square and rectangular HSS, e.g. ``HSS4X4X1/4``: aisc_hss_rect.csv (ASTM A500; AISC v15.0)
+- round HSS and pipe, e.g. ``HSS4X.250``, ``Pipe6SCH40``: aisc_round.csv (ASTM A500,
+  ASME B36.10M; AISC v15.0)
+- equal angles, e.g. ``L4X4X1/2``: aisc_l_equal.csv (ASTM A6; AISC v15.0)
 
 Designations are matched without regard to case or spaces ("heb300", "HEB 300", "W14x90");
 "HE 300 B" is read as "HEB 300".
@@ -32,6 +29,7 @@ import re
 from collections.abc import Callable
 from dataclasses import dataclass
 from importlib import resources
+from types import MappingProxyType
 
 from ..errors import suggest
 from .shapes import _NU, SectionProps, make_section
@@ -58,9 +56,9 @@ class CatalogueEntry:
         File name of the table in fem/sections/data (its header names the source).
     shape : str
         The ``make_section`` shape the section is built with.
-    dims : dict of str to float
+    dims : mapping of str to float (read-only)
         Parameters of that shape, SI (m).
-    published : dict of str to float
+    published : mapping of str to float (read-only)
         Published properties, SI: A (m^2), Iy, Iz, J (m^4), Wy, Wz (m^3) where the table gives
         them, on the member axes of ``shape`` (Iy strong axis; angles: principal axes), and for
         angles I_leg, W_leg about an axis parallel to a leg.
@@ -146,7 +144,8 @@ def _read(family: _Family) -> list[CatalogueEntry]:
     for rec in csv.DictReader(lines):
         name = rec.pop("designation")
         shape, dims, pub = family.build({k: float(v) for k, v in rec.items()})
-        out.append(CatalogueEntry(name, family.name, family.standard, family.table, shape, dims, pub))
+        out.append(CatalogueEntry(name, family.name, family.standard, family.table, shape,
+                                  MappingProxyType(dims), MappingProxyType(pub)))
     return out
 
 
