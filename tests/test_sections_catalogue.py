@@ -275,7 +275,7 @@ RTOL = 0.01
 RTOL_FAMILY = {
     # W: AISC prints d, bf, tf to 3 significant figures but computed I from unrounded values:
     # bf = 12 stands for 11.95-12.05 and Iz goes as bf^3, up to 1.3 % from printing alone
-    # [Iz 1.44 % W36X135, Wz 0.91 %].
+    # [Iz 1.44 % W36X135; Wz, which goes as bf^2, stays within 1 % at 0.91 %].
     ("W", "Iz"): 0.015,
     # IPE: the EN table's It (method not stated in its file) against El Darwish & Johnston
     # [+1.72 % IPE 400]; for HEB the spread is 0.95 % (HEB 300).
@@ -318,8 +318,6 @@ def test_catalogue_row_against_published(designation):
     got = _computed(entry, s)
     for key, published in entry.published.items():
         tol = RTOL_ROW.get((designation, key)) or RTOL_FAMILY.get((entry.family, key), RTOL)
-        if key == "Wz" and entry.family == "W":
-            tol = RTOL_FAMILY[("W", "Iz")]
         assert got[key] == pytest.approx(published, rel=tol), (key, got[key] / published - 1)
 
 
