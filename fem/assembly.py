@@ -9,6 +9,7 @@ import scipy.sparse as sp
 
 from . import elements as el
 from .errors import ModelError
+from .limits import HUGE
 from .model import Model
 
 __all__ = ["Assembled", "BlockPattern", "assemble", "element_matrices"]
@@ -99,7 +100,6 @@ def _subset(model: Model, sel) -> Model:
 
 
 CHUNK = 4096   # members per batch: keeps the (chunk, 12, 12) temporaries in cache
-HUGE = 1e150   # largest stiffness or mass entry that can be computed with
 
 
 @dataclass

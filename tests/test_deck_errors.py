@@ -410,8 +410,8 @@ def test_angle_axes_as_documented(b, h, theta_deg):
     towards leg h, and roll = theta turns leg b onto the default local y, leg h onto local z."""
     import math
 
-    from fem.elements.frame import local_axes
-    from fem.sections import _angle_leg_moments, angle, angle_principal_angle
+    from fem.geometry import local_axes
+    from fem.sections import angle, angle_leg_moments, angle_principal_angle
     t = 0.008
     theta = angle_principal_angle(b, h, t)
     if theta_deg is not None:
@@ -422,7 +422,7 @@ def test_angle_axes_as_documented(b, h, theta_deg):
     s = angle(b, h, t)
     # Mohr's circle: the moments about the leg-b and leg-h axes through the centroid follow from
     # the principal ones at -theta and 90 deg - theta (I(a) = Iu cos^2 a + Iv sin^2 a)
-    _, _, _, I_b, I_h, _ = _angle_leg_moments(b, h, t)
+    _, _, _, I_b, I_h, _ = angle_leg_moments(b, h, t)
     assert s.Iy * math.cos(theta) ** 2 + s.Iz * math.sin(theta) ** 2 == pytest.approx(I_b, rel=1e-12)
     assert s.Iy * math.sin(theta) ** 2 + s.Iz * math.cos(theta) ** 2 == pytest.approx(I_h, rel=1e-12)
     # a horizontal member along X: default local y = global Y, local z = global Z

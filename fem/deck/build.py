@@ -217,7 +217,7 @@ def _rotation_stiffness(coords, conn, truss, releases, roll, up) -> np.ndarray:
     """(n, 3): for each node and global rotation, how much of it the beam ends there keep
     (sum over ends of the kept local rotation axes' squared components): 0 where only truss
     members or released ends meet, as on the diagonal of the assembled K."""
-    from ..elements.frame import local_axes
+    from ..geometry import local_axes
 
     out = np.zeros((len(coords), 3))
     beams = np.flatnonzero(~truss)

@@ -26,9 +26,9 @@ COINCIDENT = 1e-6
 
 def huge_members(mems, cols, axis) -> None:
     """Refuse a member whose stiffness or mass entries would be beyond what the assembly can
-    compute with (assembly.HUGE): E = 1e308 Pa on a 1 mm member overflows E A / L to inf and
+    compute with (limits.HUGE): E = 1e308 Pa on a 1 mm member overflows E A / L to inf and
     the transforms to NaN. Worked in log10 so the check itself cannot overflow."""
-    from ..assembly import HUGE
+    from ..limits import HUGE
 
     if not len(mems):
         return
@@ -78,7 +78,7 @@ def leaning_members(mems, axis, cols, up, truss) -> list[Note]:
     not the same about both axes and no `up`: the default axes follow the inclined-member rule
     there, which can turn the section 90 degrees from a plumb neighbour's (members under 1 %
     count as vertical; see elements.frame.LEAN_VERTICAL)."""
-    from ..elements.frame import LEAN_VERTICAL
+    from ..geometry import LEAN_VERTICAL
 
     length = np.linalg.norm(axis, axis=1)
     lean = np.hypot(axis[:, 0], axis[:, 1]) / np.where(length > 0, length, 1.0)

@@ -375,7 +375,7 @@ class Statements:
 
 
 def not_huge(v: float, what: str, where: Location) -> None:
-    from ..assembly import HUGE
+    from ..limits import HUGE
 
     if abs(v) > HUGE:
         raise DeckError(f"{what} of {v:.3g} in SI units is beyond the {HUGE:.0e} that can be computed with", where,
