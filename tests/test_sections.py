@@ -183,9 +183,9 @@ def test_equal_angle_L100x100x10():
 
 def test_equal_angle_centroid():
     # ref §9 equal-angle formula c = (b^2 + bt - t^2)/(2(2b - t)) = 28.684 mm (C)
-    from fem.sections import _angle_leg_moments
+    from fem.sections import angle_leg_moments
 
-    _, cy, cz, Iyy, _Izz, Pyz = _angle_leg_moments(0.1, 0.1, 0.01)
+    _, cy, cz, Iyy, _Izz, Pyz = angle_leg_moments(0.1, 0.1, 0.01)
     assert cy == pytest.approx(28.684 * MM, rel=RTOL_TABLE)
     assert cz == pytest.approx(cy, rel=1e-14)
     # ref §9: I_x = I_y = 180.004 cm4, I_xy = -106.579 cm4

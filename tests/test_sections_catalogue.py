@@ -298,10 +298,10 @@ RTOL_ROW = {("Pipe10SCH40", "A"): 0.035, ("Pipe2SCH40", "A"): 0.02}
 def _computed(entry, s):
     got = {"A": s.A, "Iy": s.Iy, "Iz": s.Iz, "J": s.J, "Wy": s.Wy, "Wz": s.Wz}
     if entry.shape == "angle":
-        from fem.sections import _angle_leg_moments
+        from fem.sections import angle_leg_moments
 
         b, h, t = entry.dims["b"], entry.dims["h"], entry.dims["t"]
-        _, _, cz, Iyy, _, _ = _angle_leg_moments(b, h, t)
+        _, _, cz, Iyy, _, _ = angle_leg_moments(b, h, t)
         got["I_leg"], got["W_leg"] = Iyy, Iyy / (h - cz)
     return got
 

@@ -7,6 +7,7 @@ from .shapes import (
     SHAPES,
     SectionProps,
     angle,
+    angle_leg_moments,
     angle_principal_angle,
     channel,
     cowper_kappa_hollow_circle,
@@ -20,9 +21,6 @@ from .shapes import (
     rhs,
     round_bar,
 )
-from .shapes import (
-    _angle_leg_moments as _angle_leg_moments,  # private, used by tests
-)
 
 __all__ = [
     "CATALOGUE",
@@ -30,6 +28,7 @@ __all__ = [
     "CatalogueEntry",
     "SectionProps",
     "angle",
+    "angle_leg_moments",
     "angle_principal_angle",
     "catalogue_designations",
     "catalogue_entry",
