@@ -15,6 +15,7 @@ import pytest
 
 import fem.analysis.memory as mem
 import fem.analysis.modes as modes_mod
+from fem import solve
 from fem.analysis.free_case import free_bytes, solve_free_case
 from fem.analysis.harmonic import solve_harmonic_case, sweep_bytes
 from fem.analysis.history_case import history_bytes, solve_history_case
@@ -22,7 +23,6 @@ from fem.analysis.modal_case import solve_modes_case
 from fem.assembly import assemble
 from fem.deck.reader import read_text
 from fem.errors import ModelError
-from fem.solve import solve
 
 ROOT = Path(__file__).parents[1]
 GiB = 2 ** 30
@@ -55,7 +55,7 @@ def test_cgroup_v2_tightest_level_up_the_hierarchy(tmp_path, monkeypatch):
     (cg / "memory.max").write_text("max\n")                             # no limit at the root
     proc = _fake_proc(tmp_path, f"30 23 0:26 / {cg} rw,nosuid - cgroup2 cgroup2 rw,nsdelegate\n",
                       "0::/user/job\n")
-    free = sorted(b for b, _ in mem._cgroup_free(proc))
+    free = sorted(b for b, _ in mem.cgroup_free(proc))
     assert free == [2**25, 3 * GiB // 4]
     _no_rlimit(monkeypatch)
     have, source = mem.memory_limit(proc)
@@ -74,7 +74,7 @@ def test_cgroup_v1_memory_hierarchy_below_its_mounted_root(tmp_path, monkeypatch
     proc = _fake_proc(tmp_path, f"35 31 0:32 /outer {m} rw,relatime - cgroup cgroup rw,memory\n"
                                 f"36 31 0:33 / {tmp_path}/cpu rw - cgroup cgroup rw,cpu\n",
                       "5:cpu:/\n4:memory:/outer/job\n0::/\n")
-    assert mem._cgroup_free(proc) == [(GiB // 2, f"cgroup v1 limit 2.0 GiB ({m}/memory.limit_in_bytes)")]
+    assert mem.cgroup_free(proc) == [(GiB // 2, f"cgroup v1 limit 2.0 GiB ({m}/memory.limit_in_bytes)")]
     _no_rlimit(monkeypatch)
     assert mem.memory_limit(proc)[0] == GiB // 2
 
@@ -115,7 +115,7 @@ def test_ulimit_v_is_seen_by_a_real_process():
 
 def test_factor_refusal_names_the_limit(monkeypatch):
     A = __import__("scipy.sparse", fromlist=["x"]).identity(50, format="csc")
-    monkeypatch.setattr(mem, "_cgroup_free", lambda proc="/proc": [(10, "cgroup v2 limit 1 KiB (test)")])
+    monkeypatch.setattr(mem, "cgroup_free", lambda proc="/proc": [(10, "cgroup v2 limit 1 KiB (test)")])
     with pytest.raises(ModelError, match=r"only 0\.0 GiB is free \(set by: cgroup v2 limit 1 KiB \(test\)\)"):
         mem.check_factor_memory(A * 1e6, "static solve")
 

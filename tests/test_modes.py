@@ -149,12 +149,12 @@ def test_sturm_count_with_repeated_modes(n):
 def test_sturm_count_sees_a_missing_mode():
     # were the eigen solver to skip a mode, the inertia of K - sigma M still counts it
     from fem.analysis.factor import negative_eigenvalues
-    from fem.analysis.modes import _sturm_shift
+    from fem.analysis.modes import sturm_shift
 
     K, M = chain(5000)
     exact = (2 * np.sin((2 * np.arange(1, 9) - 1) * np.pi / (2 * (2 * 5000 + 1)))) ** 2
     skipped = np.delete(exact, 3)
-    shift, expected = _sturm_shift(skipped, 6, more=True)
+    shift, expected = sturm_shift(skipped, 6, more=True)
     assert expected == 6 and negative_eigenvalues(K - shift * M) == 7
 
 
@@ -173,14 +173,14 @@ def test_negative_eigenvalues_match_dense_inertia():
 def test_sturm_shift_placement():
     # midway to the next distinct eigenvalue; past a repeated partner; below the last cluster
     # when it runs past the computed eigenvalues; after all of them when none lie beyond
-    from fem.analysis.modes import _sturm_shift
+    from fem.analysis.modes import sturm_shift
 
     lam = np.array([1.0, 2.0, 2.0, 3.0])
-    assert _sturm_shift(lam, 1, more=True) == (1.5, 1)
-    assert _sturm_shift(lam, 2, more=True) == (2.5, 3)          # mode 2's partner counted
-    assert _sturm_shift(np.array([1.0, 2.0, 2.0, 2.0]), 2, more=True) == (1.5, 1)
-    assert _sturm_shift(np.array([2.0, 2.0]), 1, more=True) == (None, None)
-    shift, expected = _sturm_shift(lam, 4, more=False)
+    assert sturm_shift(lam, 1, more=True) == (1.5, 1)
+    assert sturm_shift(lam, 2, more=True) == (2.5, 3)          # mode 2's partner counted
+    assert sturm_shift(np.array([1.0, 2.0, 2.0, 2.0]), 2, more=True) == (1.5, 1)
+    assert sturm_shift(np.array([2.0, 2.0]), 1, more=True) == (None, None)
+    shift, expected = sturm_shift(lam, 4, more=False)
     assert 3.0 < shift < 3.0 + 1e-5 and expected == 4
 
 
@@ -216,7 +216,7 @@ def test_residual_and_orthogonality_measures_see_a_bad_eigenpair():
     # Algorithms, 2nd ed., sec. 7.1 and 7.2 for normwise and componentwise backward errors;
     # common practice for eigenpairs); K-orthogonality: |x_i^T K x_j| beyond the rounding bound
     # gamma |x_i|^T |K| |x_j| of its computation (Higham, sec. 3.1), over sqrt(l_i l_j)
-    from fem.analysis.modes import _checks
+    from fem.analysis.modes import eigen_checks
 
     K, M = chain(40)
     Kd, Md = K.toarray(), M.toarray()
@@ -225,7 +225,7 @@ def test_residual_and_orthogonality_measures_see_a_bad_eigenpair():
     rng = np.random.default_rng(0)
     phi[:, 1] += 1e-3 * rng.standard_normal(40)
     lam[3] *= 1 + 1e-4
-    res, orth_m, orth_k = _checks(K, M, lam, phi)
+    res, orth_m, orth_k = eigen_checks(K, M, lam, phi)
     a = np.abs(phi)
     mine = (np.linalg.norm(Kd @ phi - Md @ phi * lam, axis=0)
             / (np.linalg.norm(np.abs(Kd) @ a, axis=0) + np.abs(lam) * np.linalg.norm(np.abs(Md) @ a, axis=0)))

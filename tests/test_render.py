@@ -31,8 +31,8 @@ import numpy as np
 from PIL import Image
 from pathlib import Path
 from fem.deck.reader import read_deck
-from fem.solve import solve
-from fem.output.render import render_modes, _FIELD
+from fem import solve
+from fem.output.render import render_modes, PICTURE_FIELD
 from fem.output.vtk import shape_scale
 m = read_deck(sys.argv[1])
 others = solve(m).modal
@@ -42,7 +42,7 @@ still = render_modes(out / "b", m, others[0], 0.0, gif=False)
 a = np.asarray(Image.open(moved[0]).convert("RGB"), dtype=float)
 b = np.asarray(Image.open(still[0]).convert("RGB"), dtype=float)
 h, w, _ = a.shape
-x0, y0, x1, y1 = _FIELD
+x0, y0, x1, y1 = PICTURE_FIELD
 field = np.zeros((h, w), bool)
 field[int((1 - y1) * h):int((1 - y0) * h), int(x0 * w):int(x1 * w)] = True
 drawn = ((a.sum(axis=2) < 740) | (b.sum(axis=2) < 740)) & field      # the model, either state
@@ -270,9 +270,9 @@ def test_torsional_mode_is_named_a_twist(tmp_path):
     centre and none in X or Y; the sways none in RZ."""
     import numpy as np
 
+    from fem import solve
     from fem.deck.reader import read_deck
     from fem.output.render import dominant_direction
-    from fem.solve import solve
 
     d = tmp_path / "table.deck"
     d.write_text(TABLE)

@@ -20,8 +20,8 @@ import numpy as np
 from PIL import Image
 from pathlib import Path
 from fem.deck.reader import read_deck
-from fem.solve import solve
-from fem.output.render import render_modes, _FIELD
+from fem import solve
+from fem.output.render import render_modes, PICTURE_FIELD
 from fem.output.vtk import shape_scale
 m = read_deck(sys.argv[1])
 (modes,) = solve(m).modal
@@ -34,7 +34,7 @@ for j in (0, 3):
     files = render_modes(out, m, one, shape_scale(m), gif=False)
     a = np.asarray(Image.open(files[1]).convert("RGB"), dtype=float)      # isometric
     h, w, _ = a.shape
-    x0, y0, x1, y1 = _FIELD
+    x0, y0, x1, y1 = PICTURE_FIELD
     a = a[int((1 - y1) * h):int((1 - y0) * h), int(x0 * w):int(x1 * w)]
     r, g, b = a[..., 0], a[..., 1], a[..., 2]
     # the ribbon's rust (over white at 0.7 opacity about (212, 137, 109)); cividis yellows have

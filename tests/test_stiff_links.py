@@ -20,14 +20,14 @@ import numpy as np
 import pytest
 import scipy.linalg as sla
 
+from fem import solve
 from fem.analysis import modes as modes_mod
-from fem.analysis.modes import _checks, _own_scale, solve_modes
+from fem.analysis.modes import eigen_checks, own_scale, solve_modes
 from fem.analysis.static import factorise, solve_static
 from fem.assembly import assemble
 from fem.checks import ORTHO_TOL, RESIDUAL_TOL
 from fem.deck.reader import read_text
 from fem.errors import MechanismError, ModelError
-from fem.solve import solve
 
 EPS = np.finfo(float).eps
 OWN = 10
@@ -72,7 +72,7 @@ def inverted_reference(K, M, k):
 
 
 def assert_eigenvalues(lam, ref, K, phi_ref):
-    tol = OWN * EPS * _own_scale(K, phi_ref) + 1e-12 * ref
+    tol = OWN * EPS * own_scale(K, phi_ref) + 1e-12 * ref
     assert np.all(np.abs(lam - ref) <= tol), (lam, ref, np.abs(lam - ref) / tol)
 
 
@@ -107,7 +107,7 @@ def test_link_modes_on_the_sparse_path(link, monkeypatch):
     ref, phi_ref = inverted_reference(K, M, 5)
     assert np.all(r.freq > 5.0)
     # Lanczos stops at a relative Ritz tolerance of LANCZOS_TOL on mu = 1/(lambda - sigma)
-    tol = OWN * EPS * _own_scale(K, phi_ref) + 1e3 * modes_mod.LANCZOS_TOL * ref
+    tol = OWN * EPS * own_scale(K, phi_ref) + 1e3 * modes_mod.LANCZOS_TOL * ref
     assert np.all(np.abs(r.omega ** 2 - ref) <= tol)
     assert r.residual.max() < RESIDUAL_TOL and max(r.orth_mass, r.orth_stiff) < ORTHO_TOL
 
@@ -135,7 +135,7 @@ def test_stiffness_orthogonality_fails_on_a_spoiled_shape(link, mix):
     phi = r.phi.copy()
     phi[:, 0] += mix * phi[:, 2]
     phi[:, 0] /= np.sqrt(phi[:, 0] @ (M @ phi[:, 0]))
-    _, _, orth_k = _checks(K, M, r.omega ** 2, phi)
+    _, _, orth_k = eigen_checks(K, M, r.omega ** 2, phi)
     assert orth_k > 0.5 * mix and mix >= 10 * ORTHO_TOL
 
 
@@ -146,7 +146,7 @@ def test_residual_fails_on_a_zeroed_mode():
     # the solver must never zero a mode of a positive definite K in the first place.)
     K, M = mast(100.0)
     r = solve_modes(K, M, n_modes=6)
-    res, _, _ = _checks(K, M, np.r_[0.0, r.omega[1:] ** 2], r.phi)
+    res, _, _ = eigen_checks(K, M, np.r_[0.0, r.omega[1:] ** 2], r.phi)
     assert res[0] > 100 * RESIDUAL_TOL and res[1:].max() < 1e-3 * RESIDUAL_TOL
 
 
@@ -156,12 +156,12 @@ def test_free_structure_keeps_its_zero_modes_with_a_short_link():
     # 1, the smallest nonzero one 1e-3 here): six rigid-body modes and three more. Those come
     # out at exactly zero, the elastic ones as the dense reference gives them (scipy's eigh
     # of the inverted pencil with the same small negative shift the solver uses)
-    from fem.analysis.static import _normalised_stiffness
+    from fem.analysis.static import normalised_stiffness
 
     m = read_text(MAST.format(link=0.2, panels=3, support=""))
     asm = assemble(m)
     K, M = asm.K[asm.free][:, asm.free].tocsr(), asm.M[asm.free][:, asm.free].tocsr()
-    Kn = _normalised_stiffness(m, asm).toarray()
+    Kn = normalised_stiffness(m, asm).toarray()
     s = 1 / np.sqrt(np.diag(Kn))
     ev = np.linalg.eigvalsh(Kn * s[:, None] * s[None, :])
     zero = int(np.sum(ev < 1e-9 * ev.max()))
@@ -190,9 +190,9 @@ def test_all_zero_modes_give_a_finite_orthogonality():
     lam = r12.omega ** 2
     phi = r12.phi.copy()
     phi[:, :2] += 1e-3 * phi[:, [-1]]
-    _, _, orth_k = _checks(K, M, lam, phi)
+    _, _, orth_k = eigen_checks(K, M, lam, phi)
     assert orth_k > 0.5e-6 > 10 * ORTHO_TOL             # 1e-6 lam[-1] over lam[-1]
-    _, _, orth_k = _checks(K, M, np.zeros(6), phi[:, :6])
+    _, _, orth_k = eigen_checks(K, M, np.zeros(6), phi[:, :6])
     assert np.isfinite(orth_k) and orth_k > 0
 
 

@@ -14,7 +14,8 @@ from .free import free_response, modal_initial_conditions
 from .memory import check_memory
 from .modal_case import ModesCaseResult, field_responses
 
-__all__ = ["FreeCaseResult", "animation_frames", "frame_indices", "peak_index", "peaks", "solve_free_case", "step_warnings"]
+__all__ = ["animation_frames", "frame_indices", "FreeCaseResult", "inertia_balance", "peak_index", "peaks",
+           "solve_free_case", "step_warnings"]
 
 
 @dataclass
@@ -201,7 +202,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
                           rel, ft, frames, warnings, start_error, rounding, ok)
 
 
-def _inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:
+def inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:
     """The largest relative mismatch of `inertia_balance_terms`."""
     return inertia_balance_terms(model, asm, modal, Rm)[0]
 

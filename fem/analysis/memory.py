@@ -15,8 +15,8 @@ from pathlib import Path
 
 from ..errors import ModelError
 
-__all__ = ["available_bytes", "check_factor_memory", "check_memory", "factor_bytes_estimate", "gib",
-           "memory_limit"]
+__all__ = ["available_bytes", "cgroup_free", "check_factor_memory", "check_memory", "factor_bytes_estimate",
+           "gib", "memory_limit"]
 
 REFUSE_FACTOR = 3.0     # refuse when the (upper-bound) factor estimate exceeds 3x the free memory
 _UNLIMITED = 1 << 60    # cgroup v1 writes 'no limit' as a number near 2^63
@@ -73,7 +73,7 @@ def _cgroup_mounts(proc: str) -> list[tuple[str, str, str]]:
     return found
 
 
-def _cgroup_free(proc: str = "/proc") -> list[tuple[int, str]]:
+def cgroup_free(proc: str = "/proc") -> list[tuple[int, str]]:
     """Free room (limit - usage) under each memory limit of this process's cgroups, from its
     own cgroup up to the root of the mounted hierarchy: [(bytes, what sets it)]."""
     try:
@@ -143,7 +143,7 @@ def _rlimit_free(proc: str = "/proc") -> list[tuple[int, str]]:
 def memory_limit(proc: str = "/proc") -> tuple[int, str]:
     """(bytes this process may still allocate, what sets that limit): the tightest of
     MemAvailable, the cgroup limits and the rlimits."""
-    candidates = [(b, w) for b, w in _cgroup_free(proc) + _rlimit_free(proc)]
+    candidates = [(b, w) for b, w in cgroup_free(proc) + _rlimit_free(proc)]
     avail = _meminfo(proc)
     if avail is not None:
         candidates.append((avail, "memory available on the machine"))

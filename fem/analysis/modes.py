@@ -11,7 +11,8 @@ import scipy.sparse.linalg as spla
 
 from ..errors import ModelError
 
-__all__ = ["DENSE_LIMIT", "ModalResult", "Participation", "massless_dofs", "participation", "solve_modes"]
+__all__ = ["DENSE_LIMIT", "eigen_checks", "massless_dofs", "ModalResult", "own_scale", "participation",
+           "Participation", "solve_modes", "sturm_shift"]
 
 DENSE_LIMIT = 600   # free DOFs up to which a dense eigh is cheaper and exact
 DEFLATION_ROUNDS = 12  # re-runs for modes the Sturm count shows missed (one or more each)
@@ -39,7 +40,7 @@ class ModalResult:
     phi (n, k) mass-normalised; residual (k,) backward error in each mode's own scale
     ||K phi - w^2 M phi|| / (|| |K| |phi| || + w^2 || |M| |phi| ||); orth_mass max |phi^T M phi - I|;
     orth_stiff the largest off-diagonal |phi_i^T K phi_j| beyond its rounding bound, over
-    sqrt(w_i^2 w_j^2) (see `_checks`); sturm_count eigenvalues below
+    sqrt(w_i^2 w_j^2) (see `eigen_checks`); sturm_count eigenvalues below
     the check shift sturm_shift (None if not computed) and sturm_expected the computed ones
     below it (the modes found plus any repeated partners of the last one); solver 'dense' or
     'shift-invert, <factorisation>'."""
@@ -71,7 +72,7 @@ class Participation:
     cumulative: np.ndarray
 
 
-def _own_scale(K, phi) -> np.ndarray:
+def own_scale(K, phi) -> np.ndarray:
     """(k,) |phi_j|^T |K| |phi_j|: the stiffness scale of each mode's own motion, the rounding
     unit of phi_j^T K phi_j (a short stiff member that moves rigidly in a mode raises it; one
     that stays still does not)."""
@@ -80,7 +81,7 @@ def _own_scale(K, phi) -> np.ndarray:
     return np.einsum("ij,ij->j", a, aK @ a)
 
 
-def _checks(K, M, lam, phi):
+def eigen_checks(K, M, lam, phi):
     """Residuals and orthogonality, each against the modes' own scales, never the whole model's.
 
     residual_j = ||K phi - w^2 M phi|| / (|| |K| |phi| || + w^2 || |M| |phi| ||): the backward error
@@ -221,7 +222,7 @@ def _kept(lam, want, lam_max) -> int:
     return int(np.sum((np.arange(len(lam)) < want) & (lam <= lam_max * (1 + 1e-12))))
 
 
-def _sturm_shift(lam, k, more):
+def sturm_shift(lam, k, more):
     """Shift for the Sturm check of the first k of the computed eigenvalues `lam` (ascending):
     midway to the next distinct computed eigenvalue, so that repeated partners of the last
     mode (symmetric towers give pairs) are counted as computed, not as missed; when the
@@ -377,7 +378,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
     keep = _kept(lam, want, lam_max)
     count = shift_used = expected = None
     if sturm and keep:
-        shift_used, expected = _sturm_shift(lam, keep, more)
+        shift_used, expected = sturm_shift(lam, keep, more)
         if shift_used is not None:
             from .factor import negative_eigenvalues
 
@@ -413,7 +414,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
     # clip the negative rest
     if not definite and len(lam):
         tol = LANCZOS_TOL if basis is not None else np.finfo(float).eps
-        own = _own_scale(K, phi) / np.einsum("ij,ij->j", phi, M @ phi)
+        own = own_scale(K, phi) / np.einsum("ij,ij->j", phi, M @ phi)
         noise = ZERO_ROUNDING * np.finfo(float).eps * own
         if sigma is not None:
             noise = np.maximum(noise, 1e3 * tol * abs(sigma))
@@ -424,7 +425,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
     # mass-normalise (eigh and eigsh already do; renormalise against round-off)
     mnorm = np.sqrt(np.einsum("ij,ij->j", phi, M @ phi))
     phi = phi / mnorm
-    res, orth_m, orth_k = _checks(K, M, lam, phi)
+    res, orth_m, orth_k = eigen_checks(K, M, lam, phi)
     omega = np.sqrt(lam)
     with np.errstate(divide="ignore"):
         period = np.where(omega > 0, 2 * np.pi / np.where(omega > 0, omega, 1), np.inf)

@@ -13,8 +13,9 @@ from ..assembly import Assembled, element_matrices
 from ..errors import MechanismError, ModelError
 from ..model import DIRECTIONS, LoadCase, Model
 
-__all__ = ["EQUILIBRIUM_TOL", "ROUNDING_FACTOR", "SOLVE_TOL", "StaticResult", "balance", "combine", "condition_estimate", "precision_lines",
-           "factorise", "load_vector", "solve_static", "stiffness_contrast", "support_forces", "equilibrium"]
+__all__ = ["balance", "combine", "condition_estimate", "equilibrium", "EQUILIBRIUM_TOL", "factorise",
+           "load_vector", "normalised_stiffness", "precision_lines", "ROUNDING_FACTOR", "solve_static",
+           "SOLVE_TOL", "StaticResult", "stiffness_contrast", "support_forces"]
 
 EPS = np.finfo(float).eps
 EQUILIBRIUM_TOL = 1e-8   # relative; a direct solve reaches ~1e-12, far looser means a bad model
@@ -103,7 +104,7 @@ def _scatter(out, idx, vals, rows=False):
     out += np.bincount(idx.ravel(), weights=vals, minlength=out.size)
 
 
-def _normalised_stiffness(model: Model, asm: Assembled):
+def normalised_stiffness(model: Model, asm: Assembled):
     """K over the free DOFs with every member's stiffness divided by its own largest diagonal
     entry and every spring set to 1: the same zero-energy motions as K (a sum of positive
     semi-definite parts with positive weights vanishes only where every part does), but no
@@ -124,11 +125,11 @@ def _normalised_stiffness(model: Model, asm: Assembled):
 
 def motion_probe(model: Model, asm: Assembled, Kff):
     """The matrix in which zero-energy motions are looked for: the member-normalised stiffness
-    (`_normalised_stiffness`), so that a stiffness contrast between members (a 0.1 mm link, a
+    (`normalised_stiffness`), so that a stiffness contrast between members (a 0.1 mm link, a
     member with E = 0.2 Pa at a support) is not taken for a mechanism and is left to the
     condition estimate; `Kff` itself when the model's member matrices do not match it (a K
     built elsewhere)."""
-    return _normalised_stiffness(model, asm) if Kff.shape == (len(asm.free),) * 2 else Kff
+    return normalised_stiffness(model, asm) if Kff.shape == (len(asm.free),) * 2 else Kff
 
 
 def zero_energy_motions(Kff, max_modes: int = 6):

@@ -166,7 +166,7 @@ def _setup(pv, poly, caption, size=SIZE):
 
 # the part of the frame the model is fitted into (fractions of width and height, from the
 # lower left): clear of the caption above and of the colour bar and axes marker on the right
-_FIELD = (0.02, 0.03, 0.80, 0.88)
+PICTURE_FIELD = (0.02, 0.03, 0.80, 0.88)
 
 
 ISO = ((1.0, 1.0, 1.0), (0.0, 0.0, 1.0))      # isometric: looking from (1, 1, 1), z up
@@ -175,7 +175,7 @@ ISO = ((1.0, 1.0, 1.0), (0.0, 0.0, 1.0))      # isometric: looking from (1, 1, 1
 def _fit(p, points: np.ndarray, toward, up) -> None:
     """Parallel projection looking from direction `toward` (to the camera) with `up` as near
     vertical as it can be, fitted tightly to `points` (undeformed and deformed), the model
-    inside _FIELD. The camera is set here in full (pyvista's view presets keep state that
+    inside PICTURE_FIELD. The camera is set here in full (pyvista's view presets keep state that
     spoils a later parallel fit)."""
     cam = p.camera
     d = -np.asarray(toward, float)
@@ -186,7 +186,7 @@ def _fit(p, points: np.ndarray, toward, up) -> None:
     right = np.cross(d, up)
     u, v = points @ right, points @ up
     w, h = p.window_size
-    x0, y0, x1, y1 = _FIELD
+    x0, y0, x1, y1 = PICTURE_FIELD
     half_h = max(np.ptp(v) / (2 * (y1 - y0)), np.ptp(u) * h / w / (2 * (x1 - x0)), 1e-9)
     half_w = half_h * w / h
     # the screen centre sits where the field's centre must fall on the model's centre
