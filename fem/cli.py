@@ -139,7 +139,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     from .deck.reader import read_deck
     from .output.summary import print_summary
     from .output.write import prepare_folder, write_results
-    from .solve import solve
+    from .solver import solve
 
     model = read_deck(deck, let=let)
     if cases:

@@ -1,4 +1,4 @@
-"""`Results`: what one `fem.solve.solve` found, self-describing and read-only by habit.
+"""`Results`: what one `fem.solve` found, self-describing and read-only by habit.
 
 Each case result carries its kind (``result.kind``: "static", "modes", "free", "history",
 "harmonic", "spectrum"; a combination is a "static" result), so code that shows results picks
@@ -54,7 +54,7 @@ class Results:
     --------
     >>> results = solve(read_deck("decks/mast.deck"))      # doctest: +SKIP
     >>> [r.kind for r in results]                          # doctest: +SKIP
-    ['static', 'static', 'modes', 'spectrum']
+    ['static', 'static', 'modes', 'free']
     >>> results["MODES"].modes.freq[0], results.ok         # doctest: +SKIP
     """
 

@@ -132,7 +132,7 @@ case E spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions
 
 
 def _pole(modes: str, ground: str, missing: str = "off"):
-    from fem.solve import solve
+    from fem import solve
 
     text = (POLE.replace("MODES_OPTIONS", modes).replace("GROUND", ground).replace("MISSING", missing)
             .replace("DIRS", ground.replace(" m/s^2", "")))

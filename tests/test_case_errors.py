@@ -2,9 +2,9 @@
 
 import pytest
 
+from fem import solve
 from fem.deck.reader import read_text
 from fem.errors import ModelError
-from fem.solve import solve
 
 FRAME = """
 material S { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }

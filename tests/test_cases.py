@@ -7,6 +7,7 @@ from dataclasses import replace
 import numpy as np
 import pytest
 
+from fem import solve
 from fem.cases import (
     CASE_TYPES,
     Damping,
@@ -21,7 +22,6 @@ from fem.cases import (
 )
 from fem.deck.reader import read_text
 from fem.errors import DeckError
-from fem.solve import solve
 from fem.spectrum import Spectrum
 from fem.timefn import TimeFunction
 

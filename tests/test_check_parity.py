@@ -81,9 +81,9 @@ def test_mast_mechanism_is_refused_by_check_and_run_alike(tmp_path, capsys, case
 
 
 def test_sound_mast_checks_and_runs_with_the_same_notes(tmp_path, capsys):
+    from fem import solve
     from fem.analysis.soundness import summary_lines
     from fem.deck.reader import read_text
-    from fem.solve import solve
 
     sound = _mast([0, 1, 2]) + MODES + STATIC
     (c_code, _, c_out), (r_code, _, r_out) = _both(tmp_path, capsys, sound)
@@ -179,8 +179,8 @@ def test_static_case_on_a_free_structure_is_refused_by_check_and_run(tmp_path, c
 def test_rigid_motions_left_by_partial_supports_are_named(supports, names):
     # kinematics, common practice, no source: vertical restraint alone leaves the plan motions
     # (X, Y, turn about Z); a single pin leaves the three turns about it
+    from fem import solve
     from fem.deck.reader import read_text
-    from fem.solve import solve
 
     m = read_text(FREE + supports + "\ncase MODES modes { count = 8 }\n")
     solved = solve(m)
@@ -263,10 +263,10 @@ def test_one_factor_of_K_serves_checks_static_cases_and_modes(monkeypatch):
     # 150 members, 900 free DOFs: above the dense eigen limit, so the modes case uses a sparse
     # factor of K at zero shift; it is the checks' own, made once (counted, not timed)
     import fem.analysis.factor as fac
+    from fem import solve
     from fem.analysis.modes import DENSE_LIMIT, solve_modes
     from fem.assembly import assemble
     from fem.deck.reader import read_text
-    from fem.solve import solve
 
     calls = []
     real = fac.spd_factor

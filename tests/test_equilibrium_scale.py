@@ -19,6 +19,7 @@ import numpy as np
 import pytest
 import scipy.linalg as sla
 
+from fem import solve
 from fem.analysis.free_case import BALANCE_TOL, inertia_balance_terms
 from fem.analysis.modal_case import field_responses
 from fem.analysis.static import (
@@ -33,7 +34,6 @@ from fem.analysis.static import (
 from fem.assembly import assemble
 from fem.checks import modal_checks, static_ok
 from fem.deck.reader import read_text
-from fem.solve import solve
 
 LINKS = [0.1, 1.0, 5.0, 20.0]        # mm
 IDS = [f"{x:g}mm" for x in LINKS]

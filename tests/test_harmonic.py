@@ -4,13 +4,13 @@ import numpy as np
 import pytest
 import scipy.sparse.linalg as spla
 
+from fem import solve
 from fem.analysis.damping import rayleigh_coefficients
 from fem.analysis.harmonic import sweep_frequencies
 from fem.analysis.static import load_vector
 from fem.assembly import assemble
 from fem.deck.reader import read_text
 from fem.errors import DeckError
-from fem.solve import solve
 
 SDOF = """
 material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }

@@ -5,10 +5,10 @@ import pytest
 import scipy.sparse.linalg as spla
 from scipy.integrate import solve_ivp
 
+from fem import solve
 from fem.assembly import assemble
 from fem.deck.reader import read_text
 from fem.errors import DeckError
-from fem.solve import solve
 
 # a massless axial bar carrying a point mass is a single-DOF oscillator: k = EA/L, m
 SDOF = """

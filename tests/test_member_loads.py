@@ -4,11 +4,11 @@ cases, against closed forms; errors for misplaced or malformed local loads."""
 import numpy as np
 import pytest
 
+from fem import solve
 from fem.analysis.static import solve_static
 from fem.assembly import assemble
 from fem.deck.reader import read_text
 from fem.errors import DeckError
-from fem.solve import solve
 
 E = 200e9
 # generic section with distinct bending stiffnesses, so a load on the wrong axis shows

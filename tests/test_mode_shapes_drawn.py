@@ -6,13 +6,13 @@ Fast: pure numpy on small decks, no rendering."""
 import numpy as np
 import pytest
 
+from fem import solve
 from fem.analysis.energy import field_energies
 from fem.assembly import assemble, element_matrices
 from fem.deck.reader import read_deck
 from fem.elements import frame as fr
 from fem.elements.interpolate import bending_functions, member_curves
 from fem.output.character import describe_mode
-from fem.solve import solve
 
 E, G = 200e9, 80e9
 IY, IZ, J, A = 2e-5, 3e-5, 1e-5, 0.01

@@ -7,12 +7,12 @@ import json
 import numpy as np
 import pytest
 
+from fem import solve
 from fem.assembly import assemble
 from fem.cli import run_deck
 from fem.deck.reader import read_text
 from fem.errors import DeckError, ModelError, QuaverError
 from fem.output.results_json import strict
-from fem.solve import solve
 
 FRAME = """material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
 section P = pipe(od = 168.3 mm, wall = 7.11 mm)

@@ -13,7 +13,7 @@ import pytest
 import fem.output.folder as folder
 import fem.output.report as report
 import fem.output.summary as summary
-import fem.solve
+import fem.solver
 from fem.cli import INTERNAL_ERROR, main
 
 ROOT = Path(__file__).parents[1]
@@ -464,7 +464,7 @@ def _umask() -> int:
 def test_an_internal_error_has_its_own_status_and_asks_for_a_report(tmp_path, deck, capsys, monkeypatch):
     def broken(model, cases=None):
         raise ZeroDivisionError("float division by zero")
-    monkeypatch.setattr(fem.solve, "solve", broken)
+    monkeypatch.setattr(fem.solver, "solve", broken)
     out = tmp_path / "proj"
     assert _run(deck, out) == INTERNAL_ERROR
     err = capsys.readouterr().err

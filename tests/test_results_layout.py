@@ -3,9 +3,9 @@
 import csv
 import json
 
+from fem import solve
 from fem.deck.reader import read_text
 from fem.output.write import write_results
-from fem.solve import solve
 
 # cases written deliberately out of the documented order
 MIXED = """

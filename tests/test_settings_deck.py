@@ -1,13 +1,13 @@
 """`settings { shear = on }` and `settings { mass = lumped }` end to end, from deck text through
-fem.solve.solve, against closed forms."""
+fem.solve, against closed forms."""
 
 import numpy as np
 import pytest
 import scipy.linalg
 import scipy.optimize
 
+from fem import solve
 from fem.deck.reader import read_text
-from fem.solve import solve
 
 E, NU, RHO = 200e9, 0.3, 7850.0
 G = E / (2 * (1 + NU))

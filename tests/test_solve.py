@@ -1,4 +1,4 @@
-"""`fem.solve.solve` is pure: the model it is given is not changed, and solving twice gives the
+"""`fem.solve` is pure: the model it is given is not changed, and solving twice gives the
 same results, to the last bit. A `Results` holds every case by name with its kind, the model's
 checks, the self-checks and the solve's notes."""
 
@@ -9,10 +9,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from fem import solve
 from fem.deck.reader import read_deck, read_text
 from fem.errors import DeckError
 from fem.notes import Note
-from fem.solve import solve
 
 ROOT = Path(__file__).resolve().parents[1]
 

@@ -3,9 +3,9 @@
 import numpy as np
 import pytest
 
+from fem import solve
 from fem.deck.reader import read_deck, read_text
 from fem.errors import DeckError
-from fem.solve import solve
 
 # two-storey shear frame: guided columns with 12 EI / h^3 = 40 MN/m per storey, 100 t floors
 SHEAR2 = """

@@ -324,8 +324,8 @@ case PULL static { force B = (0, 25 kN, 0) }
 def test_combination_equilibrium_is_its_own():
     # A combination's check is computed from its own combined loads and reactions (statics of
     # the superposed state), not copied from its parts: spoiling one combined reaction must show.
+    from fem import solve
     from fem.analysis.static import equilibrium
-    from fem.solve import solve
 
     m = read_text(PIPE + """
 node A = (0, 0, 0)

@@ -6,11 +6,11 @@ from pathlib import Path
 
 import pytest
 
+from fem import solve
 from fem.cli import main
 from fem.deck.reader import read_deck
 from fem.errors import ResultsError
 from fem.output.write import write_results
-from fem.solve import solve
 
 ROOT = Path(__file__).resolve().parents[1]
 

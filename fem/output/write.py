@@ -71,7 +71,7 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
     Parameters
     ----------
     results : Results
-        From `fem.solve.solve`.
+        From `fem.solve`.
     folder : str or Path
         The results folder; a Quaver results folder there is replaced, items in it that Quaver
         did not write are kept; a folder of other files is refused.
