@@ -55,6 +55,28 @@ def _links(case) -> tuple[str | None, str | None, bool]:
     return case.modes, getattr(case, "start", None), case.static_part
 
 
+def _check_links(model: Model) -> None:
+    """Refuse a case built on a case the model does not have (possible for cases built in
+    Python; the reader refuses it in the deck): a response case's modes case, a free case's
+    static start, a combination's static cases."""
+    kinds = {c.name: c.kind for c in model.cases}
+    combos = {cb.name for cb in model.combinations}
+    for c in model.cases:
+        if c.kind not in RESPONSE_SOLVERS:
+            continue
+        modes, start, _ = _links(c)
+        if kinds.get(modes) != "modes":
+            raise ModelError(f"case {c.name}: '{modes}' is not a modes case of the model; its modes cases: "
+                             f"{', '.join(n for n, k in kinds.items() if k == 'modes') or 'none'}", c.location)
+        if start and kinds.get(start) != "static" and start not in combos:
+            raise ModelError(f"case {c.name}: start '{start}' is not a static case or combination of the model",
+                             c.location)
+    for cb in model.combinations:
+        for n in cb.factors:
+            if kinds.get(n) != "static":
+                raise ModelError(f"combination {cb.name}: '{n}' is not a static case of the model", cb.location)
+
+
 class _Run:
     """What the solvers of one solve share: the model, its assembly, the results so far and
     one factor of K, made when first needed (or the model's checks' own)."""
@@ -140,6 +162,7 @@ def solve(model: Model, cases=None) -> Results:
         names = list(dict.fromkeys(cases))
         model, added = select_cases(model, names)
         asked = {"asked": names, "needed": added}
+    _check_links(model)
     asm, sound = examine(model)
     notes = list(sound.notes)
     run = _Run(model, asm, sound.factor)

@@ -148,3 +148,19 @@ def test_asking_for_cases_solves_them_and_what_they_need(mixed):
     assert [c.name for c in mixed.cases] == ["ST", "WIND", "MODES", "FV", "TH", "HA", "RS"]   # untouched
     with pytest.raises(DeckError, match="--case NOPE: the deck has no case or combination of that name"):
         solve(mixed, ["NOPE"])
+
+
+def test_a_case_built_on_a_missing_case_is_refused_in_words():
+    # cases built in Python are not checked by the reader: the solve names what is missing
+    from dataclasses import replace
+
+    from fem import ModelError
+
+    model = read_deck(Path(__file__).resolve().parents[1] / "decks" / "mast.deck")
+    release = next(c for c in model.cases if c.name == "RELEASE")
+    for wrong, said in ((replace(release, modes="MODSE"), r"case RELEASE: 'MODSE' is not a modes case of the "
+                         r"model; its modes cases: MODES"),
+                        (replace(release, start="WIND"), r"case RELEASE: start 'WIND' is not a static case")):
+        cases = [c if c.name != "RELEASE" else wrong for c in model.cases]
+        with pytest.raises(ModelError, match=said):
+            solve(replace(model, cases=cases))
