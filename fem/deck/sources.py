@@ -7,6 +7,7 @@ resolve, it must be a regular file inside the top deck's folder, below a size li
 
 from __future__ import annotations
 
+import gc
 import os
 import stat
 from contextlib import contextmanager
@@ -53,6 +54,7 @@ class Sources:
         self.lines: dict[Path, list[str]] = {}
         self.token_file: dict[int, Path] = {}
         self.deck_bytes = 0                            # bytes of deck text read so far (all files)
+        self._shown: dict[Path, str] = {}
 
     def load(self, path: Path, where: Location | None = None) -> tuple[Path, Tree]:
         """The deck file at `path` (the top deck, or an include named at `where`) checked, read
@@ -104,14 +106,27 @@ class Sources:
 
     def shown(self, path: Path) -> str:
         """How a file is named in messages: its place below the top deck's folder (rack.deck,
-        parts/legs.deck), so that included files of the same name in different folders differ."""
-        try:
-            return str(path.relative_to(self.top_dir))
-        except ValueError:
-            return str(path)
+        parts/legs.deck), so that included files of the same name in different folders differ.
+        Worked out once per file: every located item asks."""
+        shown = self._shown.get(path)
+        if shown is None:
+            try:
+                shown = str(path.relative_to(self.top_dir))
+            except ValueError:
+                shown = str(path)
+            self._shown[path] = shown
+        return shown
 
     def parse(self, text: str, path: Path) -> Tree:
-        tree = parse_deck_text(_parser(), text, Path(self.shown(path)))
+        # the collector would scan the growing tree again and again while lark builds it (a
+        # million objects for a large deck) and finds no cycles to free there: paused meanwhile
+        paused = gc.isenabled()
+        gc.disable()
+        try:
+            tree = parse_deck_text(_parser(), text, Path(self.shown(path)))
+        finally:
+            if paused:
+                gc.enable()
         deep = too_deep(tree)
         if deep is not None:
             sub, levels = deep
