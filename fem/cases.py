@@ -266,7 +266,9 @@ class ModesCase(_Case):
     """The lowest modes: `count` of them, those up to `fmax` Hz (both: the fewer), or as many as
     reach the cumulative effective-mass fractions `target` (X, Y, Z) in every direction, at most
     `max_count`. None of count, fmax, target: MODES_COUNT modes. `reference` (3,) m is the point
-    rotational participation is taken about. Deck options: count, fmax, target, max, reference."""
+    rotational participation is taken about. `sensitivity` asks for frequency sensitivities, members grouped by
+    "members", "sections", "materials" or the deck's "groups"; `sensitivity_rows` ranked rows per mode. Deck
+    options: count, fmax, target, max, reference, sensitivity, sensitivity_rows."""
 
     kind: ClassVar[str] = "modes"
     count: int | None = None
@@ -274,6 +276,8 @@ class ModesCase(_Case):
     target: np.ndarray | None = None
     max_count: int = MODES_MAX
     reference: np.ndarray = (0.0, 0.0, 0.0)
+    sensitivity: str | None = None
+    sensitivity_rows: int = 8      # rows per mode of the ranked tables (results.json, report)
 
     @property
     def n_modes(self) -> int | None:
@@ -300,6 +304,10 @@ class ModesCase(_Case):
         object.__setattr__(self, "max_count", _whole(self.max_count, 1, np.inf,
                                                      f"case {name}: max must be a whole number of at least 1",
                                                      "max"))
+        if self.sensitivity not in (None, "members", "sections", "materials", "groups"):
+            raise RuleError(f"case {name}: sensitivity is members, sections, materials or groups", "sensitivity")
+        object.__setattr__(self, "sensitivity_rows", _whole(self.sensitivity_rows, 1, np.inf, f"case {name}: "
+                           "sensitivity_rows must be a whole number of at least 1", "sensitivity_rows"))
         self._no_loads()
         if self.target is not None and (self.count is not None or self.fmax is not None):
             raise RuleError(f"case {name}: give a mass target or count/fmax, not both")

@@ -60,6 +60,8 @@ class Model:
     restraint : (n, 6) bool, restrained DOFs
     springs : (n, 6) spring stiffness to ground, N/m or N m/rad
     point_mass : (n, 6) mass and rotary inertia at nodes, kg and kg m^2
+    groups : the deck's groups that hold members, name -> member names (deck order; nodes of a
+        group of both are left out); a modes case's sensitivities may be reported by them
     warnings : what the reader found worth saying, not refusing: fem.notes.Note (str(note) is
         "file:line:column: warning: ..."); some are still plain texts of that form
     """
@@ -90,6 +92,7 @@ class Model:
     sections: dict[str, Section] = field(default_factory=dict)
     member_section: list[str] = field(default_factory=list)
     member_material: list[str] = field(default_factory=list)
+    groups: dict[str, tuple[str, ...]] = field(default_factory=dict)   # member groups, see above
     cases: list[Case] = field(default_factory=list)      # typed cases (fem.cases), in deck order
     combinations: list[Combination] = field(default_factory=list)
     settings: dict = field(default_factory=dict)

@@ -49,6 +49,9 @@ class Results:
         because they need them; None when every case was solved.
     built_on : dict of str to str
         The modes case each response case was built on, by response case name.
+    sensitivities : dict of str to FrequencySensitivity
+        The frequency sensitivities of each modes case that asks for them (its `sensitivity`
+        option), by case name (`fem.analysis.sensitivity`; docs/sensitivity.md).
 
     Examples
     --------
@@ -66,6 +69,7 @@ class Results:
     notes: tuple[Note, ...] = ()
     cases_asked: dict | None = None
     built_on: dict = field(default_factory=dict)
+    sensitivities: dict = field(default_factory=dict)
 
     def __repr__(self) -> str:
         cases = ", ".join(f"{n} ({r.kind})" for n, r in self.cases.items())

@@ -116,6 +116,25 @@ def _spectrum(run: _Run, case):
     return solve_spectrum_case(run.model, run.asm, case, run.modes[modes], run.lu() if factor else None)
 
 
+def _sensitivity(model: Model, case, modes):
+    """The frequency sensitivities a modes case asks for (`case.sensitivity`), members grouped as
+    it says; None when it asks for none."""
+    from .analysis.sensitivity import frequency_sensitivity
+    from .limits import ROWS_LIMIT
+
+    if case.sensitivity is None:
+        return None
+    if case.sensitivity == "groups" and not model.groups:
+        raise ModelError(f"case {case.name}: sensitivity = groups, but the model has no group of members")
+    by = {"members": "member", "sections": "section", "materials": "material"}.get(case.sensitivity)
+    s = frequency_sensitivity(model, modes, groups=dict(model.groups) if by is None else by)
+    if s.d_freq.size > ROWS_LIMIT:
+        raise ModelError(f"case {case.name}: {len(s.kind)} parameters x {len(s.freq)} modes = {s.d_freq.size:,} "
+                         f"rows of sensitivities, above the limit of {ROWS_LIMIT:,}; group the members: "
+                         "sensitivity = sections, materials or groups")
+    return s
+
+
 # the solver of each response case kind; modes and static cases are solved before them, in bulk
 RESPONSE_SOLVERS = {"free": _free, "history": _history, "harmonic": _harmonic, "spectrum": _spectrum}
 
@@ -166,10 +185,12 @@ def solve(model: Model, cases=None) -> Results:
     asm, sound = examine(model)
     notes = list(sound.notes)
     run = _Run(model, asm, sound.factor)
+    sensitivities = {}
     for c in model.cases:
         if c.kind == "modes":
             with stage(f"modes case {c.name}: eigen solve"), _at_case(c), quiet(notes, f"case {c.name}"):
                 run.modes[c.name] = solve_modes_case(model, asm, c, factor=sound.spd, notes=notes)
+                sensitivities[c.name] = _sensitivity(model, c, run.modes[c.name])
     statics = [c for c in model.cases if c.kind == "static"]
     if statics or model.combinations:
         with quiet(notes, "static cases"):
@@ -188,4 +209,4 @@ def solve(model: Model, cases=None) -> Results:
     modal = [*run.modes.values(), *responses.values()]
     checks = evaluate(model, list(run.statics.values()), modal, mass, len(sound.rigid))
     return Results(model, {**run.statics, **run.modes, **responses}, sound, mass, checks, tuple(notes),
-                   asked, built_on)
+                   asked, built_on, {n: s for n, s in sensitivities.items() if s is not None})

@@ -70,6 +70,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
                   point_mass=pmass, materials=defs.materials, sections=defs.sections,
                   member_section=[m["section"][0] for m in mems],
                   member_material=[m["material"][0] for m in mems],
+                  groups=member_groups(defs),
                   cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes, **cols)
     notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
                                 ev.assume_sites.get(U.LENGTH)))
@@ -113,6 +114,13 @@ def _members(defs: Definitions, mems, node_names, nidx, coords, tol):
         if m["up"] is not None:
             up[k] = _up_vector(m["up"], axis / length, m)
     return conn, cols, up, releases, truss
+
+
+def member_groups(defs: Definitions) -> dict[str, tuple[str, ...]]:
+    """The deck's groups that hold members, name -> the member names in it (a group's nodes
+    left out)."""
+    out = {name: tuple(dict.fromkeys(m for m in names if m in defs.members)) for name, names in defs.groups.items()}
+    return {name: names for name, names in out.items() if names}
 
 
 def _restraints(defs: Definitions, nidx, notes) -> np.ndarray:

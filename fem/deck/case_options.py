@@ -49,7 +49,7 @@ class _Draft:
 
 class CaseOptions:
     """Mixed into the reader: building each case from its statement. Uses the reader's loc, value,
-    vector, name, targets, once, use_scope, read_table, token_file, stack, assumed, note, cases and references."""
+    vector, name, targets, once, use_scope, read_table, token_file, stack, assumed, note, cases, references, defs."""
 
     def build_case(self, c, nidx, midx):
         """The typed case (fem.cases) of a case statement; `self.references[name]` keeps the
@@ -486,7 +486,8 @@ class CaseOptions:
         return out
 
     def modes_options(self, case: _Draft, nidx) -> ModesCase:
-        """A modes case's option trees as values: count, fmax (Hz), reference (m), target, max."""
+        """A modes case's option trees as values: count, fmax (Hz), reference (m), target, max,
+        sensitivity, sensitivity_rows."""
         out = {}
         for key, (val, where) in case.options.items():
             what = f"case {case.name}: {key}"
@@ -498,10 +499,31 @@ class CaseOptions:
                 out[key] = self.vector(val, U.LENGTH, what)
             elif key == "target":
                 out[key] = self.vector(val, U.NONE, what)
+            elif key == "sensitivity":
+                out[key] = self.sensitivity_grouping(case.name, val, where)
+            elif key == "sensitivity_rows":
+                out[key] = self.value(val, U.NONE, what)
             else:
-                raise DeckError(f"case {case.name}: unknown option '{key}' for modes; "
-                                f"{suggest(key, ['count', 'fmax', 'reference', 'target', 'max'])}", where)
+                known = ['count', 'fmax', 'reference', 'target', 'max', 'sensitivity', 'sensitivity_rows']
+                raise DeckError(f"case {case.name}: unknown option '{key}' for modes; {suggest(key, known)}", where)
+        if "sensitivity_rows" in out and out.get("sensitivity") is None:
+            self.note(case.at["sensitivity_rows"], f"case {case.name}: sensitivity_rows does nothing without sensitivity")
         return self.typed(case, ModesCase, **out)
+
+    def sensitivity_grouping(self, name: str, val, where) -> str | None:
+        """`sensitivity = WORD` of a modes case: how members are grouped (None: off)."""
+        words = ("members", "sections", "materials", "groups", "off")
+        word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
+        if word is None:
+            raise DeckError(f"case {name}: sensitivity is one of the words {', '.join(words)}", where,
+                            "e.g. sensitivity = sections (one row per section for each mode)")
+        if word not in words:
+            raise DeckError(f"case {name}: sensitivity '{word}' is not a way to group members; "
+                            f"{suggest(word, words)}", where, "use one of " + ", ".join(words))
+        if word == "groups" and not any(m in self.defs.members for g in self.defs.groups.values() for m in g):
+            raise DeckError(f"case {name}: sensitivity = groups, but the deck defines no group that holds members",
+                            where, "define one, e.g. group COLUMNS = C*, or use sensitivity = sections")
+        return None if word == "off" else word
 
 
 def _g(v: float) -> str:

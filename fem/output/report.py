@@ -170,6 +170,10 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                              for j, (f, p) in enumerate(zip(c["frequency_Hz"], c["period_s"]))], left=0))
         parts += [_img(p, cap, "gallery" if "mode_" in p.name else "plot")
                   for p, cap in images.get(c["name"], [])]
+        if c.get("sensitivity"):
+            from .sensitivity_tables import sensitivity_section
+
+            parts.append(sensitivity_section(c))
     for c in doc["cases"]:
         if c["kind"] == "modes":
             continue

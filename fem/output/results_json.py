@@ -65,7 +65,17 @@ def _modes(results, r) -> dict:
             "effective_mass_kg": r.part.effective_mass.tolist(), "participating_total_kg": r.part.total.tolist(),
             "reference_point_m": np.asarray(r.reference).tolist(),
             "mode_character": mode_characters(results.model, r),
-            "checks": {**checks.cases[r.name], **checks.plausible[r.name]}}
+            "checks": {**checks.cases[r.name], **checks.plausible[r.name]},
+            **_sensitivity(results, r)}
+
+
+def _sensitivity(results, r) -> dict:
+    """A modes case's `sensitivity` block, when it asks for one (output/sensitivity_tables.py)."""
+    if r.name not in results.sensitivities:
+        return {}
+    from .sensitivity_tables import sensitivity_block
+
+    return {"sensitivity": sensitivity_block(results.sensitivities[r.name], results.definition(r.name))}
 
 
 def _response(results, r) -> dict:

@@ -141,3 +141,7 @@ def write_tables(results, out: Path) -> None:
     modes = results.of_kind("modes")
     if modes:
         _modes_tables(out, model, modes)
+    if results.sensitivities:
+        from .sensitivity_tables import write_sensitivity_tables
+
+        write_sensitivity_tables(out, results)
