@@ -270,3 +270,26 @@ def test_typed_case_rules_and_a_model_without_groups():
     m = replace(m, cases=[replace(m.cases[0], sensitivity="groups")])
     with pytest.raises(ModelError, match="no group of members"):
         fem.solve(m)
+
+
+@pytest.mark.parametrize("word, by", [("members", "member"), ("materials", "material"), ("off", None)])
+def test_each_grouping_word_is_the_librarys_grouping(word, by):
+    r = fem.solve(_stand(f"case MODES modes {{ count = 3, sensitivity = {word} }}\n"))
+    if by is None:
+        assert r.sensitivities == {} and r.model.cases[0].sensitivity is None
+        return
+    lib = frequency_sensitivity(r.model, r["MODES"], groups=by)
+    got = r.sensitivities["MODES"]
+    assert list(got.target) == list(lib.target)
+    np.testing.assert_array_equal(got.d_freq, lib.d_freq)
+
+
+def test_too_many_sensitivity_rows_are_refused(monkeypatch):
+    # the limit of a table's rows (fem.limits.ROWS_LIMIT, 5 million) lowered to below this
+    # stand's members x kinds x modes, so the refusal is reached on a small model
+    import fem.limits
+
+    monkeypatch.setattr(fem.limits, "ROWS_LIMIT", 100)
+    with pytest.raises(ModelError, match="rows of sensitivities, above the limit of 100; group the members") as err:
+        fem.solve(_stand("case MODES modes { count = 6, sensitivity = members }\n"))
+    assert str(err.value).startswith(f"stand.deck:{STAND.count(chr(10)) + 1}:1: case MODES")
