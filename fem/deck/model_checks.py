@@ -14,8 +14,8 @@ from ..errors import DeckError
 from ..model import DIRECTIONS
 from ..notes import Note
 
-__all__ = ["COINCIDENT", "close_pairs", "coincident_nodes", "huge_members", "idle_inertia", "idle_spring", "leaning_members",
-           "loads_on_supports", "massless_materials", "parallel_members", "repeated_support", "support_repeats"]
+__all__ = ["COINCIDENT", "close_pairs", "coincident_nodes", "huge_members", "idle_inertia", "idle_spring",
+           "leaning_members", "loads_on_supports", "massless_materials", "parallel_members", "repeated_support", "support_repeats"]
 
 # Nodes (and member ends) closer than this fraction of the model's size (bounding-box diagonal)
 # are one place: 0.03 mm on a 30 m mast, far below any dimension that can be built or typed on
