@@ -1,6 +1,8 @@
 """Command line: `quaver check DECK`, `quaver run DECK`. Heavy imports happen inside commands.
 
-`quaver run` is `run_deck`: read_deck -> solve -> write_results -> print_summary.
+`quaver run` is `run_deck`: read_deck -> solve -> write_results -> the summary; the summary's
+numbers (print_solved) are printed as soon as the tables are staged, before any picture is drawn,
+and its closing lines (print_written) once the results folder is in place.
 
 Exit statuses: 0 all self-checks pass; 1 results written, a self-check failed; 2 a mistake in
 the deck, the model or the results folder (one message, nothing written); 70 an internal error
@@ -117,9 +119,7 @@ def main(argv: list[str] | None = None) -> int:
     except BrokenPipeError:
         # the reader of our output went away (quaver check deck | head): the work is done and
         # the rest of the text has nowhere to go; silence the interpreter's final flush too
-        import os
-
-        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        _silence_stdout()
         return 0
     except KeyboardInterrupt:
         _say(f"interrupted: {folder.where()}")
@@ -137,7 +137,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     from pathlib import Path
 
     from .deck.reader import read_deck
-    from .output.summary import print_summary
+    from .output.summary import print_solved, print_written
     from .output.write import prepare_folder, write_results
     from .solver import solve
 
@@ -148,8 +148,28 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
         select_cases(model, cases)        # an unknown name is refused before the folder is looked at
     _, shown, notes = prepare_folder(out, Path(deck))   # before solving: an unusable --out fails at once
     results = solve(model, cases)
-    written = write_results(results, shown, render=render, jobs=jobs, draw_modes=draw_modes, fps=fps)
-    return print_summary(results, replace(written, notes=(*notes, *written.notes)), deck)
+
+    def first_answer(doc: dict) -> None:
+        # the numbers before the pictures; a reader that stopped reading (| head) must not cost
+        # the results folder: the rest of the text goes nowhere, the writing goes on
+        try:
+            print_solved(results, deck)
+            sys.stdout.flush()
+        except BrokenPipeError:
+            _silence_stdout()
+
+    written = write_results(results, shown, render=render, jobs=jobs, draw_modes=draw_modes, fps=fps,
+                            staged=first_answer)
+    status = print_written(results, replace(written, notes=(*notes, *written.notes)))
+    sys.stdout.flush()          # a reader gone by now is met here (status 0), not at the exit
+    return status
+
+
+def _silence_stdout() -> None:
+    """Send the rest of stdout, and the interpreter's final flush, to the null device."""
+    import os
+
+    os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
 
 
 def _say(text: str) -> None:

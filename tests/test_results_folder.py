@@ -94,8 +94,10 @@ def test_out_forms_that_are_refused(tmp_path, deck):
         ("plain.txt", work, "plain.txt (%s) exists and is not a folder" % plain),
         ("", work, "--out is empty"),
     ]
+    # the deck grammar's cache (the user's cache folder) is kept out of this home: it stands for a folder of files
+    env = {"HOME": str(home), "XDG_CACHE_HOME": str(tmp_path / "cache")}
     for out, cwd, why in cases:
-        err = _one_line_error(_quaver("run", deck, "--out", out, "--no-render", cwd=cwd, env={"HOME": str(home)}))
+        err = _one_line_error(_quaver("run", deck, "--out", out, "--no-render", cwd=cwd, env=env))
         assert err.startswith("error: " + why), (out, err)
     assert plain.read_text() == "not a folder" and (home / "letter.txt").read_text() == "mine"
     assert sorted(p.name for p in deck.parent.iterdir()) == ["tiny.deck"]

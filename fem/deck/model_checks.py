@@ -14,8 +14,8 @@ from ..errors import DeckError
 from ..model import DIRECTIONS
 from ..notes import Note
 
-__all__ = ["COINCIDENT", "coincident_nodes", "huge_members", "idle_inertia", "idle_spring", "leaning_members",
-           "loads_on_supports", "massless_materials", "parallel_members", "repeated_support", "support_repeats"]
+__all__ = ["COINCIDENT", "close_pairs", "coincident_nodes", "huge_members", "idle_inertia", "idle_spring",
+           "leaning_members", "loads_on_supports", "massless_materials", "parallel_members", "repeated_support", "support_repeats"]
 
 # Nodes (and member ends) closer than this fraction of the model's size (bounding-box diagonal)
 # are one place: 0.03 mm on a 30 m mast, far below any dimension that can be built or typed on
@@ -161,17 +161,39 @@ def loads_on_supports(cases, restraint, node_names) -> list[Note]:
     return out
 
 
+# Our choice: below this many nodes all pairwise distances (in blocks of about 1e6) cost a few
+# milliseconds, less than importing scipy.spatial (0.1-0.3 s of `quaver check`'s start-up)
+_ALL_PAIRS_NODES = 2000
+
+
+def close_pairs(coords, tol: float) -> np.ndarray:
+    """The pairs (i, j), i < j, of points `coords` (n, 3) at most `tol` apart, (k, 2) in no
+    particular order: every distance on small models, a k-d tree on large ones."""
+    coords = np.asarray(coords, dtype=float)
+    n = len(coords)
+    if n > _ALL_PAIRS_NODES:
+        from scipy.spatial import cKDTree
+
+        return cKDTree(coords).query_pairs(tol, output_type="ndarray").reshape(-1, 2)
+    found = []
+    step = max(1, 1_000_000 // max(n, 1))
+    for i0 in range(0, n, step):
+        block = coords[i0:i0 + step]
+        d = np.sqrt(((block[:, None, :] - coords[None, :, :]) ** 2).sum(axis=2))
+        i, j = np.nonzero(d <= tol)
+        keep = j > i + i0
+        found.append(np.column_stack([i[keep] + i0, j[keep]]))
+    return np.concatenate(found).astype(np.intp).reshape(-1, 2)
+
+
 def coincident_nodes(nodes: dict, names, coords, tol, used) -> list[Note]:
     """Distinct nodes at one place are not connected: an error when both carry something
     (members, supports, springs, masses, loads), a warning when one of them is bare.
     `nodes` maps a name to (coordinates, where)."""
-    from scipy.spatial import cKDTree
-
     if len(coords) < 2:
         return []
     out = []
-    pairs = cKDTree(coords).query_pairs(tol, output_type="ndarray")
-    for a, b in sorted(pairs.tolist(), key=lambda p: (max(p), min(p))):
+    for a, b in sorted(close_pairs(coords, tol).tolist(), key=lambda p: (max(p), min(p))):
         a, b = min(a, b), max(a, b)           # b is the one defined later
         first, where = nodes[names[a]][1], nodes[names[b]][1]
         text = (f"node {names[b]} is at the same place as node {names[a]} (at {first}), within {tol:.3g} m "

@@ -22,7 +22,7 @@ from .expressions import MAX_NESTING, too_deep
 from .syntax import keyword_callbacks
 from .syntax import parse as parse_deck_text
 
-__all__ = ["MAX_DECK_BYTES", "MAX_TABLE_BYTES", "Sources", "file_name", "read_utf8", "resolved"]
+__all__ = ["MAX_DECK_BYTES", "MAX_TABLE_BYTES", "Sources", "build_parser", "file_name", "read_utf8", "resolved"]
 
 # Our choice, from a measurement: a generated deck of node lines parsed at about 10-15 s and
 # 170 MB of memory per MB of deck (2-core machine shared with other jobs, load 4-9); `quaver
@@ -40,8 +40,38 @@ def _parser() -> Lark:
     here = Path(__file__).resolve().parents[2] / "grammar" / "deck.lark"
     text = here.read_text() if here.exists() else \
         resources.files("fem.grammar").joinpath("deck.lark").read_text()
-    return Lark(text, parser="lalr", lexer="contextual", propagate_positions=True,
-                lexer_callbacks=keyword_callbacks())
+    return build_parser(text, _grammar_cache())
+
+
+def build_parser(text: str, cache: Path | None) -> Lark:
+    """The deck parser of grammar `text`; its analysis (0.1-0.2 s, most of `quaver check`'s
+    own start-up) is read from `cache` when lark finds there one made from the same grammar,
+    options, lark and Python versions (it checks a hash), else made and saved there. A cache
+    that cannot be read or written is passed over: the parser is then made from the grammar."""
+    options = dict(parser="lalr", lexer="contextual", propagate_positions=True,
+                   lexer_callbacks=keyword_callbacks())
+    if cache is not None:
+        try:
+            return Lark(text, cache=str(cache), **options)
+        except Exception:   # noqa: BLE001 - a cache is only a shortcut; the grammar is the reference
+            pass
+    return Lark(text, **options)
+
+
+def _grammar_cache() -> Path | None:
+    """Where the parser's analysis is kept between runs: the user's cache folder (XDG), made
+    private to the user (the file is a pickle, read back only from there); None when there is
+    no such folder to be had."""
+    base = os.environ.get("XDG_CACHE_HOME", "").strip() or os.path.join(os.path.expanduser("~"), ".cache")
+    folder = Path(base) / "quaver"
+    try:
+        folder.mkdir(mode=0o700, parents=True, exist_ok=True)
+        st = folder.stat()
+        if st.st_uid != getattr(os, "getuid", lambda: st.st_uid)() or st.st_mode & 0o022:
+            return None                          # a folder others can write to: not trusted with a pickle
+    except (OSError, RuntimeError):
+        return None
+    return folder / "deck-grammar.lark-cache"
 
 
 class Sources:

@@ -1,8 +1,9 @@
 """The console summary of a run and its exit status.
 
 One line for the model, its notes and checks, then a line or a few per result (each kind has
-its own function), the pictures' notice, the verdict of the self-checks, where the results are,
-and the caution. The verdicts come from the solve's self-checks (`fem.checks`).
+its own function) and the verdict of the self-checks (`print_solved`, printed as soon as the
+cases are solved); then the pictures' notice, where the results are, and the caution
+(`print_written`, once the folder is written). The verdicts come from the solve's self-checks (`fem.checks`).
 """
 
 from __future__ import annotations
@@ -15,7 +16,7 @@ from ..analysis.static import precision_lines
 from .fmt import percent
 from .results_json import CAUTION
 
-__all__ = ["print_summary"]
+__all__ = ["print_solved", "print_summary", "print_written"]
 
 _CONTINUED = " " * 15      # indent of a result's further lines
 
@@ -100,6 +101,13 @@ def print_summary(results, written, name: str = "") -> int:
     """Print the summary of `results` written as `written` (a `fem.output.write.Written`);
     `name` stands for the model when it has no title (the deck as given). Returns the exit
     status: 0 when every self-check passes and every target is met, else 1."""
+    print_solved(results, name)
+    return print_written(results, written)
+
+
+def print_solved(results, name: str = "") -> None:
+    """The summary's lines that need only the solve: the model, each case, the self-checks'
+    verdict. `quaver run` prints them before the pictures are drawn."""
     model = results.model
     print(f"{model.title or name or model.source}: {model.n_nodes} nodes, {model.n_members} members, "
           f"total mass {model.total_mass():.6g} kg")
@@ -121,12 +129,17 @@ def print_summary(results, written, name: str = "") -> int:
             print(line)
         for w in r.warnings if r.kind in _OWN_WARNINGS else ():
             print(f"{_CONTINUED}{w}")
-    print(f"  {written.notice}")
     checks = results.checks
     print("  self-checks: all pass" if checks.all_pass else
           "  self-checks: some FAIL (marked above); check before using the results")
     if checks.short:
         print(f"  effective-mass target not met in {', '.join(checks.short)}")
+
+
+def print_written(results, written) -> int:
+    """The summary's closing lines, once the folder is written: the pictures' notice, the
+    folder's notes, where the results are, the caution. Returns the exit status."""
+    print(f"  {written.notice}")
     for n in written.notes:
         print(f"  {n}")
     print(f"results in {written.folder}/")

@@ -2,16 +2,19 @@
 
 The tables, VTU files, results.json, pictures and report go to a folder staged beside the
 target and are swapped into place only when everything succeeded (`fem.output.folder`), so a
-failed or interrupted run leaves the previous results as they were.
+failed or interrupted run leaves the previous results as they were. The numbers come first:
+the tables and results.json are staged (and `staged` is told) before any picture is drawn.
 """
 
 from __future__ import annotations
 
 import shutil
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
 
 from ..errors import ResultsError
+from ..progress import stage
 from . import folder as _folder
 from . import pictures, report
 from .results_json import write_results_json
@@ -63,7 +66,7 @@ def prepare_folder(folder, deck: Path | None) -> tuple[Path, str, list[str]]:
 
 
 def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_modes: int = 6,
-                  fps: float = 12.0) -> Written:
+                  fps: float = 12.0, staged: Callable[[dict], None] | None = None) -> Written:
     """Write the results folder of `results` (a `fem.results.Results`): CSV tables, VTU files
     of mode shapes and responses, results.json, pictures (unless `render` is False) and the
     report, staged and swapped in only when all succeeded.
@@ -83,6 +86,11 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         Draw the first `draw_modes` modes of each modes case.
     fps : float
         Frames a second of the animations.
+    staged : callable, optional
+        Called with the results document once the tables, VTU files and results.json are
+        written (staged, not yet in place), before the pictures and the report: `quaver run`
+        prints the summary there, so the first numbers do not wait for the drawing. What it
+        raises fails the write as any other error does (nothing is moved into place).
 
     Returns
     -------
@@ -111,9 +119,12 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         for r in results.of_kind("free", "history"):
             write_response_files(tmp / "response", model, r.name, r.frame_t, r.frames)
         doc = write_results_json(results, tmp)
+        if staged is not None:
+            staged(doc)
         notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps) if render
                   else "pictures skipped (--no-render)")
-        report.report(results, doc, tmp, notice)
+        with stage("writing the report"):
+            report.report(results, doc, tmp, notice)
         _folder.write_manifest(tmp, target.name)
         notes += _folder.swap(tmp, target, shown)
     except ResultsError:
