@@ -282,3 +282,41 @@ def test_make_section_catalogue_nu_matches_deck():
     assert (m.A[0], m.Avy[0], m.Avz[0]) == (p.A, p.Avy, p.Avz)
     assert math.isclose(p.Avy / p.A, _cowper_hollow_circle(0.25, 1 - 2 * catalogue_entry("Pipe6SCH40").dims["wall"]
                                                            / catalogue_entry("Pipe6SCH40").dims["od"]), rel_tol=1e-12)
+
+
+# ---------- 5. results.json lists the sections
+
+def test_results_json_lists_sections(tmp_path: Path):
+    """results.json `sections`: each section's properties as the library computes them, its
+    designation and standard when taken from the catalogue, and the shear areas its members use
+    per material (the aluminium mast's at nu = 0.33)."""
+    assert main(["run", str(SKID), "--out", str(tmp_path / "out"), "--no-render"]) == 0
+    doc = json.loads((tmp_path / "out" / "results.json").read_text())
+    secs = doc["sections"]
+    assert list(secs) == ["POST", "RAIL", "TIE", "BRACE", "MAST"]
+    post, p = secs["POST"], catalogue_section("HEB 200")
+    assert (post["designation"], post["standard"], post["shape"], post["members"]) == ("HEB 200", "EN 10365", "ishape", 4)
+    assert [post[k] for k in ("A_m2", "Iy_m4", "Iz_m4", "J_m4", "Wy_m3", "Wz_m3")] == [p.A, p.Iy, p.Iz, p.J, p.Wy, p.Wz]
+    assert post["shear_areas_m2"] == {"STEEL": {"nu": 0.3, "Avy_m2": p.Avy, "Avz_m2": p.Avz}}
+    mast = secs["MAST"]["shear_areas_m2"]["ALU"]
+    q = catalogue_section("Pipe4SCH40", nu=0.33)
+    assert mast == {"nu": 0.33, "Avy_m2": q.Avy, "Avz_m2": q.Avz}
+    assert secs["MAST"]["A_m2"] == q.A
+
+
+def test_results_json_sections_written_by_dimensions():
+    """A section typed by its dimensions has no designation; a generic section's W is not known
+    (null); an unused section is listed with no members."""
+    from fem.output.results_json import results_doc
+
+    text = (STEEL + "section P = pipe(od = 60.3 mm, wall = 3.91 mm)\n"
+            "section G = generic(A = 0.01 m^2, Iy = 1e-5 m^4, Iz = 1e-5 m^4, J = 2e-5 m^4)\n"
+            "section U = rect(b = 0.1 m, h = 0.2 m)\n"
+            "node A = (0, 0, 0)\nnode B = (2 m, 0, 0)\nnode C = (0, 2 m, 0)\n"
+            "member M1 : A -> B beam P S\nmember M2 : A -> C beam G S\nsupport A fixed\n"
+            "case D static { force B = (0, 0, -1 kN), force C = (0, 0, -1 kN) }\n")
+    doc = results_doc(fem.solve(read_text(text)))
+    secs = doc["sections"]
+    assert secs["P"]["designation"] is None and secs["P"]["standard"] is None and secs["P"]["members"] == 1
+    assert secs["G"]["Wy_m3"] is None and secs["G"]["shear_areas_m2"] == {"S": {"nu": 0.3, "Avy_m2": 0.0, "Avz_m2": 0.0}}
+    assert secs["U"]["members"] == 0 and secs["U"]["shear_areas_m2"] == {}
