@@ -320,3 +320,13 @@ def test_results_json_sections_written_by_dimensions():
     assert secs["P"]["designation"] is None and secs["P"]["standard"] is None and secs["P"]["members"] == 1
     assert secs["G"]["Wy_m3"] is None and secs["G"]["shear_areas_m2"] == {"S": {"nu": 0.3, "Avy_m2": 0.0, "Avz_m2": 0.0}}
     assert secs["U"]["members"] == 0 and secs["U"]["shear_areas_m2"] == {}
+
+
+def test_docs_deck_catalogue_example_reads():
+    """The catalogue lines of docs/deck.md, Sections, read as written."""
+    doc = (Path(__file__).parents[1] / "docs" / "deck.md").read_text()
+    block = re.search(r"## Sections\n.*?```\n(.*?)```", doc, re.S)
+    assert block, "docs/deck.md lost its catalogue example"
+    m = read_text(STEEL + block.group(1))
+    assert {n: s.designation for n, s in m.sections.items()} == {
+        "COL": "HEB 300", "BEAM": "W14X90", "TIE": "HSS4X4X1/4", "LEG": "Pipe6SCH40"}
