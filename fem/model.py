@@ -28,11 +28,18 @@ class Material:
     G: float        # Pa
     density: float  # kg/m^3
 
+    @property
+    def nu(self) -> float:
+        """Poisson's ratio E/(2G) - 1, to 12 decimals: a G written as E/(2(1 + nu)) comes back with
+        a round-off of about 1e-16, and nu = 0.3 must read back as exactly 0.3."""
+        return round(self.E / (2.0 * self.G) - 1.0, 12)
+
 
 @dataclass(frozen=True)
 class Section:
     name: str
     props: SectionProps
+    designation: str = ""       # a catalogue section's designation as its table prints it
 
 
 @dataclass

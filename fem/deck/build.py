@@ -10,6 +10,7 @@ from lark import Tree
 from ..errors import DeckError, suggest
 from ..model import DIRECTIONS, Combination, Model
 from ..notes import Note
+from ..sections import make_section, shear_follows_nu
 from . import model_checks
 from . import units as U
 from .definitions import Definitions
@@ -32,7 +33,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
     mems = list(defs.members.values())
     lo, hi = (coords.min(axis=0), coords.max(axis=0)) if len(coords) else (np.zeros(3), np.zeros(3))
     tol = COINCIDENT * float(np.linalg.norm(hi - lo))
-    conn, cols, up, releases, truss = _members(defs, mems, node_names, nidx, coords, tol)
+    conn, cols, up, releases, truss = _members(defs, mems, node_names, nidx, coords, tol, notes)
     axis = coords[conn[:, 1]] - coords[conn[:, 0]]
     model_checks.huge_members(mems, cols, axis)
     notes.extend(model_checks.parallel_members(mems, conn))
@@ -77,7 +78,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
     return model
 
 
-def _members(defs: Definitions, mems, node_names, nidx, coords, tol):
+def _members(defs: Definitions, mems, node_names, nidx, coords, tol, notes):
     """(conn (e, 2), property columns (e,) each, up (e, 3) NaN where not given, releases (e, 12),
     truss (e,)), each member's nodes, section and material looked up where it names them."""
     e = len(mems)
@@ -87,6 +88,7 @@ def _members(defs: Definitions, mems, node_names, nidx, coords, tol):
     releases = np.zeros((e, 12), bool)
     truss = np.zeros(e, bool)
     loc = defs.loc
+    paired = {}                                   # (section, material) -> section properties
     for k, m in enumerate(mems):
         for end, col in (("i", 0), ("j", 1)):
             nm, tok = m[end]
@@ -99,7 +101,8 @@ def _members(defs: Definitions, mems, node_names, nidx, coords, tol):
         mname, tok = m["material"]
         if mname not in defs.materials:
             raise DeckError(f"member {m['name']} uses material '{mname}', which is not defined; {suggest(mname, defs.materials)}", loc(tok))
-        sp, mat = defs.sections[sname].props, defs.materials[mname]
+        mat = defs.materials[mname]
+        sp = _paired(defs, sname, mat, paired, notes)
         for key, val in (("E", mat.E), ("G", mat.G), ("rho", mat.density), ("A", sp.A), ("Iy", sp.Iy),
                          ("Iz", sp.Iz), ("J", sp.J), ("Avy", sp.Avy), ("Avz", sp.Avz),
                          ("roll", m["roll"]), ("carried_mass", m["carried_mass"])):
@@ -121,6 +124,27 @@ def member_groups(defs: Definitions) -> dict[str, tuple[str, ...]]:
     left out)."""
     out = {name: tuple(dict.fromkeys(m for m in names if m in defs.members)) for name, names in defs.groups.items()}
     return {name: names for name, names in out.items() if names}
+
+
+def _paired(defs: Definitions, sname: str, mat, paired: dict, notes: list):
+    """The properties of section `sname` in material `mat`: the shapes whose shear coefficient
+    follows Poisson's ratio (pipe, round, rect, catalogue tubes) take nu = E/(2G) - 1 of the
+    material; a nu outside the isotropic range (-1, 0.5), as of a timber with its own G, keeps
+    the 0.3 of the section as written, with a note when shear deformation is on."""
+    key = (sname, mat.name)
+    if key not in paired:
+        props = defs.sections[sname].props
+        shape, params = defs.section_params[sname]
+        if shear_follows_nu(shape, params):
+            if -1.0 < mat.nu < 0.5:
+                props = make_section(shape, params, nu=mat.nu)
+            elif defs.settings.get("shear", (None,))[0] == "on":
+                notes.append(Note(defs.defined[("material", mat.name)][1],
+                                  f"material {mat.name}: E/(2G) - 1 = {mat.nu:.3g} is not the Poisson's ratio of an "
+                                  f"isotropic material (between -1 and 0.5), so the shear areas of section {sname} "
+                                  "keep Cowper's coefficients at nu = 0.3"))
+        paired[key] = props
+    return paired[key]
 
 
 def _restraints(defs: Definitions, nidx, notes) -> np.ndarray:

@@ -59,6 +59,7 @@ import numpy as np
 
 from ..model import Model
 from ..notes import Note
+from ..sections import CATALOGUE, catalogue_entry
 
 __all__ = ["DENSITY_RANGE", "EG_RANGE", "E_RANGE", "LENGTH_OUTLIER", "SECTION_OF_MODEL", "SLENDER", "model_warnings",
            "section_extent"]
@@ -79,7 +80,12 @@ _OUTER = {"pipe": ("od",), "round": ("d",), "rhs": ("b", "h"), "rect": ("b", "h"
 
 def section_extent(shape: str, params: dict, props) -> tuple[float, str]:
     """Largest outer dimension of a section, m, and how it was found ('d', 'od', ... or a
-    lower bound from the properties for a generic section)."""
+    lower bound from the properties for a generic section); a catalogue section by its table's
+    dimensions ('HEB 300 d')."""
+    if shape == CATALOGUE:
+        entry = catalogue_entry(params["designation"])
+        size, how = section_extent(entry.shape, entry.dims, props)
+        return size, f"{entry.designation} {how.split()[-1]}"
     keys = _OUTER.get(shape)
     if keys:
         k = max(keys, key=lambda key: params[key])

@@ -14,7 +14,7 @@ from lark import Token, Tree
 from ..errors import DeckError, Location, suggest
 from ..model import DIRECTIONS, Material, Section
 from ..notes import Note
-from ..sections import SHAPES, make_section
+from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entry, make_section
 from . import units as U
 from .definitions import Definitions
 from .expressions import WILD, Evaluator
@@ -174,9 +174,33 @@ class Statements:
         self.defs.sections[name] = Section(name, props)
         self.defs.section_params[name] = (shape, params)
 
+    def st_section_listed(self, s):
+        """section NAME = catalogue "HEB 300": a standard section by its designation."""
+        name = self.ev.name(s.children[0])
+        self.defs.define("section", "section", name, self.loc(s))
+        word, text = s.children[1], s.children[2]
+        if str(word) != CATALOGUE:
+            raise DeckError(f"section {name}: a quoted designation follows the word '{CATALOGUE}', not '{word}'",
+                            self.loc(word), f"write section {name} = {CATALOGUE} {text}")
+        try:
+            entry = catalogue_entry(str(text)[1:-1])
+        except ValueError as exc:
+            hint = "designations ignore case and spaces; docs/sections.md lists the catalogue"
+            if "; families:" in str(exc):
+                hint = ("the catalogue holds " + _family_ranges()
+                        + "; a section it lacks is built from its dimensions, e.g. ishape(d, bf, tf, tw, r)")
+            raise DeckError(f"section {name}: {exc}", self.loc(text), hint) from None
+        params = {"designation": entry.designation}
+        self.defs.sections[name] = Section(name, make_section(CATALOGUE, params), entry.designation)
+        self.defs.section_params[name] = (CATALOGUE, params)
+
     def section_names(self, name: str, shape_tok, kws) -> None:
         """Refuse an unknown shape or parameter name at its token, with the names that fit."""
         shape = str(shape_tok)
+        if shape == CATALOGUE:
+            raise DeckError(f"section {name}: a {CATALOGUE} section is named by its designation in double quotes, "
+                            "not by parameters in brackets", self.loc(shape_tok),
+                            f'write section {name} = {CATALOGUE} "HEB 300"')
         if shape not in SHAPES:
             near = suggest(shape, SHAPES)
             near = "; " + near if near.startswith("did you mean") else ""
@@ -401,6 +425,12 @@ def _released_motion(released: np.ndarray) -> str | None:
     words = ["slide along its axis", "move along its local y", "move along its local z",
              "twist about its axis", "turn about its local y", "turn about its local z"]
     return words[int(np.argmax(np.abs(v)))]
+
+
+def _family_ranges() -> str:
+    """The catalogue's families with their first and last rows: 'IPE: IPE 80 to IPE 600; ...'."""
+    families = dict.fromkeys(catalogue_entry(d).family for d in catalogue_designations())
+    return "; ".join(f"{f}: {catalogue_designations(f)[0]} to {catalogue_designations(f)[-1]}" for f in families)
 
 
 # words a user may write for a shape's parameters -> the names the shapes use

@@ -252,6 +252,16 @@ def syntax_error(exc: UnexpectedInput, text: str, path: Path) -> DeckError:
         return DeckError("a let parameter holds one value, not a vector", here,
                          "give each component its own let (let vz = 1) and write the vector where it is used: "
                          "up = (0, 0, vz)")
+    # a catalogue section's designation without its quotes, or a designation without the word
+    line_start = text.rfind("\n", 0, pos) + 1
+    if re.match(r"[ \t]*section\b", text[line_start:pos]):
+        rest = text[pos:text.find("\n", pos) if "\n" in text[pos:] else len(text)].split("#")[0].strip()
+        if accepts >= {"LPAR", "STRING"} and tok.type != "STRING" and re.search(r"\bcatalogue\s*$", text[:pos]):
+            return DeckError(f"unexpected {_found(tok)}: a section's designation is written in double quotes",
+                             here, f'write "{rest}"')
+        if tok.type == "STRING" and accepts == {"NAME"}:
+            return DeckError(f"unexpected {_found(tok)}: a designation follows the word 'catalogue'", here,
+                             f"write catalogue {rest}")
     # a statement keyword misspelled at the start of a statement
     stmts = {s for s in STATEMENTS if s.upper() in accepts}
     if tok.type == "NAME" and stmts:

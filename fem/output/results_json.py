@@ -110,6 +110,28 @@ def _spectrum(results, r) -> dict:
             "checks": results.checks.cases[r.name]}
 
 
+def _sections(model) -> dict:
+    """Each section as written (name -> properties, SI), with the shear areas its members use in
+    each material (they follow the material's Poisson's ratio for round and rectangular shapes)."""
+    from ..sections import catalogue_entry
+
+    out = {}
+    for name, sec in model.sections.items():
+        p = sec.props
+        known = p.shape != "generic"            # a generic section has no outline: W not known
+        used = {}
+        for k, (s, mat) in enumerate(zip(model.member_section, model.member_material)):
+            if s == name and mat not in used:
+                used[mat] = {"nu": model.materials[mat].nu, "Avy_m2": float(model.Avy[k]),
+                             "Avz_m2": float(model.Avz[k])}
+        out[name] = {"shape": p.shape, "designation": sec.designation or None,
+                     "standard": catalogue_entry(sec.designation).standard if sec.designation else None,
+                     "A_m2": p.A, "Iy_m4": p.Iy, "Iz_m4": p.Iz, "J_m4": p.J,
+                     "Wy_m3": p.Wy if known else None, "Wz_m3": p.Wz if known else None,
+                     "members": model.member_section.count(name), "shear_areas_m2": used}
+    return out
+
+
 # each kind's entry, and the order of the kinds in the document's list of cases
 _ENTRY = {"static": _static, "modes": _modes, "free": _response, "history": _response,
           "harmonic": _harmonic, "spectrum": _spectrum}
@@ -135,6 +157,7 @@ def results_doc(results) -> dict:
                   "overrides": dict(model.overrides),
                   "cases_asked": None if results.cases_asked is None else dict(results.cases_asked)},
         "cases": [_ENTRY[r.kind](results, r) for kinds in _ORDER for r in results.of_kind(*kinds)],
+        "sections": _sections(model),
     }
 
 

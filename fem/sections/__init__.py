@@ -20,6 +20,7 @@ from .shapes import (
     rect,
     rhs,
     round_bar,
+    shear_follows_nu,
 )
 
 __all__ = [
@@ -44,4 +45,5 @@ __all__ = [
     "rect",
     "rhs",
     "round_bar",
+    "shear_follows_nu",
 ]

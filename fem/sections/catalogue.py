@@ -160,6 +160,11 @@ def _index() -> dict[str, CatalogueEntry]:
     return index
 
 
+def _series(key: str) -> str:
+    """The letters a matching key starts with: 'HEB300' -> 'HEB', 'HSS4X4X1/4' -> 'HSS'."""
+    return re.match(r"[A-Z]*", key).group(0)
+
+
 def catalogue_designations(family: str | None = None) -> list[str]:
     """Designations in the catalogue, as printed, in table order (one family or all)."""
     return [e.designation for e in _index().values() if family is None or e.family == family]
@@ -182,7 +187,9 @@ def catalogue_entry(designation: str) -> CatalogueEntry:
     printed = {k: e.designation for k, e in index.items()}
     m = re.fullmatch(r"([A-Z]+)(\d+)", key)
     same = [k for k in index if m and re.fullmatch(m.group(1) + r"\d+", k)]
-    if same:    # "IPE 290": the sizes of that series nearest in number
+    if _series(key) not in {_series(k) for k in index}:    # "HEA 300", "UPN 200": a family we lack
+        near = "families: " + ", ".join(f.name for f in _FAMILIES)
+    elif same:    # "IPE 290": the sizes of that series nearest in number
         same.sort(key=lambda k: abs(int(k[len(m.group(1)):]) - int(m.group(2))))
         near = "did you mean " + " or ".join(f"'{printed[k]}'" for k in same[:3]) + "?"
     else:

@@ -56,6 +56,7 @@ __all__ = [
     "rect",
     "rhs",
     "round_bar",
+    "shear_follows_nu",
 ]
 
 def pipe(od: float, wall: float, *, nu: float = _NU) -> SectionProps:
@@ -396,6 +397,16 @@ _TAKES_NU = frozenset({"pipe", "round", "rect"})
 
 # make_section's name for a section taken from the catalogue by its designation
 CATALOGUE = "catalogue"
+
+
+def shear_follows_nu(shape: str, params: dict) -> bool:
+    """Whether the shear areas of a section (shape and parameters as for :func:`make_section`)
+    follow Poisson's ratio: Cowper's coefficients of pipe, round, rect and catalogue tubes."""
+    if shape == CATALOGUE:
+        from .catalogue import catalogue_entry
+
+        shape = catalogue_entry(params["designation"]).shape
+    return shape in _TAKES_NU
 
 
 def make_section(shape: str, params: dict, *, nu: float | None = None) -> SectionProps:
