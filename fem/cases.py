@@ -266,7 +266,9 @@ class ModesCase(_Case):
     """The lowest modes: `count` of them, those up to `fmax` Hz (both: the fewer), or as many as
     reach the cumulative effective-mass fractions `target` (X, Y, Z) in every direction, at most
     `max_count`. None of count, fmax, target: MODES_COUNT modes. `reference` (3,) m is the point
-    rotational participation is taken about. Deck options: count, fmax, target, max, reference."""
+    rotational participation is taken about. `resonance`: names of the model's excitations its
+    resonance check takes (None: every one; () none). Deck options: count, fmax, target, max,
+    reference, resonance."""
 
     kind: ClassVar[str] = "modes"
     count: int | None = None
@@ -274,6 +276,7 @@ class ModesCase(_Case):
     target: np.ndarray | None = None
     max_count: int = MODES_MAX
     reference: np.ndarray = (0.0, 0.0, 0.0)
+    resonance: tuple[str, ...] | None = None
 
     @property
     def n_modes(self) -> int | None:
@@ -286,6 +289,8 @@ class ModesCase(_Case):
     def _check(self) -> None:
         name = self.name
         object.__setattr__(self, "reference", _vector(self.reference))
+        if self.resonance is not None:
+            object.__setattr__(self, "resonance", tuple(str(n) for n in self.resonance))
         if self.count is not None:
             object.__setattr__(self, "count", _whole(self.count, 1, np.inf,
                                                      f"case {name}: count must be a whole number of at least 1",

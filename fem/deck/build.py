@@ -13,6 +13,7 @@ from ..notes import Note
 from . import model_checks
 from . import units as U
 from .definitions import Definitions
+from .excitations import model_excitations
 from .expressions import Evaluator
 from .model_checks import COINCIDENT
 from .plausible import model_warnings
@@ -70,7 +71,8 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
                   point_mass=pmass, materials=defs.materials, sections=defs.sections,
                   member_section=[m["section"][0] for m in mems],
                   member_material=[m["material"][0] for m in mems],
-                  cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes, **cols)
+                  cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes,
+                  excitations=model_excitations(defs, nidx), **cols)
     notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
                                 ev.assume_sites.get(U.LENGTH)))
     return model

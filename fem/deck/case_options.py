@@ -29,6 +29,7 @@ from ..cases import (
 from ..errors import DeckError, Location, suggest
 from ..limits import ROWS_LIMIT
 from . import units as U
+from .excitations import resonance_names
 
 __all__ = ["CaseOptions"]
 
@@ -498,9 +499,11 @@ class CaseOptions:
                 out[key] = self.vector(val, U.LENGTH, what)
             elif key == "target":
                 out[key] = self.vector(val, U.NONE, what)
+            elif key == "resonance":
+                out[key] = resonance_names(val, where, case.name, [e.name for e, *_ in self.defs.excitations], self.loc)
             else:
                 raise DeckError(f"case {case.name}: unknown option '{key}' for modes; "
-                                f"{suggest(key, ['count', 'fmax', 'reference', 'target', 'max'])}", where)
+                                f"{suggest(key, ['count', 'fmax', 'reference', 'target', 'max', 'resonance'])}", where)
         return self.typed(case, ModesCase, **out)
 
 
