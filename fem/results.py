@@ -49,6 +49,9 @@ class Results:
         because they need them; None when every case was solved.
     built_on : dict of str to str
         The modes case each response case was built on, by response case name.
+    resonance : dict of str to ResonanceCheck
+        The resonance check of each modes case that checks excitations
+        (`fem.analysis.resonance`), by modes case name; empty when the model declares none.
 
     Examples
     --------
@@ -66,6 +69,7 @@ class Results:
     notes: tuple[Note, ...] = ()
     cases_asked: dict | None = None
     built_on: dict = field(default_factory=dict)
+    resonance: dict = field(default_factory=dict)
 
     def __repr__(self) -> str:
         cases = ", ".join(f"{n} ({r.kind})" for n, r in self.cases.items())
@@ -116,5 +120,6 @@ class Results:
 
     @property
     def ok(self) -> bool:
-        """Every self-check passes and every effective-mass target is met (exit status 0)."""
+        """Every self-check passes, every effective-mass target is met and every resonance
+        check passes (exit status 0)."""
         return self.checks.ok

@@ -141,3 +141,6 @@ def write_tables(results, out: Path) -> None:
     modes = results.of_kind("modes")
     if modes:
         _modes_tables(out, model, modes)
+    from .resonance_out import write_resonance_tables
+
+    write_resonance_tables(results, out)
