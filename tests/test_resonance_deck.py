@@ -195,3 +195,24 @@ def test_a_machine_without_at_before_its_node_is_a_syntax_error():
     with pytest.raises(DeckError, match=r"pipe.deck:7:11: .*(expected|unexpected)") as err:
         read_text(PIPE + "machine P N20 { speed = 380 rpm }\n", "pipe.deck")
     assert "Traceback" not in str(err.value)
+
+
+def test_fanframe_demo_shows_its_deliberate_failure(tmp_path, capsys):
+    # decks/fanframe.deck says it is meant to fail the resonance check: its modes must reach above
+    # the top of the bands' margins (blade pass 6 x 990 rpm = 99 Hz, + 20 % = 118.8 Hz), so the
+    # check is complete, and the fan's 1x range (10-16.5 Hz) must hold a mode that moves the fan.
+    from pathlib import Path
+
+    deck = Path(__file__).resolve().parent.parent / "decks" / "fanframe.deck"
+    assert "SHOW A FAILURE" in deck.read_text()
+    out = tmp_path / "fan"
+    assert main(["run", str(deck), "--out", str(out), "--no-render"]) == 1
+    printed = capsys.readouterr().out
+    assert "self-checks: all pass" in printed and "resonance check: FAIL in MODES" in printed
+    check = json.loads((out / "results.json").read_text())["cases"][1]["resonance"]
+    assert check["complete"] and check["modes_needed_to_Hz"] == pytest.approx(6 * 990 / 60 * 1.2)
+    fan_1x = [r for r in check["rows"] if r["source"] == "FAN" and r["order"] == "1x" and r["verdict"] == "FAIL"
+              and r["margin_percent"] == 0]
+    assert fan_1x and max(r["node_share_percent"] for r in fan_1x) == pytest.approx(100.0)
+    assert {p.name for p in (out / "plots").glob("*resonance*")} == {"MODES_resonance_FAN.png",
+                                                                      "MODES_resonance_MOTOR.png"}
