@@ -216,3 +216,12 @@ def test_fanframe_demo_shows_its_deliberate_failure(tmp_path, capsys):
     assert fan_1x and max(r["node_share_percent"] for r in fan_1x) == pytest.approx(100.0)
     assert {p.name for p in (out / "plots").glob("*resonance*")} == {"MODES_resonance_FAN.png",
                                                                       "MODES_resonance_MOTOR.png"}
+    # the lines docs/resonance.md shows from this run are the ones printed
+    import re
+
+    page = (Path(__file__).resolve().parents[1] / "docs" / "resonance.md").read_text()
+    shown = re.search(r"```text\n(.*?)```", page, re.S).group(1).splitlines()
+    lines = printed.splitlines()
+    for want in shown:
+        if want.strip() != "...":
+            assert want in lines, want
