@@ -216,6 +216,10 @@ def test_fanframe_demo_shows_its_deliberate_failure(tmp_path, capsys):
     assert fan_1x and max(r["node_share_percent"] for r in fan_1x) == pytest.approx(100.0)
     assert {p.name for p in (out / "plots").glob("*resonance*")} == {"MODES_resonance_FAN.png",
                                                                       "MODES_resonance_MOTOR.png"}
+    # the report's failing rows carry each mode's motion in the words of results.json's mode_character
+    doc = json.loads((out / "results.json").read_text())
+    label = doc["cases"][1]["mode_character"][fan_1x[0]["mode"] - 1]["label"]
+    assert label in (out / "report.html").read_text()
     # the lines docs/resonance.md shows from this run are the ones printed
     import re
 

@@ -110,7 +110,9 @@ def report_section(c: dict, table) -> list[str]:
         return []
     labels = [m.get("label", "") for m in c.get("mode_character") or []]
     fails = [r for r in check["rows"] if r["verdict"] == "FAIL"]
-    fails.sort(key=lambda r: (abs(r["margin_percent"]) - r["required_percent"], r["mode"]))
+    # as ResonanceCheck.ranked_failures: closest first, then the mode moving the source's node most
+    fails.sort(key=lambda r: (abs(r["margin_percent"]) - r["required_percent"], -(r["node_share_percent"] or 0.0),
+                              r["mode"]))
     verdict = ('<span class="pass">pass</span>' if check["ok"] else '<span class="fail">FAIL</span>')
     parts = [f"<h3 id='resonance-{html.escape(c['name'])}'>Resonance check: {verdict}</h3>",
              f"<p>{len(fails)} of {len(check['rows'])} mode-band pairs inside the required margin; every pair is "
