@@ -35,17 +35,22 @@ True
 >>> replace(sweep, fmin=40.0)
 Traceback (most recent call last):
 ...
-fem.cases.RuleError: case SWEEP: 'to' must be above 'from'
+fem.rules.RuleError: case SWEEP: 'to' must be above 'from'
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, fields, is_dataclass
+from dataclasses import dataclass, field
 from typing import ClassVar, Union
 
 import numpy as np
 
+from .damping import Damping, modal_ratios, rayleigh_coefficients, rayleigh_ratios  # noqa: F401 (re-exported)
 from .errors import Location, suggest
+from .rules import RuleError  # noqa: F401 (re-exported)
+from .rules import g as _g
+from .rules import same_fields as _same
+from .rules import vector as _vector
 from .spectrum import Spectrum
 from .timefn import TimeFunction
 
@@ -59,33 +64,6 @@ SPECTRUM_DAMPING = 0.05    # a spectrum case's damping ratio when none is given 
 MAX_STEPS = 1e6            # time steps of a free or history case
 
 
-class RuleError(ValueError):
-    """A case or damping rule broken. `options` are the deck options the rule concerns (the reader
-    locates the message at the first of them the deck writes, else at the case); `hint` says
-    how to mend it."""
-
-    def __init__(self, message: str, *options: str, hint: str = ""):
-        super().__init__(message)
-        self.message = message
-        self.options = options
-        self.hint = hint
-
-
-def _same(a, b) -> bool:
-    """Equality field by field, arrays by value, fields marked compare=False left out."""
-    if isinstance(a, np.ndarray) or isinstance(b, np.ndarray):
-        return (isinstance(a, np.ndarray) and isinstance(b, np.ndarray) and a.shape == b.shape
-                and bool(np.array_equal(a, b)))
-    if is_dataclass(a) and not isinstance(a, type):
-        return type(a) is type(b) and all(_same(getattr(a, f.name), getattr(b, f.name))
-                                          for f in fields(a) if f.compare)
-    if isinstance(a, (tuple, list)):
-        return type(a) is type(b) and len(a) == len(b) and all(map(_same, a, b))
-    if isinstance(a, dict):
-        return isinstance(b, dict) and a.keys() == b.keys() and all(_same(a[k], b[k]) for k in a)
-    return a == b
-
-
 @dataclass(eq=False)
 class LoadItem:
     kind: str                 # "force", "moment", "line"; a free case's "displacement", "velocity"
@@ -95,107 +73,6 @@ class LoadItem:
     axes: str = "global"      # "global", or "local": member x, y, z (line loads only)
     time: str | None = None   # history cases: the name of the case's time function it follows
                               # (None: the case's time = ...)
-
-    __eq__ = _same        # arrays by value; fields marked compare=False (locations) left out
-    __hash__ = None
-
-
-def _g(v: float) -> str:
-    return f"{v:g}"
-
-
-def _vector(v, n: int = 3) -> np.ndarray:
-    """A copy of v as a float array of n finite values (a case keeps its own)."""
-    out = np.array(v, dtype=float).reshape(-1)
-    if out.shape != (n,) or not np.isfinite(out).all():
-        raise RuleError(f"expected {n} finite values, got {v!r}")
-    return out
-
-
-def rayleigh_coefficients(f1, zeta1, f2, zeta2):
-    """a0 (1/s), a1 (s) of C = a0 M + a1 K giving zeta1 at f1 and zeta2 at f2 (Hz)."""
-    if not (f1 > 0 and f2 > 0 and f1 != f2):
-        raise ValueError(f"Rayleigh damping needs two distinct positive frequencies; got {f1}, {f2} Hz")
-    wi, wj = 2 * np.pi * f1, 2 * np.pi * f2
-    den = wj**2 - wi**2
-    a0 = 2 * wi * wj * (zeta1 * wj - zeta2 * wi) / den
-    a1 = 2 * (zeta2 * wj - zeta1 * wi) / den
-    return float(a0), float(a1)
-
-
-def rayleigh_ratios(omega, a0, a1):
-    """zeta = a0/(2w) + a1 w/2 per mode, shape (k,); rigid modes (w = 0) get 0."""
-    w = np.asarray(omega, dtype=float)
-    out = np.zeros_like(w)
-    pos = w > 0
-    out[pos] = a0 / (2 * w[pos]) + a1 * w[pos] / 2
-    return out
-
-
-def modal_ratios(omega, ratios=None, rayleigh=None):
-    """Damping ratio of each mode (k,): Rayleigh from (f1, z1, f2, z2) or from its coefficients
-    (a0, a1) if given, else the list `ratios` (one value for all modes, or one per mode; the
-    last repeats for higher modes)."""
-    w = np.asarray(omega, dtype=float)
-    if rayleigh is not None:
-        a0, a1 = rayleigh if len(rayleigh) == 2 else rayleigh_coefficients(*rayleigh)
-        return rayleigh_ratios(w, a0, a1)
-    z = np.atleast_1d(np.asarray(0.0 if ratios is None else ratios, dtype=float))
-    out = np.empty_like(w)
-    n = min(len(z), len(w))
-    out[:n] = z[:n]
-    out[n:] = z[-1]
-    return out
-
-
-@dataclass(frozen=True, kw_only=True, eq=False)
-class Damping:
-    """Viscous damping of the modes, in one of three forms (none given: undamped).
-
-    zeta : ratios, one for every mode or one per mode from the first (the last repeats)
-    rayleigh : coefficients (a0 1/s, a1 s) of C = a0 M + a1 K
-    anchors : (f1 Hz, zeta1, f2 Hz, zeta2), the Rayleigh damping with zeta1 at f1 and zeta2 at f2
-
-    Examples
-    --------
-    >>> Damping(zeta=0.02).ratios([10.0, 50.0])
-    array([0.02, 0.02])
-    >>> Damping(anchors=(1.0, 0.02, 10.0, 0.02)).ratios([2 * np.pi]).round(4)
-    array([0.02])
-    """
-
-    zeta: np.ndarray | None = None
-    rayleigh: tuple[float, float] | None = None
-    anchors: tuple[float, float, float, float] | None = None
-
-    def __post_init__(self):
-        if sum(x is not None for x in (self.zeta, self.rayleigh, self.anchors)) > 1:
-            raise RuleError("give damping = ... or rayleigh = ..., not both", "damping", "rayleigh")
-        if self.zeta is not None:
-            z = np.array(self.zeta, dtype=float).reshape(-1)
-            object.__setattr__(self, "zeta", z)
-            if not z.size or not np.all((z >= 0) & (z < 1)):
-                big = z[z >= 1]
-                raise RuleError("damping: ratios lie from 0 to below 1 (e.g. 2 percent)", "damping",
-                                hint=f"{_g(big[0])} is {_g(100 * big[0])} %; for {_g(big[0])} % write "
-                                     f"{_g(big[0])} percent" if len(big) and big[0] < 1e300 else "")
-        if self.rayleigh is not None:
-            a0, a1 = coefficients = tuple(float(x) for x in self.rayleigh)
-            object.__setattr__(self, "rayleigh", coefficients)
-            if not (a0 >= 0 and a1 >= 0 and a0 + a1 > 0):
-                raise RuleError("rayleigh: the coefficients cannot be negative and not both zero", "rayleigh")
-        if self.anchors is not None:
-            f1, z1, f2, z2 = anchors = tuple(float(x) for x in self.anchors)
-            object.__setattr__(self, "anchors", anchors)
-            if not (f1 > 0 and f2 > 0 and f1 != f2):
-                raise RuleError("rayleigh: two different positive frequencies are needed", "rayleigh")
-            if not (0 <= z1 < 1 and 0 <= z2 < 1):
-                raise RuleError("rayleigh: ratios lie from 0 to below 1 (e.g. 2 percent)", "rayleigh",
-                                hint="write the ratios with their unit, e.g. 2 percent")
-
-    def ratios(self, omega) -> np.ndarray:
-        """The damping ratio of each mode of circular frequency omega (k,) rad/s, shape (k,)."""
-        return modal_ratios(omega, self.zeta, self.rayleigh if self.rayleigh is not None else self.anchors)
 
     __eq__ = _same        # arrays by value; fields marked compare=False (locations) left out
     __hash__ = None
@@ -267,8 +144,9 @@ class ModesCase(_Case):
     reach the cumulative effective-mass fractions `target` (X, Y, Z) in every direction, at most
     `max_count`. None of count, fmax, target: MODES_COUNT modes. `reference` (3,) m is the point
     rotational participation is taken about. `sensitivity` asks for frequency sensitivities, members grouped by
-    "members", "sections", "materials" or the deck's "groups"; `sensitivity_rows` ranked rows per mode. Deck
-    options: count, fmax, target, max, reference, sensitivity, sensitivity_rows."""
+    "members", "sections", "materials" or the deck's "groups"; `sensitivity_rows` ranked rows per mode.
+    `resonance`: names of the model's excitations its resonance check takes (None: every one; () none).
+    Deck options: count, fmax, target, max, reference, sensitivity, sensitivity_rows, resonance."""
 
     kind: ClassVar[str] = "modes"
     count: int | None = None
@@ -278,6 +156,7 @@ class ModesCase(_Case):
     reference: np.ndarray = (0.0, 0.0, 0.0)
     sensitivity: str | None = None
     sensitivity_rows: int = 8      # rows per mode of the ranked tables (results.json, report)
+    resonance: tuple[str, ...] | None = None
 
     @property
     def n_modes(self) -> int | None:
@@ -290,6 +169,8 @@ class ModesCase(_Case):
     def _check(self) -> None:
         name = self.name
         object.__setattr__(self, "reference", _vector(self.reference))
+        if self.resonance is not None:
+            object.__setattr__(self, "resonance", tuple(str(n) for n in self.resonance))
         if self.count is not None:
             object.__setattr__(self, "count", _whole(self.count, 1, np.inf,
                                                      f"case {name}: count must be a whole number of at least 1",

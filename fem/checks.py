@@ -165,6 +165,10 @@ class SelfChecks:
         Each result's verdict on its own checks (balance, residuals, orthogonality ...).
     short : tuple of str
         Modes cases whose effective-mass target was not met.
+    resonance_failed : tuple of str
+        Modes cases whose resonance check fails: a mode inside the margin of an excitation
+        band, or modes that stop below the top of the bands' margins (a design check, reported
+        apart from the self-checks).
     """
 
     mass_pass: bool
@@ -172,6 +176,7 @@ class SelfChecks:
     plausible: dict = field(default_factory=dict)
     passed: dict = field(default_factory=dict)
     short: tuple = ()
+    resonance_failed: tuple = ()
 
     @property
     def all_pass(self) -> bool:
@@ -180,14 +185,14 @@ class SelfChecks:
 
     @property
     def ok(self) -> bool:
-        """Every self-check passes and every effective-mass target is met."""
-        return self.all_pass and not self.short
+        """Every self-check passes, every effective-mass target is met and every resonance check passes."""
+        return self.all_pass and not self.short and not self.resonance_failed
 
 
-def evaluate(model: Model, statics, modal, assembled: np.ndarray, rigid_free: int) -> SelfChecks:
+def evaluate(model: Model, statics, modal, assembled: np.ndarray, rigid_free: int, resonance=None) -> SelfChecks:
     """The self-checks of static results `statics` (cases then combinations) and modes and
-    response results `modal`, with the assembled translational mass (3,) kg and the number of
-    rigid-body motions the supports leave free."""
+    response results `modal`, with the assembled translational mass (3,) kg, the number of
+    rigid-body motions the supports leave free and the resonance checks by modes case name."""
     cases, passed = {}, {}
     for r in statics:
         cases[r.name] = r.checks(model.coords)
@@ -196,7 +201,9 @@ def evaluate(model: Model, statics, modal, assembled: np.ndarray, rigid_free: in
         cases[r.name] = modal_checks(r)
         passed[r.name] = modal_ok(r, cases[r.name])
     short = tuple(r.name for r in modal if getattr(r, "target_met", None) is False)
-    return SelfChecks(mass_ok(model, assembled), cases, plausibility(model, statics, modal, rigid_free), passed, short)
+    failed = tuple(name for name, c in (resonance or {}).items() if not c.ok)
+    return SelfChecks(mass_ok(model, assembled), cases, plausibility(model, statics, modal, rigid_free), passed, short,
+                      failed)
 
 
 SENSITIVITY_ENERGY_TOL = 1e-8   # a mode's member, spring and point-mass energies against the solve, relative

@@ -12,6 +12,7 @@ import numpy as np
 
 from .cases import Case, LoadItem
 from .errors import Location
+from .excitation import FrequencyBand, Machine
 from .sections import SectionProps
 
 __all__ = ["DIRECTIONS", "Combination", "LoadCase", "LoadItem", "Material", "Model", "Section"]
@@ -69,6 +70,8 @@ class Model:
     point_mass : (n, 6) mass and rotary inertia at nodes, kg and kg m^2
     groups : the deck's groups that hold members, name -> member names (deck order; nodes of a
         group of both are left out); a modes case's sensitivities may be reported by them
+    excitations : the machines and frequency bands the deck declares (fem.excitation), in deck
+        order; the resonance check of each modes case compares its modes with them
     warnings : what the reader found worth saying, not refusing: fem.notes.Note (str(note) is
         "file:line:column: warning: ..."); some are still plain texts of that form
     """
@@ -106,6 +109,7 @@ class Model:
     source: str = ""
     overrides: dict[str, str] = field(default_factory=dict)   # let parameters set from outside, name -> text
     warnings: list = field(default_factory=list)   # located notes from reading the deck
+    excitations: tuple[Machine | FrequencyBand, ...] = ()
 
     @property
     def n_nodes(self) -> int:

@@ -52,6 +52,9 @@ class Results:
     sensitivities : dict of str to FrequencySensitivity
         The frequency sensitivities of each modes case that asks for them (its `sensitivity`
         option), by case name (`fem.analysis.sensitivity`; docs/sensitivity.md).
+    resonance : dict of str to ResonanceCheck
+        The resonance check of each modes case that checks excitations
+        (`fem.analysis.resonance`), by modes case name; empty when the model declares none.
 
     Examples
     --------
@@ -70,6 +73,7 @@ class Results:
     cases_asked: dict | None = None
     built_on: dict = field(default_factory=dict)
     sensitivities: dict = field(default_factory=dict)
+    resonance: dict = field(default_factory=dict)
 
     def __repr__(self) -> str:
         cases = ", ".join(f"{n} ({r.kind})" for n, r in self.cases.items())
@@ -120,5 +124,6 @@ class Results:
 
     @property
     def ok(self) -> bool:
-        """Every self-check passes and every effective-mass target is met (exit status 0)."""
+        """Every self-check passes, every effective-mass target is met and every resonance
+        check passes (exit status 0)."""
         return self.checks.ok

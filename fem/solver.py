@@ -207,6 +207,21 @@ def solve(model: Model, cases=None) -> Results:
             built_on[c.name] = _links(c)[0]
     mass = assembled_mass(model, asm)
     modal = [*run.modes.values(), *responses.values()]
-    checks = evaluate(model, list(run.statics.values()), modal, mass, len(sound.rigid))
+    resonance = _resonance(model, run.modes)
+    checks = evaluate(model, list(run.statics.values()), modal, mass, len(sound.rigid), resonance)
     return Results(model, {**run.statics, **run.modes, **responses}, sound, mass, checks, tuple(notes),
-                   asked, built_on, {n: s for n, s in sensitivities.items() if s is not None})
+                   asked, built_on, {n: s for n, s in sensitivities.items() if s is not None}, resonance)
+
+
+def _resonance(model: Model, modes: dict) -> dict:
+    """The resonance check of each modes case against the excitations it takes (every one the
+    model declares, unless the case names some or none), by case name."""
+    from .analysis.resonance import check_resonance
+
+    out = {}
+    for c in model.cases:
+        if c.kind == "modes" and model.excitations:
+            chosen = [e for e in model.excitations if c.resonance is None or e.name in c.resonance]
+            if chosen:
+                out[c.name] = check_resonance(modes[c.name], chosen, model.node_names)
+    return out

@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..cases import modal_ratios, rayleigh_coefficients, rayleigh_ratios
+from ..damping import modal_ratios, rayleigh_coefficients, rayleigh_ratios
 from ..errors import ModelError
 
 __all__ = ["case_ratios", "modal_ratios", "rayleigh_coefficients", "rayleigh_ratios"]

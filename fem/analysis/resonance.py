@@ -161,13 +161,17 @@ class ResonanceCheck:
                 "modes_complete_to_Hz": _plain(self.complete_to), "modes_needed_to_Hz": float(self.needed_to),
                 "failures": int((~self.passed).sum()), "bands": bands, "rows": self.table()}
 
+    def ranked_failures(self) -> list[ResonanceRow]:
+        """The failing rows, closest to their excitation first; among equals, the mode that moves
+        the source's node most."""
+        return sorted(self.failures(), key=lambda r: (abs(r.margin) - r.required,
+                                                      -np.nan_to_num(r.node_share, nan=0.0), r.mode))
+
     def summary_lines(self, limit: int = 10) -> list[str]:
         """A few lines for the console: the verdict, then the failing rows (at most `limit`: the
         closest to their excitation first, then the ones moving the source's node most), then a
         line when the modes did not reach high enough to check every band."""
-        # closest to the excitation first; among equals, the mode that moves the source's node most
-        fails = sorted(self.failures(), key=lambda r: (abs(r.margin) - r.required,
-                                                       -np.nan_to_num(r.node_share, nan=0.0), r.mode))
+        fails = self.ranked_failures()
         lines = [f"resonance check of {self.case}: " + (
             "every mode clear of every excitation band by its margin" if not fails else
             f"{len(fails)} mode-band pair{'s' if len(fails) != 1 else ''} inside the required margin")]

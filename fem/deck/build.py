@@ -14,6 +14,7 @@ from ..sections import make_section, shear_follows_nu
 from . import model_checks
 from . import units as U
 from .definitions import Definitions
+from .excitations import model_excitations
 from .expressions import Evaluator
 from .model_checks import COINCIDENT
 from .plausible import model_warnings
@@ -71,7 +72,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
                   point_mass=pmass, materials=defs.materials, sections=defs.sections,
                   member_section=[m["section"][0] for m in mems],
                   member_material=[m["material"][0] for m in mems],
-                  groups=member_groups(defs),
+                  groups=member_groups(defs), excitations=model_excitations(defs, nidx),
                   cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes, **cols)
     notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
                                 ev.assume_sites.get(U.LENGTH)))

@@ -28,7 +28,9 @@ from ..cases import (
 )
 from ..errors import DeckError, Location, suggest
 from ..limits import ROWS_LIMIT
+from ..rules import g as _g
 from . import units as U
+from .excitations import resonance_names
 
 __all__ = ["CaseOptions"]
 
@@ -503,8 +505,10 @@ class CaseOptions:
                 out[key] = self.sensitivity_grouping(case.name, val, where)
             elif key == "sensitivity_rows":
                 out[key] = self.value(val, U.NONE, what)
+            elif key == "resonance":
+                out[key] = resonance_names(val, where, case.name, [e.name for e, *_ in self.defs.excitations], self.loc)
             else:
-                known = ['count', 'fmax', 'reference', 'target', 'max', 'sensitivity', 'sensitivity_rows']
+                known = ['count', 'fmax', 'reference', 'target', 'max', 'sensitivity', 'sensitivity_rows', 'resonance']
                 raise DeckError(f"case {case.name}: unknown option '{key}' for modes; {suggest(key, known)}", where)
         if "sensitivity_rows" in out and out.get("sensitivity") is None:
             self.note(case.at["sensitivity_rows"], f"case {case.name}: sensitivity_rows does nothing without sensitivity")
@@ -524,7 +528,3 @@ class CaseOptions:
             raise DeckError(f"case {name}: sensitivity = groups, but the deck defines no group that holds members",
                             where, "define one, e.g. group COLUMNS = C*, or use sensitivity = sections")
         return None if word == "off" else word
-
-
-def _g(v: float) -> str:
-    return f"{v:g}"

@@ -17,6 +17,7 @@ from ..notes import Note
 from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entry, make_section
 from . import units as U
 from .definitions import Definitions
+from .excitations import excitation_statement
 from .expressions import WILD, Evaluator
 from .sources import Sources, file_name
 
@@ -357,6 +358,13 @@ class Statements:
     def st_combo(self, s):
         self.defs.define("result", "combination", self.ev.name(s.children[0]), self.loc(s))
         self.defs.combos.append((self.ev.name(s.children[0]), s.children[1], self.loc(s), self.ev.scope()))
+
+    # ---------- machines and bands of excitation frequencies (fem/deck/excitations.py)
+    def st_machine(self, s):
+        excitation_statement(self, s, "machine")
+
+    def st_band(self, s):
+        excitation_statement(self, s, "band")
 
     # ---------- loops
     def st_loop(self, s):

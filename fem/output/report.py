@@ -9,6 +9,7 @@ from pathlib import Path
 
 import numpy as np
 
+from . import resonance_out
 from .fmt import percent
 
 __all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "report", "write_report"]
@@ -174,6 +175,8 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
             from .sensitivity_tables import sensitivity_section
 
             parts.append(sensitivity_section(c))
+        parts += resonance_out.report_section(c, _table)
+        parts += [_img(p, cap, "plot") for p, cap in images.get(f"{c['name']} resonance", [])]
     for c in doc["cases"]:
         if c["kind"] == "modes":
             continue
@@ -268,6 +271,7 @@ def report(results, doc: dict, out: Path, notice: str = "") -> None:
     images: dict[str, list] = {}
     for m in results.of_kind("modes"):
         images[m.name] = _mode_images(pdir, pics, m)
+    images.update({f"{n} resonance": v for n, v in resonance_out.report_images(pdir, results).items()})
     for r in results.statics[:STATIC_PLOTS]:
         images[r.name] = [(plots.plot_static(pdir / f"{r.name}_deformed.png", model, r, shape_scale(model)),
                            "deformed shape")]

@@ -12,6 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ModelError
+from . import resonance_out
 from .tables import END_FORCES, REACTIONS, supported_nodes, unit_shape_mass_stiffness
 
 __all__ = ["CAUTION", "SCHEMA", "results_doc", "strict", "write_results_json"]
@@ -66,7 +67,7 @@ def _modes(results, r) -> dict:
             "reference_point_m": np.asarray(r.reference).tolist(),
             "mode_character": mode_characters(results.model, r),
             "checks": {**checks.cases[r.name], **checks.plausible[r.name]},
-            **_sensitivity(results, r)}
+            "resonance": resonance_out.case_entry(results, r.name), **_sensitivity(results, r)}
 
 
 def _sensitivity(results, r) -> dict:
@@ -156,6 +157,7 @@ def results_doc(results) -> dict:
                   "mass_check_pass": results.checks.mass_pass, "warnings": results.warnings,
                   "overrides": dict(model.overrides),
                   "cases_asked": None if results.cases_asked is None else dict(results.cases_asked)},
+        "excitations": resonance_out.excitations_entry(model),
         "cases": [_ENTRY[r.kind](results, r) for kinds in _ORDER for r in results.of_kind(*kinds)],
         "sections": _sections(model),
     }

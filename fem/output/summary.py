@@ -13,6 +13,7 @@ import numpy as np
 from ..analysis.plausible import zero_mode_lines
 from ..analysis.soundness import summary_lines
 from ..analysis.static import precision_lines
+from . import resonance_out
 from .fmt import percent
 from .results_json import CAUTION
 
@@ -88,6 +89,8 @@ def _modes(results, r) -> list[str]:
         lines.append(f"{_CONTINUED}all {len(r.modes.freq)} modes: effective masses add up to the total mass to "
                      f"{c['effective_mass_sum_error']:.1e} {'pass' if c['effective_mass_sum_pass'] else 'FAIL'}")
     lines += [f"{_CONTINUED}{line}" for line in zero_mode_lines(r.name, results.checks.plausible[r.name])]
+    if r.name in results.resonance:
+        lines += resonance_out.summary_lines(results.resonance[r.name], _CONTINUED)
     return lines
 
 
@@ -100,14 +103,15 @@ _OWN_WARNINGS = ("free", "history", "harmonic", "spectrum")
 def print_summary(results, written, name: str = "") -> int:
     """Print the summary of `results` written as `written` (a `fem.output.write.Written`);
     `name` stands for the model when it has no title (the deck as given). Returns the exit
-    status: 0 when every self-check passes and every target is met, else 1."""
+    status: 0 when every self-check passes, every target is met and every resonance check
+    passes, else 1."""
     print_solved(results, name)
     return print_written(results, written)
 
 
 def print_solved(results, name: str = "") -> None:
     """The summary's lines that need only the solve: the model, each case, the self-checks'
-    verdict. `quaver run` prints them before the pictures are drawn."""
+    verdict, the resonance verdict. `quaver run` prints them before the pictures are drawn."""
     model = results.model
     print(f"{model.title or name or model.source}: {model.n_nodes} nodes, {model.n_members} members, "
           f"total mass {model.total_mass():.6g} kg")
@@ -134,6 +138,9 @@ def print_solved(results, name: str = "") -> None:
           "  self-checks: some FAIL (marked above); check before using the results")
     if checks.short:
         print(f"  effective-mass target not met in {', '.join(checks.short)}")
+    design = resonance_out.verdict_line(results)
+    if design:
+        print(f"  {design}")
 
 
 def print_written(results, written) -> int:

@@ -145,3 +145,6 @@ def write_tables(results, out: Path) -> None:
         from .sensitivity_tables import write_sensitivity_tables
 
         write_sensitivity_tables(out, results)
+    from .resonance_out import write_resonance_tables
+
+    write_resonance_tables(results, out)
