@@ -47,6 +47,7 @@ import numpy as np
 
 from .damping import Damping, modal_ratios, rayleigh_coefficients, rayleigh_ratios  # noqa: F401 (re-exported)
 from .errors import Location, suggest
+from .harmonic_forms import frequency_problem, load_problem
 from .rules import RuleError  # noqa: F401 (re-exported)
 from .rules import g as _g
 from .rules import same_fields as _same
@@ -66,13 +67,15 @@ MAX_STEPS = 1e6            # time steps of a free or history case
 
 @dataclass(eq=False)
 class LoadItem:
-    kind: str                 # "force", "moment", "line"; a free case's "displacement", "velocity"
+    kind: str                 # "force", "moment", "line", "unbalance"; a free case's "displacement", "velocity"
     targets: np.ndarray       # node or member indices
     vector: np.ndarray        # (3,) SI, in the axes below
     location: Location | None = field(default=None, compare=False)
     axes: str = "global"      # "global", or "local": member x, y, z (line loads only)
     time: str | None = None   # history cases: the name of the case's time function it follows
                               # (None: the case's time = ...)
+    lag: float = 0.0          # harmonic cases: rad, the load acts as P cos(W t - lag) (fem/harmonic_forms.py)
+    like: tuple[float, float] | None = None   # harmonic cases: (n, f0 Hz), amplitude x (f / f0)^n
 
     __eq__ = _same        # arrays by value; fields marked compare=False (locations) left out
     __hash__ = None
@@ -93,6 +96,8 @@ class _Case:
         object.__setattr__(self, "loads", tuple(self.loads))
         if self.gravity is not None:
             object.__setattr__(self, "gravity", _vector(self.gravity))
+        if problem := load_problem(self):
+            raise RuleError(problem.message, *problem.options, hint=problem.hint)
         self._check()
 
     def _check(self) -> None:
@@ -329,16 +334,19 @@ def no_time_function(case: str, what: str) -> tuple[str, str]:
 @dataclass(frozen=True, kw_only=True, eq=False)
 class HarmonicCase(_Response):
     """A sweep from `fmin` to `fmax` Hz (deck: from, to) over `points` frequencies spaced
-    'linear' or 'log' (points are added around each resonance in the band), of the loads
-    (amplitudes of P cos(W t)) or a `ground` acceleration amplitude (3,) m/s^2; `correction`:
+    'linear' or 'log' (points are added around each resonance in the band), or the frequencies
+    `at` (Hz, one or more; no sweep), of the loads (amplitudes of P cos(W t - lag), each with its
+    lag, growth with frequency or as an unbalance: fem/harmonic_forms.py) or a `ground`
+    acceleration amplitude (3,) m/s^2; `correction`:
     the static correction of the modes left out (force loads only); `record` the node indices
     whose responses are kept (None: every node)."""
 
     kind: ClassVar[str] = "harmonic"
-    fmin: float
-    fmax: float
+    fmin: float | None = None
+    fmax: float | None = None
     points: int = SWEEP_POINTS
     spacing: str = "linear"
+    at: np.ndarray | None = None
     ground: np.ndarray | None = None
     correction: bool = False
     record: np.ndarray | None = None
@@ -356,16 +364,11 @@ class HarmonicCase(_Response):
         object.__setattr__(self, "record", _record(self.record))
         if self.ground is not None:
             object.__setattr__(self, "ground", _vector(self.ground))
-        for key, value in (("from", self.fmin), ("to", self.fmax)):
-            if not value > 0:
-                raise RuleError(f"case {name}: {key} must be a positive frequency", key)
-        object.__setattr__(self, "points", _whole(self.points, 2, 1_000_000,
-                                                  f"case {name}: points is a whole number from 2 to a million",
-                                                  "points"))
-        if self.spacing not in ("linear", "log"):
-            raise RuleError(f"case {name}: spacing is linear or log", "spacing")
-        if not self.fmax > self.fmin:
-            raise RuleError(f"case {name}: 'to' must be above 'from'")
+        if self.at is not None:
+            object.__setattr__(self, "at", np.sort(np.array(self.at, dtype=float).reshape(-1)))
+        if problem := frequency_problem(self):
+            raise RuleError(problem.message, *problem.options, hint=problem.hint)
+        object.__setattr__(self, "points", int(self.points))
         if not self.loads and self.ground is None:
             raise RuleError(f"case {name}: give force amplitudes or a ground acceleration")
         if self.correction and self.ground is not None:

@@ -31,6 +31,7 @@ from ..limits import ROWS_LIMIT
 from ..rules import g as _g
 from . import units as U
 from .excitations import resonance_names
+from .load_forms import UNBALANCE, load_forms
 
 __all__ = ["CaseOptions"]
 
@@ -79,7 +80,7 @@ class CaseOptions:
                                     "scales the loads and ground accelerations of a history case", self.loc(it))
                 timed.append((val, str(fn), self.loc(fn), self.loc(it)))
                 continue
-            kindname, target, val, fn = it.children
+            kindname, target, val, fn, *extra = it.children
             kindname = str(kindname)
             if kind == "history" and kindname in ("time", "table"):
                 functions.append((kindname, self.name(target), val, self.loc(it)))
@@ -92,15 +93,20 @@ class CaseOptions:
             if kind in ("history", "harmonic"):
                 spec.pop("line")
                 spec["line"] = ((1, 0, -2), midx, "member")
+            if kind == "harmonic":
+                spec["unbalance"] = (UNBALANCE, nidx, "node")
             if kind == "free":
                 spec = {"displacement": (U.LENGTH, nidx, "node"), "velocity": ((0, 1, -1), nidx, "node")}
             if kindname not in spec:
                 raise DeckError(f"case {name}: unknown load '{kindname}'; {suggest(kindname, spec)}", self.loc(it))
             dim, table, what = spec[kindname]
             names = self.targets(target, table, what)
-            vec, axes = self.load_value(val, dim, f"case {name}: {kindname}", member=kindname == "line")
+            forms = load_forms(self, name, kind, kindname, val, extra, self.loc(it))
+            vec, axes = forms.pop("vector", None), "global"
+            if vec is None:
+                vec, axes = self.load_value(val, dim, f"case {name}: {kindname}", member=kindname == "line")
             case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it), axes,
-                                       None if fn is None else (str(fn), self.loc(fn))))
+                                       None if fn is None else (str(fn), self.loc(fn)), **forms))
         if kind not in CASE_TYPES:
             raise DeckError(f"case {name}: kind '{kind}' is not available yet; use static, modes, "
                             "free, history, harmonic or spectrum", where)
@@ -269,14 +275,17 @@ class CaseOptions:
                     f"steps only); use step <= {h:.3g} s")
 
     def harmonic_options(self, case: _Draft, nidx) -> HarmonicCase:
-        """Options of a harmonic sweep: from, to, points, spacing, ground, correction, damping,
-        rayleigh, modes, record."""
+        """Options of a harmonic case: from, to, points, spacing (a sweep) or at (frequencies),
+        ground, correction, damping, rayleigh, modes, record."""
         out = {}
         for key, (val, where) in case.options.items():
             what = f"case {case.name}: {key}"
             word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
             if key in ("from", "to"):
                 out["fmin" if key == "from" else "fmax"] = self.value(val, U.FREQ, what)
+            elif key == "at":
+                many = isinstance(val, Tree) and val.data == "vector"
+                out[key] = [self.value(v, U.FREQ, what) for v in (val.children if many else [val])]
             elif key == "points":
                 out[key] = self.value(val, U.NONE, what)
             elif key == "spacing":
@@ -288,15 +297,22 @@ class CaseOptions:
                     raise DeckError(f"{what} is on or off", where)
                 out[key] = word == "on"
             elif not self.dynamic_common(case, key, val, where, out, nidx):
-                known = ["from", "to", "points", "spacing", "ground", "correction", "damping",
+                known = ["from", "to", "points", "spacing", "at", "ground", "correction", "damping",
                          "rayleigh", "modes", "record"]
                 raise DeckError(f"case {case.name}: unknown option '{key}' for a harmonic case; "
                                 f"{suggest(key, known)}", where)
+        if "at" in case.options:
+            for key in ("from", "to", "points", "spacing"):
+                if key in case.options:
+                    raise DeckError(f"case {case.name}: '{key}' belongs to a sweep; this case gives its "
+                                    "frequencies with at", case.options[key][1], f"remove {key}, or at")
         for key, field_name in (("from", "fmin"), ("to", "fmax")):
-            if field_name not in out:
-                raise DeckError(f"case {case.name}: a harmonic case needs {key} = ... Hz", case.location)
+            if field_name not in out and "at" not in out:
+                raise DeckError(f"case {case.name}: a harmonic case needs {key} = ... Hz (a sweep) or "
+                                "at = ... Hz (one frequency or a list)", case.location)
         out = self.typed(case, HarmonicCase, **self.response_fields(case, out))
-        self.table_rows(out, out.points, "frequencies", out.record, nidx, "fewer points")
+        self.table_rows(out, out.points if out.at is None else len(out.at), "frequencies", out.record, nidx,
+                        "fewer points")
         return out
 
     def spectrum_options(self, case: _Draft, nidx) -> SpectrumCase:
