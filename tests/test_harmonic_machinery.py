@@ -251,3 +251,66 @@ def test_a_sweep_of_one_frequency_points_to_at(options, hint):
     with pytest.raises(DeckError) as err:
         read_text(text)
     assert hint in str(err.value)
+
+
+def test_velocity_is_omega_times_displacement_and_rms_is_peak_over_root_two(tmp_path, capsys):
+    # for a harmonic x = X cos(W t - lag): v = W X, a = W^2 X in amplitude, and the RMS of a
+    # sinusoid is its amplitude / sqrt 2 (definitions); checked in the result, the CSV table,
+    # results.json and the summary (mm/s)
+    import csv
+    import json
+
+    from fem.output.summary import print_summary
+    from fem.output.write import write_results
+    solved = solve(read_text(FRAME % "(3 Hz, 17.5 Hz, 42 Hz)"))
+    h = solved.modal[-1]
+    W = 2 * np.pi * h.freq[:, None, None]
+    np.testing.assert_allclose(h.velocity(), 1j * W * h.u[:, :, :3], rtol=1e-14)
+    np.testing.assert_allclose(h.acceleration(), -W**2 * h.u[:, :, :3], rtol=1e-14)
+    # every node is recorded: the peaks over the frequencies follow from the displacements
+    vel = np.abs(h.velocity()).max(axis=0)
+    np.testing.assert_allclose(h.vel_peak[h.record], vel, rtol=1e-12, atol=1e-15 * vel.max())
+    np.testing.assert_allclose(h.acc_peak[h.record], np.abs(h.acceleration()).max(axis=0), rtol=1e-12,
+                               atol=1e-15 * h.acc_peak.max())
+    out = tmp_path / "out"
+    written = write_results(solved, out, render=False)
+    with (out / "frf_F.csv").open() as fh:
+        rows = [row for row in csv.DictReader(fh) if row["node"] == "H"]
+    assert len(rows) == 3
+    for row, fr in zip(rows, h.freq):
+        w = 2 * np.pi * fr
+        for d in "xyz":
+            assert float(row[f"amp_v{d}"]) == pytest.approx(w * float(row[f"amp_u{d}"]), rel=1e-12)
+            assert float(row[f"amp_a{d}"]) == pytest.approx(w**2 * float(row[f"amp_u{d}"]), rel=1e-12)
+            for q in "uva":
+                assert float(row[f"rms_{q}{d}"]) == pytest.approx(float(row[f"amp_{q}{d}"]) / np.sqrt(2), rel=1e-14)
+    case = json.loads((out / "results.json").read_text())["cases"][-1]
+    top = case["largest_motion"]["velocity_m_s"]
+    assert top["peak"] == pytest.approx(h.vel_peak.max(), rel=1e-14)
+    assert top["rms"] == pytest.approx(h.vel_peak.max() / np.sqrt(2), rel=1e-14)
+    k = solved.model.node_names.index(top["node"])
+    assert top["peak"] == h.vel_peak[k, "XYZ".index(top["direction"])]
+    assert case["recorded_motion"]["H"]["acceleration_m_s2"]["peak"] == pytest.approx(
+        h.acc_peak[solved.model.node_names.index("H")].tolist(), rel=1e-14)
+    assert case["frequencies_listed"] is True
+    capsys.readouterr()
+    print_summary(solved, written)
+    text = capsys.readouterr().out
+    assert "harmonic at 3, 17.5, 42 Hz" in text
+    assert f"largest velocity {1e3 * top['peak']:.4g} mm/s amplitude ({1e3 * top['rms']:.4g} mm/s RMS)" in text
+
+
+def test_ground_shaking_gives_absolute_acceleration_by_the_transmissibility():
+    # base acceleration a_g cos(W t) under a damped SDOF: the mass's absolute acceleration is
+    # TR a_g, TR = sqrt(1 + (2 zeta r)^2) R_d (Chopra 2017 Sec. 3.6; reference-values.md
+    # section 5: 1.33204 at r = 0.5, 10.04988 at r = 1, 0.33918 at r = 2, zeta = 0.05)
+    rs = np.array([0.5, 1.0, 2.0])
+    text = SDOF % ("ground = (1 m/s^2, 0, 0)", ", ".join(f"{float(r * FN)!r} Hz" for r in rs))
+    h = solve(read_text(text)).modal[-1]
+    acc = np.abs(h.acceleration()[:, _at(h, 1), 0])
+    np.testing.assert_allclose(acc, [1.33204, 10.04988, 0.33918], rtol=1e-5)
+    rd = _rd(rs, 0.05)[0]
+    np.testing.assert_allclose(acc, np.sqrt(1 + (2 * 0.05 * rs) ** 2) * rd, rtol=1e-9)
+    # the support moves with the ground: its absolute acceleration is a_g
+    np.testing.assert_allclose(np.abs(h.acceleration()[:, _at(h, 0), 0]), 1.0, rtol=1e-12)
+    np.testing.assert_allclose(h.acc_peak[1, 0], acc.max(), rtol=1e-12)

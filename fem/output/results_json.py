@@ -48,6 +48,29 @@ def _harmonic_force_peaks(model, r) -> dict:
                                       for j, (c, w) in enumerate(zip(END_FORCES, where))}}
 
 
+def _largest(peak, freq, nodes) -> dict:
+    """The largest of peak (n, 3) over nodes and X, Y, Z: its peak, RMS (peak / sqrt 2), node,
+    direction and frequency."""
+    k, d = np.unravel_index(int(np.argmax(peak)), peak.shape)
+    return {"peak": float(peak[k, d]), "rms": float(peak[k, d] / np.sqrt(2)), "node": nodes[k],
+            "direction": "XYZ"[d], "frequency_Hz": float(freq[k, d])}
+
+
+def harmonic_motion(model, r) -> dict:
+    """Entries of a harmonic case on the motion of the translations: the largest displacement,
+    velocity and acceleration amplitude over the structure, and each at the recorded nodes per
+    X, Y, Z, with their RMS (amplitude / sqrt 2) and frequencies; velocity and acceleration
+    absolute (the ground's added for a ground acceleration)."""
+    nodes = model.node_names
+    kinds = {"displacement_m": (r.peak[:, :3], r.peak_freq[:, :3]), "velocity_m_s": (r.vel_peak, r.vel_peak_freq),
+             "acceleration_m_s2": (r.acc_peak, r.acc_peak_freq)}
+    return {"frequencies_listed": r.listed,
+            "largest_motion": {k: _largest(p, f, nodes) for k, (p, f) in kinds.items()},
+            "recorded_motion": {nodes[n]: {k: {"peak": p[n].tolist(), "rms": (p[n] / np.sqrt(2)).tolist(),
+                                               "frequency_Hz": f[n].tolist()} for k, (p, f) in kinds.items()}
+                                for n in r.record}}
+
+
 def _static(results, r) -> dict:
     checks = results.checks
     return {"name": r.name, "kind": "static", "max_translation_m": float(np.abs(r.u[:, :3]).max()),
@@ -97,7 +120,7 @@ def _harmonic(results, r) -> dict:
             "peak_amplitude_m": float(np.abs(r.peak[:, :3]).max()),
             "peaks": {model.node_names[k]: {"amplitude": r.peak[k].tolist(), "frequency_Hz": r.peak_freq[k].tolist(),
                                             "lag_deg": r.peak_lag[k].tolist()} for k in range(model.n_nodes)},
-            **_harmonic_force_peaks(model, r),
+            **_harmonic_force_peaks(model, r), **harmonic_motion(model, r),
             "checks": results.checks.cases[r.name]}
 
 

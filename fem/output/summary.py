@@ -49,8 +49,17 @@ def _spectrum(results, r) -> list[str]:
 
 def _harmonic(results, r) -> list[str]:
     k = np.unravel_index(np.abs(r.peak[:, :3]).argmax(), r.peak[:, :3].shape)
-    return [f"  {r.name:<12} harmonic sweep {r.freq[0]:.4g}-{r.freq[-1]:.4g} Hz, {len(r.freq)} "
-            f"frequencies; peak amplitude {r.peak[k]:.4g} m at {r.peak_freq[k]:.4g} Hz"]
+    what = (f"harmonic sweep {r.freq[0]:.4g}-{r.freq[-1]:.4g} Hz, {len(r.freq)} frequencies" if not r.listed else
+            f"harmonic at {', '.join(f'{f:.4g}' for f in r.freq[:6])}{', ...' if len(r.freq) > 6 else ''} Hz")
+    v = np.unravel_index(np.argmax(r.vel_peak), r.vel_peak.shape)
+    a = np.unravel_index(np.argmax(r.acc_peak), r.acc_peak.shape)
+    nodes = results.model.node_names
+    # mm/s: the unit vibration criteria for machines and their supports use
+    return [f"  {r.name:<12} {what}; peak amplitude {r.peak[k]:.4g} m at {r.peak_freq[k]:.4g} Hz",
+            f"{_CONTINUED}largest velocity {1e3 * r.vel_peak[v]:.4g} mm/s amplitude "
+            f"({1e3 * r.vel_peak[v] / np.sqrt(2):.4g} mm/s RMS) at {nodes[v[0]]} {'XYZ'[v[1]]}, "
+            f"{r.vel_peak_freq[v]:.4g} Hz; acceleration {r.acc_peak[a]:.4g} m/s^2 at {nodes[a[0]]} "
+            f"{'XYZ'[a[1]]}, {r.acc_peak_freq[a]:.4g} Hz" + (" (absolute)" if r.ground is not None else "")]
 
 
 def _history(results, r) -> list[str]:

@@ -77,9 +77,16 @@ def _harmonic_tables(out: Path, model, r) -> None:
     nodes, mems = model.node_names, model.member_names
     # lags set to 0 below 1e-9 of a table's largest amplitude, where the phase is round-off
     lag = lag_degrees(r.u, 1e-9 * np.abs(r.u).max(initial=0.0))
+    # then the translations' displacement, velocity and acceleration (absolute), each as amplitude
+    # and RMS (amplitude / sqrt 2), less the displacement amplitudes already written
+    peak = np.stack([np.abs(r.u[:, :, :3]), np.abs(r.velocity()), np.abs(r.acceleration())], axis=2)
+    motion = np.stack([peak, peak / np.sqrt(2)], axis=3).reshape(len(r.freq), len(r.record), 18)[:, :, 3:]
+    head = [f"{kind}_{q}{d}" for q in "uva" for kind in ("amp", "rms") for d in "xyz"][3:]
     write_csv(out / f"frf_{r.name}.csv",
-              ["frequency_Hz", "node", *(f"amp_{d}" for d in DIRECTIONS), *(f"lag_deg_{d}" for d in DIRECTIONS)],
-              ([float(fr), nodes[n], *map(float, np.abs(r.u[i, j])), *map(float, lag[i, j])]
+              ["frequency_Hz", "node", *(f"amp_{d}" for d in DIRECTIONS), *(f"lag_deg_{d}" for d in DIRECTIONS),
+               *head],
+              ([float(fr), nodes[n], *map(float, np.abs(r.u[i, j])), *map(float, lag[i, j]),
+                *map(float, motion[i, j])]
                for i, fr in enumerate(r.freq) for j, n in enumerate(r.record)))
     lag = lag_degrees(r.reactions, 1e-9 * np.abs(r.reactions).max(initial=0.0))
     write_csv(out / f"frf_reactions_{r.name}.csv",
