@@ -314,3 +314,24 @@ def test_ground_shaking_gives_absolute_acceleration_by_the_transmissibility():
     # the support moves with the ground: its absolute acceleration is a_g
     np.testing.assert_allclose(np.abs(h.acceleration()[:, _at(h, 0), 0]), 1.0, rtol=1e-12)
     np.testing.assert_allclose(h.acc_peak[1, 0], acc.max(), rtol=1e-12)
+
+
+def test_sweep_refined_around_given_frequencies():
+    # the hook for declared excitations: each frequency given inside the band is a point of the
+    # sweep, with points 1 % and 2 % either side; one outside the band adds nothing
+    from fem.analysis.harmonic import AROUND, sweep_frequencies
+    f = sweep_frequencies(1, 50, 5, "linear", [], [], around=[24.7, 80.0])
+    for k in range(-2, 3):
+        assert np.any(np.isclose(f, 24.7 * (1 + k * AROUND), rtol=1e-14))
+    assert len(f) == 5 + 5 and f.max() == 50
+
+
+def test_undamped_list_refused_only_on_a_natural_frequency():
+    # undamped response is bounded away from resonance (R_d = 1 / |1 - r^2|, Chopra 2017
+    # Sec. 3.1): a list off the natural frequency solves, one on it is refused
+    text = SDOF.replace(", damping = 5 percent", "")
+    h = solve(read_text(text % ("force B = (100 kN, 0, 0)", f"{float(0.5 * FN)!r} Hz"))).modal[-1]
+    assert abs(h.u[0, _at(h, 1), 0]) == pytest.approx(100e3 / K_BAR / (1 - 0.25), rel=1e-9)
+    from fem.errors import ModelError
+    with pytest.raises(ModelError, match="undamped modes"):
+        solve(read_text(text % ("force B = (100 kN, 0, 0)", f"{float(FN)!r} Hz")))

@@ -57,10 +57,11 @@ def plot_frf(path: Path, harm, node_name: str, j: int, natural) -> Path:
     import matplotlib.pyplot as plt
 
     fig, (a1, a2) = plt.subplots(2, 1, figsize=(7, 5), dpi=110, sharex=True)
+    dots = "o" if len(harm.freq) < 30 else None          # a few listed frequencies: points, not a curve
     for i, d in enumerate("XYZ"):
         u = harm.u[:, j, i]
-        a1.semilogy(harm.freq, np.maximum(np.abs(u), 1e-30), color=DIR_COLOURS[d], label=f"u{d.lower()}")
-        a2.plot(harm.freq, -np.degrees(np.angle(u)), color=DIR_COLOURS[d])
+        a1.semilogy(harm.freq, np.maximum(np.abs(u), 1e-30), color=DIR_COLOURS[d], label=f"u{d.lower()}", marker=dots)
+        a2.plot(harm.freq, -np.degrees(np.angle(u)), color=DIR_COLOURS[d], marker=dots)
     for ax in (a1, a2):
         for fn in natural:
             if harm.freq[0] <= fn <= harm.freq[-1]:

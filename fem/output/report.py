@@ -193,7 +193,8 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         elif c["kind"] == "harmonic":
             parts.append(_table(["quantity", "value"], [["band", f"{c['band_Hz'][0]:.4g} to {c['band_Hz'][1]:.4g} Hz"],
                                                         ["frequencies", c["frequencies"]],
-                                                        ["largest amplitude", f"{c['peak_amplitude_m']:.4g} m"]]))
+                                                        ["largest amplitude", f"{c['peak_amplitude_m']:.4g} m"],
+                                                        *_motion_rows(c)]))
         elif c["kind"] == "spectrum":
             b = c["base_reaction"]
             parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],
@@ -240,6 +241,16 @@ def _motion_images(pdir: Path, pics: Path, model, x) -> list:
         if f.exists():
             images.append((f, cap))
     return images
+
+
+def _motion_rows(c) -> list:
+    """Rows of a harmonic case's largest velocity (mm/s, the unit of vibration criteria) and
+    acceleration over the structure."""
+    v, a = c["largest_motion"]["velocity_m_s"], c["largest_motion"]["acceleration_m_s2"]
+    return [["largest velocity", f"{1e3 * v['peak']:.4g} mm/s amplitude, {1e3 * v['rms']:.4g} mm/s RMS, at "
+             f"{html.escape(v['node'])} {v['direction']}, {v['frequency_Hz']:.4g} Hz"],
+            ["largest acceleration", f"{a['peak']:.4g} m/s^2 amplitude at {html.escape(a['node'])} {a['direction']}, "
+             f"{a['frequency_Hz']:.4g} Hz"]]
 
 
 def _harmonic_images(pdir: Path, results, x) -> list:
