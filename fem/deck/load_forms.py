@@ -79,7 +79,11 @@ def load_forms(reader, case: str, kind: str, load: str, value, extra, where) -> 
             raise DeckError(f"{what}: an unbalance is one value, m e (mass times eccentricity), "
                             "with its shaft's axis after 'about'", reader.loc(value),
                             "e.g. unbalance B1 = 0.12 kg*m about (1, 0, 0)")
-        me = reader.value(value, UNBALANCE, f"{what} (m e)")
+        dim = reader.ev.evaluate(value).dim
+        if dim not in (UNBALANCE, None):                   # None: a bare 0, refused below
+            raise DeckError(f"{what}: m e is a mass times its eccentricity, in kg*m, but {U.dim_name(dim)} was "
+                            "given", reader.loc(value), "e.g. 0.12 kg*m, or 2.4 kg * 50 mm")
+        me = reader.value(value, UNBALANCE, f"{what} (m e, kg*m)")
         if not me > 0:
             raise DeckError(f"{what}: m e must be positive", reader.loc(value))
         if "vector" not in out:
