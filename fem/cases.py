@@ -333,13 +333,11 @@ def no_time_function(case: str, what: str) -> tuple[str, str]:
 
 @dataclass(frozen=True, kw_only=True, eq=False)
 class HarmonicCase(_Response):
-    """A sweep from `fmin` to `fmax` Hz (deck: from, to) over `points` frequencies spaced
-    'linear' or 'log' (points are added around each resonance in the band), or the frequencies
-    `at` (Hz, one or more; no sweep), of the loads (amplitudes of P cos(W t - lag), each with its
-    lag, growth with frequency or as an unbalance: fem/harmonic_forms.py) or a `ground`
-    acceleration amplitude (3,) m/s^2; `correction`:
-    the static correction of the modes left out (force loads only); `record` the node indices
-    whose responses are kept (None: every node)."""
+    """A sweep from `fmin` to `fmax` Hz (deck: from, to) over `points` frequencies spaced 'linear'
+    or 'log' (points added around each resonance in the band), or the frequencies `at` (Hz), of the
+    loads (P cos(W t - lag), forms in fem/harmonic_forms.py) or a `ground` acceleration amplitude
+    (3,) m/s^2; `correction`: the static correction of the modes left out (force loads only);
+    `record` the node indices whose responses are kept (None: every node)."""
 
     kind: ClassVar[str] = "harmonic"
     fmin: float | None = None
@@ -364,8 +362,7 @@ class HarmonicCase(_Response):
         object.__setattr__(self, "record", _record(self.record))
         if self.ground is not None:
             object.__setattr__(self, "ground", _vector(self.ground))
-        if self.at is not None:
-            object.__setattr__(self, "at", np.sort(np.array(self.at, dtype=float).reshape(-1)))
+        object.__setattr__(self, "at", None if self.at is None else np.sort(np.array(self.at, float).reshape(-1)))
         if problem := frequency_problem(self):
             raise RuleError(problem.message, *problem.options, hint=problem.hint)
         object.__setattr__(self, "points", int(self.points))

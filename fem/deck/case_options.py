@@ -16,7 +16,6 @@ from ..cases import (
     SPECTRUM_DAMPING,
     Damping,
     FreeCase,
-    HarmonicCase,
     HistoryCase,
     LoadItem,
     ModesCase,
@@ -31,7 +30,7 @@ from ..limits import ROWS_LIMIT
 from ..rules import g as _g
 from . import units as U
 from .excitations import resonance_names
-from .load_forms import UNBALANCE, load_forms
+from .load_forms import UNBALANCE, HarmonicOptions, load_forms
 
 __all__ = ["CaseOptions"]
 
@@ -50,7 +49,7 @@ class _Draft:
     at: dict = field(default_factory=dict)
 
 
-class CaseOptions:
+class CaseOptions(HarmonicOptions):
     """Mixed into the reader: building each case from its statement. Uses the reader's loc, value,
     vector, name, targets, once, use_scope, read_table, token_file, stack, assumed, note, cases, references, defs."""
 
@@ -93,8 +92,7 @@ class CaseOptions:
             if kind in ("history", "harmonic"):
                 spec.pop("line")
                 spec["line"] = ((1, 0, -2), midx, "member")
-            if kind == "harmonic":
-                spec["unbalance"] = (UNBALANCE, nidx, "node")
+            spec.update({"unbalance": (UNBALANCE, nidx, "node")} if kind == "harmonic" else {})
             if kind == "free":
                 spec = {"displacement": (U.LENGTH, nidx, "node"), "velocity": ((0, 1, -1), nidx, "node")}
             if kindname not in spec:
@@ -102,9 +100,8 @@ class CaseOptions:
             dim, table, what = spec[kindname]
             names = self.targets(target, table, what)
             forms = load_forms(self, name, kind, kindname, val, extra, self.loc(it))
-            vec, axes = forms.pop("vector", None), "global"
-            if vec is None:
-                vec, axes = self.load_value(val, dim, f"case {name}: {kindname}", member=kindname == "line")
+            vec, axes = (forms.pop("vector"), "global") if "vector" in forms else \
+                self.load_value(val, dim, f"case {name}: {kindname}", member=kindname == "line")
             case.loads.append(LoadItem(kindname, np.array([table[n] for n in names]), vec, self.loc(it), axes,
                                        None if fn is None else (str(fn), self.loc(fn)), **forms))
         if kind not in CASE_TYPES:
@@ -273,47 +270,6 @@ class CaseOptions:
                 self.note(where, f"case {case.name}: step {dt:.3g} s is longer than the {h:.3g} s row "
                     f"spacing of table '{rel}', so rows between steps are skipped (the load is read at the "
                     f"steps only); use step <= {h:.3g} s")
-
-    def harmonic_options(self, case: _Draft, nidx) -> HarmonicCase:
-        """Options of a harmonic case: from, to, points, spacing (a sweep) or at (frequencies),
-        ground, correction, damping, rayleigh, modes, record."""
-        out = {}
-        for key, (val, where) in case.options.items():
-            what = f"case {case.name}: {key}"
-            word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
-            if key in ("from", "to"):
-                out["fmin" if key == "from" else "fmax"] = self.value(val, U.FREQ, what)
-            elif key == "at":
-                many = isinstance(val, Tree) and val.data == "vector"
-                out[key] = [self.value(v, U.FREQ, what) for v in (val.children if many else [val])]
-            elif key == "points":
-                out[key] = self.value(val, U.NONE, what)
-            elif key == "spacing":
-                out[key] = word
-            elif key == "ground":
-                out[key] = self.vector(val, U.ACCEL, what)
-            elif key == "correction":
-                if word not in ("on", "off"):
-                    raise DeckError(f"{what} is on or off", where)
-                out[key] = word == "on"
-            elif not self.dynamic_common(case, key, val, where, out, nidx):
-                known = ["from", "to", "points", "spacing", "at", "ground", "correction", "damping",
-                         "rayleigh", "modes", "record"]
-                raise DeckError(f"case {case.name}: unknown option '{key}' for a harmonic case; "
-                                f"{suggest(key, known)}", where)
-        if "at" in case.options:
-            for key in ("from", "to", "points", "spacing"):
-                if key in case.options:
-                    raise DeckError(f"case {case.name}: '{key}' belongs to a sweep; this case gives its "
-                                    "frequencies with at", case.options[key][1], f"remove {key}, or at")
-        for key, field_name in (("from", "fmin"), ("to", "fmax")):
-            if field_name not in out and "at" not in out:
-                raise DeckError(f"case {case.name}: a harmonic case needs {key} = ... Hz (a sweep) or "
-                                "at = ... Hz (one frequency or a list)", case.location)
-        out = self.typed(case, HarmonicCase, **self.response_fields(case, out))
-        self.table_rows(out, out.points if out.at is None else len(out.at), "frequencies", out.record, nidx,
-                        "fewer points")
-        return out
 
     def spectrum_options(self, case: _Draft, nidx) -> SpectrumCase:
         """Options of a response-spectrum case: curve or table (+ scale, made_for), directions,

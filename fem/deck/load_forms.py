@@ -1,5 +1,6 @@
-"""What follows a load's value in a harmonic case: `lag ANGLE`, `like f^n at FREQ`, and an
-unbalance's `about AXIS` (docs/deck.md, Harmonic cases; the meaning in fem/harmonic_forms.py).
+"""A harmonic case's options (`HarmonicOptions`, mixed into the case options) and what may
+follow a load's value in a harmonic case: `lag ANGLE`, `like f^n at FREQ` and an unbalance's
+`about AXIS` (docs/deck.md, Harmonic sweep; their meaning in fem/harmonic_forms.py).
 
     force B1 = (0, 0, 800 N) lag 90 deg
     force B2 = (0, 0, 1.2 kN) like f^2 at 24.7 Hz
@@ -11,10 +12,11 @@ from __future__ import annotations
 import numpy as np
 from lark import Token, Tree
 
-from ..errors import DeckError
+from ..cases import HarmonicCase
+from ..errors import DeckError, suggest
 from . import units as U
 
-__all__ = ["UNBALANCE", "load_forms"]
+__all__ = ["UNBALANCE", "HarmonicOptions", "listed_frequencies", "load_forms", "sweep_or_list"]
 
 UNBALANCE = (1, 1, 0)       # m e: kg m
 _AXES = {"x": (1.0, 0.0, 0.0), "y": (0.0, 1.0, 0.0), "z": (0.0, 0.0, 1.0)}
@@ -91,3 +93,60 @@ def load_forms(reader, case: str, kind: str, load: str, value, extra, where) -> 
                             "e.g. unbalance B1 = 0.12 kg*m about (1, 0, 0) (turning positively about +X)")
         out["vector"] = me * out["vector"]
     return out
+
+
+def listed_frequencies(reader, val, what: str) -> list[float]:
+    """A harmonic case's `at`: one frequency or a list (f1, f2, ...), Hz."""
+    many = isinstance(val, Tree) and val.data == "vector"
+    return [reader.value(v, U.FREQ, what) for v in (val.children if many else [val])]
+
+
+def sweep_or_list(case: str, options: dict, where) -> None:
+    """Refuse a harmonic case's sweep options (from, to, points, spacing) beside `at`, and a case
+    with neither a sweep's from and to nor `at`; `options` key -> (tree, location)."""
+    if "at" in options:
+        for key in ("from", "to", "points", "spacing"):
+            if key in options:
+                raise DeckError(f"case {case}: '{key}' belongs to a sweep; this case gives its "
+                                "frequencies with at", options[key][1], f"remove {key}, or at")
+        return
+    for key in ("from", "to"):
+        if key not in options:
+            raise DeckError(f"case {case}: a harmonic case needs {key} = ... Hz (a sweep) or "
+                            "at = ... Hz (one frequency or a list)", where)
+
+
+class HarmonicOptions:
+    """Mixed into the case options: a harmonic case from its options."""
+
+    def harmonic_options(self, case, nidx) -> HarmonicCase:
+        """Options of a harmonic case: from, to, points, spacing (a sweep) or at (frequencies),
+        ground, correction, damping, rayleigh, modes, record."""
+        out = {}
+        for key, (val, where) in case.options.items():
+            what = f"case {case.name}: {key}"
+            word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
+            if key in ("from", "to"):
+                out["fmin" if key == "from" else "fmax"] = self.value(val, U.FREQ, what)
+            elif key == "at":
+                out[key] = listed_frequencies(self, val, what)
+            elif key == "points":
+                out[key] = self.value(val, U.NONE, what)
+            elif key == "spacing":
+                out[key] = word
+            elif key == "ground":
+                out[key] = self.vector(val, U.ACCEL, what)
+            elif key == "correction":
+                if word not in ("on", "off"):
+                    raise DeckError(f"{what} is on or off", where)
+                out[key] = word == "on"
+            elif not self.dynamic_common(case, key, val, where, out, nidx):
+                known = ["from", "to", "points", "spacing", "at", "ground", "correction", "damping",
+                         "rayleigh", "modes", "record"]
+                raise DeckError(f"case {case.name}: unknown option '{key}' for a harmonic case; "
+                                f"{suggest(key, known)}", where)
+        sweep_or_list(case.name, case.options, case.location)
+        out = self.typed(case, HarmonicCase, **self.response_fields(case, out))
+        self.table_rows(out, out.points if out.at is None else len(out.at), "frequencies", out.record, nidx,
+                        "fewer points")
+        return out
