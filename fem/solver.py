@@ -26,7 +26,7 @@ from .errors import ModelError
 from .model import Model
 from .results import Results
 
-__all__ = ["assembled_mass", "solve"]
+__all__ = ["assembled_mass", "excitation_frequencies", "solve"]
 
 
 def assembled_mass(model: Model, asm) -> np.ndarray:
@@ -108,7 +108,14 @@ def _history(run: _Run, case):
 
 def _harmonic(run: _Run, case):
     modes, _, factor = _links(case)
-    return solve_harmonic_case(run.model, run.asm, case, run.modes[modes], run.lu() if factor else None)
+    return solve_harmonic_case(run.model, run.asm, case, run.modes[modes], run.lu() if factor else None,
+                               around=excitation_frequencies(run.model))
+
+
+def excitation_frequencies(model: Model) -> tuple[float, ...]:
+    """Where the declared excitations act, Hz: each band's ends (a fixed speed's frequency, a
+    speed range's ends, per order), so that a sweep is refined there (docs/deck.md)."""
+    return tuple(sorted({f for e in model.excitations for b in e.bands() for f in (b.low, b.high)}))
 
 
 def _spectrum(run: _Run, case):
