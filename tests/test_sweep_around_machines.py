@@ -45,3 +45,19 @@ def test_the_response_at_the_added_points_is_the_sweeps_own(line):
     b = solve(read_text(FRAME + line))["RUN"]
     common, ia, ib = np.intersect1d(a.freq, b.freq, return_indices=True)
     np.testing.assert_array_equal(a.u[ia], b.u[ib])
+
+
+def test_the_frf_plot_marks_where_the_machines_run(tmp_path):
+    # the bands inside the sweep are the ones marked; a speed outside it is not; the plot is drawn
+    from fem.output import plots
+
+    deck = FRAME + ("machine FAN at B { speed = (1010 rpm, 1190 rpm), orders = (1, 2) }\n"
+                    "machine SLOW at B { speed = 30 rpm, orders = 1 }\n")
+    results = solve(read_text(deck))
+    h = results["RUN"]
+    bands = plots.frf_bands(results.model.excitations, h.freq)
+    assert [(b[0], round(b[1], 6), round(b[2], 6)) for b in bands] == [
+        ("FAN 1x", round(1010 / 60, 6), round(1190 / 60, 6)), ("FAN 2x", round(2020 / 60, 6), round(2380 / 60, 6))]
+    plain = plots.plot_frf(tmp_path / "plain.png", h, "B", 0, results["MODES"].modes.freq)
+    marked = plots.plot_frf(tmp_path / "marked.png", h, "B", 0, results["MODES"].modes.freq, bands=bands)
+    assert marked.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and marked.read_bytes() != plain.read_bytes()

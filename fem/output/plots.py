@@ -6,7 +6,7 @@ from pathlib import Path
 
 import numpy as np
 
-__all__ = ["plot_participation", "plot_frf", "plot_history", "plot_spectrum", "plot_static"]
+__all__ = ["frf_bands", "plot_participation", "plot_frf", "plot_history", "plot_spectrum", "plot_static"]
 
 INK, ACCENT, SOFT = "#1d2733", "#c0562f", "#8a94a6"
 DIR_COLOURS = {"X": "#2f6fa8", "Y": "#c0562f", "Z": "#5d8f3b"}
@@ -49,8 +49,21 @@ def plot_participation(path: Path, modal) -> Path:
     return _save(plt, fig, path)
 
 
-def plot_frf(path: Path, harm, node_name: str, j: int, natural) -> Path:
-    """Amplitude and phase lag of the translations of recorded node j, natural frequencies marked."""
+SPEED = "#7a5ca8"     # the declared machines' and bands' frequencies on the FRF plots
+
+
+def frf_bands(excitations, freq) -> list[tuple[str, float, float]]:
+    """(label, low Hz, high Hz) of every band of the declared excitations that reaches into the
+    sweep `freq` (Hz): what the FRF plot marks, so an engineer sees the response where the
+    machines run."""
+    lo, hi = float(np.min(freq)), float(np.max(freq))
+    return [(f"{b.source} {b.order}", b.low, b.high) for e in excitations for b in e.bands()
+            if b.high >= lo and b.low <= hi]
+
+
+def plot_frf(path: Path, harm, node_name: str, j: int, natural, bands=()) -> Path:
+    """Amplitude and phase lag of the translations of recorded node j, natural frequencies marked
+    (dotted) and the declared excitations' bands shaded (`frf_bands`)."""
     import matplotlib
 
     matplotlib.use("Agg")
@@ -66,10 +79,19 @@ def plot_frf(path: Path, harm, node_name: str, j: int, natural) -> Path:
         for fn in natural:
             if harm.freq[0] <= fn <= harm.freq[-1]:
                 ax.axvline(fn, color=SOFT, lw=0.6, ls=":")
+        for label, lo, hi in bands:
+            if hi > lo:
+                ax.axvspan(lo, hi, color=SPEED, alpha=0.12, lw=0)
+            else:
+                ax.axvline(lo, color=SPEED, lw=1.0, ls="--")
+    for label, lo, hi in bands:
+        a1.annotate(label, (0.5 * (lo + hi), 1.0), xycoords=("data", "axes fraction"), xytext=(2, -3),
+                    textcoords="offset points", fontsize=6, color=SPEED, rotation=90, ha="left", va="top")
         ax.spines[["top", "right"]].set_visible(False)
     a1.set_ylabel("amplitude, m")
     a2.set_ylabel("phase lag, deg")
-    a2.set_xlabel("frequency, Hz (dotted: natural frequencies)")
+    a2.set_xlabel("frequency, Hz (dotted: natural frequencies" + ("; purple: declared machines and bands)"
+                                                                  if len(bands) else ")"))
     a1.set_title(f"{harm.name}: response at {node_name}", color=INK, loc="left")
     a1.legend(fontsize=7, frameon=False)
     return _save(plt, fig, path)

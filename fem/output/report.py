@@ -259,7 +259,11 @@ def _harmonic_images(pdir: Path, results, x) -> list:
     j = int(np.argmax(np.abs(x.u[:, :, :3]).max(axis=(0, 2))))
     node = results.model.node_names[x.record[j]]
     nat = results.modes_of(x.name).modes.freq    # the modes this sweep was built on
-    return [(plots.plot_frf(pdir / f"{x.name}_frf.png", x, node, j, nat), f"frequency response at {node}")]
+    bands = plots.frf_bands(results.model.excitations, x.freq)
+    extra = {"bands": bands} if bands else {}
+    caption = f"frequency response at {node}" + (" (shaded: where the declared machines and bands act)"
+                                                  if bands else "")
+    return [(plots.plot_frf(pdir / f"{x.name}_frf.png", x, node, j, nat, **extra), caption)]
 
 
 def _spectrum_images(pdir: Path, results, x) -> list:
