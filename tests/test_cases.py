@@ -6,6 +6,7 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
+from shared_decks import BAR_SDOF
 
 from fem import solve
 from fem.cases import (
@@ -230,17 +231,7 @@ def test_deck_cases_equal_python_cases_and_solve_alike():
                 np.testing.assert_array_equal(getattr(a, field), getattr(b, field), err_msg=f"{a.name} {field}")
 
 
-SDOF = """
-material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-node A = (0, 0, 0)
-node B = (2 m, 0, 0)
-member M : A -> B truss P S
-support A pinned
-support B (uy, uz)
-mass B = 1000 t
-case MODES modes { count = 1 }
-"""
+SDOF = BAR_SDOF
 K_BAR = 200e9 * 3.600457e-3 / 2.0        # EA/L of the bar, NPS 6 Sch 40 area (reference-values.md section 9)
 
 

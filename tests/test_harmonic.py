@@ -3,6 +3,7 @@
 import numpy as np
 import pytest
 import scipy.sparse.linalg as spla
+from shared_decks import BAR_SDOF
 
 from fem import solve
 from fem.analysis.damping import rayleigh_coefficients
@@ -12,17 +13,7 @@ from fem.assembly import assemble
 from fem.deck.reader import read_text
 from fem.errors import DeckError
 
-SDOF = """
-material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-node A = (0, 0, 0)
-node B = (2 m, 0, 0)
-member M : A -> B truss P S
-support A pinned
-support B (uy, uz)
-mass B = 1000 t
-case MODES modes { count = 1 }
-case H harmonic { force B = (100 kN, 0, 0), from = %s Hz, to = %s Hz, points = 2, damping = 5 percent }
+SDOF = BAR_SDOF + """case H harmonic { force B = (100 kN, 0, 0), from = %s Hz, to = %s Hz, points = 2, damping = 5 percent }
 """
 K_BAR = 200e9 * 3.600457e-3 / 2.0
 

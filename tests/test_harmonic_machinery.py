@@ -4,6 +4,7 @@ with a power of the frequency, single frequencies and lists, velocity and accele
 import numpy as np
 import pytest
 import scipy.sparse.linalg as spla
+from shared_decks import BAR_SDOF
 
 from fem import solve
 from fem.analysis.damping import rayleigh_coefficients
@@ -16,17 +17,7 @@ from fem.errors import DeckError
 from fem.harmonic_forms import unbalance_axes
 
 # a mass on an axial bar: one degree of freedom (ux of B), k = EA / L, m = 1000 t
-SDOF = """
-material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-node A = (0, 0, 0)
-node B = (2 m, 0, 0)
-member M : A -> B truss P S
-support A pinned
-support B (uy, uz)
-mass B = 1000 t
-case MODES modes { count = 1 }
-case H harmonic { %s, at = (%s), damping = 5 percent }
+SDOF = BAR_SDOF + """case H harmonic { %s, at = (%s), damping = 5 percent }
 """
 K_BAR = 200e9 * np.pi / 4 * (0.1683**2 - (0.1683 - 2 * 0.00711) ** 2) / 2.0    # E A / L, A of the pipe
 MASS = 1e6

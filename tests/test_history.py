@@ -4,6 +4,7 @@ import numpy as np
 import pytest
 import scipy.sparse.linalg as spla
 from scipy.integrate import solve_ivp
+from shared_decks import BAR_SDOF
 
 from fem import solve
 from fem.assembly import assemble
@@ -11,17 +12,7 @@ from fem.deck.reader import read_text
 from fem.errors import DeckError
 
 # a massless axial bar carrying a point mass is a single-DOF oscillator: k = EA/L, m
-SDOF = """
-material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-node A = (0, 0, 0)
-node B = (2 m, 0, 0)
-member M : A -> B truss P S
-support A pinned
-support B (uy, uz)
-mass B = 1000 t
-case MODES modes { count = 1 }
-case H history { force B = (100 kN, 0, 0), time = %s, duration = %s, step = %s, damping = %s }
+SDOF = BAR_SDOF + """case H history { force B = (100 kN, 0, 0), time = %s, duration = %s, step = %s, damping = %s }
 """
 K_BAR = 200e9 * 3.600457e-3 / 2.0       # EA/L, A from reference-values.md section 4
 # the same from the pipe's area pi (od^2 - id^2) / 4 in full precision, for the checks at round-off

@@ -9,6 +9,7 @@ import time
 from pathlib import Path
 
 import pytest
+from shared_decks import TINY_CANTILEVER
 
 import fem.output.folder as folder
 import fem.output.report as report
@@ -19,16 +20,7 @@ from fem.cli import INTERNAL_ERROR, main
 ROOT = Path(__file__).parents[1]
 
 # a one-member cantilever: fast enough for many runs, with a static and a modes case
-TINY = """title "tiny cantilever"
-material ST { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
-section P = pipe(od = 100 mm, wall = 5 mm)
-node A = (0, 0, 0)
-node B = (0, 0, 2 m)
-member M1 : A -> B beam P ST
-support A fixed
-case LOAD static { force B = (1 kN, 0, 0) }
-case MODES modes { count = 2 }
-"""
+TINY = TINY_CANTILEVER
 
 
 @pytest.fixture

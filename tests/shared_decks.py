@@ -1,0 +1,27 @@
+"""Small decks that several test files build on; each adds its own cases."""
+
+# a mass of 1000 t on a massless axial bar (NPS 6 Sch 40 pipe, 2 m long): one degree of freedom,
+# ux of B, with k = E A / L and its one mode
+BAR_SDOF = """
+material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+node A = (0, 0, 0)
+node B = (2 m, 0, 0)
+member M : A -> B truss P S
+support A pinned
+support B (uy, uz)
+mass B = 1000 t
+case MODES modes { count = 1 }
+"""
+
+# a one-member cantilever with a static and a modes case: fast enough for many runs
+TINY_CANTILEVER = """title "tiny cantilever"
+material ST { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 100 mm, wall = 5 mm)
+node A = (0, 0, 0)
+node B = (0, 0, 2 m)
+member M1 : A -> B beam P ST
+support A fixed
+case LOAD static { force B = (1 kN, 0, 0) }
+case MODES modes { count = 2 }
+"""
