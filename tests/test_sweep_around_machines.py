@@ -3,7 +3,6 @@ and +-1 %, +-2 % about them, as it is about each natural frequency; a model with
 sweeps exactly as before."""
 
 import numpy as np
-import pytest
 
 from fem import read_text, solve
 
@@ -38,12 +37,12 @@ def test_a_speed_outside_the_sweep_adds_nothing():
     np.testing.assert_array_equal(plain, far)
 
 
-@pytest.mark.parametrize("line", ["", "band WALK { from = 1.6 Hz, to = 2.4 Hz }\n"])
-def test_the_response_at_the_added_points_is_the_sweeps_own(line):
+def test_the_response_at_the_added_points_is_the_sweeps_own():
     # the refinement adds frequencies, it does not move the others: the common ones agree exactly
     a = solve(read_text(FRAME))["RUN"]
-    b = solve(read_text(FRAME + line))["RUN"]
+    b = solve(read_text(FRAME + "band WALK { from = 1.6 Hz, to = 2.4 Hz }\n"))["RUN"]
     common, ia, ib = np.intersect1d(a.freq, b.freq, return_indices=True)
+    assert len(common) == len(a.freq) < len(b.freq)
     np.testing.assert_array_equal(a.u[ia], b.u[ib])
 
 
