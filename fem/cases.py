@@ -45,7 +45,7 @@ from typing import ClassVar, Union
 
 import numpy as np
 
-from .damping import Damping, modal_ratios, rayleigh_coefficients, rayleigh_ratios  # noqa: F401 (re-exported)
+from .damping import Damping
 from .errors import Location, suggest
 from .harmonic_forms import frequency_problem, load_problem
 from .rules import RuleError  # noqa: F401 (re-exported)
@@ -56,7 +56,7 @@ from .spectrum import Spectrum
 from .timefn import TimeFunction
 
 __all__ = ["CASE_TYPES", "Case", "Damping", "FreeCase", "HarmonicCase", "HistoryCase", "LoadItem", "ModesCase",
-           "RuleError", "SpectrumCase", "StaticCase", "modal_ratios", "rayleigh_coefficients", "rayleigh_ratios"]
+           "RuleError", "SpectrumCase", "StaticCase"]
 
 MODES_COUNT = 12           # modes a modes case finds when it gives neither count, fmax nor target
 MODES_MAX = 300            # most modes a mass target may add

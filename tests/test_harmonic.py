@@ -6,10 +6,10 @@ import scipy.sparse.linalg as spla
 from shared_decks import BAR_SDOF
 
 from fem import solve
-from fem.analysis.damping import rayleigh_coefficients
 from fem.analysis.harmonic import sweep_frequencies
 from fem.analysis.static import load_vector
 from fem.assembly import assemble
+from fem.damping import rayleigh_coefficients
 from fem.deck.reader import read_text
 from fem.errors import DeckError
 

@@ -7,11 +7,11 @@ import scipy.sparse.linalg as spla
 from shared_decks import BAR_SDOF
 
 from fem import solve
-from fem.analysis.damping import rayleigh_coefficients
 from fem.analysis.modal_case import field_responses
 from fem.analysis.static import load_vector
 from fem.assembly import assemble
 from fem.cases import HarmonicCase, LoadItem, StaticCase
+from fem.damping import rayleigh_coefficients
 from fem.deck.reader import read_text
 from fem.errors import DeckError
 from fem.harmonic_forms import unbalance_axes

@@ -1,6 +1,6 @@
 import numpy as np
 
-from fem.analysis.damping import rayleigh_coefficients, rayleigh_ratios
+from fem.damping import rayleigh_coefficients, rayleigh_ratios
 
 
 def test_rayleigh_reference_values_s8():
@@ -110,7 +110,7 @@ def test_step_load_peak_dlf():
 
 
 def test_modal_ratios_rules():
-    from fem.analysis.damping import modal_ratios
+    from fem.damping import modal_ratios
     w = 2 * np.pi * np.array([1.0, 2.0, 5.0, 9.0])
     np.testing.assert_allclose(modal_ratios(w, [0.02]), 0.02)
     np.testing.assert_allclose(modal_ratios(w, [0.02, 0.03]), [0.02, 0.03, 0.03, 0.03])

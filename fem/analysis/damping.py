@@ -1,15 +1,13 @@
 """The damping ratios a response case gives its modes, refused where the method cannot use them.
-The forms of damping and their ratios are `fem.cases.Damping`; the Rayleigh formulas live there
-and are re-exported here."""
+The forms of damping, their ratios and the Rayleigh formulas are `fem.damping`."""
 
 from __future__ import annotations
 
 import numpy as np
 
-from ..damping import modal_ratios, rayleigh_coefficients, rayleigh_ratios
 from ..errors import ModelError
 
-__all__ = ["case_ratios", "modal_ratios", "rayleigh_coefficients", "rayleigh_ratios"]
+__all__ = ["case_ratios"]
 
 
 def case_ratios(case, omega, below_one: bool = False) -> np.ndarray:
