@@ -13,6 +13,7 @@ import scipy.sparse as sp
 
 from fem import elements as el
 from fem.assembly import assemble
+from fem.geometry import local_axes
 from fem.model import Model
 
 
@@ -43,7 +44,7 @@ def loop_assemble(model: Model, count: int) -> float:
     rows, cols, kv, mv = [], [], [], []
     for k in range(count):
         i, j = model.conn[k]
-        R, L = el.local_axes(model.coords[i][None], model.coords[j][None])
+        R, L = local_axes(model.coords[i][None], model.coords[j][None])
         ke = el.to_global(el.frame_stiffness(L, model.E[k], model.G[k], model.A[k], model.Iy[k],
                                              model.Iz[k], model.J[k]), R)[0]
         me = el.to_global(el.frame_mass(L, model.rho[k], model.A[k], model.Iy[k], model.Iz[k],

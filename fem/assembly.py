@@ -9,6 +9,7 @@ import scipy.sparse as sp
 
 from . import elements as el
 from .errors import ModelError
+from .geometry import local_axes
 from .limits import HUGE
 from .model import Model
 
@@ -48,11 +49,11 @@ def element_matrices(model: Model, condense: bool = True, sel=None):
     xi, xj = model.coords[model.conn[:, 0]], model.coords[model.conn[:, 1]]
     up = np.where(np.isnan(model.up).any(axis=1, keepdims=True), np.nan, model.up)
     has_up = ~np.isnan(up).any(axis=1)
-    R, L = el.local_axes(xi, xj, roll=model.roll)
+    R, L = local_axes(xi, xj, roll=model.roll)
     if has_up.any():
         sel = np.flatnonzero(has_up)
         try:
-            R2, _ = el.local_axes(xi[sel], xj[sel], roll=model.roll[sel], up=up[sel])
+            R2, _ = local_axes(xi[sel], xj[sel], roll=model.roll[sel], up=up[sel])
         except ValueError:
             x = (xj[sel] - xi[sel]) / L[sel, None]
             u = up[sel] / np.maximum(np.linalg.norm(up[sel], axis=1, keepdims=True), 1e-300)

@@ -14,13 +14,13 @@ from fem.elements import (
     condense_releases,
     frame_mass,
     frame_stiffness,
-    local_axes,
     to_global,
     transform_matrix,
     truss_mass,
     truss_stiffness,
     uniform_load_fixed_end,
 )
+from fem.geometry import local_axes
 
 E, NU = 200e9, 0.3
 G = E / (2 * (1 + NU))

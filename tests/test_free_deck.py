@@ -7,6 +7,7 @@ import scipy.linalg as sla
 from fem import solve
 from fem.deck.reader import read_text
 from fem.errors import DeckError
+from fem.geometry import local_axes
 
 DECK = """
 material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
@@ -111,7 +112,7 @@ def _full_system_force_peaks(m, t, a0, a1):
     v0[6 * m.node_names.index("MID") + np.arange(3)] = [0, 0.05, -0.02]
     x = np.r_[u0[f], v0[f]]
     P = sla.expm(A * (t[1] - t[0]))
-    R, L = el.local_axes(m.coords[m.conn[:, 0]], m.coords[m.conn[:, 1]], roll=m.roll)
+    R, L = local_axes(m.coords[m.conn[:, 0]], m.coords[m.conn[:, 1]], roll=m.roll)
     k = el.frame_stiffness(L, m.E, m.G, m.A, m.Iy, m.Iz, m.J)
     T = el.transform_matrix(R)
     dofs = (6 * m.conn[:, :, None] + np.arange(6)).reshape(-1, 12)

@@ -271,8 +271,8 @@ def test_torsional_mode_is_named_a_twist(tmp_path):
     import numpy as np
 
     from fem import solve
+    from fem.analysis.motion import dominant_direction
     from fem.deck.reader import read_deck
-    from fem.output.render import dominant_direction
 
     d = tmp_path / "table.deck"
     d.write_text(TABLE)
@@ -293,7 +293,7 @@ def test_twist_of_a_shaft_on_its_own_axis():
     same line swaying in Y is 'Y'."""
     import numpy as np
 
-    from fem.output.render import dominant_direction
+    from fem.analysis.motion import dominant_direction
 
     coords = np.c_[np.zeros(5), np.zeros(5), np.linspace(0, 4, 5)]
     shape = np.zeros((5, 6))

@@ -288,7 +288,7 @@ case TIP static { force B = (4 kN, -7 kN, -10 kN) ; moment B = (1 kN*m, 0, 2 kN*
 
 
 def test_end_force_signs_horizontal_cantilever_local():
-    # Member along +X: local y = +Y, z = +Z (fem.elements.frame.local_axes). A downward tip load
+    # Member along +X: local y = +Y, z = +Z (fem.geometry.local_axes). A downward tip load
     # P at x = L: on the member at i the support pushes up (Vz_i = +P) and holds the moment
     # M_y,i = -P L (right-hand about +Y: the support's moment turns the root back up); at j the
     # load acts down (Vz_j = -P), no moment. Statics of a cantilever, Roark 7th ed. Table 8.1.

@@ -19,15 +19,12 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..geometry import local_axes  # noqa: F401 (one of the element helpers callers use)
-
 __all__ = [
     "condense_load",
     "condense_releases",
     "frame_mass",
     "frame_mass_timoshenko",
     "frame_stiffness",
-    "local_axes",
     "to_global",
     "transform_matrix",
     "truss_mass",

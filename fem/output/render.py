@@ -17,11 +17,10 @@ from pathlib import Path
 
 import numpy as np
 
-from ..analysis.motion import dominant_direction
 from .fmt import percent
 from .vtk import MAX_TURN, drawing_scale
 
-__all__ = ["can_render", "render_modes", "render_response", "dominant_direction", "drawing_scale", "one_line"]
+__all__ = ["can_render", "drawing_scale", "one_line", "render_modes", "render_response"]
 
 _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64, 64)); "
           "p.add_mesh(pv.Sphere()); p.screenshot(None); p.close()")
