@@ -47,8 +47,6 @@ class Results:
     cases_asked : dict or None
         ``{"asked": [...], "needed": [...]}``: the cases named to the solve and those added
         because they need them; None when every case was solved.
-    built_on : dict of str to str
-        The modes case each response case was built on, by response case name.
     sensitivities : dict of str to FrequencySensitivity
         The frequency sensitivities of each modes case that asks for them (its `sensitivity`
         option), by case name (`fem.analysis.sensitivity`; docs/sensitivity.md).
@@ -71,7 +69,6 @@ class Results:
     checks: SelfChecks
     notes: tuple[Note, ...] = ()
     cases_asked: dict | None = None
-    built_on: dict = field(default_factory=dict)
     sensitivities: dict = field(default_factory=dict)
     resonance: dict = field(default_factory=dict)
 
@@ -111,7 +108,7 @@ class Results:
 
     def modes_of(self, name: str):
         """The modes case result that the response case `name` was built on."""
-        return self.cases[self.built_on[name]]
+        return self.cases[self.definition(name).modes]
 
     def definition(self, name: str):
         """The case (or combination) definition of `name` in the model."""

@@ -205,19 +205,18 @@ def solve(model: Model, cases=None) -> Results:
     for combo in model.combinations:
         parts = [(f, run.statics[n]) for n, f in combo.factors.items()]
         run.statics[combo.name] = combine(combo.name, parts, model.coords)
-    responses, built_on = {}, {}
+    responses = {}
     for c in model.cases:
         solver = RESPONSE_SOLVERS.get(c.kind)
         if solver is not None:
             with _at_case(c), quiet(notes, f"case {c.name}"):
                 responses[c.name] = solver(run, c)
-            built_on[c.name] = _links(c)[0]
     mass = assembled_mass(model, asm)
     modal = [*run.modes.values(), *responses.values()]
     resonance = _resonance(model, run.modes)
     checks = evaluate(model, list(run.statics.values()), modal, mass, len(sound.rigid), resonance)
     return Results(model, {**run.statics, **run.modes, **responses}, sound, mass, checks, tuple(notes),
-                   asked, built_on, {n: s for n, s in sensitivities.items() if s is not None}, resonance)
+                   asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance)
 
 
 def _resonance(model: Model, modes: dict) -> dict:
