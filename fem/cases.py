@@ -54,6 +54,7 @@ from .rules import same_fields as _same
 from .rules import vector as _vector
 from .spectrum import Spectrum
 from .timefn import TimeFunction
+from .vibration import VibrationLimit, range_problem
 
 __all__ = ["CASE_TYPES", "Case", "Damping", "FreeCase", "HarmonicCase", "HistoryCase", "LoadItem", "ModesCase",
            "RuleError", "SpectrumCase", "StaticCase"]
@@ -337,7 +338,8 @@ class HarmonicCase(_Response):
     or 'log' (points added around each resonance in the band), or the frequencies `at` (Hz), of the
     loads (P cos(W t - lag), forms in fem/harmonic_forms.py) or a `ground` acceleration amplitude
     (3,) m/s^2; `correction`: the static correction of the modes left out (force loads only);
-    `record` the node indices whose responses are kept (None: every node)."""
+    `record` the node indices whose responses are kept (None: every node); `limits` the
+    vibration limits checked on its response (fem/vibration.py)."""
 
     kind: ClassVar[str] = "harmonic"
     fmin: float | None = None
@@ -348,6 +350,7 @@ class HarmonicCase(_Response):
     ground: np.ndarray | None = None
     correction: bool = False
     record: np.ndarray | None = None
+    limits: tuple = ()        # VibrationLimit, ...: the motion allowed at named nodes (fem/vibration.py)
 
     @property
     def static_part(self) -> bool:
@@ -370,6 +373,12 @@ class HarmonicCase(_Response):
             raise RuleError(f"case {name}: give force amplitudes or a ground acceleration")
         if self.correction and self.ground is not None:
             raise RuleError(f"case {name}: the static correction applies to force loads only")
+        object.__setattr__(self, "limits", tuple(self.limits))
+        for limit in self.limits:
+            if not isinstance(limit, VibrationLimit):
+                raise RuleError(f"case {name}: a limit is a VibrationLimit, not {type(limit).__name__}")
+            if problem := range_problem(self, limit):
+                raise RuleError(problem)
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)

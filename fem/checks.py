@@ -169,6 +169,9 @@ class SelfChecks:
         Modes cases whose resonance check fails: a mode inside the margin of an excitation
         band, or modes that stop below the top of the bands' margins (a design check, reported
         apart from the self-checks).
+    limits_failed : tuple of str
+        Harmonic cases with a vibration limit exceeded (a design check, like the resonance
+        check; fem/analysis/vibration_check.py).
     """
 
     mass_pass: bool
@@ -177,6 +180,7 @@ class SelfChecks:
     passed: dict = field(default_factory=dict)
     short: tuple = ()
     resonance_failed: tuple = ()
+    limits_failed: tuple = ()
 
     @property
     def all_pass(self) -> bool:
@@ -185,8 +189,9 @@ class SelfChecks:
 
     @property
     def ok(self) -> bool:
-        """Every self-check passes, every effective-mass target is met and every resonance check passes."""
-        return self.all_pass and not self.short and not self.resonance_failed
+        """Every self-check passes, every effective-mass target is met, every resonance check and
+        every vibration limit passes."""
+        return self.all_pass and not self.short and not self.resonance_failed and not self.limits_failed
 
 
 def evaluate(model: Model, statics, modal, assembled: np.ndarray, rigid_free: int, resonance=None) -> SelfChecks:
@@ -202,8 +207,9 @@ def evaluate(model: Model, statics, modal, assembled: np.ndarray, rigid_free: in
         passed[r.name] = modal_ok(r, cases[r.name])
     short = tuple(r.name for r in modal if getattr(r, "target_met", None) is False)
     failed = tuple(name for name, c in (resonance or {}).items() if not c.ok)
+    over = tuple(r.name for r in modal if not all(c.ok for c in getattr(r, "limits", ())))
     return SelfChecks(mass_ok(model, assembled), cases, plausibility(model, statics, modal, rigid_free), passed, short,
-                      failed)
+                      failed, over)
 
 
 SENSITIVITY_ENERGY_TOL = 1e-8   # a mode's member, spring and point-mass energies against the solve, relative

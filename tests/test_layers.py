@@ -11,7 +11,7 @@ ROOT = Path(fem.__file__).parent
 
 # layer -> the modules in it (a name ending in '*' covers a package and everything under it)
 LAYERS = {
-    "base": ["fem.errors", "fem.notes", "fem.limits", "fem.geometry", "fem.timefn", "fem.spectrum",
+    "base": ["fem.vibration", "fem.errors", "fem.notes", "fem.limits", "fem.geometry", "fem.timefn", "fem.spectrum",
              "fem.excitation", "fem.harmonic_forms", "fem.sections*", "fem.model", "fem.cases", "fem.rules",
              "fem.damping", "fem.progress"],
     "deck": ["fem.deck*", "fem.grammar*"],

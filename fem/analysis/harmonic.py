@@ -31,6 +31,7 @@ from .damping import case_ratios
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .static import load_vector
+from .vibration_check import check_limits, limit_frequencies
 
 __all__ = ["HarmonicResult", "lag_degrees", "solve_harmonic_case", "sweep_frequencies"]
 
@@ -71,6 +72,7 @@ class HarmonicResult:
     acc_peak_freq: np.ndarray = None    # (n, 3) Hz, where
     ground: np.ndarray = None           # (3,) m/s^2, the ground acceleration amplitude, or None
     listed: bool = False                # the frequencies are the case's list (at), not a sweep
+    limits: tuple = ()                  # LimitCheck, ...: the case's vibration limits checked (vibration_check.py)
 
     def velocity(self) -> np.ndarray:
         """(m, r, 3) complex velocity amplitudes of the recorded nodes' translations, m/s:
@@ -264,7 +266,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     phi, omega = modal.modes.phi, modal.modes.omega
     zeta = case_ratios(case, omega)
     terms = load_terms(model, asm, case)
-    freq = _frequencies(case, omega, zeta, around)
+    freq = _frequencies(case, omega, zeta, tuple(around) + limit_frequencies(case.limits))
     record = case.record if case.record is not None else np.arange(model.n_nodes)
     support = np.flatnonzero(model.restraint.any(axis=1) | (model.springs > 0).any(axis=1))
     members = np.flatnonzero(np.isin(model.conn, record).any(axis=1))
@@ -287,6 +289,18 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     static = parts([_residual(F, asm, lu, shapes, omega, pk) for (_, _, F, _, _), pk in zip(terms, PK)]) \
         if case.correction else None
     peak, peak_f, peak_c = _amplitude_peaks(H, shapes, freq, static)
+
+    def translations(nodes):
+        """(m, p, 3) complex absolute displacement amplitudes of the translations of `nodes`."""
+        dofs = (6 * nodes[:, None] + np.arange(3)).ravel()
+        u = (H @ shapes[dofs].T).reshape(len(freq), len(nodes), 3)
+        if static is not None:
+            u = u + _columns(static, dofs, (len(nodes), 3))
+        if case.ground is not None:
+            u = u - case.ground[None, None, :] / W[:, None, None] ** 2
+        return u
+
+    limits = check_limits(case.name, case.limits, freq, translations)
     # reactions and member end forces: per mode, superposed per frequency, with the static part
     # and, for member loads, minus the fixed-end forces (loads in phase with the excitation)
     Rm, Fm = field_responses(model, asm, shapes.T)
@@ -353,7 +367,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           m_peak_f.reshape(-1, 12), _lags(m_peak_c).reshape(-1, 12),
                           support, reactions, members, member_forces, warnings, complete,
                           vel.reshape(-1, 3), vel_f.reshape(-1, 3), acc.reshape(-1, 3), acc_f.reshape(-1, 3),
-                          case.ground, case.at is not None)
+                          case.ground, case.at is not None, limits)
 
 
 def modes_complete_to(modal: ModesCaseResult) -> float:

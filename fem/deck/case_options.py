@@ -28,6 +28,7 @@ from ..limits import ROWS_LIMIT
 from ..rules import g as _g
 from . import units as U
 from .excitations import resonance_names
+from .limit_items import read_limit
 from .load_forms import UNBALANCE, HarmonicOptions, load_forms
 from .spectrum_options import SpectrumOptions
 
@@ -46,6 +47,7 @@ class _Draft:
     gravity: np.ndarray | None = None
     options: dict = field(default_factory=dict)
     at: dict = field(default_factory=dict)
+    limits: list = field(default_factory=list)     # a harmonic case's VibrationLimits
 
 
 class CaseOptions(HarmonicOptions, SpectrumOptions):
@@ -70,6 +72,9 @@ class CaseOptions(HarmonicOptions, SpectrumOptions):
                     case.gravity = self.vector(val, U.ACCEL, f"case {name}: gravity")
                 else:
                     case.options[key] = (val, self.loc(it))
+                continue
+            if it.data == "limit":
+                case.limits.append(read_limit(self, name, kind, it, nidx))
                 continue
             if it.data == "timed":
                 key, val, fn = it.children

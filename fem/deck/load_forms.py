@@ -9,11 +9,14 @@ follow a load's value in a harmonic case: `lag ANGLE`, `like f^n at FREQ` and an
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 from lark import Token, Tree
 
 from ..cases import HarmonicCase
 from ..errors import DeckError, suggest
+from ..vibration import range_problem
 from . import units as U
 
 __all__ = ["UNBALANCE", "HarmonicOptions", "listed_frequencies", "load_forms", "sweep_or_list"]
@@ -147,6 +150,11 @@ class HarmonicOptions:
                                 f"{suggest(key, known)}", where)
         sweep_or_list(case.name, case.options, case.location)
         out = self.typed(case, HarmonicCase, **self.response_fields(case, out))
+        for limit in case.limits:              # each limit's range against the case's frequencies, at the limit
+            if problem := range_problem(out, limit):
+                raise DeckError(problem, limit.location, "")
+        if case.limits:
+            out = replace(out, limits=tuple(case.limits))
         self.table_rows(out, out.points if out.at is None else len(out.at), "frequencies", out.record, nidx,
                         "fewer points")
         return out

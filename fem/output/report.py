@@ -9,7 +9,7 @@ from pathlib import Path
 
 import numpy as np
 
-from . import resonance_out
+from . import limits_out, resonance_out
 from .fmt import percent
 
 __all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "report", "write_report"]
@@ -195,6 +195,8 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                                                         ["frequencies", c["frequencies"]],
                                                         ["largest amplitude", f"{c['peak_amplitude_m']:.4g} m"],
                                                         *_motion_rows(c)]))
+            if c.get("vibration_limits"):
+                parts.append(_table(["vibration limit", "found", "result"], limits_out.report_rows(c, _ok)))
         elif c["kind"] == "spectrum":
             b = c["base_reaction"]
             parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],

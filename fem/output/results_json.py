@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ModelError
-from . import resonance_out
+from . import limits_out, resonance_out
 from .tables import END_FORCES, REACTIONS, supported_nodes, unit_shape_mass_stiffness
 
 __all__ = ["CAUTION", "SCHEMA", "results_doc", "strict", "write_results_json"]
@@ -121,7 +121,7 @@ def _harmonic(results, r) -> dict:
             "peaks": {model.node_names[k]: {"amplitude": r.peak[k].tolist(), "frequency_Hz": r.peak_freq[k].tolist(),
                                             "lag_deg": r.peak_lag[k].tolist()} for k in range(model.n_nodes)},
             **_harmonic_force_peaks(model, r), **harmonic_motion(model, r),
-            "checks": results.checks.cases[r.name]}
+            "checks": results.checks.cases[r.name], **limits_out.case_entry(results, r)}
 
 
 def _spectrum(results, r) -> dict:

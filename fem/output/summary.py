@@ -13,7 +13,7 @@ import numpy as np
 from ..analysis.plausible import zero_mode_lines
 from ..analysis.soundness import summary_lines
 from ..analysis.static import precision_lines
-from . import resonance_out
+from . import limits_out, resonance_out
 from .fmt import percent
 from .results_json import CAUTION
 
@@ -59,7 +59,8 @@ def _harmonic(results, r) -> list[str]:
             f"{_CONTINUED}largest velocity {1e3 * r.vel_peak[v]:.4g} mm/s amplitude "
             f"({1e3 * r.vel_peak[v] / np.sqrt(2):.4g} mm/s RMS) at {nodes[v[0]]} {'XYZ'[v[1]]}, "
             f"{r.vel_peak_freq[v]:.4g} Hz; acceleration {r.acc_peak[a]:.4g} m/s^2 at {nodes[a[0]]} "
-            f"{'XYZ'[a[1]]}, {r.acc_peak_freq[a]:.4g} Hz" + (" (absolute)" if r.ground is not None else "")]
+            f"{'XYZ'[a[1]]}, {r.acc_peak_freq[a]:.4g} Hz" + (" (absolute)" if r.ground is not None else "")
+            ] + limits_out.summary_lines(r, nodes, _CONTINUED)
 
 
 def _history(results, r) -> list[str]:
@@ -150,6 +151,9 @@ def print_solved(results, name: str = "") -> None:
     design = resonance_out.verdict_line(results)
     if design:
         print(f"  {design}")
+    limits = limits_out.verdict_line(results)
+    if limits:
+        print(f"  {limits}")
 
 
 def print_written(results, written) -> int:

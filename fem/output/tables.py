@@ -155,3 +155,6 @@ def write_tables(results, out: Path) -> None:
     from .resonance_out import write_resonance_tables
 
     write_resonance_tables(results, out)
+    from .limits_out import write_limit_tables
+
+    write_limit_tables(results, out)
