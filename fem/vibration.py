@@ -111,7 +111,7 @@ def range_problem(case, limit: VibrationLimit) -> str | None:
     if case.at is not None:
         if not np.any((case.at >= lo) & (case.at <= hi)):
             return (f"{what}: none of the case's frequencies (at) lies in that range, so nothing would be "
-                    "checked; add the running speed to at")
+                    "checked; add a frequency inside the range to at")
         return None
     if lo < case.fmin or hi > case.fmax:
         return (f"{what}: the range reaches outside the sweep ({case.fmin:.4g}-{case.fmax:.4g} Hz), so part of "

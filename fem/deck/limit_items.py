@@ -36,7 +36,7 @@ def read_limit(reader, case: str, kind: str, it: Tree, nidx: dict) -> VibrationL
                         f"frequencies); a {kind} case takes none", where)
     quantity = str(quantity_t)
     if quantity not in QUANTITIES:
-        raise DeckError(f"case {case}: limit '{quantity}': a limit is on {', '.join(QUANTITIES)}; "
+        raise DeckError(f"case {case}: limit '{quantity}' is not a quantity a limit holds; "
                         f"{suggest(quantity, QUANTITIES)}", reader.loc(quantity_t),
                         "e.g. limit velocity M* = 4.5 mm/s rms over FAN")
     what = f"case {case}: limit {quantity}"
