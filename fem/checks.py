@@ -18,6 +18,8 @@ modes      eigen residuals below RESIDUAL_TOL, M- and K-orthogonality below ORTH
 free       the reactions balance the modal inertia forces (free_case.BALANCE_TOL).
 history, harmonic, spectrum
            reported (static correction, modes covering the band, missing mass), never failed.
+           A harmonic case's vibration limits are a design check, as the resonance check is
+           (`limits_failed`; fem/analysis/vibration_check.py).
 
 The tolerances of balance checks made inside the analyses (EQUILIBRIUM_TOL, SOLVE_TOL,
 BALANCE_TOL) live beside the computations that use them and are named here.

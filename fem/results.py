@@ -121,6 +121,6 @@ class Results:
 
     @property
     def ok(self) -> bool:
-        """Every self-check passes, every effective-mass target is met and every resonance
+        """Every self-check passes, every effective-mass target is met, every vibration limit and every resonance
         check passes (exit status 0)."""
         return self.checks.ok

@@ -113,7 +113,7 @@ _OWN_WARNINGS = ("free", "history", "harmonic", "spectrum")
 def print_summary(results, written, name: str = "") -> int:
     """Print the summary of `results` written as `written` (a `fem.output.write.Written`);
     `name` stands for the model when it has no title (the deck as given). Returns the exit
-    status: 0 when every self-check passes, every target is met and every resonance check
+    status: 0 when every self-check passes, every target is met, every vibration limit and every resonance check
     passes, else 1."""
     print_solved(results, name)
     return print_written(results, written)
