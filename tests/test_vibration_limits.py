@@ -207,3 +207,22 @@ def test_mistakes_in_a_limit_are_refused_where_they_are(case, limit, where, mess
     with pytest.raises(DeckError, match=message) as err:
         read_text(BAR_SDOF + case % limit)
     assert f":{where}:" in str(err.value)
+
+
+def test_a_case_built_in_python_obeys_the_same_range_rules():
+    # the rules of fem/vibration.py hold for a HarmonicCase made in Python (no deck), and
+    # dataclasses.replace checks them again
+    from dataclasses import replace
+
+    from fem.cases import HarmonicCase, LoadItem
+
+    loads = (LoadItem("force", np.array([1]), np.array([1e3, 0, 0])),)
+    inside = VibrationLimit("velocity", (1,), 1e-3, over=(2.0, 3.0), source="PUMP")
+    case = HarmonicCase(name="H", modes="MODES", loads=loads, fmin=1.0, fmax=5.0, limits=[inside])
+    assert case.limits == (inside,)
+    with pytest.raises(RuleError, match="reaches outside the sweep"):
+        replace(case, fmax=2.5)
+    with pytest.raises(RuleError, match="none of the case's frequencies"):
+        HarmonicCase(name="H", modes="MODES", loads=loads, at=(1.0, 4.0), limits=(inside,))
+    with pytest.raises(RuleError, match="a limit is a VibrationLimit"):
+        HarmonicCase(name="H", modes="MODES", loads=loads, at=(2.5,), limits=("4.5 mm/s",))
