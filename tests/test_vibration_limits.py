@@ -226,3 +226,10 @@ def test_a_case_built_in_python_obeys_the_same_range_rules():
         HarmonicCase(name="H", modes="MODES", loads=loads, at=(1.0, 4.0), limits=(inside,))
     with pytest.raises(RuleError, match="a limit is a VibrationLimit"):
         HarmonicCase(name="H", modes="MODES", loads=loads, at=(2.5,), limits=("4.5 mm/s",))
+
+
+def test_a_misplaced_word_is_told_with_the_words_that_may_follow_a_value():
+    # the parser's expected terminals in words, not the grammar's names (_LIMIT, _LAG, ...)
+    with pytest.raises(DeckError, match="expected .*'lag', 'like', 'limit' or 'times'") as err:
+        read_text(BAR_SDOF + SWEEP % "force B = (1 kN, 0, 0) rms")
+    assert ":12:24:" in str(err.value) and "_l" not in str(err.value)
