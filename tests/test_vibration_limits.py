@@ -233,3 +233,47 @@ def test_a_misplaced_word_is_told_with_the_words_that_may_follow_a_value():
     with pytest.raises(DeckError, match="expected .*'lag', 'like', 'limit' or 'times'") as err:
         read_text(BAR_SDOF + SWEEP % "force B = (1 kN, 0, 0) rms")
     assert ":12:24:" in str(err.value) and "_l" not in str(err.value)
+
+
+DECKS = __import__("pathlib").Path(__file__).resolve().parents[1] / "decks"
+
+
+def test_rack_demo_pump_passes_its_limit_and_would_fail_a_20_percent_separation():
+    # decks/rack.deck says: the pump at 1480 rpm passes its velocity limit at the skid with about
+    # 1.3 mm/s RMS, and with a 20 % margin modes 26 to 33 would fail, 27, 30 and 33 moving L2_0 most.
+    from fem import read_deck, read_text
+
+    text = (DECKS / "rack.deck").read_text()
+    res = solve(read_deck(DECKS / "rack.deck"), cases=["PUMP"])
+    pump = res["PUMP"]
+    (c,) = pump.limits
+    assert c.ok and res.ok and c.limit.source == "PUMP" and c.checked == 1
+    assert c.peak_freq.max() == pytest.approx(1480 / 60, rel=1e-12)
+    assert 1.25e-3 < c.largest / np.sqrt(2) < 1.35e-3
+    # the same number from the recorded response: |i W u| at the running speed (velocity())
+    k = int(np.flatnonzero(pump.freq == 1480 / 60)[0])
+    assert np.abs(pump.velocity()[k]).max() == pytest.approx(c.largest, rel=1e-12)
+    strict = text.replace("orders = 1, margin = 0 percent", "orders = 1")
+    assert strict != text
+    check = solve(read_text(strict, name="rack.deck", folder=DECKS), cases=["MODES"]).resonance["MODES"]
+    fails = check.failures()
+    assert [r.mode for r in fails] == list(range(26, 34))
+    assert {r.mode for r in fails if r.node_share > 0.99} == {27, 30, 33}
+
+
+def test_fanframe_demo_unbalance_sweep_fails_its_limit_as_the_deck_says():
+    # decks/fanframe.deck: the fan's unbalance over 600-990 rpm gives about 21 mm/s RMS at the
+    # fan's mounting near 954 rpm, some 4.6 times the 4.5 mm/s RMS limit
+    from fem import read_deck
+
+    res = solve(read_deck(DECKS / "fanframe.deck"), cases=["RUN"])
+    (c,) = res["RUN"].limits
+    node, d = c.worst
+    assert not c.ok and "RUN" in res.checks.limits_failed and not res.ok
+    assert res.model.node_names[node] == "M0" and "XYZ"[d] == "Z"
+    assert 20e-3 < c.largest / np.sqrt(2) < 22e-3 and 4.4 < c.ratio < 4.8
+    assert 950 < 60 * c.peak_freq[c.limit.nodes.index(node), d] < 960
+    assert c.limit.over == (10.0, 16.5)
+    # the unbalance turns in X-Z (shaft along Y): the fan's mounting moves in both
+    k = res["RUN"].record.tolist().index(node)
+    assert np.abs(res["RUN"].u[:, k, 0]).max() > 0 and np.abs(res["RUN"].u[:, k, 2]).max() > 0
