@@ -67,9 +67,9 @@ def report(tmp_path_factory):
     marked = MARKED
     original = plots.plot_frf
 
-    def spy(path, harm, node, j, natural):
+    def spy(path, harm, node, j, natural, **kw):
         marked[harm.name] = list(natural)
-        return original(path, harm, node, j, natural)
+        return original(path, harm, node, j, natural, **kw)
 
     plots.plot_frf = spy
     try:
