@@ -15,6 +15,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..vibration import QUANTITIES
+
 __all__ = ["COLUMNS", "LimitCheck", "check_limits", "limit_frequencies"]
 
 COLUMNS = ("case", "limit", "quantity", "node", "direction", "amplitude", "rms", "frequency_Hz", "allowed",
@@ -84,8 +86,7 @@ class LimitCheck:
         node, d = self.worst
         k = lim.nodes.index(node)
         return {"limit": self.number, "quantity": lim.quantity, "nodes": [node_names[n] for n in lim.nodes],
-                "value": lim.value, "unit_SI": {"velocity": "m/s", "displacement": "m",
-                                                "acceleration": "m/s^2"}[lim.quantity],
+                "value": lim.value, "unit_SI": QUANTITIES[lim.quantity][0],
                 "value_is_rms": lim.rms, "allowed_amplitude": lim.amplitude,
                 "over_Hz": None if lim.over is None else list(lim.over), "source": lim.source,
                 "frequencies_checked": self.checked, "largest_amplitude": self.largest,

@@ -12,6 +12,7 @@ import re
 from pathlib import Path
 
 from ..analysis.vibration_check import COLUMNS
+from ..vibration import QUANTITIES
 
 __all__ = ["case_entry", "report_rows", "summary_lines", "verdict_line", "write_limit_tables"]
 
@@ -61,8 +62,7 @@ def report_rows(c: dict, ok) -> list[list]:
     `c`; `ok` is the report's pass/fail marker."""
     rows = []
     for e in c.get("vibration_limits") or []:
-        scale = 1e3 if e["quantity"] in ("velocity", "displacement") else 1.0
-        unit = {"velocity": "mm/s", "displacement": "mm", "acceleration": "m/s^2"}[e["quantity"]]
+        _, unit, scale = QUANTITIES[e["quantity"]]
         got = e["largest_rms"] if e["value_is_rms"] else e["largest_amplitude"]
         rows.append([f"limit {e['limit']}: {html.escape(e['text'])} at {html.escape(', '.join(e['nodes'][:6]))}"
                      + (" ..." if len(e["nodes"]) > 6 else ""),
