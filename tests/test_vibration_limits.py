@@ -165,11 +165,13 @@ def test_check_limits_takes_the_largest_over_nodes_and_directions():
     u[1, 0, 1] = 1j
     u[2, 1, 0] = 0.2
     lim = VibrationLimit("velocity", (7, 9), 10.0, over=(1.5, 3.0))
-    (c,) = check_limits("X", [lim], freq, lambda nodes: u)
+    (c,) = check_limits("X", [lim], freq, lambda nodes: u, 10)
     assert c.checked == 2 and c.worst == (7, 1)
     assert c.largest == pytest.approx(2 * np.pi * 2.0)
     assert c.peak[1, 0] == pytest.approx(0.2 * 2 * np.pi * 3.0)
     assert c.ok == (c.largest <= 10.0)
+    with pytest.raises(ValueError, match="node number 9 is not a node of the model"):
+        check_limits("X", [lim], freq, lambda nodes: u, 9)
 
 
 def test_the_rules_of_a_limit_built_in_python():

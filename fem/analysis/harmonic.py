@@ -300,7 +300,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
             u = u - case.ground[None, None, :] / W[:, None, None] ** 2
         return u
 
-    limits = check_limits(case.name, case.limits, freq, translations)
+    limits = check_limits(case.name, case.limits, freq, translations, model.n_nodes)
     # reactions and member end forces: per mode, superposed per frequency, with the static part
     # and, for member loads, minus the fixed-end forces (loads in phase with the excitation)
     Rm, Fm = field_responses(model, asm, shapes.T)

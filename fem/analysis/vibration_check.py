@@ -101,13 +101,16 @@ def limit_frequencies(limits) -> tuple[float, ...]:
     return tuple(sorted({f for lim in limits if lim.over is not None for f in lim.over}))
 
 
-def check_limits(case_name: str, limits, freq, translations) -> tuple[LimitCheck, ...]:
+def check_limits(case_name: str, limits, freq, translations, n_nodes: int) -> tuple[LimitCheck, ...]:
     """Check `limits` on the response at the frequencies `freq` (m,) Hz; `translations(nodes)`
     gives the complex absolute displacement amplitudes (m, len(nodes), 3), m, of those nodes'
-    translations at every frequency."""
+    translations at every frequency; `n_nodes` the model's number of nodes."""
     out = []
     freq = np.asarray(freq, float)
     for i, lim in enumerate(limits):
+        if max(lim.nodes) >= n_nodes:
+            raise ValueError(f"case {case_name}: limit {lim.describe()}: node number {max(lim.nodes)} is not a "
+                             f"node of the model (it has {n_nodes}, numbered from 0)")
         inside = np.ones(len(freq), bool) if lim.over is None else (freq >= lim.over[0]) & (freq <= lim.over[1])
         if not inside.any():
             raise ValueError(f"case {case_name}: limit {lim.describe()}: none of the case's frequencies lies in "
