@@ -21,7 +21,14 @@ class Assembled:
     """Global matrices over all 6 n DOFs, and the free/restrained split.
 
     K, M : (6n, 6n) CSR; R : (e, 3, 3) member local axes; k_local : (e, 12, 12) condensed local K
-    free : (n_free,) indices of unrestrained DOFs; fixed: restrained or inert DOFs
+    free : (n_free,) indices of unrestrained DOFs; fixed: restrained, inert or linked DOFs
+
+    With rigid links (model.links) K and M are the reduced T^T K T and T^T M T of the
+    constraint transformation T (fem.elements.rigid.link_transform), still over all 6 n DOFs:
+    the linked (dependent) DOFs are held among `fixed`, so the one selection of the free DOFs
+    applies supports and links together. Loads enter as T^T f (`carry`), displacements and
+    shapes over the free DOFs leave as T u (`expand`); `link_rows` keeps the rows of the
+    unreduced K at the linked DOFs, from which the link forces are recovered.
     """
 
     K: sp.csr_matrix
@@ -32,6 +39,19 @@ class Assembled:
     free: np.ndarray
     fixed: np.ndarray
     inert: np.ndarray      # DOFs held because nothing (stiffness or mass) acts on them
+    T: sp.csr_matrix | None = None          # (6n, 6n) constraint transformation of rigid links
+    linked: np.ndarray | None = None        # (d,) dependent DOFs of the rigid links
+    link_rows: sp.csr_matrix | None = None  # (d, 6n) rows of the unreduced K at the linked DOFs
+
+    def carry(self, f: np.ndarray) -> np.ndarray:
+        """Loads (6n,) or (6n, m) on all DOFs as loads on the reduced DOFs, T^T f: a load at a
+        linked DOF carried to its reference node (the same force and moment)."""
+        return f if self.T is None else np.asarray(self.T.T @ f)
+
+    def expand(self, u: np.ndarray) -> np.ndarray:
+        """Displacements (6n,) or (6n, m) over the free DOFs (zero elsewhere) as T u: each
+        linked DOF filled from its reference node."""
+        return u if self.T is None else np.asarray(self.T @ u)
 
 
 def element_matrices(model: Model, condense: bool = True, sel=None):
@@ -167,6 +187,8 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
     d6 = np.arange(6) * 7                      # diagonal positions in a flattened 6x6 block
     XK[4 * e:, d6] = model.springs
     XM[4 * e:, d6] = model.point_mass
+    if model.mass_coupling is not None:        # masses placed off their nodes
+        XM[4 * e:] += model.mass_coupling.reshape(n, 36)
     K = pattern.matrix_from_blocks(XK)
     M = pattern.matrix_from_blocks(XM)
     # 6x6 blocks of axis-aligned or truss members hold many exact zeros: dropping them cuts the
@@ -177,11 +199,34 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
     if not all(np.isfinite(X.data).all() and np.abs(X.data).max(initial=0.0) <= HUGE for X in (K, M)):
         raise ModelError("the stiffness or mass matrix overflows (a property or coordinate is far too "
                          "large or too small); check the magnitudes and units in the deck")
+    T = linked = link_rows = None
+    if model.links:
+        K, M, T, linked, link_rows = _reduce_links(model, K, M)
     restrained = model.restraint.ravel()
     # a DOF with no stiffness at all (a truss-only node's rotations, a rotation that only
     # released member ends meet) is held rather than reported as a mechanism, unless a load
     # acts on it (checked by the static solve); its rotary mass, if any, is dropped with it
     inert = (K.diagonal() == 0) & ~restrained
+    if linked is not None:
+        inert[linked] = False
+        restrained = restrained.copy()
+        restrained[linked] = True
     fixed = restrained | inert
     return Assembled(K, M, R, L, k, np.flatnonzero(~fixed), np.flatnonzero(fixed),
-                     np.flatnonzero(inert))
+                     np.flatnonzero(inert), T, linked, link_rows)
+
+
+def _reduce_links(model: Model, K, M):
+    """K and M reduced by the rigid links' transformation T (T^T K T, T^T M T), T, the linked
+    DOFs and the rows of the unreduced K there. The one place links enter the matrices."""
+    from .elements.rigid import link_transform
+
+    T, linked = link_transform(model.coords, model.links)
+    Tt = T.T.tocsr()
+    # symmetric to the last bit (the products sum the two triangles in different orders), as
+    # the banded Cholesky and the eigen solvers read one triangle
+    Kr, Mr = ((0.5 * (X + X.T)).tocsr() for X in (Tt @ K @ T, Tt @ M @ T))
+    for X in (Kr, Mr):
+        X.sum_duplicates()
+        X.eliminate_zeros()
+    return Kr, Mr, T, linked, K[linked]

@@ -123,6 +123,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None,
     shape_rows(case, model, len(modes.omega), len(f))
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
+    shapes = asm.expand(shapes)          # linked nodes follow their reference nodes
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,
                            target, met, n_finite=modes.n_finite)
 
@@ -162,6 +163,7 @@ def residual_static(F: np.ndarray, asm: Assembled, lu, shapes, omega, pk) -> np.
     (mode-acceleration / residual-flexibility correction; Cornwell, Craig & Johnson 1983)."""
     full = np.zeros(len(F))
     full[asm.free] = lu.solve(F[asm.free])
+    full = asm.expand(full)
     pos = omega > 0
     return full - shapes[:, pos] @ (pk[pos] / omega[pos] ** 2)
 

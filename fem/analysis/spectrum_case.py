@@ -103,6 +103,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
             dr = r - phi @ gamma
             umm = np.zeros(n6)
             umm[f] = lu.solve(M @ dr) * factor * sp.zpa()
+            umm = asm.expand(umm)
             Rmm, Fmm = field_responses(model, asm, umm[None])
             rho_x = np.zeros((len(omega) + 1, len(omega) + 1))
             rho_x[:-1, :-1] = rho

@@ -16,6 +16,7 @@ from . import units as U
 from .definitions import Definitions
 from .excitations import model_excitations
 from .expressions import Evaluator
+from .links import check_linked_starts, linked_nodes, mass_coupling, read_links
 from .model_checks import COINCIDENT
 from .plausible import model_warnings
 
@@ -41,15 +42,21 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
     notes.extend(model_checks.leaning_members(mems, axis, cols, up, truss))
     restraint = _restraints(defs, nidx, notes)
     springs = _springs(defs, nidx, restraint, notes)
+    links = read_links(defs, nidx, restraint)
+    linked = linked_nodes(links, len(node_names))
     on_member = np.zeros(len(node_names), bool)
     on_member[conn.ravel()] = True
+    for link in links:          # a node a link carries moves with the structure
+        on_member[link.dependents] = on_member[link.reference] = True
     turned = _rotation_stiffness(coords, conn, truss, releases, cols["roll"], up) > 0 \
         if any((vec[3:] > 0).any() for _, vec, _ in defs.masses) else np.ones((len(node_names), 3), bool)
+    turned = turned | linked[:, 3:]
     pmass = _masses(defs, nidx, restraint, springs, on_member, turned, notes)
     midx = {m["name"]: k for k, m in enumerate(mems)}
     reading = ev.scope()
     cases = [build_case(c, nidx, midx) for c in defs.cases]
     notes.extend(model_checks.loads_on_supports(cases, restraint, node_names))
+    check_linked_starts(cases, linked, node_names)
     used = on_member | restraint.any(axis=1) | (springs > 0).any(axis=1) | (pmass > 0).any(axis=1)
     for c in cases:
         for item in c.loads:
@@ -73,7 +80,8 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
                   member_section=[m["section"][0] for m in mems],
                   member_material=[m["material"][0] for m in mems],
                   groups=member_groups(defs), excitations=model_excitations(defs, nidx),
-                  cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes, **cols)
+                  cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes,
+                  links=links, mass_coupling=mass_coupling(defs, nidx), **cols)
     notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
                                 ev.assume_sites.get(U.LENGTH)))
     return model

@@ -12,6 +12,7 @@ import numpy as np
 from lark import Token, Tree
 
 from ..errors import DeckError, Location, suggest
+from ..geometry import offset_mass
 from ..model import DIRECTIONS, Material, Section
 from ..notes import Note
 from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entry, make_section
@@ -322,17 +323,46 @@ class Statements:
         target, value, *opts = s.children
         m = self.ev.value(value, U.MASS, "mass")
         inertia = np.zeros(3)
+        offset = None
         seen = set()
         for opt in opts:
             self.defs.once(seen, str(opt.children[0]), self.loc(opt), "mass")
+            if str(opt.children[0]) == "offset":
+                offset = self.ev.vector(opt.children[1], U.LENGTH, "mass offset")
+                if np.abs(offset).max() > MAX_COORDINATE:
+                    raise DeckError(f"mass offset of {np.abs(offset).max():.3g} m is beyond any structure",
+                                    self.loc(opt), "check the units of the offset")
+                continue
             if str(opt.children[0]) != "inertia":
-                raise DeckError(f"mass: unknown option '{opt.children[0]}'; use inertia = (Ixx, Iyy, Izz)", self.loc(opt))
+                raise DeckError(f"mass: unknown option '{opt.children[0]}'; use inertia = (Ixx, Iyy, Izz) or "
+                                "offset = (dx, dy, dz)", self.loc(opt))
             inertia = self.ev.vector(opt.children[1], (1, 2, 0), "mass inertia")
         if m < 0 or (inertia < 0).any():
             raise DeckError("a mass or inertia cannot be negative", self.loc(s))
         for v in (m, *inertia):
             not_huge(v, "mass", self.loc(s))
-        self.defs.masses.append((self.fixed_name(target), np.r_[m, m, m, inertia], self.loc(s)))
+        about_node = inertia
+        if offset is not None and offset.any():
+            # the inertia about the node (parallel axes); the coupling terms are built with the model
+            about_node = np.diagonal(offset_mass([m], [inertia], [offset])[0])[3:]
+            self.defs.off_masses.append((self.fixed_name(target), m, inertia, offset, self.loc(s)))
+        self.defs.masses.append((self.fixed_name(target), np.r_[m, m, m, about_node], self.loc(s)))
+
+    def st_link(self, s):
+        """link NAME: REF -> targets [(dirs)]: nodes that follow REF as one rigid body."""
+        name_t, ref, *rest = s.children
+        dirs = rest.pop() if rest and (rest[-1] is None or (isinstance(rest[-1], Tree) and rest[-1].data == "dirs")) \
+            else None
+        name = self.ev.name(name_t)
+        self.defs.define("link", "link", name, self.loc(s))
+        chosen = np.ones(6, bool)
+        if dirs is not None:
+            chosen[:] = False
+            for d in dirs.children:
+                if str(d) not in DIRECTIONS:
+                    raise DeckError(f"link {name}: unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
+                chosen[DIRECTIONS.index(str(d))] = True
+        self.defs.links.append((name, self.fixed_name(ref), [self.fixed_name(t) for t in rest], chosen, self.loc(s)))
 
     def st_group(self, s):
         defs = self.defs

@@ -155,3 +155,6 @@ def write_tables(results, out: Path) -> None:
     from .resonance_out import write_resonance_tables
 
     write_resonance_tables(results, out)
+    from .link_tables import write_link_table
+
+    write_link_table(out, results)

@@ -1,0 +1,88 @@
+"""Rigid links and masses placed off their nodes, from a deck's definitions to the Model's
+`links` and `mass_coupling`, with the checks that keep a link meaningful."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..errors import DeckError
+from ..geometry import offset_mass
+from ..model import DIRECTIONS, Link
+from .definitions import Definitions
+
+__all__ = ["check_linked_starts", "linked_nodes", "mass_coupling", "read_links"]
+
+
+def read_links(defs: Definitions, nidx: dict, restraint: np.ndarray) -> tuple[Link, ...]:
+    """The deck's rigid links. A node follows one link at most and a node that follows a link
+    leads none (chains are written as one link from the first node), and a support cannot
+    hold a linked direction of a dependent node (the reference node is supported instead)."""
+    links, follows, leads = [], {}, {}
+    for name, ref_t, targets, dirs, where in defs.links:
+        ref = defs.targets(ref_t, nidx, "node")
+        if len(ref) != 1:
+            raise DeckError(f"link {name}: the reference must be one node, not a group or pattern of {len(ref)}",
+                            defs.loc(ref_t), "name the node the others follow")
+        ref = ref[0]
+        deps = list(dict.fromkeys(n for t in targets for n in defs.targets(t, nidx, "node")))
+        if ref in deps:
+            raise DeckError(f"link {name}: node {ref} is both the reference and a node that follows it", where,
+                            "leave the reference out of the nodes after the arrow")
+        for nm in deps:
+            if nm in follows:
+                raise DeckError(f"link {name}: node {nm} already follows link {follows[nm][0]} (at {follows[nm][1]}); "
+                                "a node follows one link at most", where,
+                                "join the two links into one, or link the node to one reference only")
+            if nm in leads:
+                raise DeckError(f"link {name}: node {nm} is the reference of link {leads[nm][0]} (at {leads[nm][1]}), "
+                                "so it cannot follow another node", where,
+                                f"link the nodes of {leads[nm][0]} to {ref} directly (one link for the rigid body)")
+            held = restraint[nidx[nm]] & dirs
+            if held.any():
+                shown = ", ".join(d for d, h in zip(DIRECTIONS, held) if h)
+                raise DeckError(f"link {name}: node {nm} follows {ref}, but a support holds it in {shown}", where,
+                                f"support the reference node {ref} instead, or leave {shown} out of the link")
+            follows[nm] = (name, where)
+        if ref in follows:
+            first = follows[ref]
+            raise DeckError(f"link {name}: its reference {ref} follows link {first[0]} (at {first[1]})", where,
+                            f"link these nodes to the reference of {first[0]} directly")
+        leads.setdefault(ref, (name, where))
+        links.append(Link(name, nidx[ref], np.array([nidx[n] for n in deps], dtype=np.int64), dirs.copy(), where))
+    return tuple(links)
+
+
+def linked_nodes(links, n_nodes: int) -> np.ndarray:
+    """(n, 6) bool: the directions in which a node follows a link."""
+    out = np.zeros((n_nodes, 6), bool)
+    for link in links:
+        out[link.dependents] |= link.dirs
+    return out
+
+
+def mass_coupling(defs: Definitions, nidx: dict) -> np.ndarray | None:
+    """(n, 6, 6) off-diagonal terms of the nodal mass blocks of masses placed off their nodes
+    (fem.geometry.offset_mass; the diagonal goes into the point masses), or None."""
+    if not defs.off_masses:
+        return None
+    out = np.zeros((len(nidx), 6, 6))
+    for target, m, inertia, offset, _ in defs.off_masses:
+        block = offset_mass([m], [inertia], [offset])[0]
+        block[np.arange(6), np.arange(6)] = 0.0
+        for nm in defs.targets(target, nidx, "node"):
+            out[nidx[nm]] += block
+    return out
+
+
+def check_linked_starts(cases, linked: np.ndarray, node_names) -> None:
+    """Refuse an initial displacement or velocity of a free case at a linked direction of a
+    node: it moves with its reference node, which is where the start is given."""
+    for c in cases:
+        for item in c.loads:
+            if item.kind in ("displacement", "velocity"):
+                hit = linked[item.targets, :3] & (np.asarray(item.vector) != 0)
+                if hit.any():
+                    k, d = np.argwhere(hit)[0]
+                    raise DeckError(f"case {c.name}: initial {item.kind} in {DIRECTIONS[d]} at node "
+                                    f"{node_names[item.targets[k]]}, which follows a rigid link there",
+                                    item.location, "give the initial values at the link's reference node")

@@ -1,0 +1,55 @@
+"""The forces of rigid links: per static case and combination, the force and moment each link
+exerts on each node that follows it (results.json `link_forces`, link_forces.csv)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+__all__ = ["link_entry", "write_link_table"]
+
+_LABELS = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
+
+
+def _rows(model, r):
+    """(link, node, reference, six values with None where the link does not act) of result r."""
+    if r.links is None:
+        return
+    where = {}
+    k = 0
+    dep = sorted((int(d), j) for j, link in enumerate(model.links) for d in link.dependents)
+    # the linked DOFs are sorted, so a node's directions follow one another in r.links
+    for d, j in dep:
+        on = np.flatnonzero(model.links[j].dirs)
+        vals = [None] * 6
+        for i in on:
+            vals[i] = float(r.links[k])
+            k += 1
+        where[d] = (j, vals)
+    for d, (j, vals) in where.items():
+        link = model.links[j]
+        yield link.name, model.node_names[d], model.node_names[link.reference], vals
+
+
+def link_entry(model, r) -> dict:
+    """results.json's `link_forces` of a static result: link -> node -> [Fx..Mz] (N, N m;
+    null where the link does not act), or nothing for a model without links."""
+    if not model.links or getattr(r, "links", None) is None:
+        return {}
+    out = {link.name: {} for link in model.links}
+    for name, node, _, vals in _rows(model, r):
+        out[name][node] = vals
+    return {"link_forces": out}
+
+
+def write_link_table(out: Path, results) -> None:
+    """link_forces.csv: one row per static case or combination and node that follows a link."""
+    from .tables import write_csv
+
+    model = results.model
+    if not model.links:
+        return
+    write_csv(out / "link_forces.csv", ["case", "link", "node", "reference", *_LABELS],
+              ([r.name, name, node, ref, *("" if v is None else v for v in vals)]
+               for r in results.statics for name, node, ref, vals in _rows(model, r)))
