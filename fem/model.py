@@ -88,6 +88,8 @@ class Model:
         placed off their node: m [r]x between translation and rotation and the products of
         inertia -m r_a r_b (fem.elements.rigid.offset_mass); diagonal zero
     links : rigid links (`Link`), applied as constraints by the assembly
+    offsets : (e, 2, 3) or None, member end offsets: the global vectors from each member's
+        nodes i and j to the ends of its elastic part (rigid arms between), m
     groups : the deck's groups that hold members, name -> member names (deck order; nodes of a
         group of both are left out); a modes case's sensitivities may be reported by them
     excitations : the machines and frequency bands the deck declares (fem.excitation), in deck
@@ -132,6 +134,7 @@ class Model:
     excitations: tuple[Machine | FrequencyBand, ...] = ()
     links: tuple[Link, ...] = ()
     mass_coupling: np.ndarray | None = None
+    offsets: np.ndarray | None = None
 
     @property
     def n_nodes(self) -> int:
@@ -143,7 +146,10 @@ class Model:
 
     @property
     def lengths(self) -> np.ndarray:
+        """Length of each member's elastic part (between its end offsets, if any), m."""
         d = self.coords[self.conn[:, 1]] - self.coords[self.conn[:, 0]]
+        if self.offsets is not None:
+            d = d + self.offsets[:, 1] - self.offsets[:, 0]
         return np.linalg.norm(d, axis=1)
 
     def member_mass(self) -> np.ndarray:

@@ -132,12 +132,11 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None,
 def field_responses(model: Model, asm: Assembled, U: np.ndarray):
     """Elastic reactions (m, n, 6) of supports and springs and member end forces (m, e, 12) in
     local axes of displacement fields U (m, 6n), without any member load (K u only)."""
-    from .. import elements as el
     from .static import support_forces
 
     R = support_forces(model, asm, (asm.K @ U.T).T, U)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
-    T = el.transform_matrix(asm.R)
+    T = asm.member_transform()
     ue = np.einsum("eab,meb->mea", T, U[:, dofs])
     mf = np.einsum("eab,meb->mea", asm.k_local, ue)
     return R.reshape(len(U), -1, 6), mf

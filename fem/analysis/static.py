@@ -86,7 +86,7 @@ def load_vector(model: Model, asm: Assembled, case: LoadCase, carried: bool = Tr
     if rel.any():
         k_full = element_matrices(model, condense=False)[0]
         fe = el.condense_load(k_full, fe, rel)
-    T = el.transform_matrix(asm.R)
+    T = asm.member_transform()
     fg = np.einsum("eba,eb->ea", T, fe)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     _scatter(f, dofs, fg)
@@ -118,7 +118,7 @@ def normalised_stiffness(model: Model, asm: Assembled):
 
     k = asm.k_local
     scale = np.abs(np.diagonal(k, axis1=1, axis2=2)).max(axis=1, initial=0.0)
-    kg = el.to_global(k / np.where(scale > 0, scale, 1.0)[:, None, None], asm.R)
+    kg = asm.to_nodes(k / np.where(scale > 0, scale, 1.0)[:, None, None])
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     n = 6 * model.n_nodes
     rows = np.r_[np.repeat(dofs, 12, axis=1).ravel(), np.arange(n)]
@@ -412,7 +412,7 @@ def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> Stati
     gross = abs(asm.K) @ np.abs(u) + np.abs(f)
     diag, knorm = _scaled_stiffness(asm)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
-    T = el.transform_matrix(asm.R)
+    T = asm.member_transform()
     ue = np.einsum("eab,eb->ea", T, u[dofs])
     mf = np.einsum("eab,eb->ea", asm.k_local, ue) - fe
     applied = loads.reshape(-1, 6)

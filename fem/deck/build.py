@@ -16,7 +16,7 @@ from . import units as U
 from .definitions import Definitions
 from .excitations import model_excitations
 from .expressions import Evaluator
-from .links import check_linked_starts, linked_nodes, mass_coupling, read_links
+from .links import check_linked_starts, end_offsets, linked_nodes, mass_coupling, read_links
 from .model_checks import COINCIDENT
 from .plausible import model_warnings
 
@@ -81,7 +81,8 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
                   member_material=[m["material"][0] for m in mems],
                   groups=member_groups(defs), excitations=model_excitations(defs, nidx),
                   cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes,
-                  links=links, mass_coupling=mass_coupling(defs, nidx), **cols)
+                  links=links, mass_coupling=mass_coupling(defs, nidx),
+                  offsets=end_offsets(mems, coords, conn, cols["roll"], up, tol), **cols)
     notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
                                 ev.assume_sites.get(U.LENGTH)))
     return model

@@ -1,16 +1,16 @@
-"""Rigid links and masses placed off their nodes, from a deck's definitions to the Model's
-`links` and `mass_coupling`, with the checks that keep a link meaningful."""
+"""Rigid links, masses placed off their nodes and member end offsets, from a deck's definitions
+to the Model's `links`, `mass_coupling` and `offsets`, with the checks that keep them meaningful."""
 
 from __future__ import annotations
 
 import numpy as np
 
 from ..errors import DeckError
-from ..geometry import offset_mass
+from ..geometry import local_axes, offset_mass
 from ..model import DIRECTIONS, Link
 from .definitions import Definitions
 
-__all__ = ["check_linked_starts", "linked_nodes", "mass_coupling", "read_links"]
+__all__ = ["check_linked_starts", "end_offsets", "linked_nodes", "mass_coupling", "read_links"]
 
 
 def read_links(defs: Definitions, nidx: dict, restraint: np.ndarray) -> tuple[Link, ...]:
@@ -86,3 +86,27 @@ def check_linked_starts(cases, linked: np.ndarray, node_names) -> None:
                     raise DeckError(f"case {c.name}: initial {item.kind} in {DIRECTIONS[d]} at node "
                                     f"{node_names[item.targets[k]]}, which follows a rigid link there",
                                     item.location, "give the initial values at the link's reference node")
+
+
+def end_offsets(mems, coords, conn, roll, up, tol: float) -> np.ndarray | None:
+    """(e, 2, 3) global offsets of the members' elastic ends from their nodes, or None when no
+    member has one. An offset in local(...) is along the member's axes from its nodes (with its
+    roll and up vector). A member whose elastic part would be shorter than `tol` is refused."""
+    if not any("offsets" in m for m in mems):
+        return None
+    out = np.zeros((len(mems), 2, 3))
+    for k, m in enumerate(mems):
+        for end, (vec, local) in m.get("offsets", {}).items():
+            if local:
+                xi, xj = coords[conn[k, 0]][None], coords[conn[k, 1]][None]
+                given = None if np.isnan(up[k]).any() else up[k][None]
+                R = local_axes(xi, xj, roll=roll[k:k + 1], up=given)[0][0]
+                vec = R.T @ vec
+            out[k, "ij".index(end)] = vec
+    axis = coords[conn[:, 1]] + out[:, 1] - coords[conn[:, 0]] - out[:, 0]
+    short = np.flatnonzero(np.linalg.norm(axis, axis=1) <= tol)
+    if short.size:
+        m = mems[short[0]]
+        raise DeckError(f"member {m['name']}: its end offsets leave its elastic part no length", m["loc"],
+                        "an offset goes from the node to where the member's elastic part starts")
+    return out

@@ -275,17 +275,37 @@ class Statements:
                 m["carried_mass"] = ev.value(val, (1, -1, 0), f"member {name}: carried_mass")
                 if m["carried_mass"] < 0:
                     raise DeckError(f"member {name}: carried_mass (mass per length) cannot be negative", self.loc(opt))
+            elif key in ("offset_i", "offset_j"):
+                m.setdefault("offsets", {})[key[-1]] = self.end_offset(val, f"member {name}: {key}")
             elif key == "nsm":
                 raise DeckError(f"member {name}: 'nsm' is not an option here; the mass per length a member carries "
                                 "without stiffening it (contents, insulation, trays) is written carried_mass",
                                 self.loc(opt.children[0]), "e.g. carried_mass = 12 kg/m")
             else:
-                raise DeckError(f"member {name}: unknown option '{key}'; {suggest(key, ['roll', 'up', 'carried_mass'])}", self.loc(opt))
+                raise DeckError(f"member {name}: unknown option '{key}'; "
+                                f"{suggest(key, ['roll', 'up', 'carried_mass', 'offset_i', 'offset_j'])}", self.loc(opt))
         motion = _released_motion(m["releases"]) if kind == "beam" else None
         if motion:
             raise DeckError(f"member {name}: its end releases let it {motion} with nothing to resist it", self.loc(s),
                             "release a direction at one end only (a hinge keeps the other end's rotations)")
         self.defs.members[name] = m
+
+    def end_offset(self, val, what: str) -> tuple[np.ndarray, bool]:
+        """A member end offset: (dx, dy, dz) in global axes, or local(dx, dy, dz) along the
+        member's own axes (taken from its nodes); returns (vector, local?)."""
+        local = isinstance(val, Tree) and val.data == "call" and str(val.children[0]) == "local"
+        if local:
+            args = val.children[1:]
+            if len(args) != 3:
+                raise DeckError(f"{what}: local(...) needs three lengths along the member's x, y and z, found "
+                                f"{len(args)}", self.loc(val), "e.g. local(150 mm, 0, 0)")
+            vec = np.array([self.ev.value(a, U.LENGTH, what) for a in args])
+        else:
+            vec = self.ev.vector(val, U.LENGTH, what)
+        if np.abs(vec).max() > MAX_COORDINATE:
+            raise DeckError(f"{what}: an offset of {np.abs(vec).max():.3g} m is beyond any structure", self.loc(val),
+                            "check the units of the offset")
+        return vec, local
 
     # ---------- supports, springs, masses, groups
     def st_support(self, s):

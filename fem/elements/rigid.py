@@ -13,7 +13,7 @@ import scipy.sparse as sp
 
 from ..geometry import skew
 
-__all__ = ["arm_transform", "link_transform"]
+__all__ = ["arm_transform", "end_arms", "link_transform"]
 
 
 def arm_transform(arm: np.ndarray) -> np.ndarray:
@@ -24,6 +24,15 @@ def arm_transform(arm: np.ndarray) -> np.ndarray:
     A[..., [0, 1, 2, 3, 4, 5], [0, 1, 2, 3, 4, 5]] = 1.0
     A[..., :3, 3:] = -skew(arm)
     return A
+
+
+def end_arms(offsets: np.ndarray) -> np.ndarray:
+    """(e, 12, 12) block-diagonal rigid-arm transforms diag(A_i, A_j) of member end offsets
+    (e, 2, 3): the motions of a member's elastic ends from those of its nodes (global axes)."""
+    A = arm_transform(offsets)                     # (e, 2, 6, 6)
+    out = np.zeros((len(offsets), 12, 12))
+    out[:, :6, :6], out[:, 6:, 6:] = A[:, 0], A[:, 1]
+    return out
 
 
 def link_transform(coords: np.ndarray, links) -> tuple[sp.csr_matrix, np.ndarray]:
