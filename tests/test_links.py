@@ -362,3 +362,59 @@ def test_mass_only_on_a_linked_node_is_held():
     model = _arm(2.5, 0)
     assert model.point_mass[2, 0] == 100.0
     assert solve_static(model, assemble(model), model.cases[0]).u[2, 2] < 0
+
+
+def test_free_structure_with_a_link_has_six_rigid_body_modes():
+    """Without supports the linked table floats: the mechanism check through the constraints
+    finds exactly the six rigid-body motions (not the block's node, which only links hold), and
+    the modes case gives six modes at 0 Hz then elastic ones (common practice, no source)."""
+    deck = TABLE.format(hard=210, tie=LINKED).replace("support B* fixed", "")
+    deck = "\n".join(line for line in deck.splitlines() if not line.startswith(("case", "combo", "   ")))
+    res = solve(read_text(deck + "\ncase MODES modes { count = 8 }\n"))
+    assert len(res.soundness.rigid) == 6
+    f = res["MODES"].modes.freq
+    assert np.all(f[:6] < 1e-3 * f[6]) and f[6] > 1.0
+    assert res.ok
+
+
+HINGE = """
+material ST { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = rect(b = 50 mm, h = 50 mm)
+node A = (0, 0, 0)
+node B = (2 m, 0, 0)
+node B2 = (2 m, 0, 0)
+node C = (4 m, 0, 0)
+member AB : A -> B beam P ST
+member BC : B2 -> C beam P ST
+support A fixed
+support C fixed
+link HINGE: B -> B2 (ux, uy, uz)
+case MODES modes { count = 4, sensitivity = members }
+"""
+
+
+def test_hinge_between_two_nodes_at_one_place():
+    """A link of translations only between two nodes at one place is a hinge (meant, so not
+    refused as coincident nodes). A fixed-fixed span of 2a hinged at mid-span under a load P
+    at the hinge is two cantilevers of length a sharing it: deflection P a^3 / 6EI, and each
+    side's end turns by (P/2) a^2 / 2EI, the two in opposite senses (Roark, cantilever with
+    an end load); exact to round-off (1e-10). The frequency sensitivities' energy check
+    (2U = lambda, 2T = 1 from the element energies of the full-space shapes) holds to 1e-12."""
+    res = solve(read_text(HINGE + "case LOAD static { force B = (0, 0, -1 kN) }\n"))
+    model = res.model
+    a, P, EI = 2.0, 1000.0, model.E[0] * model.Iy[0]
+    u = res["LOAD"].u
+    assert u[1, 2] == pytest.approx(-P * a**3 / (6 * EI), rel=1e-10)
+    assert u[2, 2] == u[1, 2]
+    assert u[1, 4] == pytest.approx(P / 2 * a**2 / (2 * EI), rel=1e-10)
+    assert u[2, 4] == pytest.approx(-u[1, 4], rel=1e-10)
+    assert np.max(res.sensitivities["MODES"].energy_check) < 1e-12
+    assert res.ok
+
+
+def test_eccentric_mass_sensitivities_balance():
+    """The element energies of a mass off its node (u . B u / 2 with the coupling terms) add up
+    to the modal kinetic energy: the sensitivities' energy check holds to 1e-12."""
+    res = solve(read_text(ECCENTRIC.format(e=0.6, h=0.4, iy=40.0).replace("count = 6", "count = 6, sensitivity = members")),
+                cases=["MODES"])
+    assert np.max(res.sensitivities["MODES"].energy_check) < 1e-12

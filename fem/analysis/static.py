@@ -125,6 +125,8 @@ def normalised_stiffness(model: Model, asm: Assembled):
     cols = np.r_[np.tile(dofs, (1, 12)).ravel(), np.arange(n)]
     vals = np.r_[kg.ravel(), (model.springs.ravel() > 0).astype(float)]
     Kn = sp.coo_matrix((vals, (rows, cols)), shape=(n, n)).tocsr()
+    if asm.T is not None:           # through the rigid links, as K itself
+        Kn = (asm.T.T @ Kn @ asm.T).tocsr()
     return Kn[asm.free][:, asm.free]
 
 

@@ -62,7 +62,8 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
         for item in c.loads:
             if item.kind in ("force", "moment", "displacement", "velocity"):
                 used[item.targets] = True
-    notes.extend(model_checks.coincident_nodes(defs.nodes, node_names, coords, tol, used))
+    joined = {(min(lk.reference, d), max(lk.reference, d)) for lk in links for d in lk.dependents.tolist()}
+    notes.extend(model_checks.coincident_nodes(defs.nodes, node_names, coords, tol, used, joined))
     names = {c.name for c in cases if c.kind == "static"}
     combos = []
     for nm, tree, where, scope in defs.combos:

@@ -13,7 +13,7 @@ import scipy.sparse as sp
 
 from ..geometry import skew
 
-__all__ = ["arm_transform", "end_arms", "link_transform"]
+__all__ = ["arm_transform", "end_arms", "forces_at_nodes", "link_transform"]
 
 
 def arm_transform(arm: np.ndarray) -> np.ndarray:
@@ -33,6 +33,18 @@ def end_arms(offsets: np.ndarray) -> np.ndarray:
     out = np.zeros((len(offsets), 12, 12))
     out[:, :6, :6], out[:, 6:, 6:] = A[:, 0], A[:, 1]
     return out
+
+
+def forces_at_nodes(member_forces: np.ndarray, offsets: np.ndarray, R: np.ndarray) -> np.ndarray:
+    """End forces (..., e, 12) of members with end offsets (e, 2, 3) and axes R (e, 3, 3), in
+    local axes at their elastic ends, carried along the rigid arms to the nodes: the same
+    forces, and moments M + o x F with o the offset in local axes (statics of a rigid arm)."""
+    o = np.einsum("eab,ekb->eka", R, offsets)                    # (e, 2, 3) local offsets
+    f = np.array(member_forces, dtype=float, copy=True)
+    for end in (0, 1):
+        F = f[..., 6 * end:6 * end + 3]
+        f[..., 6 * end + 3:6 * end + 6] += np.cross(o[:, end], F)
+    return f
 
 
 def link_transform(coords: np.ndarray, links) -> tuple[sp.csr_matrix, np.ndarray]:

@@ -1,5 +1,6 @@
 """The forces of rigid links: per static case and combination, the force and moment each link
-exerts on each node that follows it (results.json `link_forces`, link_forces.csv)."""
+exerts on each node that follows it (results.json `link_forces`, link_forces.csv); and the end
+forces of members with end offsets carried to their nodes (member_node_forces.csv)."""
 
 from __future__ import annotations
 
@@ -7,7 +8,7 @@ from pathlib import Path
 
 import numpy as np
 
-__all__ = ["link_entry", "write_link_table"]
+__all__ = ["link_entry", "write_link_table", "write_offset_table"]
 
 _LABELS = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
 
@@ -53,3 +54,24 @@ def write_link_table(out: Path, results) -> None:
     write_csv(out / "link_forces.csv", ["case", "link", "node", "reference", *_LABELS],
               ([r.name, name, node, ref, *("" if v is None else v for v in vals)]
                for r in results.statics for name, node, ref, vals in _rows(model, r)))
+
+
+def write_offset_table(out: Path, results, R: np.ndarray) -> None:
+    """member_node_forces.csv: the end forces of each member with an end offset, per static case
+    and combination, at its nodes (member_forces.csv has them at the elastic ends), local axes
+    R (e, 3, 3) of the elastic part."""
+    from ..elements.rigid import forces_at_nodes
+    from .tables import END_FORCES, write_csv
+
+    model = results.model
+    if model.offsets is None:
+        return
+    moved = np.flatnonzero(np.abs(model.offsets).max(axis=(1, 2)) > 0)
+    rows = []
+    for r in results.statics:
+        f = forces_at_nodes(r.member_forces[moved], model.offsets[moved], R[moved])
+        for k, m in enumerate(moved):
+            for e, end in enumerate("ij"):
+                rows.append([r.name, model.member_names[m], end, model.node_names[model.conn[m, e]],
+                             *map(float, f[k, 6 * e:6 * e + 6])])
+    write_csv(out / "member_node_forces.csv", ["case", "member", "end", "node", *END_FORCES], rows)
