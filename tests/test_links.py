@@ -418,3 +418,13 @@ def test_eccentric_mass_sensitivities_balance():
     res = solve(read_text(ECCENTRIC.format(e=0.6, h=0.4, iy=40.0).replace("count = 6", "count = 6, sensitivity = members")),
                 cases=["MODES"])
     assert np.max(res.sensitivities["MODES"].energy_check) < 1e-12
+
+
+def test_inertia_at_a_reference_node_is_not_called_idle():
+    """The block's rotary inertia at E, which only the link holds, is kept by the assembly (its
+    rotations have stiffness through the link), so no note says it is left out."""
+    model = read_text(TABLE.format(hard=210, tie=LINKED))
+    assert not [w for w in model.warnings if "rotary inertia" in str(w)]
+    asm = assemble(model)
+    e = model.node_names.index("E")
+    assert not set(range(6 * e + 3, 6 * e + 6)) & set(asm.inert)

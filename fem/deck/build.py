@@ -50,7 +50,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
         on_member[link.dependents] = on_member[link.reference] = True
     turned = _rotation_stiffness(coords, conn, truss, releases, cols["roll"], up) > 0 \
         if any((vec[3:] > 0).any() for _, vec, _ in defs.masses) else np.ones((len(node_names), 3), bool)
-    turned = turned | linked[:, 3:]
+    turned = turned | linked[:, 3:] | _turned_by_links(links, coords)
     pmass = _masses(defs, nidx, restraint, springs, on_member, turned, notes)
     midx = {m["name"]: k for k, m in enumerate(mems)}
     reading = ev.scope()
@@ -275,6 +275,18 @@ def _rotation_stiffness(coords, conn, truss, releases, roll, up) -> np.ndarray:
         kept = ~releases[beams, first:first + 3]
         np.add.at(out, conn[beams, end], np.einsum("bl,blg->bg", kept.astype(float), R ** 2))
     out[out < 1e-12] = 0.0      # round-off of the axes of members along global axes
+    return out
+
+
+def _turned_by_links(links, coords) -> np.ndarray:
+    """(n, 3) bool: the rotations of the links' reference nodes that their followers hold,
+    through linked rotations or through linked translations at an arm (all three, a
+    conservative reading for the inertia note)."""
+    out = np.zeros((len(coords), 3), bool)
+    for link in links:
+        arm = np.abs(coords[link.dependents] - coords[link.reference]).max(initial=0.0) > 0
+        if link.dirs[3:].any() or (arm and link.dirs[:3].any()):
+            out[link.reference] = True
     return out
 
 
