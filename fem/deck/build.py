@@ -16,7 +16,7 @@ from . import units as U
 from .definitions import Definitions
 from .excitations import model_excitations
 from .expressions import Evaluator
-from .links import check_linked_starts, end_offsets, linked_nodes, mass_coupling, read_links
+from .links import check_linked_starts, end_offsets, linked_nodes, mass_coupling, read_links, supported_references
 from .model_checks import COINCIDENT
 from .plausible import model_warnings
 
@@ -57,6 +57,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
     cases = [build_case(c, nidx, midx) for c in defs.cases]
     notes.extend(model_checks.loads_on_supports(cases, restraint, node_names))
     check_linked_starts(cases, linked, node_names)
+    notes.extend(supported_references(links, restraint, pmass, conn, cases, node_names))
     used = on_member | restraint.any(axis=1) | (springs > 0).any(axis=1) | (pmass > 0).any(axis=1)
     for c in cases:
         for item in c.loads:

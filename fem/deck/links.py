@@ -8,9 +8,10 @@ import numpy as np
 from ..errors import DeckError
 from ..geometry import local_axes, offset_mass
 from ..model import DIRECTIONS, Link
+from ..notes import Note
 from .definitions import Definitions
 
-__all__ = ["check_linked_starts", "end_offsets", "linked_nodes", "mass_coupling", "read_links"]
+__all__ = ["check_linked_starts", "end_offsets", "linked_nodes", "mass_coupling", "read_links", "supported_references"]
 
 
 def read_links(defs: Definitions, nidx: dict, restraint: np.ndarray) -> tuple[Link, ...]:
@@ -109,4 +110,27 @@ def end_offsets(mems, coords, conn, roll, up, tol: float) -> np.ndarray | None:
         m = mems[short[0]]
         raise DeckError(f"member {m['name']}: its end offsets leave its elastic part no length", m["loc"],
                         "an offset goes from the node to where the member's elastic part starts")
+    return out
+
+
+def supported_references(links, restraint, pmass, conn, cases, node_names) -> list[Note]:
+    """A note for each link whose reference node a support holds while mass follows it (a point
+    mass or a member at a follower) in a deck with response cases: their reactions there are
+    the elastic forces K u (as at every support), which leave out the inertia the link carries
+    from its followers' masses into the support."""
+    dynamic = [c.name for c in cases if c.kind in ("free", "history", "harmonic", "spectrum")]
+    if not dynamic:
+        return []
+    out = []
+    carried = (pmass > 0).any(axis=1)
+    carried[conn.ravel()] = True
+    for link in links:
+        held = restraint[link.reference]
+        if held.any() and carried[link.dependents].any():
+            dirs = ", ".join(d for d, h in zip(DIRECTIONS, held) if h)
+            out.append(Note(link.location, f"link {link.name}: its reference node {node_names[link.reference]} is "
+                            f"supported ({dirs}) and mass follows the link, so the reactions of the response cases "
+                            f"({', '.join(dynamic)}) at that node leave out the inertia of that mass (reactions are "
+                            "the elastic forces K u); displacements, member forces and static reactions are exact; "
+                            "to see those forces, put the support at a node the followers reach through members"))
     return out
