@@ -149,6 +149,7 @@ BAD = [
     ("offset_i = (1, 0, 0)", "length"),
     ("offset_k = (1 m, 0, 0)", "did you mean .offset_j. or .offset_i."),
     ("offset_i = (0, 0, 1 m) offset_i = (0, 0, 1 m)", "given twice"),
+    ("offset_i = (0, 0, 1 m)", "no end offsets"),
 ]
 
 
@@ -159,8 +160,21 @@ material ST {{ E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }}
 section P = rect(b = 50 mm, h = 50 mm)
 node A = (0, 0, 0)
 node B = (3 m, 0, 0)
-member AB : A -> B beam P ST {opt}
+member AB : A -> B {"truss" if "no end offsets" in words else "beam"} P ST {opt}
 support A fixed
 """
     with pytest.raises(DeckError, match=words):
         read_text(deck)
+
+
+def test_offset_with_an_end_release_equals_extra_nodes():
+    """An end release acts at the elastic end: a member offset at j and hinged there equals the
+    member between extra nodes, hinged at the same end, linked to the nodes (round-off, 1e-10)."""
+    rel = "release j (ry, rz)"
+    off = OFFSET.replace("up = (0, 0, 1)", f"up = (0, 0, 1) {rel}")
+    ext = _extra_nodes().replace("up = (0, 0, 1)", f"up = (0, 0, 1) {rel}")
+    a, b = (solve(read_text(BASE.format(members=m)), cases=["LOAD", "MODES"]) for m in (off, ext))
+    assert a["LOAD"].u[:3] == pytest.approx(b["LOAD"].u[:3], abs=1e-10 * np.abs(b["LOAD"].u).max())
+    assert a["LOAD"].member_forces == pytest.approx(b["LOAD"].member_forces,
+                                                    abs=1e-10 * np.abs(b["LOAD"].member_forces).max())
+    assert a["MODES"].modes.freq == pytest.approx(b["MODES"].modes.freq, rel=1e-10)

@@ -284,6 +284,9 @@ class Statements:
             else:
                 raise DeckError(f"member {name}: unknown option '{key}'; "
                                 f"{suggest(key, ['roll', 'up', 'carried_mass', 'offset_i', 'offset_j'])}", self.loc(opt))
+        if kind == "truss" and "offsets" in m:
+            raise DeckError(f"member {name}: a truss member carries its force along the line between its nodes, so "
+                            "it takes no end offsets", self.loc(s), "make it a beam, or move its nodes")
         motion = _released_motion(m["releases"]) if kind == "beam" else None
         if motion:
             raise DeckError(f"member {name}: its end releases let it {motion} with nothing to resist it", self.loc(s),
