@@ -456,3 +456,12 @@ case MODES modes { count = 4 }
                             "step = 0.001 s, damping = 2 percent }\n")
     (w,) = [w for w in loud.warnings if "link ARM" in str(w)]
     assert "leave out the inertia" in str(w) and w.location.line == 13
+
+
+def test_mass_on_a_follower_free_in_a_direction_is_refused():
+    """A follower tied by ux only, with nothing else at it: its mass would be held (dropped) in
+    uy and uz, so the reader refuses it, naming the directions."""
+    deck = ARM.format(cx=2.5, cy=0).replace("link ARM: B -> C", "link ARM: B -> C (ux)")
+    deck = "\n".join(line for line in deck.splitlines() if not line.startswith("case"))
+    with pytest.raises(DeckError, match=r"mass on node C.*uy, uz"):
+        read_text(deck)

@@ -423,16 +423,13 @@ def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> Stati
                         link_forces(asm, u, loads))
 
 
-def link_forces(asm: Assembled, u: np.ndarray, loads: np.ndarray, inertia: np.ndarray | None = None):
-    """Forces the rigid links exert on their dependent nodes, (..., d) at the linked DOFs
-    (`asm.linked`), N / N m, or None without links: what the unreduced equilibrium there
-    lacks, K u - f (+ M a for a moving structure, `inertia` the M a of the linked rows).
-    `u`, `loads` (..., 6n) over all DOFs (u expanded)."""
+def link_forces(asm: Assembled, u: np.ndarray, loads: np.ndarray):
+    """Forces the rigid links exert on the nodes that follow them, (d,) at the linked DOFs
+    (`asm.linked`), N / N m, or None without links: what the unreduced static equilibrium
+    there lacks, K u - f, with u (6n,) expanded and f (6n,) the loads where they act."""
     if asm.link_rows is None:
         return None
-    out = (asm.link_rows @ np.moveaxis(u, -1, 0)).T if u.ndim > 1 else asm.link_rows @ u
-    out = out - loads[..., asm.linked]
-    return out if inertia is None else out + inertia
+    return asm.link_rows @ u - loads[asm.linked]
 
 
 def _scaled_stiffness(asm: Assembled):

@@ -46,12 +46,13 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
     linked = linked_nodes(links, len(node_names))
     on_member = np.zeros(len(node_names), bool)
     on_member[conn.ravel()] = True
-    for link in links:          # a node a link carries moves with the structure
-        on_member[link.dependents] = on_member[link.reference] = True
+    for link in links:          # a link's reference node moves with the nodes that follow it
+        on_member[link.reference] = True
     turned = _rotation_stiffness(coords, conn, truss, releases, cols["roll"], up) > 0 \
         if any((vec[3:] > 0).any() for _, vec, _ in defs.masses) else np.ones((len(node_names), 3), bool)
     turned = turned | linked[:, 3:] | _turned_by_links(links, coords)
-    pmass = _masses(defs, nidx, restraint, springs, on_member, turned, notes)
+    # a follower's linked directions move with its reference node, as if held for its mass
+    pmass = _masses(defs, nidx, restraint | linked, springs, on_member, turned, notes)
     midx = {m["name"]: k for k, m in enumerate(mems)}
     reading = ev.scope()
     cases = [build_case(c, nidx, midx) for c in defs.cases]
