@@ -465,3 +465,12 @@ def test_mass_on_a_follower_free_in_a_direction_is_refused():
     deck = "\n".join(line for line in deck.splitlines() if not line.startswith("case"))
     with pytest.raises(DeckError, match=r"mass on node C.*uy, uz"):
         read_text(deck)
+
+
+def test_report_rows_name_the_largest_link_force():
+    from fem.output.report import _link_rows
+
+    entry = {"link_forces": {"ARM": {"C": [3000.0, 4000.0, None, 0.0, 0.0, 1500.0], "D": [0.0, 1000.0, 0.0, 0, 0, 0]}}}
+    (row,) = _link_rows(entry)
+    assert row[0].startswith("link ARM") and row[1] == "5 kN at C, moment 1.5 kN m at C"
+    assert _link_rows({"name": "X"}) == []
