@@ -27,8 +27,8 @@ class Assembled:
     constraint transformation T (fem.elements.rigid.link_transform), still over all 6 n DOFs:
     the linked (dependent) DOFs are held among `fixed`, so the one selection of the free DOFs
     applies supports and links together. Loads enter as T^T f (`carry`), displacements and
-    shapes over the free DOFs leave as T u (`expand`); `link_rows` keeps the rows of the
-    unreduced K at the linked DOFs, from which the link forces are recovered.
+    shapes over the free DOFs leave as T u (`expand`); `link_rows` and `link_mass` keep the
+    rows of the unreduced K and M at the linked DOFs, from which the link forces are recovered.
     """
 
     K: sp.csr_matrix
@@ -42,6 +42,7 @@ class Assembled:
     T: sp.csr_matrix | None = None          # (6n, 6n) constraint transformation of rigid links
     linked: np.ndarray | None = None        # (d,) dependent DOFs of the rigid links
     link_rows: sp.csr_matrix | None = None  # (d, 6n) rows of the unreduced K at the linked DOFs
+    link_mass: sp.csr_matrix | None = None  # (d, 6n) rows of the unreduced M at the linked DOFs
     arms: np.ndarray | None = None          # (e, 12, 12) rigid arms of member end offsets, see member_transform
 
     def carry(self, f: np.ndarray) -> np.ndarray:
@@ -228,9 +229,9 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
     if not all(np.isfinite(X.data).all() and np.abs(X.data).max(initial=0.0) <= HUGE for X in (K, M)):
         raise ModelError("the stiffness or mass matrix overflows (a property or coordinate is far too "
                          "large or too small); check the magnitudes and units in the deck")
-    T = linked = link_rows = None
+    T = linked = link_rows = link_mass = None
     if model.links:
-        K, M, T, linked, link_rows = _reduce_links(model, K, M)
+        K, M, T, linked, link_rows, link_mass = _reduce_links(model, K, M)
     restrained = model.restraint.ravel()
     # a DOF with no stiffness at all (a truss-only node's rotations, a rotation that only
     # released member ends meet) is held rather than reported as a mechanism, unless a load
@@ -242,12 +243,12 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
         restrained[linked] = True
     fixed = restrained | inert
     return Assembled(K, M, R, L, k, np.flatnonzero(~fixed), np.flatnonzero(fixed),
-                     np.flatnonzero(inert), T, linked, link_rows, arms)
+                     np.flatnonzero(inert), T, linked, link_rows, link_mass, arms)
 
 
 def _reduce_links(model: Model, K, M):
     """K and M reduced by the rigid links' transformation T (T^T K T, T^T M T), T, the linked
-    DOFs and the rows of the unreduced K there. The one place links enter the matrices."""
+    DOFs and the rows of the unreduced K and M there. The one place links enter the matrices."""
     from .elements.rigid import link_transform
 
     T, linked = link_transform(model.coords, model.links)
@@ -258,4 +259,4 @@ def _reduce_links(model: Model, K, M):
     for X in (Kr, Mr):
         X.sum_duplicates()
         X.eliminate_zeros()
-    return Kr, Mr, T, linked, K[linked]
+    return Kr, Mr, T, linked, K[linked], M[linked]

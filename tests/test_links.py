@@ -474,3 +474,61 @@ def test_report_rows_name_the_largest_link_force():
     (row,) = _link_rows(entry)
     assert row[0].startswith("link ARM") and row[1] == "5 kN at C, moment 1.5 kN m at C"
     assert _link_rows({"name": "X"}) == []
+
+
+def test_spectrum_link_force_is_the_equivalent_static_force_of_the_mass():
+    """A mass m that only a link holds (on an arm off a massless column top): in each mode the
+    link must give it its equivalent static force m Gamma_n phi_n A_n (Chopra, Dynamics of
+    Structures, 4th ed., sec. 13.1, s_n = Gamma_n M phi_n, peak A_n = Sa(T_n)), combined over
+    the modes by SRSS (sec. 13.7). Gamma, phi and Sa are read from the solve; 1e-10 relative
+    (the same arithmetic by another route). The missing-mass term is off (all modes kept)."""
+    deck = """
+material ST { E = 210 GPa, nu = 0.3, density = 0 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.1 mm)
+node A = (0, 0, 0)
+node T = (0, 0, 3 m)
+node C = (0.7 m, 0.4 m, 3.5 m)
+member COL : A -> T beam P ST
+support A fixed
+link ARM: T -> C
+mass C = 600 kg
+case MODES modes { count = 3 }
+case QUAKE spectrum { curve = plateau(0.3 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (1, 0, 0), combine = srss,
+                      damping = 5 percent, modes = MODES }
+"""
+    res = solve(read_text(deck))
+    assert res.ok
+    m, modes, q = 600.0, res["MODES"], res["QUAKE"]
+    phi = modes.shapes[2, :3]                         # (3, k) translations of C
+    s = m * phi * modes.part.gamma[:, 0] * q.sa[0]     # (3, k) equivalent static forces on C
+    expected = np.sqrt((s**2).sum(axis=1))
+    assert q.links[:3] == pytest.approx(expected, rel=1e-10)
+
+
+def test_spectrum_link_force_with_the_missing_mass():
+    """With one mode kept and the missing-mass term on, the mass's rigid part (1 - sum Gamma phi)
+    moves with the ground at the zero-period acceleration (the missing-mass correction, e.g.
+    Gupta, Response Spectrum Method in Seismic Analysis and Design of Structures, 1990, from
+    memory): its link force is m (r - Gamma_1 phi_1) a_zpa, combined with the mode's by SRSS as
+    one more uncorrelated term (as the spectrum case combines its missing-mass term); 1e-10."""
+    deck = """
+material ST { E = 210 GPa, nu = 0.3, density = 0 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.1 mm)
+node A = (0, 0, 0)
+node T = (0, 0, 3 m)
+node C = (0.7 m, 0.4 m, 3.5 m)
+member COL : A -> T beam P ST
+support A fixed
+link ARM: T -> C
+mass C = 600 kg
+case MODES modes { count = 1 }
+case QUAKE spectrum { curve = plateau(0.3 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (1, 0, 0), combine = srss,
+                      damping = 5 percent, modes = MODES, missing = on }
+"""
+    res = solve(read_text(deck))
+    m, modes, q = 600.0, res["MODES"], res["QUAKE"]
+    phi, g = modes.shapes[2, :3, 0], modes.part.gamma[0, 0]
+    zpa = res.definition("QUAKE").spectrum.zpa()
+    modal = m * phi * g * q.sa[0, 0]
+    rigid = m * (np.array([1.0, 0, 0]) - g * phi) * zpa
+    assert q.links[:3] == pytest.approx(np.sqrt(modal**2 + rigid**2), rel=1e-10)

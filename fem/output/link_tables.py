@@ -34,8 +34,8 @@ def _rows(model, r):
 
 
 def link_entry(model, r) -> dict:
-    """results.json's `link_forces` of a static result: link -> node -> [Fx..Mz] (N, N m;
-    null where the link does not act), or nothing for a model without links."""
+    """results.json's `link_forces` of a static or spectrum result: link -> node -> [Fx..Mz]
+    (N, N m; null where the link does not act), or nothing for a model without links."""
     if not model.links or getattr(r, "links", None) is None:
         return {}
     out = {link.name: {} for link in model.links}
@@ -45,7 +45,8 @@ def link_entry(model, r) -> dict:
 
 
 def write_link_table(out: Path, results) -> None:
-    """link_forces.csv: one row per static case or combination and node that follows a link."""
+    """link_forces.csv: one row per static case, combination or spectrum case and node that
+    follows a link (a spectrum case's rows are combined peaks, >= 0)."""
     from .tables import write_csv
 
     model = results.model
@@ -53,7 +54,7 @@ def write_link_table(out: Path, results) -> None:
         return
     write_csv(out / "link_forces.csv", ["case", "link", "node", "reference", *_LABELS],
               ([r.name, name, node, ref, *("" if v is None else v for v in vals)]
-               for r in results.statics for name, node, ref, vals in _rows(model, r)))
+               for r in [*results.statics, *results.of_kind("spectrum")] for name, node, ref, vals in _rows(model, r)))
 
 
 def write_offset_table(out: Path, results, R: np.ndarray) -> None:

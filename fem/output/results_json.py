@@ -132,7 +132,7 @@ def _spectrum(results, r) -> dict:
             "damping_ratio": r.zeta.tolist(), "period_s": r.periods.tolist(),
             "sa_m_s2": r.sa.tolist(), "damping_factor": r.damping_factor.tolist(),
             "base_reaction": dict(zip(REACTIONS, map(float, r.base))),
-            "max_displacement_m": float(r.u[:, :3].max()),
+            "max_displacement_m": float(r.u[:, :3].max()), **link_entry(results.model, r),
             "checks": results.checks.cases[r.name]}
 
 
