@@ -4,14 +4,55 @@ to the Model's `links`, `mass_coupling` and `offsets`, with the checks that keep
 from __future__ import annotations
 
 import numpy as np
+from lark import Tree
 
-from ..errors import DeckError
+from ..errors import DeckError, suggest
 from ..geometry import local_axes, offset_mass
 from ..model import DIRECTIONS, Link
 from ..notes import Note
+from . import units as U
 from .definitions import Definitions
 
-__all__ = ["check_linked_starts", "end_offsets", "linked_nodes", "mass_coupling", "read_links", "supported_references"]
+__all__ = ["check_linked_starts", "end_offset", "end_offsets", "link_statement", "linked_nodes", "mass_coupling",
+           "read_links", "supported_references"]
+
+
+def link_statement(st, s) -> None:
+    """link NAME: REF -> targets [(dirs)]: nodes that follow REF as one rigid body, recorded
+    in the definitions of the statements `st` (fem.deck.statements.Statements)."""
+    name_t, ref, *rest = s.children
+    dirs = rest.pop() if rest and (rest[-1] is None or (isinstance(rest[-1], Tree) and rest[-1].data == "dirs")) \
+        else None
+    name = st.ev.name(name_t)
+    st.defs.define("link", "link", name, st.loc(s))
+    chosen = np.ones(6, bool)
+    if dirs is not None:
+        chosen[:] = False
+        for d in dirs.children:
+            if str(d) not in DIRECTIONS:
+                raise DeckError(f"link {name}: unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", st.loc(d))
+            chosen[DIRECTIONS.index(str(d))] = True
+    st.defs.links.append((name, st.fixed_name(ref), [st.fixed_name(t) for t in rest], chosen, st.loc(s)))
+
+
+def end_offset(st, val, what: str) -> tuple[np.ndarray, bool]:
+    """A member end offset: (dx, dy, dz) in global axes, or local(dx, dy, dz) along the
+    member's own axes (taken from its nodes); returns (vector, local?)."""
+    from .statements import MAX_COORDINATE
+
+    local = isinstance(val, Tree) and val.data == "call" and str(val.children[0]) == "local"
+    if local:
+        args = val.children[1:]
+        if len(args) != 3:
+            raise DeckError(f"{what}: local(...) needs three lengths along the member's x, y and z, found "
+                            f"{len(args)}", st.loc(val), "e.g. local(150 mm, 0, 0)")
+        vec = np.array([st.ev.value(a, U.LENGTH, what) for a in args])
+    else:
+        vec = st.ev.vector(val, U.LENGTH, what)
+    if np.abs(vec).max() > MAX_COORDINATE:
+        raise DeckError(f"{what}: an offset of {np.abs(vec).max():.3g} m is beyond any structure", st.loc(val),
+                        "check the units of the offset")
+    return vec, local
 
 
 def read_links(defs: Definitions, nidx: dict, restraint: np.ndarray) -> tuple[Link, ...]:

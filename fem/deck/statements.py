@@ -19,6 +19,7 @@ from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entr
 from . import units as U
 from .definitions import Definitions
 from .excitations import excitation_statement
+from .links import end_offset, link_statement
 from .expressions import WILD, Evaluator
 from .sources import Sources, file_name
 
@@ -276,7 +277,7 @@ class Statements:
                 if m["carried_mass"] < 0:
                     raise DeckError(f"member {name}: carried_mass (mass per length) cannot be negative", self.loc(opt))
             elif key in ("offset_i", "offset_j"):
-                m.setdefault("offsets", {})[key[-1]] = self.end_offset(val, f"member {name}: {key}")
+                m.setdefault("offsets", {})[key[-1]] = end_offset(self, val, f"member {name}: {key}")
             elif key == "nsm":
                 raise DeckError(f"member {name}: 'nsm' is not an option here; the mass per length a member carries "
                                 "without stiffening it (contents, insulation, trays) is written carried_mass",
@@ -292,23 +293,6 @@ class Statements:
             raise DeckError(f"member {name}: its end releases let it {motion} with nothing to resist it", self.loc(s),
                             "release a direction at one end only (a hinge keeps the other end's rotations)")
         self.defs.members[name] = m
-
-    def end_offset(self, val, what: str) -> tuple[np.ndarray, bool]:
-        """A member end offset: (dx, dy, dz) in global axes, or local(dx, dy, dz) along the
-        member's own axes (taken from its nodes); returns (vector, local?)."""
-        local = isinstance(val, Tree) and val.data == "call" and str(val.children[0]) == "local"
-        if local:
-            args = val.children[1:]
-            if len(args) != 3:
-                raise DeckError(f"{what}: local(...) needs three lengths along the member's x, y and z, found "
-                                f"{len(args)}", self.loc(val), "e.g. local(150 mm, 0, 0)")
-            vec = np.array([self.ev.value(a, U.LENGTH, what) for a in args])
-        else:
-            vec = self.ev.vector(val, U.LENGTH, what)
-        if np.abs(vec).max() > MAX_COORDINATE:
-            raise DeckError(f"{what}: an offset of {np.abs(vec).max():.3g} m is beyond any structure", self.loc(val),
-                            "check the units of the offset")
-        return vec, local
 
     # ---------- supports, springs, masses, groups
     def st_support(self, s):
@@ -372,20 +356,7 @@ class Statements:
         self.defs.masses.append((self.fixed_name(target), np.r_[m, m, m, about_node], self.loc(s)))
 
     def st_link(self, s):
-        """link NAME: REF -> targets [(dirs)]: nodes that follow REF as one rigid body."""
-        name_t, ref, *rest = s.children
-        dirs = rest.pop() if rest and (rest[-1] is None or (isinstance(rest[-1], Tree) and rest[-1].data == "dirs")) \
-            else None
-        name = self.ev.name(name_t)
-        self.defs.define("link", "link", name, self.loc(s))
-        chosen = np.ones(6, bool)
-        if dirs is not None:
-            chosen[:] = False
-            for d in dirs.children:
-                if str(d) not in DIRECTIONS:
-                    raise DeckError(f"link {name}: unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
-                chosen[DIRECTIONS.index(str(d))] = True
-        self.defs.links.append((name, self.fixed_name(ref), [self.fixed_name(t) for t in rest], chosen, self.loc(s)))
+        link_statement(self, s)
 
     def st_group(self, s):
         defs = self.defs
