@@ -21,7 +21,14 @@ class Assembled:
     """Global matrices over all 6 n DOFs, and the free/restrained split.
 
     K, M : (6n, 6n) CSR; R : (e, 3, 3) member local axes; k_local : (e, 12, 12) condensed local K
-    free : (n_free,) indices of unrestrained DOFs; fixed: restrained or inert DOFs
+    free : (n_free,) indices of unrestrained DOFs; fixed: restrained, inert or linked DOFs
+
+    With rigid links (model.links) K and M are the reduced T^T K T and T^T M T of the
+    constraint transformation T (fem.elements.rigid.link_transform), still over all 6 n DOFs:
+    the linked (dependent) DOFs are held among `fixed`, so the one selection of the free DOFs
+    applies supports and links together. Loads enter as T^T f (`carry`), displacements and
+    shapes over the free DOFs leave as T u (`expand`); `link_rows` and `link_mass` keep the
+    rows of the unreduced K and M at the linked DOFs, from which the link forces are recovered.
     """
 
     K: sp.csr_matrix
@@ -32,6 +39,36 @@ class Assembled:
     free: np.ndarray
     fixed: np.ndarray
     inert: np.ndarray      # DOFs held because nothing (stiffness or mass) acts on them
+    T: sp.csr_matrix | None = None          # (6n, 6n) constraint transformation of rigid links
+    linked: np.ndarray | None = None        # (d,) dependent DOFs of the rigid links
+    link_rows: sp.csr_matrix | None = None  # (d, 6n) rows of the unreduced K at the linked DOFs
+    link_mass: sp.csr_matrix | None = None  # (d, 6n) rows of the unreduced M at the linked DOFs
+    arms: np.ndarray | None = None          # (e, 12, 12) rigid arms of member end offsets, see member_transform
+
+    def carry(self, f: np.ndarray) -> np.ndarray:
+        """Loads (6n,) or (6n, m) on all DOFs as loads on the reduced DOFs, T^T f: a load at a
+        linked DOF carried to its reference node (the same force and moment)."""
+        return f if self.T is None else np.asarray(self.T.T @ f)
+
+    def member_transform(self) -> np.ndarray:
+        """(e, 12, 12) from the global motions of each member's nodes to the local motions of
+        its elastic ends: diag(R, R, R, R), times the rigid arms of end offsets if any."""
+        T = el.transform_matrix(self.R)
+        return T if self.arms is None else T @ self.arms
+
+    def to_nodes(self, k_local: np.ndarray, sel=slice(None)) -> np.ndarray:
+        """(e, 12, 12) local member matrices of the members `sel` in global axes at their nodes:
+        T^T k T (`member_transform`), the rigid arms of end offsets included."""
+        g = el.to_global(k_local, self.R[sel])
+        if self.arms is None:
+            return g
+        A = self.arms[sel]
+        return np.swapaxes(A, 1, 2) @ g @ A
+
+    def expand(self, u: np.ndarray) -> np.ndarray:
+        """Displacements (6n,) or (6n, m) over the free DOFs (zero elsewhere) as T u: each
+        linked DOF filled from its reference node."""
+        return u if self.T is None else np.asarray(self.T @ u)
 
 
 def element_matrices(model: Model, condense: bool = True, sel=None):
@@ -47,6 +84,8 @@ def element_matrices(model: Model, condense: bool = True, sel=None):
     if sel is not None:
         return element_matrices(_subset(model, sel), condense)
     xi, xj = model.coords[model.conn[:, 0]], model.coords[model.conn[:, 1]]
+    if model.offsets is not None:             # the elastic part lies between the offset ends
+        xi, xj = xi + model.offsets[:, 0], xj + model.offsets[:, 1]
     up = np.where(np.isnan(model.up).any(axis=1, keepdims=True), np.nan, model.up)
     has_up = ~np.isnan(up).any(axis=1)
     R, L = local_axes(xi, xj, roll=model.roll)
@@ -97,7 +136,8 @@ def _subset(model: Model, sel) -> Model:
     from dataclasses import replace
 
     names = model.member_names[sel] if isinstance(sel, slice) else [model.member_names[i] for i in sel]
-    return replace(model, member_names=names, **{f: getattr(model, f)[sel] for f in _MEMBER_FIELDS})
+    fields = _MEMBER_FIELDS + (("offsets",) if model.offsets is not None else ())
+    return replace(model, member_names=names, **{f: getattr(model, f)[sel] for f in fields})
 
 
 CHUNK = 4096   # members per batch: keeps the (chunk, 12, 12) temporaries in cache
@@ -153,6 +193,11 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
     k = np.empty((e, 12, 12))
     R = np.empty((e, 3, 3))
     L = np.empty(e)
+    arms = None
+    if model.offsets is not None:
+        from .elements.rigid import end_arms
+
+        arms = end_arms(model.offsets)
     # a model that bypassed the deck's checks can overflow here (inf, then inf*0 = NaN in the
     # transforms): not hidden, it is refused as a ModelError just below, and without the
     # floating-point warnings it would otherwise print first
@@ -162,11 +207,18 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
             kc, mc, Rc, Lc = element_matrices(model, sel=sl)
             k[sl], R[sl], L[sl] = kc, Rc, Lc
             c = Lc.shape[0]
-            XK[4 * a:4 * a + 4 * c] = _blocks(el.to_global(kc, Rc))
-            XM[4 * a:4 * a + 4 * c] = _blocks(el.to_global(mc, Rc))
+            kg, mg = el.to_global(kc, Rc), el.to_global(mc, Rc)
+            if arms is not None:        # end offsets: the elastic ends' matrices moved to the nodes
+                A = arms[sl]
+                At = np.swapaxes(A, 1, 2)
+                kg, mg = At @ kg @ A, At @ mg @ A
+            XK[4 * a:4 * a + 4 * c] = _blocks(kg)
+            XM[4 * a:4 * a + 4 * c] = _blocks(mg)
     d6 = np.arange(6) * 7                      # diagonal positions in a flattened 6x6 block
     XK[4 * e:, d6] = model.springs
     XM[4 * e:, d6] = model.point_mass
+    if model.mass_coupling is not None:        # masses placed off their nodes
+        XM[4 * e:] += model.mass_coupling.reshape(n, 36)
     K = pattern.matrix_from_blocks(XK)
     M = pattern.matrix_from_blocks(XM)
     # 6x6 blocks of axis-aligned or truss members hold many exact zeros: dropping them cuts the
@@ -177,11 +229,34 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
     if not all(np.isfinite(X.data).all() and np.abs(X.data).max(initial=0.0) <= HUGE for X in (K, M)):
         raise ModelError("the stiffness or mass matrix overflows (a property or coordinate is far too "
                          "large or too small); check the magnitudes and units in the deck")
+    T = linked = link_rows = link_mass = None
+    if model.links:
+        K, M, T, linked, link_rows, link_mass = _reduce_links(model, K, M)
     restrained = model.restraint.ravel()
     # a DOF with no stiffness at all (a truss-only node's rotations, a rotation that only
     # released member ends meet) is held rather than reported as a mechanism, unless a load
     # acts on it (checked by the static solve); its rotary mass, if any, is dropped with it
     inert = (K.diagonal() == 0) & ~restrained
+    if linked is not None:
+        inert[linked] = False
+        restrained = restrained.copy()
+        restrained[linked] = True
     fixed = restrained | inert
     return Assembled(K, M, R, L, k, np.flatnonzero(~fixed), np.flatnonzero(fixed),
-                     np.flatnonzero(inert))
+                     np.flatnonzero(inert), T, linked, link_rows, link_mass, arms)
+
+
+def _reduce_links(model: Model, K, M):
+    """K and M reduced by the rigid links' transformation T (T^T K T, T^T M T), T, the linked
+    DOFs and the rows of the unreduced K and M there. The one place links enter the matrices."""
+    from .elements.rigid import link_transform
+
+    T, linked = link_transform(model.coords, model.links)
+    Tt = T.T.tocsr()
+    # symmetric to the last bit (the products sum the two triangles in different orders), as
+    # the banded Cholesky and the eigen solvers read one triangle
+    Kr, Mr = ((0.5 * (X + X.T)).tocsr() for X in (Tt @ K @ T, Tt @ M @ T))
+    for X in (Kr, Mr):
+        X.sum_duplicates()
+        X.eliminate_zeros()
+    return Kr, Mr, T, linked, K[linked], M[linked]

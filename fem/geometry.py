@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["LEAN_VERTICAL", "local_axes"]
+__all__ = ["LEAN_VERTICAL", "local_axes", "offset_mass", "skew"]
 
 _PARALLEL_TOL = 1.0 - 1e-9
 # members whose horizontal projection is under this fraction of their length (a lean under
@@ -85,3 +85,34 @@ def local_axes(xi, xj, roll=None, up=None):
         ey, ez = c * ey + s * ez, -s * ey + c * ez
     R = np.stack([ex, ey, ez], axis=1)
     return R, L
+
+
+def skew(a: np.ndarray) -> np.ndarray:
+    """(..., 3, 3) skew matrices [a]x of the vectors a (..., 3): [a]x v = a x v."""
+    a = np.asarray(a, dtype=float)
+    S = np.zeros(a.shape[:-1] + (3, 3))
+    S[..., 0, 1], S[..., 0, 2] = -a[..., 2], a[..., 1]
+    S[..., 1, 0], S[..., 1, 2] = a[..., 2], -a[..., 0]
+    S[..., 2, 0], S[..., 2, 1] = -a[..., 1], a[..., 0]
+    return S
+
+
+def offset_mass(m: np.ndarray, inertia: np.ndarray, arm: np.ndarray) -> np.ndarray:
+    """(k, 6, 6) mass blocks about their nodes of rigid masses m (k,) kg whose centres lie at
+    `arm` (k, 3) m from the node, with principal inertias `inertia` (k, 3) kg m^2 about their
+    centres along the global axes.
+
+    The kinetic energy of a rigid body whose centre moves by v_c = v - [r]x w gives
+    [[m I, -m [r]x], [m [r]x, I_c + m (r.r I - r r^T)]]: the coupling between translation
+    and rotation, and the inertia carried to the node by the parallel-axis theorem."""
+    m = np.asarray(m, dtype=float)
+    r = np.asarray(arm, dtype=float)
+    S = skew(r)
+    B = np.zeros((len(m), 6, 6))
+    B[:, :3, :3] = m[:, None, None] * np.eye(3)
+    B[:, :3, 3:] = -m[:, None, None] * S
+    B[:, 3:, :3] = m[:, None, None] * S
+    parallel = np.einsum("k,kab->kab", m, np.einsum("ka,ka->k", r, r)[:, None, None] * np.eye(3)
+                         - r[:, :, None] * r[:, None, :])
+    B[:, 3:, 3:] = parallel + np.einsum("ka,ab->kab", np.asarray(inertia, dtype=float), np.eye(3))
+    return B

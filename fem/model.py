@@ -15,7 +15,7 @@ from .errors import Location
 from .excitation import FrequencyBand, Machine
 from .sections import SectionProps
 
-__all__ = ["DIRECTIONS", "Combination", "LoadCase", "LoadItem", "Material", "Model", "Section"]
+__all__ = ["DIRECTIONS", "Combination", "Link", "LoadCase", "LoadItem", "Material", "Model", "Section"]
 
 DIRECTIONS = ("ux", "uy", "uz", "rx", "ry", "rz")
 
@@ -50,6 +50,21 @@ class Combination:
     location: Location | None = None
 
 
+@dataclass(frozen=True)
+class Link:
+    """A rigid link: the dependent nodes follow the reference node as one rigid body in the
+    directions `dirs` (6,) bool (ux, uy, uz, rx, ry, rz; all six for a full link): a dependent
+    translation is u_r + theta_r x (x_d - x_r), a dependent rotation is theta_r.
+
+    reference : node index; dependents : (k,) node indices."""
+
+    name: str
+    reference: int
+    dependents: np.ndarray
+    dirs: np.ndarray
+    location: Location | None = None
+
+
 @dataclass
 class Model:
     """Nodes, members and everything attached to them.
@@ -67,7 +82,14 @@ class Model:
     releases : (e, 12) bool, released local end DOFs
     restraint : (n, 6) bool, restrained DOFs
     springs : (n, 6) spring stiffness to ground, N/m or N m/rad
-    point_mass : (n, 6) mass and rotary inertia at nodes, kg and kg m^2
+    point_mass : (n, 6) mass and rotary inertia at nodes, kg and kg m^2 (the diagonal of each
+        node's mass block; an off-node mass adds its inertia about the node here)
+    mass_coupling : (n, 6, 6) or None, the off-diagonal terms of the nodal mass blocks of masses
+        placed off their node: m [r]x between translation and rotation and the products of
+        inertia -m r_a r_b (fem.elements.rigid.offset_mass); diagonal zero
+    links : rigid links (`Link`), applied as constraints by the assembly
+    offsets : (e, 2, 3) or None, member end offsets: the global vectors from each member's
+        nodes i and j to the ends of its elastic part (rigid arms between), m
     groups : the deck's groups that hold members, name -> member names (deck order; nodes of a
         group of both are left out); a modes case's sensitivities may be reported by them
     excitations : the machines and frequency bands the deck declares (fem.excitation), in deck
@@ -110,6 +132,9 @@ class Model:
     overrides: dict[str, str] = field(default_factory=dict)   # let parameters set from outside, name -> text
     warnings: list = field(default_factory=list)   # located notes from reading the deck
     excitations: tuple[Machine | FrequencyBand, ...] = ()
+    links: tuple[Link, ...] = ()
+    mass_coupling: np.ndarray | None = None
+    offsets: np.ndarray | None = None
 
     @property
     def n_nodes(self) -> int:
@@ -121,7 +146,10 @@ class Model:
 
     @property
     def lengths(self) -> np.ndarray:
+        """Length of each member's elastic part (between its end offsets, if any), m."""
         d = self.coords[self.conn[:, 1]] - self.coords[self.conn[:, 0]]
+        if self.offsets is not None:
+            d = d + self.offsets[:, 1] - self.offsets[:, 0]
         return np.linalg.norm(d, axis=1)
 
     def member_mass(self) -> np.ndarray:

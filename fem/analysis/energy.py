@@ -70,7 +70,12 @@ def field_energies(model, field: np.ndarray, matrices=None) -> Energies:
     k, m, R, _ = matrices if matrices is not None else element_matrices(model)
     u = np.asarray(field, float)
     e = len(R)
-    ug = u[model.conn].reshape(e, 4, 3)
+    ug = u[model.conn]                                   # (e, 2, 6) motions of the member nodes
+    if model.offsets is not None:                        # ... carried to the elastic ends
+        from ..elements.rigid import arm_transform
+
+        ug = np.einsum("ekab,ekb->eka", arm_transform(model.offsets), ug)
+    ug = ug.reshape(e, 4, 3)
     ul = (ug @ np.swapaxes(R, 1, 2)).reshape(e, 12)
     # the matrices hold no terms between groups, so (k u)[group] = k[group, group] u[group]
     ku = (k @ ul[:, :, None])[:, :, 0]
@@ -80,4 +85,7 @@ def field_energies(model, field: np.ndarray, matrices=None) -> Energies:
     for g, idx in enumerate(_GROUPS):
         strain[:, g] = 0.5 * (ul[:, idx] * ku[:, idx]).sum(1)
         kinetic[:, g] = 0.5 * (ul[:, idx] * mu[:, idx]).sum(1)
-    return Energies(strain, kinetic, 0.5 * (model.springs * u ** 2).sum(1), 0.5 * model.point_mass * u ** 2, R)
+    node = 0.5 * model.point_mass * u ** 2
+    if model.mass_coupling is not None:      # a mass off its node: u . (B u) / 2, split by DOF
+        node = node + 0.5 * u * np.einsum("nab,nb->na", model.mass_coupling, u)
+    return Energies(strain, kinetic, 0.5 * (model.springs * u ** 2).sum(1), node, R)

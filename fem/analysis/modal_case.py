@@ -123,6 +123,7 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None,
     shape_rows(case, model, len(modes.omega), len(f))
     shapes = np.zeros((6 * model.n_nodes, len(modes.omega)))
     shapes[f] = modes.phi
+    shapes = asm.expand(shapes)          # linked nodes follow their reference nodes
     return ModesCaseResult(case.name, modes, part, shapes.reshape(model.n_nodes, 6, -1), point,
                            target, met, n_finite=modes.n_finite)
 
@@ -131,12 +132,11 @@ def solve_modes_case(model: Model, asm: Assembled, case: LoadCase, factor=None,
 def field_responses(model: Model, asm: Assembled, U: np.ndarray):
     """Elastic reactions (m, n, 6) of supports and springs and member end forces (m, e, 12) in
     local axes of displacement fields U (m, 6n), without any member load (K u only)."""
-    from .. import elements as el
     from .static import support_forces
 
     R = support_forces(model, asm, (asm.K @ U.T).T, U)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
-    T = el.transform_matrix(asm.R)
+    T = asm.member_transform()
     ue = np.einsum("eab,meb->mea", T, U[:, dofs])
     mf = np.einsum("eab,meb->mea", asm.k_local, ue)
     return R.reshape(len(U), -1, 6), mf
@@ -162,6 +162,7 @@ def residual_static(F: np.ndarray, asm: Assembled, lu, shapes, omega, pk) -> np.
     (mode-acceleration / residual-flexibility correction; Cornwell, Craig & Johnson 1983)."""
     full = np.zeros(len(F))
     full[asm.free] = lu.solve(F[asm.free])
+    full = asm.expand(full)
     pos = omega > 0
     return full - shapes[:, pos] @ (pk[pos] / omega[pos] ** 2)
 

@@ -47,6 +47,7 @@ class SpectrumResult:
     base: np.ndarray          # (6,) combined total reaction Fx, Fy, Fz, Mx, My, Mz (about origin)
     damping_factor: np.ndarray = None
     warnings: tuple = ()
+    links: np.ndarray | None = None   # (d,) combined peak forces of the rigid links on their linked DOFs
 
 
 def _base(model, R):
@@ -82,7 +83,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     M = asm.M[f][:, f]
     shapes = modal.shapes.reshape(n6, -1)
     per_dir_u, per_dir_r, per_dir_m, sas, modal_u, missing_frac = [], [], [], [], [], []
-    per_dir_b = []
+    per_dir_b, per_dir_l = [], []
     for d in range(3):
         factor = case.directions[d]
         if factor == 0:
@@ -103,6 +104,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
             dr = r - phi @ gamma
             umm = np.zeros(n6)
             umm[f] = lu.solve(M @ dr) * factor * sp.zpa()
+            umm = asm.expand(umm)
             Rmm, Fmm = field_responses(model, asm, umm[None])
             rho_x = np.zeros((len(omega) + 1, len(omega) + 1))
             rho_x[:-1, :-1] = rho
@@ -110,6 +112,16 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
             U2, R2, F2, rr = np.r_[U, umm[None]], np.r_[Rm, Rmm], np.r_[Fm, Fmm], rho_x
         else:
             U2, R2, F2, rr = U, Rm, Fm, rho
+        if asm.link_rows is not None:
+            # each mode's equivalent static loads w^2 M U: the links hold K U - w^2 M U at the
+            # nodes that follow them; the missing mass's static loads M (r - Phi gamma) a_zpa
+            lk = U @ asm.link_rows.T - (omega**2)[:, None] * (U @ asm.link_mass.T)
+            if case.missing:
+                r_all = np.zeros((model.n_nodes, 6))
+                r_all[:, d] = 1.0
+                dr_all = r_all.ravel() - shapes @ gamma
+                lk = np.r_[lk, (asm.link_rows @ umm - asm.link_mass @ dr_all * factor * sp.zpa())[None]]
+            per_dir_l.append(combine(lk, case.combine, rr))
         per_dir_u.append(combine(U2.reshape(len(U2), -1, 6), case.combine, rr))
         per_dir_r.append(combine(R2, case.combine, rr))
         per_dir_m.append(combine(F2, case.combine, rr))
@@ -121,7 +133,8 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           combine_directions(per_dir_r, rule), combine_directions(per_dir_m, rule),
                           T, np.array(sas), zeta, case.combine, rule, case.directions,
                           case.missing, np.array(missing_frac), outside,
-                          combine_directions(per_dir_b, rule), sp.damping_factor(zeta), warnings)
+                          combine_directions(per_dir_b, rule), sp.damping_factor(zeta), warnings,
+                          combine_directions(per_dir_l, rule) if per_dir_l else None)
 
 
 def _damping_warnings(case, sp, zeta) -> tuple:

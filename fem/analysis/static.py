@@ -46,6 +46,7 @@ class StaticResult:
     gross: np.ndarray = None
     diag: np.ndarray = None         # (6n,) diagonal of K at the free DOFs, 0 elsewhere (shared by the cases)
     knorm: float = 1.0              # ||D^-1/2 K D^-1/2||_inf, D = diag(K) over the free DOFs
+    links: np.ndarray | None = None  # (d,) forces of the rigid links on their linked DOFs, see link_forces
 
     def checks(self, coords: np.ndarray) -> dict:
         """The self-checks of this solution (`balance`), by results.json name."""
@@ -53,11 +54,13 @@ class StaticResult:
                        self.knorm)
 
 
-def load_vector(model: Model, asm: Assembled, case: LoadCase):
+def load_vector(model: Model, asm: Assembled, case: LoadCase, carried: bool = True):
     """Global load vector (6n,) and the local fixed-end load vectors (e, 12) of member loads.
 
     Line loads are given per member in global axes or in the member's local axes
-    (``LoadItem.axes``); both end up as one local load per length w_local (e, 3)."""
+    (``LoadItem.axes``); both end up as one local load per length w_local (e, 3). With rigid
+    links the vector is carried onto the reduced DOFs (`Assembled.carry`) unless `carried` is
+    False (the loads where they act)."""
     f = np.zeros(6 * model.n_nodes)
     w = np.zeros((model.n_members, 3))       # line load per member in global axes, N/m
     w_own = np.zeros((model.n_members, 3))   # line load per member in its own axes, N/m
@@ -71,6 +74,8 @@ def load_vector(model: Model, asm: Assembled, case: LoadCase):
     if case.gravity is not None:
         w += (model.rho * model.A + model.carried_mass)[:, None] * case.gravity
         f += np.c_[model.point_mass[:, :3] * case.gravity, np.zeros((model.n_nodes, 3))].ravel()
+        if model.mass_coupling is not None:      # the weight of a mass off its node turns it
+            f += np.c_[np.zeros((model.n_nodes, 3)), model.mass_coupling[:, 3:, :3] @ case.gravity].ravel()
     w_local = np.einsum("eab,eb->ea", asm.R, w) + w_own
     fe = el.uniform_load_fixed_end(asm.L, w_local)
     rel = model.releases & ~model.truss[:, None]
@@ -81,11 +86,11 @@ def load_vector(model: Model, asm: Assembled, case: LoadCase):
     if rel.any():
         k_full = element_matrices(model, condense=False)[0]
         fe = el.condense_load(k_full, fe, rel)
-    T = el.transform_matrix(asm.R)
+    T = asm.member_transform()
     fg = np.einsum("eba,eb->ea", T, fe)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     _scatter(f, dofs, fg)
-    return f, fe
+    return (asm.carry(f) if carried else f), fe
 
 
 def _scatter(out, idx, vals, rows=False):
@@ -113,13 +118,15 @@ def normalised_stiffness(model: Model, asm: Assembled):
 
     k = asm.k_local
     scale = np.abs(np.diagonal(k, axis1=1, axis2=2)).max(axis=1, initial=0.0)
-    kg = el.to_global(k / np.where(scale > 0, scale, 1.0)[:, None, None], asm.R)
+    kg = asm.to_nodes(k / np.where(scale > 0, scale, 1.0)[:, None, None])
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     n = 6 * model.n_nodes
     rows = np.r_[np.repeat(dofs, 12, axis=1).ravel(), np.arange(n)]
     cols = np.r_[np.tile(dofs, (1, 12)).ravel(), np.arange(n)]
     vals = np.r_[kg.ravel(), (model.springs.ravel() > 0).astype(float)]
     Kn = sp.coo_matrix((vals, (rows, cols)), shape=(n, n)).tocsr()
+    if asm.T is not None:           # through the rigid links, as K itself
+        Kn = (asm.T.T @ Kn @ asm.T).tocsr()
     return Kn[asm.free][:, asm.free]
 
 
@@ -374,6 +381,8 @@ def support_forces(model: Model, asm: Assembled, residual: np.ndarray, u: np.nda
     out[..., asm.fixed] = residual[..., asm.fixed]
     k = model.springs.ravel()
     sprung = asm.free[k[asm.free] > 0]
+    if asm.linked is not None:         # a spring at a linked DOF acts through the link
+        sprung = np.r_[sprung, asm.linked[k[asm.linked] > 0]]
     out[..., sprung] = -k[sprung] * u[..., sprung]
     return out
 
@@ -389,10 +398,12 @@ def check_resisted(model: Model, asm: Assembled, case: LoadCase, f: np.ndarray) 
 
 def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> StaticResult:
     lu = lu or factorise(model, asm)
-    f, fe = load_vector(model, asm, case)
+    loads, fe = load_vector(model, asm, case, carried=False)
+    f = asm.carry(loads)
     check_resisted(model, asm, case, f)
     u = np.zeros(6 * model.n_nodes)
     u[asm.free] = lu.solve(f[asm.free])
+    u = asm.expand(u)
     if not np.isfinite(u).all():
         raise MechanismError(f"case {case.name}: the solve did not give finite displacements; "
                              "the stiffness is singular or badly conditioned", [])
@@ -403,12 +414,22 @@ def solve_static(model: Model, asm: Assembled, case: LoadCase, lu=None) -> Stati
     gross = abs(asm.K) @ np.abs(u) + np.abs(f)
     diag, knorm = _scaled_stiffness(asm)
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
-    T = el.transform_matrix(asm.R)
+    T = asm.member_transform()
     ue = np.einsum("eab,eb->ea", T, u[dofs])
     mf = np.einsum("eab,eb->ea", asm.k_local, ue) - fe
-    applied = f.reshape(-1, 6)
+    applied = loads.reshape(-1, 6)
     return StaticResult(case.name, u.reshape(-1, 6), reactions.reshape(-1, 6), mf, applied,
-                        equilibrium(model.coords, applied, reactions.reshape(-1, 6)), residual, gross, diag, knorm)
+                        equilibrium(model.coords, applied, reactions.reshape(-1, 6)), residual, gross, diag, knorm,
+                        link_forces(asm, u, loads))
+
+
+def link_forces(asm: Assembled, u: np.ndarray, loads: np.ndarray):
+    """Forces the rigid links exert on the nodes that follow them, (d,) at the linked DOFs
+    (`asm.linked`), N / N m, or None without links: what the unreduced static equilibrium
+    there lacks, K u - f, with u (6n,) expanded and f (6n,) the loads where they act."""
+    if asm.link_rows is None:
+        return None
+    return asm.link_rows @ u - loads[asm.linked]
 
 
 def _scaled_stiffness(asm: Assembled):
@@ -439,5 +460,6 @@ def combine(name: str, parts, coords) -> StaticResult:
     residual = sum(f * r.residual for f, r in parts) if kept else None
     gross = sum(abs(f) * r.gross for f, r in parts) if kept else None
     first = parts[0][1] if parts else None
+    links = sum(f * r.links for f, r in parts) if parts and all(r.links is not None for _, r in parts) else None
     return StaticResult(name, u, reactions, forces, applied, equilibrium(coords, applied, reactions), residual,
-                        gross, first.diag if kept else None, first.knorm if kept else 1.0)
+                        gross, first.diag if kept else None, first.knorm if kept else 1.0, links)

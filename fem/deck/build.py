@@ -16,6 +16,7 @@ from . import units as U
 from .definitions import Definitions
 from .excitations import model_excitations
 from .expressions import Evaluator
+from .links import check_linked_starts, end_offsets, linked_nodes, mass_coupling, read_links, supported_references
 from .model_checks import COINCIDENT
 from .plausible import model_warnings
 
@@ -41,21 +42,30 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
     notes.extend(model_checks.leaning_members(mems, axis, cols, up, truss))
     restraint = _restraints(defs, nidx, notes)
     springs = _springs(defs, nidx, restraint, notes)
+    links = read_links(defs, nidx, restraint)
+    linked = linked_nodes(links, len(node_names))
     on_member = np.zeros(len(node_names), bool)
     on_member[conn.ravel()] = True
+    for link in links:          # a link's reference node moves with the nodes that follow it
+        on_member[link.reference] = True
     turned = _rotation_stiffness(coords, conn, truss, releases, cols["roll"], up) > 0 \
         if any((vec[3:] > 0).any() for _, vec, _ in defs.masses) else np.ones((len(node_names), 3), bool)
-    pmass = _masses(defs, nidx, restraint, springs, on_member, turned, notes)
+    turned = turned | linked[:, 3:] | _turned_by_links(links, coords)
+    # a follower's linked directions move with its reference node, as if held for its mass
+    pmass = _masses(defs, nidx, restraint | linked, springs, on_member, turned, notes)
     midx = {m["name"]: k for k, m in enumerate(mems)}
     reading = ev.scope()
     cases = [build_case(c, nidx, midx) for c in defs.cases]
     notes.extend(model_checks.loads_on_supports(cases, restraint, node_names))
+    check_linked_starts(cases, linked, node_names)
+    notes.extend(supported_references(links, restraint, pmass, conn, cases, node_names))
     used = on_member | restraint.any(axis=1) | (springs > 0).any(axis=1) | (pmass > 0).any(axis=1)
     for c in cases:
         for item in c.loads:
             if item.kind in ("force", "moment", "displacement", "velocity"):
                 used[item.targets] = True
-    notes.extend(model_checks.coincident_nodes(defs.nodes, node_names, coords, tol, used))
+    joined = {(min(lk.reference, d), max(lk.reference, d)) for lk in links for d in lk.dependents.tolist()}
+    notes.extend(model_checks.coincident_nodes(defs.nodes, node_names, coords, tol, used, joined))
     names = {c.name for c in cases if c.kind == "static"}
     combos = []
     for nm, tree, where, scope in defs.combos:
@@ -73,7 +83,9 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
                   member_section=[m["section"][0] for m in mems],
                   member_material=[m["material"][0] for m in mems],
                   groups=member_groups(defs), excitations=model_excitations(defs, nidx),
-                  cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes, **cols)
+                  cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes,
+                  links=links, mass_coupling=mass_coupling(defs, nidx),
+                  offsets=end_offsets(mems, coords, conn, cols["roll"], up, tol), **cols)
     notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
                                 ev.assume_sites.get(U.LENGTH)))
     return model
@@ -265,6 +277,18 @@ def _rotation_stiffness(coords, conn, truss, releases, roll, up) -> np.ndarray:
         kept = ~releases[beams, first:first + 3]
         np.add.at(out, conn[beams, end], np.einsum("bl,blg->bg", kept.astype(float), R ** 2))
     out[out < 1e-12] = 0.0      # round-off of the axes of members along global axes
+    return out
+
+
+def _turned_by_links(links, coords) -> np.ndarray:
+    """(n, 3) bool: the rotations of the links' reference nodes that their followers hold,
+    through linked rotations or through linked translations at an arm (all three, a
+    conservative reading for the inertia note)."""
+    out = np.zeros((len(coords), 3), bool)
+    for link in links:
+        arm = np.abs(coords[link.dependents] - coords[link.reference]).max(initial=0.0) > 0
+        if link.dirs[3:].any() or (arm and link.dirs[:3].any()):
+            out[link.reference] = True
     return out
 
 

@@ -30,6 +30,8 @@ class Definitions:
         self.supports: list = []                       # (target, directions, where)
         self.springs: list = []                        # (target, {direction: stiffness}, where)
         self.masses: list = []                         # (target, (m, m, m, Ixx, Iyy, Izz), where)
+        self.off_masses: list = []                     # (target, m, inertia (3,), offset (3,), where)
+        self.links: list = []                          # (name, reference token, [targets], dirs, where)
         self.cases: list = []                          # (name, kind, items, where, assumed, scope)
         self.combos: list = []                         # (name, tree, where, scope)
         self.excitations: list = []                    # (Machine or FrequencyBand, where, node token or None)

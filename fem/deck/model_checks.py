@@ -186,15 +186,18 @@ def close_pairs(coords, tol: float) -> np.ndarray:
     return np.concatenate(found).astype(np.intp).reshape(-1, 2)
 
 
-def coincident_nodes(nodes: dict, names, coords, tol, used) -> list[Note]:
+def coincident_nodes(nodes: dict, names, coords, tol, used, joined=frozenset()) -> list[Note]:
     """Distinct nodes at one place are not connected: an error when both carry something
     (members, supports, springs, masses, loads), a warning when one of them is bare.
-    `nodes` maps a name to (coordinates, where)."""
+    `nodes` maps a name to (coordinates, where); `joined` holds the pairs (i, j), i < j, that a
+    rigid link connects (a hinge between two nodes at one place), which are meant."""
     if len(coords) < 2:
         return []
     out = []
     for a, b in sorted(close_pairs(coords, tol).tolist(), key=lambda p: (max(p), min(p))):
         a, b = min(a, b), max(a, b)           # b is the one defined later
+        if (a, b) in joined:
+            continue
         first, where = nodes[names[a]][1], nodes[names[b]][1]
         text = (f"node {names[b]} is at the same place as node {names[a]} (at {first}), within {tol:.3g} m "
                 f"({COINCIDENT:g} of the model size); distinct nodes are not connected")

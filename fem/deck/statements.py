@@ -12,12 +12,14 @@ import numpy as np
 from lark import Token, Tree
 
 from ..errors import DeckError, Location, suggest
+from ..geometry import offset_mass
 from ..model import DIRECTIONS, Material, Section
 from ..notes import Note
 from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entry, make_section
 from . import units as U
 from .definitions import Definitions
 from .excitations import excitation_statement
+from .links import end_offset, link_statement
 from .expressions import WILD, Evaluator
 from .sources import Sources, file_name
 
@@ -274,12 +276,18 @@ class Statements:
                 m["carried_mass"] = ev.value(val, (1, -1, 0), f"member {name}: carried_mass")
                 if m["carried_mass"] < 0:
                     raise DeckError(f"member {name}: carried_mass (mass per length) cannot be negative", self.loc(opt))
+            elif key in ("offset_i", "offset_j"):
+                m.setdefault("offsets", {})[key[-1]] = end_offset(self, val, f"member {name}: {key}")
             elif key == "nsm":
                 raise DeckError(f"member {name}: 'nsm' is not an option here; the mass per length a member carries "
                                 "without stiffening it (contents, insulation, trays) is written carried_mass",
                                 self.loc(opt.children[0]), "e.g. carried_mass = 12 kg/m")
             else:
-                raise DeckError(f"member {name}: unknown option '{key}'; {suggest(key, ['roll', 'up', 'carried_mass'])}", self.loc(opt))
+                raise DeckError(f"member {name}: unknown option '{key}'; "
+                                f"{suggest(key, ['roll', 'up', 'carried_mass', 'offset_i', 'offset_j'])}", self.loc(opt))
+        if kind == "truss" and "offsets" in m:
+            raise DeckError(f"member {name}: a truss member carries its force along the line between its nodes, so "
+                            "it takes no end offsets", self.loc(s), "make it a beam, or move its nodes")
         motion = _released_motion(m["releases"]) if kind == "beam" else None
         if motion:
             raise DeckError(f"member {name}: its end releases let it {motion} with nothing to resist it", self.loc(s),
@@ -322,17 +330,33 @@ class Statements:
         target, value, *opts = s.children
         m = self.ev.value(value, U.MASS, "mass")
         inertia = np.zeros(3)
+        offset = None
         seen = set()
         for opt in opts:
             self.defs.once(seen, str(opt.children[0]), self.loc(opt), "mass")
+            if str(opt.children[0]) == "offset":
+                offset = self.ev.vector(opt.children[1], U.LENGTH, "mass offset")
+                if np.abs(offset).max() > MAX_COORDINATE:
+                    raise DeckError(f"mass offset of {np.abs(offset).max():.3g} m is beyond any structure",
+                                    self.loc(opt), "check the units of the offset")
+                continue
             if str(opt.children[0]) != "inertia":
-                raise DeckError(f"mass: unknown option '{opt.children[0]}'; use inertia = (Ixx, Iyy, Izz)", self.loc(opt))
+                raise DeckError(f"mass: unknown option '{opt.children[0]}'; use inertia = (Ixx, Iyy, Izz) or "
+                                "offset = (dx, dy, dz)", self.loc(opt))
             inertia = self.ev.vector(opt.children[1], (1, 2, 0), "mass inertia")
         if m < 0 or (inertia < 0).any():
             raise DeckError("a mass or inertia cannot be negative", self.loc(s))
         for v in (m, *inertia):
             not_huge(v, "mass", self.loc(s))
-        self.defs.masses.append((self.fixed_name(target), np.r_[m, m, m, inertia], self.loc(s)))
+        about_node = inertia
+        if offset is not None and offset.any():
+            # the inertia about the node (parallel axes); the coupling terms are built with the model
+            about_node = np.diagonal(offset_mass([m], [inertia], [offset])[0])[3:]
+            self.defs.off_masses.append((self.fixed_name(target), m, inertia, offset, self.loc(s)))
+        self.defs.masses.append((self.fixed_name(target), np.r_[m, m, m, about_node], self.loc(s)))
+
+    def st_link(self, s):
+        link_statement(self, s)
 
     def st_group(self, s):
         defs = self.defs

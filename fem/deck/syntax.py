@@ -23,7 +23,8 @@ from . import units as U
 __all__ = ["STATEMENTS", "keyword_callbacks", "parse", "syntax_error"]
 
 STATEMENTS = ("title", "let", "assume", "include", "material", "section", "node", "member",
-              "support", "spring", "mass", "group", "case", "combo", "for", "settings", "machine", "band")
+              "support", "spring", "mass", "group", "case", "combo", "for", "settings", "machine", "band",
+              "link")
 # words the grammar reserves besides the statements (`a..b` and `->` are punctuation)
 _KEYWORDS = STATEMENTS + ("release", "in", "at")
 _OPERATORS = {"PLUS", "MINUS", "STAR", "SLASH", "CIRCUMFLEX"}

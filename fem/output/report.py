@@ -185,7 +185,8 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
             parts.append(_table(["quantity", "value"], [
                 ["largest translation", f"{c['max_translation_m']:.4g} m"],
                 ["sum of applied loads (X, Y, Z)", ", ".join(f"{v / 1e3:.4g}" for v in c["applied_sum_N"]) + " kN"],
-                ["sum of reactions (X, Y, Z)", ", ".join(f"{v / 1e3:.4g}" for v in c["reaction_sum_N"]) + " kN"]]))
+                ["sum of reactions (X, Y, Z)", ", ".join(f"{v / 1e3:.4g}" for v in c["reaction_sum_N"]) + " kN"],
+                *_link_rows(c)]))
         elif c["kind"] in ("free", "history"):
             parts.append(_table(["quantity", "value"], [["time steps", c["time_steps"]], ["duration", f"{c['duration_s']:.4g} s"],
                                                         ["largest translation", f"{c['peak_translation_m']:.4g} m"],
@@ -300,3 +301,15 @@ def report(results, doc: dict, out: Path, notice: str = "") -> None:
         if x.kind in drawn:
             images[x.name] = drawn[x.kind](x)
     write_report(out / "report.html", doc, images, notes=[notice] if notice.startswith("pictures skipped:") else [])
+
+
+def _link_rows(c) -> list:
+    """The largest force and moment each rigid link exerts on a node that follows it (static)."""
+    rows = []
+    for link, nodes in c.get("link_forces", {}).items():
+        force = max((np.hypot.reduce([v or 0.0 for v in vals[:3]]), n) for n, vals in nodes.items())
+        moment = max((np.hypot.reduce([v or 0.0 for v in vals[3:]]), n) for n, vals in nodes.items())
+        rows.append([f"link {html.escape(link)}: largest force on a node that follows it",
+                     f"{force[0] / 1e3:.4g} kN at {html.escape(force[1])}, moment {moment[0] / 1e3:.4g} kN m at "
+                     f"{html.escape(moment[1])}"])
+    return rows

@@ -13,6 +13,7 @@ import numpy as np
 
 from ..errors import ModelError
 from . import limits_out, resonance_out
+from .link_tables import link_entry
 from .tables import END_FORCES, REACTIONS, supported_nodes, unit_shape_mass_stiffness
 
 __all__ = ["CAUTION", "SCHEMA", "results_doc", "strict", "write_results_json"]
@@ -75,6 +76,7 @@ def _static(results, r) -> dict:
     checks = results.checks
     return {"name": r.name, "kind": "static", "max_translation_m": float(np.abs(r.u[:, :3]).max()),
             "reaction_sum_N": r.reactions[:, :3].sum(0).tolist(), "applied_sum_N": r.applied[:, :3].sum(0).tolist(),
+            **link_entry(results.model, r),
             "checks": {**checks.cases[r.name], **checks.plausible[r.name]}}
 
 
@@ -130,7 +132,7 @@ def _spectrum(results, r) -> dict:
             "damping_ratio": r.zeta.tolist(), "period_s": r.periods.tolist(),
             "sa_m_s2": r.sa.tolist(), "damping_factor": r.damping_factor.tolist(),
             "base_reaction": dict(zip(REACTIONS, map(float, r.base))),
-            "max_displacement_m": float(r.u[:, :3].max()),
+            "max_displacement_m": float(r.u[:, :3].max()), **link_entry(results.model, r),
             "checks": results.checks.cases[r.name]}
 
 

@@ -158,3 +158,10 @@ def write_tables(results, out: Path) -> None:
     from .limits_out import write_limit_tables
 
     write_limit_tables(results, out)
+    from .link_tables import write_link_table, write_offset_table
+
+    write_link_table(out, results)
+    if model.offsets is not None:
+        from ..assembly import element_matrices
+
+        write_offset_table(out, results, element_matrices(model)[2])
