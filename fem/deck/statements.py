@@ -19,8 +19,8 @@ from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entr
 from . import units as U
 from .definitions import Definitions
 from .excitations import excitation_statement
-from .links import end_offset, link_statement
 from .expressions import WILD, Evaluator
+from .links import end_offset, link_statement
 from .sources import Sources, file_name
 
 __all__ = ["CASE_KINDS", "LOOP_STATEMENTS", "MAX_COORDINATE", "Statements"]
