@@ -26,9 +26,17 @@ class StudyError(QuaverError, RuntimeError):
 
 
 def serial(job: Job, variants, progress: bool = True) -> list[dict]:
-    """Every variant in this process, in order."""
+    """Every variant in this process, in order, BLAS on one thread as on the workers (whose
+    nanny sets one thread per process): the same arithmetic, so the same numbers to the bit."""
+    from contextlib import nullcontext
+
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:             # a dependency; without it the numbers may differ in the last bits
+        threadpool_limits = None
     seq = bar(variants, total=len(variants), label="variants") if progress else variants
-    return [run_variant(job, v.index, v.let) for v in seq]
+    with threadpool_limits(limits=1) if threadpool_limits else nullcontext():
+        return [run_variant(job, v.index, v.let) for v in seq]
 
 
 def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, progress: bool = True) -> tuple:
