@@ -27,7 +27,11 @@ class StudyError(QuaverError, RuntimeError):
 
 def serial(job: Job, variants, progress: bool = True) -> list[dict]:
     """Every variant in this process, in order, BLAS on one thread as on the workers (whose
-    nanny sets one thread per process): the same arithmetic, so the same numbers to the bit."""
+    nanny sets one thread per process). The numbers agree with the workers' to round-off:
+    OpenBLAS limited to one thread at run time (here) and at its start (on a worker) can take
+    different kernels, measured 4e-13 relative in the mast's frequencies; on small models they
+    are the same to the bit. The partners of a repeated frequency may then come out as other
+    combinations of each other (any basis of their plane is a solution)."""
     from contextlib import nullcontext
 
     try:

@@ -123,6 +123,8 @@ def _report(result, staged: Path) -> None:
                     ax.plot(x[~nominal], t.freq[~nominal, j], ".", ms=2, alpha=0.4, color=ax.lines[-1].get_color())
             for i, a, b in t.crossings:
                 ax.plot([x[i]], [t.freq[i, a - 1]], "kx", ms=8)
+            top = np.nanmax(t.freq) if np.isfinite(t.freq).any() else 1.0
+            ax.set_ylim(0, 1.3 * top)          # the modes followed, with the bands that reach them
             ax.set_xlabel(f"{name} [{unit}]" if unit else name)
             ax.set_ylabel("natural frequency [Hz]")
             ax.set_title(f"{t.case}: modes followed by MAC against {name}")
