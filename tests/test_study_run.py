@@ -148,3 +148,26 @@ def test_the_command_line_runs_a_deck_with_study_lines(folder, capsys):
     assert (out / "study.csv").exists()
     status = main(["study", str(folder / "cant.deck"), "--vary", "h in (90 mm, 2 parsecs)", "--serial"])
     assert status == 2 and "command line:" in capsys.readouterr().err
+
+
+def test_a_deck_read_again_with_other_values_is_parsed_once(folder, monkeypatch):
+    """While a study keeps parse trees, the deck's text is parsed once and the overrides' one-line
+    lets once each; the models equal those of plain readings, and located errors still point
+    into the deck."""
+    from fem.deck import sources
+
+    calls = []
+    plain = sources.parse_deck_text
+    monkeypatch.setattr(sources, "parse_deck_text", lambda *a: calls.append(a[2]) or plain(*a))
+    monkeypatch.setattr(sources, "_KEPT", {})
+    deck = folder / "cant.deck"
+    with sources.parses_kept():
+        kept = [fem.read_deck(deck, let={"h": h}) for h in ("90 mm", "110 mm", "90 mm")]
+    assert [str(c) for c in calls].count("cant.deck") == 1 and len(calls) == 3     # deck once, two overrides
+    for m, h in zip(kept, ("90 mm", "110 mm", "90 mm")):
+        again = fem.read_deck(deck, let={"h": h})
+        np.testing.assert_array_equal(m.Iy, again.Iy)
+    assert kept[0].Iy[0] != kept[1].Iy[0]
+    with sources.parses_kept(), pytest.raises(fem.DeckError, match=r"cant.deck:4:") as err:
+        fem.read_deck(deck, let={"h": "-1 mm"})
+    assert err.value.location.line == 4

@@ -14,10 +14,12 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import DeckError
-from .engine import on_dask, serial as run_serial
+from .engine import on_dask
+from .engine import serial as run_serial
 from .spec import Study, read_study
 from .track import Tracked, track
-from .variants import Variant, variants as all_variants
+from .variants import Variant
+from .variants import variants as all_variants
 from .work import Job, bundle
 
 __all__ = ["StudyResult", "run_study"]

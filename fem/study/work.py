@@ -205,7 +205,7 @@ def _largest(r, node: int, axis: int, p) -> float:
         where = np.flatnonzero(np.asarray(r.record) == node)
         if not len(where):
             raise DeckError(f"peak {p.name}: case {p.case} does not record node {p.node}", p.where,
-                            f"add it to the case's record = ... option")
+                            "add it to the case's record = ... option")
         return float(np.abs(r.a[:, where[0], axis]).max())
     if r.kind == "modes":
         raise DeckError(f"peak {p.name}: {p.case} is a modes case, which has no peaks", p.where)
