@@ -54,11 +54,15 @@ def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, 
             client = Client(scheduler, timeout=CONNECT_TIMEOUT)
             n = len(client.scheduler_info().get("workers", {}))
             where = f"scheduler {scheduler} ({n} worker{'s' if n != 1 else ''})"
-    except (OSError, TimeoutError) as exc:
+    except (OSError, TimeoutError, RuntimeError) as exc:
         if cluster is not None:
             cluster.close()
         what = "the local cluster could not start" if scheduler is None else f"no scheduler answers at {scheduler}"
-        raise StudyError(f"{what}: {exc}", ) from None
+        # worker processes are started afresh and import the script that started them: a script
+        # that runs a study at its top level would start another one in each of them
+        hint = ("; in a script, run the study under `if __name__ == \"__main__\":` (the worker processes "
+                "import the script), or run it serially") if scheduler is None else ""
+        raise StudyError(f"{what}: {exc}{hint}") from None
     try:
         shared = client.scatter(job, broadcast=True)
         futures = {client.submit(run_variant, shared, v.index, v.let, pure=False): v.index for v in variants}
