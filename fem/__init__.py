@@ -30,6 +30,7 @@ _EXPORTS = {
     "read_deck": "fem.deck.reader", "read_text": "fem.deck.reader",
     "solve": "fem.solver", "Results": "fem.results",
     "write_results": "fem.output.write",
+    "run_study": "fem.study", "read_study": "fem.study", "Study": "fem.study", "StudyResult": "fem.study",
     "Model": "fem.model", "LoadItem": "fem.model", "Combination": "fem.model",
     "StaticCase": "fem.cases", "ModesCase": "fem.cases", "FreeCase": "fem.cases",
     "HistoryCase": "fem.cases", "HarmonicCase": "fem.cases", "SpectrumCase": "fem.cases",

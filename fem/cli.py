@@ -1,4 +1,4 @@
-"""Command line: `quaver check DECK`, `quaver run DECK`. Heavy imports happen inside commands.
+"""Command line: `quaver check DECK`, `quaver run DECK`, `quaver study FILE` (fem/study/command.py). Heavy imports happen inside commands.
 
 `quaver run` is `run_deck`: read_deck -> solve -> write_results -> the summary; the summary's
 numbers (print_solved) are printed as soon as the tables are staged, before any picture is drawn,
@@ -41,10 +41,13 @@ def _parser() -> argparse.ArgumentParser:
                    help="frames a second of the animations, 1 to 50 (default 12)")
     r.add_argument("--case", action="append", metavar="NAME", dest="cases",
                    help="solve only this case or combination and what it needs (repeatable)")
+    from .study.command import add_parser as add_study
+
+    st = add_study(sub)
     for sp in (c, r):
         sp.add_argument("--set", action="append", type=_setting, metavar="NAME=VALUE", dest="let",
                         help="replace the value of the deck's let NAME, e.g. --set 'bay=7 m' (repeatable)")
-    for sp in (p, c, r):
+    for sp in (p, c, r, st):
         sp.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                         help=f"show the Python traceback of an internal error (or set {DEBUG_ENV}=1)")
     return p
@@ -109,6 +112,10 @@ def main(argv: list[str] | None = None) -> int:
                 print(line)
             print(CAUTION)
             return 0
+        if args.command == "study":
+            from .study.command import run_command
+
+            return run_command(args, CAUTION)
         return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs),
                         draw_modes=max(0, args.draw_modes), fps=args.fps, let=_overrides(args.let),
                         cases=args.cases)

@@ -19,7 +19,7 @@ LAYERS = {
     "analysis": ["fem.analysis*"],
     "solve": ["fem.solver", "fem.results", "fem.checks", "fem.case_selection"],
     "output": ["fem.output*"],
-    "cli": ["fem", "fem.cli", "fem.__main__"],
+    "cli": ["fem", "fem.cli", "fem.__main__", "fem.study*"],
 }
 # what each layer may import besides itself: the data types below everything, then each stage
 # the ones before it; only the top (the API and the CLI) reads decks

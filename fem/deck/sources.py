@@ -22,7 +22,8 @@ from .expressions import MAX_NESTING, too_deep
 from .syntax import keyword_callbacks
 from .syntax import parse as parse_deck_text
 
-__all__ = ["MAX_DECK_BYTES", "MAX_TABLE_BYTES", "Sources", "build_parser", "file_name", "read_utf8", "resolved"]
+__all__ = ["MAX_DECK_BYTES", "MAX_TABLE_BYTES", "Sources", "build_parser", "file_name", "parses_kept", "read_utf8",
+           "resolved"]
 
 # Our choice, from a measurement: a generated deck of node lines parsed at about 10-15 s and
 # 170 MB of memory per MB of deck (2-core machine shared with other jobs, load 4-9); `quaver
@@ -33,6 +34,25 @@ MAX_DECK_BYTES = 8_000_000
 # Our choice: a table (two numbers a row, ~25 bytes) of 32 MB holds over a million rows, e.g.
 # 20 minutes of a record sampled at 1 kHz; read row by row at ~6 bytes of memory per byte.
 MAX_TABLE_BYTES = 32_000_000
+
+
+# (file, text) -> parse tree, while a study reads one deck again and again with other values
+# (`parses_kept`); the reader never changes a tree, so a tree serves every reading of its text
+_KEPT: dict = {}
+_KEPT_MAX = 64          # trees kept at most (the deck's files and the overrides' one-line lets)
+_keeping = [0]          # blocks of parses_kept running
+
+
+@contextmanager
+def parses_kept():
+    """While the block runs, a deck text parsed in such a block before is not parsed again (its
+    tree is kept for the rest of the process, at most _KEPT_MAX of them, the least recently used dropped).
+    Outside such blocks nothing is kept or looked up, so a single reading frees its tree."""
+    _keeping[0] += 1
+    try:
+        yield
+    finally:
+        _keeping[0] -= 1
 
 
 @lru_cache(maxsize=1)
@@ -148,6 +168,19 @@ class Sources:
         return shown
 
     def parse(self, text: str, path: Path) -> Tree:
+        if not _keeping[0]:
+            return self._parse(text, path)
+        key = (str(path), text)
+        if key in _KEPT:
+            _KEPT[key] = tree = _KEPT.pop(key)      # the most recently used last
+            return tree
+        tree = self._parse(text, path)
+        if len(_KEPT) >= _KEPT_MAX:
+            _KEPT.pop(next(iter(_KEPT)))
+        _KEPT[key] = tree
+        return tree
+
+    def _parse(self, text: str, path: Path) -> Tree:
         # the collector would scan the growing tree again and again while lark builds it (a
         # million objects for a large deck) and finds no cycles to free there: paused meanwhile
         paused = gc.isenabled()

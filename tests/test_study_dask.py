@@ -1,0 +1,114 @@
+"""Studies on dask.distributed: a local cluster of worker processes, and a scheduler and two
+workers started here as separate processes on 127.0.0.1, give the serial path's numbers."""
+
+import os
+import socket
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from fem.study import read_study_text, run_study
+
+distributed = pytest.importorskip("distributed", reason="dask.distributed is not installed")
+
+CANTILEVER = """
+let h = 100 mm
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section R = rect(b = 100 mm, h = h)
+for i in 0..12 { node N[i] = (i*0.15 m, 0, 0) }
+for i in 0..11 { member M[i] : N[i] -> N[i+1] beam R S }
+support N0 fixed
+case MODES modes { count = 3 }
+case TIP static { force N12 = (0, 1 kN, -2 kN) }
+"""
+STUDY = 'deck "cant.deck"\nvary h in (80 mm, 95 mm, 105 mm, -1 mm, 120 mm)\npeak tip = TIP displacement N12 z\n'
+
+
+def _same(a, b):
+    """Every column but the timings equal, to the bit (NaN where a variant did not solve)."""
+    for k in a.columns:
+        if k == "seconds":
+            continue
+        x, y = a.columns[k], b.columns[k]
+        if isinstance(x[0], float):
+            np.testing.assert_array_equal(np.array(x, float), np.array(y, float), err_msg=k)
+        else:
+            assert x == y, k
+
+
+@pytest.fixture(scope="module")
+def serial_result(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("study")
+    (folder / "cant.deck").write_text(CANTILEVER)
+    s = read_study_text(STUDY, "t.study", folder)
+    return s, run_study(s, serial=True, progress=False)
+
+
+def test_a_local_cluster_gives_the_serial_numbers(serial_result):
+    s, serial = serial_result
+    local = run_study(s, workers=2, progress=False)
+    assert local.engine.startswith("local cluster of 2")
+    assert local.columns["status"] == ["ok", "ok", "ok", "refused", "ok"]
+    _same(serial, local)
+
+
+def _free_port() -> int:
+    with socket.socket() as so:
+        so.bind(("127.0.0.1", 0))
+        return so.getsockname()[1]
+
+
+@pytest.fixture(scope="module")
+def scheduler(tmp_path_factory):
+    """`dask scheduler` and two `dask worker` processes on 127.0.0.1 (random free ports, no
+    dashboard), stopped at teardown. The workers import fem from this checkout (PYTHONPATH)."""
+    logs = tmp_path_factory.mktemp("dask")
+    port = _free_port()
+    address = f"tcp://127.0.0.1:{port}"
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join([str(Path(__file__).resolve().parents[1]),
+                                                      os.environ.get("PYTHONPATH", "")]))
+    cmd = [sys.executable, "-m", "dask"]
+    procs = [subprocess.Popen(cmd + ["scheduler", "--host", "127.0.0.1", "--port", str(port), "--no-dashboard"],
+                              stdout=subprocess.DEVNULL, stderr=open(logs / "scheduler.log", "w"), env=env)]
+    for k in range(2):
+        procs.append(subprocess.Popen(cmd + ["worker", address, "--host", "127.0.0.1", "--nthreads", "1",
+                                             "--no-dashboard", "--name", f"w{k}"],
+                                      stdout=subprocess.DEVNULL, stderr=open(logs / f"worker{k}.log", "w"), env=env))
+    try:
+        from distributed import Client
+
+        deadline = time.monotonic() + 90
+        client = None
+        while client is None:
+            try:
+                client = Client(address, timeout="5s")
+            except OSError:
+                if time.monotonic() > deadline or procs[0].poll() is not None:
+                    pytest.skip(f"the dask scheduler did not start: {(logs / 'scheduler.log').read_text()[-500:]}")
+        try:
+            client.wait_for_workers(2, timeout=90)
+        except TimeoutError:
+            pytest.skip("the two dask workers did not join: " + (logs / "worker0.log").read_text()[-500:])
+        finally:
+            client.close()
+        yield address
+    finally:
+        for p in procs[::-1]:
+            p.terminate()
+        for p in procs[::-1]:
+            try:
+                p.wait(timeout=20)
+            except subprocess.TimeoutExpired:
+                p.kill()
+                p.wait()
+
+
+def test_a_started_scheduler_and_two_workers_give_the_local_numbers(serial_result, scheduler):
+    s, serial = serial_result
+    remote = run_study(s, scheduler=scheduler, progress=False)
+    assert remote.engine == f"scheduler {scheduler} (2 workers)"
+    _same(serial, remote)
