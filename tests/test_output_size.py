@@ -124,3 +124,14 @@ def test_unknown_write_choice_is_refused(solved, tmp_path):
     with pytest.raises(ValueError, match="tables, viewers, all"):
         write_results(solved, tmp_path / "x", write="pictures")
     assert not (tmp_path / "x").exists()
+
+
+def test_rerun_with_less_written_leaves_no_stale_files(solved, tmp_path):
+    # the folder holds what the last run wrote: viewer files of an earlier run do not linger
+    # beside tables that no longer match them
+    out = tmp_path / "out"
+    write_results(solved, out, write="viewers")
+    assert (out / "response" / "KICK.vtkhdf").exists()
+    write_results(solved, out, write="tables")
+    assert not (out / "response").exists() and not (out / "modes").exists()
+    assert (out / "results.json").exists()
