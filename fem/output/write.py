@@ -73,9 +73,10 @@ def prepare_folder(folder, deck: Path | None) -> tuple[Path, str, list[str]]:
 def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_modes: int = 6,
                   fps: float = 12.0, staged: Callable[[dict], None] | None = None,
                   write: str = "all") -> Written:
-    """Write the results folder of `results` (a `fem.results.Results`): CSV tables, VTU files
-    of mode shapes and responses, results.json, pictures (unless `render` is False) and the
-    report, staged and swapped in only when all succeeded.
+    """Write the results folder of `results` (a `fem.results.Results`): CSV tables, files for
+    VTK viewers (a VTU per mode, one VTKHDF file per free or history case), results.json,
+    pictures (unless `render` is False) and the report, or less as `write` says, staged and
+    swapped in only when all succeeded.
 
     Parameters
     ----------
