@@ -34,6 +34,9 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("deck")
     r.add_argument("--out", help="results folder (default results/<deck name>/)")
     r.add_argument("--no-render", action="store_true", help="skip pictures and animations")
+    r.add_argument("--write", choices=("tables", "viewers", "all"), default="all",
+                   help="what the results folder holds: tables (results.json and CSV), viewers (those and "
+                        "the files for VTK viewers) or all (also plots, pictures and the report; default)")
     r.add_argument("--jobs", type=int, default=2, help="processes for rendering (default 2)")
     r.add_argument("--draw-modes", type=int, default=6, metavar="N",
                    help="draw the first N modes of each modes case (default 6)")
@@ -118,7 +121,7 @@ def main(argv: list[str] | None = None) -> int:
             return run_command(args, CAUTION)
         return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs),
                         draw_modes=max(0, args.draw_modes), fps=args.fps, let=_overrides(args.let),
-                        cases=args.cases)
+                        cases=args.cases, write=args.write)
     except QuaverError as exc:
         state = folder.where()
         _say(f"error: {exc}" + (f"\nnote: {state}" if state.startswith("the new results") else ""))
@@ -136,10 +139,12 @@ def main(argv: list[str] | None = None) -> int:
 
 
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
-             draw_modes: int = 6, fps: float = 12.0, let: dict | None = None, cases=None) -> int:
+             draw_modes: int = 6, fps: float = 12.0, let: dict | None = None, cases=None,
+             write: str = "all") -> int:
     """Solve the deck and write its results folder (default results/<deck name>); `let`
     overrides let parameters (read_deck), `cases` names the cases and combinations to solve
-    (with what they need; all when None). Prints the summary; returns the exit status."""
+    (with what they need; all when None), `write` what the folder holds (write_results).
+    Prints the summary; returns the exit status."""
     from dataclasses import replace
     from pathlib import Path
 
@@ -166,7 +171,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             _silence_stdout()
 
     written = write_results(results, shown, render=render, jobs=jobs, draw_modes=draw_modes, fps=fps,
-                            staged=first_answer)
+                            staged=first_answer, write=write)
     status = print_written(results, replace(written, notes=(*notes, *written.notes)))
     sys.stdout.flush()          # a reader gone by now is met here (status 0), not at the exit
     return status

@@ -177,6 +177,9 @@ class _SuperLU(SPDFactor):
         if not np.array_equal(self.lu.perm_r, self.lu.perm_c):
             raise NotPositiveDefinite("SuperLU pivoted off the diagonal")
         _check_pivots(self.lu.U.diagonal(), column_diagonal(self.lu, A))
+        # the fill-reducing order it chose (column j of the factor is column_order[j] of A): a
+        # later factor of a matrix of the same pattern (the Sturm check's K - sigma M) reuses it
+        self.column_order = np.argsort(self.lu.perm_c)
 
     def solve(self, b):
         return self.lu.solve(np.asarray(b, dtype=float))
@@ -300,7 +303,8 @@ def shift_invert_factor(K, M, shift: float | None = None, kind: str = "auto") ->
                          "massless parts); restrain it or give it mass") from None
 
 
-def negative_eigenvalues(A, kind: str = "superlu", order: Ordering | None = None) -> int | None:
+def negative_eigenvalues(A, kind: str = "superlu", order: Ordering | None = None,
+                         column_order: np.ndarray | None = None) -> int | None:
     """Number of negative eigenvalues of the symmetric (indefinite) A, from a sparse LDL^T
     (Sylvester's law of inertia: P A P^T = L D L^T has as many negative pivots in D).
 
@@ -308,13 +312,18 @@ def negative_eigenvalues(A, kind: str = "superlu", order: Ordering | None = None
     P A P^T = L U with U = D L^T, so D is the diagonal of U; 'band': the same in the given
     band order (`order`), no fill-reducing reordering (2x faster on slender models);
     'pardiso': MKL's Bunch-Kaufman LDL^T, which reports the inertia itself. None when it
-    cannot be read (an off-diagonal pivot, a perturbed pivot, an exactly singular A)."""
+    cannot be read (an off-diagonal pivot, a perturbed pivot, an exactly singular A).
+    `column_order`: with 'superlu', the fill-reducing order of an earlier factor of a matrix of
+    the same pattern (`_SuperLU.column_order`), used instead of computing the ordering again
+    (the inertia does not depend on the order; only the cost does)."""
     if kind == "pardiso":
         return _pardiso_inertia(A)
     A = sp.csc_matrix(A)
     spec = "MMD_AT_PLUS_A"
     if kind == "band" and order is not None:
         A, spec = A[order.perm][:, order.perm].tocsc(), "NATURAL"
+    elif kind == "superlu" and column_order is not None and len(column_order) == A.shape[0]:
+        A, spec = A[column_order][:, column_order].tocsc(), "NATURAL"
     try:
         lu = spla.splu(A, permc_spec=spec, diag_pivot_thresh=0.0, options=dict(SymmetricMode=True))
     except RuntimeError:           # exactly singular: the shift sits on an eigenvalue

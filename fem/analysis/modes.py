@@ -123,18 +123,19 @@ def eigen_checks(K, M, lam, phi):
     return res, orth_m, float(ratio.max())
 
 
-def _one_blas_thread(factor):
-    """With MKL loaded, several BLAS libraries each start threads on the same cores; one
-    OpenBLAS thread during the Lanczos iterations avoids the oversubscription."""
-    from contextlib import nullcontext
+BLAS_THREADS = 1     # BLAS threads during the Lanczos iterations, whatever the factorisation (None: no limit)
 
-    if "PARDISO" not in factor.name:
-        return nullcontext()
-    try:
-        from threadpoolctl import threadpool_limits
-    except ImportError:
-        return nullcontext()
-    return threadpool_limits(limits=1, user_api="blas")   # measured best of none, OpenBLAS-only, all
+
+def _one_blas_thread(factor=None):
+    """BLAS limited to BLAS_THREADS during the Lanczos iterations (threadpoolctl): their dense
+    work is on thin blocks (the basis times a few vectors, the triangular band solves) where
+    threads cost more in start-up and contention than they save, and on a shared machine they
+    oversubscribe the cores (with MKL loaded, several BLAS libraries each start their own).
+    Measured by benchmarks/factor_count.py (threads). `factor` is kept for the callers: the limit
+    no longer depends on it."""
+    from threadpoolctl import threadpool_limits
+
+    return threadpool_limits(limits=BLAS_THREADS, user_api="blas")
 
 
 def massless_dofs(M) -> np.ndarray:
@@ -349,7 +350,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
         want = min(want, n_fin)
         more = False
         solver = "dense"
-        inertia_kind, band_order = "superlu", None
+        inertia_kind, band_order, column_order = "superlu", None, None
     else:
         from .factor import shift_invert_factor
 
@@ -359,6 +360,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
         factor, sigma = cache["factor"]
         definite = sigma == 0 and factor.definite       # K itself has a Cholesky factor
         inertia_kind, band_order = factor.kind, factor.order
+        column_order = getattr(factor, "column_order", None)   # SuperLU's ordering, reused by the Sturm check
         k = min((want if n_modes else 20) + extra, n_fin - 2)
         while True:
             with _one_blas_thread(factor):
@@ -382,7 +384,7 @@ def solve_modes(K, M, n_modes: int | None = None, f_max: float | None = None,
         if shift_used is not None:
             from .factor import negative_eigenvalues
 
-            count = negative_eigenvalues((K - shift_used * M).tocsc(), inertia_kind, band_order)
+            count = negative_eigenvalues((K - shift_used * M).tocsc(), inertia_kind, band_order, column_order)
         rounds = 0
         while basis is not None and count is not None and count > expected and rounds < DEFLATION_ROUNDS:
             # modes missed below the check shift (a repeated eigenvalue shows a single start

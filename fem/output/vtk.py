@@ -1,6 +1,7 @@
-"""Mode-shape and response files any VTK viewer opens: one VTU per frame (meshio), members as
-polylines through points along them carrying the members' own interpolated shapes, and a PVD
-collection to step through them.
+"""Mode-shape and response files any VTK viewer opens, members as polylines through points along
+them carrying the members' own interpolated shapes: one VTU per mode (meshio) and a PVD
+collection to step through them; one VTKHDF file per response case holding all its time steps
+(h5py), so a time series is one file, not one per frame.
 
 Points: the model's nodes first, in model order (point i is node i), then the inner points of
 each member in member order (VTU_POINTS - 2 per member, evenly spaced; fewer when the inner
@@ -22,8 +23,8 @@ import numpy as np
 from ..elements.interpolate import member_curves, points_per_member, prepare_curves
 from ..model import Model
 
-__all__ = ["MAX_TURN", "drawing_scale", "shape_scale", "write_pvd", "write_mode_files",
-           "write_response_files"]
+__all__ = ["MAX_TURN", "RESPONSE_FORMAT", "drawing_scale", "shape_scale", "write_pvd", "write_mode_files",
+           "write_response_files", "write_vtkhdf_series"]
 
 MAX_TURN = 0.5       # rad: the largest section rotation a drawn shape shows (our choice)
 VTU_POINTS = 5       # points along each member in the files: a cubic's bow shows at this count
@@ -129,17 +130,62 @@ def write_mode_files(folder: Path, model: Model, modal, length: float | None = N
     return files + [folder / f"{modal.name}_modes.pvd", _write_names(folder, model)]
 
 
+RESPONSE_FORMAT = "vtkhdf"   # one file per response case: VTKHDF 2 (HDF5) with its time steps
+
+
 def write_response_files(folder: Path, model: Model, name: str, t: np.ndarray, u_all: np.ndarray,
                          every: int = 1) -> list[Path]:
-    """Deformed shapes over time, u_all (m, n, 6) true scale, every `every`-th step, along
-    the members as for modes."""
+    """Deformed shapes over time, u_all (m, n, 6) true scale, every `every`-th step, along the
+    members as for modes, as ONE file response/<name>.vtkhdf (VTKHDF 2.0, an unstructured grid
+    whose time steps share one geometry: VTK-based viewers step through them) plus names.csv;
+    returns the files."""
     folder.mkdir(parents=True, exist_ok=True)
     grid = _Grid(model)
-    entries, files = [], []
-    for i in range(0, len(t), every):
-        fname = f"{name}_{i:06d}.vtu"
-        grid.write(folder / fname, grid.fields(u_all[i]))
-        entries.append((float(t[i]), fname))
-        files.append(folder / fname)
-    write_pvd(folder / f"{name}.pvd", entries)
-    return files + [folder / f"{name}.pvd", _write_names(folder, model)]
+    steps = range(0, len(t), every)
+    path = folder / f"{name}.{RESPONSE_FORMAT}"
+    write_vtkhdf_series(path, grid, [float(t[i]) for i in steps], (grid.fields(u_all[i]) for i in steps))
+    return [path, _write_names(folder, model)]
+
+
+def write_vtkhdf_series(path: Path, grid: _Grid, times: list[float], fields) -> None:
+    """A transient VTKHDF 2.0 unstructured grid (docs.vtk.org, VTKHDF format specification,
+    'Transient data'): the points and line cells written once as one part that every step
+    reuses (Steps/PartOffsets 0), the point data of step i at rows i P .. (i + 1) P - 1
+    (Steps/PointDataOffsets), the index arrays `node` and `member` once (offset 0). `fields`
+    yields a dict of (P, 3) arrays per time; the arrays are gzip-compressed in chunks of one
+    step."""
+    import h5py
+
+    n_pts, n_cells, m = len(grid.points), len(grid.lines), len(times)
+    with h5py.File(path, "w") as h5:
+        root = h5.create_group("VTKHDF")
+        root.attrs["Version"] = np.array([2, 0], dtype=np.int64)
+        kind = "UnstructuredGrid".encode("ascii")
+        root.attrs.create("Type", kind, dtype=h5py.string_dtype("ascii", len(kind)))
+        for key, value in (("NumberOfPoints", n_pts), ("NumberOfCells", n_cells),
+                           ("NumberOfConnectivityIds", 2 * n_cells)):
+            root.create_dataset(key, data=np.array([value], dtype=np.int64))
+        root.create_dataset("Points", data=np.ascontiguousarray(grid.points, dtype=float))
+        root.create_dataset("Offsets", data=np.arange(0, 2 * n_cells + 1, 2, dtype=np.int64))
+        root.create_dataset("Connectivity", data=grid.lines.ravel().astype(np.int64))
+        root.create_dataset("Types", data=np.full(n_cells, 3, dtype=np.uint8))     # VTK_LINE
+        pd, cd = root.create_group("PointData"), root.create_group("CellData")
+        cd.create_dataset("member", data=grid.member)
+        pd.create_dataset("node", data=grid.node)
+        st = root.create_group("Steps")
+        st.attrs["NSteps"] = np.int64(m)
+        st.create_dataset("Values", data=np.asarray(times, dtype=float))
+        for key in ("PartOffsets", "PointOffsets", "CellOffsets", "ConnectivityIdOffsets"):
+            st.create_dataset(key, data=np.zeros(m, dtype=np.int64))
+        st.create_dataset("NumberOfParts", data=np.ones(m, dtype=np.int64))
+        pdo, cdo = st.create_group("PointDataOffsets"), st.create_group("CellDataOffsets")
+        pdo.create_dataset("node", data=np.zeros(m, dtype=np.int64))
+        cdo.create_dataset("member", data=np.zeros(m, dtype=np.int64))
+        out = {}
+        for i, data in enumerate(fields):
+            for key, v in data.items():
+                if key not in out:
+                    out[key] = pd.create_dataset(key, shape=(m * n_pts, 3), dtype=float, compression="gzip",
+                                                 chunks=(max(n_pts, 1), 3), shuffle=True)
+                    pdo.create_dataset(key, data=np.arange(m, dtype=np.int64) * n_pts)
+                out[key][i * n_pts:(i + 1) * n_pts] = v

@@ -1,4 +1,5 @@
-"""`write_results`: a results folder that loses nothing, holding exactly what `quaver run` writes.
+"""`write_results`: a results folder that loses nothing, holding exactly what `quaver run` writes
+(all of it, or by `write` the tables alone or the tables and the files for viewers).
 
 The tables, VTU files, results.json, pictures and report go to a folder staged beside the
 target and are swapped into place only when everything succeeded (`fem.output.folder`), so a
@@ -20,7 +21,11 @@ from . import pictures, report
 from .results_json import write_results_json
 from .tables import write_tables
 
-__all__ = ["Written", "prepare_folder", "write_results"]
+__all__ = ["WRITE_CHOICES", "Written", "prepare_folder", "write_results"]
+
+# what a results folder holds, from least to most: results.json and the CSV tables; those and the
+# files for VTK viewers (modes/, response/); everything (also plots, pictures and the report)
+WRITE_CHOICES = ("tables", "viewers", "all")
 
 
 @dataclass(frozen=True)
@@ -66,10 +71,12 @@ def prepare_folder(folder, deck: Path | None) -> tuple[Path, str, list[str]]:
 
 
 def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_modes: int = 6,
-                  fps: float = 12.0, staged: Callable[[dict], None] | None = None) -> Written:
-    """Write the results folder of `results` (a `fem.results.Results`): CSV tables, VTU files
-    of mode shapes and responses, results.json, pictures (unless `render` is False) and the
-    report, staged and swapped in only when all succeeded.
+                  fps: float = 12.0, staged: Callable[[dict], None] | None = None,
+                  write: str = "all") -> Written:
+    """Write the results folder of `results` (a `fem.results.Results`): CSV tables, files for
+    VTK viewers (a VTU per mode, one VTKHDF file per free or history case), results.json,
+    pictures (unless `render` is False) and the report, or less as `write` says, staged and
+    swapped in only when all succeeded.
 
     Parameters
     ----------
@@ -91,6 +98,10 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         written (staged, not yet in place), before the pictures and the report: `quaver run`
         prints the summary there, so the first numbers do not wait for the drawing. What it
         raises fails the write as any other error does (nothing is moved into place).
+    write : {'tables', 'viewers', 'all'}
+        What the folder holds: 'tables' results.json and the CSV tables; 'viewers' those and
+        the files for VTK viewers (modes/, response/); 'all' (default) also the plots, pictures
+        (unless `render` is False) and the report.
 
     Returns
     -------
@@ -108,23 +119,29 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
     """
     from .vtk import write_mode_files, write_response_files
 
+    if write not in WRITE_CHOICES:
+        raise ValueError(f"write = {write!r}: choose one of {', '.join(WRITE_CHOICES)}")
     deck = _deck(results)
     target, shown, notes = prepare_folder(folder, deck)
     tmp = _folder.stage(target)
     model = results.model
     try:
         write_tables(results, tmp)
-        for r in results.of_kind("modes"):
-            write_mode_files(tmp / "modes", model, r)
-        for r in results.of_kind("free", "history"):
-            write_response_files(tmp / "response", model, r.name, r.frame_t, r.frames)
+        if write != "tables":
+            for r in results.of_kind("modes"):
+                write_mode_files(tmp / "modes", model, r)
+            for r in results.of_kind("free", "history"):
+                write_response_files(tmp / "response", model, r.name, r.frame_t, r.frames)
         doc = write_results_json(results, tmp)
         if staged is not None:
             staged(doc)
-        notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps) if render
-                  else "pictures skipped (--no-render)")
-        with stage("writing the report"):
-            report.report(results, doc, tmp, notice)
+        if write == "all":
+            notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps) if render
+                      else "pictures skipped (--no-render)")
+            with stage("writing the report"):
+                report.report(results, doc, tmp, notice)
+        else:
+            notice = f"pictures, plots and report not written (--write {write})"
         _folder.write_manifest(tmp, target.name)
         notes += _folder.swap(tmp, target, shown)
     except ResultsError:
