@@ -3,21 +3,22 @@ forces into shear and torsional stresses.
 
 Normal stress at a point (y, z) of the section, tension positive, local axes of the member
 (x along it, y the width, z the depth; angles on their principal axes):
-sigma = N/A + My z/Iy - Mz y/Iz (Gere & Goodno, Mechanics of Materials, 8th ed., sec. 6.4,
-Eq. 6-22 with the sign of Mz turned for a right-handed x, y, z). Its extremes lie at the
+sigma = N/A + My z/Iy - Mz y/Iz (Gere & Goodno, Mechanics of Materials, 8th ed., ch. 6,
+doubly symmetric beams with inclined loads, with the sign of Mz for a right-handed x, y, z). Its extremes lie at the
 corners of the outline for rectangles, tubes, I shapes, channels and angles (the points
 listed), and on the circle for round bars and pipes: N/A +/- sqrt(My^2 + Mz^2) c/I.
 
 Shear stress from a shear force V, the largest on the section: V Q/(I t) at the neutral axis
-(Gere & Goodno sec. 5.8-5.10) with the Q and t of each shape below, except angles (no
+(Gere & Goodno ch. 5, shear stresses in beams) with the Q and t of each shape below, except angles (no
 closed form on the principal axes is used here: 1.5 V/(t min(b, h)), each leg as a rectangle
 carrying the whole shear; conservative, common practice, no source) and generic sections (the
 average V/Av over the shear area they declare). Torsion: T r/J for round bars and pipes
-(Gere & Goodno Eq. 3-13), Bredt's T/(2 A_m t) for rectangular tubes (Roark, Formulas for
-Stress and Strain, 7th ed., Table 10.2 case 16), T t_max/J for open thin-walled shapes
-(Roark Table 10.2 case 27 sums), the Saint-Venant series for a solid rectangle (Timoshenko &
-Goodier, Theory of Elasticity, 3rd ed., sec. 109) and T/Wt for a generic section that declares
-its torsional modulus Wt.
+(Gere & Goodno ch. 3), Bredt's T/(2 A_m t) for rectangular tubes (Roark, Formulas for
+Stress and Strain, 7th ed., Table 10.1, thin-walled closed sections), T t_max/J for open
+thin-walled shapes (Roark Table 10.1, open sections of thin plates: the thickest plate), the
+Saint-Venant series for a solid rectangle (Timoshenko & Goodier, Theory of Elasticity, 3rd ed.,
+sec. 109) and T/Wt for a generic section that declares its torsional modulus Wt (table and
+section numbers from memory).
 """
 
 from __future__ import annotations
