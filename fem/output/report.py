@@ -11,6 +11,7 @@ import numpy as np
 
 from . import resonance_out
 from .fmt import percent
+from .stress_out import report_section as stress_section
 
 __all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "report", "write_report"]
 
@@ -200,6 +201,7 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
             parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],
                                                         ["base shear X, Y", f"{b['Fx'] / 1e3:.4g} kN, {b['Fy'] / 1e3:.4g} kN"],
                                                         ["largest displacement", f"{c['max_displacement_m']:.4g} m"]]))
+        parts.append(stress_section(c, doc, _table))
         parts += [_img(p, cap, "plot" if p.parent.name == "plots" else "gallery")
                   for p, cap in images.get(c["name"], [])]
     parts.append(f'<p class="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p></body></html>')
