@@ -40,9 +40,9 @@ def _display(units, values, kinds):
         return values
     v = np.array(values, float)
     flat = v.reshape(len(v), -1)
-    for q in {k for k in kinds if k is not None}:
+    for q in set(kinds):
         cols = [j for j, k in enumerate(kinds) if k == q]
-        flat[:, cols] = tidy(flat[:, cols] * units.per_si(q))
+        flat[:, cols] = tidy(flat[:, cols] * (units.per_si(q) if q else 1.0))
     return flat.reshape(v.shape)
 
 
