@@ -103,6 +103,11 @@ def test_tables_in_display_units_and_json_stays_si(tmp_path):
     assert j_en["display_units"]["stress"] == "MPa" and j_en["display_units"]["chosen"] is True
     assert j_si["units"]["stress"] == "Pa"
     assert j_en["cases"][0]["stresses"]["governing"]["ratio_to_yield"] is not None
+    # the report: the stress table in MPa either way, lengths in the display unit when chosen
+    rep_si, rep_en = ((p / "report.html").read_text() for p in (si, en))
+    assert "equivalent MPa" in rep_si and "equivalent MPa" in rep_en
+    top = j_si["cases"][0]["max_translation_m"]
+    assert f"{top:.4g} m<" in rep_si and f"{1e3 * top:.4g} mm<" in rep_en
 
 
 def test_cli_units_option(tmp_path, capsys):

@@ -115,15 +115,18 @@ def report_section(c: dict, doc: dict, table) -> str:
     block = c.get("stresses")
     if not block or block["governing"] is None:
         return ""
-    du = doc.get("display_units") or {}
-    unit = du.get("stress", "MPa") if du.get("chosen") else "MPa"
-    k = 1.0 / {"Pa": 1.0, "kPa": 1e3, "MPa": 1e6, "GPa": 1e9, "N/mm^2": 1e6}[unit]
+    from .fmt import doc_units
+
+    units = doc_units(doc)
+    k, unit = (units.per_si("stress"), units.label("stress")) if units.chosen else (1e-6, "MPa")
     rows = [(m, v) for m, v in block["members"].items() if v["mises_Pa"] is not None]
     rows.sort(key=lambda mv: -mv[1]["mises_Pa"])
     at = next((key for key in ("time_s", "frequency_Hz") if key in rows[0][1]), None) if rows else None
 
-    def f(v):
-        return "" if v is None else f"{v * k:.4g}"
+    top = rows[0][1]["mises_Pa"] if rows else 0.0
+
+    def f(v):       # round-off under ZERO_TOL of the case's largest stress shows as 0
+        return "" if v is None else f"{tidy([v], top)[0] * k:.4g}"
 
     head = ["member", f"sigma max {unit}", f"sigma min {unit}", f"shear {unit}", f"torsion {unit}",
             f"equivalent {unit}", "ratio to yield", *(["at " + at.replace("_", " ")] if at else [])]
