@@ -367,7 +367,7 @@ def _stresses(model, H, Fm, m_static, freq):
 
     def forces(rows):
         static = m_static if isinstance(m_static, np.ndarray) else (m_static[0][rows], m_static[1])
-        return (H[rows] @ cols).reshape(len(rows), e, 12) + _columns(static, np.arange(12 * e), (e, 12))
+        return (H[rows] @ cols).reshape(-1, e, 12) + _columns(static, np.arange(12 * e), (e, 12))
 
     return harmonic_stresses(model, forces, freq)
 

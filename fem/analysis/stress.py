@@ -237,8 +237,8 @@ def member_stresses(model: Model, forces, w_local=None, *, table: SectionTable |
 
 def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s") -> MemberStresses:
     """Peaks over a series of static-like states (a history's steps): `forces(rows)` gives the
-    end forces (b, e, 12) of the steps `rows`, `w_local(rows)` their line loads (b, e, 3) or is
-    None; `times` (m,) labels the steps. Each quantity is its largest over the steps (sigma_min
+    end forces (b, e, 12) of the steps `rows` (a slice), `w_local(rows)` their line loads
+    (b, e, 3) or is None; `times` (m,) labels the steps. Each quantity is its largest over the steps (sigma_min
     its smallest); `at` is the time of the largest equivalent stress, `x` where |sigma| was then."""
     tab = section_table(model)
     e, m = model.n_members, len(times)
@@ -246,7 +246,7 @@ def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s") 
     block = max(1, _BLOCK // max(1, e * width))
     best = None
     for a in range(0, m, block):
-        rows = np.arange(a, min(m, a + block))
+        rows = slice(a, min(m, a + block))
         s = member_stresses(model, forces(rows), None if w_local is None else w_local(rows), table=tab)
         if best is None:
             best = {k: np.full(e, -np.inf) for k in ("sigma_max", "axial", "bending_y", "bending_z", "shear",
@@ -260,7 +260,7 @@ def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s") 
         i = np.nan_to_num(s.mises, nan=-1.0).argmax(axis=0)
         top = s.mises[i, np.arange(e)]
         new = top >= best["mises"]
-        best["at"][new] = times[rows[i[new]]]
+        best["at"][new] = times[a + i[new]]
         best["x"][new] = s.x[i[new], np.flatnonzero(new)]
     keys = ("sigma_max", "sigma_min", "axial", "bending_y", "bending_z", "shear", "torsion", "tau", "mises", "x")
     vals = {k: np.where(tab.known, best[k], np.nan) for k in keys}
@@ -269,7 +269,7 @@ def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s") 
 
 def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
     """Amplitudes of a harmonic case: `forces(rows)` gives the complex end-force amplitudes
-    (b, e, 12) at the frequencies `rows` of `freq` (m,) Hz. At each frequency the stress at a
+    (b, e, 12) at the frequencies `rows` (a slice) of `freq` (m,) Hz. At each frequency the stress at a
     point is |sum of the complex terms| (phases kept); the largest over the frequencies, with
     the frequency of the largest equivalent stress."""
     tab = _circle(section_table(model))
@@ -279,11 +279,11 @@ def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
     best = {k: np.zeros(e) for k in keys}
     at = np.full(e, np.nan)
     for a in range(0, m, block):
-        rows = np.arange(a, min(m, a + block))
+        rows = slice(a, min(m, a + block))
         F = forces(rows)
         ends = _end_actions(F)                                     # (b, e, 2, 6) complex
         sig = np.abs(_normal(tab, ends[..., 0], ends[..., 4], ends[..., 5]))
-        smax = sig.reshape(len(rows), e, -1).max(axis=-1)
+        smax = sig.reshape(len(F), e, -1).max(axis=-1)
         v, t = _shear(tab, ends)
         got = {"sigma_max": smax, "axial": np.abs(ends[..., 0]).max(-1) / tab.A,
                "bending_y": np.abs(ends[..., 4]).max(-1) * tab.zmax / tab.Iy,
@@ -292,7 +292,7 @@ def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
         got["mises"] = np.sqrt(smax**2 + 3 * got["tau"] ** 2)
         i = got["mises"].argmax(axis=0)
         new = got["mises"][i, np.arange(e)] >= best["mises"]
-        at[new] = freq[rows[i[new]]]
+        at[new] = freq[a + i[new]]
         for k in keys:
             best[k] = np.maximum(best[k], got[k].max(axis=0))
     vals = {k: np.where(tab.known, best[k], np.nan) for k in keys}
