@@ -218,7 +218,9 @@ def member_stresses(model: Model, forces, w_local=None, *, table: SectionTable |
     """Stresses of a static result (exact): end forces `forces` (e, 12) in the layout of
     `StaticResult.member_forces` (N, Vy, Vz, T, My, Mz at i then j, forces on the member,
     local axes) and the uniform line loads `w_local` (e, 3) N/m in local axes (None: none).
-    A combination passes the factored sums of both."""
+    A combination passes the factored sums of both. The actions along the member follow from
+    the forces at end i and the load by equilibrium (those at end j are what they reach for a
+    solved member), so forces and loads must belong together."""
     tab = table or section_table(model)
     F = np.asarray(forces, float)
     w = None if w_local is None or not np.any(w_local) else np.asarray(w_local, float)
