@@ -336,3 +336,45 @@ def test_spectrum_stresses_are_not_from_combined_forces():
     # far above the round-off of either (1e-12)
     assert s.sigma_max[k] < from_forces * (1 - 1e-5)
     assert s.sigma_max[k] >= max(F[4], F[10]) / sec.Wy * (1 - 1e-9)  # at least the bending alone
+
+
+SHAPE_CASES = [
+    ("pipe", {"od": 0.1683, "wall": 0.00711}),
+    ("round", {"d": 0.05}),
+    ("rhs", {"b": 0.1, "h": 0.16, "t": 0.006}),
+    ("rhs", {"b": 0.1, "h": 0.16, "t": 0.006, "ro": 0.012}),
+    ("rect", {"b": 0.1, "h": 0.2}),
+    ("ishape", {"d": 0.3, "bf": 0.3, "tf": 0.019, "tw": 0.011, "r": 0.027}),
+    ("angle", {"b": 0.06, "h": 0.04, "t": 0.005}),
+    ("channel", {"d": 0.15, "bf": 0.075, "tf": 0.01, "tw": 0.0055, "r": 0.01}),
+    ("catalogue", {"designation": "HEB 300"}),
+    ("catalogue", {"designation": "L4X4X1/2"}),
+]
+
+
+@pytest.mark.parametrize("shape, dims", SHAPE_CASES, ids=lambda v: v if isinstance(v, str) else "-".join(map(str, v.values())))
+def test_stress_points_agree_with_the_section_moduli(shape, dims):
+    """For every shape the farthest stress points from each axis give the section's own elastic
+    moduli, computed independently in fem/sections/shapes.py: max |z| = Iy/Wy, max |y| = Iz/Wz
+    (Gere & Goodno ch. 5: W = I/c); the shear and torsion factors are positive."""
+    from fem.sections import make_section
+    from fem.sections.points import stress_points
+
+    p = make_section(shape, dims)
+    s = stress_points(shape, dims, p)
+    far_z = s.radius or max(abs(z) for z in s.z)
+    far_y = s.radius or max(abs(y) for y in s.y)
+    assert far_z == pytest.approx(p.Iy / p.Wy, rel=1e-12)
+    assert far_y == pytest.approx(p.Iz / p.Wz, rel=1e-12)
+    assert s.shear_y > 0 and s.shear_z > 0 and s.torsion > 0
+
+
+def test_thin_pipe_shear_tends_to_twice_the_average():
+    """A thin circular tube carries its largest shear stress 2V/A at the neutral axis (Gere &
+    Goodno ch. 5, circular tubes); V Q/(I t) of a tube with t/D = 1/200 is within 1 % of it."""
+    from fem.sections import make_section
+    from fem.sections.points import stress_points
+
+    p = make_section("pipe", {"od": 1.0, "wall": 0.005})
+    s = stress_points("pipe", {"od": 1.0, "wall": 0.005}, p)
+    assert s.shear_z == pytest.approx(2 / p.A, rel=1e-2)
