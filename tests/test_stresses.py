@@ -293,8 +293,13 @@ def test_generic_section_needs_its_moduli():
     the corner formula N/A +/- My/Wy +/- Mz/Wz applies (Gere & Goodno ch. 8)."""
     base = CANTILEVER.format(section="generic(A = 0.02 m^2, Iy = 6.67e-5 m^4, Iz = 1.67e-5 m^4, J = 4.6e-5 m^4 EXTRA)",
                              N=10, Vy=2, Vz=-5, T=0)
-    s = _solve(base.replace(" EXTRA", "")).stresses["TIP"]
+    r = _solve(base.replace(" EXTRA", ""))
+    s = r.stresses["TIP"]
     assert np.isnan(s.sigma_max[0]) and s.governing() is None
+    from fem.output.stress_out import stress_block, summary_lines
+
+    assert "declare Wy, Wz" in summary_lines(r, "TIP", "")[0]
+    assert stress_block(r, "TIP")["sections_without_stress_points"] == ["P"]
     s = _solve(base.replace(" EXTRA", ", Wy = 6.67e-4 m^3, Wz = 3.34e-4 m^3")).stresses["TIP"]
     assert s.sigma_max[0] == pytest.approx(10e3 / 0.02 + 10e3 / 6.67e-4 + 4e3 / 3.34e-4, rel=1e-9)
 

@@ -106,8 +106,13 @@ def summary_lines(results, name: str, indent: str) -> list[str]:
     sign = "+/-" if s.basis in ("amplitude", "combined peaks") else ""
     rng = (f"normal {sign}{s.sigma_max[g] * k:.4g} {unit}" if sign else
            f"normal {s.sigma_min[g] * k:.4g} to {s.sigma_max[g] * k:.4g} {unit}")
-    return [f"{indent}stresses ({_BASIS[s.basis]}): governing member {model.member_names[g]} "
-            f"({model.member_section[g]}), equivalent {s.mises[g] * k:.4g} {unit}{where}; {rng}{ratio}"]
+    lines = [f"{indent}stresses ({_BASIS[s.basis]}): governing member {model.member_names[g]} "
+             f"({model.member_section[g]}), equivalent {s.mises[g] * k:.4g} {unit}{where}; {rng}{ratio}"]
+    missing = sorted({model.member_section[j] for j in np.flatnonzero(np.isnan(s.mises))})
+    if missing:
+        lines.append(f"{indent}no stresses in the members of section(s) {', '.join(missing)}: a generic section "
+                     "needs Wy and Wz for them")
+    return lines
 
 
 def report_section(c: dict, doc: dict, table) -> str:
