@@ -201,7 +201,8 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     from .stress import series_stresses
 
     cols = Fm.reshape(k, -1).T
-    stresses = series_stresses(model, lambda rows: (q[rows] @ cols.T).reshape(-1, model.n_members, 12), t)
+    stresses = series_stresses(model, lambda rows: (q[rows] @ cols.T).reshape(-1, model.n_members, 12), t,
+                               linear=(q, cols.T))
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
                           captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                           rel, ft, frames, warnings, start_error, rounding, ok, stresses)

@@ -166,4 +166,5 @@ def _stresses(model, qg, columns, G, lines, t):
     """Member stresses of every step (end forces qg @ columns^T, line loads G @ lines), peaks over time."""
     e = model.n_members
     w = (lambda rows: (G[rows] @ lines).reshape(-1, e, 3)) if np.any(lines) else None
-    return series_stresses(model, lambda rows: (qg[rows] @ columns.T).reshape(-1, e, 12), t, w)
+    return series_stresses(model, lambda rows: (qg[rows] @ columns.T).reshape(-1, e, 12), t, w,
+                           linear=(qg, columns.T))

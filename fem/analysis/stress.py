@@ -101,16 +101,34 @@ def section_table(model: Model) -> SectionTable:
                         np.maximum(np.abs(pz).max(axis=1), radius), ky, kz, kt, known, fy)
 
 
-def _circle(tab: SectionTable) -> SectionTable:
-    """The table with a round section's outline as `ROUND_POINTS` points (every 5 degrees), for
-    the stresses that need a sum over points (amplitudes, combined peaks)."""
+def _groups(tab: SectionTable):
+    """The members as (mask, table of those members with their points): round members with
+    their outline as `ROUND_POINTS` points (every 5 degrees), the others with their own, for the
+    stresses that need a sum over points (amplitudes, combined peaks)."""
     from dataclasses import replace
 
+    out = []
+    rnd = tab.radius > 0
     theta = np.arange(ROUND_POINTS) * 2 * np.pi / ROUND_POINTS
-    if not tab.radius.any():
-        return tab
-    cy, cz = tab.radius[:, None] * np.cos(theta), tab.radius[:, None] * np.sin(theta)
-    return replace(tab, py=np.hstack([tab.py, cy]), pz=np.hstack([tab.pz, cz]), radius=np.zeros_like(tab.radius))
+    for sel in (~rnd, rnd):
+        if not sel.any():
+            continue
+        sub = replace(tab, **{k: getattr(tab, k)[sel] for k in tab.__dataclass_fields__})
+        if sel is rnd:
+            r = sub.radius[:, None]
+            sub = replace(sub, py=r * np.cos(theta), pz=r * np.sin(theta), radius=np.zeros_like(sub.radius))
+        out.append((sel, sub))
+    return out
+
+
+def _point_peaks(tab: SectionTable, ends, reduce):
+    """reduce(sigma (..., e_g, 2, P)) -> (..., e_g) for each group of `_groups`, joined (..., e);
+    `ends` (..., e, 2, 6) internal actions at the ends."""
+    out = np.zeros(ends.shape[:-2], float)
+    for sel, sub in _groups(tab):
+        g = ends[..., sel, :, :]
+        out[..., sel] = reduce(_normal(sub, g[..., 0], g[..., 4], g[..., 5]))
+    return out
 
 
 @dataclass
@@ -214,13 +232,14 @@ def _finish(tab, basis, smax, smin, axial, by, bz, v, t, x, at=None, at_unit="")
     return MemberStresses(basis, *out, out[8] / tab.fy, at, at_unit)
 
 
-def member_stresses(model: Model, forces, w_local=None, *, table: SectionTable | None = None) -> MemberStresses:
+def member_stresses(model: Model, forces, w_local=None, *, table: SectionTable | None = None,
+                    where: bool = True) -> MemberStresses:
     """Stresses of a static result (exact): end forces `forces` (e, 12) in the layout of
     `StaticResult.member_forces` (N, Vy, Vz, T, My, Mz at i then j, forces on the member,
     local axes) and the uniform line loads `w_local` (e, 3) N/m in local axes (None: none).
     A combination passes the factored sums of both. The actions along the member follow from
     the forces at end i and the load by equilibrium (those at end j are what they reach for a
-    solved member), so forces and loads must belong together."""
+    solved member), so forces and loads must belong together. `where=False` leaves `x` out."""
     tab = table or section_table(model)
     F = np.asarray(forces, float)
     w = None if w_local is None or not np.any(w_local) else np.asarray(w_local, float)
@@ -229,27 +248,66 @@ def member_stresses(model: Model, forces, w_local=None, *, table: SectionTable |
     N, My, Mz = _actions_at(F, w, x)
     sig = _normal(tab, N, My, Mz)                            # (e, s, P)
     flat = sig.reshape(*sig.shape[:-2], -1)
-    where = np.abs(flat).argmax(axis=-1) // sig.shape[-1]
-    xs = np.take_along_axis(x, where[..., None], axis=-1)[..., 0]
+    if where:
+        k = np.abs(flat).argmax(axis=-1) // sig.shape[-1]
+        xs = np.take_along_axis(x, k[..., None], axis=-1)[..., 0]
+    else:
+        xs = np.full(flat.shape[:-1], np.nan)
     v, t = _shear(tab, _end_actions(F))
     return _finish(tab, "exact", flat.max(axis=-1), flat.min(axis=-1), np.abs(N).max(axis=-1) / tab.A,
                    np.abs(My).max(axis=-1) * tab.zmax / tab.Iy, np.abs(Mz).max(axis=-1) * tab.ymax / tab.Iz,
                    v, t, xs)
 
 
-def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s") -> MemberStresses:
+class _Projected:
+    """The stresses of a block of steps from end forces that are q @ columns (no line load):
+    every end action and the normal stress at every point are linear in q, so one product per
+    block gives them all (the columns' stresses made once); a round section's extremes after."""
+
+    def __init__(self, tab: SectionTable, columns):
+        c = len(columns)
+        ends = _end_actions(np.asarray(columns, float).reshape(c, -1, 12))           # (c, e, 2, 6)
+        from dataclasses import replace
+
+        sig = _normal(replace(tab, radius=np.zeros_like(tab.radius)), ends[..., 0], ends[..., 4], ends[..., 5])
+        self.P, self.tab = sig.shape[-1], tab
+        self.lin = np.concatenate([sig, ends], axis=-1).reshape(c, -1)               # (c, e*2*(P+6))
+
+    def __call__(self, q):
+        tab, P = self.tab, self.P
+        Y = (q @ self.lin).reshape(len(q), len(tab.A), 2, P + 6)
+        N, Vy, Vz, T, My, Mz = (Y[..., P + j] for j in range(6))
+        smax, smin = Y[..., :P].max(axis=(-1, -2)), Y[..., :P].min(axis=(-1, -2))
+        if tab.radius.any():
+            n, b = N / tab.A[:, None], np.hypot(My, Mz) * (tab.radius / tab.Iy)[:, None]
+            smax, smin = np.maximum(smax, (n + b).max(-1)), np.minimum(smin, (n - b).min(-1))
+        v = tab.ky[:, None] * np.abs(Vy) + tab.kz[:, None] * np.abs(Vz)
+        t = tab.kt[:, None] * np.abs(T)
+        return _finish(tab, "exact", smax, smin, np.abs(N).max(-1) / tab.A, np.abs(My).max(-1) * tab.zmax / tab.Iy,
+                       np.abs(Mz).max(-1) * tab.ymax / tab.Iz, v, t, np.full(smax.shape, np.nan))
+
+
+def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s", linear=None) -> MemberStresses:
     """Peaks over a series of static-like states (a history's steps): `forces(rows)` gives the
     end forces (b, e, 12) of the steps `rows` (a slice), `w_local(rows)` their line loads
-    (b, e, 3) or is None; `times` (m,) labels the steps. Each quantity is its largest over the steps (sigma_min
-    its smallest); `at` is the time of the largest equivalent stress, `x` where |sigma| was then."""
+    (b, e, 3) or is None; `times` (m,) labels the steps. `linear` = (q (m, c), columns (c, e*12))
+    says the forces are q @ columns, which lets a series without line loads be done by
+    projection (the same numbers, fewer operations). Each quantity is its largest over the steps
+    (sigma_min its smallest); `at` is the time of the largest equivalent stress, `x` where
+    |sigma| was then."""
     tab = section_table(model)
     e, m = model.n_members, len(times)
     width = (tab.py.shape[1] + 2) * ((11 + tab.py.shape[1]) if w_local is not None else 2)
     block = max(1, _BLOCK // max(1, e * width))
+    projected = _Projected(tab, linear[1]) if linear is not None and w_local is None else None
     best = None
+    step = np.full(e, -1)
     for a in range(0, m, block):
         rows = slice(a, min(m, a + block))
-        s = member_stresses(model, forces(rows), None if w_local is None else w_local(rows), table=tab)
+        if projected is not None:
+            s = projected(linear[0][rows])
+        else:
+            s = member_stresses(model, forces(rows), None if w_local is None else w_local(rows), table=tab, where=False)
         if best is None:
             best = {k: np.full(e, -np.inf) for k in ("sigma_max", "axial", "bending_y", "bending_z", "shear",
                                                       "torsion", "tau", "mises")}
@@ -263,7 +321,11 @@ def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s") 
         top = s.mises[i, np.arange(e)]
         new = top >= best["mises"]
         best["at"][new] = times[a + i[new]]
-        best["x"][new] = s.x[i[new], np.flatnonzero(new)]
+        step[new] = a + i[new]
+    for k in np.unique(step[step >= 0]):        # where along each member, at its peak step
+        rows = slice(k, k + 1)
+        got = member_stresses(model, forces(rows), None if w_local is None else w_local(rows), table=tab)
+        best["x"][step == k] = got.x[0, step == k]
     keys = ("sigma_max", "sigma_min", "axial", "bending_y", "bending_z", "shear", "torsion", "tau", "mises", "x")
     vals = {k: np.where(tab.known, best[k], np.nan) for k in keys}
     return MemberStresses("peak over time", **vals, ratio=vals["mises"] / tab.fy, at=best["at"], at_unit=unit)
@@ -274,9 +336,9 @@ def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
     (b, e, 12) at the frequencies `rows` (a slice) of `freq` (m,) Hz. At each frequency the stress at a
     point is |sum of the complex terms| (phases kept); the largest over the frequencies, with
     the frequency of the largest equivalent stress."""
-    tab = _circle(section_table(model))
+    tab = section_table(model)
     e, m = model.n_members, len(freq)
-    block = max(1, _BLOCK // max(1, e * 2 * tab.py.shape[1]))
+    block = max(1, _BLOCK // max(1, e * 2 * (ROUND_POINTS if tab.radius.any() else tab.py.shape[1])))
     keys = ("sigma_max", "axial", "bending_y", "bending_z", "shear", "torsion", "tau", "mises")
     best = {k: np.zeros(e) for k in keys}
     at = np.full(e, np.nan)
@@ -284,8 +346,7 @@ def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
         rows = slice(a, min(m, a + block))
         F = forces(rows)
         ends = _end_actions(F)                                     # (b, e, 2, 6) complex
-        sig = np.abs(_normal(tab, ends[..., 0], ends[..., 4], ends[..., 5]))
-        smax = sig.reshape(len(F), e, -1).max(axis=-1)
+        smax = _point_peaks(tab, ends, lambda sig: np.abs(sig).reshape(*sig.shape[:-2], -1).max(axis=-1))
         v, t = _shear(tab, ends)
         got = {"sigma_max": smax, "axial": np.abs(ends[..., 0]).max(-1) / tab.A,
                "bending_y": np.abs(ends[..., 4]).max(-1) * tab.zmax / tab.Iy,
@@ -308,17 +369,18 @@ def spectrum_stresses(model: Model, per_direction, rule: str, spatial: str) -> M
     forces, rho (k, k) or None)] for each direction; every stress quantity is computed per mode
     and combined over the modes by `rule` ('srss', 'cqc', 'abs') and over the directions by
     `spatial` ('srss', '100/30')."""
-    tab = _circle(section_table(model))
+    tab = section_table(model)
     e = model.n_members
-    parts = {k: [] for k in ("sig", "N", "My", "Mz", "Vy", "Vz", "T")}
-    for F, rho in per_direction:
-        ends = _end_actions(np.asarray(F, float))                  # (k, e, 2, 6)
-        sig = _normal(tab, ends[..., 0], ends[..., 4], ends[..., 5])
-        for key, val in (("sig", sig), ("N", ends[..., 0]), ("My", ends[..., 4]), ("Mz", ends[..., 5]),
-                         ("Vy", ends[..., 1]), ("Vz", ends[..., 2]), ("T", ends[..., 3])):
-            parts[key].append(combine(val, rule, rho))
-    c = {k: combine_directions(v, spatial) for k, v in parts.items()}   # (e, 2[, P])
-    smax = c["sig"].reshape(e, -1).max(axis=-1)
+    ends = [(_end_actions(np.asarray(F, float)), rho) for F, rho in per_direction]     # (k, e, 2, 6)
+    parts = {k: [combine(a[..., j], rule, rho) for a, rho in ends]
+             for k, j in (("N", 0), ("My", 4), ("Mz", 5), ("Vy", 1), ("Vz", 2), ("T", 3))}
+    c = {k: combine_directions(v, spatial) for k, v in parts.items()}   # (e, 2)
+    # the normal stress at each point: per mode, combined over the modes, then the directions
+    smax = np.zeros(e)
+    for sel, sub in _groups(tab):
+        per_dir = [combine(_normal(sub, g[..., 0], g[..., 4], g[..., 5]), rule, rho)
+                   for g, rho in ((a[:, sel], rho) for a, rho in ends)]
+        smax[sel] = combine_directions(per_dir, spatial).reshape(sel.sum(), -1).max(axis=-1)
     v = tab.ky[:, None] * c["Vy"] + tab.kz[:, None] * c["Vz"]
     t = tab.kt[:, None] * c["T"]
     return _finish(tab, "combined peaks", smax, -smax, c["N"].max(-1) / tab.A, c["My"].max(-1) * tab.zmax / tab.Iy,
