@@ -228,9 +228,10 @@ def _stresses(model: Model, asm, statics: dict, responses: dict) -> dict:
 
     table = section_table(model)
     lines = {c.name: line_loads(model, asm, c) for c in model.cases if c.kind == "static"}
-    for cb in model.combinations:
-        lines[cb.name] = sum(f * lines[n] for n, f in cb.factors.items()) if cb.factors else np.zeros((model.n_members, 3))
-    out = {n: member_stresses(model, r.member_forces, lines[n], table=table) for n, r in statics.items()}
+    for cb in model.combinations:      # a combination of static cases: its factored line loads
+        if all(n in lines for n in cb.factors):
+            lines[cb.name] = sum((f * lines[n] for n, f in cb.factors.items()), np.zeros((model.n_members, 3)))
+    out = {n: member_stresses(model, r.member_forces, lines[n], table=table) for n, r in statics.items() if n in lines}
     out.update({n: r.stresses for n, r in responses.items() if getattr(r, "stresses", None) is not None})
     return out
 
