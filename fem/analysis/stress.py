@@ -48,7 +48,8 @@ __all__ = ["MemberStresses", "ROUND_POINTS", "harmonic_stresses", "member_stress
            "series_stresses", "spectrum_stresses"]
 
 ROUND_POINTS = 72          # points around a round outline (every 5 degrees)
-_BLOCK = 400_000           # floats of (steps, members, stations, points) held at once (cache-sized blocks)
+_BLOCK = 100_000           # floats of (steps, members, stations, points) held at once: cache-sized blocks, and
+                           # little beside the memory a history or free case holds (history_bytes, free_bytes)
 
 
 @dataclass(frozen=True)
@@ -297,7 +298,7 @@ def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s", 
     |sigma| was then."""
     tab = section_table(model)
     e, m = model.n_members, len(times)
-    width = (tab.py.shape[1] + 2) * ((11 + tab.py.shape[1]) if w_local is not None else 2)
+    width = (tab.py.shape[1] + 8) * ((11 + tab.py.shape[1]) if w_local is not None else 2)
     block = max(1, _BLOCK // max(1, e * width))
     projected = _Projected(tab, linear[1]) if linear is not None and w_local is None else None
     best = None
