@@ -42,6 +42,10 @@ def _parser() -> argparse.ArgumentParser:
                    help="draw the first N modes of each modes case (default 6)")
     r.add_argument("--fps", type=_fps, default=12.0, metavar="N",
                    help="frames a second of the animations, 1 to 50 (default 12)")
+    r.add_argument("--units", type=_units, metavar="UNITS",
+                   help="units of the summary, report and tables: a list such as mm,kN,MPa or a named set "
+                        "(engineering: mm, kN, kN*m, MPa; si); results.json stays SI (default: the deck's "
+                        "settings, else SI)")
     r.add_argument("--case", action="append", metavar="NAME", dest="cases",
                    help="solve only this case or combination and what it needs (repeatable)")
     from .study.command import add_parser as add_study
@@ -65,6 +69,15 @@ def _fps(text: str) -> float:
         # GIF frame delays are whole hundredths of a second, and players slow anything faster
         raise argparse.ArgumentTypeError(f"{text} is outside 1 to 50 frames a second")
     return v
+
+
+def _units(text: str):
+    from .display import parse_units
+
+    try:
+        return parse_units(text)
+    except ValueError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
 
 
 def _setting(text: str) -> tuple[str, str]:
@@ -121,7 +134,7 @@ def main(argv: list[str] | None = None) -> int:
             return run_command(args, CAUTION)
         return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs),
                         draw_modes=max(0, args.draw_modes), fps=args.fps, let=_overrides(args.let),
-                        cases=args.cases, write=args.write)
+                        cases=args.cases, write=args.write, units=args.units)
     except QuaverError as exc:
         state = folder.where()
         _say(f"error: {exc}" + (f"\nnote: {state}" if state.startswith("the new results") else ""))
@@ -140,10 +153,11 @@ def main(argv: list[str] | None = None) -> int:
 
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
              draw_modes: int = 6, fps: float = 12.0, let: dict | None = None, cases=None,
-             write: str = "all") -> int:
+             write: str = "all", units=None) -> int:
     """Solve the deck and write its results folder (default results/<deck name>); `let`
     overrides let parameters (read_deck), `cases` names the cases and combinations to solve
-    (with what they need; all when None), `write` what the folder holds (write_results).
+    (with what they need; all when None), `write` what the folder holds (write_results), `units`
+    (fem.display.DisplayUnits) the display units over the deck's.
     Prints the summary; returns the exit status."""
     from dataclasses import replace
     from pathlib import Path
@@ -154,6 +168,8 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     from .solver import solve
 
     model = read_deck(deck, let=let)
+    if units is not None:
+        model.settings["units"] = units
     if cases:
         from .case_selection import select_cases
 

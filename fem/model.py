@@ -28,6 +28,7 @@ class Material:
     E: float        # Pa
     G: float        # Pa
     density: float  # kg/m^3
+    yield_strength: float | None = None   # Pa, for the stress ratio (not a design-code check)
 
     @property
     def nu(self) -> float:
@@ -41,6 +42,16 @@ class Section:
     name: str
     props: SectionProps
     designation: str = ""       # a catalogue section's designation as its table prints it
+    shape: str = ""             # the make_section shape it was built with ("catalogue" too)
+    dims: tuple = ()            # (name, value) pairs of that shape's parameters, SI
+
+    def stress_points(self):
+        """Its stress points and stress factors (fem.sections.points), None when unknown."""
+        from .sections.points import stress_points
+
+        if not self.shape:
+            return None
+        return stress_points(self.shape, dict(self.dims), self.props)
 
 
 @dataclass

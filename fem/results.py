@@ -50,6 +50,9 @@ class Results:
     sensitivities : dict of str to FrequencySensitivity
         The frequency sensitivities of each modes case that asks for them (its `sensitivity`
         option), by case name (`fem.analysis.sensitivity`; docs/sensitivity.md).
+    stresses : dict of str to MemberStresses
+        The member stresses of each case and combination that has member forces (static,
+        combination, free, history, harmonic, spectrum), by name (`fem.analysis.stress`).
     resonance : dict of str to ResonanceCheck
         The resonance check of each modes case that checks excitations
         (`fem.analysis.resonance`), by modes case name; empty when the model declares none.
@@ -71,6 +74,7 @@ class Results:
     cases_asked: dict | None = None
     sensitivities: dict = field(default_factory=dict)
     resonance: dict = field(default_factory=dict)
+    stresses: dict = field(default_factory=dict)
 
     def __repr__(self) -> str:
         cases = ", ".join(f"{n} ({r.kind})" for n, r in self.cases.items())

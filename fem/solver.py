@@ -216,7 +216,24 @@ def solve(model: Model, cases=None) -> Results:
     resonance = _resonance(model, run.modes)
     checks = evaluate(model, list(run.statics.values()), modal, mass, len(sound.rigid), resonance)
     return Results(model, {**run.statics, **run.modes, **responses}, sound, mass, checks, tuple(notes),
-                   asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance)
+                   asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance,
+                   _stresses(model, asm, run.statics, responses))
+
+
+def _stresses(model: Model, asm, statics: dict, responses: dict) -> dict:
+    """The member stresses of every static case and combination (exact, from its end forces and
+    line loads) and of every response case (computed by its solver), by name."""
+    from .analysis.static import line_loads
+    from .analysis.stress import member_stresses, section_table
+
+    table = section_table(model)
+    lines = {c.name: line_loads(model, asm, c) for c in model.cases if c.kind == "static"}
+    for cb in model.combinations:      # a combination of static cases: its factored line loads
+        if all(n in lines for n in cb.factors):
+            lines[cb.name] = sum((f * lines[n] for n, f in cb.factors.items()), np.zeros((model.n_members, 3)))
+    out = {n: member_stresses(model, r.member_forces, lines[n], table=table) for n, r in statics.items() if n in lines}
+    out.update({n: r.stresses for n, r in responses.items() if getattr(r, "stresses", None) is not None})
+    return out
 
 
 def _resonance(model: Model, modes: dict) -> dict:

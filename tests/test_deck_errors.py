@@ -195,7 +195,7 @@ NAMES = [
      r"section Q: pipe has no parameter 'thick'; did you mean 'wall'\? it takes pipe\(od, wall\)", "thick"),
     ("section parameter close", "section Q = rhs(b = 1 m, hh = 2 m, t = 1 cm)", "2:26", r"did you mean 'h'\?", "hh"),
     ("section parameter of torsion", "section Q = generic(A = 1 m^2, Iy = 1 m^4, Iz = 1 m^4, Ix = 1 m^4)", "2:56",
-     r"did you mean 'J'\? it takes generic\(A, Iy, Iz, J, \[Avy\], \[Avz\]\)", "Ix"),
+     r"did you mean 'J'\? it takes generic\(A, Iy, Iz, J, \[Avy\], \[Avz\], \[Wy\], \[Wz\], \[Wt\]\)", "Ix"),
     ("section parameter missing", "section Q = ishape(d = 1 m, bf = 1 m, tf = 1 cm)", "2:13",
      r"section Q: ishape needs tw", "ishape"),
     ("section shape unknown", "section Q = pipes(od = 1 m, wall = 1 cm)", "2:13", r"unknown shape 'pipes'; did you mean 'pipe'",

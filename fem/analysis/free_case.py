@@ -47,6 +47,7 @@ class FreeCaseResult:
     start_force_error: float = 0.0  # support forces K u at t = 0: largest |modes - exact|, relative
     inertia_rounding: float = 0.0   # the mismatch rounding alone can leave, on inertia_balance's scale
     inertia_ok: bool = True         # every mode and direction within its limit (inertia_balance_terms)
+    stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
 
 
 BALANCE_TOL = 1e-6        # per-mode reactions vs inertia forces; limited by the eigen residuals
@@ -197,9 +198,14 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
                                   must=[peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
     warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
     rel, rounding, ok = inertia_balance_terms(model, asm, modal, Rm)
+    from .stress import series_stresses
+
+    cols = Fm.reshape(k, -1).T
+    stresses = series_stresses(model, lambda rows: (q[rows] @ cols.T).reshape(-1, model.n_members, 12), t,
+                               linear=(q, cols.T))
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
                           captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                          rel, ft, frames, warnings, start_error, rounding, ok)
+                          rel, ft, frames, warnings, start_error, rounding, ok, stresses)
 
 
 def inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:

@@ -73,6 +73,7 @@ class HarmonicResult:
     ground: np.ndarray = None           # (3,) m/s^2, the ground acceleration amplitude, or None
     listed: bool = False                # the frequencies are the case's list (at), not a sweep
     limits: tuple = ()                  # LimitCheck, ...: the case's vibration limits checked (vibration_check.py)
+    stresses: object = None             # fem.analysis.stress.MemberStresses: amplitudes, largest over freq
 
     def velocity(self) -> np.ndarray:
         """(m, r, 3) complex velocity amplitudes of the recorded nodes' translations, m/s:
@@ -347,6 +348,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     else:
         member_forces = (np.einsum("wk,kqc->wqc", H, Fm[:, members])
                          + _columns(m_static, (12 * members[:, None] + np.arange(12)).ravel(), (len(members), 12)))
+    stresses = _stresses(model, H, Fm, m_static, freq)
     complete = modes_complete_to(modal)
     top = float(freq[-1])
     if complete < top:
@@ -367,7 +369,21 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           m_peak_f.reshape(-1, 12), _lags(m_peak_c).reshape(-1, 12),
                           support, reactions, members, member_forces, warnings, complete,
                           vel.reshape(-1, 3), vel_f.reshape(-1, 3), acc.reshape(-1, 3), acc_f.reshape(-1, 3),
-                          case.ground, case.at is not None, limits)
+                          case.ground, case.at is not None, limits, stresses)
+
+
+def _stresses(model, H, Fm, m_static, freq):
+    """Stress amplitudes of every member at every frequency (phases kept), largest over them."""
+    from .stress import harmonic_stresses
+
+    e = model.n_members
+    cols = Fm.reshape(len(Fm), -1)
+
+    def forces(rows):
+        static = m_static if isinstance(m_static, np.ndarray) else (m_static[0][rows], m_static[1])
+        return (H[rows] @ cols).reshape(-1, e, 12) + _columns(static, np.arange(12 * e), (e, 12))
+
+    return harmonic_stresses(model, forces, freq)
 
 
 def modes_complete_to(modal: ModesCaseResult) -> float:

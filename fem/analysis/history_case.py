@@ -16,7 +16,8 @@ from .free_case import frame_indices, peak_index, peaks, step_warnings
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .recurrence import integrate_modal, knot_kicks
-from .static import load_vector
+from .static import line_loads, load_vector
+from .stress import series_stresses
 
 __all__ = ["HistoryResult", "solve_history_case"]
 
@@ -44,6 +45,7 @@ class HistoryResult:
     frame_t: np.ndarray = None      # (f,) animation frame times
     frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
     warnings: tuple = ()
+    stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
 
 
 class _Part(NamedTuple):
@@ -97,7 +99,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     fixed[asm.fixed] = True
     P = np.zeros((n, k))
     kq, kv = np.zeros((n, k)), np.zeros((n, k))
-    G, Gdot, statics, r_statics, m_statics = [], [], [], [], []
+    G, Gdot, statics, r_statics, m_statics, lines = [], [], [], [], [], []
     a_ground = np.zeros((n, 3))
     corrected = case.correction
     groups = _groups(case)
@@ -127,6 +129,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
         statics.append(static)
         r_statics.append(Rs.ravel() - np.where(fixed, F_only, 0.0))
         m_statics.append(Fs.ravel() - fe.ravel())
+        lines.append(line_loads(model, asm, sub).ravel() if (sub.loads or sub.gravity is not None)
+                     else np.zeros(3 * model.n_members))
     q, v = integrate_modal(omega, zeta, dt, P, kicks=(kq, kv))
     acc = P - 2 * zeta * omega * v - omega**2 * q            # modal relative accelerations
     # the parts that follow each g_l(t) join the modes as extra columns: (m, k + l) histories
@@ -135,6 +139,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     peak, peak_t = peaks(qg, np.hstack([shapes, np.array(statics).T]), t)
     r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, np.array(r_statics).T]), t)
     m_peak, _ = peaks(qg, np.hstack([Fm.reshape(k, -1).T, np.array(m_statics).T]), t)
+    stresses = _stresses(model, qg, np.hstack([Fm.reshape(k, -1).T, np.array(m_statics).T]), np.array(G).T,
+                         np.array(lines), t)
     record = case.record if case.record is not None else np.arange(model.n_nodes)
     full = np.concatenate([modal.shapes, np.array(statics).T.reshape(model.n_nodes, 6, -1)], axis=2)
     sel = modal.shapes[record]                               # (r, 6, k)
@@ -153,4 +159,12 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                         t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings)
+                         t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses)
+
+
+def _stresses(model, qg, columns, G, lines, t):
+    """Member stresses of every step (end forces qg @ columns^T, line loads G @ lines), peaks over time."""
+    e = model.n_members
+    w = (lambda rows: (G[rows] @ lines).reshape(-1, e, 3)) if np.any(lines) else None
+    return series_stresses(model, lambda rows: (qg[rows] @ columns.T).reshape(-1, e, 12), t, w,
+                           linear=(qg, columns.T))

@@ -14,7 +14,7 @@ from ..errors import MechanismError, ModelError
 from ..model import DIRECTIONS, LoadCase, Model
 
 __all__ = ["balance", "combine", "condition_estimate", "equilibrium", "EQUILIBRIUM_TOL", "factorise",
-           "load_vector", "normalised_stiffness", "precision_lines", "ROUNDING_FACTOR", "solve_static",
+           "line_loads", "load_vector", "normalised_stiffness", "precision_lines", "ROUNDING_FACTOR", "solve_static",
            "SOLVE_TOL", "StaticResult", "stiffness_contrast", "support_forces"]
 
 EPS = np.finfo(float).eps
@@ -62,21 +62,16 @@ def load_vector(model: Model, asm: Assembled, case: LoadCase, carried: bool = Tr
     links the vector is carried onto the reduced DOFs (`Assembled.carry`) unless `carried` is
     False (the loads where they act)."""
     f = np.zeros(6 * model.n_nodes)
-    w = np.zeros((model.n_members, 3))       # line load per member in global axes, N/m
-    w_own = np.zeros((model.n_members, 3))   # line load per member in its own axes, N/m
     for item in case.loads:
         if item.kind == "force":
             _scatter(f, 6 * item.targets[:, None] + np.arange(3), item.vector)
         elif item.kind == "moment":
             _scatter(f, 6 * item.targets[:, None] + np.arange(3, 6), item.vector)
-        elif item.kind == "line":
-            _scatter(w_own if item.axes == "local" else w, item.targets[:, None], item.vector, rows=True)
     if case.gravity is not None:
-        w += (model.rho * model.A + model.carried_mass)[:, None] * case.gravity
         f += np.c_[model.point_mass[:, :3] * case.gravity, np.zeros((model.n_nodes, 3))].ravel()
         if model.mass_coupling is not None:      # the weight of a mass off its node turns it
             f += np.c_[np.zeros((model.n_nodes, 3)), model.mass_coupling[:, 3:, :3] @ case.gravity].ravel()
-    w_local = np.einsum("eab,eb->ea", asm.R, w) + w_own
+    w_local = line_loads(model, asm, case)
     fe = el.uniform_load_fixed_end(asm.L, w_local)
     rel = model.releases & ~model.truss[:, None]
     if model.truss.any():
@@ -91,6 +86,19 @@ def load_vector(model: Model, asm: Assembled, case: LoadCase, carried: bool = Tr
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     _scatter(f, dofs, fg)
     return (asm.carry(f) if carried else f), fe
+
+
+def line_loads(model: Model, asm: Assembled, case) -> np.ndarray:
+    """The uniform line load on each member, N/m in its local axes (e, 3): the case's line loads
+    (given in global or local axes) and the weight its gravity puts on the members."""
+    w = np.zeros((model.n_members, 3))       # line load per member in global axes, N/m
+    w_own = np.zeros((model.n_members, 3))   # line load per member in its own axes, N/m
+    for item in case.loads:
+        if item.kind == "line":
+            _scatter(w_own if item.axes == "local" else w, item.targets[:, None], item.vector, rows=True)
+    if case.gravity is not None:
+        w += (model.rho * model.A + model.carried_mass)[:, None] * case.gravity
+    return np.einsum("eab,eb->ea", asm.R, w) + w_own
 
 
 def _scatter(out, idx, vals, rows=False):

@@ -242,7 +242,8 @@ def _response_sources(cases, references: dict, starts: set, names: set, modal: l
 
 
 def _settings(given: dict) -> dict:
-    """The model settings from `settings` statements: mass (consistent or lumped), shear (on or off)."""
+    """The model settings from `settings` statements: mass (consistent or lumped), shear (on or off),
+    units (the display units, fem.display.DisplayUnits)."""
     settings = {}
     for key, (val, where) in given.items():
         if key == "mass":
@@ -253,9 +254,27 @@ def _settings(given: dict) -> dict:
             if val not in ("on", "off"):
                 raise DeckError("settings: shear must be 'on' or 'off'", where)
             settings[key] = val == "on"
+        elif key == "units":
+            settings[key] = _display_units(val, where)
         else:
-            raise DeckError(f"settings: unknown key '{key}'; {suggest(key, ['mass', 'shear'])}", where)
+            raise DeckError(f"settings: unknown key '{key}'; {suggest(key, ['mass', 'shear', 'units'])}", where)
     return settings
+
+
+def _display_units(val, where):
+    """The display units a `units = ...` setting chooses (fem.display): a named set or a quoted list."""
+    from lark import Token
+
+    from ..display import UNIT_SETS, parse_units
+
+    text = str(val)[1:-1] if isinstance(val, Token) and val.type == "STRING" else val
+    if not isinstance(text, str):
+        raise DeckError("settings: units must be a named set or a quoted list of units", where,
+                        f'write units = engineering, or units = "mm, kN, MPa" ({", ".join(UNIT_SETS)} are named)')
+    try:
+        return parse_units(text)
+    except ValueError as exc:
+        raise DeckError(f"settings: {exc}", where, 'write e.g. units = "mm, kN, kN*m, MPa"') from None
 
 
 def _rotation_stiffness(coords, conn, truss, releases, roll, up) -> np.ndarray:

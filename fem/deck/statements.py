@@ -129,7 +129,7 @@ class Statements:
             key = str(opt.children[0])
             self.defs.once(seen, key, self.loc(opt), f"material {name}")
             at[key] = self.loc(opt)
-            dims = {"E": U.PRESSURE, "G": U.PRESSURE, "nu": U.NONE, "density": U.DENSITY}
+            dims = {"E": U.PRESSURE, "G": U.PRESSURE, "nu": U.NONE, "density": U.DENSITY, "yield": U.PRESSURE}
             if key not in dims:
                 raise DeckError(f"material {name}: unknown property '{key}'; {suggest(key, dims)}", self.loc(opt))
             props[key] = self.ev.value(opt.children[1], dims[key], f"material {name}: {key}")
@@ -149,7 +149,9 @@ class Statements:
         dens = props.get("density", 0.0)
         if dens < 0:
             raise DeckError(f"material {name}: density cannot be negative", at["density"])
-        self.defs.materials[name] = Material(name, props["E"], props["G"], dens)
+        if props.get("yield", 1.0) <= 0:
+            raise DeckError(f"material {name}: yield (the yield strength) must be positive", at["yield"])
+        self.defs.materials[name] = Material(name, props["E"], props["G"], dens, props.get("yield"))
 
     def st_section(self, s):
         name = self.ev.name(s.children[0])
@@ -162,7 +164,8 @@ class Statements:
             key = str(kw.children[0])
             self.defs.once(seen, key, self.loc(kw), f"section {name}")
             dim = {"A": (0, 2, 0), "Avy": (0, 2, 0), "Avz": (0, 2, 0), "Iy": (0, 4, 0),
-                   "Iz": (0, 4, 0), "J": (0, 4, 0)}.get(key, U.LENGTH)
+                   "Iz": (0, 4, 0), "J": (0, 4, 0), "Wy": (0, 3, 0), "Wz": (0, 3, 0),
+                   "Wt": (0, 3, 0)}.get(key, U.LENGTH)
             params[key] = self.ev.value(kw.children[1], dim, f"section {name}: {key}")
         try:
             props = make_section(shape, params)
@@ -174,7 +177,7 @@ class Statements:
         if not all(math.isfinite(v) for v in vals) or min(vals[:4]) <= 0:
             raise DeckError(f"section {name}: its properties are not finite and positive "
                             f"(A={props.A:.3g}, Iy={props.Iy:.3g}, Iz={props.Iz:.3g}, J={props.J:.3g})", self.loc(s))
-        self.defs.sections[name] = Section(name, props)
+        self.defs.sections[name] = Section(name, props, shape=shape, dims=tuple(params.items()))
         self.defs.section_params[name] = (shape, params)
 
     def st_section_listed(self, s):
@@ -194,7 +197,8 @@ class Statements:
                         + "; a section it lacks is built from its dimensions, e.g. ishape(d, bf, tf, tw, r)")
             raise DeckError(f"section {name}: {exc}", self.loc(text), hint) from None
         params = {"designation": entry.designation}
-        self.defs.sections[name] = Section(name, make_section(CATALOGUE, params), entry.designation)
+        self.defs.sections[name] = Section(name, make_section(CATALOGUE, params), entry.designation,
+                                           CATALOGUE, tuple(params.items()))
         self.defs.section_params[name] = (CATALOGUE, params)
 
     def section_names(self, name: str, shape_tok, kws) -> None:

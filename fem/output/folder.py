@@ -44,7 +44,7 @@ RUN_ENV = "QUAVER_RUN_PID"      # set in every process a run starts: a worker ou
 
 # names a results folder held before manifests were written (results.json, schema quaver-results/1)
 _EARLIER_NAMES = re.compile(r"(results\.json|report\.html|displacements\.csv|reactions\.csv|member_forces\.csv"
-                            r"|modes\.csv|mode_shapes\.csv|(free|history|frf|frf_reactions|frf_member_forces)_.*\.csv"
+                            r"|modes\.csv|mode_shapes\.csv|(free|history|frf|frf_reactions|frf_member_forces|stresses)_.*\.csv"
                             r"|modes|response|plots|pictures)")
 
 _where = ["nothing was written"]

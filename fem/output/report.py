@@ -10,7 +10,8 @@ from pathlib import Path
 import numpy as np
 
 from . import limits_out, resonance_out
-from .fmt import percent
+from .fmt import doc_units, percent, quantity
+from .stress_out import report_section as stress_section
 
 __all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "report", "write_report"]
 
@@ -57,18 +58,31 @@ def _ok(flag) -> str:
     return '<span class="pass">pass</span>' if flag else '<span class="fail">FAIL</span>'
 
 
-def _force_rows(c: dict) -> list:
+def _force_rows(c: dict, doc: dict = None) -> list:
     """Largest peak reaction force and member end forces of a free or history case."""
     rows = []
+    doc = doc or {}
     reac = c.get("reaction_peaks") or {}
     if reac:
         node, vals = max(reac.items(), key=lambda kv: max(kv[1][:3]))
-        rows.append(["largest reaction force (peak)", f"{max(vals[:3]) / 1e3:.4g} kN at {html.escape(node)}"])
+        rows.append(["largest reaction force (peak)",
+                     f"{quantity(doc, 'force', max(vals[:3]), (1e-3, 'kN'))} at {html.escape(node)}"])
     for comp, e in (c.get("member_force_peak_max") or {}).items():
-        unit = "kN m" if comp in ("T", "My", "Mz") else "kN"
+        kind, unit = ("moment", "kN m") if comp in ("T", "My", "Mz") else ("force", "kN")
         rows.append([f"largest member end force {comp} (peak)",
-                     f"{e['value'] / 1e3:.4g} {unit} at {html.escape(e['member'])} end {e['end']}"])
+                     f"{quantity(doc, kind, e['value'], (1e-3, unit))} at {html.escape(e['member'])} end {e['end']}"])
     return rows
+
+
+def _forces(doc: dict, values) -> str:
+    """X, Y, Z force sums in the display unit (kN without one), round-off shown as 0 when chosen."""
+    from ..display import tidy
+
+    units = doc_units(doc)
+    if not units.chosen:
+        return ", ".join(f"{v / 1e3:.4g}" for v in values) + " kN"
+    shown = tidy(np.asarray(values, float) * units.per_si("force"))
+    return ", ".join(f"{v:.4g}" for v in shown) + f" {units.label('force')}"
 
 
 def _warnings(doc: dict) -> list[str]:
@@ -183,26 +197,28 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         parts.append(f"<h2 id='case-{html.escape(c['name'])}'>{html.escape(c['kind'])} case {html.escape(c['name'])}</h2>")
         if c["kind"] == "static":
             parts.append(_table(["quantity", "value"], [
-                ["largest translation", f"{c['max_translation_m']:.4g} m"],
-                ["sum of applied loads (X, Y, Z)", ", ".join(f"{v / 1e3:.4g}" for v in c["applied_sum_N"]) + " kN"],
-                ["sum of reactions (X, Y, Z)", ", ".join(f"{v / 1e3:.4g}" for v in c["reaction_sum_N"]) + " kN"],
+                ["largest translation", quantity(doc, "length", c["max_translation_m"], (1.0, "m"))],
+                ["sum of applied loads (X, Y, Z)", _forces(doc, c["applied_sum_N"])],
+                ["sum of reactions (X, Y, Z)", _forces(doc, c["reaction_sum_N"])],
                 *_link_rows(c)]))
         elif c["kind"] in ("free", "history"):
             parts.append(_table(["quantity", "value"], [["time steps", c["time_steps"]], ["duration", f"{c['duration_s']:.4g} s"],
-                                                        ["largest translation", f"{c['peak_translation_m']:.4g} m"],
-                                                        *_force_rows(c)]))
+                                                        ["largest translation", quantity(doc, "length", c["peak_translation_m"], (1.0, "m"))],
+                                                        *_force_rows(c, doc)]))
         elif c["kind"] == "harmonic":
             parts.append(_table(["quantity", "value"], [["band", f"{c['band_Hz'][0]:.4g} to {c['band_Hz'][1]:.4g} Hz"],
                                                         ["frequencies", c["frequencies"]],
-                                                        ["largest amplitude", f"{c['peak_amplitude_m']:.4g} m"],
+                                                        ["largest amplitude", quantity(doc, "length", c["peak_amplitude_m"], (1.0, "m"))],
                                                         *_motion_rows(c)]))
             if c.get("vibration_limits"):
                 parts.append(_table(["vibration limit", "found", "result"], limits_out.report_rows(c, _ok)))
         elif c["kind"] == "spectrum":
             b = c["base_reaction"]
             parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],
-                                                        ["base shear X, Y", f"{b['Fx'] / 1e3:.4g} kN, {b['Fy'] / 1e3:.4g} kN"],
-                                                        ["largest displacement", f"{c['max_displacement_m']:.4g} m"]]))
+                                                        ["base shear X, Y", f"{quantity(doc, 'force', b['Fx'], (1e-3, 'kN'))}, "
+                                                                            f"{quantity(doc, 'force', b['Fy'], (1e-3, 'kN'))}"],
+                                                        ["largest displacement", quantity(doc, "length", c["max_displacement_m"], (1.0, "m"))]]))
+        parts.append(stress_section(c, doc, _table))
         parts += [_img(p, cap, "plot" if p.parent.name == "plots" else "gallery")
                   for p, cap in images.get(c["name"], [])]
     parts.append(f'<p class="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p></body></html>')

@@ -144,7 +144,7 @@ def _sections(model) -> dict:
     out = {}
     for name, sec in model.sections.items():
         p = sec.props
-        known = p.shape != "generic"            # a generic section has no outline: W not known
+        known = p.shape != "generic" or p.Wy > 0   # a generic section has no outline: W as declared
         used = {}
         for k, (s, mat) in enumerate(zip(model.member_section, model.member_material)):
             if s == name and mat not in used:
@@ -168,7 +168,7 @@ def results_doc(results) -> dict:
     """The results document of `results` (a `fem.results.Results`), as plain Python values."""
     model = results.model
     lo, hi = model.bounding_box()
-    return {
+    doc = {
         "schema": SCHEMA,
         "caution": CAUTION,
         "model": {"title": model.title, "deck": model.source, "nodes": model.n_nodes,
@@ -186,6 +186,27 @@ def results_doc(results) -> dict:
         "cases": [_ENTRY[r.kind](results, r) for kinds in _ORDER for r in results.of_kind(*kinds)],
         "sections": _sections(model),
     }
+    return _with_stresses(results, doc)
+
+
+def _with_stresses(results, doc: dict) -> dict:
+    """Each case's member stresses (SI) in its entry, each section's stress points, the units of
+    the document and the display units chosen for the summary, report and tables (fem.display)."""
+    from .stress_out import stress_block, units_of
+
+    for c in doc["cases"]:
+        block = stress_block(results, c["name"])
+        if block is not None:
+            c["stresses"] = block
+    for name, entry in doc["sections"].items():
+        points = results.model.sections[name].stress_points()
+        entry["stress_points"] = None if points is None else points.as_dict()
+    shown = units_of(results)
+    doc["units"] = {"length": "m", "force": "N", "moment": "N*m", "stress": "Pa", "frequency": "Hz", "mass": "kg",
+                    "time": "s", "angle": "rad"}
+    doc["display_units"] = {q: getattr(shown, q) for q in ("length", "force", "moment", "stress", "frequency")}
+    doc["display_units"]["chosen"] = shown.chosen
+    return doc
 
 
 # keys whose values may be undefined for a sound model, written as null: the period of a

@@ -16,10 +16,18 @@ from ..analysis.static import precision_lines
 from . import limits_out, resonance_out
 from .fmt import percent
 from .results_json import CAUTION
+from .stress_out import summary_lines as stress_summary
+from .stress_out import units_of
 
 __all__ = ["print_solved", "print_summary", "print_written"]
 
 _CONTINUED = " " * 15      # indent of a result's further lines
+
+
+def _length(results, value: float) -> str:
+    """A length in the display unit (m unless units are chosen), four figures."""
+    units = units_of(results)
+    return f"{value * units.per_si('length'):.4g} {units.label('length')}"
 
 
 def _static(results, r) -> list[str]:
@@ -27,7 +35,7 @@ def _static(results, r) -> list[str]:
     sane = results.checks.plausible[r.name]
     ok = "pass" if results.checks.passed[r.name] else "FAIL"
     size = "pass" if sane["translation_within_size_pass"] else "FAIL"
-    lines = [f"  {r.name:<12} max translation {np.abs(r.u[:, :3]).max():.4g} m   "
+    lines = [f"  {r.name:<12} max translation {_length(results, np.abs(r.u[:, :3]).max())}   "
              f"equilibrium {r.equilibrium:.1e} {ok}   within the model's size {size}"]
     lines += [f"{_CONTINUED}{w}" for w in precision_lines(ch)]
     lines += [f"{_CONTINUED}{w}" for w in sane["warnings"]]
@@ -38,11 +46,13 @@ def _spectrum(results, r) -> list[str]:
     c = results.checks.cases[r.name]
     # a force under 1e-9 of the largest is round-off of a direction not excited: shown as 0;
     # the vertical one is shown when the case shakes Z
-    fx, fy, fz = (0.0 if v < 1e-9 * np.abs(r.base[:3]).max() else v / 1e3 for v in np.abs(r.base[:3]))
+    units = units_of(results)
+    k, unit = (units.per_si("force"), units.label("force")) if units.chosen else (1e-3, "kN")
+    fx, fy, fz = (0.0 if v < 1e-9 * np.abs(r.base[:3]).max() else v * k for v in np.abs(r.base[:3]))
     return [f"  {r.name:<12} response spectrum ({r.rule.upper()}, directions {r.spatial}); base shear "
-            f"Fx {fx:.4g} kN, Fy {fy:.4g} kN" + (f", base force Fz {fz:.4g} kN" if r.directions[2] else "")
+            f"Fx {fx:.4g} {unit}, Fy {fy:.4g} {unit}" + (f", base force Fz {fz:.4g} {unit}" if r.directions[2] else "")
             + "; max displacement "
-            f"{r.u[:, :3].max():.4g} m; missing mass "
+            f"{_length(results, r.u[:, :3].max())}; missing mass "
             + ", ".join(f"{a} {percent(v)}" for a, v in c["missing_mass_fraction"].items())
             + (" (corrected)" if r.missing else "")]
 
@@ -55,7 +65,7 @@ def _harmonic(results, r) -> list[str]:
     a = np.unravel_index(np.argmax(r.acc_peak), r.acc_peak.shape)
     nodes = results.model.node_names
     # mm/s: the unit vibration criteria for machines and their supports use
-    return [f"  {r.name:<12} {what}; peak amplitude {r.peak[k]:.4g} m at {r.peak_freq[k]:.4g} Hz",
+    return [f"  {r.name:<12} {what}; peak amplitude {_length(results, r.peak[k])} at {r.peak_freq[k]:.4g} Hz",
             f"{_CONTINUED}largest velocity {1e3 * r.vel_peak[v]:.4g} mm/s amplitude "
             f"({1e3 * r.vel_peak[v] / np.sqrt(2):.4g} mm/s RMS) at {nodes[v[0]]} {'XYZ'[v[1]]}, "
             f"{r.vel_peak_freq[v]:.4g} Hz; acceleration {r.acc_peak[a]:.4g} m/s^2 at {nodes[a[0]]} "
@@ -65,7 +75,7 @@ def _harmonic(results, r) -> list[str]:
 
 def _history(results, r) -> list[str]:
     return [f"  {r.name:<12} time history, {len(r.t)} steps; peak translation "
-            f"{np.abs(r.peak[:, :3]).max():.4g} m"
+            f"{_length(results, np.abs(r.peak[:, :3]).max())}"
             + ("; static correction for truncated modes" if r.corrected else "")]
 
 
@@ -73,7 +83,7 @@ def _free(results, r) -> list[str]:
     c = results.checks.cases[r.name]
     ok = "pass" if c["inertia_balance_pass"] else "FAIL"
     return [f"  {r.name:<12} free vibration, {len(r.t)} steps; peak translation "
-            f"{np.abs(r.peak[:, :3]).max():.4g} m; modes capture "
+            f"{_length(results, np.abs(r.peak[:, :3]).max())}; modes capture "
             f"{percent(r.captured, 2)} of the initial displacement (M-norm)",
             f"{_CONTINUED}reactions balance the modal inertia forces to {r.inertia_balance:.1e} {ok}"]
 
@@ -140,6 +150,8 @@ def print_solved(results, name: str = "") -> None:
           f"({'pass' if results.checks.mass_pass else 'FAIL'} against members + point masses)")
     for r in [*results.statics, *results.modal]:
         for line in _LINES[r.kind](results, r):
+            print(line)
+        for line in stress_summary(results, r.name, _CONTINUED):
             print(line)
         for w in r.warnings if r.kind in _OWN_WARNINGS else ():
             print(f"{_CONTINUED}{w}")

@@ -15,6 +15,7 @@ import numpy as np
 
 from ..analysis.harmonic import lag_degrees
 from ..analysis.modal_case import AXES
+from ..display import SI, tidy
 from ..model import DIRECTIONS
 
 __all__ = ["END_FORCES", "supported_nodes", "unit_shape_mass_stiffness", "write_tables"]
@@ -26,6 +27,30 @@ REACTIONS = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
 _SHARED = {"static": ("u", "reactions", "member_forces"), "spectrum": ("u", "reactions", "member_forces"),
            "free": ("peak", "reaction_peak", "member_peak"), "history": ("peak", "reaction_peak", "member_peak"),
            "harmonic": ("peak", "reaction_peak", "member_peak")}
+
+
+# the quantity of each column of the shared tables (None: radians, shown as they are)
+_KINDS = (("length",) * 3 + (None,) * 3, ("force",) * 3 + ("moment",) * 3, (("force",) * 3 + ("moment",) * 3) * 2)
+
+
+def _display(units, values, kinds):
+    """A result's (rows, columns) SI values in the display units, each quantity's values under
+    fem.display.ZERO_TOL of its largest in that case shown as 0; as they are when no units are chosen."""
+    if not units.chosen:
+        return values
+    v = np.array(values, float)
+    flat = v.reshape(len(v), -1)
+    for q in set(kinds):
+        cols = [j for j, k in enumerate(kinds) if k == q]
+        flat[:, cols] = tidy(flat[:, cols] * (units.per_si(q) if q else 1.0))
+    return flat.reshape(v.shape)
+
+
+def _head(units, names, kinds):
+    """Column names, with their units when units are chosen (ux_mm, rx_rad, My_kN_m)."""
+    if not units.chosen:
+        return list(names)
+    return [f"{n}_{units.header(k) if k else 'rad'}" for n, k in zip(names, kinds)]
 
 
 def write_csv(path: Path, header, rows) -> None:
@@ -132,15 +157,20 @@ def write_tables(results, out: Path) -> None:
     model = results.model
     nodes, mems = model.node_names, model.member_names
     shown = [*results.statics, *results.of_kind("spectrum"), *results.of_kind("free", "history", "harmonic")]
-    tables = [(r.name, *(getattr(r, a) for a in _SHARED[r.kind])) for r in shown]
-    write_csv(out / "displacements.csv", ["case", "node", *DIRECTIONS],
+    units = model.settings.get("units") or SI
+    tables = [(r.name, *(_display(units, getattr(r, a), kinds) for a, kinds in zip(_SHARED[r.kind], _KINDS)))
+              for r in shown]
+    write_csv(out / "displacements.csv", ["case", "node", *_head(units, DIRECTIONS, _KINDS[0])],
               [[name, n, *map(float, u[k])] for name, u, _, _ in tables for k, n in enumerate(nodes)])
     sup = supported_nodes(model)
-    write_csv(out / "reactions.csv", ["case", "node", *REACTIONS],
+    write_csv(out / "reactions.csv", ["case", "node", *_head(units, REACTIONS, _KINDS[1])],
               [[name, nodes[k], *map(float, rr[k])] for name, _, rr, _ in tables for k in sup])
-    write_csv(out / "member_forces.csv", ["case", "member", "end", *END_FORCES],
+    write_csv(out / "member_forces.csv", ["case", "member", "end", *_head(units, END_FORCES, _KINDS[2][:6])],
               [[name, m, end, *map(float, mf[k, 6 * e:6 * e + 6])]
                for name, _, _, mf in tables for k, m in enumerate(mems) for e, end in enumerate("ij")])
+    from .stress_out import write_stress_tables
+
+    write_stress_tables(results, out)
     for r in results.modal:
         write = _OWN_TABLES.get(r.kind)
         if write is not None:

@@ -366,8 +366,11 @@ def channel(d: float, bf: float, tf: float, tw: float, r: float = 0.0) -> Sectio
 
 
 def generic(A: float, Iy: float, Iz: float, J: float,
-            Avy: float = 0.0, Avz: float = 0.0) -> SectionProps:
-    """Section given by its properties (m^2, m^4); shear areas default to 0 (rigid in shear)."""
+            Avy: float = 0.0, Avz: float = 0.0, Wy: float = 0.0, Wz: float = 0.0, Wt: float = 0.0) -> SectionProps:
+    """Section given by its properties (m^2, m^4); shear areas default to 0 (rigid in shear).
+    The elastic section moduli Wy, Wz and the torsional modulus Wt (m^3, default 0: not given)
+    are only needed for member stresses (fem.sections.points); Wt is kept with the dimensions."""
+    _non_negative(Wt, "Wt", "generic", "torsional modulus", "m^3")
     return SectionProps(
         "generic",
         _positive(A, "A", "generic", "area", "m^2"),
@@ -376,6 +379,8 @@ def generic(A: float, Iy: float, Iz: float, J: float,
         _positive(J, "J", "generic", "torsion constant", "m^4"),
         _non_negative(Avy, "Avy", "generic", "shear area", "m^2"),
         _non_negative(Avz, "Avz", "generic", "shear area", "m^2"),
+        _non_negative(Wy, "Wy", "generic", "section modulus", "m^3"),
+        _non_negative(Wz, "Wz", "generic", "section modulus", "m^3"),
     )
 
 
@@ -389,7 +394,7 @@ SHAPES: dict[str, tuple[Callable[..., SectionProps], tuple[str, ...], tuple[str,
     "ishape": (ishape, ("d", "bf", "tf", "tw"), ("r",)),
     "angle": (angle, ("b", "h", "t"), ()),
     "channel": (channel, ("d", "bf", "tf", "tw"), ("r",)),
-    "generic": (generic, ("A", "Iy", "Iz", "J"), ("Avy", "Avz")),
+    "generic": (generic, ("A", "Iy", "Iz", "J"), ("Avy", "Avz", "Wy", "Wz", "Wt")),
 }
 
 # Shapes whose shear coefficient follows Poisson's ratio (they take the keyword nu).
