@@ -66,6 +66,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
     if modal:
         notes.extend(model_checks.massless_materials(defs.materials, defs.defined, mems, cols["carried_mass"], modal))
     _response_sources(cases, references, names | {cb.name for cb in combos}, names, modal)
+    _static_sources(references, names | {cb.name for cb in combos})
     model = Model(title=defs.title, node_names=node_names, coords=coords,
                   member_names=[m["name"] for m in mems], conn=conn, truss=truss,
                   up=up, releases=releases, restraint=restraint, springs=springs,
@@ -227,6 +228,14 @@ def _response_sources(cases, references: dict, starts: set, names: set, modal: l
         if not modal:
             raise DeckError(f"case {c.name}: this case is computed from modes; add a modes case",
                             c.location)
+
+
+def _static_sources(references: dict, statics: set) -> None:
+    """A modes case's preload and a buckling case's loading name a static case or combination."""
+    for key, (word, where) in references.items():
+        if isinstance(key, tuple) and word not in statics:
+            raise DeckError(f"case {key[0]}: {key[1]} '{word}' is not a static case or combination; "
+                            f"{suggest(word, statics) if statics else 'the deck has none'}", where)
 
 
 def _settings(given: dict) -> dict:

@@ -31,7 +31,7 @@ MAX_COORDINATE = 1e9
 # or two, while a model of a hundred thousand members and nodes is far inside it. A mistyped
 # range (0..999999 nested twice) is refused at once instead of running for days.
 LOOP_STATEMENTS = 1_000_000
-CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum")
+CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum", "buckling")
 
 
 class Statements:

@@ -1,0 +1,197 @@
+"""Stress stiffening and linear buckling: the geometric stiffness Kg of the members' axial forces.
+
+A static case's member axial forces N (tension positive) give Kg (fem/elements/geometric.py);
+members' pretensions give a fixed initial state whose forces enter every Kg. Two uses:
+
+- modes under a preload: (K + Kg) x = w^2 M x, refused when K + Kg is not positive definite
+  (the preload buckles the structure), naming the lowest load factor;
+- a buckling case: the lowest load factors lambda of (K + Kg0 + lambda Kg) x = 0 (Kg0 of the
+  pretensions, if any) and their shapes, with residuals and a Sturm count.
+
+Both are linear: the axial forces are those of the linear static solution on the undeformed
+geometry, and the load factors are bifurcation loads of the perfect structure (no
+large-displacement analysis, no imperfections, no yielding).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import ClassVar
+
+import numpy as np
+import scipy.linalg as sla
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+
+from .. import elements as el
+from ..assembly import Assembled, BlockPattern, _blocks, element_matrices
+from ..elements.geometric import frame_geometric, truss_geometric
+from ..errors import ModelError
+from .factor import NotPositiveDefinite, negative_eigenvalues, spd_factor
+from .modes import DENSE_LIMIT, LANCZOS_TOL, sturm_shift
+
+__all__ = ["BucklingResult", "axial_forces", "geometric_matrix", "lowest_factor", "preloaded", "prestress_forces",
+           "solve_buckling"]
+
+
+@dataclass
+class BucklingResult:
+    """factors (k,) ascending positive load factors lambda: the loads of `loading` times lambda
+    buckle the structure (linear, bifurcation); shapes (n_nodes, 6, k) buckled shapes scaled
+    to a largest translation of 1; residual (k,) backward error of each pair in its own scale
+    ||(K + lambda Kg) x|| / (|| |K| |x| || + lambda || |Kg| |x| ||); sturm_count the factors
+    below sturm_shift counted from the inertia of K + shift Kg, sturm_expected the computed
+    ones below it; axial (e,) N member axial forces of the loading (tension positive)."""
+
+    kind: ClassVar[str] = "buckling"
+    name: str
+    loading: str
+    factors: np.ndarray
+    shapes: np.ndarray
+    residual: np.ndarray
+    sturm_count: int | None
+    sturm_expected: int | None
+    sturm_shift: float | None
+    solver: str
+    axial: np.ndarray
+    prestressed: bool = False
+
+
+def axial_forces(member_forces: np.ndarray) -> np.ndarray:
+    """(e,) axial force of each member, N, tension positive, from the local end forces (e, 12) on
+    the members (N at i is -f[0], at j f[6]; their mean where an axial line load makes them differ)."""
+    return 0.5 * (member_forces[:, 6] - member_forces[:, 0])
+
+
+def geometric_matrix(model, asm: Assembled, N: np.ndarray) -> sp.csr_matrix:
+    """Global geometric stiffness (6n, 6n) CSR of the member axial forces N (e,) N.
+
+    Members with released ends take Kg condensed with their stiffness's static transform
+    T^T Kg T (the released end follows the member, as for the consistent mass)."""
+    e, n = model.n_members, model.n_nodes
+    kg = frame_geometric(asm.L, N, model.A, model.Iy, model.Iz)
+    t = model.truss
+    if t.any():
+        kg[t] = truss_geometric(asm.L[t], N[t])
+    rel = model.releases & ~t[:, None]
+    if rel.any():
+        k, _, _, _ = element_matrices(model, condense=False)
+        kg = el.condense_mass(k, kg, rel)
+    X = np.zeros((4 * e + n, 36))
+    X[:4 * e] = _blocks(el.to_global(kg, asm.R))
+    G = BlockPattern.of(model.conn, n).matrix_from_blocks(X)
+    G.eliminate_zeros()
+    return G
+
+
+def prestress_forces(model, asm: Assembled, lu) -> np.ndarray | None:
+    """(e,) axial forces N of the pretension state, or None when no member is pretensioned.
+
+    Each member's pretension T acts as an initial force: the member pulls its end nodes
+    together with T, the structure deforms under that self-balanced pair until it is in
+    equilibrium, and each member's force is then T plus its elastic force (a guy's pull
+    compresses the mast it is anchored to, and the guy relaxes by as much as the mast shortens).
+    `lu` solves with K over the free DOFs."""
+    T = getattr(model, "pretension", None)
+    if T is None or not np.any(T):
+        return None
+    xi, xj = model.coords[model.conn[:, 0]], model.coords[model.conn[:, 1]]
+    ex = (xj - xi) / asm.L[:, None]
+    f = np.zeros((model.n_nodes, 6))
+    np.add.at(f[:, :3], model.conn[:, 0], T[:, None] * ex)
+    np.add.at(f[:, :3], model.conn[:, 1], -T[:, None] * ex)
+    f = f.ravel()
+    u = np.zeros(6 * model.n_nodes)
+    u[asm.free] = lu.solve(f[asm.free])
+    dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
+    ue = np.einsum("eab,eb->ea", el.transform_matrix(asm.R), u[dofs])
+    return T + axial_forces(np.einsum("eab,eb->ea", asm.k_local, ue))
+
+
+def _residual(K, G, lam, X):
+    aK, aG, a = abs(K), abs(G), np.abs(X)
+    den = np.linalg.norm(aK @ a, axis=0) + np.abs(lam) * np.linalg.norm(aG @ a, axis=0)
+    return np.linalg.norm(K @ X + (G @ X) * lam, axis=0) / np.where(den > 0, den, 1.0)
+
+
+def _pairs(K, G, k: int):
+    """The lowest k positive factors of (K + lambda G) x = 0 (K positive definite), ascending,
+    their vectors, whether more may exist above them, and the solver's name. Solved as
+    (-G) x = theta K x, theta = 1 / lambda: the lowest positive lambda are the largest theta."""
+    n = K.shape[0]
+    if n <= DENSE_LIMIT:
+        try:
+            theta, X = sla.eigh(-G.toarray(), K.toarray())
+        except sla.LinAlgError:
+            raise NotPositiveDefinite("K") from None
+        theta, X = theta[::-1], X[:, ::-1]
+        pos = theta > 0
+        theta, X = theta[pos], X[:, pos]
+        return 1.0 / theta[:k + 2], X[:, :k + 2], False, "dense"
+    factor = spd_factor(K.tocsc())
+    ask = min(k + 2, n - 1)
+    theta, X = spla.eigsh(-G, k=ask, M=K, Minv=factor.operator(), which="LA", tol=LANCZOS_TOL)
+    order = np.argsort(-theta)
+    theta, X = theta[order], X[:, order]
+    pos = theta > 0
+    return 1.0 / theta[pos], X[:, pos], True, f"Lanczos on K^-1 Kg, {factor.name}"
+
+
+def lowest_factor(K, G) -> float | None:
+    """The lowest positive load factor of (K + lambda G) x = 0 over the free DOFs, or None."""
+    lam, _, _, _ = _pairs(K, G, 1)
+    return float(lam[0]) if len(lam) else None
+
+
+def preloaded(model, asm: Assembled, G: sp.csr_matrix, what: str, location=None):
+    """(Assembled with K + G, SPD factor of it over the free DOFs) for the modes of case `what`
+    under the geometric stiffness G; refused, naming the lowest load factor, when K + G is not
+    positive definite (the preload buckles the structure)."""
+    from dataclasses import replace
+
+    f = asm.free
+    Kp = (asm.K + G).tocsr()
+    try:
+        factor = spd_factor(Kp[f][:, f].tocsc())
+    except NotPositiveDefinite:
+        lam = lowest_factor(asm.K[f][:, f].tocsc(), G[f][:, f].tocsc())
+        said = f"its lowest buckling load factor is {lam:.4g}" if lam is not None else "K + Kg is singular"
+        raise ModelError(f"{what} buckles the structure ({said}, below 1), so it has no modes under this preload; "
+                         "check the loads, or find the buckling factors with a buckling case", location) from None
+    return replace(asm, K=Kp), factor
+
+
+def solve_buckling(model, asm: Assembled, case, N: np.ndarray, N0: np.ndarray | None = None) -> BucklingResult:
+    """The lowest `case.count` load factors and buckled shapes of the axial forces N (e,) of the
+    static case `case.loading`, with the pretension forces N0 (e,) held fixed (not scaled)."""
+    f = asm.free
+    if not np.any(N != 0):
+        raise ModelError(f"case {case.name}: the loads of case {case.loading} put no member in tension or "
+                         "compression, so they cannot buckle the structure", case.location)
+    K = asm.K if N0 is None else asm.K + geometric_matrix(model, asm, N0)
+    Kf = K[f][:, f].tocsc()
+    G = geometric_matrix(model, asm, N)[f][:, f].tocsc()
+    try:
+        lam, X, more, solver = _pairs(Kf, G, case.count)
+    except NotPositiveDefinite:
+        raise ModelError(f"case {case.name}: the structure's stiffness" + (" under the pretensions" if N0 is not None
+                         else "") + " is not positive definite, so it has no buckling factors", case.location) from None
+    if not len(lam):
+        raise ModelError(f"case {case.name}: no positive load factor: the loads of case {case.loading} do not "
+                         "compress the structure enough to buckle it (reversed, they might)", case.location)
+    keep = min(case.count, len(lam))
+    shift, expected = sturm_shift(lam, keep, more or len(lam) > keep)
+    count = None
+    if shift is not None:
+        count = negative_eigenvalues((Kf + shift * G).tocsc())
+    lam, X = lam[:keep], X[:, :keep]
+    res = _residual(Kf, G, lam, X)
+    full = np.zeros((6 * model.n_nodes, keep))
+    full[f] = X
+    shapes = full.reshape(model.n_nodes, 6, keep)
+    big = np.abs(shapes[:, :3]).reshape(-1, keep)
+    top = np.argmax(big, axis=0)
+    scale = big[top, np.arange(keep)] * np.sign(shapes[:, :3].reshape(-1, keep)[top, np.arange(keep)])
+    shapes = shapes / np.where(scale != 0, scale, 1.0)
+    return BucklingResult(case.name, case.loading, lam, shapes, res, count, expected, shift, solver, N,
+                          N0 is not None)
