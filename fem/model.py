@@ -62,6 +62,8 @@ class Model:
     E, G, rho : (e,) material per member, Pa, Pa, kg/m^3
     A, Iy, Iz, J, Avy, Avz : (e,) section per member, m^2 / m^4
     roll : (e,) rad; up : (e, 3) reference vectors (nan rows where none given)
+    pretension : (e,) initial tension of truss members, N (None: none): its geometric stiffness is
+        in K, and its state stiffens or softens every modes and buckling case (fem/analysis/buckling.py)
     carried_mass : (e,) mass per length each member carries without stiffening it (contents,
         insulation, trays), kg/m
     releases : (e, 12) bool, released local end DOFs
@@ -110,6 +112,7 @@ class Model:
     overrides: dict[str, str] = field(default_factory=dict)   # let parameters set from outside, name -> text
     warnings: list = field(default_factory=list)   # located notes from reading the deck
     excitations: tuple[Machine | FrequencyBand, ...] = ()
+    pretension: np.ndarray | None = None   # (e,) initial tension of truss members (guys, cables), N; None: none
 
     @property
     def n_nodes(self) -> int:

@@ -96,7 +96,8 @@ class _Run:
         self.statics: dict = {}
         self.modes: dict = {}
         self.stiffened: dict = {}      # the assembly (K + Kg) of each modes case under a preload or pretension
-        self.pretension = None         # (e,) axial forces of the pretension state, N, or None
+        self.pretension = None         # (e,) axial forces of the pretension state beyond the pretensions
+                                       # themselves (which K holds), N, or None
         self._factor = factor
 
     def lu(self):
@@ -114,7 +115,7 @@ def _modes(run: _Run, case, notes, spd):
     if case.preload is not None:
         Np = axial_forces(run.statics[case.preload].member_forces)
         N = Np if N is None else N + Np
-    if N is None:
+    if N is None or not np.any(N):
         return solve_modes_case(run.model, run.asm, case, factor=spd, notes=notes)
     what = f"case {case.name}: the preload of case {case.preload}" if case.preload else \
         f"case {case.name}: the members' pretension"
@@ -226,7 +227,7 @@ def solve(model: Model, cases=None) -> Results:
         from .analysis.buckling import prestress_forces
 
         with quiet(notes, "pretension"):
-            run.pretension = prestress_forces(model, asm, run.lu())
+            run.pretension = prestress_forces(model, asm, run.lu()) - model.pretension
     sensitivities = {}
     for after in (False, True):       # modes under a preload once the static cases are solved
         for c in model.cases:

@@ -24,8 +24,8 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from .. import elements as el
-from ..assembly import Assembled, BlockPattern, _blocks, element_matrices
-from ..elements.geometric import frame_geometric, truss_geometric
+from ..assembly import Assembled
+from ..elements.geometric import geometric_matrix as _geometric
 from ..errors import ModelError
 from .factor import NotPositiveDefinite, negative_eigenvalues, spd_factor
 from .modes import DENSE_LIMIT, LANCZOS_TOL, sturm_shift
@@ -64,24 +64,8 @@ def axial_forces(member_forces: np.ndarray) -> np.ndarray:
 
 
 def geometric_matrix(model, asm: Assembled, N: np.ndarray) -> sp.csr_matrix:
-    """Global geometric stiffness (6n, 6n) CSR of the member axial forces N (e,) N.
-
-    Members with released ends take Kg condensed with their stiffness's static transform
-    T^T Kg T (the released end follows the member, as for the consistent mass)."""
-    e, n = model.n_members, model.n_nodes
-    kg = frame_geometric(asm.L, N, model.A, model.Iy, model.Iz)
-    t = model.truss
-    if t.any():
-        kg[t] = truss_geometric(asm.L[t], N[t])
-    rel = model.releases & ~t[:, None]
-    if rel.any():
-        k, _, _, _ = element_matrices(model, condense=False)
-        kg = el.condense_mass(k, kg, rel)
-    X = np.zeros((4 * e + n, 36))
-    X[:4 * e] = _blocks(el.to_global(kg, asm.R))
-    G = BlockPattern.of(model.conn, n).matrix_from_blocks(X)
-    G.eliminate_zeros()
-    return G
+    """Global geometric stiffness (6n, 6n) of the member axial forces N (e,) N, tension positive."""
+    return _geometric(model, asm.R, asm.L, N)
 
 
 def prestress_forces(model, asm: Assembled, lu) -> np.ndarray | None:
@@ -90,8 +74,10 @@ def prestress_forces(model, asm: Assembled, lu) -> np.ndarray | None:
     Each member's pretension T acts as an initial force: the member pulls its end nodes
     together with T, the structure deforms under that self-balanced pair until it is in
     equilibrium, and each member's force is then T plus its elastic force (a guy's pull
-    compresses the mast it is anchored to, and the guy relaxes by as much as the mast shortens).
-    `lu` solves with K over the free DOFs."""
+    compresses the mast it is anchored to, and the guy relaxes by as much as the mast shortens;
+    a cable between fixed anchors keeps T). `lu` solves with K over the free DOFs, K holding
+    the pretensions' own geometric stiffness (fem/assembly.py), so that a straight cable is
+    not a mechanism."""
     T = getattr(model, "pretension", None)
     if T is None or not np.any(T):
         return None
@@ -163,12 +149,13 @@ def preloaded(model, asm: Assembled, G: sp.csr_matrix, what: str, location=None)
 
 def solve_buckling(model, asm: Assembled, case, N: np.ndarray, N0: np.ndarray | None = None) -> BucklingResult:
     """The lowest `case.count` load factors and buckled shapes of the axial forces N (e,) of the
-    static case `case.loading`, with the pretension forces N0 (e,) held fixed (not scaled)."""
+    static case `case.loading`, with the pretension state's forces N0 (e,) held fixed (not scaled;
+    beyond the pretensions themselves, which asm.K holds)."""
     f = asm.free
     if not np.any(N != 0):
         raise ModelError(f"case {case.name}: the loads of case {case.loading} put no member in tension or "
                          "compression, so they cannot buckle the structure", case.location)
-    K = asm.K if N0 is None else asm.K + geometric_matrix(model, asm, N0)
+    K = asm.K if N0 is None or not np.any(N0) else asm.K + geometric_matrix(model, asm, N0)
     Kf = K[f][:, f].tocsc()
     G = geometric_matrix(model, asm, N)[f][:, f].tocsc()
     try:

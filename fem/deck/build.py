@@ -74,7 +74,8 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
                   member_section=[m["section"][0] for m in mems],
                   member_material=[m["material"][0] for m in mems],
                   groups=member_groups(defs), excitations=model_excitations(defs, nidx),
-                  cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes, **cols)
+                  cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes,
+                  pretension=_pretensions(mems), **cols)
     notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
                                 ev.assume_sites.get(U.LENGTH)))
     return model
@@ -119,6 +120,12 @@ def _members(defs: Definitions, mems, node_names, nidx, coords, tol, notes):
         if m["up"] is not None:
             up[k] = _up_vector(m["up"], axis / length, m)
     return conn, cols, up, releases, truss
+
+
+def _pretensions(mems) -> np.ndarray | None:
+    """(e,) members' pretensions, N, or None when no member has one."""
+    T = np.array([m.get("pretension", 0.0) for m in mems], dtype=float)
+    return T if T.any() else None
 
 
 def member_groups(defs: Definitions) -> dict[str, tuple[str, ...]]:

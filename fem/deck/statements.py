@@ -249,7 +249,7 @@ class Statements:
             raise DeckError(f"member {name}: kind must be 'beam' or 'truss', not '{kind}'", self.loc(ch[3]))
         m = dict(name=name, i=(ev.name(ch[1]), ch[1]), j=(ev.name(ch[2]), ch[2]), kind=kind,
                  section=(ev.name(ch[4]), ch[4]), material=(ev.name(ch[5]), ch[5]),
-                 roll=0.0, up=None, carried_mass=0.0, releases=np.zeros(12, bool), loc=self.loc(s))
+                 roll=0.0, up=None, carried_mass=0.0, releases=np.zeros(12, bool), loc=self.loc(s), pretension=0.0)
         seen = set()
         for opt in ch[6:]:
             if opt.data == "release":
@@ -274,12 +274,17 @@ class Statements:
                 m["carried_mass"] = ev.value(val, (1, -1, 0), f"member {name}: carried_mass")
                 if m["carried_mass"] < 0:
                     raise DeckError(f"member {name}: carried_mass (mass per length) cannot be negative", self.loc(opt))
+            elif key == "pretension":
+                m["pretension"] = ev.value(val, U.FORCE, f"member {name}: pretension")
+                if kind != "truss" or not m["pretension"] >= 0:
+                    raise DeckError(f"member {name}: pretension is the initial tension of a truss member (a guy or "
+                                    "cable), a force of zero or more", self.loc(opt), "e.g. pretension = 12 kN")
             elif key == "nsm":
                 raise DeckError(f"member {name}: 'nsm' is not an option here; the mass per length a member carries "
                                 "without stiffening it (contents, insulation, trays) is written carried_mass",
                                 self.loc(opt.children[0]), "e.g. carried_mass = 12 kg/m")
             else:
-                raise DeckError(f"member {name}: unknown option '{key}'; {suggest(key, ['roll', 'up', 'carried_mass'])}", self.loc(opt))
+                raise DeckError(f"member {name}: unknown option '{key}'; {suggest(key, ['roll', 'up', 'carried_mass', 'pretension'])}", self.loc(opt))
         motion = _released_motion(m["releases"]) if kind == "beam" else None
         if motion:
             raise DeckError(f"member {name}: its end releases let it {motion} with nothing to resist it", self.loc(s),

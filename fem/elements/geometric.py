@@ -26,7 +26,7 @@ import numpy as np
 
 from .frame import _bcast, _plane_blocks, _sym_fill
 
-__all__ = ["frame_geometric", "truss_geometric"]
+__all__ = ["frame_geometric", "geometric_matrix", "truss_geometric"]
 
 
 def frame_geometric(L, N, A, Iy, Iz):
@@ -69,3 +69,29 @@ def truss_geometric(L, N):
     for d in (1, 2):
         _sym_fill(kg, [(d, d), (d + 6, d + 6), (d, d + 6)], [c, c, -c])
     return kg
+
+
+def geometric_matrix(model, R, L, N):
+    """Global geometric stiffness (6n, 6n) CSR of the member axial forces N (e,) N, tension
+    positive; R (e, 3, 3) and L (e,) the members' axes and lengths.
+
+    Members with released ends take Kg condensed with their stiffness's static transform
+    T^T Kg T (the released end follows the member, as for the consistent mass)."""
+    from ..assembly import BlockPattern, _blocks, element_matrices
+    from .frame import condense_mass, to_global
+
+    e, n = model.n_members, model.n_nodes
+    N = np.broadcast_to(np.asarray(N, dtype=float), (e,))
+    kg = frame_geometric(L, N, model.A, model.Iy, model.Iz)
+    t = model.truss
+    if t.any():
+        kg[t] = truss_geometric(L[t], N[t])
+    rel = model.releases & ~t[:, None]
+    if rel.any():
+        k, _, _, _ = element_matrices(model, condense=False)
+        kg = condense_mass(k, kg, rel)
+    X = np.zeros((4 * e + n, 36))
+    X[:4 * e] = _blocks(to_global(kg, R))
+    G = BlockPattern.of(model.conn, n).matrix_from_blocks(X)
+    G.eliminate_zeros()
+    return G
