@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ModelError
-from . import resonance_out
+from . import buckling_out, resonance_out
 from .tables import END_FORCES, REACTIONS, supported_nodes, unit_shape_mass_stiffness
 
 __all__ = ["CAUTION", "SCHEMA", "results_doc", "strict", "write_results_json"]
@@ -90,7 +90,8 @@ def _modes(results, r) -> dict:
             "reference_point_m": np.asarray(r.reference).tolist(),
             "mode_character": mode_characters(results.model, r),
             "checks": {**checks.cases[r.name], **checks.plausible[r.name]},
-            "resonance": resonance_out.case_entry(results, r.name), **_sensitivity(results, r)}
+            "resonance": resonance_out.case_entry(results, r.name), **_sensitivity(results, r),
+            **buckling_out.preload_entry(results, r)}
 
 
 def _sensitivity(results, r) -> dict:
@@ -158,8 +159,8 @@ def _sections(model) -> dict:
 
 # each kind's entry, and the order of the kinds in the document's list of cases
 _ENTRY = {"static": _static, "modes": _modes, "free": _response, "history": _response,
-          "harmonic": _harmonic, "spectrum": _spectrum}
-_ORDER = (("static",), ("modes",), ("free", "history"), ("harmonic",), ("spectrum",))
+          "harmonic": _harmonic, "spectrum": _spectrum, "buckling": buckling_out.json_entry}
+_ORDER = (("static",), ("modes",), ("free", "history"), ("harmonic",), ("spectrum",), ("buckling",))
 
 
 def results_doc(results) -> dict:
