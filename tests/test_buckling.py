@@ -188,3 +188,43 @@ def test_tension_only_loads_are_refused_in_words():
                        "case B buckling { loading = P }"])
     with pytest.raises(ModelError, match="no positive load factor.*do not compress"):
         fem.solve(read_text(lines))
+
+
+def test_results_folder_and_summary_of_a_buckling_case(tmp_path, capsys):
+    """buckling.csv and buckled_shapes.csv hold the factors and shapes as solved, results.json the
+    entry with its checks and the linear note, the summary a line per case, the report its table
+    (round trip: written, read back, compared)."""
+    import csv
+    import json
+
+    from fem.output.summary import print_solved
+
+    r = fem.solve(column(4))
+    fem.write_results(r, tmp_path / "out", render=False)
+    out = tmp_path / "out"
+    rows = list(csv.DictReader((out / "buckling.csv").open()))
+    np.testing.assert_array_equal([float(x["load_factor"]) for x in rows], r["B"].factors)
+    assert {x["loading"] for x in rows} == {"P"}
+    shapes = list(csv.DictReader((out / "buckled_shapes.csv").open()))
+    assert len(shapes) == 3 * 5 and float(shapes[0]["ux"]) == r["B"].shapes[0, 0, 0]
+    doc = json.loads((out / "results.json").read_text())
+    entry = next(c for c in doc["cases"] if c["kind"] == "buckling")
+    assert entry["load_factor"] == r["B"].factors.tolist() and entry["checks"]["none_missed"] is True
+    assert "no large-displacement analysis" in entry["note"]
+    assert doc["cases"][-1] is not None and doc["cases"][-1]["kind"] == "buckling"     # last group
+    assert "Load factors of the loads of case P" in (out / "report.html").read_text()
+    print_solved(r)
+    said = capsys.readouterr().out
+    assert "B            buckling of P's loads (linear); lowest load factors: " in said
+    assert "Sturm count pass" in said
+
+
+def test_a_case_built_in_python_naming_no_static_case_is_refused():
+    """The API checks what the reader checks: a buckling case's loading must be a static case."""
+    from dataclasses import replace
+
+    model = column(2)
+    bad = replace(model, cases=[c for c in model.cases if c.kind != "buckling"]
+                  + [fem.BucklingCase(name="B2", loading="NOPE")])
+    with pytest.raises(ModelError, match="case B2: 'NOPE' is not a static case or combination"):
+        fem.solve(bad)
