@@ -257,7 +257,7 @@ def solve(model: Model, cases=None) -> Results:
 
             with stage(f"buckling case {c.name}: eigen solve"), _at_case(c), quiet(notes, f"case {c.name}"):
                 responses[c.name] = solve_buckling(model, asm, c, axial_forces(run.statics[c.loading].member_forces),
-                                                   run.pretension)
+                                                   run.pretension, sound.spd)
     mass = assembled_mass(model, asm)
     modal = [*run.modes.values(), *responses.values()]
     resonance = _resonance(model, run.modes)

@@ -31,7 +31,7 @@ from .factor import NotPositiveDefinite, negative_eigenvalues, spd_factor
 from .modes import DENSE_LIMIT, LANCZOS_TOL, sturm_shift
 
 __all__ = ["BucklingResult", "axial_forces", "geometric_matrix", "lowest_factor", "preloaded", "prestress_forces",
-           "solve_buckling"]
+           "solve_buckling", "sturm_check"]
 
 
 @dataclass
@@ -100,10 +100,11 @@ def _residual(K, G, lam, X):
     return np.linalg.norm(K @ X + (G @ X) * lam, axis=0) / np.where(den > 0, den, 1.0)
 
 
-def _pairs(K, G, k: int):
+def _pairs(K, G, k: int, factor=None):
     """The lowest k positive factors of (K + lambda G) x = 0 (K positive definite), ascending,
     their vectors, whether more may exist above them, and the solver's name. Solved as
-    (-G) x = theta K x, theta = 1 / lambda: the lowest positive lambda are the largest theta."""
+    (-G) x = theta K x, theta = 1 / lambda: the lowest positive lambda are the largest theta.
+    `factor`: an SPD factor of K already made (else K is factored here)."""
     n = K.shape[0]
     if n <= DENSE_LIMIT:
         try:
@@ -114,7 +115,7 @@ def _pairs(K, G, k: int):
         pos = theta > 0
         theta, X = theta[pos], X[:, pos]
         return 1.0 / theta[:k + 2], X[:, :k + 2], False, "dense"
-    factor = spd_factor(K.tocsc())
+    factor = factor or spd_factor(K.tocsc())
     ask = min(k + 2, n - 1)
     theta, X = spla.eigsh(-G, k=ask, M=K, Minv=factor.operator(), which="LA", tol=LANCZOS_TOL)
     order = np.argsort(-theta)
@@ -147,38 +148,61 @@ def preloaded(model, asm: Assembled, G: sp.csr_matrix, what: str, location=None)
     return replace(asm, K=Kp), factor
 
 
-def solve_buckling(model, asm: Assembled, case, N: np.ndarray, N0: np.ndarray | None = None) -> BucklingResult:
+def sturm_check(K, G, lam, keep: int, more: bool):
+    """The Sturm check of the lowest `keep` of the computed factors `lam` (ascending) of
+    (K + lambda G) x = 0: a shift s past them (past a repeated partner of the last, see
+    modes.sturm_shift), the number of factors in (0, s) counted as the negative eigenvalues of
+    K + s G (Sylvester's law of inertia: K + s G = K^1/2 (I - s C) K^1/2 with C's eigenvalues
+    1 / lambda), and the number of computed ones below s. (None, None, None) when no shift can
+    be placed; the count is None when the inertia cannot be read."""
+    shift, expected = sturm_shift(lam, keep, more)
+    if shift is None:
+        return None, None, None
+    return shift, negative_eigenvalues((K + shift * G).tocsc()), expected
+
+
+ROUNDS = 3      # re-runs asking for more factors when the Sturm count shows some missed
+
+
+def solve_buckling(model, asm: Assembled, case, N: np.ndarray, N0: np.ndarray | None = None,
+                   factor=None) -> BucklingResult:
     """The lowest `case.count` load factors and buckled shapes of the axial forces N (e,) of the
     static case `case.loading`, with the pretension state's forces N0 (e,) held fixed (not scaled;
-    beyond the pretensions themselves, which asm.K holds)."""
+    beyond the pretensions themselves, which asm.K holds). `factor`: an SPD factor of K over the
+    free DOFs already made (used when there is no N0)."""
     f = asm.free
     if not np.any(N != 0):
         raise ModelError(f"case {case.name}: the loads of case {case.loading} put no member in tension or "
                          "compression, so they cannot buckle the structure", case.location)
-    K = asm.K if N0 is None or not np.any(N0) else asm.K + geometric_matrix(model, asm, N0)
+    held = N0 is not None and np.any(N0)
+    K = asm.K + geometric_matrix(model, asm, N0) if held else asm.K
     Kf = K[f][:, f].tocsc()
     G = geometric_matrix(model, asm, N)[f][:, f].tocsc()
-    try:
-        lam, X, more, solver = _pairs(Kf, G, case.count)
-    except NotPositiveDefinite:
-        raise ModelError(f"case {case.name}: the structure's stiffness" + (" under the pretensions" if N0 is not None
-                         else "") + " is not positive definite, so it has no buckling factors", case.location) from None
-    if not len(lam):
-        raise ModelError(f"case {case.name}: no positive load factor: the loads of case {case.loading} do not "
-                         "compress the structure enough to buckle it (reversed, they might)", case.location)
-    keep = min(case.count, len(lam))
-    shift, expected = sturm_shift(lam, keep, more or len(lam) > keep)
-    count = None
-    if shift is not None:
-        count = negative_eigenvalues((Kf + shift * G).tocsc())
+    want = case.count
+    for _ in range(ROUNDS):
+        try:
+            lam, X, more, solver = _pairs(Kf, G, want, None if held else factor)
+        except NotPositiveDefinite:
+            raise ModelError(f"case {case.name}: the structure's stiffness" + (" under the pretensions" if held else "")
+                             + " is not positive definite, so it has no buckling factors", case.location) from None
+        if not len(lam):
+            raise ModelError(f"case {case.name}: no positive load factor: the loads of case {case.loading} do not "
+                             "compress the structure enough to buckle it (reversed, they might)", case.location)
+        keep = min(case.count, len(lam))
+        shift, count, expected = sturm_check(Kf, G, lam, keep, more or len(lam) > keep)
+        if count is None or count <= expected or not more:
+            break
+        want = count + 1          # some were missed below the shift: ask for all of them
     lam, X = lam[:keep], X[:, :keep]
     res = _residual(Kf, G, lam, X)
     full = np.zeros((6 * model.n_nodes, keep))
     full[f] = X
     shapes = full.reshape(model.n_nodes, 6, keep)
-    big = np.abs(shapes[:, :3]).reshape(-1, keep)
-    top = np.argmax(big, axis=0)
-    scale = big[top, np.arange(keep)] * np.sign(shapes[:, :3].reshape(-1, keep)[top, np.arange(keep)])
+    # largest translation 1 (largest rotation 1 for a shape that only twists), its sign positive
+    moved = np.abs(shapes[:, :3]).max(axis=(0, 1)) > 1e-9 * np.abs(shapes).max(axis=(0, 1))
+    part = np.where(moved[None, None, :], shapes[:, :3], shapes[:, 3:]).reshape(-1, keep)
+    top = np.argmax(np.abs(part), axis=0)
+    scale = part[top, np.arange(keep)]
     shapes = shapes / np.where(scale != 0, scale, 1.0)
     return BucklingResult(case.name, case.loading, lam, shapes, res, count, expected, shift, solver, N,
                           N0 is not None)
