@@ -223,11 +223,13 @@ def solve(model: Model, cases=None) -> Results:
     asm, sound = examine(model)
     notes = list(sound.notes)
     run = _Run(model, asm, sound.factor)
+    state = None
     if getattr(model, "pretension", None) is not None and np.any(model.pretension):
-        from .analysis.buckling import prestress_forces
+        from .analysis.buckling import pretension_state
 
         with quiet(notes, "pretension"):
-            run.pretension = prestress_forces(model, asm, run.lu()) - model.pretension
+            state = pretension_state(model, asm, run.lu())
+            run.pretension = state.axial - model.pretension
     sensitivities = {}
     for after in (False, True):       # modes under a preload once the static cases are solved
         for c in model.cases:
@@ -258,6 +260,10 @@ def solve(model: Model, cases=None) -> Results:
             with stage(f"buckling case {c.name}: eigen solve"), _at_case(c), quiet(notes, f"case {c.name}"):
                 responses[c.name] = solve_buckling(model, asm, c, axial_forces(run.statics[c.loading].member_forces),
                                                    run.pretension, sound.spd)
+    if state is not None:          # reported: the pretension state plus each case's change from it
+        from .analysis.buckling import with_state
+
+        run.statics = {n: with_state(r, state, model.coords) for n, r in run.statics.items()}
     mass = assembled_mass(model, asm)
     modal = [*run.modes.values(), *responses.values()]
     resonance = _resonance(model, run.modes)

@@ -105,7 +105,7 @@ def test_guy_pretension_settles_by_statics_and_compatibility():
              "node AL = (-3 m, 0, 0)", "node AR = (3 m, 0, 0)", "member M : B -> TOP beam C S",
              "member G1 : TOP -> AL truss G S pretension = 20 kN", "member G2 : TOP -> AR truss G S pretension = 20 kN",
              "support B pinned", "support B (rz)", "support AL fixed", "support AR fixed", "support TOP (uy)",
-             "case MO modes { count = 2 }"]
+             "case MO modes { count = 2 }", "case S static { force TOP = (0, 0, -1 N) }"]
     model = read_text("\n".join(lines))
     asm, _ = examine(model)
     N = prestress_forces(model, asm, factorise(model, asm))
@@ -118,6 +118,13 @@ def test_guy_pretension_settles_by_statics_and_compatibility():
     np.testing.assert_allclose(N[1:], [t, t], rtol=1e-10)
     np.testing.assert_allclose(N[0], -E * A / L * d, rtol=1e-10)
     assert t < T and N[0] < 0
+    # a static case reports the state plus its own change: 1 N down moves each force by under 1 N,
+    # the reactions balance the 1 N (the state's own add to zero) and the checks pass
+    r = fem.solve(model)
+    s = r["S"]
+    np.testing.assert_allclose(0.5 * (s.member_forces[:, 6] - s.member_forces[:, 0]), N, atol=1.0)
+    assert s.reactions[:, 2].sum() == pytest.approx(1.0, rel=1e-9)
+    assert r.checks.passed["S"]
 
 
 @pytest.mark.parametrize("text, match", [

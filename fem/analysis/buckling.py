@@ -30,7 +30,7 @@ from ..errors import ModelError
 from .factor import NotPositiveDefinite, negative_eigenvalues, spd_factor
 from .modes import DENSE_LIMIT, LANCZOS_TOL, sturm_shift
 
-__all__ = ["BucklingResult", "axial_forces", "geometric_matrix", "lowest_factor", "preloaded", "prestress_forces",
+__all__ = ["BucklingResult", "PretensionState", "axial_forces", "pretension_state", "with_state", "geometric_matrix", "lowest_factor", "preloaded", "prestress_forces",
            "solve_buckling", "sturm_check"]
 
 
@@ -68,8 +68,23 @@ def geometric_matrix(model, asm: Assembled, N: np.ndarray) -> sp.csr_matrix:
     return _geometric(model, asm.R, asm.L, N)
 
 
-def prestress_forces(model, asm: Assembled, lu) -> np.ndarray | None:
-    """(e,) axial forces N of the pretension state, or None when no member is pretensioned.
+@dataclass
+class PretensionState:
+    """The state the members' pretensions settle into with no load: u (n, 6) m, reactions (n, 6)
+    N (they add to zero: the pretensions pull within the structure), member_forces (e, 12) local
+    end forces on the members with the pretension in N, axial (e,) N tension positive,
+    residual and gross (6n,) as in StaticResult."""
+
+    u: np.ndarray
+    reactions: np.ndarray
+    member_forces: np.ndarray
+    axial: np.ndarray
+    residual: np.ndarray
+    gross: np.ndarray
+
+
+def pretension_state(model, asm: Assembled, lu) -> PretensionState | None:
+    """The pretension state, or None when no member is pretensioned.
 
     Each member's pretension T acts as an initial force: the member pulls its end nodes
     together with T, the structure deforms under that self-balanced pair until it is in
@@ -78,6 +93,8 @@ def prestress_forces(model, asm: Assembled, lu) -> np.ndarray | None:
     a cable between fixed anchors keeps T). `lu` solves with K over the free DOFs, K holding
     the pretensions' own geometric stiffness (fem/assembly.py), so that a straight cable is
     not a mechanism."""
+    from .static import support_forces
+
     T = getattr(model, "pretension", None)
     if T is None or not np.any(T):
         return None
@@ -91,7 +108,38 @@ def prestress_forces(model, asm: Assembled, lu) -> np.ndarray | None:
     u[asm.free] = lu.solve(f[asm.free])
     dofs = (6 * model.conn[:, :, None] + np.arange(6)).reshape(-1, 12)
     ue = np.einsum("eab,eb->ea", el.transform_matrix(asm.R), u[dofs])
-    return T + axial_forces(np.einsum("eab,eb->ea", asm.k_local, ue))
+    mf = np.einsum("eab,eb->ea", asm.k_local, ue)
+    mf[:, 0] -= T                      # the initial force on the member: -T at i, +T at j along x
+    mf[:, 6] += T
+    Ku = asm.K @ u
+    residual = np.zeros_like(u)
+    residual[asm.free] = Ku[asm.free] - f[asm.free]
+    reactions = support_forces(model, asm, Ku - f, u)
+    return PretensionState(u.reshape(-1, 6), reactions.reshape(-1, 6), mf, axial_forces(mf), residual,
+                           abs(asm.K) @ np.abs(u) + np.abs(f))
+
+
+def prestress_forces(model, asm: Assembled, lu) -> np.ndarray | None:
+    """(e,) axial forces N of the pretension state (`pretension_state`), or None when no member
+    is pretensioned."""
+    state = pretension_state(model, asm, lu)
+    return None if state is None else state.axial
+
+
+def with_state(result, state: PretensionState, coords):
+    """A static result with the pretension state added once: the results of a static case or
+    combination in a pretensioned model are the state plus the change its loads make."""
+    from dataclasses import replace
+
+    from .static import equilibrium
+
+    reactions = result.reactions + state.reactions
+    kept = result.residual is not None
+    return replace(result, u=result.u + state.u, reactions=reactions,
+                   member_forces=result.member_forces + state.member_forces,
+                   equilibrium=equilibrium(coords, result.applied, reactions),
+                   residual=result.residual + state.residual if kept else None,
+                   gross=result.gross + state.gross if kept else None)
 
 
 def _residual(K, G, lam, X):
