@@ -111,15 +111,15 @@ def _modes(run: _Run, case, notes, spd):
     axial forces (then its assembly is kept for the response cases built on it)."""
     from .analysis.buckling import axial_forces, geometric_matrix, preloaded
 
-    N = run.pretension
-    if case.preload is not None:
-        Np = axial_forces(run.statics[case.preload].member_forces)
-        N = Np if N is None else N + Np
-    if N is None or not np.any(N):
+    N0 = run.pretension if run.pretension is not None and np.any(run.pretension) else None
+    if case.preload is None and N0 is None:
         return solve_modes_case(run.model, run.asm, case, factor=spd, notes=notes)
+    G = None if case.preload is None else \
+        geometric_matrix(run.model, run.asm, axial_forces(run.statics[case.preload].member_forces))
+    G0 = None if N0 is None else geometric_matrix(run.model, run.asm, N0)
     what = f"case {case.name}: the preload of case {case.preload}" if case.preload else \
         f"case {case.name}: the members' pretension"
-    asm, factor = preloaded(run.model, run.asm, geometric_matrix(run.model, run.asm, N), what, case.location)
+    asm, factor = preloaded(run.model, run.asm, G, what, case.location, G0)
     run.stiffened[case.name] = asm
     return solve_modes_case(run.model, asm, case, factor=factor, notes=notes)
 

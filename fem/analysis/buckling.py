@@ -178,18 +178,27 @@ def lowest_factor(K, G) -> float | None:
     return float(lam[0]) if len(lam) else None
 
 
-def preloaded(model, asm: Assembled, G: sp.csr_matrix, what: str, location=None):
-    """(Assembled with K + G, SPD factor of it over the free DOFs) for the modes of case `what`
-    under the geometric stiffness G; refused, naming the lowest load factor, when K + G is not
-    positive definite (the preload buckles the structure)."""
+def preloaded(model, asm: Assembled, G: sp.csr_matrix | None, what: str, location=None,
+              G0: sp.csr_matrix | None = None):
+    """(Assembled with K + G0 + G, SPD factor of it over the free DOFs) for the modes of case
+    `what` under the geometric stiffness G of its preload and G0 of the pretension state (either
+    may be None); refused when K + G0 + G is not positive definite (the preload buckles the
+    structure), naming the lowest load factor of G over K + G0."""
     from dataclasses import replace
 
     f = asm.free
-    Kp = (asm.K + G).tocsr()
+    base = asm.K if G0 is None else (asm.K + G0).tocsr()
+    Kp = base if G is None else (base + G).tocsr()
     try:
         factor = spd_factor(Kp[f][:, f].tocsc())
     except NotPositiveDefinite:
-        lam = lowest_factor(asm.K[f][:, f].tocsc(), G[f][:, f].tocsc())
+        if G is None:
+            raise ModelError(f"{what} buckles the structure (K + Kg of the state the pretensions settle into is "
+                             "not positive definite), so it has no modes; check the pretensions", location) from None
+        try:
+            lam = lowest_factor(base[f][:, f].tocsc(), G[f][:, f].tocsc())
+        except NotPositiveDefinite:
+            lam = None
         said = f"its lowest buckling load factor is {lam:.4g}" if lam is not None else "K + Kg is singular"
         raise ModelError(f"{what} buckles the structure ({said}, below 1), so it has no modes under this preload; "
                          "check the loads, or find the buckling factors with a buckling case", location) from None
