@@ -34,6 +34,7 @@ _EXPORTS = {
     "Model": "fem.model", "LoadItem": "fem.model", "Combination": "fem.model",
     "StaticCase": "fem.cases", "ModesCase": "fem.cases", "FreeCase": "fem.cases",
     "HistoryCase": "fem.cases", "HarmonicCase": "fem.cases", "SpectrumCase": "fem.cases",
+    "BucklingCase": "fem.cases", "BucklingResult": "fem.analysis.buckling",
     "Damping": "fem.damping",
     "StaticResult": "fem.analysis.static", "ModesCaseResult": "fem.analysis.modal_case",
     "FreeCaseResult": "fem.analysis.free_case", "HistoryResult": "fem.analysis.history_case",

@@ -221,6 +221,11 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
         XM[4 * e:] += model.mass_coupling.reshape(n, 36)
     K = pattern.matrix_from_blocks(XK)
     M = pattern.matrix_from_blocks(XM)
+    if model.pretension is not None and np.any(model.pretension):
+        # a pretensioned cable resists sideways motion by its tension (a taut string)
+        from .elements.geometric import geometric_matrix
+
+        K = (K + geometric_matrix(model, R, L, model.pretension)).tocsr()
     # 6x6 blocks of axis-aligned or truss members hold many exact zeros: dropping them cuts the
     # stored entries (a third on a lattice tower) and keeps them out of the fill orderings
     K.eliminate_zeros()

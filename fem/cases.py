@@ -19,6 +19,7 @@ the types unhashable; equality compares every field but `location` value by valu
     HistoryCase     loads and ground acceleration times time functions
     HarmonicCase    a frequency sweep of harmonic loads or ground acceleration
     SpectrumCase    peaks from a response spectrum
+    BucklingCase    the lowest linear buckling load factors of a static case's loads
 
 Examples
 --------
@@ -56,7 +57,7 @@ from .spectrum import Spectrum
 from .timefn import TimeFunction
 from .vibration import VibrationLimit, range_problem
 
-__all__ = ["CASE_TYPES", "Case", "Damping", "FreeCase", "HarmonicCase", "HistoryCase", "LoadItem", "ModesCase",
+__all__ = ["BucklingCase", "CASE_TYPES", "Case", "Damping", "FreeCase", "HarmonicCase", "HistoryCase", "LoadItem", "ModesCase",
            "RuleError", "SpectrumCase", "StaticCase"]
 
 MODES_COUNT = 12           # modes a modes case finds when it gives neither count, fmax nor target
@@ -64,6 +65,7 @@ MODES_MAX = 300            # most modes a mass target may add
 SWEEP_POINTS = 200         # frequencies of a sweep, before the points added around resonances
 SPECTRUM_DAMPING = 0.05    # a spectrum case's damping ratio when none is given (the design spectra's own)
 MAX_STEPS = 1e6            # time steps of a free or history case
+BUCKLING_COUNT = 4         # load factors a buckling case finds when it gives no count
 
 
 @dataclass(eq=False)
@@ -152,7 +154,9 @@ class ModesCase(_Case):
     rotational participation is taken about. `sensitivity` asks for frequency sensitivities, members grouped by
     "members", "sections", "materials" or the deck's "groups"; `sensitivity_rows` ranked rows per mode.
     `resonance`: names of the model's excitations its resonance check takes (None: every one; () none).
-    Deck options: count, fmax, target, max, reference, sensitivity, sensitivity_rows, resonance."""
+    `preload`: the name of a static case whose member axial forces stiffen (tension) or soften
+    (compression) the structure: the modes of (K + Kg) x = w^2 M x (linear; fem/analysis/buckling.py).
+    Deck options: count, fmax, target, max, reference, sensitivity, sensitivity_rows, resonance, preload."""
 
     kind: ClassVar[str] = "modes"
     count: int | None = None
@@ -163,6 +167,11 @@ class ModesCase(_Case):
     sensitivity: str | None = None
     sensitivity_rows: int = 8      # rows per mode of the ranked tables (results.json, report)
     resonance: tuple[str, ...] | None = None
+    preload: str | None = None
+
+    @property
+    def needs(self) -> tuple[str, ...]:
+        return () if self.preload is None else (self.preload,)
 
     @property
     def n_modes(self) -> int | None:
@@ -196,6 +205,9 @@ class ModesCase(_Case):
         object.__setattr__(self, "sensitivity_rows", _whole(self.sensitivity_rows, 1, np.inf, f"case {name}: "
                            "sensitivity_rows must be a whole number of at least 1", "sensitivity_rows"))
         self._no_loads()
+        if self.preload is not None and self.sensitivity is not None:
+            raise RuleError(f"case {name}: frequency sensitivities are not available under a preload (they "
+                            "take the members' elastic stiffness only)", "sensitivity", "preload")
         if self.target is not None and (self.count is not None or self.fmax is not None):
             raise RuleError(f"case {name}: give a mass target or count/fmax, not both")
 
@@ -414,7 +426,34 @@ class SpectrumCase(_Response):
         self._no_loads()
 
 
-Case = Union[StaticCase, ModesCase, FreeCase, HistoryCase, HarmonicCase, SpectrumCase]
+@dataclass(frozen=True, kw_only=True, eq=False)
+class BucklingCase(_Case):
+    """The lowest `count` load factors lambda at which the loads of the static case `loading`,
+    times lambda, buckle the structure: (K + lambda Kg) x = 0, with Kg of that case's member
+    axial forces (linear buckling of the perfect structure; fem/analysis/buckling.py).
+    Deck options: loading, count."""
+
+    kind: ClassVar[str] = "buckling"
+    loading: str
+    count: int = BUCKLING_COUNT
+
+    @property
+    def needs(self) -> tuple[str, ...]:
+        return (self.loading,)
+
+    @property
+    def static_part(self) -> bool:
+        return True
+
+    def _check(self) -> None:
+        object.__setattr__(self, "count", _whole(self.count, 1, 100, f"case {self.name}: count must be a whole "
+                                                 "number from 1 to 100", "count"))
+        if self.loads or self.gravity is not None:
+            raise RuleError(f"case {self.name}: a buckling case takes no loads of its own; name the static case "
+                            "whose loads are scaled", hint="e.g. loading = HEAD")
+
+
+Case = Union[StaticCase, ModesCase, FreeCase, HistoryCase, HarmonicCase, SpectrumCase, BucklingCase]
 
 CASE_TYPES: dict[str, type] = {c.kind: c for c in (StaticCase, ModesCase, FreeCase, HistoryCase, HarmonicCase,
-                                                    SpectrumCase)}
+                                                    SpectrumCase, BucklingCase)}

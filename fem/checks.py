@@ -16,6 +16,8 @@ modes      eigen residuals below RESIDUAL_TOL, M- and K-orthogonality below ORTH
            up to the participating mass, no near-zero mode beyond the free rigid-body motions
            (`analysis.plausible.zero_mode_check`), and a mass target, where asked, met.
 free       the reactions balance the modal inertia forces (free_case.BALANCE_TOL).
+buckling   residuals of (K + lambda Kg) x = 0 below RESIDUAL_TOL and the Sturm count finds no
+           load factor missed below the highest found.
 history, harmonic, spectrum
            reported (static correction, modes covering the band, missing mass), never failed.
            A harmonic case's vibration limits are a design check, as the resonance check is
@@ -110,7 +112,15 @@ def _spectrum_checks(r) -> dict:
             "warnings": list(r.warnings)}
 
 
-_MODAL_CHECKS = {"modes": _modes_checks, "free": _free_checks, "history": _history_checks,
+def _buckling_checks(r) -> dict:
+    return {"max_residual": float(r.residual.max()), "residual_pass": bool(r.residual.max() < RESIDUAL_TOL),
+            "residual_per_factor": [float(x) for x in r.residual], "factors_found": len(r.factors),
+            "sturm_count": r.sturm_count, "sturm_expected": r.sturm_expected,
+            "sturm_shift_factor": None if r.sturm_shift is None else float(r.sturm_shift),
+            "none_missed": None if r.sturm_count is None else bool(r.sturm_count == r.sturm_expected)}
+
+
+_MODAL_CHECKS = {"modes": _modes_checks, "buckling": _buckling_checks, "free": _free_checks, "history": _history_checks,
                  "harmonic": _harmonic_checks, "spectrum": _spectrum_checks}
 
 
@@ -126,6 +136,7 @@ def _modes_ok(c: dict) -> bool:
 
 # the verdict of each kind's checks entries; history, harmonic and spectrum results report, never fail
 _MODAL_OK = {"modes": _modes_ok, "free": lambda c: bool(c["inertia_balance_pass"]),
+             "buckling": lambda c: bool(c["residual_pass"] and c["none_missed"] is not False),
              "history": lambda c: True, "harmonic": lambda c: True, "spectrum": lambda c: True}
 
 

@@ -88,6 +88,8 @@ class Model:
     E, G, rho : (e,) material per member, Pa, Pa, kg/m^3
     A, Iy, Iz, J, Avy, Avz : (e,) section per member, m^2 / m^4
     roll : (e,) rad; up : (e, 3) reference vectors (nan rows where none given)
+    pretension : (e,) initial tension of truss members, N (None: none): its geometric stiffness is
+        in K, and its state stiffens or softens every modes and buckling case (fem/analysis/buckling.py)
     carried_mass : (e,) mass per length each member carries without stiffening it (contents,
         insulation, trays), kg/m
     releases : (e, 12) bool, released local end DOFs
@@ -146,6 +148,7 @@ class Model:
     links: tuple[Link, ...] = ()
     mass_coupling: np.ndarray | None = None
     offsets: np.ndarray | None = None
+    pretension: np.ndarray | None = None   # (e,) initial tension of truss members (guys, cables), N; None: none
 
     @property
     def n_nodes(self) -> int:

@@ -31,8 +31,9 @@ class Results:
     cases : dict of str to result
         Each result by case or combination name: the static cases (`StaticResult`) in deck
         order, then the combinations (`StaticResult`), then the modes cases
-        (`ModesCaseResult`), then the free, history, harmonic and spectrum cases
-        (`FreeCaseResult`, `HistoryResult`, `HarmonicResult`, `SpectrumResult`) in deck order.
+        (`ModesCaseResult`), then the free, history, harmonic, spectrum and buckling cases
+        (`FreeCaseResult`, `HistoryResult`, `HarmonicResult`, `SpectrumResult`,
+        `BucklingResult`) in deck order.
     soundness : Soundness
         What the model's checks found before any case: DOFs held because nothing resists them,
         the stiffness condition estimate, the rigid-body motions the supports leave free, and

@@ -71,6 +71,16 @@ def _check_links(model: Model) -> None:
         if start and kinds.get(start) != "static" and start not in combos:
             raise ModelError(f"case {c.name}: start '{start}' is not a static case or combination of the model",
                              c.location)
+    statics = {c.name for c in model.cases if c.kind == "static"} | combos
+    preloaded = {c.name for c in model.cases if c.kind == "modes" and c.preload is not None}
+    for c in model.cases:
+        ref = getattr(c, "preload", None) if c.kind == "modes" else getattr(c, "loading", None)
+        if c.kind in ("modes", "buckling") and ref is not None and ref not in statics:
+            raise ModelError(f"case {c.name}: '{ref}' is not a static case or combination of the model", c.location)
+        if c.kind in RESPONSE_SOLVERS and c.static_part and c.modes in preloaded:
+            raise ModelError(f"case {c.name}: the static correction (or missing mass) takes K without the preload "
+                             f"of modes case {c.modes}; turn it off, or build the case on modes without a preload",
+                             c.location)
     for cb in model.combinations:
         for n in cb.factors:
             if kinds.get(n) != "static":
@@ -85,12 +95,33 @@ class _Run:
         self.model, self.asm = model, asm
         self.statics: dict = {}
         self.modes: dict = {}
+        self.stiffened: dict = {}      # the assembly (K + Kg) of each modes case under a preload or pretension
+        self.pretension = None         # (e,) axial forces of the pretension state beyond the pretensions
+                                       # themselves (which K holds), N, or None
         self._factor = factor
 
     def lu(self):
         if self._factor is None:
             self._factor = factorise(self.model, self.asm)
         return self._factor
+
+
+def _modes(run: _Run, case, notes, spd):
+    """Solve the modes case `case`: with K, or with K + Kg of its preload's and the pretensions'
+    axial forces (then its assembly is kept for the response cases built on it)."""
+    from .analysis.buckling import axial_forces, geometric_matrix, preloaded
+
+    N0 = run.pretension if run.pretension is not None and np.any(run.pretension) else None
+    if case.preload is None and N0 is None:
+        return solve_modes_case(run.model, run.asm, case, factor=spd, notes=notes)
+    G = None if case.preload is None else \
+        geometric_matrix(run.model, run.asm, axial_forces(run.statics[case.preload].member_forces))
+    G0 = None if N0 is None else geometric_matrix(run.model, run.asm, N0)
+    what = f"case {case.name}: the preload of case {case.preload}" if case.preload else \
+        f"case {case.name}: the members' pretension"
+    asm, factor = preloaded(run.model, run.asm, G, what, case.location, G0)
+    run.stiffened[case.name] = asm
+    return solve_modes_case(run.model, asm, case, factor=factor, notes=notes)
 
 
 def _free(run: _Run, case):
@@ -192,25 +223,47 @@ def solve(model: Model, cases=None) -> Results:
     asm, sound = examine(model)
     notes = list(sound.notes)
     run = _Run(model, asm, sound.factor)
+    state = None
+    if getattr(model, "pretension", None) is not None and np.any(model.pretension):
+        from .analysis.buckling import pretension_state
+
+        with quiet(notes, "pretension"):
+            state = pretension_state(model, asm, run.lu())
+            run.pretension = state.axial - model.pretension
     sensitivities = {}
-    for c in model.cases:
-        if c.kind == "modes":
-            with stage(f"modes case {c.name}: eigen solve"), _at_case(c), quiet(notes, f"case {c.name}"):
-                run.modes[c.name] = solve_modes_case(model, asm, c, factor=sound.spd, notes=notes)
-                sensitivities[c.name] = _sensitivity(model, c, run.modes[c.name])
-    statics = [c for c in model.cases if c.kind == "static"]
-    if statics or model.combinations:
+    for after in (False, True):       # modes under a preload once the static cases are solved
+        for c in model.cases:
+            if c.kind == "modes" and (c.preload is not None) == after:
+                with stage(f"modes case {c.name}: eigen solve"), _at_case(c), quiet(notes, f"case {c.name}"):
+                    run.modes[c.name] = _modes(run, c, notes, sound.spd)
+                    sensitivities[c.name] = _sensitivity(model, c, run.modes[c.name])
+        statics = [c for c in model.cases if c.kind == "static"]
+        if after or not (statics or model.combinations):
+            continue
         with quiet(notes, "static cases"):
             run.statics = {c.name: solve_static(model, asm, c, run.lu()) for c in statics}
-    for combo in model.combinations:
-        parts = [(f, run.statics[n]) for n, f in combo.factors.items()]
-        run.statics[combo.name] = combine(combo.name, parts, model.coords)
+        for combo in model.combinations:
+            parts = [(f, run.statics[n]) for n, f in combo.factors.items()]
+            run.statics[combo.name] = combine(combo.name, parts, model.coords)
+    run.modes = {c.name: run.modes[c.name] for c in model.cases if c.name in run.modes}   # deck order
     responses = {}
     for c in model.cases:
         solver = RESPONSE_SOLVERS.get(c.kind)
         if solver is not None:
+            run.asm = run.stiffened.get(c.modes, asm)     # the stiffness its modes were found with
             with _at_case(c), quiet(notes, f"case {c.name}"):
                 responses[c.name] = solver(run, c)
+            run.asm = asm
+        elif c.kind == "buckling":
+            from .analysis.buckling import axial_forces, solve_buckling
+
+            with stage(f"buckling case {c.name}: eigen solve"), _at_case(c), quiet(notes, f"case {c.name}"):
+                responses[c.name] = solve_buckling(model, asm, c, axial_forces(run.statics[c.loading].member_forces),
+                                                   run.pretension, sound.spd)
+    if state is not None:          # reported: the pretension state plus each case's change from it
+        from .analysis.buckling import with_state
+
+        run.statics = {n: with_state(r, state, model.coords) for n, r in run.statics.items()}
     mass = assembled_mass(model, asm)
     modal = [*run.modes.values(), *responses.values()]
     resonance = _resonance(model, run.modes)

@@ -33,7 +33,8 @@ HALFSINE = TimeFunction("halfsine", 0.05)
 
 def test_kinds_and_table():
     assert {k: c.kind for k, c in CASE_TYPES.items()} == {k: k for k in
-                                                          ("static", "modes", "free", "history", "harmonic", "spectrum")}
+                                                          ("static", "modes", "free", "history", "harmonic", "spectrum",
+                                                           "buckling")}
 
 
 def test_defaults():

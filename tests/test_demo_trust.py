@@ -201,6 +201,8 @@ def test_modes_against_dense_eigh(which, request):
         rd = csv.reader(fh)
         next(rd)
         for row in rd:
+            if row[0] != mc["name"]:        # the first modes case's rows (the mast has one under a preload too)
+                continue
             j, n = int(row[1]) - 1, r.idx[row[2]]
             Phi[6 * n:6 * n + 6, j] = [float(x) for x in row[3:9]]
     np.testing.assert_allclose(Phi.T @ r.M @ Phi, np.eye(k), atol=1e-10)
@@ -219,7 +221,7 @@ def test_modes_against_dense_eigh(which, request):
     with open(r.out / "modes.csv") as fh:
         rd = csv.reader(fh)
         head = next(rd)
-        rows = list(rd)
+        rows = [row for row in rd if row[0] == mc["name"]]
     c = head.index("gamma_X")
     np.testing.assert_allclose([[float(x) for x in row[c:c + 6]] for row in rows], gamma,
                                rtol=0, atol=1e-10 * np.abs(gamma).max())

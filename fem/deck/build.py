@@ -76,6 +76,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
     if modal:
         notes.extend(model_checks.massless_materials(defs.materials, defs.defined, mems, cols["carried_mass"], modal))
     _response_sources(cases, references, names | {cb.name for cb in combos}, names, modal)
+    _static_sources(references, names | {cb.name for cb in combos})
     model = Model(title=defs.title, node_names=node_names, coords=coords,
                   member_names=[m["name"] for m in mems], conn=conn, truss=truss,
                   up=up, releases=releases, restraint=restraint, springs=springs,
@@ -85,7 +86,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
                   groups=member_groups(defs), excitations=model_excitations(defs, nidx),
                   cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes,
                   links=links, mass_coupling=mass_coupling(defs, nidx),
-                  offsets=end_offsets(mems, coords, conn, cols["roll"], up, tol), **cols)
+                  offsets=end_offsets(mems, coords, conn, cols["roll"], up, tol), pretension=_pretensions(mems), **cols)
     notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
                                 ev.assume_sites.get(U.LENGTH)))
     return model
@@ -130,6 +131,12 @@ def _members(defs: Definitions, mems, node_names, nidx, coords, tol, notes):
         if m["up"] is not None:
             up[k] = _up_vector(m["up"], axis / length, m)
     return conn, cols, up, releases, truss
+
+
+def _pretensions(mems) -> np.ndarray | None:
+    """(e,) members' pretensions, N, or None when no member has one."""
+    T = np.array([m.get("pretension", 0.0) for m in mems], dtype=float)
+    return T if T.any() else None
 
 
 def member_groups(defs: Definitions) -> dict[str, tuple[str, ...]]:
@@ -239,6 +246,14 @@ def _response_sources(cases, references: dict, starts: set, names: set, modal: l
         if not modal:
             raise DeckError(f"case {c.name}: this case is computed from modes; add a modes case",
                             c.location)
+
+
+def _static_sources(references: dict, statics: set) -> None:
+    """A modes case's preload and a buckling case's loading name a static case or combination."""
+    for key, (word, where) in references.items():
+        if isinstance(key, tuple) and word not in statics:
+            raise DeckError(f"case {key[0]}: {key[1]} '{word}' is not a static case or combination; "
+                            f"{suggest(word, statics) if statics else 'the deck has none'}", where)
 
 
 def _settings(given: dict) -> dict:

@@ -13,6 +13,7 @@ from lark import Token, Tree
 
 from ..cases import (
     CASE_TYPES,
+    BucklingCase,
     Damping,
     FreeCase,
     HistoryCase,
@@ -114,7 +115,8 @@ class CaseOptions(HarmonicOptions, SpectrumOptions):
         if kind == "history":
             return self.history_options(case, nidx, functions, timed)
         return {"static": self.static_options, "modes": self.modes_options, "free": self.free_options,
-                "harmonic": self.harmonic_options, "spectrum": self.spectrum_options}[kind](case, nidx)
+                "harmonic": self.harmonic_options, "spectrum": self.spectrum_options,
+                "buckling": self.buckling_options}[kind](case, nidx)
 
     def typed(self, case: _Draft, cls, **fields):
         """`cls` built from the draft's name, loads, gravity and location and `fields`; a rule it
@@ -395,12 +397,40 @@ class CaseOptions(HarmonicOptions, SpectrumOptions):
                 out[key] = self.value(val, U.NONE, what)
             elif key == "resonance":
                 out[key] = resonance_names(val, where, case.name, [e.name for e, *_ in self.defs.excitations], self.loc)
+            elif key == "preload":
+                out[key] = self.static_reference(case.name, key, val, where)
             else:
-                known = ['count', 'fmax', 'reference', 'target', 'max', 'sensitivity', 'sensitivity_rows', 'resonance']
+                known = ['count', 'fmax', 'reference', 'target', 'max', 'sensitivity', 'sensitivity_rows', 'resonance',
+                         'preload']
                 raise DeckError(f"case {case.name}: unknown option '{key}' for modes; {suggest(key, known)}", where)
         if "sensitivity_rows" in out and out.get("sensitivity") is None:
             self.note(case.at["sensitivity_rows"], f"case {case.name}: sensitivity_rows does nothing without sensitivity")
         return self.typed(case, ModesCase, **out)
+
+    def static_reference(self, name: str, key: str, val, where) -> str:
+        """The static case (or combination) named by option `key` of case `name`; kept in
+        self.references[(name, key)] with its location for build() to check."""
+        word = str(val.children[0]) if isinstance(val, Tree) and val.data == "var" else None
+        if word is None:
+            raise DeckError(f"case {name}: {key} names a static case, e.g. {key} = HEAD", where)
+        self.references[(name, key)] = (word, where)
+        return word
+
+    def buckling_options(self, case: _Draft, nidx) -> BucklingCase:
+        """A buckling case's options: loading (a static case), count."""
+        out = {}
+        for key, (val, where) in case.options.items():
+            if key == "loading":
+                out[key] = self.static_reference(case.name, key, val, where)
+            elif key == "count":
+                out[key] = self.value(val, U.NONE, f"case {case.name}: count")
+            else:
+                raise DeckError(f"case {case.name}: unknown option '{key}' for a buckling case; "
+                                f"{suggest(key, ['loading', 'count'])}", where)
+        if "loading" not in out:
+            raise DeckError(f"case {case.name}: a buckling case needs loading = NAME, the static case whose loads "
+                            "are scaled", case.location, "e.g. loading = HEAD")
+        return self.typed(case, BucklingCase, **out)
 
     def sensitivity_grouping(self, name: str, val, where) -> str | None:
         """`sensitivity = WORD` of a modes case: how members are grouped (None: off)."""

@@ -33,7 +33,7 @@ MAX_COORDINATE = 1e9
 # or two, while a model of a hundred thousand members and nodes is far inside it. A mistyped
 # range (0..999999 nested twice) is refused at once instead of running for days.
 LOOP_STATEMENTS = 1_000_000
-CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum")
+CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum", "buckling")
 
 
 class Statements:
@@ -255,7 +255,7 @@ class Statements:
             raise DeckError(f"member {name}: kind must be 'beam' or 'truss', not '{kind}'", self.loc(ch[3]))
         m = dict(name=name, i=(ev.name(ch[1]), ch[1]), j=(ev.name(ch[2]), ch[2]), kind=kind,
                  section=(ev.name(ch[4]), ch[4]), material=(ev.name(ch[5]), ch[5]),
-                 roll=0.0, up=None, carried_mass=0.0, releases=np.zeros(12, bool), loc=self.loc(s))
+                 roll=0.0, up=None, carried_mass=0.0, releases=np.zeros(12, bool), loc=self.loc(s), pretension=0.0)
         seen = set()
         for opt in ch[6:]:
             if opt.data == "release":
@@ -282,13 +282,18 @@ class Statements:
                     raise DeckError(f"member {name}: carried_mass (mass per length) cannot be negative", self.loc(opt))
             elif key in ("offset_i", "offset_j"):
                 m.setdefault("offsets", {})[key[-1]] = end_offset(self, val, f"member {name}: {key}")
+            elif key == "pretension":
+                m["pretension"] = ev.value(val, U.FORCE, f"member {name}: pretension")
+                if kind != "truss" or not m["pretension"] >= 0:
+                    raise DeckError(f"member {name}: pretension is the initial tension of a truss member (a guy or "
+                                    "cable), a force of zero or more", self.loc(opt), "e.g. pretension = 12 kN")
             elif key == "nsm":
                 raise DeckError(f"member {name}: 'nsm' is not an option here; the mass per length a member carries "
                                 "without stiffening it (contents, insulation, trays) is written carried_mass",
                                 self.loc(opt.children[0]), "e.g. carried_mass = 12 kg/m")
             else:
                 raise DeckError(f"member {name}: unknown option '{key}'; "
-                                f"{suggest(key, ['roll', 'up', 'carried_mass', 'offset_i', 'offset_j'])}", self.loc(opt))
+                                f"{suggest(key, ['roll', 'up', 'carried_mass', 'offset_i', 'offset_j', 'pretension'])}", self.loc(opt))
         if kind == "truss" and "offsets" in m:
             raise DeckError(f"member {name}: a truss member carries its force along the line between its nodes, so "
                             "it takes no end offsets", self.loc(s), "make it a beam, or move its nodes")

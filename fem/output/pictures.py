@@ -15,6 +15,10 @@ __all__ = ["draw_pictures"]
 def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float = 12.0) -> str:
     """Pictures of `results` into out/pictures; returns the one-line notice for the summary."""
     modes = results.of_kind("modes")
+    if results.of_kind("buckling"):
+        from .buckling_out import mode_view
+
+        modes = [*modes, *map(mode_view, results.of_kind("buckling"))]
     responses = results.of_kind("free", "history")
     if not modes and not responses:
         return "no modes or responses to draw"

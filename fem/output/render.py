@@ -258,6 +258,8 @@ def _cycle_captions(period: float, frames: int) -> list[str]:
 
 
 def _mode_caption(j: int, modal, jj: int, character) -> str:
+    if hasattr(modal, "caption"):          # a buckled shape (output/buckling_out.py)
+        return f"{modal.caption(j, jj)}\n{character.label}\n{character.where(2)}"
     eff = modal.part.fraction[jj, :3]
     return (f"mode {j + 1}   {modal.modes.freq[jj]:.4g} Hz   period {modal.modes.period[jj]:.4g} s\n"
             f"{character.label}\n{character.where(2)}\n"

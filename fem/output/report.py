@@ -152,6 +152,11 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                 want = ", ".join(f"{a} {100 * v:.0f}%" for a, v in zip("XYZ", ch["mass_target"]))
                 rows.append([f"{c['name']}: effective-mass target", f"target {want}; reached {reached} "
                              f"with {ch['modes_found']} modes", _ok(ch["mass_target_met"])])
+        elif c["kind"] == "buckling":
+            rows.append([f"{c['name']}: residual of (K + lambda Kg) x = 0 (largest)", f"{ch['max_residual']:.1e}",
+                         _ok(ch["residual_pass"])])
+            rows.append([f"{c['name']}: no load factor missed (Sturm count)",
+                         f"{ch['sturm_count']} below the shift, {ch['sturm_expected']} computed", _ok(ch["none_missed"])])
         elif c["kind"] == "harmonic":
             rows.append([f"{c['name']}: retained modes cover the sweep", ("all modes of the model" if ch["modes_complete_to_Hz"] is None
                           else f"modes complete to {ch['modes_complete_to_Hz']:.4g} Hz"),
@@ -171,6 +176,9 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         if c["kind"] != "modes":
             continue
         parts.append(f"<h2 id='modes-{html.escape(c['name'])}'>Modes: {html.escape(c['name'])}</h2>")
+        if c.get("preload_note"):
+            under = f"the preload of case {c['preload']}" if c.get("preload") else "the members' pretension"
+            parts.append(f"<p>Under {html.escape(under)}: {html.escape(c['preload_note'])}.</p>")
         eff = np.array(c["effective_mass_kg"])
         tot = np.array(c["participating_total_kg"])
         frac = np.divide(eff, tot, out=np.full_like(eff, np.nan), where=tot > 0)   # n/a where no mass moves
@@ -212,6 +220,10 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                                                         *_motion_rows(c)]))
             if c.get("vibration_limits"):
                 parts.append(_table(["vibration limit", "found", "result"], limits_out.report_rows(c, _ok)))
+        elif c["kind"] == "buckling":
+            from .buckling_out import report_section
+
+            parts.append(report_section(c))
         elif c["kind"] == "spectrum":
             b = c["base_reaction"]
             parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],
@@ -316,6 +328,10 @@ def report(results, doc: dict, out: Path, notice: str = "") -> None:
     for x in results.modal:
         if x.kind in drawn:
             images[x.name] = drawn[x.kind](x)
+        elif x.kind == "buckling":
+            from .buckling_out import picture_images
+
+            images[x.name] = picture_images(pics, x)
     write_report(out / "report.html", doc, images, notes=[notice] if notice.startswith("pictures skipped:") else [])
 
 

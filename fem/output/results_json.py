@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ModelError
-from . import limits_out, resonance_out
+from . import buckling_out, limits_out, resonance_out
 from .link_tables import link_entry
 from .tables import END_FORCES, REACTIONS, supported_nodes, unit_shape_mass_stiffness
 
@@ -92,7 +92,8 @@ def _modes(results, r) -> dict:
             "reference_point_m": np.asarray(r.reference).tolist(),
             "mode_character": mode_characters(results.model, r),
             "checks": {**checks.cases[r.name], **checks.plausible[r.name]},
-            "resonance": resonance_out.case_entry(results, r.name), **_sensitivity(results, r)}
+            "resonance": resonance_out.case_entry(results, r.name), **_sensitivity(results, r),
+            **buckling_out.preload_entry(results, r)}
 
 
 def _sensitivity(results, r) -> dict:
@@ -160,8 +161,8 @@ def _sections(model) -> dict:
 
 # each kind's entry, and the order of the kinds in the document's list of cases
 _ENTRY = {"static": _static, "modes": _modes, "free": _response, "history": _response,
-          "harmonic": _harmonic, "spectrum": _spectrum}
-_ORDER = (("static",), ("modes",), ("free", "history"), ("harmonic",), ("spectrum",))
+          "harmonic": _harmonic, "spectrum": _spectrum, "buckling": buckling_out.json_entry}
+_ORDER = (("static",), ("modes",), ("free", "history"), ("harmonic",), ("spectrum",), ("buckling",))
 
 
 def results_doc(results) -> dict:

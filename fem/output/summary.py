@@ -13,7 +13,7 @@ import numpy as np
 from ..analysis.plausible import zero_mode_lines
 from ..analysis.soundness import summary_lines
 from ..analysis.static import precision_lines
-from . import limits_out, resonance_out
+from . import buckling_out, limits_out, resonance_out
 from .fmt import percent
 from .results_json import CAUTION
 from .stress_out import summary_lines as stress_summary
@@ -92,6 +92,11 @@ def _modes(results, r) -> list[str]:
     c = results.checks.cases[r.name]
     fr = ", ".join(f"{f:.4g}" for f in r.modes.freq[:6])
     lines = [f"  {r.name:<12} {len(r.modes.freq)} modes ({r.modes.solver}); first Hz: {fr}"]
+    preload = getattr(results.definition(r.name), "preload", None)
+    if preload is not None or results.model.pretension is not None:
+        under = " and ".join(([f"the preload of case {preload}"] if preload else [])
+                             + (["the members' pretension"] if results.model.pretension is not None else []))
+        lines.append(f"{_CONTINUED}under {under} (K + Kg, linear)")
     cum = "  ".join(f"{a} {percent(v)}" for a, v in c["cumulative_mass_fraction"].items())
     missed = "not run" if c["none_missed"] is None else ("pass" if c["none_missed"] else "FAIL")
     if r.target is not None:
@@ -116,7 +121,8 @@ def _modes(results, r) -> list[str]:
 
 # each kind's lines; a response case's own warnings follow them
 _LINES = {"static": _static, "modes": _modes, "free": _free, "history": _history,
-          "harmonic": _harmonic, "spectrum": _spectrum}
+          "harmonic": _harmonic, "spectrum": _spectrum,
+          "buckling": lambda results, r: buckling_out.summary_lines(results, r, _CONTINUED)}
 _OWN_WARNINGS = ("free", "history", "harmonic", "spectrum")
 
 

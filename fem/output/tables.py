@@ -178,6 +178,10 @@ def write_tables(results, out: Path) -> None:
     modes = results.of_kind("modes")
     if modes:
         _modes_tables(out, model, modes)
+    if results.of_kind("buckling"):
+        from .buckling_out import write_tables as write_buckling
+
+        write_buckling(out, model, results.of_kind("buckling"))
     if results.sensitivities:
         from .sensitivity_tables import write_sensitivity_tables
 
