@@ -23,7 +23,7 @@ from .analysis.spectrum_case import solve_spectrum_case
 from .analysis.static import combine, factorise, solve_static
 from .checks import evaluate
 from .errors import ModelError
-from .model import Model
+from .model import COMBINABLE, Model
 from .results import Results
 
 __all__ = ["assembled_mass", "excitation_frequencies", "solve"]
@@ -73,8 +73,14 @@ def _check_links(model: Model) -> None:
                              c.location)
     for cb in model.combinations:
         for n in cb.factors:
-            if kinds.get(n) != "static":
-                raise ModelError(f"combination {cb.name}: '{n}' is not a static case of the model", cb.location)
+            if kinds.get(n) not in COMBINABLE:
+                raise ModelError(f"combination {cb.name}: '{n}' is not a static, history, spectrum or harmonic "
+                                 "case of the model", cb.location)
+    for env in model.envelopes:
+        for n in env.over:
+            if kinds.get(n) not in COMBINABLE and n not in combos:
+                raise ModelError(f"envelope {env.name}: '{n}' is not a static, history, spectrum or harmonic case "
+                                 "or a combination of the model", env.location)
 
 
 class _Run:
@@ -202,21 +208,51 @@ def solve(model: Model, cases=None) -> Results:
     if statics or model.combinations:
         with quiet(notes, "static cases"):
             run.statics = {c.name: solve_static(model, asm, c, run.lu()) for c in statics}
+    dynamic = [cb for cb in model.combinations if not _static_only(model, cb)]
     for combo in model.combinations:
-        parts = [(f, run.statics[n]) for n, f in combo.factors.items()]
-        run.statics[combo.name] = combine(combo.name, parts, model.coords)
+        parts = [(f, run.statics[n]) for n, f in combo.factors.items() if n in run.statics]
+        if combo not in dynamic:
+            run.statics[combo.name] = combine(combo.name, parts, model.coords)
     responses = {}
     for c in model.cases:
         solver = RESPONSE_SOLVERS.get(c.kind)
         if solver is not None:
             with _at_case(c), quiet(notes, f"case {c.name}"):
                 responses[c.name] = solver(run, c)
+    demands = _demands(model, run, responses, dynamic)
     mass = assembled_mass(model, asm)
     modal = [*run.modes.values(), *responses.values()]
     resonance = _resonance(model, run.modes)
-    checks = evaluate(model, list(run.statics.values()), modal, mass, len(sound.rigid), resonance)
-    return Results(model, {**run.statics, **run.modes, **responses}, sound, mass, checks, tuple(notes),
+    checks = evaluate(model, list(run.statics.values()), modal, mass, len(sound.rigid), resonance,
+                      list(demands.values()))
+    return Results(model, {**run.statics, **run.modes, **responses, **demands}, sound, mass, checks, tuple(notes),
                    asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance)
+
+
+def _static_only(model: Model, combo) -> bool:
+    """Whether a combination adds static cases only (its result is then a static one)."""
+    kinds = {c.name: c.kind for c in model.cases}
+    return all(kinds.get(n) == "static" for n in combo.factors)
+
+
+def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
+    """The combinations with a history, spectrum or harmonic case (`CombinationResult`) and
+    the envelopes (`EnvelopeResult`), by name (fem/analysis/combine.py)."""
+    from .analysis.combine import combine_terms, envelope
+
+    found = {**run.statics, **responses}
+    sizes = {"node": model.n_nodes, "member": model.n_members}
+    out = {}
+    for cb in dynamic:
+        statics = [(f, run.statics[n]) for n, f in cb.factors.items() if n in run.statics]
+        part = combine(cb.name, statics, model.coords) if statics else None
+        with _at_case(cb):
+            out[cb.name] = combine_terms(cb.name, [(f, found[n]) for n, f in cb.factors.items()], sizes, part)
+    found.update(out)
+    for env in model.envelopes:
+        with _at_case(env):
+            out[env.name] = envelope(env.name, [found[n] for n in env.over], sizes)
+    return out
 
 
 def _resonance(model: Model, modes: dict) -> dict:

@@ -18,7 +18,7 @@ from .modal_case import ModesCaseResult, effective_load, field_responses, ground
 from .recurrence import integrate_modal, knot_kicks
 from .static import load_vector
 
-__all__ = ["HistoryResult", "solve_history_case"]
+__all__ = ["HistoryResult", "HistorySeries", "solve_history_case"]
 
 
 @dataclass
@@ -44,6 +44,17 @@ class HistoryResult:
     frame_t: np.ndarray = None      # (f,) animation frame times
     frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
     warnings: tuple = ()
+    series: HistorySeries = None    # every field at every step, as columns times their histories
+
+
+class HistorySeries(NamedTuple):
+    """The whole response at every step without holding it: q (m, c) the histories of the modes
+    then of each time function's static parts, and basis[field] (N, c) what each column
+    contributes to a field: "displacement" (6n,), "reaction" (6n,), "end_force" (12e,), so
+    that field(t_i) = basis[field] @ q[i] (reshaped (n, 6) or (e, 12))."""
+
+    q: np.ndarray
+    basis: dict
 
 
 class _Part(NamedTuple):
@@ -132,9 +143,12 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     # the parts that follow each g_l(t) join the modes as extra columns: (m, k + l) histories
     qg = np.hstack([q, np.array(G).T])
     Rm, Fm = field_responses(model, asm, shapes.T)
-    peak, peak_t = peaks(qg, np.hstack([shapes, np.array(statics).T]), t)
-    r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, np.array(r_statics).T]), t)
-    m_peak, _ = peaks(qg, np.hstack([Fm.reshape(k, -1).T, np.array(m_statics).T]), t)
+    basis = {"displacement": np.hstack([shapes, np.array(statics).T]),
+             "reaction": np.hstack([Rm.reshape(k, -1).T, np.array(r_statics).T]),
+             "end_force": np.hstack([Fm.reshape(k, -1).T, np.array(m_statics).T])}
+    peak, peak_t = peaks(qg, basis["displacement"], t)
+    r_peak, _ = peaks(qg, basis["reaction"], t)
+    m_peak, _ = peaks(qg, basis["end_force"], t)
     record = case.record if case.record is not None else np.arange(model.n_nodes)
     full = np.concatenate([modal.shapes, np.array(statics).T.reshape(model.n_nodes, 6, -1)], axis=2)
     sel = modal.shapes[record]                               # (r, 6, k)
@@ -153,4 +167,4 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                         t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings)
+                         t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, HistorySeries(qg, basis))

@@ -23,15 +23,15 @@ from . import units as U
 __all__ = ["STATEMENTS", "keyword_callbacks", "parse", "syntax_error"]
 
 STATEMENTS = ("title", "let", "assume", "include", "material", "section", "node", "member",
-              "support", "spring", "mass", "group", "case", "combo", "for", "settings", "machine", "band")
+              "support", "spring", "mass", "group", "case", "combo", "for", "settings", "machine", "band", "envelope")
 # words the grammar reserves besides the statements (`a..b` and `->` are punctuation)
-_KEYWORDS = STATEMENTS + ("release", "in", "at")
+_KEYWORDS = STATEMENTS + ("release", "in", "at", "over")
 _OPERATORS = {"PLUS", "MINUS", "STAR", "SLASH", "CIRCUMFLEX"}
 _WORDS = {"NAME": "a name", "NUMBER": "a number", "QUANTITY": "a number with a unit",
           "STRING": "a quoted text", "PATTERN": "a name pattern", "LBRACE": "'{'", "RBRACE": "'}'",
           "LPAR": "'('", "RPAR": "')'", "LSQB": "'['", "RSQB": "']'", "EQUAL": "'='", "COMMA": "','",
           "COLON": "':'", "SEMICOLON": "';'", "__ANON_0": "'->'", "__ANON_1": "'..'",
-          "$END": "the end of the file", "_AT": "'at' and the node"}
+          "$END": "the end of the file", "_AT": "'at' and the node", "_OVER": "'over' and the cases"}
 _PAIRS = {"(": ")", "{": "}", "[": "]"}
 _CLOSERS = {v: k for k, v in _PAIRS.items()}
 
