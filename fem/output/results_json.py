@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ModelError
-from . import resonance_out
+from . import envelope_out, resonance_out
 from .tables import END_FORCES, REACTIONS, supported_nodes, unit_shape_mass_stiffness
 
 __all__ = ["CAUTION", "SCHEMA", "results_doc", "strict", "write_results_json"]
@@ -182,6 +182,8 @@ def results_doc(results) -> dict:
                   "cases_asked": None if results.cases_asked is None else dict(results.cases_asked)},
         "excitations": resonance_out.excitations_entry(model),
         "cases": [_ENTRY[r.kind](results, r) for kinds in _ORDER for r in results.of_kind(*kinds)],
+        # combinations with a dynamic case, then envelopes (output/envelope_out.py)
+        "demands": [envelope_out.json_entry(results, r) for r in results.demands],
         "sections": _sections(model),
     }
 

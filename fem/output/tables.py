@@ -155,3 +155,6 @@ def write_tables(results, out: Path) -> None:
     from .resonance_out import write_resonance_tables
 
     write_resonance_tables(results, out)
+    from .envelope_out import write_extremes_tables
+
+    write_extremes_tables(results, out)
