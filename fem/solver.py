@@ -229,6 +229,11 @@ def solve(model: Model, cases=None) -> Results:
                    asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance)
 
 
+def model_case(model: Model, name: str):
+    """The case of `model` named `name`."""
+    return next(c for c in model.cases if c.name == name)
+
+
 def _static_only(model: Model, combo) -> bool:
     """Whether a combination adds static cases only (its result is then a static one)."""
     kinds = {c.name: c.kind for c in model.cases}
@@ -238,9 +243,17 @@ def _static_only(model: Model, combo) -> bool:
 def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
     """The combinations with a history, spectrum or harmonic case (`CombinationResult`) and
     the envelopes (`EnvelopeResult`), by name (fem/analysis/combine.py)."""
+    from dataclasses import replace
+
     from .analysis.combine import combine_terms, envelope
+    from .analysis.history_case import series_basis
 
     found = {**run.statics, **responses}
+    used = {n for cb in dynamic for n in cb.factors} | {n for env in model.envelopes for n in env.over}
+    for n in used:         # a history case's fields at every step, for these combinations only
+        r = found.get(n)
+        if r is not None and r.kind == "history":
+            found[n] = replace(r, series=series_basis(model, run.asm, r, run.modes[model_case(model, n).modes]))
     sizes = {"node": model.n_nodes, "member": model.n_members}
     out = {}
     for cb in dynamic:

@@ -4,7 +4,7 @@ statement and its refusals, and a further field plugged into the same machinery.
 
 import numpy as np
 import pytest
-from test_combine_dynamic import FRAME, RTOL
+from test_combine_dynamic import FRAME, RTOL, with_basis
 
 from fem import solve
 from fem.analysis import combine as cb
@@ -108,7 +108,7 @@ def test_a_field_from_end_forces_plugs_in(res):
     cb.add_field(fld)
     try:
         sizes = {"node": 5, "member": 4}
-        d, w, k = res["DEAD"], res["WIND"], res["KNOCK"]
+        d, w, k = res["DEAD"], res["WIND"], with_basis(res, "KNOCK")
         c = cb.combine_terms("S", [(1.0, d), (-0.5, w)], sizes)
         want = np.abs(d.member_forces[:, :1] - 0.5 * w.member_forces[:, :1])
         np.testing.assert_allclose(c.fields["axial_size"].max, want, rtol=1e-14)
@@ -117,3 +117,62 @@ def test_a_field_from_end_forces_plugs_in(res):
         np.testing.assert_allclose(c.fields["axial_size"].max, np.maximum(ef.max[:, :1], -ef.min[:, :1]), rtol=1e-14)
     finally:
         del cb.FIELDS["axial_size"]
+
+
+def test_outputs_hold_the_bounds(res, tmp_path, capsys):
+    """results.json `demands`, the extremes_*.csv tables and the summary lines carry the same
+    numbers as the results (round trip through the files; equality to the printed digits)."""
+    import csv
+    import json
+
+    from fem.output.report import write_report
+    from fem.output.results_json import write_results_json
+    from fem.output.summary import print_solved
+    from fem.output.tables import write_tables
+
+    (tmp_path / "out").mkdir()
+    write_tables(res, tmp_path / "out")              # the writers of write_results, without the plots
+    write_report(tmp_path / "out" / "report.html", write_results_json(res, tmp_path / "out"), {})
+    doc = json.loads((tmp_path / "out" / "results.json").read_text())
+    assert [c["name"] for c in doc["demands"]] == ["DS", "DK", "ALL"]
+    assert all(c["kind"] != "combination" for c in doc["cases"])       # the list of cases is as before
+    ds, env = doc["demands"][0], doc["demands"][2]
+    assert ds["terms"] == [{"case": "DEAD", "kind": "static", "factor": 1.0},
+                           {"case": "SHAKE", "kind": "spectrum", "factor": 1.0}]
+    assert ds["checks"]["static_part"]["equilibrium_pass"] is True
+    b = res["ALL"].fields["end_force"]
+    got = env["fields"]["end_force"]["values"]["M0"]
+    assert got["max"] == b.max[0].tolist() and got["min"] == b.min[0].tolist()
+    assert got["max_case"] == [res["ALL"].over[i] for i in b.max_by[0]]
+    g = env["fields"]["end_force"]["governing"]["My_i"]["max"]
+    assert g["value"] == b.max[:, 4].max() and g["member"] == res.model.member_names[int(b.max[:, 4].argmax())]
+    assert doc["demands"][1]["fields"]["displacement"]["values"]["H"]["max_time_s"][0] is not None
+    assert ds["fields"]["displacement"]["values"]["H"]["max_time_s"] == [None] * 6
+    rows = list(csv.DictReader((tmp_path / "out" / "extremes_member_forces.csv").open()))
+    assert len(rows) == 3 * 4 * 12
+    row = next(r for r in rows if r["result"] == "ALL" and r["member"] == "M1" and r["component"] == "Mz_j")
+    assert float(row["max"]) == b.max[1, 11] and float(row["min"]) == b.min[1, 11]
+    assert row["max_case"] == res["ALL"].over[b.max_by[1, 11]] and row["max_time_s"] == ""
+    reactions = list(csv.DictReader((tmp_path / "out" / "extremes_reactions.csv").open()))
+    assert {r["node"] for r in reactions} == {"N0"}
+    report = (tmp_path / "out" / "report.html").read_text()
+    assert "<h2 id='case-ALL'>envelope ALL</h2>" in report and "equilibrium of its static part" in report
+    capsys.readouterr()
+    print_solved(res)
+    out = capsys.readouterr().out
+    assert "  DK           combination 1*DEAD + 1*KNOCK (by time)" in out
+    assert "  ALL          envelope over DEAD, WIND, ULS, DS, DK, HUM" in out
+    assert "static part: equilibrium" in out and "end forces governed by:" in out
+
+
+def test_no_demands_no_tables(tmp_path):
+    """A deck without such combinations or envelopes writes no extremes table, and `demands` is []."""
+    import json
+
+    from fem.output.results_json import write_results_json
+    from fem.output.tables import write_tables
+
+    r = solve(read_text(FRAME.split("case MODES")[0]))
+    write_tables(r, tmp_path)
+    assert not list(tmp_path.glob("extremes_*.csv"))
+    assert write_results_json(r, tmp_path)["demands"] == []

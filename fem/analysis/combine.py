@@ -175,6 +175,10 @@ def _grid(name: str, histories) -> np.ndarray | None:
 def _series_bounds(fld: Field, base: np.ndarray, histories, t, shape) -> Bounds:
     """Largest and smallest of base + sum factor * history over the steps, with their times,
     through blocks of steps (the whole (steps, values) history is never held)."""
+    for _, r in histories:
+        if r.series.basis is None:
+            raise ModelError(f"history case {r.name}: its series has no basis; give the result with "
+                             "fem.analysis.history_case.series_basis (fem.solve does)")
     q = np.hstack([f * r.series.q for f, r in histories])                        # (m, C)
     basis = fld.basis if fld.of_forces is None else FIELDS["end_force"].basis
     B = np.hstack([basis(r) for _, r in histories])                              # (N, C)
