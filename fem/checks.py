@@ -194,16 +194,25 @@ class SelfChecks:
 
 def demand_checks(model: Model, r) -> dict:
     """The checks entry of a combination with a dynamic case or an envelope: the balance of a
-    combination's static part (`static.balance`; None without one), and what is not checked."""
+    combination's static part (`static.balance`; None without one), what is not checked, and
+    its largest translation (either bound) against the model's size, as a static case's
+    (`analysis.plausible.static_check`)."""
+    from types import SimpleNamespace
+
     part = getattr(r, "static", None)
+    b = r.fields["displacement"]
+    where = next((c.location for c in [*model.combinations, *model.envelopes] if c.name == r.name), None)
+    size = static_check(model, SimpleNamespace(name=r.name, u=np.maximum(b.max, -b.min)), where)
     return {"static_part": None if part is None else part.checks(model.coords),
             "peaks": "not balanced: the largest values of different quantities come at different times "
-                     "or carry no sign, so they are not in equilibrium with one another"}
+                     "or carry no sign, so they are not in equilibrium with one another", **size}
 
 
 def demand_ok(checks: dict) -> bool:
-    """The verdict of `demand_checks`: the static part's, when there is one."""
-    return checks["static_part"] is None or static_ok(checks["static_part"])
+    """The verdict of `demand_checks`: the static part's balance, when there is one, and the
+    largest translation within the model's size."""
+    return (checks["static_part"] is None or static_ok(checks["static_part"])) \
+        and checks["translation_within_size_pass"]
 
 
 def evaluate(model: Model, statics, modal, assembled: np.ndarray, rigid_free: int, resonance=None,

@@ -176,3 +176,14 @@ def test_no_demands_no_tables(tmp_path):
     write_tables(r, tmp_path)
     assert not list(tmp_path.glob("extremes_*.csv"))
     assert write_results_json(r, tmp_path)["demands"] == []
+
+
+def test_an_implausible_bound_fails_the_size_check():
+    """A combination whose largest translation exceeds the model's size (a unit slip in a factor)
+    fails the plausibility check like a static case would (analysis/plausible.py, SIZE_FAIL)."""
+    r = solve(read_text(FRAME + "combo SLIP = 1.0*DEAD + 1e6*SHAKE\n"))
+    ch = r.checks.cases["SLIP"]
+    assert not ch["translation_within_size_pass"] and not r.checks.passed["SLIP"] and not r.ok
+    assert "times the model's size" in ch["warnings"][0]
+    ok = solve(read_text(FRAME + "combo FINE = 1.0*DEAD + 1.0*SHAKE\n"))
+    assert ok.checks.cases["FINE"]["translation_within_size_pass"] and ok.ok

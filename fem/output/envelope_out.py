@@ -148,7 +148,9 @@ def summary_lines(results, r, indent: str) -> list[str]:
         what = f"combination {terms}" + (" (by time)" if r.duration is not None else "")
     else:
         what = f"envelope over {', '.join(r.over)}"
-    lines = [f"  {r.name:<12} {what}"]
+    ch = results.checks.cases[r.name]
+    lines = [f"  {r.name:<12} {what}; within the model's size "
+             f"{'pass' if ch['translation_within_size_pass'] else 'FAIL'}"]
     for group in ((("displacement", "translation", (0, 1, 2), "m"), ("reaction", "reaction force", (0, 1, 2), "N"),
                    ("reaction", "reaction moment", (3, 4, 5), "N m")),
                   (("end_force", "end force", (0, 1, 2, 6, 7, 8), "N"),
@@ -165,6 +167,7 @@ def summary_lines(results, r, indent: str) -> list[str]:
         ok = "pass" if results.checks.passed[r.name] else "FAIL"
         lines.append(f"{indent}static part: equilibrium {r.static.equilibrium:.1e} {ok}; peaks are bounds, "
                      "not a state in equilibrium")
+    lines += [f"{indent}{w}" for w in ch["warnings"]]
     if r.kind == "envelope":
         counts = np.bincount(r.fields["end_force"].max_by.ravel(), minlength=len(r.over))
         counts += np.bincount(r.fields["end_force"].min_by.ravel(), minlength=len(r.over))

@@ -74,7 +74,7 @@ def _force_rows(c: dict) -> list:
 def _warnings(doc: dict) -> list[str]:
     """Every warning of the run: the model's, then each case's, in deck order."""
     out = list(doc["model"].get("warnings") or [])
-    for c in doc["cases"]:
+    for c in [*doc["cases"], *doc.get("demands", [])]:
         out += [f"{c['name']}: {w}" for w in c["checks"].get("warnings") or []]
         if c["kind"] == "modes" and c["checks"].get("mass_target_met") is False:
             out.append(f"{c['name']}: the effective-mass target was not met")
@@ -147,9 +147,14 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                          f"{100 * ch['initial_displacement_captured']:.2f} %", _ok(ch["initial_displacement_captured"] > 0.95)])
             rows.append([f"{c['name']}: reactions hold the inertia forces, mode by mode",
                          f"{ch['inertia_balance_relative']:.1e}", _ok(ch["inertia_balance_pass"])])
-        elif c["kind"] == "combination" and ch["static_part"] is not None:
-            rows.append([f"{c['name']}: equilibrium of its static part (peaks are bounds, not balanced)",
-                         f"{ch['static_part']['equilibrium_relative']:.1e}", _ok(ch["static_part"]["equilibrium_pass"])])
+        elif c["kind"] in ("combination", "envelope"):
+            if ch["static_part"] is not None:
+                rows.append([f"{c['name']}: equilibrium of its static part (peaks are bounds, not balanced)",
+                             f"{ch['static_part']['equilibrium_relative']:.1e}",
+                             _ok(ch["static_part"]["equilibrium_pass"])])
+            rows.append([f"{c['name']}: largest translation within the model's size",
+                         f"{ch['translation_over_size']:.3g} of {ch['model_size_m']:.4g} m",
+                         _ok(ch["translation_within_size_pass"])])
         elif c["kind"] == "spectrum":
             miss = ", ".join(f"{k} {percent(v)}" for k, v in ch["missing_mass_fraction"].items())
             defined = [v for v in ch["missing_mass_fraction"].values() if v is not None and np.isfinite(v)]
