@@ -1,6 +1,6 @@
 """Choosing the cases to solve: the ones named (`quaver run --case NAME`) and what they need.
 
-A combination needs its static cases; a free, history, harmonic or spectrum case needs its modes
+A combination needs its cases, an envelope its cases and combinations; a free, history, harmonic or spectrum case needs its modes
 case (its `modes = NAME` option, or the deck's first modes case) and its start, a static case or
 a combination, if it has one.
 """
@@ -20,6 +20,9 @@ def _needs(model: Model, name: str) -> list[str]:
     combo = next((c for c in model.combinations if c.name == name), None)
     if combo is not None:
         return list(combo.factors)
+    env = next((e for e in model.envelopes if e.name == name), None)
+    if env is not None:
+        return list(env.over)
     return list(next(c for c in model.cases if c.name == name).needs)
 
 
@@ -35,7 +38,7 @@ def select_cases(model: Model, names) -> tuple[Model, list[str]]:
     >>> added                                           # doctest: +SKIP
     ['MODES']
     """
-    known = [c.name for c in model.cases] + [c.name for c in model.combinations]
+    known = [c.name for c in model.cases] + [c.name for c in model.combinations] + [e.name for e in model.envelopes]
     for name in names:
         if name not in known:
             raise DeckError(f"--case {name}: the deck has no case or combination of that name; "
@@ -49,4 +52,5 @@ def select_cases(model: Model, names) -> tuple[Model, list[str]]:
     added = [n for n in known if n in keep and n not in names]
     return replace(model, cases=[c for c in model.cases if c.name in keep],
                    combinations=[c for c in model.combinations if c.name in keep],
+                   envelopes=[e for e in model.envelopes if e.name in keep],
                    settings=dict(model.settings), warnings=list(model.warnings)), added

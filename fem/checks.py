@@ -22,6 +22,9 @@ history, harmonic, spectrum
            reported (static correction, modes covering the band, missing mass), never failed.
            A harmonic case's vibration limits are a design check, as the resonance check is
            (`limits_failed`; fem/analysis/vibration_check.py).
+combination (with a dynamic case)
+           its static part balances like a static combination (`static_ok`); the peaks balance
+           nothing (`demand_checks`). An envelope has no check of its own.
 
 The tolerances of balance checks made inside the analyses (EQUILIBRIUM_TOL, SOLVE_TOL,
 BALANCE_TOL) live beside the computations that use them and are named here.
@@ -40,7 +43,7 @@ from .analysis.static import EQUILIBRIUM_TOL, SOLVE_TOL
 from .model import Model
 
 __all__ = ["BALANCE_TOL", "EFFECTIVE_MASS_TOL", "EQUILIBRIUM_TOL", "MASS_RTOL", "ORTHO_TOL", "RESIDUAL_TOL",
-           "SOLVE_TOL", "SelfChecks", "evaluate", "mass_ok", "modal_checks", "modal_ok", "plausibility",
+           "SOLVE_TOL", "SelfChecks", "demand_checks", "demand_ok", "evaluate", "mass_ok", "modal_checks", "modal_ok", "plausibility",
            "plausible_ok", "sensitivity_checks", "static_ok"]
 
 RESIDUAL_TOL = 1e-8      # backward error of an eigenpair; a double-precision solve gives ~1e-14
@@ -207,11 +210,39 @@ class SelfChecks:
         return self.all_pass and not self.short and not self.resonance_failed and not self.limits_failed
 
 
-def evaluate(model: Model, statics, modal, assembled: np.ndarray, rigid_free: int, resonance=None) -> SelfChecks:
+def demand_checks(model: Model, r) -> dict:
+    """The checks entry of a combination with a dynamic case or an envelope: the balance of a
+    combination's static part (`static.balance`; None without one), what is not checked, and
+    its largest translation (either bound) against the model's size, as a static case's
+    (`analysis.plausible.static_check`)."""
+    from types import SimpleNamespace
+
+    part = getattr(r, "static", None)
+    b = r.fields["displacement"]
+    where = next((c.location for c in [*model.combinations, *model.envelopes] if c.name == r.name), None)
+    size = static_check(model, SimpleNamespace(name=r.name, u=np.maximum(b.max, -b.min)), where)
+    return {"static_part": None if part is None else part.checks(model.coords),
+            "peaks": "not balanced: the largest values of different quantities come at different times "
+                     "or carry no sign, so they are not in equilibrium with one another", **size}
+
+
+def demand_ok(checks: dict) -> bool:
+    """The verdict of `demand_checks`: the static part's balance, when there is one, and the
+    largest translation within the model's size."""
+    return (checks["static_part"] is None or static_ok(checks["static_part"])) \
+        and checks["translation_within_size_pass"]
+
+
+def evaluate(model: Model, statics, modal, assembled: np.ndarray, rigid_free: int, resonance=None,
+             demands=()) -> SelfChecks:
     """The self-checks of static results `statics` (cases then combinations) and modes and
     response results `modal`, with the assembled translational mass (3,) kg, the number of
-    rigid-body motions the supports leave free and the resonance checks by modes case name."""
+    rigid-body motions the supports leave free, the resonance checks by modes case name and the
+    combinations with a dynamic case and envelopes `demands`."""
     cases, passed = {}, {}
+    for r in demands:
+        cases[r.name] = demand_checks(model, r)
+        passed[r.name] = demand_ok(cases[r.name])
     for r in statics:
         cases[r.name] = r.checks(model.coords)
         passed[r.name] = static_ok(cases[r.name])

@@ -15,7 +15,7 @@ from .errors import Location
 from .excitation import FrequencyBand, Machine
 from .sections import SectionProps
 
-__all__ = ["DIRECTIONS", "Combination", "Link", "LoadCase", "LoadItem", "Material", "Model", "Section"]
+__all__ = ["COMBINABLE", "DIRECTIONS", "Combination", "Envelope", "Link", "LoadCase", "LoadItem", "Material", "Model", "Section"]
 
 DIRECTIONS = ("ux", "uy", "uz", "rx", "ry", "rz")
 
@@ -54,8 +54,15 @@ class Section:
         return stress_points(self.shape, dict(self.dims), self.props)
 
 
+# the kinds of case a combination adds and an envelope bounds (fem/analysis/combine.py says how)
+COMBINABLE = ("static", "history", "spectrum", "harmonic")
+
+
 @dataclass
 class Combination:
+    """factor by case name; the cases may be static, history, spectrum or harmonic
+    (fem/analysis/combine.py says how each kind enters)."""
+
     name: str
     factors: dict[str, float]
     location: Location | None = None
@@ -73,6 +80,15 @@ class Link:
     reference: int
     dependents: np.ndarray
     dirs: np.ndarray
+    location: Location | None = None
+
+
+@dataclass
+class Envelope:
+    """The largest and smallest of every result over the cases and combinations `over`."""
+
+    name: str
+    over: tuple[str, ...]
     location: Location | None = None
 
 
@@ -140,6 +156,7 @@ class Model:
     groups: dict[str, tuple[str, ...]] = field(default_factory=dict)   # member groups, see above
     cases: list[Case] = field(default_factory=list)      # typed cases (fem.cases), in deck order
     combinations: list[Combination] = field(default_factory=list)
+    envelopes: list[Envelope] = field(default_factory=list)
     settings: dict = field(default_factory=dict)
     source: str = ""
     overrides: dict[str, str] = field(default_factory=dict)   # let parameters set from outside, name -> text

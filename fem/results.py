@@ -1,7 +1,8 @@
 """`Results`: what one `fem.solve` found, self-describing and read-only by habit.
 
 Each case result carries its kind (``result.kind``: "static", "modes", "free", "history",
-"harmonic", "spectrum"; a combination is a "static" result), so code that shows results picks
+"harmonic", "spectrum"; a combination of static cases is a "static" result, one with a
+history, spectrum or harmonic case a "combination", an envelope an "envelope"), so code that shows results picks
 its writer from a table keyed by kind.
 """
 
@@ -105,7 +106,12 @@ class Results:
     @property
     def modal(self) -> list:
         """Modes cases, then response cases in deck order."""
-        return [r for r in self.cases.values() if r.kind != "static"]
+        return [r for r in self.cases.values() if r.kind not in ("static", "combination", "envelope")]
+
+    @property
+    def demands(self) -> list:
+        """Combinations with a dynamic case, then envelopes (fem/analysis/combine.py)."""
+        return self.of_kind("combination", "envelope")
 
     def of_kind(self, *kinds: str) -> list:
         """The results of the given kinds, in the order of `cases`."""
@@ -116,8 +122,9 @@ class Results:
         return self.cases[self.definition(name).modes]
 
     def definition(self, name: str):
-        """The case (or combination) definition of `name` in the model."""
-        return next(c for c in [*self.model.cases, *self.model.combinations] if c.name == name)
+        """The case (combination or envelope) definition of `name` in the model."""
+        return next(c for c in [*self.model.cases, *self.model.combinations, *self.model.envelopes]
+                    if c.name == name)
 
     @property
     def warnings(self) -> list[str]:

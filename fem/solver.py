@@ -23,7 +23,7 @@ from .analysis.spectrum_case import solve_spectrum_case
 from .analysis.static import combine, factorise, solve_static
 from .checks import evaluate
 from .errors import ModelError
-from .model import Model
+from .model import COMBINABLE, Model
 from .results import Results
 
 __all__ = ["assembled_mass", "excitation_frequencies", "solve"]
@@ -83,8 +83,14 @@ def _check_links(model: Model) -> None:
                              c.location)
     for cb in model.combinations:
         for n in cb.factors:
-            if kinds.get(n) != "static":
-                raise ModelError(f"combination {cb.name}: '{n}' is not a static case of the model", cb.location)
+            if kinds.get(n) not in COMBINABLE:
+                raise ModelError(f"combination {cb.name}: '{n}' is not a static, history, spectrum or harmonic "
+                                 "case of the model", cb.location)
+    for env in model.envelopes:
+        for n in env.over:
+            if kinds.get(n) not in COMBINABLE and n not in combos:
+                raise ModelError(f"envelope {env.name}: '{n}' is not a static, history, spectrum or harmonic case "
+                                 "or a combination of the model", env.location)
 
 
 class _Run:
@@ -231,6 +237,7 @@ def solve(model: Model, cases=None) -> Results:
             state = pretension_state(model, asm, run.lu())
             run.pretension = state.axial - model.pretension
     sensitivities = {}
+    dynamic = [cb for cb in model.combinations if not _static_only(model, cb)]
     for after in (False, True):       # modes under a preload once the static cases are solved
         for c in model.cases:
             if c.kind == "modes" and (c.preload is not None) == after:
@@ -243,8 +250,9 @@ def solve(model: Model, cases=None) -> Results:
         with quiet(notes, "static cases"):
             run.statics = {c.name: solve_static(model, asm, c, run.lu()) for c in statics}
         for combo in model.combinations:
-            parts = [(f, run.statics[n]) for n, f in combo.factors.items()]
-            run.statics[combo.name] = combine(combo.name, parts, model.coords)
+            parts = [(f, run.statics[n]) for n, f in combo.factors.items() if n in run.statics]
+            if combo not in dynamic:
+                run.statics[combo.name] = combine(combo.name, parts, model.coords)
     run.modes = {c.name: run.modes[c.name] for c in model.cases if c.name in run.modes}   # deck order
     responses = {}
     for c in model.cases:
@@ -264,11 +272,17 @@ def solve(model: Model, cases=None) -> Results:
         from .analysis.buckling import with_state
 
         run.statics = {n: with_state(r, state, model.coords) for n, r in run.statics.items()}
+    if state is not None and dynamic:
+        raise ModelError(f"combination {dynamic[0].name}: a combination with a dynamic case in a model with "
+                         "pretensioned members is not supported yet (the pretension state would be scaled with "
+                         "the static cases' factors)", dynamic[0].location)
+    demands = _demands(model, run, responses, dynamic)
     mass = assembled_mass(model, asm)
     modal = [*run.modes.values(), *responses.values()]
     resonance = _resonance(model, run.modes)
-    checks = evaluate(model, list(run.statics.values()), modal, mass, len(sound.rigid), resonance)
-    return Results(model, {**run.statics, **run.modes, **responses}, sound, mass, checks, tuple(notes),
+    checks = evaluate(model, list(run.statics.values()), modal, mass, len(sound.rigid), resonance,
+                      list(demands.values()))
+    return Results(model, {**run.statics, **run.modes, **responses, **demands}, sound, mass, checks, tuple(notes),
                    asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance,
                    _stresses(model, asm, run.statics, responses))
 
@@ -286,6 +300,46 @@ def _stresses(model: Model, asm, statics: dict, responses: dict) -> dict:
             lines[cb.name] = sum((f * lines[n] for n, f in cb.factors.items()), np.zeros((model.n_members, 3)))
     out = {n: member_stresses(model, r.member_forces, lines[n], table=table) for n, r in statics.items() if n in lines}
     out.update({n: r.stresses for n, r in responses.items() if getattr(r, "stresses", None) is not None})
+    return out
+
+
+def model_case(model: Model, name: str):
+    """The case of `model` named `name`."""
+    return next(c for c in model.cases if c.name == name)
+
+
+def _static_only(model: Model, combo) -> bool:
+    """Whether a combination adds static cases only (its result is then a static one)."""
+    kinds = {c.name: c.kind for c in model.cases}
+    return all(kinds.get(n) == "static" for n in combo.factors)
+
+
+def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
+    """The combinations with a history, spectrum or harmonic case (`CombinationResult`) and
+    the envelopes (`EnvelopeResult`), by name (fem/analysis/combine.py)."""
+    from dataclasses import replace
+
+    from .analysis.combine import combine_terms, envelope
+    from .analysis.history_case import series_basis
+
+    found = {**run.statics, **responses}
+    used = {n for cb in dynamic for n in cb.factors} | {n for env in model.envelopes for n in env.over}
+    for n in used:         # a history case's fields at every step, for these combinations only
+        r = found.get(n)
+        if r is not None and r.kind == "history":
+            m = model_case(model, n).modes
+            found[n] = replace(r, series=series_basis(model, run.stiffened.get(m, run.asm), r, run.modes[m]))
+    sizes = {"node": model.n_nodes, "member": model.n_members}
+    out = {}
+    for cb in dynamic:
+        statics = [(f, run.statics[n]) for n, f in cb.factors.items() if n in run.statics]
+        part = combine(cb.name, statics, model.coords) if statics else None
+        with _at_case(cb):
+            out[cb.name] = combine_terms(cb.name, [(f, found[n]) for n, f in cb.factors.items()], sizes, part)
+    found.update(out)
+    for env in model.envelopes:
+        with _at_case(env):
+            out[env.name] = envelope(env.name, [found[n] for n in env.over], sizes)
     return out
 
 

@@ -19,7 +19,7 @@ from .recurrence import integrate_modal, knot_kicks
 from .static import line_loads, load_vector
 from .stress import series_stresses
 
-__all__ = ["HistoryResult", "solve_history_case"]
+__all__ = ["HistoryResult", "HistorySeries", "series_basis", "solve_history_case"]
 
 
 @dataclass
@@ -46,6 +46,29 @@ class HistoryResult:
     frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
     warnings: tuple = ()
     stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
+    series: HistorySeries = None    # every field at every step, as columns times their histories
+
+
+class HistorySeries(NamedTuple):
+    """The whole response at every step without holding it: q (m, k + l) the histories of the
+    k modes then of the l time functions' static parts, and statics[field] (N, l) the static
+    parts' own fields ("displacement" (6n,), "reaction" (6n,), "end_force" (12e,)). With the
+    modes' fields (`series_basis`), field(t_i) = basis[field] @ q[i]."""
+
+    q: np.ndarray
+    statics: dict
+    basis: dict | None = None
+
+
+def series_basis(model: Model, asm: Assembled, r: HistoryResult, modal: ModesCaseResult) -> HistorySeries:
+    """The series of history result `r` with its basis: what each column contributes to each
+    field (N, k + l). Made when a combination needs it, not kept with the result (the modes'
+    end forces alone are 12 e k values)."""
+    shapes = modal.shapes.reshape(6 * model.n_nodes, -1)
+    Rm, Fm = field_responses(model, asm, shapes.T)
+    k = shapes.shape[1]
+    own = {"displacement": shapes, "reaction": Rm.reshape(k, -1).T, "end_force": Fm.reshape(k, -1).T}
+    return r.series._replace(basis={f: np.hstack([own[f], r.series.statics[f]]) for f in own})
 
 
 class _Part(NamedTuple):
@@ -136,10 +159,11 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     # the parts that follow each g_l(t) join the modes as extra columns: (m, k + l) histories
     qg = np.hstack([q, np.array(G).T])
     Rm, Fm = field_responses(model, asm, shapes.T)
-    peak, peak_t = peaks(qg, np.hstack([shapes, np.array(statics).T]), t)
-    r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, np.array(r_statics).T]), t)
-    m_peak, _ = peaks(qg, np.hstack([Fm.reshape(k, -1).T, np.array(m_statics).T]), t)
-    stresses = _stresses(model, qg, np.hstack([Fm.reshape(k, -1).T, np.array(m_statics).T]), np.array(G).T,
+    own = {"displacement": np.array(statics).T, "reaction": np.array(r_statics).T, "end_force": np.array(m_statics).T}
+    peak, peak_t = peaks(qg, np.hstack([shapes, own["displacement"]]), t)
+    r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, own["reaction"]]), t)
+    m_peak, _ = peaks(qg, np.hstack([Fm.reshape(k, -1).T, own["end_force"]]), t)
+    stresses = _stresses(model, qg, np.hstack([Fm.reshape(k, -1).T, own["end_force"]]), np.array(G).T,
                          np.array(lines), t)
     record = case.record if case.record is not None else np.arange(model.n_nodes)
     full = np.concatenate([modal.shapes, np.array(statics).T.reshape(model.n_nodes, 6, -1)], axis=2)
@@ -159,7 +183,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                         t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses)
+                         t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses,
+                         HistorySeries(qg, own))
 
 
 def _stresses(model, qg, columns, G, lines, t):

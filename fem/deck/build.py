@@ -8,7 +8,7 @@ import numpy as np
 from lark import Tree
 
 from ..errors import DeckError, suggest
-from ..model import DIRECTIONS, Combination, Model
+from ..model import COMBINABLE, DIRECTIONS, Combination, Envelope, Model
 from ..notes import Note
 from ..sections import make_section, shear_follows_nu
 from . import model_checks
@@ -67,16 +67,19 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
     joined = {(min(lk.reference, d), max(lk.reference, d)) for lk in links for d in lk.dependents.tolist()}
     notes.extend(model_checks.coincident_nodes(defs.nodes, node_names, coords, tol, used, joined))
     names = {c.name for c in cases if c.kind == "static"}
+    combinable = {c.name for c in cases if c.kind in COMBINABLE}
     combos = []
     for nm, tree, where, scope in defs.combos:
         ev.use_scope(scope)             # the parameters where the combination is written
-        combos.append(Combination(nm, _combo_factors(defs, ev, notes, tree, names), where))
+        combos.append(Combination(nm, _combo_factors(defs, ev, notes, tree, combinable), where))
     ev.use_scope(reading)
+    envelopes = [_envelope(defs, e, combinable | {cb.name for cb in combos}) for e in defs.envelopes]
     modal = [c.name for c in cases if c.kind == "modes"]
     if modal:
         notes.extend(model_checks.massless_materials(defs.materials, defs.defined, mems, cols["carried_mass"], modal))
-    _response_sources(cases, references, names | {cb.name for cb in combos}, names, modal)
-    _static_sources(references, names | {cb.name for cb in combos})
+    statics = {cb.name for cb in combos if all(n in names for n in cb.factors)}
+    _response_sources(cases, references, names | statics, names, modal)
+    _static_sources(references, names | statics)
     model = Model(title=defs.title, node_names=node_names, coords=coords,
                   member_names=[m["name"] for m in mems], conn=conn, truss=truss,
                   up=up, releases=releases, restraint=restraint, springs=springs,
@@ -84,7 +87,7 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
                   member_section=[m["section"][0] for m in mems],
                   member_material=[m["material"][0] for m in mems],
                   groups=member_groups(defs), excitations=model_excitations(defs, nidx),
-                  cases=cases, combinations=combos, settings=_settings(defs.settings), warnings=notes,
+                  cases=cases, combinations=combos, envelopes=envelopes, settings=_settings(defs.settings), warnings=notes,
                   links=links, mass_coupling=mass_coupling(defs, nidx),
                   offsets=end_offsets(mems, coords, conn, cols["roll"], up, tol), pretension=_pretensions(mems), **cols)
     notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
@@ -340,18 +343,38 @@ def _up_vector(up: np.ndarray, x: np.ndarray, m: dict) -> np.ndarray:
     return u
 
 
+def _envelope(defs: Definitions, entry, known: set[str]) -> Envelope:
+    """An envelope statement's cases and combinations, each checked to be one of them."""
+    name, over, where = entry
+    seen = []
+    for n, at in over:
+        if n not in known:
+            other = defs.defined.get(("result", n))
+            if other is not None:
+                kind = next((k for nm, k, *_ in defs.cases if nm == n), None)
+                what = f"a {kind} case" if other[0] == "case" else f"an {other[0]}"
+                raise DeckError(f"envelope {name} refers to '{n}', which is {what} (at {other[1]}); an envelope "
+                                f"bounds {', '.join(COMBINABLE)} cases and combinations", at,
+                                "name the cases and combinations it is made of" if other[0] == "envelope" else "")
+            raise DeckError(f"envelope {name} refers to '{n}', which is not defined; {suggest(n, known)}", at)
+        if n in seen:
+            raise DeckError(f"envelope {name} names {n} twice", at, "keep one of them")
+        seen.append(n)
+    return Envelope(name, tuple(seen), where)
+
+
 def _combo_factors(defs: Definitions, ev: Evaluator, notes: list, t, cases: set[str]) -> dict[str, float]:
-    """A combination's expression as case name -> factor; `cases` the static cases."""
+    """A combination's expression as case name -> factor; `cases` the cases it may add."""
     if isinstance(t, Tree) and t.data == "var":
         n = str(t.children[0])
         if n not in cases:
             other = defs.defined.get(("result", n))
             if other is not None:
                 kind = next((k for nm, k, *_ in defs.cases if nm == n), None)
-                what = f"a {kind} case" if other[0] == "case" else "a combination"
+                what = f"a {kind} case" if other[0] == "case" else f"a{'n' if other[0][0] in 'e' else ''} {other[0]}"
                 raise DeckError(f"combination refers to '{n}', which is {what} (at {other[1]}); a combination "
-                                "adds static cases only", ev.loc(t),
-                                "write out the static cases it is made of" if other[0] != "case" else "")
+                                f"adds {', '.join(COMBINABLE[:-1])} and {COMBINABLE[-1]} cases", ev.loc(t),
+                                "write out the cases it is made of" if other[0] != "case" else "")
             raise DeckError(f"combination refers to case '{n}', which is not defined; {suggest(n, cases)}", ev.loc(t))
         return {n: 1.0}
     if isinstance(t, Tree) and t.data in ("add", "sub"):

@@ -34,6 +34,7 @@ class Definitions:
         self.links: list = []                          # (name, reference token, [targets], dirs, where)
         self.cases: list = []                          # (name, kind, items, where, assumed, scope)
         self.combos: list = []                         # (name, tree, where, scope)
+        self.envelopes: list = []                      # (name, [(case name, where)], where)
         self.excitations: list = []                    # (Machine or FrequencyBand, where, node token or None)
         self.settings: dict = {}                       # key -> (value, where)
         self.defined: dict[tuple[str, str], tuple[str, Location]] = {}   # (space, name) -> (kind, where)

@@ -392,6 +392,11 @@ class Statements:
         self.defs.define("result", "combination", self.ev.name(s.children[0]), self.loc(s))
         self.defs.combos.append((self.ev.name(s.children[0]), s.children[1], self.loc(s), self.ev.scope()))
 
+    def st_envelope(self, s):
+        name, *over = s.children
+        self.defs.define("result", "envelope", self.ev.name(name), self.loc(s))
+        self.defs.envelopes.append((self.ev.name(name), [(self.ev.name(o), self.loc(o)) for o in over], self.loc(s)))
+
     # ---------- machines and bands of excitation frequencies (fem/deck/excitations.py)
     def st_machine(self, s):
         excitation_statement(self, s, "machine")

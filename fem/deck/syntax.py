@@ -24,15 +24,15 @@ __all__ = ["STATEMENTS", "keyword_callbacks", "parse", "syntax_error"]
 
 STATEMENTS = ("title", "let", "assume", "include", "material", "section", "node", "member",
               "support", "spring", "mass", "group", "case", "combo", "for", "settings", "machine", "band",
-              "link")
+              "link", "envelope")
 # words the grammar reserves besides the statements (`a..b` and `->` are punctuation)
-_KEYWORDS = STATEMENTS + ("release", "in", "at")
+_KEYWORDS = STATEMENTS + ("release", "in", "at", "over")
 _OPERATORS = {"PLUS", "MINUS", "STAR", "SLASH", "CIRCUMFLEX"}
 _WORDS = {"NAME": "a name", "NUMBER": "a number", "QUANTITY": "a number with a unit",
           "STRING": "a quoted text", "PATTERN": "a name pattern", "LBRACE": "'{'", "RBRACE": "'}'",
           "LPAR": "'('", "RPAR": "')'", "LSQB": "'['", "RSQB": "']'", "EQUAL": "'='", "COMMA": "','",
           "COLON": "':'", "SEMICOLON": "';'", "__ANON_0": "'->'", "__ANON_1": "'..'",
-          "$END": "the end of the file", "_AT": "'at' and the node"}
+          "$END": "the end of the file", "_AT": "'at' and the node", "_OVER": "'over' and the cases"}
 # the words that may follow a harmonic load's value or a vibration limit's (grammar: _load_extra, _limit_extra)
 _WORDS.update({f"_{w.upper()}": f"'{w}'" for w in ("times", "lag", "about", "like", "limit", "rms", "over")})
 _PAIRS = {"(": ")", "{": "}", "[": "]"}

@@ -88,7 +88,7 @@ def _forces(doc: dict, values) -> str:
 def _warnings(doc: dict) -> list[str]:
     """Every warning of the run: the model's, then each case's, in deck order."""
     out = list(doc["model"].get("warnings") or [])
-    for c in doc["cases"]:
+    for c in [*doc["cases"], *doc.get("demands", [])]:
         out += [f"{c['name']}: {w}" for w in c["checks"].get("warnings") or []]
         if c["kind"] == "modes" and c["checks"].get("mass_target_met") is False:
             out.append(f"{c['name']}: the effective-mass target was not met")
@@ -115,7 +115,7 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                  if found else "<p>none</p>")
     parts.append("<h2 id='checks'>Self-checks</h2>")
     rows = [["assembled mass vs members + point masses", f"{m['assembled_mass_kg'][0]:.6g} kg", _ok(m["mass_check_pass"])]]
-    for c in doc["cases"]:
+    for c in [*doc["cases"], *doc.get("demands", [])]:
         ch = c["checks"]
         if c["kind"] == "static":
             limit = ch.get("equilibrium_limit", 1e-8)
@@ -166,6 +166,14 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                          f"{100 * ch['initial_displacement_captured']:.2f} %", _ok(ch["initial_displacement_captured"] > 0.95)])
             rows.append([f"{c['name']}: reactions hold the inertia forces, mode by mode",
                          f"{ch['inertia_balance_relative']:.1e}", _ok(ch["inertia_balance_pass"])])
+        elif c["kind"] in ("combination", "envelope"):
+            if ch["static_part"] is not None:
+                rows.append([f"{c['name']}: equilibrium of its static part (peaks are bounds, not balanced)",
+                             f"{ch['static_part']['equilibrium_relative']:.1e}",
+                             _ok(ch["static_part"]["equilibrium_pass"])])
+            rows.append([f"{c['name']}: largest translation within the model's size",
+                         f"{ch['translation_over_size']:.3g} of {ch['model_size_m']:.4g} m",
+                         _ok(ch["translation_within_size_pass"])])
         elif c["kind"] == "spectrum":
             miss = ", ".join(f"{k} {percent(v)}" for k, v in ch["missing_mass_fraction"].items())
             defined = [v for v in ch["missing_mass_fraction"].values() if v is not None and np.isfinite(v)]
@@ -199,10 +207,11 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
             parts.append(sensitivity_section(c))
         parts += resonance_out.report_section(c, _table)
         parts += [_img(p, cap, "plot") for p, cap in images.get(f"{c['name']} resonance", [])]
-    for c in doc["cases"]:
+    for c in [*doc["cases"], *doc.get("demands", [])]:
         if c["kind"] == "modes":
             continue
-        parts.append(f"<h2 id='case-{html.escape(c['name'])}'>{html.escape(c['kind'])} case {html.escape(c['name'])}</h2>")
+        word = "" if c["kind"] in ("combination", "envelope") else " case"
+        parts.append(f"<h2 id='case-{html.escape(c['name'])}'>{html.escape(c['kind'])}{word} {html.escape(c['name'])}</h2>")
         if c["kind"] == "static":
             parts.append(_table(["quantity", "value"], [
                 ["largest translation", quantity(doc, "length", c["max_translation_m"], (1.0, "m"))],
@@ -224,6 +233,10 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
             from .buckling_out import report_section
 
             parts.append(report_section(c))
+        elif c["kind"] in ("combination", "envelope"):
+            from .envelope_out import report_block
+
+            parts.append(report_block(c))
         elif c["kind"] == "spectrum":
             b = c["base_reaction"]
             parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],

@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ModelError
-from . import buckling_out, limits_out, resonance_out
+from . import buckling_out, envelope_out, limits_out, resonance_out
 from .link_tables import link_entry
 from .tables import END_FORCES, REACTIONS, supported_nodes, unit_shape_mass_stiffness
 
@@ -185,6 +185,8 @@ def results_doc(results) -> dict:
                   "cases_asked": None if results.cases_asked is None else dict(results.cases_asked)},
         "excitations": resonance_out.excitations_entry(model),
         "cases": [_ENTRY[r.kind](results, r) for kinds in _ORDER for r in results.of_kind(*kinds)],
+        # combinations with a dynamic case, then envelopes (output/envelope_out.py)
+        "demands": [envelope_out.json_entry(results, r) for r in results.demands],
         "sections": _sections(model),
     }
     return _with_stresses(results, doc)

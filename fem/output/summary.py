@@ -119,10 +119,17 @@ def _modes(results, r) -> list[str]:
     return lines
 
 
+def _demand(results, r) -> list[str]:
+    from .envelope_out import summary_lines
+
+    return summary_lines(results, r, _CONTINUED)
+
+
 # each kind's lines; a response case's own warnings follow them
 _LINES = {"static": _static, "modes": _modes, "free": _free, "history": _history,
           "harmonic": _harmonic, "spectrum": _spectrum,
-          "buckling": lambda results, r: buckling_out.summary_lines(results, r, _CONTINUED)}
+          "buckling": lambda results, r: buckling_out.summary_lines(results, r, _CONTINUED),
+          "combination": _demand, "envelope": _demand}
 _OWN_WARNINGS = ("free", "history", "harmonic", "spectrum")
 
 
@@ -154,7 +161,7 @@ def print_solved(results, name: str = "") -> None:
     am = results.assembled_mass
     print(f"  mass check: assembled M gives {am[0]:.6g} kg in X, Y, Z "
           f"({'pass' if results.checks.mass_pass else 'FAIL'} against members + point masses)")
-    for r in [*results.statics, *results.modal]:
+    for r in [*results.statics, *results.modal, *results.demands]:
         for line in _LINES[r.kind](results, r):
             print(line)
         for line in stress_summary(results, r.name, _CONTINUED):

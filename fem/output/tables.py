@@ -199,3 +199,6 @@ def write_tables(results, out: Path) -> None:
         from ..assembly import element_matrices
 
         write_offset_table(out, results, element_matrices(model)[2])
+    from .envelope_out import write_extremes_tables
+
+    write_extremes_tables(results, out)
