@@ -91,7 +91,7 @@ def test_selecting_an_envelope_brings_its_cases(res):
     ("envelope E over DEAD\nenvelope F over E", r"'E', which is an envelope"),
     ("envelope DEAD over WIND", r"envelope DEAD has the same name as case DEAD"),
     ("combo C = 1.0*DEAD\nenvelope E over DEAD, C\ncombo D = 1.0*E", r"'E', which is an envelope"),
-    ("envelope E DEAD, WIND", r"deck.deck:20:12: unexpected name 'DEAD'; expected 'over' and the cases"),
+    ("envelope E DEAD, WIND", r"deck.deck:20:12: unexpected name 'DEAD'; expected 'over'"),
     ("envelope E over", r"the file ends in the middle of a statement; expected a name"),
 ], ids=["modes", "unknown", "twice", "nested", "clash", "in-combo", "no-over", "no-cases"])
 def test_envelope_refusals(extra, message):

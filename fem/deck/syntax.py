@@ -32,7 +32,7 @@ _WORDS = {"NAME": "a name", "NUMBER": "a number", "QUANTITY": "a number with a u
           "STRING": "a quoted text", "PATTERN": "a name pattern", "LBRACE": "'{'", "RBRACE": "'}'",
           "LPAR": "'('", "RPAR": "')'", "LSQB": "'['", "RSQB": "']'", "EQUAL": "'='", "COMMA": "','",
           "COLON": "':'", "SEMICOLON": "';'", "__ANON_0": "'->'", "__ANON_1": "'..'",
-          "$END": "the end of the file", "_AT": "'at' and the node", "_OVER": "'over' and the cases"}
+          "$END": "the end of the file", "_AT": "'at' and the node"}
 # the words that may follow a harmonic load's value or a vibration limit's (grammar: _load_extra, _limit_extra)
 _WORDS.update({f"_{w.upper()}": f"'{w}'" for w in ("times", "lag", "about", "like", "limit", "rms", "over")})
 _PAIRS = {"(": ")", "{": "}", "[": "]"}
