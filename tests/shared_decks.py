@@ -25,3 +25,16 @@ support A fixed
 case LOAD static { force B = (1 kN, 0, 0) }
 case MODES modes { count = 2 }
 """
+
+# a cantilever pipe with an arm and a 400 kg head mass (our own scenario); each file adds its
+# modes count and cases
+PIPE_ARM = """
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+for i in 0..4 { node N[i] = (0, 0, i*1.5 m) }
+for i in 0..3 { member M[i] : N[i] -> N[i+1] beam P S }
+node H = (1.5 m, 0, 6 m)
+member ARM : N4 -> H beam P S
+support N0 fixed
+mass H = 400 kg
+"""

@@ -4,7 +4,7 @@ with a power of the frequency, single frequencies and lists, velocity and accele
 import numpy as np
 import pytest
 import scipy.sparse.linalg as spla
-from shared_decks import BAR_SDOF
+from shared_decks import BAR_SDOF, PIPE_ARM
 
 from fem import solve
 from fem.analysis.modal_case import field_responses
@@ -123,16 +123,7 @@ def test_unbalance_axes_turn_positively_about_the_shaft():
     assert np.cross(a, b) @ n == pytest.approx(1)
 
 
-FRAME = """
-material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-for i in 0..4 { node N[i] = (0, 0, i*1.5 m) }
-for i in 0..3 { member M[i] : N[i] -> N[i+1] beam P S }
-node H = (1.5 m, 0, 6 m)
-member ARM : N4 -> H beam P S
-support N0 fixed
-mass H = 400 kg
-case MODES modes { count = 30 }
+FRAME = PIPE_ARM + """case MODES modes { count = 30 }
 case F harmonic { force H = (1 kN, 0.5 kN, 0) lag 30 deg, force N2 = (0, 2 kN, 0) like f^2 at 10 Hz,
                   unbalance H = 0.5 kg*m about y lag 45 deg, line M1 = (0, 0, -1 kN/m) lag 60 deg,
                   at = %s, rayleigh = (2 Hz, 2 percent, 40 Hz, 3 percent), record = "*" }

@@ -4,6 +4,7 @@ a results folder holds (tables; tables and files for viewers; everything)."""
 
 import numpy as np
 import pytest
+from shared_decks import PIPE_ARM
 
 import fem
 from fem.cli import _parser, main
@@ -11,16 +12,7 @@ from fem.output.write import WRITE_CHOICES, write_results
 
 # a cantilever pipe with an arm and a head mass (our own scenario), five modes, a half-sine
 # pulse on the head and the free vibration it would leave from a static push
-DECK = """
-material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-for i in 0..4 { node N[i] = (0, 0, i*1.5 m) }
-for i in 0..3 { member M[i] : N[i] -> N[i+1] beam P S }
-node H = (1.5 m, 0, 6 m)
-member ARM : N4 -> H beam P S
-support N0 fixed
-mass H = 400 kg
-case MODES modes { count = 5 }
+DECK = PIPE_ARM + """case MODES modes { count = 5 }
 case PUSH static { force H = (0, 2 kN, 0) }
 case KICK history { force H = (0, 2 kN, -3 kN), time = halfsine(0.15 s), duration = 0.6 s, step = 0.002 s,
                     damping = 2 percent, record = "*" }
