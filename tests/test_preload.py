@@ -66,7 +66,7 @@ def test_preload_is_said_in_results_json(tmp_path):
 def test_taut_string_frequencies_from_pretension():
     """A wire of 20 truss members between fixed anchors, pretension T = 5 kN: its transverse modes
     are those of a string, f_k = k / (2 L) sqrt(T / m) (Blevins, Formulas for Natural Frequency
-    and Mode Shape, 1979, table 3-? taut string, from memory of the table number), each in two
+    and Mode Shape, 1979, the taut-string formula; table number not confirmed, from memory), each in two
     planes. The discrete chain with consistent mass has exactly
     w^2 = 6 T / (m h^2) (1 - cos t) / (2 + cos t), t = k pi / n (common practice, no source: the
     travelling-wave solution of the assembled equations), checked to round-off; its error against
