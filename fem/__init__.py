@@ -41,6 +41,7 @@ _EXPORTS = {
     "HarmonicResult": "fem.analysis.harmonic", "SpectrumResult": "fem.analysis.spectrum_case",
     "CombinationResult": "fem.analysis.combine", "EnvelopeResult": "fem.analysis.combine",
     "TimeFunction": "fem.timefn", "Spectrum": "fem.spectrum",
+    "Machine": "fem.excitation", "FrequencyBand": "fem.excitation", "VibrationLimit": "fem.vibration",
     "Note": "fem.notes", "Location": "fem.errors",
     "QuaverError": "fem.errors", "DeckError": "fem.errors", "ModelError": "fem.errors",
     "MechanismError": "fem.errors", "ResultsError": "fem.errors",
