@@ -18,7 +18,8 @@ What the file holds:
   script reads back as `json.loads` does;
 - a few lines of script that draw with `Plotly.newPlot` and animate with `Plotly.restyle`
   (one pose a frame: the shape times sin(2 pi t) for a mode, a ramp 0 to 1 and back for a
-  static shape), so the file grows with the shapes, not with the frames.
+  static shape), so the file grows with the shapes, not with the frames. `viewer.html#N` opens
+  on the shape N (from 0) of the list.
 
 The drawing scale is the pictures' own (`fem.output.vtk.drawing_scale`): the largest
 translation drawn as 5 % of the model's largest extent, fewer where rotations would turn a
@@ -227,7 +228,7 @@ _SCRIPT = r"""
   };
   const names = [];
   for (let e = 0; e < E; e++) { for (let p = 0; p < P; p++) names.push(D.members.names[e]); names.push(null); }
-  const [bx, by, bz] = lines(0);
+  const [bx, by, bz] = lines(0);   // the undeformed curves
   const s = D.supports.map((q) => q.node);
   const traces = [
     {type: "scatter3d", mode: "lines", name: "undeformed", x: bx, y: by, z: bz, hoverinfo: "skip",
@@ -281,6 +282,10 @@ _SCRIPT = r"""
     playing = !playing; $("play").textContent = playing ? "Stop" : "Animate";
     if (playing) { t0 = performance.now(); requestAnimationFrame(step); } else pose();
   };
+  const asked = +location.hash.slice(1);     // viewer.html#12 opens on the 13th shape of the list
+  if (location.hash && Number.isInteger(asked) && asked >= 0 && asked < D.views.length) {
+    $("view").value = asked; view = D.views[asked]; caption(); await pose();
+  }
   const done = document.createElement("p");
   done.id = "viewer-ready"; done.hidden = true;
   done.textContent = "ready " + D.views.length + " views in " + Math.round(performance.now()) + " ms";
