@@ -203,7 +203,8 @@ _SCRIPT = r"""
     .pipeThrough(new DecompressionStream("gzip"))).text();
   const lib = document.createElement("script");
   lib.textContent = code;
-  document.head.appendChild(lib);
+  document.head.appendChild(lib);                // runs it: window.Plotly
+  lib.remove(); $("plotly-gz").remove();         // 7 MB of text the page no longer needs
   const D = JSON.parse($("quaver-data").textContent);
   const P = D.points, E = D.members.names.length, N = D.nodes.names.length, B = D.base, X = D.nodes.xyz;
   const unit = D.extent_m / D.steps;
