@@ -160,3 +160,24 @@ def test_a_failed_view_leaves_no_file_and_keeps_the_results(tiny, tmp_path, monk
     assert w.notice.startswith(f"{_fake_pictures()}; 3D view not written: UnicodeEncodeError: ")
     assert (w.path / "results.json").is_file() and (w.path / "report.html").is_file()
     assert not [f.name for f in w.path.iterdir() if f.name.startswith("viewer")]
+
+
+def test_a_large_model_page_is_bounded(rack, monkeypatch):
+    """Past the budget of numbers, members are drawn straight, then the last shapes are left out,
+    and the page says so (every shape stays in results.json)."""
+    model = rack.model
+    shapes = len(rack.statics) + rack["MODES"].shapes.shape[2]
+    straight = 3 * (2 * model.n_members + model.n_nodes)          # numbers of one shape at 2 points a member
+
+    def data():
+        return json.loads(_block(viewer.viewer_html(rack), "quaver-data"))
+
+    monkeypatch.setattr(viewer, "BUDGET", shapes * straight)
+    d = data()
+    assert d["points"] == 2 and len(d["views"]) == shapes and d["left_out"] == ""
+    monkeypatch.setattr(viewer, "BUDGET", 10 * straight)
+    d = data()
+    assert d["points"] == 2 and len(d["views"]) == 10                  # the 4 static shapes, modes 1 to 6
+    assert d["left_out"] == (f"{shapes - 10} of the {shapes} shapes left out to keep the page small "
+                             "(from Modes: MODES, mode 7: " + f"{rack['MODES'].modes.freq[6]:.4g} Hz); "
+                             "every shape is in results.json")

@@ -43,6 +43,10 @@ __all__ = ["SCHEMA", "VIEWER", "viewer_html", "write_viewer"]
 VIEWER = "viewer.html"
 SCHEMA = "quaver-viewer/1"
 STEPS = 10_000       # curve offsets are integers in extent / STEPS: 0.01 % of the model's size
+# numbers of the shapes in one page (curve integers plus node values): the rack's 50 shapes hold
+# about 74 000; beyond the budget, members are drawn straight (2 points) and then the last shapes
+# are left out, with a note in the page, so a large model's page stays near 20 MB (our choice)
+BUDGET = 4_000_000
 
 
 @functools.cache
@@ -88,20 +92,27 @@ def _data(results) -> dict:
     extent = float(max(np.max(hi - lo), 1e-9))
     length = shape_scale(model)
     units = units_of(results)
-    per = units.per_si("length")
+    to_unit = units.per_si("length")
+    shapes = _shapes(results)
     p = points_per_member(model.n_members)
+    numbers = lambda q: 3 * (model.n_members * q + model.n_nodes)    # numbers a shape holds at q points
+    if len(shapes) * numbers(p) > BUDGET:
+        p = 2
+    keep = max(1, min(len(shapes), BUDGET // numbers(p)))
+    left = (f"{len(shapes) - keep} of the {len(shapes)} shapes left out to keep the page small "
+            f"(from {shapes[keep][0]}, {shapes[keep][1]}); every shape is in results.json" if keep < len(shapes) else "")
     prepared = prepare_curves(model, p)
     held = np.asarray(model.restraint, bool) | (np.asarray(model.springs) != 0)
     dirs = np.array(["ux", "uy", "uz", "rx", "ry", "rz"])
     supports = [int(i) for i in np.flatnonzero(held.any(axis=1))]
     views = []
-    for group, label, kind, shape in _shapes(results):
+    for group, label, kind, shape in shapes[:keep]:
         curves = member_curves(model, shape, prepared=prepared)
         k = drawing_scale(curves, shape, length)
         top = float(np.abs(shape[:, :3]).max(initial=0.0))
         if kind == "static":
             scale = (f"Deflections drawn {k:.3g} times true size; largest translation "
-                     f"{top * per:.4g} {units.label('length')}")
+                     f"{top * to_unit:.4g} {units.label('length')}")
         else:
             scale = f"Shape drawn {k:.3g} times its {'mass-normalised' if group.startswith('Modes') else 'unit'} size"
         views.append({"group": group, "label": label, "kind": kind, "scale": k, "scale_text": scale,
@@ -118,6 +129,7 @@ def _data(results) -> dict:
         "base": _sig(_base(model, prepared)),
         "supports": [{"node": i, "held": " ".join(dirs[held[i]])} for i in supports],
         "views": views,
+        "left_out": left,
     }
 
 
@@ -258,12 +270,16 @@ _SCRIPT = r"""
   });
   [traces[1].x, traces[1].y, traces[1].z] = lines(1);
   [traces[2].x, traces[2].y, traces[2].z] = nodes(1);
-  await Plotly.newPlot("plot", traces, {
+  const size = [0, 1, 2].map((a) => { const c = X.filter((_, i) => i % 3 === a); return Math.max(...c) - Math.min(...c); });
+  const big = Math.max(...size) || 1, ratio = size.map((d) => Math.max(d, 0.05 * big) / big);
+  await Plotly.newPlot("plot", traces, {       // true proportions, the longest side 1: the whole model in view
     margin: {l: 0, r: 0, t: 0, b: 0}, showlegend: true, uirevision: "keep", legend: {x: 0, y: 1},
-    scene: {aspectmode: "data", xaxis: {title: {text: "X (m)"}}, yaxis: {title: {text: "Y (m)"}},
-            zaxis: {title: {text: "Z (m)"}}},
+    scene: {aspectmode: "manual", aspectratio: {x: ratio[0], y: ratio[1], z: ratio[2]},
+            camera: {eye: {x: 0.9, y: -0.9, z: 0.6}},
+            xaxis: {title: {text: "X (m)"}}, yaxis: {title: {text: "Y (m)"}}, zaxis: {title: {text: "Z (m)"}}},
   }, {responsive: true, displaylogo: false});
   caption();
+  if (D.left_out) status.textContent = D.left_out + ".";
   const pose = () => { amp = $("pose").value / 100; return draw(); };
   $("view").onchange = () => { view = D.views[+$("view").value]; caption(); pose(); };
   $("mult").onchange = () => { mult = +$("mult").value; caption(); pose(); };
