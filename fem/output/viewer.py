@@ -44,9 +44,9 @@ VIEWER = "viewer.html"
 SCHEMA = "quaver-viewer/1"
 STEPS = 10_000       # curve offsets are integers in extent / STEPS: 0.01 % of the model's size
 # numbers of the shapes in one page (curve integers plus node values): the rack's 50 shapes hold
-# about 74 000; beyond the budget, members are drawn straight (2 points) and then the last shapes
-# are left out, with a note in the page, so a large model's page stays near 20 MB (our choice)
-BUDGET = 4_000_000
+# about 86 000; beyond the budget, members are drawn straight (2 points) and then the last shapes
+# are left out, with a note in the page, so a large model's page stays under about 15 MB (our choice)
+BUDGET = 2_000_000
 
 
 @functools.cache
