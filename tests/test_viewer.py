@@ -113,11 +113,29 @@ def test_page_loads_in_headless_browser(rack, page, tmp_path):
         pytest.skip("no Chromium here")
     d = _data(page)
     last = len(d["views"]) - 1          # opened on the last mode: the shape list, caption and restyle all run
+    # a reviewer's clicks, once the page is ready: Animate, then (0.7 s later) Stop and Scale 4
+    clicks = """<script>
+    const wait = setInterval(() => {
+      if (!document.getElementById("viewer-ready")) return;
+      clearInterval(wait);
+      const $ = (id) => document.getElementById(id);
+      $("play").click();
+      const seen = new Set(), look = setInterval(() => seen.add($("pose").value), 50);
+      setTimeout(() => {
+        clearInterval(look);
+        const p = document.createElement("p"); p.id = "clicked";
+        p.textContent = "poses " + seen.size + " " + $("play").textContent; document.body.appendChild(p);
+        $("play").click(); $("mult").value = "4"; $("mult").onchange();
+      }, 700);
+    }, 50);
+    </script></body>"""
+    clicked = tmp_path / "clicked.html"
+    clicked.write_text(page.read_text(encoding="utf-8").replace("</body>", clicks), encoding="utf-8")
     flags = ["--headless", "--no-sandbox", "--disable-gpu", "--enable-unsafe-swiftshader", "--disable-quic",
              "--no-first-run", "--disable-background-networking", "--disable-component-update", "--disable-sync",
              f"--user-data-dir={tmp_path / 'profile'}", "--enable-logging=stderr", "--v=0",
              "--virtual-time-budget=30000"]
-    dom = subprocess.run([exe, *flags, "--dump-dom", f"{page.as_uri()}#{last}"],
+    dom = subprocess.run([exe, *flags, "--dump-dom", f"{clicked.as_uri()}#{last}"],
                          capture_output=True, text=True, timeout=180)
     assert dom.returncode == 0, dom.stderr[-1500:]
     errors = [ln for ln in dom.stderr.splitlines()
@@ -127,6 +145,9 @@ def test_page_loads_in_headless_browser(rack, page, tmp_path):
     assert re.search(r'id="status">\s*</p>', dom.stdout)                   # no error shown
     caption = re.search(r'id="caption">([^<]*)<', dom.stdout).group(1)
     assert caption.startswith(f"Modes: MODES / {d['views'][last]['label']}. Shape drawn")
+    assert caption.endswith(", then times 4 (Scale).")
+    poses = re.search(r'id="clicked">poses (\d+) Stop<', dom.stdout)          # it moved while animating
+    assert poses and int(poses.group(1)) >= 3, dom.stdout[-500:]
     assert dom.stdout.count("<option") == len(d["views"]) + 6                # shapes, and the 6 scales
     assert "<svg" in dom.stdout and "<canvas" in dom.stdout                  # plotly drew the scene
 

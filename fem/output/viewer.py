@@ -182,6 +182,7 @@ select,button{font:inherit}
 #plot{height:calc(100vh - 9em);min-height:360px}
 #caption{margin:.3em 1em}
 .caution{margin:.2em 1em .6em;font-size:.85em;color:#5a4a1e}
+.key{margin:.2em 1em;font-size:.9em}
 #status{color:#8a2c1b}
 </style></head><body>
 <header><h1>%TITLE%</h1>
@@ -193,6 +194,8 @@ select,button{font:inherit}
 </header>
 <div id="plot"></div>
 <p id="caption"></p><p id="status"></p>
+<p class="key">Colour: each point's motion in the shape chosen, relative to its largest (dark blue none, yellow the
+largest). Drag to turn, scroll to zoom; hover a member, node or support for its name.</p>
 <p class="caution">Caution: results support, and never replace, the judgement of a qualified engineer;
 local codes and licensed practice govern. Shapes are drawn enlarged; the numbers are in results.json.</p>
 <script type="application/json" id="quaver-data">%DATA%</script>
@@ -220,7 +223,7 @@ _SCRIPT = r"""
   const D = JSON.parse($("quaver-data").textContent);
   const P = D.points, E = D.members.names.length, N = D.nodes.names.length, B = D.base, X = D.nodes.xyz;
   const unit = D.extent_m / D.steps;
-  let view = D.views[0], amp = 1, mult = 1, playing = false, t0 = 0, last = 0;
+  let view = D.views[0], amp = 1, mult = 1, playing = false, t0 = 0;
   const lines = (f) => {            // member curves, one polyline per member, null between them
     const x = [], y = [], z = [], c = view.curve, g = f * unit;
     for (let e = 0; e < E; e++) {
@@ -239,6 +242,15 @@ _SCRIPT = r"""
     }
     return [x, y, z];
   };
+  const motion = () => {             // colour: the shape's motion at each point, relative to its largest
+    const c = view.curve, m = [];
+    for (let e = 0; e < E; e++) {
+      for (let p = 0; p < P; p++) { const i = 3 * (e * P + p); m.push(Math.hypot(c[i], c[i + 1], c[i + 2])); }
+      m.push(0);
+    }
+    const top = m.reduce((a, b) => Math.max(a, b), 0) || 1;
+    return m.map((v) => v / top);
+  };
   const names = [];
   for (let e = 0; e < E; e++) { for (let p = 0; p < P; p++) names.push(D.members.names[e]); names.push(null); }
   const [bx, by, bz] = lines(0);   // the undeformed curves
@@ -246,8 +258,8 @@ _SCRIPT = r"""
   const traces = [
     {type: "scatter3d", mode: "lines", name: "undeformed", x: bx, y: by, z: bz, hoverinfo: "skip",
      line: {color: "#b8c0c8", width: 2}},
-    {type: "scatter3d", mode: "lines", name: "members", text: names, hoverinfo: "text",
-     line: {color: "#1f6f8b", width: 5}},
+    {type: "scatter3d", mode: "lines", name: "members", text: names, hoverinfo: "text", showlegend: false,
+     line: {color: motion(), colorscale: "Cividis", cmin: 0, cmax: 1, width: 5}},
     {type: "scatter3d", mode: "markers", name: "nodes", text: D.nodes.names, hoverinfo: "text",
      marker: {size: 2.5, color: "#27323d"}},
     {type: "scatter3d", mode: "markers", name: "supports", x: s.map((n) => X[3 * n]), y: s.map((n) => X[3 * n + 1]),
@@ -270,7 +282,10 @@ _SCRIPT = r"""
   });
   [traces[1].x, traces[1].y, traces[1].z] = lines(1);
   [traces[2].x, traces[2].y, traces[2].z] = nodes(1);
-  const size = [0, 1, 2].map((a) => { const c = X.filter((_, i) => i % 3 === a); return Math.max(...c) - Math.min(...c); });
+  const size = [0, 1, 2].map((a) => {
+    const c = X.filter((_, i) => i % 3 === a);
+    return c.reduce((h, v) => Math.max(h, v), -Infinity) - c.reduce((l, v) => Math.min(l, v), Infinity);
+  });
   const big = Math.max(...size) || 1, ratio = size.map((d) => Math.max(d, 0.05 * big) / big);
   await Plotly.newPlot("plot", traces, {       // true proportions, the longest side 1: the whole model in view
     margin: {l: 0, r: 0, t: 0, b: 0}, showlegend: true, uirevision: "keep", legend: {x: 0, y: 1},
@@ -281,27 +296,30 @@ _SCRIPT = r"""
   caption();
   if (D.left_out) status.textContent = D.left_out + ".";
   const pose = () => { amp = $("pose").value / 100; return draw(); };
-  $("view").onchange = () => { view = D.views[+$("view").value]; caption(); pose(); };
+  const pick = (i) => {
+    view = D.views[i]; caption();
+    return Plotly.restyle("plot", {"line.color": [motion()]}, [1]).then(pose);
+  };
+  $("view").onchange = () => pick(+$("view").value);
   $("mult").onchange = () => { mult = +$("mult").value; caption(); pose(); };
   $("pose").oninput = () => { if (!playing) pose(); };
-  const step = (now) => {
-    if (!playing) return;
-    if (now - last > 40) {          // about 25 poses a second, one cycle in two seconds
-      last = now;
-      const w = Math.PI * (now - t0) / 1000;
-      amp = view.kind === "mode" ? Math.sin(w) : (1 - Math.cos(w)) / 2;
-      $("pose").value = Math.round(100 * amp);
-      draw();
-    }
-    requestAnimationFrame(step);
+  let timer = null, busy = false;
+  const step = () => {              // 25 poses a second, one cycle in two seconds; a slow pose skips the next
+    if (busy) return;
+    const w = Math.PI * (performance.now() - t0) / 1000;
+    amp = view.kind === "mode" ? Math.sin(w) : (1 - Math.cos(w)) / 2;
+    $("pose").value = Math.round(100 * amp);
+    busy = true;
+    draw().finally(() => { busy = false; });
   };
   $("play").onclick = () => {
     playing = !playing; $("play").textContent = playing ? "Stop" : "Animate";
-    if (playing) { t0 = performance.now(); requestAnimationFrame(step); } else pose();
+    clearInterval(timer);
+    if (playing) { t0 = performance.now(); timer = setInterval(step, 40); } else pose();
   };
   const asked = +location.hash.slice(1);     // viewer.html#12 opens on the 13th shape of the list
   if (location.hash && Number.isInteger(asked) && asked >= 0 && asked < D.views.length) {
-    $("view").value = asked; view = D.views[asked]; caption(); await pose();
+    $("view").value = asked; await pick(asked);
   }
   const done = document.createElement("p");
   done.id = "viewer-ready"; done.hidden = true;
