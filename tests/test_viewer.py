@@ -202,3 +202,13 @@ def test_a_large_model_page_is_bounded(rack, monkeypatch):
     assert d["left_out"] == (f"{shapes - 10} of the {shapes} shapes left out to keep the page small "
                              "(from Modes: MODES, mode 7: " + f"{rack['MODES'].modes.freq[6]:.4g} Hz); "
                              "every shape is in results.json")
+
+
+def test_a_title_cannot_break_the_page():
+    title = 'rack </script><!-- %DATA% %PLOTLY% <b>'
+    results = solve(read_text(TINY_CANTILEVER.replace('"tiny cantilever"', f'"{title}"')))
+    text = viewer.viewer_html(results)
+    assert _block(text, "quaver-data").count("</") == 0
+    assert json.loads(_block(text, "quaver-data"))["title"] == title
+    assert "<title>Quaver 3D view: rack &lt;/script&gt;&lt;!-- %DATA% %PLOTLY% &lt;b&gt;</title>" in text
+    assert text.count('id="plotly-gz"') == 1 and len(_block(text, "plotly-gz")) > 1_000_000

@@ -34,6 +34,7 @@ import gzip
 import html
 import json
 import os
+import re
 from pathlib import Path
 
 import numpy as np
@@ -110,17 +111,21 @@ def _data(results) -> dict:
         curves = member_curves(model, shape, prepared=prepared)
         k = drawing_scale(curves, shape, length)
         top = float(np.abs(shape[:, :3]).max(initial=0.0))
-        if kind == "static":
+        if k == 0:
+            scale = "No motion to draw"
+        elif kind == "static":
             scale = (f"Deflections drawn {k:.3g} times true size; largest translation "
                      f"{top * to_unit:.4g} {units.label('length')}")
+        elif group.startswith("Modes"):
+            scale = f"Shape drawn {k:.3g} times its mass-normalised size"
         else:
-            scale = f"Shape drawn {k:.3g} times its {'mass-normalised' if group.startswith('Modes') else 'unit'} size"
+            scale = f"Shape drawn {k:.3g} times its size (largest translation 1)"
         views.append({"group": group, "label": label, "kind": kind, "scale": k, "scale_text": scale,
                       "nodes": _sig(shape[:, :3]),
                       "curve": np.rint(curves.disp * (k * STEPS / extent)).astype(int).ravel().tolist()})
     return {
         "schema": SCHEMA,
-        "title": model.title or (Path(model.source).stem if model.source else "model"),
+        "title": _data_title(results),
         "extent_m": extent,
         "steps": STEPS,
         "points": p,
@@ -143,10 +148,11 @@ def _base(model, prepared) -> np.ndarray:
 def viewer_html(results) -> str:
     """The text of viewer.html for `results`."""
     data = json.dumps(_data(results), separators=(",", ":"), allow_nan=False)
-    data = data.replace("</", "<\\/")                     # no '</script>' inside the block
-    title = html.escape(f"Quaver 3D view: {_data_title(results)}")
-    return (_PAGE.replace("%TITLE%", title).replace("%DATA%", data)
-            .replace("%PLOTLY%", _plotly_gz()).replace("%SCRIPT%", _SCRIPT))
+    parts = {"TITLE": html.escape(f"Quaver 3D view: {_data_title(results)}"),
+             "DATA": data.replace("<", "\\u003c"),          # no '</script>' or '<!--' inside the block
+             "PLOTLY": _plotly_gz(), "SCRIPT": _SCRIPT}
+    # one pass: a title or name holding '%DATA%' stays text
+    return re.sub(r"%(TITLE|DATA|PLOTLY|SCRIPT)%", lambda m: parts[m.group(1)], _PAGE)
 
 
 def _data_title(results) -> str:
