@@ -172,7 +172,8 @@ def write_viewer(results, out: Path) -> str | None:
         os.replace(part, Path(out) / VIEWER)
     except Exception as exc:   # noqa: BLE001 - the view is an extra; the results stand without it
         part.unlink(missing_ok=True)
-        return f"3D view not written: {type(exc).__name__}: {exc}"
+        first = (str(exc).splitlines() or [""])[0]
+        return f"3D view not written: {type(exc).__name__}: {first}"
     return None
 
 
