@@ -130,3 +130,69 @@ def test_modes_under_a_preload_take_the_links_geometric_term():
     r = fem.solve(column(8, load=0.8 * pcr, extra=modes))
     ratio = r["G"].modes.freq[0] / r["F"].modes.freq[0]
     assert ratio < 0.6, ratio       # 0.68 without the link term; about sqrt(1 - 0.8) = 0.45 with it
+
+
+def portal(c, n=8, h=4.0, b=6.0, zones="beam", stiff=None):
+    """A fixed-base one-bay portal, columns h and beam b of equal I (columns and beam nearly
+    inextensible, A = 0.1 m^2), 1 kN down at each column top, n members per column and beam.
+    zones = "beam": the beam's last c at each end is rigid (end offsets from the column tops);
+    "column": the columns' top c is rigid, as offsets of the top column members, or, with
+    `stiff`, as members that much stiffer than the columns."""
+    lines = ['material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }',
+             "section C = generic(A = 0.1 m^2, Iy = 8e-6 m^4, Iz = 8e-6 m^4, J = 1.6e-5 m^4)"]
+    hc = h - c if zones == "column" else h
+    bc = b - 2 * c if zones == "beam" else b
+    x0 = c if zones == "beam" else 0.0
+    for side, x in (("L", 0.0), ("R", b)):
+        lines += [f"node {side}{k} = ({x} m, 0, {hc * k / n} m)" for k in range(n)]
+        lines += [f"node {side}{n} = ({x} m, 0, {h} m)"]
+        cols = [f"member C{side}{k} : {side}{k} -> {side}{k + 1} beam C S" for k in range(n)]
+        if zones == "column" and stiff is None:
+            cols[-1] += f" offset_j = (0, 0, {-c} m)"
+        elif zones == "column":
+            lines += [f"node {side}E = ({x} m, 0, {hc} m)",
+                      f"section H{side} = generic(A = 0.1 m^2, Iy = {8e-6 * stiff} m^4, Iz = {8e-6 * stiff} m^4, "
+                      f"J = {1.6e-5 * stiff} m^4)", f"member Z{side} : {side}E -> {side}{n} beam H{side} S"]
+            cols[-1] = f"member C{side}{n - 1} : {side}{n - 1} -> {side}E beam C S"
+        lines += cols
+    lines += [f"node T{k} = ({x0 + bc * k / n} m, 0, {h} m)" for k in range(1, n)]
+    top = [f"L{n}", *[f"T{k}" for k in range(1, n)], f"R{n}"]
+    beams = [f"member B{k} : {top[k]} -> {top[k + 1]} beam C S" for k in range(n)]
+    if zones == "beam":
+        beams[0] += f" offset_i = ({c} m, 0, 0)"
+        beams[-1] += f" offset_j = ({-c} m, 0, 0)"
+    lines += beams + ["support L0 fixed", "support R0 fixed", "support * (uy, rx, rz)",
+                      f"case P static {{ force L{n} = (0, 0, -1 kN), force R{n} = (0, 0, -1 kN) }}",
+                      "case B buckling { loading = P, count = 2 }"]
+    return fem.read_text("\n".join(lines))
+
+
+@pytest.mark.parametrize("c", [0.5, 1.0])
+def test_sway_portal_with_rigid_beam_ends_against_the_alignment_chart_equation(c):
+    """The sway-frame equation (G_A G_B x^2 - 36) / (6 (G_A + G_B)) = x / tan x, P_cr =
+    x^2 E I / h^2, G_B = 0 at the fixed bases (the effective-length chart's equation: AISC 360-16
+    Commentary, Appendix 7, eq. C-A-7-2, from memory; exact for this symmetric portal, see
+    tests/test_buckling.py), with the girder's end stiffness in double curvature for a beam whose
+    last c at each end is rigid: slope-deflection on the elastic length b' = b - 2c whose ends
+    turn by theta and move c theta up and down gives end moments (6 E I / b')(1 + 2c/b') theta,
+    carried to the nodes by the shear 2 M / b' over the arms: (6 E I / b')(1 + 2c/b')^2 theta,
+    so G_A = (I / h) / ((I / b')(1 + 2c/b')^2). 8 elements a member: tolerance 3e-5 (measured
+    4e-7 without offsets, 5.6e-6 with c = 1 m)."""
+    h, b = 4.0, 6.0
+    bp = b - 2 * c
+    G = (I / h) / ((I / bp) * (1 + 2 * c / bp) ** 2)
+    x = brentq(lambda x: x / np.tan(x) + 6 / G, np.pi / 2 + 1e-9, np.pi - 1e-9)
+    assert fem.solve(portal(c))["B"].factors[0] * 1e3 == pytest.approx(x ** 2 * E * I / h ** 2, rel=3e-5)
+
+
+def test_sway_portal_with_rigid_column_tops_converges_from_stiff_members():
+    """Columns whose top 0.8 m is rigid (offsets carrying the column load, so their arm term
+    acts) against the same zones as members 100 and 10^4 times stiffer (the members' own
+    geometric stiffness, independent of the arm term): the gap to the offsets' factor falls as
+    1/stiffness (> 50-fold) and is below 1e-4 at 10^4 (without the arm term it was 0.16), and
+    the 100x gap is below a tenth of the rigid zones' own effect (the change from c = 0)."""
+    lam = fem.solve(portal(0.8, zones="column"))["B"].factors[0]
+    gaps = [abs(fem.solve(portal(0.8, zones="column", stiff=s))["B"].factors[0] / lam - 1) for s in (1e2, 1e4)]
+    assert gaps[1] < 1e-4 and gaps[0] / gaps[1] > 50
+    effect = abs(fem.solve(portal(0.0))["B"].factors[0] / lam - 1)
+    assert gaps[0] < 0.1 * effect
