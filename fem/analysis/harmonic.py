@@ -74,6 +74,9 @@ class HarmonicResult:
     listed: bool = False                # the frequencies are the case's list (at), not a sweep
     limits: tuple = ()                  # LimitCheck, ...: the case's vibration limits checked (vibration_check.py)
     stresses: object = None             # fem.analysis.stress.MemberStresses: amplitudes, largest over freq
+    links: np.ndarray = None            # (d,) largest force amplitude of the rigid links at their linked DOFs
+    link_freq: np.ndarray = None        # (d,) Hz, where
+    link_lag: np.ndarray = None         # (d,) degrees, lag there
 
     def velocity(self) -> np.ndarray:
         """(m, r, 3) complex velocity amplitudes of the recorded nodes' translations, m/s:
@@ -362,6 +365,9 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                      f"{complete:.4g} Hz, less than {MARGIN:g} times the top of the sweep ({top:.4g} Hz); "
                      "modes just above the band respond dynamically there, beyond any static correction: "
                      f"ask for modes up to at least {MARGIN * top:.4g} Hz",)
+    from .link_dynamics import harmonic_link_peaks
+
+    lk = harmonic_link_peaks(model, asm, case, H, shapes, W, S, static) or (None, None, None)
     return HarmonicResult(case.name, freq, record, u, peak.reshape(-1, 6), peak_f.reshape(-1, 6),
                           zeta, static is not None, float(omega.max() / (2 * np.pi)),
                           r_peak.reshape(-1, 6), m_peak.reshape(-1, 12), _lags(peak_c).reshape(-1, 6),
@@ -369,7 +375,8 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           m_peak_f.reshape(-1, 12), _lags(m_peak_c).reshape(-1, 12),
                           support, reactions, members, member_forces, warnings, complete,
                           vel.reshape(-1, 3), vel_f.reshape(-1, 3), acc.reshape(-1, 3), acc_f.reshape(-1, 3),
-                          case.ground, case.at is not None, limits, stresses)
+                          case.ground, case.at is not None, limits, stresses, lk[0], lk[1],
+                          None if lk[2] is None else _lags(lk[2]))
 
 
 def _stresses(model, H, Fm, m_static, freq):

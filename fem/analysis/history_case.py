@@ -47,6 +47,8 @@ class HistoryResult:
     warnings: tuple = ()
     stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
     series: HistorySeries = None    # every field at every step, as columns times their histories
+    links: np.ndarray = None        # (d,) largest |force| of the rigid links at their linked DOFs (link_dynamics)
+    link_times: np.ndarray = None   # (d,) s, when
 
 
 class HistorySeries(NamedTuple):
@@ -180,11 +182,15 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
     # animation frames spaced by the modes that matter, the step of the largest motion among them
     frames = frame_indices(t, q, modal.shapes, omega, [peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
+    from .link_dynamics import history_link_peaks
+
+    l_peak, l_time = history_link_peaks(model, asm, groups, shapes, own["displacement"], qg, acc, a_ground,
+                                        np.array(G).T, t)
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                          t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses,
-                         HistorySeries(qg, own))
+                         HistorySeries(qg, own), l_peak, l_time)
 
 
 def _stresses(model, qg, columns, G, lines, t):

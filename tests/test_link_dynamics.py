@@ -1,0 +1,100 @@
+"""Rigid link forces in free, history and harmonic cases, against single-DOF closed forms.
+
+The model: node A on a spring k in X (its other directions held), a rigid link carrying a
+100 kg mass at B, 1 m above A; a massless truss below A keeps the model a frame. One mode,
+w = sqrt(k / m). The link's force on B is what moves the mass: p = m a (absolute) minus the
+load applied at B, i.e. minus the force k u + c u' the spring and damper pass to the ground.
+"""
+
+import json
+
+import numpy as np
+import pytest
+
+import fem
+
+K, M = 1e5, 100.0
+W = np.sqrt(K / M)
+DECK = """
+material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
+section P = round(d = 20 mm)
+node A = (0, 0, 0)
+node B = (0, 0, 1 m)
+node G = (0, 0, -1 m)
+member T : G -> A truss P S
+support G fixed
+spring A (ux = 1e5 N/m)
+support A (uy, uz, rx, ry, rz)
+link R: A -> B
+mass B = 100 kg
+case MO modes { count = 1 }
+case FR free { displacement A = (2 mm, 0, 0), duration = 0.5 s, step = 0.001 s }
+case HI history { force B = (1 kN, 0, 0), time = step, duration = 0.5 s, step = 0.0005 s }
+case GR history { ground = (1 m/s^2, 0, 0), time = step, duration = 0.5 s, step = 0.0005 s }
+case H3 harmonic { force B = (1 kN, 0, 0), at = (3 Hz, 7 Hz), damping = 2 percent }
+case HG harmonic { ground = (1 m/s^2, 0, 0), at = (4 Hz), damping = 5 percent }
+"""
+
+
+@pytest.fixture(scope="module")
+def results():
+    return fem.solve(fem.read_text(DECK))
+
+
+def test_free_vibration_link_force_is_the_mass_times_its_acceleration(results):
+    """Released from u0: u = u0 cos wt, so p = m u'' = -k u0 cos wt, largest k u0 at t = 0
+    (Chopra, Dynamics of Structures, sec. 2.1, free vibration of an undamped SDOF; exact at the
+    samples: round-off tolerance). No moment: the mass has no rotary inertia and sits on X's
+    line of action through B."""
+    r = results["FR"]
+    assert r.links[0] == pytest.approx(K * 2e-3, rel=1e-9)
+    assert r.link_times[0] == 0.0
+    assert np.abs(r.links[1:]).max() < 1e-9 * r.links[0]
+
+
+def test_step_force_and_step_ground_acceleration_double_the_static_force(results):
+    """A step force F at B: u = (F / k)(1 - cos wt) (Chopra sec. 4.3, step force), p = m u'' - F =
+    -F (1 - cos wt), largest 2F at odd multiples of T / 2. A step ground acceleration a_g:
+    u'' + a_g = a_g (1 - cos wt) absolute, p = m a_g (1 - cos wt), largest 2 m a_g. Sampled at
+    dt = 0.0005 s: the sample nearest the crest misses it by at most 1 - cos(w dt / 2) ~ 4e-5
+    relative; tolerance 1e-4. The time must be a crest: within dt of an odd multiple of T / 2."""
+    half = np.pi / W
+    for name, expect in (("HI", 2e3), ("GR", 2 * M * 1.0)):
+        r = results[name]
+        assert r.links[0] == pytest.approx(expect, rel=1e-4)
+        crest = r.link_times[0] / half
+        assert abs(crest - round(crest)) < 0.0005 / half and round(crest) % 2 == 1
+
+
+def test_harmonic_link_force_is_the_force_transmissibility(results):
+    """Steady force F cos(Wt) at B: the link passes the spring's and damper's force, |p| = F TR,
+    TR = sqrt(1 + (2 zeta r)^2) / sqrt((1 - r^2)^2 + (2 zeta r)^2) (Chopra sec. 3.5, force
+    transmissibility; shared/reference-values.md sec. 5, H); the larger of 3 and 7 Hz is 3 Hz here.
+    For a ground acceleration a_g the link moves the mass: |p| = m a_g TR (the same ratio for the
+    total acceleration). Modal superposition of one exact mode: round-off tolerance."""
+    def tr(f, z):
+        r = 2 * np.pi * f / W
+        return np.hypot(1, 2 * z * r) / np.hypot(1 - r ** 2, 2 * z * r)
+
+    r = results["H3"]
+    assert tr(3, 0.02) > tr(7, 0.02)
+    assert r.links[0] == pytest.approx(1e3 * tr(3, 0.02), rel=1e-9)
+    assert r.link_freq[0] == 3.0
+    g = results["HG"]
+    assert g.links[0] == pytest.approx(M * tr(4, 0.05), rel=1e-9)
+
+
+def test_link_force_peaks_are_written(tmp_path):
+    """results.json carries the peaks and their times (frequencies, lags); link_force_peaks.csv a
+    row per case, follower and linked direction."""
+    results = fem.solve(fem.read_text(DECK))
+    fem.write_results(results, tmp_path / "out", write="tables")
+    doc = json.loads((tmp_path / "out" / "results.json").read_text())
+    cases = {c["name"]: c for c in doc["cases"]}
+    assert cases["HI"]["link_forces"]["R"]["B"][0] == pytest.approx(2e3, rel=1e-4)
+    assert cases["HI"]["link_force_time_s"]["R"]["B"][0] > 0
+    assert cases["H3"]["link_force_frequency_Hz"]["R"]["B"][0] == 3.0
+    assert "link_force_lag_deg" in cases["H3"]
+    rows = (tmp_path / "out" / "link_force_peaks.csv").read_text().splitlines()
+    assert rows[0] == "case,link,node,reference,direction,peak,time_s,frequency_Hz,lag_deg"
+    assert len(rows) == 1 + 5 * 6
