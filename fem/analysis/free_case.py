@@ -179,7 +179,13 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     # displacements: peaks of the forces themselves, not forces of the peak displacements
     k = len(omega)
     Rm, Fm = field_responses(model, asm, modal.shapes.reshape(6 * model.n_nodes, -1).T)
-    r_peak, _ = peaks(q, Rm.reshape(k, -1).T, t)
+    from .link_dynamics import inertia_columns
+
+    acc = -omega ** 2 * q - 2 * zeta * omega * qd
+    carried = inertia_columns(model, asm, modal.shapes.reshape(6 * model.n_nodes, -1))
+    # the inertia links and masses off their nodes carry into supports joins the elastic K u
+    r_peak, _ = peaks(q, Rm.reshape(k, -1).T, t) if carried is None else \
+        peaks(np.hstack([q, acc]), np.hstack([Rm.reshape(k, -1).T, carried[0]]), t)
     m_peak, _ = peaks(q, Fm.reshape(k, -1).T, t)
     # the support forces at the start, K u0, against those the retained modes hold, K Phi q0:
     # a load carried by stiffer paths than the retained modes (a vertical load down a mast's legs)
@@ -207,8 +213,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
                                linear=(q, cols.T))
     from .link_dynamics import free_link_peaks
 
-    l_peak, l_time = free_link_peaks(asm, modal.shapes.reshape(6 * model.n_nodes, -1), q,
-                                     -omega ** 2 * q - 2 * zeta * omega * qd, t)
+    l_peak, l_time = free_link_peaks(asm, modal.shapes.reshape(6 * model.n_nodes, -1), q, acc, t)
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
                           captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                           rel, ft, frames, warnings, start_error, rounding, ok, stresses, l_peak, l_time)

@@ -323,14 +323,21 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         r_static.append(r)
         m_static.append(m)
     r_static, m_static = parts(r_static), parts(m_static)
-    r_peak, r_peak_f, r_peak_c = _amplitude_peaks(H, Rm.reshape(len(omega), -1).T, freq, r_static)
+    from .link_dynamics import harmonic_inertia
+
+    # the inertia links and masses off their nodes carry into supports joins the elastic K u
+    extra = harmonic_inertia(model, asm, case, H, shapes, W, static)
+    Hr, Br = (H, Rm.reshape(len(omega), -1).T) if extra is None else \
+        (np.hstack([H, extra[0]]), np.hstack([Rm.reshape(len(omega), -1).T, extra[1]]))
+    r_peak, r_peak_f, r_peak_c = _amplitude_peaks(Hr, Br, freq, r_static)
     m_peak, m_peak_f, m_peak_c = _amplitude_peaks(H, Fm.reshape(len(omega), -1).T, freq, m_static)
     u = np.einsum("wk,rdk->wrd", H, modal.shapes[record])
     if static is not None:
         u = u + _columns(static, (6 * record[:, None] + np.arange(6)).ravel(), (len(record), 6))
     # complex reactions at every support and end forces of the members at the recorded nodes
-    reactions = (np.einsum("wk,ksd->wsd", H, Rm[:, support])
-                 + _columns(r_static, (6 * support[:, None] + np.arange(6)).ravel(), (len(support), 6)))
+    sdofs = (6 * support[:, None] + np.arange(6)).ravel()
+    reactions = (np.einsum("wk,ksd->wsd", H, Rm[:, support]) + _columns(r_static, sdofs, (len(support), 6))
+                 + (0 if extra is None else (extra[0] @ extra[1][sdofs].T).reshape(len(freq), len(support), 6)))
     # velocity and acceleration of the translations at every node, absolute: with the ground's
     # displacement -a_g / W^2 for a ground acceleration
     moving = (6 * np.arange(model.n_nodes)[:, None] + np.arange(3)).ravel()

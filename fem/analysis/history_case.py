@@ -163,7 +163,11 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     Rm, Fm = field_responses(model, asm, shapes.T)
     own = {"displacement": np.array(statics).T, "reaction": np.array(r_statics).T, "end_force": np.array(m_statics).T}
     peak, peak_t = peaks(qg, np.hstack([shapes, own["displacement"]]), t)
-    r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, own["reaction"]]), t)
+    from .link_dynamics import inertia_columns
+
+    carried = inertia_columns(model, asm, shapes)     # inertia links and masses off nodes carry into supports
+    r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, own["reaction"]]), t) if carried is None else \
+        peaks(np.hstack([qg, acc, a_ground]), np.hstack([Rm.reshape(k, -1).T, own["reaction"], *carried]), t)
     m_peak, _ = peaks(qg, np.hstack([Fm.reshape(k, -1).T, own["end_force"]]), t)
     stresses = _stresses(model, qg, np.hstack([Fm.reshape(k, -1).T, own["end_force"]]), np.array(G).T,
                          np.array(lines), t)

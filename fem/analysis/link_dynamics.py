@@ -14,7 +14,8 @@ import numpy as np
 
 from ..assembly import Assembled
 
-__all__ = ["free_link_peaks", "harmonic_link_peaks", "history_link_peaks"]
+__all__ = ["carried_ground", "carried_inertia", "free_link_peaks", "harmonic_link_peaks", "harmonic_inertia", "history_link_peaks",
+           "inertia_columns"]
 
 
 def _ground_columns(asm: Assembled, n_nodes: int) -> np.ndarray:
@@ -78,3 +79,77 @@ def harmonic_link_peaks(model, asm: Assembled, case, H, shapes, W, S, static):
         basis.append(_ground_columns(asm, model.n_nodes) @ np.asarray(case.ground, float)[:, None])
     freq = W / (2 * np.pi)
     return _amplitude_peaks(np.hstack(cols).astype(complex), np.hstack(basis).astype(complex), freq)
+
+
+def carried_inertia(model, asm: Assembled):
+    """(6n, 6n) CSR, or None where there is none: per unit absolute acceleration, the inertia
+    forces that reach the supports beyond the elastic reactions K u of the reduced model. At a
+    supported DOF of a link's reference node the support holds (T^T (K u + M a - f)) there, of
+    which the reduced K u and loads are in the reactions already; the rest is what the link
+    carries from its followers' inertia, T^T (M a) from the linked DOFs. At a supported node
+    with a mass off it, the coupling of the mass's offset centre (its rotation moves the mass,
+    fem.geometry.offset_mass). A supported node's own inertia on its own held DOFs is left out,
+    as at every support (reactions are of the structure, not of the support's mass)."""
+    import scipy.sparse as sp
+
+    parts = []
+    if asm.link_mass is not None and asm.T is not None:
+        parts.append(asm.T[asm.linked].T @ asm.link_mass)
+    if model.mass_coupling is not None:
+        parts.append(sp.block_diag(list(model.mass_coupling), format="csr"))
+    if not parts:
+        return None
+    held = model.restraint.ravel().astype(float)
+    X = (sp.diags(held) @ sum(parts[1:], parts[0])).tocsr()
+    X.eliminate_zeros()
+    return X if X.nnz else None
+
+
+def inertia_columns(model, asm: Assembled, shapes: np.ndarray):
+    """(C shapes (6n, k), C r (6n, 3)) with C = carried_inertia: the reactions' inertia part per
+    unit modal acceleration of each shape, and per unit ground acceleration X, Y, Z; or None."""
+    C = carried_inertia(model, asm)
+    if C is None:
+        return None
+    r = np.zeros((6 * model.n_nodes, 3))
+    for i in range(3):
+        r[i::6, i] = 1.0
+    return np.asarray(C @ shapes), np.asarray(C @ r)
+
+
+def harmonic_inertia(model, asm: Assembled, case, H, shapes, W, static):
+    """The reactions' inertia part (carried_inertia) over a sweep as (columns (m, c), basis
+    (6n, c)), the part being columns @ basis^T: the modes' -W^2 H (H (m, k) their amplitudes,
+    shapes (6n, k)), the static parts' -W^2 s (`static` as harmonic_link_peaks takes it), a
+    ground acceleration's a_g; None where nothing is carried."""
+    C = carried_inertia(model, asm)
+    if C is None:
+        return None
+    w2 = -(W[:, None] ** 2)
+    cols, basis = [w2 * H], [np.asarray(C @ shapes)]
+    if static is not None:
+        scale, parts = (np.ones((len(W), 1)), np.atleast_2d(static)) if isinstance(static, np.ndarray) else static
+        cols.append(w2 * scale)
+        basis.append(np.asarray(C @ parts.T))
+    if case.ground is not None:
+        r = np.zeros(6 * model.n_nodes)
+        for i in range(3):
+            r[i::6] = case.ground[i]
+        cols.append(np.ones((len(W), 1)))
+        basis.append(np.asarray(C @ r)[:, None])
+    return np.hstack(cols).astype(complex), np.hstack(basis).astype(complex)
+
+
+def carried_ground(model, asm: Assembled, r: np.ndarray) -> np.ndarray:
+    """(6n,) the part of a ground motion's effective load -M r a_g (per unit a_g, r (6n,) the
+    ground's motion at every DOF) that the inertia carried into supports adds on the free DOFs:
+    the mass a link carries to a supported reference node, or a mass off a supported node,
+    couples the support's motion to the node's free rotations (the counterweight on an arm at a
+    pinned foot is pushed round by a vertical ground motion). The coupling of members' consistent
+    mass across a support is left out, as in the rest of the ground-motion load. Zero when
+    nothing is carried."""
+    C = carried_inertia(model, asm)
+    if C is None:
+        return np.zeros(len(r))
+    out = np.asarray(C.T @ r)
+    return out if asm.T is None else np.asarray(asm.T.T @ out)
