@@ -170,9 +170,9 @@ def portal(c, n=8, h=4.0, b=6.0, zones="beam", stiff=None):
 @pytest.mark.parametrize("c", [0.5, 1.0])
 def test_sway_portal_with_rigid_beam_ends_against_the_alignment_chart_equation(c):
     """The sway-frame equation (G_A G_B x^2 - 36) / (6 (G_A + G_B)) = x / tan x, P_cr =
-    x^2 E I / h^2, G_B = 0 at the fixed bases (the effective-length chart's equation: AISC 360-16
-    Commentary, Appendix 7, eq. C-A-7-2, from memory; exact for this symmetric portal, see
-    tests/test_buckling.py), with the girder's end stiffness in double curvature for a beam whose
+    x^2 E I / h^2, G_B = 0 at the fixed bases (the sway-frame effective-length chart's equation,
+    AISC 360-05 Commentary, Fig. C-C2.4, confirmed in a published reproduction of that text;
+    exact for this symmetric portal, see tests/test_buckling.py), with the girder's end stiffness in double curvature for a beam whose
     last c at each end is rigid: slope-deflection on the elastic length b' = b - 2c whose ends
     turn by theta and move c theta up and down gives end moments (6 E I / b')(1 + 2c/b') theta,
     carried to the nodes by the shear 2 M / b' over the arms: (6 E I / b')(1 + 2c/b')^2 theta,

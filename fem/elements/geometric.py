@@ -9,8 +9,10 @@ in each bending plane (N/L) [[6/5, L/10, -6/5, L/10], [L/10, 2L^2/15, -L/10, -L^
 (Przemieniecki, Theory of Matrix Structural Analysis, 1968, sec. 15.3; McGuire, Gallagher and
 Ziemian, Matrix Structural Analysis, 2nd ed., 2000, sec. 9.3 and eq. 9.19), plus the twist term
 N Ip / (A L) [[1, -1], [-1, 1]] of a section whose shear centre is its centroid (the same
-source, from memory): a compressed member twists more easily (torsional buckling at
-N = G J A / Ip without warping stiffness). The end-moment terms of that source are left out:
+source, from memory; it is the weak form over a linear twist of the term (I0 P / A) theta'' of
+the torsion equation under an axial load, Megson, An Introduction to Aircraft Structural
+Analysis, 2010, ch. 8, eq. 8.70, confirmed): a compressed member twists more easily (torsional
+buckling at N = G J A / Ip without warping stiffness). The end-moment terms of that source are left out:
 only the axial force of the preload acts. Shear-flexible members use the same matrix (the
 deflection's slope, not the section's rotation, carries the force).
 
