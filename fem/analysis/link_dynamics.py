@@ -18,12 +18,17 @@ __all__ = ["carried_ground", "carried_inertia", "free_link_peaks", "harmonic_lin
            "inertia_columns"]
 
 
-def _ground_columns(asm: Assembled, n_nodes: int) -> np.ndarray:
-    """(d, 3) inertia at the linked DOFs of a unit absolute acceleration X, Y, Z of every node."""
+def _translations(n_nodes: int) -> np.ndarray:
+    """(6n, 3) unit translations X, Y, Z of every node."""
     r = np.zeros((6 * n_nodes, 3))
     for i in range(3):
         r[i::6, i] = 1.0
-    return np.asarray(asm.link_mass @ r)
+    return r
+
+
+def _ground_columns(asm: Assembled, n_nodes: int) -> np.ndarray:
+    """(d, 3) inertia at the linked DOFs of a unit absolute acceleration X, Y, Z of every node."""
+    return np.asarray(asm.link_mass @ _translations(n_nodes))
 
 
 def free_link_peaks(asm: Assembled, shapes: np.ndarray, q: np.ndarray, acc: np.ndarray, t: np.ndarray):
@@ -111,10 +116,7 @@ def inertia_columns(model, asm: Assembled, shapes: np.ndarray):
     C = carried_inertia(model, asm)
     if C is None:
         return None
-    r = np.zeros((6 * model.n_nodes, 3))
-    for i in range(3):
-        r[i::6, i] = 1.0
-    return np.asarray(C @ shapes), np.asarray(C @ r)
+    return np.asarray(C @ shapes), np.asarray(C @ _translations(model.n_nodes))
 
 
 def harmonic_inertia(model, asm: Assembled, case, H, shapes, W, static):
@@ -132,11 +134,8 @@ def harmonic_inertia(model, asm: Assembled, case, H, shapes, W, static):
         cols.append(w2 * scale)
         basis.append(np.asarray(C @ parts.T))
     if case.ground is not None:
-        r = np.zeros(6 * model.n_nodes)
-        for i in range(3):
-            r[i::6] = case.ground[i]
         cols.append(np.ones((len(W), 1)))
-        basis.append(np.asarray(C @ r)[:, None])
+        basis.append(np.asarray(C @ (_translations(model.n_nodes) @ np.asarray(case.ground, float)))[:, None])
     return np.hstack(cols).astype(complex), np.hstack(basis).astype(complex)
 
 
