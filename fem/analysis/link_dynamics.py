@@ -101,7 +101,9 @@ def carried_inertia(model, asm: Assembled):
     if asm.link_mass is not None and asm.T is not None:
         parts.append(asm.T[asm.linked].T @ asm.link_mass)
     if model.mass_coupling is not None:
-        parts.append(sp.block_diag(list(model.mass_coupling), format="csr"))
+        n = model.n_nodes
+        parts.append(sp.bsr_matrix((np.asarray(model.mass_coupling, float), np.arange(n), np.arange(n + 1)),
+                                   shape=(6 * n, 6 * n)).tocsr())
     if not parts:
         return None
     held = model.restraint.ravel().astype(float)
