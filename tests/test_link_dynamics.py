@@ -195,3 +195,20 @@ def test_a_mass_off_a_supported_node_acts_as_the_same_mass_on_a_link():
     for case in ("KNOCK", "FREE", "HUM"):
         np.testing.assert_allclose(off[case].reaction_peak[b], link[case].reaction_peak[c], rtol=1e-8,
                                    atol=1e-8 * np.abs(link[case].reaction_peak[c]).max(), err_msg=case)
+
+
+def test_spectrum_reactions_take_the_inertia_a_link_carries_with_the_missing_mass_term():
+    """The counterweight model under a design spectrum in X and Z with the missing-mass term on:
+    the link model's reaction peaks at the foot against the stiff-member model's (whose fast arm
+    modes hold what, on the link, rides with the support as part of the rigid term). Measured gap
+    2.5e-3 in X (the arm's modes have periods just off zero, where the curve is not quite its
+    zero-period value, and are combined by CQC rather than by the rigid term's rule) and 1e-6 in
+    Z; tolerance 5e-3. Before, the link model's were 32 N and 153 N against 2781 N and 4728 N.
+    The displacements (no inertia term in them, only the carried load) agree to 1e-5."""
+    sp = ("case EQ spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (1, 0, 1), "
+          "missing = on }\n")
+    link = fem.solve(fem.read_text(COUNTERWEIGHT + sp + "link ARM: B -> F"))
+    stiff = fem.solve(fem.read_text(COUNTERWEIGHT + sp + "member ARM : B -> F beam Q H"))
+    b, t = link.model.node_names.index("B"), link.model.node_names.index("T")
+    np.testing.assert_allclose(link["EQ"].reactions[b, [0, 2]], stiff["EQ"].reactions[b, [0, 2]], rtol=5e-3)
+    np.testing.assert_allclose(link["EQ"].u[t, [0, 2, 4]], stiff["EQ"].u[t, [0, 2, 4]], rtol=1e-5)
