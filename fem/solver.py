@@ -102,8 +102,8 @@ class _Run:
         self.statics: dict = {}
         self.modes: dict = {}
         self.stiffened: dict = {}      # the assembly (K + Kg) of each modes case under a preload or pretension
-        self.pretension = None         # (e,) axial forces of the pretension state beyond the pretensions
-                                       # themselves (which K holds), N, or None
+        self.pretension = None         # the pretension state's forces beyond the pretensions themselves
+                                       # (which K holds), a fem.analysis.buckling.Preload, or None
         self._factor = factor
 
     def lu(self):
@@ -115,13 +115,12 @@ class _Run:
 def _modes(run: _Run, case, notes, spd):
     """Solve the modes case `case`: with K, or with K + Kg of its preload's and the pretensions'
     axial forces (then its assembly is kept for the response cases built on it)."""
-    from .analysis.buckling import axial_forces, geometric_matrix, preloaded
+    from .analysis.buckling import geometric_matrix, preload_of, preloaded
 
-    N0 = run.pretension if run.pretension is not None and np.any(run.pretension) else None
+    N0 = run.pretension if run.pretension is not None and run.pretension.acts() else None
     if case.preload is None and N0 is None:
         return solve_modes_case(run.model, run.asm, case, factor=spd, notes=notes)
-    G = None if case.preload is None else \
-        geometric_matrix(run.model, run.asm, axial_forces(run.statics[case.preload].member_forces))
+    G = None if case.preload is None else geometric_matrix(run.model, run.asm, preload_of(run.statics[case.preload]))
     G0 = None if N0 is None else geometric_matrix(run.model, run.asm, N0)
     what = f"case {case.name}: the preload of case {case.preload}" if case.preload else \
         f"case {case.name}: the members' pretension"
@@ -235,7 +234,7 @@ def solve(model: Model, cases=None) -> Results:
 
         with quiet(notes, "pretension"):
             state = pretension_state(model, asm, run.lu())
-            run.pretension = state.axial - model.pretension
+            run.pretension = state.beyond(model.pretension)
     sensitivities = {}
     dynamic = [cb for cb in model.combinations if not _static_only(model, cb)]
     for after in (False, True):       # modes under a preload once the static cases are solved
@@ -263,10 +262,10 @@ def solve(model: Model, cases=None) -> Results:
                 responses[c.name] = solver(run, c)
             run.asm = asm
         elif c.kind == "buckling":
-            from .analysis.buckling import axial_forces, solve_buckling
+            from .analysis.buckling import preload_of, solve_buckling
 
             with stage(f"buckling case {c.name}: eigen solve"), _at_case(c), quiet(notes, f"case {c.name}"):
-                responses[c.name] = solve_buckling(model, asm, c, axial_forces(run.statics[c.loading].member_forces),
+                responses[c.name] = solve_buckling(model, asm, c, preload_of(run.statics[c.loading]),
                                                    run.pretension, sound.spd)
     if state is not None:          # reported: the pretension state plus each case's change from it
         from .analysis.buckling import with_state

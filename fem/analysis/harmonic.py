@@ -74,6 +74,9 @@ class HarmonicResult:
     listed: bool = False                # the frequencies are the case's list (at), not a sweep
     limits: tuple = ()                  # LimitCheck, ...: the case's vibration limits checked (vibration_check.py)
     stresses: object = None             # fem.analysis.stress.MemberStresses: amplitudes, largest over freq
+    links: np.ndarray = None            # (d,) largest force amplitude of the rigid links at their linked DOFs
+    link_freq: np.ndarray = None        # (d,) Hz, where
+    link_lag: np.ndarray = None         # (d,) degrees, lag there
 
     def velocity(self) -> np.ndarray:
         """(m, r, 3) complex velocity amplitudes of the recorded nodes' translations, m/s:
@@ -320,14 +323,21 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         r_static.append(r)
         m_static.append(m)
     r_static, m_static = parts(r_static), parts(m_static)
-    r_peak, r_peak_f, r_peak_c = _amplitude_peaks(H, Rm.reshape(len(omega), -1).T, freq, r_static)
+    from .link_dynamics import harmonic_inertia
+
+    # the inertia links and masses off their nodes carry into supports joins the elastic K u
+    extra = harmonic_inertia(model, asm, case, H, shapes, W, static)
+    Hr, Br = (H, Rm.reshape(len(omega), -1).T) if extra is None else \
+        (np.hstack([H, extra[0]]), np.hstack([Rm.reshape(len(omega), -1).T, extra[1]]))
+    r_peak, r_peak_f, r_peak_c = _amplitude_peaks(Hr, Br, freq, r_static)
     m_peak, m_peak_f, m_peak_c = _amplitude_peaks(H, Fm.reshape(len(omega), -1).T, freq, m_static)
     u = np.einsum("wk,rdk->wrd", H, modal.shapes[record])
     if static is not None:
         u = u + _columns(static, (6 * record[:, None] + np.arange(6)).ravel(), (len(record), 6))
     # complex reactions at every support and end forces of the members at the recorded nodes
-    reactions = (np.einsum("wk,ksd->wsd", H, Rm[:, support])
-                 + _columns(r_static, (6 * support[:, None] + np.arange(6)).ravel(), (len(support), 6)))
+    sdofs = (6 * support[:, None] + np.arange(6)).ravel()
+    reactions = (np.einsum("wk,ksd->wsd", H, Rm[:, support]) + _columns(r_static, sdofs, (len(support), 6))
+                 + (0 if extra is None else (extra[0] @ extra[1][sdofs].T).reshape(len(freq), len(support), 6)))
     # velocity and acceleration of the translations at every node, absolute: with the ground's
     # displacement -a_g / W^2 for a ground acceleration
     moving = (6 * np.arange(model.n_nodes)[:, None] + np.arange(3)).ravel()
@@ -362,6 +372,9 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                      f"{complete:.4g} Hz, less than {MARGIN:g} times the top of the sweep ({top:.4g} Hz); "
                      "modes just above the band respond dynamically there, beyond any static correction: "
                      f"ask for modes up to at least {MARGIN * top:.4g} Hz",)
+    from .link_dynamics import harmonic_link_peaks
+
+    lk = harmonic_link_peaks(model, asm, case, H, shapes, W, S, static) or (None, None, None)
     return HarmonicResult(case.name, freq, record, u, peak.reshape(-1, 6), peak_f.reshape(-1, 6),
                           zeta, static is not None, float(omega.max() / (2 * np.pi)),
                           r_peak.reshape(-1, 6), m_peak.reshape(-1, 12), _lags(peak_c).reshape(-1, 6),
@@ -369,7 +382,8 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           m_peak_f.reshape(-1, 12), _lags(m_peak_c).reshape(-1, 12),
                           support, reactions, members, member_forces, warnings, complete,
                           vel.reshape(-1, 3), vel_f.reshape(-1, 3), acc.reshape(-1, 3), acc_f.reshape(-1, 3),
-                          case.ground, case.at is not None, limits, stresses)
+                          case.ground, case.at is not None, limits, stresses, lk[0], lk[1],
+                          None if lk[2] is None else _lags(lk[2]))
 
 
 def _stresses(model, H, Fm, m_static, freq):

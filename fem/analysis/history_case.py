@@ -47,6 +47,8 @@ class HistoryResult:
     warnings: tuple = ()
     stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
     series: HistorySeries = None    # every field at every step, as columns times their histories
+    links: np.ndarray = None        # (d,) largest |force| of the rigid links at their linked DOFs (link_dynamics)
+    link_times: np.ndarray = None   # (d,) s, when
 
 
 class HistorySeries(NamedTuple):
@@ -161,7 +163,11 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     Rm, Fm = field_responses(model, asm, shapes.T)
     own = {"displacement": np.array(statics).T, "reaction": np.array(r_statics).T, "end_force": np.array(m_statics).T}
     peak, peak_t = peaks(qg, np.hstack([shapes, own["displacement"]]), t)
-    r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, own["reaction"]]), t)
+    from .link_dynamics import inertia_columns
+
+    carried = inertia_columns(model, asm, shapes)     # inertia links and masses off nodes carry into supports
+    r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, own["reaction"]]), t) if carried is None else \
+        peaks(np.hstack([qg, acc, a_ground]), np.hstack([Rm.reshape(k, -1).T, own["reaction"], *carried]), t)
     m_peak, _ = peaks(qg, np.hstack([Fm.reshape(k, -1).T, own["end_force"]]), t)
     stresses = _stresses(model, qg, np.hstack([Fm.reshape(k, -1).T, own["end_force"]]), np.array(G).T,
                          np.array(lines), t)
@@ -180,11 +186,15 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
     # animation frames spaced by the modes that matter, the step of the largest motion among them
     frames = frame_indices(t, q, modal.shapes, omega, [peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
+    from .link_dynamics import history_link_peaks
+
+    l_peak, l_time = history_link_peaks(model, asm, groups, shapes, own["displacement"], qg, acc, a_ground,
+                                        np.array(G).T, t)
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                          t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses,
-                         HistorySeries(qg, own))
+                         HistorySeries(qg, own), l_peak, l_time)
 
 
 def _stresses(model, qg, columns, G, lines, t):

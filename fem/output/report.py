@@ -221,12 +221,12 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         elif c["kind"] in ("free", "history"):
             parts.append(_table(["quantity", "value"], [["time steps", c["time_steps"]], ["duration", f"{c['duration_s']:.4g} s"],
                                                         ["largest translation", quantity(doc, "length", c["peak_translation_m"], (1.0, "m"))],
-                                                        *_force_rows(c, doc)]))
+                                                        *_force_rows(c, doc), *_link_rows(c)]))
         elif c["kind"] == "harmonic":
             parts.append(_table(["quantity", "value"], [["band", f"{c['band_Hz'][0]:.4g} to {c['band_Hz'][1]:.4g} Hz"],
                                                         ["frequencies", c["frequencies"]],
                                                         ["largest amplitude", quantity(doc, "length", c["peak_amplitude_m"], (1.0, "m"))],
-                                                        *_motion_rows(c)]))
+                                                        *_motion_rows(c), *_link_rows(c)]))
             if c.get("vibration_limits"):
                 parts.append(_table(["vibration limit", "found", "result"], limits_out.report_rows(c, _ok)))
         elif c["kind"] == "buckling":
@@ -349,7 +349,8 @@ def report(results, doc: dict, out: Path, notice: str = "") -> None:
 
 
 def _link_rows(c) -> list:
-    """The largest force and moment each rigid link exerts on a node that follows it (static)."""
+    """The largest force and moment each rigid link exerts on a node that follows it (static); in a
+    dynamic case the resultant of its directions' peaks (which need not coincide: an upper bound)."""
     rows = []
     for link, nodes in c.get("link_forces", {}).items():
         force = max((np.hypot.reduce([v or 0.0 for v in vals[:3]]), n) for n, vals in nodes.items())

@@ -192,9 +192,10 @@ def write_tables(results, out: Path) -> None:
     from .limits_out import write_limit_tables
 
     write_limit_tables(results, out)
-    from .link_tables import write_link_table, write_offset_table
+    from .link_tables import write_link_peaks, write_link_table, write_offset_table
 
     write_link_table(out, results)
+    write_link_peaks(out, results)
     if model.offsets is not None:
         from ..assembly import element_matrices
 
