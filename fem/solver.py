@@ -284,7 +284,20 @@ def solve(model: Model, cases=None) -> Results:
                       list(demands.values()))
     return Results(model, {**run.statics, **run.modes, **responses, **demands}, sound, mass, checks, tuple(notes),
                    asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance,
-                   _stresses(model, asm, run.statics, responses))
+                   _stresses(model, asm, run.statics, responses),
+                   springs=_springs(model, run.statics, run.modes, responses))
+
+
+def _springs(model: Model, statics: dict, modes: dict, responses: dict) -> dict:
+    """The forces of the springs between nodes of every case that has them, by name."""
+    from .analysis.spring_forces import modal_springs, static_springs
+
+    if model.node_springs is None:
+        return {}
+    out = {n: static_springs(model, r.u) for n, r in statics.items()}
+    out.update({n: modal_springs(model, r.shapes) for n, r in modes.items()})
+    out.update({n: r.springs for n, r in responses.items() if getattr(r, "springs", None) is not None})
+    return out
 
 
 def _stresses(model: Model, asm, statics: dict, responses: dict) -> dict:

@@ -48,6 +48,7 @@ class FreeCaseResult:
     inertia_rounding: float = 0.0   # the mismatch rounding alone can leave, on inertia_balance's scale
     inertia_ok: bool = True         # every mode and direction within its limit (inertia_balance_terms)
     stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
+    springs: object = None          # fem.analysis.spring_forces.SpringForces: peaks over time (None: no springs)
 
 
 BALANCE_TOL = 1e-6        # per-mode reactions vs inertia forces; limited by the eigen residuals
@@ -203,9 +204,12 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     cols = Fm.reshape(k, -1).T
     stresses = series_stresses(model, lambda rows: (q[rows] @ cols.T).reshape(-1, model.n_members, 12), t,
                                linear=(q, cols.T))
+    from .spring_forces import series_springs
+
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
                           captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                          rel, ft, frames, warnings, start_error, rounding, ok, stresses)
+                          rel, ft, frames, warnings, start_error, rounding, ok, stresses,
+                          springs=series_springs(model, q, modal.shapes.reshape(6 * model.n_nodes, -1), t))
 
 
 def inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:

@@ -74,6 +74,7 @@ class HarmonicResult:
     listed: bool = False                # the frequencies are the case's list (at), not a sweep
     limits: tuple = ()                  # LimitCheck, ...: the case's vibration limits checked (vibration_check.py)
     stresses: object = None             # fem.analysis.stress.MemberStresses: amplitudes, largest over freq
+    springs: object = None              # fem.analysis.spring_forces.SpringForces: amplitudes (None: no springs)
 
     def velocity(self) -> np.ndarray:
         """(m, r, 3) complex velocity amplitudes of the recorded nodes' translations, m/s:
@@ -369,7 +370,8 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           m_peak_f.reshape(-1, 12), _lags(m_peak_c).reshape(-1, 12),
                           support, reactions, members, member_forces, warnings, complete,
                           vel.reshape(-1, 3), vel_f.reshape(-1, 3), acc.reshape(-1, 3), acc_f.reshape(-1, 3),
-                          case.ground, case.at is not None, limits, stresses)
+                          case.ground, case.at is not None, limits, stresses,
+                          springs=_springs(model, H, shapes, freq, static))
 
 
 def _stresses(model, H, Fm, m_static, freq):
@@ -384,6 +386,19 @@ def _stresses(model, H, Fm, m_static, freq):
         return (H[rows] @ cols).reshape(-1, e, 12) + _columns(static, np.arange(12 * e), (e, 12))
 
     return harmonic_stresses(model, forces, freq)
+
+
+def _springs(model, H, shapes, freq, static):
+    """Amplitudes of the springs between nodes, largest over the frequencies (phases kept)."""
+    from .spring_forces import deflection_matrix, peak_springs
+
+    if model.node_springs is None:
+        return None
+    D = deflection_matrix(model)
+    if static is not None:
+        static = D @ static if isinstance(static, np.ndarray) else (static[0], (D @ static[1].T).T)
+    pk, at, _ = _amplitude_peaks(H, np.asarray(D @ shapes), freq, static)
+    return peak_springs(model, pk, at, "amplitude", "Hz")
 
 
 def modes_complete_to(modal: ModesCaseResult) -> float:

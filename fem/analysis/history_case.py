@@ -17,6 +17,7 @@ from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .recurrence import integrate_modal, knot_kicks
 from .static import line_loads, load_vector
+from .spring_forces import series_springs
 from .stress import series_stresses
 
 __all__ = ["HistoryResult", "HistorySeries", "series_basis", "solve_history_case"]
@@ -47,6 +48,7 @@ class HistoryResult:
     warnings: tuple = ()
     stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
     series: HistorySeries = None    # every field at every step, as columns times their histories
+    springs: object = None          # fem.analysis.spring_forces.SpringForces: peaks over time (None: no springs)
 
 
 class HistorySeries(NamedTuple):
@@ -184,7 +186,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                          t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses,
-                         HistorySeries(qg, own))
+                         HistorySeries(qg, own),
+                         springs=series_springs(model, qg, np.hstack([shapes, own["displacement"]]), t))
 
 
 def _stresses(model, qg, columns, G, lines, t):

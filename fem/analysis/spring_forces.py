@@ -1,0 +1,119 @@
+"""Forces of the springs between nodes (fem.model.NodeSprings) for every kind of case: the force
+and moment each spring carries in its own axes, k d, with d the relative motion of its nodes
+(fem.elements.node_spring), and the deflection d itself.
+
+How each case kind is reduced (`SpringForces.basis`):
+- static cases and combinations of them: "exact", signed, from the displacements;
+- modes cases: "per mode", signed, of each mass-normalised shape (scale as the shapes);
+- free and history cases: "peak over time": each component's largest magnitude over the steps,
+  from the modal histories (and a history's static parts) superposed at every step, with the time
+  of it; the same sampling as the displacements' peaks;
+- harmonic cases: "amplitude": each component's largest amplitude over the frequencies, phases
+  kept in the sum over modes, with the frequency of it;
+- spectrum cases: "combined peaks": each component of every mode's force, combined over the
+  modes by the case's rule (with the CQC correlations) and over the directions by its spatial
+  rule, never taken from combined displacements.
+A spring force component is k_c d_c, so its peak over time or frequency is k_c times the peak of
+d_c, at the same time.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+
+from ..elements.node_spring import spring_map
+from .modal_sum import combine, combine_directions
+
+__all__ = ["SpringForces", "deflection_matrix", "modal_springs", "peak_springs", "series_springs", "spectrum_springs",
+           "static_springs"]
+
+
+@dataclass
+class SpringForces:
+    """Forces of the springs between nodes in one case (s springs).
+
+    basis : "exact", "per mode", "peak over time", "amplitude" or "combined peaks" (module docstring)
+    force : (s, 6) force along and moment about the spring's x, y, z, N and N m (per mode: (k, s, 6));
+        signed for "exact" and "per mode" (positive: node B moves away from A along the axis),
+        magnitudes >= 0 otherwise
+    deflection : the same shape, the relative motion d, m and rad
+    at : (s, 6) time (s) or frequency (Hz) of each peak, or None; at_unit "s", "Hz" or ""
+    """
+
+    basis: str
+    force: np.ndarray
+    deflection: np.ndarray
+    at: np.ndarray | None = None
+    at_unit: str = ""
+
+    def largest(self) -> tuple[int, int, float] | None:
+        """(spring, component, value) of the largest |force| among the translations, or None;
+        for "per mode", over every mode."""
+        f = np.abs(self.force[..., :3]).reshape(-1, self.force.shape[-2], 3).max(axis=0)
+        if not f.size:
+            return None
+        s, c = np.unravel_index(int(f.argmax()), f.shape)
+        return int(s), int(c), float(f[s, c])
+
+
+def deflection_matrix(model) -> sp.csr_matrix:
+    """(6 s, 6 n) the springs' deflections from all the model's DOFs (rows: spring, component)."""
+    ns = model.node_springs
+    D = spring_map(ns, model.coords)                           # (s, 6, 12)
+    s = len(D)
+    dofs = (6 * np.asarray(ns.nodes)[:, :, None] + np.arange(6)).reshape(s, 12)
+    rows = np.repeat(np.arange(6 * s).reshape(s, 6), 12, axis=1).ravel()
+    cols = np.repeat(dofs, 6, axis=0).ravel()
+    return sp.coo_matrix((D.ravel(), (rows, cols)), shape=(6 * s, 6 * model.n_nodes)).tocsr()
+
+
+def _has(model) -> bool:
+    return model.node_springs is not None and len(model.node_springs) > 0
+
+
+def static_springs(model, u) -> SpringForces | None:
+    """Exact forces of a static state u (n, 6) or (6n,); None when the model has no springs."""
+    if not _has(model):
+        return None
+    d = (deflection_matrix(model) @ np.asarray(u, float).ravel()).reshape(-1, 6)
+    return SpringForces("exact", model.node_springs.k * d, d)
+
+
+def modal_springs(model, shapes) -> SpringForces | None:
+    """Per-mode forces of the shapes (n, 6, k), signed; None when the model has no springs."""
+    if not _has(model):
+        return None
+    k = shapes.shape[-1]
+    d = (deflection_matrix(model) @ shapes.reshape(-1, k)).T.reshape(k, -1, 6)
+    return SpringForces("per mode", model.node_springs.k * d, d)
+
+
+def peak_springs(model, peak_d, at, basis: str, unit: str) -> SpringForces:
+    """From peaks of the deflections (6 s,) (magnitudes) and where they occur (6 s,)."""
+    d = np.asarray(peak_d, float).reshape(-1, 6)
+    return SpringForces(basis, model.node_springs.k * d, d, np.asarray(at, float).reshape(-1, 6), unit)
+
+
+def series_springs(model, q, columns, t) -> SpringForces | None:
+    """Peaks over time of displacements q (m, c) @ columns (6n, c)^T: a free or history case's
+    modal histories (and static parts) and their shapes; None when the model has no springs."""
+    if not _has(model):
+        return None
+    from .free_case import peaks
+
+    pk, at = peaks(q, np.asarray(deflection_matrix(model) @ columns), t)
+    return peak_springs(model, pk, at, "peak over time", "s")
+
+
+def spectrum_springs(model, per_direction, rule: str, spatial: str) -> SpringForces | None:
+    """Combined peaks from [(U (k, 6n) signed per-mode displacement peaks, rho)] per direction:
+    each mode's spring deflection, combined over the modes and then the directions."""
+    if not _has(model):
+        return None
+    D = deflection_matrix(model)
+    parts = [combine(np.asarray(D @ np.asarray(U).T).T, rule, rho) for U, rho in per_direction]
+    d = combine_directions(parts, spatial).reshape(-1, 6)
+    return SpringForces("combined peaks", model.node_springs.k * d, d)
