@@ -127,3 +127,29 @@ def test_sensitivity_to_a_spring_between_nodes_against_central_differences():
     fd = (lam[0] - lam[1]) / (2 * h)
     np.testing.assert_allclose(sens.d_lambda[row[0]], fd, rtol=1e-6)
     assert np.all(sens.energy_check < 1e-8)
+
+
+def test_spring_forces_reach_the_tables_results_json_summary_and_report(tmp_path, capsys):
+    import csv
+    import json
+
+    from fem import write_results
+    from fem.output.summary import print_summary
+
+    r = solve(read_text(SDOF + """
+case PUSH static { force A = (0, 0, -2 kN) }
+case MODES modes { count = 1 }
+"""))
+    written = write_results(r, tmp_path, render=False)
+    rows = list(csv.DictReader(open(tmp_path / "springs_PUSH.csv")))
+    assert rows[0]["spring"] == "ISO" and float(rows[0]["Fz_N"]) == pytest.approx(-2000.0, rel=1e-12)
+    assert float(rows[0]["duz_m"]) == pytest.approx(-2000.0 / K, rel=1e-12)
+    modes = list(csv.DictReader(open(tmp_path / "springs_MODES.csv")))
+    assert modes[0]["mode"] == "1"
+    doc = json.load(open(tmp_path / "results.json"))
+    assert doc["node_springs"]["ISO"]["stiffness"][2] == K
+    push = next(c for c in doc["cases"] if c["name"] == "PUSH")
+    assert push["springs"]["largest"]["spring"] == "ISO"
+    assert "Springs between nodes" in (tmp_path / "report.html").read_text()
+    print_summary(r, written)
+    assert "springs: largest force 2 kN along z of ISO" in capsys.readouterr().out

@@ -1,0 +1,145 @@
+"""Springs between nodes in the outputs: the model's springs and each case's spring forces in
+results.json (SI), a springs_<case>.csv table per case, the summary's largest spring force and
+deflection per case, and the report's table (display units, fem.display).
+
+The forces are fem.analysis.spring_forces.SpringForces: along and about each spring's own x, y, z
+(global X, Y, Z unless the deck turns it), k d with d the relative motion of node B from node A."""
+
+from __future__ import annotations
+
+import html
+
+import numpy as np
+
+from ..display import SI
+from ..model import DIRECTIONS
+from .tables import write_csv
+
+__all__ = ["add_spring_blocks", "report_section", "summary_lines", "write_spring_tables"]
+
+_FORCES = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
+_BASIS = {"exact": "exact", "per mode": "per mode, of the mass-normalised shapes",
+          "peak over time": "largest over time", "amplitude": "amplitudes, largest over the frequencies",
+          "combined peaks": "per-mode forces combined"}
+_AT = {"s": "time_s", "Hz": "frequency_Hz"}
+
+
+def _units(results):
+    return results.model.settings.get("units") or SI
+
+
+def _scales(units):
+    """Display factors of the six forces and of the six deflections."""
+    f = [units.per_si("force")] * 3 + [units.per_si("moment")] * 3
+    d = [units.per_si("length")] * 3 + [1.0] * 3
+    return np.array(f), np.array(d)
+
+
+def write_spring_tables(results, out) -> None:
+    """springs_<case>.csv for every case with spring forces: one row per spring (per mode and
+    spring for a modes case): its nodes, the six forces and the six deflections in the spring's
+    axes, and the time or frequency of each peak where the case has them."""
+    if not results.springs:
+        return
+    ns = results.model.node_springs
+    names = results.model.node_names
+    units = _units(results)
+    kf, kd = _scales(units)
+    fh = [f"{q}_{units.header('force' if j < 3 else 'moment')}" for j, q in enumerate(_FORCES)]
+    dh = [f"d{d}_{units.header('length') if j < 3 else 'rad'}" for j, d in enumerate(DIRECTIONS)]
+    for case, s in results.springs.items():
+        at = _AT.get(s.at_unit) if s.at is not None else None
+        athead = [f"{at}_{q}" for q in _FORCES] if at else []
+        per_mode = s.basis == "per mode"
+        F = s.force if per_mode else s.force[None]
+        D = s.deflection if per_mode else s.deflection[None]
+        rows = ([*([m + 1] if per_mode else []), nm, names[ns.nodes[j, 0]], names[ns.nodes[j, 1]],
+                 *map(float, F[m, j] * kf), *map(float, D[m, j] * kd), *(map(float, s.at[j]) if at else [])]
+                for m in range(len(F)) for j, nm in enumerate(ns.names))
+        write_csv(out / f"springs_{case}.csv", [*(["mode"] if per_mode else []), "spring", "node_a", "node_b",
+                                                *fh, *dh, *athead], rows)
+
+
+def _case_block(results, s) -> dict:
+    ns = results.model.node_springs
+    at = _AT.get(s.at_unit) if s.at is not None else None
+    out = {"basis": s.basis}
+    if s.basis == "per mode":
+        out["modes"] = [{name: {"force": s.force[m, j].tolist(), "deflection": s.deflection[m, j].tolist()}
+                         for j, name in enumerate(ns.names)} for m in range(len(s.force))]
+        return out
+    out["springs"] = {name: {"force": s.force[j].tolist(), "deflection": s.deflection[j].tolist(),
+                             **({at: s.at[j].tolist()} if at else {})} for j, name in enumerate(ns.names)}
+    big = s.largest()
+    if big is not None:
+        j, c, v = big
+        out["largest"] = {"spring": ns.names[j], "component": _FORCES[c], "force_N": v,
+                          "deflection_m": float(abs(s.deflection[j, c]))}
+    return out
+
+
+def add_spring_blocks(results, doc: dict) -> None:
+    """The model's springs between nodes (`node_springs`: nodes, stiffness in N/m and N m/rad,
+    axes, damping ratio) and each case's `springs` entry (SI; force [Fx, Fy, Fz, Mx, My, Mz] in
+    the spring's axes, deflection [dx, dy, dz, rx, ry, rz]), when the model has such springs."""
+    ns = results.model.node_springs
+    if ns is None:
+        return
+    names = results.model.node_names
+    doc["node_springs"] = {n: {"node_a": names[ns.nodes[j, 0]], "node_b": names[ns.nodes[j, 1]],
+                               "stiffness": ns.k[j].tolist(), "axes": ns.axes[j].tolist(),
+                               "damping_ratio": float(ns.damping[j])} for j, n in enumerate(ns.names)}
+    for c in doc["cases"]:
+        s = results.springs.get(c["name"])
+        if s is not None:
+            c["springs"] = _case_block(results, s)
+
+
+def summary_lines(results, name: str, indent: str) -> list[str]:
+    """The largest spring force of a case (a static or response case; modes cases have none):
+    its spring, direction, value, deflection and, for a peak, when."""
+    s = results.springs.get(name)
+    if s is None or s.basis == "per mode":
+        return []
+    big = s.largest()
+    if big is None:
+        return []
+    j, c, v = big
+    units = _units(results)
+    kf, kd = _scales(units)
+    flabel = units.label("force") if units.chosen else "kN"
+    fk = kf[c] if units.chosen else 1e-3
+    dlabel, dk = (units.label("length"), kd[c]) if units.chosen else ("mm", 1e3)
+    when = f" at {s.at[j, c]:.4g} {s.at_unit}" if s.at is not None else ""
+    word = {"exact": "", "peak over time": "peak ", "amplitude": "amplitude ", "combined peaks": "combined "}[s.basis]
+    return [f"{indent}springs: largest {word}force {v * fk:.4g} {flabel} along {'xyz'[c]} of "
+            f"{results.model.node_springs.names[j]}, deflection {abs(s.deflection[j, c]) * dk:.4g} {dlabel}{when}"]
+
+
+REPORT_ROWS = 12     # springs per case in the report's table
+
+
+def report_section(c: dict, doc: dict, table) -> str:
+    """The report's table of a case's spring forces (display units of the document)."""
+    block = c.get("springs")
+    if not block or "springs" not in block:
+        return ""
+    from .fmt import doc_units
+
+    units = doc_units(doc)
+    kf, kd = _scales(units)
+    fl = units.label("force") if units.chosen else "kN"
+    ml = units.label("moment") if units.chosen else "kN m"
+    ll = units.label("length") if units.chosen else "mm"
+    fk = kf if units.chosen else np.array([1e-3] * 6)
+    dk = kd if units.chosen else np.array([1e3] * 3 + [1.0] * 3)
+    rows = sorted(block["springs"].items(), key=lambda kv: -max(abs(x) for x in kv[1]["force"][:3]))
+    head = ["spring", *(f"{q} {fl if j < 3 else ml}" for j, q in enumerate(_FORCES)),
+            *(f"d{a} {ll}" for a in "xyz")]
+    body = [[html.escape(n), *(f"{v['force'][j] * fk[j]:.4g}" for j in range(6)),
+             *(f"{v['deflection'][j] * dk[j]:.4g}" for j in range(3))] for n, v in rows[:REPORT_ROWS]]
+    note = (f"<p>Springs between nodes ({html.escape(_BASIS[block['basis']])}): force along and moment about "
+            f"each spring's own axes, k times the motion of its second node relative to its first; "
+            f"{min(REPORT_ROWS, len(rows))} of {len(rows)}, the most loaded first; every spring is in "
+            f"springs_{html.escape(c['name'])}.csv.</p>")
+    return note + table(head, body)
