@@ -10,6 +10,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .spring_damping import spring_ratios
 from .free import free_response, modal_initial_conditions
 from .memory import check_memory
 from .modal_case import ModesCaseResult, field_responses
@@ -158,7 +159,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     f = asm.free
     M = asm.M[f][:, f]
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = case_ratios(case, omega, below_one=True)
+    zeta = case_ratios(case, omega, below_one=True, added=spring_ratios(model, modal))
     q0, qd0 = modal_initial_conditions(phi, M, u0[f], v0[f])
     mu = M @ u0[f]
     total = float(u0[f] @ mu)

@@ -28,6 +28,7 @@ from ..harmonic_forms import complex_amplitude, growth
 from ..limits import ROWS_LIMIT
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .spring_damping import spring_ratios
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .static import load_vector
@@ -266,7 +267,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     n6 = 6 * model.n_nodes
     f = asm.free
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = case_ratios(case, omega)
+    zeta = case_ratios(case, omega, added=spring_ratios(model, modal))
     terms = load_terms(model, asm, case)
     freq = _frequencies(case, omega, zeta, tuple(around) + limit_frequencies(case.limits))
     record = case.record if case.record is not None else np.arange(model.n_nodes)

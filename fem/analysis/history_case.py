@@ -12,6 +12,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .spring_damping import spring_ratios
 from .free_case import frame_indices, peak_index, peaks, step_warnings
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
@@ -117,7 +118,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     t = np.arange(0.0, case.duration + 0.5 * dt, dt)
     n = len(t)
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = case_ratios(case, omega, below_one=True)
+    zeta = case_ratios(case, omega, below_one=True, added=spring_ratios(model, modal))
     shapes = modal.shapes.reshape(n6, -1)
     k = len(omega)
     fixed = np.zeros(n6, bool)

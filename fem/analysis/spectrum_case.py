@@ -14,6 +14,7 @@ from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .spring_damping import spring_ratios
 from .modal_case import ModesCaseResult, field_responses, ground_mass_warnings
 from .modal_sum import combine, combine_directions, cqc_correlation
 from .spring_forces import spectrum_springs
@@ -68,7 +69,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     if np.any(omega <= 0):
         raise ModelError(f"case {case.name}: rigid-body modes have no spectral response; "
                          "support the structure")
-    zeta = case_ratios(case, omega)
+    zeta = case_ratios(case, omega, added=spring_ratios(model, modal))
     T = 2 * np.pi / omega
     outside = []
     if sp.shape == "table":
