@@ -93,7 +93,14 @@ def _scene(model, radius):
     import pyvista as pv
 
     lines = np.c_[np.full(len(model.conn), 2), model.conn].ravel()
-    poly = pv.PolyData(model.coords.astype(float), lines=lines)
+    points = model.coords.astype(float)
+    if model.node_springs is not None:            # springs between nodes: a zig-zag each
+        from .springs_out import spring_symbols
+
+        extra, cells = spring_symbols(model)
+        cells[np.arange(len(cells)) % (cells[0] + 1) != 0] += len(points)
+        points, lines = np.vstack([points, extra]), np.r_[lines, cells]
+    poly = pv.PolyData(points, lines=lines)
     return pv, poly
 
 

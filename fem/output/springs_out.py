@@ -15,7 +15,7 @@ from ..display import SI
 from ..model import DIRECTIONS
 from .tables import write_csv
 
-__all__ = ["add_spring_blocks", "report_section", "summary_lines", "write_spring_tables"]
+__all__ = ["add_spring_blocks", "report_section", "spring_symbols", "summary_lines", "write_spring_tables"]
 
 _FORCES = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
 _BASIS = {"exact": "exact", "per mode": "per mode, of the mass-normalised shapes",
@@ -117,6 +117,34 @@ def summary_lines(results, name: str, indent: str) -> list[str]:
 
 
 REPORT_ROWS = 12     # springs per case in the report's table
+SYMBOL_SIZE = 0.04   # a spring between nodes at one place is drawn this share of the model's size long
+_ZIGS = 8            # zig-zag segments of a drawn spring
+
+
+def spring_symbols(model) -> tuple[np.ndarray, np.ndarray]:
+    """A zig-zag for each spring between nodes, for the pictures: points (p, 3) and VTK polyline
+    cells [count, i0, i1, ...] indexing them. Between nodes apart it runs from A to B; at one
+    place it stands centred on the node along the spring's stiffest translation, SYMBOL_SIZE of
+    the model's size long. Its width is a fifth of its length."""
+    ns = model.node_springs
+    lo, hi = model.bounding_box()
+    size = max(float(np.max(hi - lo)), 1e-9) * SYMBOL_SIZE
+    a, b = model.coords[ns.nodes[:, 0]], model.coords[ns.nodes[:, 1]]
+    axis = b - a
+    length = np.linalg.norm(axis, axis=1)
+    short = length < 1e-9 * max(size, 1.0)
+    stiff = ns.axes[np.arange(len(ns)), np.argmax(ns.k[:, :3], axis=1)]       # (s, 3) stiffest axis
+    axis = np.where(short[:, None], stiff * size, axis)
+    start = np.where(short[:, None], a - 0.5 * axis, a)
+    ref = np.where(np.abs(axis[:, [2]]) > 0.9 * np.linalg.norm(axis, axis=1, keepdims=True), [[1.0, 0, 0]], [[0, 0, 1.0]])
+    side = np.cross(axis, ref)
+    side *= 0.1 * np.linalg.norm(axis, axis=1, keepdims=True) / np.linalg.norm(side, axis=1, keepdims=True)
+    t = np.linspace(0.0, 1.0, _ZIGS + 1)
+    wave = np.r_[0.0, np.where(np.arange(1, _ZIGS) % 2, 1.0, -1.0), 0.0]
+    pts = start[:, None] + t[None, :, None] * axis[:, None] + wave[None, :, None] * side[:, None]
+    n = _ZIGS + 1
+    cells = np.c_[np.full(len(ns), n), np.arange(len(ns) * n).reshape(-1, n)].ravel()
+    return pts.reshape(-1, 3), cells
 
 
 def report_section(c: dict, doc: dict, table) -> str:
