@@ -153,3 +153,20 @@ case MODES modes { count = 1 }
     assert "Springs between nodes" in (tmp_path / "report.html").read_text()
     print_summary(r, written)
     assert "springs: largest force 2 kN along z of ISO" in capsys.readouterr().out
+
+
+def test_isolated_fan_frame_demo():
+    # decks/fanframe-isolated.deck: the isolators carry the machines' weight (statics: the four
+    # vertical forces sum to (520 + 310) kg g0), the base's modes lie below the fan's lowest
+    # speed less its margin (10 Hz / 1.2), and the unbalance velocity limit passes
+    from pathlib import Path
+
+    from fem import read_deck
+
+    r = solve(read_deck(Path(__file__).parents[1] / "decks" / "fanframe-isolated.deck"))
+    s = r.springs["DEAD"]
+    assert s.force[:, 2].sum() == pytest.approx(-(520 + 310) * 9.80665, rel=1e-9)
+    freq = r["MODES"].modes.freq
+    assert np.all(freq[:5] < 10 / 1.2) and freq[5] > 10 / 1.2
+    assert r["DEAD"].equilibrium < 1e-9
+    assert r["RUN"].limits and all(lim.ratio < 0.5 for lim in r["RUN"].limits)   # about 0.27

@@ -240,7 +240,9 @@ def _columns(static, cols, shape):
     (frequencies or 1, *shape)."""
     if isinstance(static, np.ndarray):
         return static[cols][None].reshape(1, *shape)
-    return (static[0] @ static[1][:, cols]).reshape(-1, *shape)
+    # the frequencies counted from the scales: a shape of size 0 (no member at a recorded node)
+    # leaves -1 undetermined
+    return (static[0] @ static[1][:, cols]).reshape(len(static[0]), *shape)
 
 
 def _frequencies(case, omega, zeta, around) -> np.ndarray:
