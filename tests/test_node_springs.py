@@ -234,3 +234,16 @@ def test_a_spring_name_is_not_given_twice():
                     "spring J: A -> B (uz = 1 kN/m)\nspring J: A -> B (ux = 1 kN/m)\n")
     with pytest.raises(DeckError, match="defined twice"):
         read_text(text)
+
+
+def test_a_combination_of_static_cases_combines_the_spring_forces():
+    # a combination is the factored sum of its cases' displacements (linear statics), so of the
+    # spring forces too
+    r = solve(read_text(TWO_MASS.replace("K1", "4e6 N/m").replace("K2", "1e6 N/m").replace("M1", "800 kg")
+                        .replace("M2", "300 kg") + "case DEAD static { gravity = (0, 0, -9.81 m/s^2) }\n"
+                        "combo ULS = 1.35*DEAD + 1.5*PUSH\n"))
+    s = r.springs
+    np.testing.assert_allclose(s["ULS"].force, 1.35 * s["DEAD"].force + 1.5 * s["PUSH"].force, rtol=1e-12,
+                               atol=1e-9)
+    # the lower spring carries both masses' weight (statics), the upper one the upper mass's
+    np.testing.assert_allclose(s["DEAD"].force[:, 2], [-1100 * 9.81, -300 * 9.81], rtol=1e-12)

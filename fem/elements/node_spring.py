@@ -46,17 +46,19 @@ def spring_map(ns, coords) -> np.ndarray:
 def spring_blocks(ns, coords) -> np.ndarray:
     """(s, 12, 12) global stiffness of each spring over (u_A, u_B): D^T k D."""
     D = spring_map(ns, coords)
-    return np.einsum("sai,sa,saj->sij", D, np.asarray(ns.k, float), D)
+    return np.swapaxes(D, 1, 2) @ (np.asarray(ns.k, float)[:, :, None] * D)
 
 
 def spring_matrix(ns, coords, blocks: np.ndarray | None = None) -> sp.csr_matrix:
-    """(6n, 6n) CSR of all the springs (their `spring_blocks`, or `blocks` given instead)."""
+    """(6n, 6n) CSR of all the springs (their `spring_blocks`, or `blocks` given instead), summed
+    as 6x6 node-pair blocks as the members are (fem.assembly.BlockPattern)."""
+    from ..assembly import BlockPattern
+
     g = spring_blocks(ns, coords) if blocks is None else blocks
-    dofs = (6 * np.asarray(ns.nodes)[:, :, None] + np.arange(6)).reshape(-1, 12)
-    rows = np.repeat(dofs, 12, axis=1).ravel()
-    cols = np.tile(dofs, (1, 12)).ravel()
-    n = 6 * len(coords)
-    return sp.coo_matrix((g.ravel(), (rows, cols)), shape=(n, n)).tocsr()
+    s, n = len(g), len(coords)
+    X = np.zeros((4 * s + n, 36))
+    X[:4 * s] = g.reshape(s, 2, 6, 2, 6).transpose(0, 1, 3, 2, 4).reshape(4 * s, 36)
+    return BlockPattern.of(np.asarray(ns.nodes), n).matrix_from_blocks(X)
 
 
 def spring_diagonal(ns, coords) -> np.ndarray:
