@@ -170,3 +170,19 @@ def test_isolated_fan_frame_demo():
     assert np.all(freq[:5] < 10 / 1.2) and freq[5] > 10 / 1.2
     assert r["DEAD"].equilibrium < 1e-9
     assert r["RUN"].limits and all(lim.ratio < 0.5 for lim in r["RUN"].limits)   # about 0.27
+
+
+def test_harmonic_case_recording_a_node_no_member_reaches():
+    # regression: a harmonic load that grows with the frequency (an unbalance) and a recorded
+    # node that no member has an end at (here a mass on an isolator) failed when the end-force
+    # table of the recorded members was empty
+    r = solve(read_text(SDOF + """
+case MODES modes { count = 1 }
+case RUN harmonic { unbalance A = 10 kg * 1 mm about x, from = 1 Hz, to = 8 Hz, points = 50, damping = 2 percent,
+                    record = "A" }
+"""))
+    assert r["RUN"].member_forces.shape == (len(r["RUN"].freq), 0, 12)
+    # the unbalance force m e w^2 through the isolator: its amplitude is k |u| (a vertical share
+    # of the force turning in the y-z plane)
+    s = r.springs["RUN"]
+    assert s.force[0, 2] > 0 and s.at[0, 2] == pytest.approx(WN / (2 * np.pi), rel=0.05)
