@@ -11,7 +11,7 @@ import html
 
 import numpy as np
 
-from ..display import SI
+from ..display import SI, tidy
 from ..model import DIRECTIONS
 from .tables import write_csv
 
@@ -164,8 +164,14 @@ def report_section(c: dict, doc: dict, table) -> str:
     rows = sorted(block["springs"].items(), key=lambda kv: -max(abs(x) for x in kv[1]["force"][:3]))
     head = ["spring", *(f"{q} {fl if j < 3 else ml}" for j, q in enumerate(_FORCES)),
             *(f"d{a} {ll}" for a in "xyz")]
-    body = [[html.escape(n), *(f"{v['force'][j] * fk[j]:.4g}" for j in range(6)),
-             *(f"{v['deflection'][j] * dk[j]:.4g}" for j in range(3))] for n, v in rows[:REPORT_ROWS]]
+    top_f = max((abs(x) for _, v in rows for x in v["force"]), default=0.0)
+    top_d = max((abs(x) for _, v in rows for x in v["deflection"][:3]), default=0.0)
+
+    def f(x, scale, k):         # round-off under ZERO_TOL of the case's largest shows as 0, never -0
+        return f"{tidy([x], scale)[0] * k + 0.0:.4g}"
+
+    body = [[html.escape(n), *(f(v["force"][j], top_f, fk[j]) for j in range(6)),
+             *(f(v["deflection"][j], top_d, dk[j]) for j in range(3))] for n, v in rows[:REPORT_ROWS]]
     note = (f"<p>Springs between nodes ({html.escape(_BASIS[block['basis']])}): force along and moment about "
             f"each spring's own axes, k times the motion of its second node relative to its first; "
             f"{min(REPORT_ROWS, len(rows))} of {len(rows)}, the most loaded first; every spring is in "
