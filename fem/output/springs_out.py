@@ -117,7 +117,7 @@ def summary_lines(results, name: str, indent: str) -> list[str]:
 
 
 REPORT_ROWS = 12     # springs per case in the report's table
-SYMBOL_SIZE = 0.04   # a spring between nodes at one place is drawn this share of the model's size long
+SYMBOL_SIZE = 0.06   # a spring between nodes at one place is drawn this share of the model's size long
 _ZIGS = 8            # zig-zag segments of a drawn spring
 
 
