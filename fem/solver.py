@@ -285,7 +285,7 @@ def solve(model: Model, cases=None) -> Results:
     return Results(model, {**run.statics, **run.modes, **responses, **demands}, sound, mass, checks, tuple(notes),
                    asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance,
                    _stresses(model, asm, run.statics, responses),
-                   springs=_springs(model, run.statics, run.modes, responses))
+                   springs=_springs(model, run.statics, run.modes, {**responses, **demands}))
 
 
 def _springs(model: Model, statics: dict, modes: dict, responses: dict) -> dict:
@@ -334,6 +334,7 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
 
     from .analysis.combine import combine_terms, envelope
     from .analysis.history_case import series_basis
+    from .analysis.spring_forces import combination_springs
 
     found = {**run.statics, **responses}
     used = {n for cb in dynamic for n in cb.factors} | {n for env in model.envelopes for n in env.over}
@@ -349,6 +350,7 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
         part = combine(cb.name, statics, model.coords) if statics else None
         with _at_case(cb):
             out[cb.name] = combine_terms(cb.name, [(f, found[n]) for n, f in cb.factors.items()], sizes, part)
+            out[cb.name].springs = combination_springs(model, [(f, found[n], n) for n, f in cb.factors.items()])
     found.update(out)
     for env in model.envelopes:
         with _at_case(env):

@@ -186,3 +186,28 @@ case RUN harmonic { unbalance A = 10 kg * 1 mm about x, from = 1 Hz, to = 8 Hz, 
     # of the force turning in the y-z plane)
     s = r.springs["RUN"]
     assert s.force[0, 2] > 0 and s.at[0, 2] == pytest.approx(WN / (2 * np.pi), rel=0.05)
+
+
+def test_combination_with_a_history_and_a_spectrum_bounds_the_spring_force(tmp_path):
+    # dead load, a suddenly applied 1 kN up (its spring force runs from 0 to 2 kN, Chopra sec.
+    # 4.3) and half a vertical spectrum peak (no sign: both ways, fem/analysis/combine.py)
+    r = solve(read_text(SDOF + """
+case DEAD static { gravity = (0, 0, -9.81 m/s^2) }
+case MODES modes { count = 1 }
+case KICK history { force A = (0, 0, 1 kN), time = step, duration = 0.5 s, step = 0.001 s, damping = 0 percent }
+case QUAKE spectrum { modes = MODES, curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (0, 0, 1) }
+combo MIX = 1.0*DEAD + 1.0*KICK + 0.5*QUAKE
+"""))
+    s = r.springs["MIX"]
+    assert s.basis == "bounds"
+    dead, peak = -400 * 9.81, r.springs["QUAKE"].force[0, 2]
+    assert s.force[0, 2] == pytest.approx(dead + 2000 + 0.5 * peak, rel=1e-4)
+    assert s.force_min[0, 2] == pytest.approx(dead - 0.5 * peak, rel=1e-9)
+    assert s.at_min[0, 2] == 0.0                     # the step load starts from rest
+    from fem import write_results
+
+    write_results(r, tmp_path, render=False)
+    import csv
+
+    row = next(csv.DictReader(open(tmp_path / "springs_MIX.csv")))
+    assert float(row["Fz_N_min"]) == pytest.approx(dead - 0.5 * peak, rel=1e-9)

@@ -122,6 +122,7 @@ class CombinationResult:
     static: StaticResult | None = None
     duration: tuple | None = None
     warnings: tuple = ()
+    springs: object = None      # fem.analysis.spring_forces.SpringForces, "bounds" (None: no springs between nodes)
 
 
 @dataclass

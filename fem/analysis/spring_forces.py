@@ -10,6 +10,10 @@ How each case kind is reduced (`SpringForces.basis`):
   of it; the same sampling as the displacements' peaks;
 - harmonic cases: "amplitude": each component's largest amplitude over the frequencies, phases
   kept in the sum over modes, with the frequency of it;
+- combinations with a history, spectrum or harmonic case: "bounds", the largest and smallest
+  value of each component (fem/analysis/combine.py's rules): the static part exact, a history
+  part added step by step (the time of each bound), a spectrum or harmonic part's peak added
+  with both signs, |factor| times it;
 - spectrum cases: "combined peaks": each component of every mode's force, combined over the
   modes by the case's rule (with the CQC correlations) and over the directions by its spatial
   rule, never taken from combined displacements.
@@ -27,7 +31,9 @@ import scipy.sparse as sp
 from ..elements.node_spring import spring_map
 from .modal_sum import combine, combine_directions
 
-__all__ = ["SpringForces", "deflection_matrix", "modal_springs", "peak_springs", "series_springs", "spectrum_springs",
+_BLOCK = 4_000_000        # values of one block of steps (32 MB of float64), as fem/analysis/combine.py
+
+__all__ = ["SpringForces", "combination_springs", "deflection_matrix", "modal_springs", "peak_springs", "series_springs", "spectrum_springs",
            "static_springs"]
 
 
@@ -48,11 +54,16 @@ class SpringForces:
     deflection: np.ndarray
     at: np.ndarray | None = None
     at_unit: str = ""
+    force_min: np.ndarray | None = None       # "bounds" only: the smallest values, with their times
+    deflection_min: np.ndarray | None = None
+    at_min: np.ndarray | None = None
 
     def largest(self) -> tuple[int, int, float] | None:
         """(spring, component, value) of the largest |force| among the translations, or None;
         for "per mode", over every mode."""
         f = np.abs(self.force[..., :3]).reshape(-1, self.force.shape[-2], 3).max(axis=0)
+        if self.force_min is not None:
+            f = np.maximum(f, np.abs(self.force_min[:, :3]))
         if not f.size:
             return None
         s, c = np.unravel_index(int(f.argmax()), f.shape)
@@ -117,3 +128,41 @@ def spectrum_springs(model, per_direction, rule: str, spatial: str) -> SpringFor
     parts = [combine(np.asarray(D @ np.asarray(U).T).T, rule, rho) for U, rho in per_direction]
     d = combine_directions(parts, spatial).reshape(-1, 6)
     return SpringForces("combined peaks", model.node_springs.k * d, d)
+
+
+def combination_springs(model, terms) -> SpringForces | None:
+    """"bounds" of a combination of [(factor, result, name)] (static, history with its series
+    basis, spectrum and harmonic results); None when the model has no springs."""
+    if not _has(model):
+        return None
+    D = deflection_matrix(model)
+    s = len(model.node_springs)
+    base = np.zeros(6 * s)
+    for f, r, _ in terms:
+        if r.kind == "static":
+            base += f * (D @ np.asarray(r.u, float).ravel())
+    hi, lo, hi_t, lo_t = base.copy(), base.copy(), None, None
+    hist = [(f, r) for f, r, _ in terms if r.kind == "history"]
+    if hist:
+        q = np.hstack([f * r.series.q for f, r in hist])                                  # (m, C)
+        B = np.hstack([np.asarray(D @ r.series.basis["displacement"]) for _, r in hist])  # (6 s, C)
+        t = hist[0][1].t
+        hi, lo = np.full(6 * s, -np.inf), np.full(6 * s, np.inf)
+        hi_t, lo_t = np.zeros(6 * s), np.zeros(6 * s)
+        cols = np.arange(6 * s)
+        step = max(1, _BLOCK // (6 * s))
+        for a in range(0, len(t), step):            # blocks of steps: the whole series is never held
+            v = q[a:a + step] @ B.T + base                                                 # (b, 6 s)
+            i, j = v.argmax(axis=0), v.argmin(axis=0)
+            up, down = v[i, cols] > hi, v[j, cols] < lo
+            hi[up], hi_t[up] = v[i, cols][up], t[a + i[up]]
+            lo[down], lo_t[down] = v[j, cols][down], t[a + j[down]]
+    for f, r, name in terms:
+        if r.kind in ("spectrum", "harmonic"):
+            peak = abs(f) * np.asarray(r.springs.deflection, float).ravel()
+            hi, lo = hi + peak, lo - peak
+    k = model.node_springs.k
+    shape = (-1, 6)
+    return SpringForces("bounds", k * hi.reshape(shape), hi.reshape(shape),
+                        None if hi_t is None else hi_t.reshape(shape), "s" if hist else "",
+                        k * lo.reshape(shape), lo.reshape(shape), None if lo_t is None else lo_t.reshape(shape))

@@ -20,7 +20,8 @@ __all__ = ["add_spring_blocks", "report_section", "spring_symbols", "summary_lin
 _FORCES = ("Fx", "Fy", "Fz", "Mx", "My", "Mz")
 _BASIS = {"exact": "exact", "per mode": "per mode, of the mass-normalised shapes",
           "peak over time": "largest over time", "amplitude": "amplitudes, largest over the frequencies",
-          "combined peaks": "per-mode forces combined"}
+          "combined peaks": "per-mode forces combined",
+          "bounds": "the larger in size of the largest and smallest of each component"}
 _AT = {"s": "time_s", "Hz": "frequency_Hz"}
 
 
@@ -33,6 +34,31 @@ def _scales(units):
     f = [units.per_si("force")] * 3 + [units.per_si("moment")] * 3
     d = [units.per_si("length")] * 3 + [1.0] * 3
     return np.array(f), np.array(d)
+
+
+def _governing(s):
+    """(force, deflection, time or None) (s, 6): for "bounds" the larger in size of the largest
+    and smallest of each component, signed; otherwise the values as they are."""
+    if s.force_min is None:
+        return s.force, s.deflection, s.at
+    low = np.abs(s.force_min) > np.abs(s.force)
+    at = None if s.at is None else np.where(low, s.at_min, s.at)
+    return np.where(low, s.force_min, s.force), np.where(low, s.deflection_min, s.deflection), at
+
+
+def _bounds_table(out, case, s, results, units, fh, dh) -> None:
+    """springs_<combination>.csv of "bounds": the largest, then the smallest, of each force and
+    deflection, with their times where a history part gives them."""
+    ns, names = results.model.node_springs, results.model.node_names
+    kf, kd = _scales(units)
+    times = s.at is not None
+    head = ["spring", "node_a", "node_b", *(h + "_max" for h in fh), *(h + "_min" for h in fh),
+            *(h + "_max" for h in dh), *(h + "_min" for h in dh),
+            *([f"time_s_{q}_max" for q in _FORCES] + [f"time_s_{q}_min" for q in _FORCES] if times else [])]
+    rows = ([nm, names[ns.nodes[j, 0]], names[ns.nodes[j, 1]], *map(float, s.force[j] * kf),
+             *map(float, s.force_min[j] * kf), *map(float, s.deflection[j] * kd), *map(float, s.deflection_min[j] * kd),
+             *([*map(float, s.at[j]), *map(float, s.at_min[j])] if times else [])] for j, nm in enumerate(ns.names))
+    write_csv(out / f"springs_{case}.csv", head, rows)
 
 
 def write_spring_tables(results, out) -> None:
@@ -48,6 +74,9 @@ def write_spring_tables(results, out) -> None:
     fh = [f"{q}_{units.header('force' if j < 3 else 'moment')}" for j, q in enumerate(_FORCES)]
     dh = [f"d{d}_{units.header('length') if j < 3 else 'rad'}" for j, d in enumerate(DIRECTIONS)]
     for case, s in results.springs.items():
+        if s.basis == "bounds":
+            _bounds_table(out, case, s, results, units, fh, dh)
+            continue
         at = _AT.get(s.at_unit) if s.at is not None else None
         athead = [f"{at}_{q}" for q in _FORCES] if at else []
         per_mode = s.basis == "per mode"
@@ -68,13 +97,22 @@ def _case_block(results, s) -> dict:
         out["modes"] = [{name: {"force": s.force[m, j].tolist(), "deflection": s.deflection[m, j].tolist()}
                          for j, name in enumerate(ns.names)} for m in range(len(s.force))]
         return out
-    out["springs"] = {name: {"force": s.force[j].tolist(), "deflection": s.deflection[j].tolist(),
-                             **({at: s.at[j].tolist()} if at else {})} for j, name in enumerate(ns.names)}
+    force, defl, _ = _governing(s)
+    out["springs"] = {name: {"force": force[j].tolist(), "deflection": defl[j].tolist(),
+                             **({at: s.at[j].tolist()} if at and s.force_min is None else {})}
+                      for j, name in enumerate(ns.names)}
+    if s.force_min is not None:         # bounds: the largest and smallest too, with their times
+        for j, name in enumerate(ns.names):
+            row = out["springs"][name]
+            row.update(force_max=s.force[j].tolist(), force_min=s.force_min[j].tolist(),
+                       deflection_max=s.deflection[j].tolist(), deflection_min=s.deflection_min[j].tolist())
+            if at:
+                row.update({f"{at}_max": s.at[j].tolist(), f"{at}_min": s.at_min[j].tolist()})
     big = s.largest()
     if big is not None:
         j, c, v = big
         out["largest"] = {"spring": ns.names[j], "component": _FORCES[c], "force_N": v,
-                          "deflection_m": float(abs(s.deflection[j, c]))}
+                          "deflection_m": float(abs(defl[j, c]))}
     return out
 
 
@@ -89,7 +127,7 @@ def add_spring_blocks(results, doc: dict) -> None:
     doc["node_springs"] = {n: {"node_a": names[ns.nodes[j, 0]], "node_b": names[ns.nodes[j, 1]],
                                "stiffness": ns.k[j].tolist(), "axes": ns.axes[j].tolist(),
                                "damping_ratio": float(ns.damping[j])} for j, n in enumerate(ns.names)}
-    for c in doc["cases"]:
+    for c in [*doc["cases"], *doc.get("demands", [])]:
         s = results.springs.get(c["name"])
         if s is not None:
             c["springs"] = _case_block(results, s)
@@ -105,15 +143,17 @@ def summary_lines(results, name: str, indent: str) -> list[str]:
     if big is None:
         return []
     j, c, v = big
+    _, defl, at = _governing(s)
     units = _units(results)
     kf, kd = _scales(units)
     flabel = units.label("force") if units.chosen else "kN"
     fk = kf[c] if units.chosen else 1e-3
     dlabel, dk = (units.label("length"), kd[c]) if units.chosen else ("mm", 1e3)
-    when = f" at {s.at[j, c]:.4g} {s.at_unit}" if s.at is not None else ""
-    word = {"exact": "", "peak over time": "peak ", "amplitude": "amplitude ", "combined peaks": "combined "}[s.basis]
+    when = f" at {at[j, c]:.4g} {s.at_unit}" if at is not None else ""
+    word = {"exact": "", "peak over time": "peak ", "amplitude": "amplitude ", "combined peaks": "combined ",
+            "bounds": "bounding "}[s.basis]
     return [f"{indent}springs: largest {word}force {v * fk:.4g} {flabel} along {'xyz'[c]} of "
-            f"{results.model.node_springs.names[j]}, deflection {abs(s.deflection[j, c]) * dk:.4g} {dlabel}{when}"]
+            f"{results.model.node_springs.names[j]}, deflection {abs(defl[j, c]) * dk:.4g} {dlabel}{when}"]
 
 
 REPORT_ROWS = 12     # springs per case in the report's table
