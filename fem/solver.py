@@ -334,7 +334,7 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
 
     from .analysis.combine import combine_terms, envelope
     from .analysis.history_case import series_basis
-    from .analysis.spring_forces import combination_springs
+    from .analysis.spring_forces import combination_springs, envelope_springs
 
     found = {**run.statics, **responses}
     used = {n for cb in dynamic for n in cb.factors} | {n for env in model.envelopes for n in env.over}
@@ -355,6 +355,9 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
     for env in model.envelopes:
         with _at_case(env):
             out[env.name] = envelope(env.name, [found[n] for n in env.over], sizes)
+            out[env.name].springs = envelope_springs([
+                found[n].springs if found[n].kind == "combination" else combination_springs(model, [(1.0, found[n], n)])
+                for n in env.over])
     return out
 
 

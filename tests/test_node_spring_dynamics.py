@@ -197,6 +197,7 @@ case MODES modes { count = 1 }
 case KICK history { force A = (0, 0, 1 kN), time = step, duration = 0.5 s, step = 0.001 s, damping = 0 percent }
 case QUAKE spectrum { modes = MODES, curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (0, 0, 1) }
 combo MIX = 1.0*DEAD + 1.0*KICK + 0.5*QUAKE
+envelope ALL over DEAD, MIX, QUAKE
 """))
     s = r.springs["MIX"]
     assert s.basis == "bounds"
@@ -204,6 +205,9 @@ combo MIX = 1.0*DEAD + 1.0*KICK + 0.5*QUAKE
     assert s.force[0, 2] == pytest.approx(dead + 2000 + 0.5 * peak, rel=1e-4)
     assert s.force_min[0, 2] == pytest.approx(dead - 0.5 * peak, rel=1e-9)
     assert s.at_min[0, 2] == 0.0                     # the step load starts from rest
+    env, quake = r.springs["ALL"], r.springs["QUAKE"]
+    assert env.force[0, 2] == pytest.approx(max(s.force[0, 2], quake.force[0, 2], dead), rel=1e-12)
+    assert env.force_min[0, 2] == pytest.approx(min(s.force_min[0, 2], -quake.force[0, 2], dead), rel=1e-12)
     from fem import write_results
 
     write_results(r, tmp_path, render=False)

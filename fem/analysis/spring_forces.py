@@ -14,6 +14,8 @@ How each case kind is reduced (`SpringForces.basis`):
   value of each component (fem/analysis/combine.py's rules): the static part exact, a history
   part added step by step (the time of each bound), a spectrum or harmonic part's peak added
   with both signs, |factor| times it;
+- envelopes: "bounds" too, the largest of the largest and the smallest of the smallest over
+  their cases and combinations (each case as the combination 1.0 * case), without times;
 - spectrum cases: "combined peaks": each component of every mode's force, combined over the
   modes by the case's rule (with the CQC correlations) and over the directions by its spatial
   rule, never taken from combined displacements.
@@ -33,7 +35,7 @@ from .modal_sum import combine, combine_directions
 
 _BLOCK = 4_000_000        # values of one block of steps (32 MB of float64), as fem/analysis/combine.py
 
-__all__ = ["SpringForces", "combination_springs", "deflection_matrix", "modal_springs", "peak_springs", "series_springs", "spectrum_springs",
+__all__ = ["SpringForces", "combination_springs", "deflection_matrix", "envelope_springs", "modal_springs", "peak_springs", "series_springs", "spectrum_springs",
            "static_springs"]
 
 
@@ -166,3 +168,15 @@ def combination_springs(model, terms) -> SpringForces | None:
     return SpringForces("bounds", k * hi.reshape(shape), hi.reshape(shape),
                         None if hi_t is None else hi_t.reshape(shape), "s" if hist else "",
                         k * lo.reshape(shape), lo.reshape(shape), None if lo_t is None else lo_t.reshape(shape))
+
+
+def envelope_springs(parts) -> SpringForces | None:
+    """"bounds" of an envelope from the "bounds" of each of its cases and combinations (None
+    when the model has no springs)."""
+    if not parts or parts[0] is None:
+        return None
+    hi = np.max([p.deflection for p in parts], axis=0)
+    lo = np.min([p.deflection_min for p in parts], axis=0)
+    k_hi = np.max([p.force for p in parts], axis=0)
+    k_lo = np.min([p.force_min for p in parts], axis=0)
+    return SpringForces("bounds", k_hi, hi, None, "", k_lo, lo, None)
