@@ -33,10 +33,10 @@ import scipy.sparse as sp
 from ..elements.node_spring import spring_map
 from .modal_sum import combine, combine_directions
 
-_BLOCK = 4_000_000        # values of one block of steps (32 MB of float64), as fem/analysis/combine.py
+__all__ = ["SpringForces", "combination_springs", "deflection_matrix", "envelope_springs", "modal_springs",
+           "peak_springs", "series_springs", "spectrum_springs", "static_springs"]
 
-__all__ = ["SpringForces", "combination_springs", "deflection_matrix", "envelope_springs", "modal_springs", "peak_springs", "series_springs", "spectrum_springs",
-           "static_springs"]
+_BLOCK = 4_000_000        # values of one block of steps (32 MB of float64), as fem/analysis/combine.py
 
 
 @dataclass

@@ -25,7 +25,7 @@ import scipy.sparse as sp
 
 from .rigid import arm_transform
 
-__all__ = ["spring_blocks", "spring_deflections", "spring_diagonal", "spring_forces", "spring_map", "spring_matrix"]
+__all__ = ["spring_blocks", "spring_deflections", "spring_map", "spring_matrix"]
 
 
 def spring_map(ns, coords) -> np.ndarray:
@@ -61,16 +61,6 @@ def spring_matrix(ns, coords, blocks: np.ndarray | None = None) -> sp.csr_matrix
     return BlockPattern.of(np.asarray(ns.nodes), n).matrix_from_blocks(X)
 
 
-def spring_diagonal(ns, coords) -> np.ndarray:
-    """(n, 6) sum of the springs' diagonal stiffness at each node, global directions (what
-    holds a node's direction, for the deck's checks)."""
-    d = np.diagonal(spring_blocks(ns, coords), axis1=1, axis2=2).reshape(-1, 2, 6)
-    out = np.zeros((len(coords), 6))
-    for end in (0, 1):
-        np.add.at(out, np.asarray(ns.nodes)[:, end], d[:, end])
-    return out
-
-
 def spring_deflections(ns, coords, u) -> np.ndarray:
     """(..., s, 6) deflections D [u_A; u_B] in each spring's axes from node displacements u
     (..., n, 6) (real or complex): relative translation, then relative rotation."""
@@ -78,8 +68,3 @@ def spring_deflections(ns, coords, u) -> np.ndarray:
     nodes = np.asarray(ns.nodes)
     pair = np.concatenate([u[..., nodes[:, 0], :], u[..., nodes[:, 1], :]], axis=-1)   # (..., s, 12)
     return np.einsum("sab,...sb->...sa", spring_map(ns, coords), pair)
-
-
-def spring_forces(ns, coords, u) -> np.ndarray:
-    """(..., s, 6) force and moment each spring carries, k d, in its axes (N, N m)."""
-    return np.asarray(ns.k, float) * spring_deflections(ns, coords, u)
