@@ -283,7 +283,20 @@ def solve(model: Model, cases=None) -> Results:
                       list(demands.values()))
     return Results(model, {**run.statics, **run.modes, **responses, **demands}, sound, mass, checks, tuple(notes),
                    asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance,
-                   _stresses(model, asm, run.statics, responses))
+                   _stresses(model, asm, run.statics, responses),
+                   springs=_springs(model, run.statics, run.modes, {**responses, **demands}))
+
+
+def _springs(model: Model, statics: dict, modes: dict, responses: dict) -> dict:
+    """The forces of the springs between nodes of every case that has them, by name."""
+    from .analysis.spring_forces import modal_springs, static_springs
+
+    if model.node_springs is None:
+        return {}
+    out = {n: static_springs(model, r.u) for n, r in statics.items()}
+    out.update({n: modal_springs(model, r.shapes) for n, r in modes.items()})
+    out.update({n: r.springs for n, r in responses.items() if getattr(r, "springs", None) is not None})
+    return out
 
 
 def _stresses(model: Model, asm, statics: dict, responses: dict) -> dict:
@@ -320,6 +333,7 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
 
     from .analysis.combine import combine_terms, envelope
     from .analysis.history_case import series_basis
+    from .analysis.spring_forces import combination_springs, envelope_springs
 
     found = {**run.statics, **responses}
     used = {n for cb in dynamic for n in cb.factors} | {n for env in model.envelopes for n in env.over}
@@ -335,10 +349,14 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
         part = combine(cb.name, statics, model.coords) if statics else None
         with _at_case(cb):
             out[cb.name] = combine_terms(cb.name, [(f, found[n]) for n, f in cb.factors.items()], sizes, part)
+            out[cb.name].springs = combination_springs(model, [(f, found[n], n) for n, f in cb.factors.items()])
     found.update(out)
     for env in model.envelopes:
         with _at_case(env):
             out[env.name] = envelope(env.name, [found[n] for n in env.over], sizes)
+            out[env.name].springs = envelope_springs([
+                found[n].springs if found[n].kind == "combination" else combination_springs(model, [(1.0, found[n], n)])
+                for n in env.over])
     return out
 
 

@@ -122,6 +122,7 @@ class CombinationResult:
     static: StaticResult | None = None
     duration: tuple | None = None
     warnings: tuple = ()
+    springs: object = None      # fem.analysis.spring_forces.SpringForces, "bounds" (None: no springs between nodes)
 
 
 @dataclass
@@ -136,6 +137,7 @@ class EnvelopeResult:
     over: tuple
     fields: dict
     warnings: tuple = ()
+    springs: object = None      # fem.analysis.spring_forces.SpringForces, "bounds" (None: no springs between nodes)
 
 
 def _static_part(fld: Field, terms) -> np.ndarray | None:

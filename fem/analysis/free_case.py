@@ -10,6 +10,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .spring_damping import spring_ratios
 from .free import free_response, modal_initial_conditions
 from .memory import check_memory
 from .modal_case import ModesCaseResult, field_responses
@@ -50,6 +51,7 @@ class FreeCaseResult:
     stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
     links: np.ndarray = None        # (d,) largest |force| of the rigid links at their linked DOFs (link_dynamics)
     link_times: np.ndarray = None   # (d,) s, when
+    springs: object = None          # fem.analysis.spring_forces.SpringForces: peaks over time (None: no springs)
 
 
 BALANCE_TOL = 1e-6        # per-mode reactions vs inertia forces; limited by the eigen residuals
@@ -159,7 +161,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     f = asm.free
     M = asm.M[f][:, f]
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = case_ratios(case, omega, below_one=True)
+    zeta = case_ratios(case, omega, below_one=True, added=spring_ratios(model, modal))
     q0, qd0 = modal_initial_conditions(phi, M, u0[f], v0[f])
     mu = M @ u0[f]
     total = float(u0[f] @ mu)
@@ -212,11 +214,13 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     stresses = series_stresses(model, lambda rows: (q[rows] @ cols.T).reshape(-1, model.n_members, 12), t,
                                linear=(q, cols.T))
     from .link_dynamics import free_link_peaks
+    from .spring_forces import series_springs
 
     l_peak, l_time = free_link_peaks(asm, modal.shapes.reshape(6 * model.n_nodes, -1), q, acc, t)
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
                           captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                          rel, ft, frames, warnings, start_error, rounding, ok, stresses, l_peak, l_time)
+                          rel, ft, frames, warnings, start_error, rounding, ok, stresses, l_peak, l_time,
+                          springs=series_springs(model, q, modal.shapes.reshape(6 * model.n_nodes, -1), t))
 
 
 def inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:

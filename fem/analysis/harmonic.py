@@ -28,6 +28,7 @@ from ..harmonic_forms import complex_amplitude, growth
 from ..limits import ROWS_LIMIT
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .spring_damping import spring_ratios
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .static import load_vector
@@ -77,6 +78,7 @@ class HarmonicResult:
     links: np.ndarray = None            # (d,) largest force amplitude of the rigid links at their linked DOFs
     link_freq: np.ndarray = None        # (d,) Hz, where
     link_lag: np.ndarray = None         # (d,) degrees, lag there
+    springs: object = None              # fem.analysis.spring_forces.SpringForces: amplitudes (None: no springs)
 
     def velocity(self) -> np.ndarray:
         """(m, r, 3) complex velocity amplitudes of the recorded nodes' translations, m/s:
@@ -241,7 +243,9 @@ def _columns(static, cols, shape):
     (frequencies or 1, *shape)."""
     if isinstance(static, np.ndarray):
         return static[cols][None].reshape(1, *shape)
-    return (static[0] @ static[1][:, cols]).reshape(-1, *shape)
+    # the frequencies counted from the scales: a shape of size 0 (no member at a recorded node)
+    # leaves -1 undetermined
+    return (static[0] @ static[1][:, cols]).reshape(len(static[0]), *shape)
 
 
 def _frequencies(case, omega, zeta, around) -> np.ndarray:
@@ -268,7 +272,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     n6 = 6 * model.n_nodes
     f = asm.free
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = case_ratios(case, omega)
+    zeta = case_ratios(case, omega, added=spring_ratios(model, modal))
     terms = load_terms(model, asm, case)
     freq = _frequencies(case, omega, zeta, tuple(around) + limit_frequencies(case.limits))
     record = case.record if case.record is not None else np.arange(model.n_nodes)
@@ -383,7 +387,8 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           support, reactions, members, member_forces, warnings, complete,
                           vel.reshape(-1, 3), vel_f.reshape(-1, 3), acc.reshape(-1, 3), acc_f.reshape(-1, 3),
                           case.ground, case.at is not None, limits, stresses, lk[0], lk[1],
-                          None if lk[2] is None else _lags(lk[2]))
+                          None if lk[2] is None else _lags(lk[2]),
+                          springs=_springs(model, H, shapes, freq, static))
 
 
 def _stresses(model, H, Fm, m_static, freq):
@@ -398,6 +403,19 @@ def _stresses(model, H, Fm, m_static, freq):
         return (H[rows] @ cols).reshape(-1, e, 12) + _columns(static, np.arange(12 * e), (e, 12))
 
     return harmonic_stresses(model, forces, freq)
+
+
+def _springs(model, H, shapes, freq, static):
+    """Amplitudes of the springs between nodes, largest over the frequencies (phases kept)."""
+    from .spring_forces import deflection_matrix, peak_springs
+
+    if model.node_springs is None:
+        return None
+    D = deflection_matrix(model)
+    if static is not None:
+        static = D @ static if isinstance(static, np.ndarray) else (static[0], (D @ static[1].T).T)
+    pk, at, _ = _amplitude_peaks(H, np.asarray(D @ shapes), freq, static)
+    return peak_springs(model, pk, at, "amplitude", "Hz")
 
 
 def modes_complete_to(modal: ModesCaseResult) -> float:

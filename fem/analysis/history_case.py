@@ -12,11 +12,13 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .spring_damping import spring_ratios
 from .free_case import frame_indices, peak_index, peaks, step_warnings
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .recurrence import integrate_modal, knot_kicks
 from .static import line_loads, load_vector
+from .spring_forces import series_springs
 from .stress import series_stresses
 
 __all__ = ["HistoryResult", "HistorySeries", "series_basis", "solve_history_case"]
@@ -49,6 +51,7 @@ class HistoryResult:
     series: HistorySeries = None    # every field at every step, as columns times their histories
     links: np.ndarray = None        # (d,) largest |force| of the rigid links at their linked DOFs (link_dynamics)
     link_times: np.ndarray = None   # (d,) s, when
+    springs: object = None          # fem.analysis.spring_forces.SpringForces: peaks over time (None: no springs)
 
 
 class HistorySeries(NamedTuple):
@@ -117,7 +120,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     t = np.arange(0.0, case.duration + 0.5 * dt, dt)
     n = len(t)
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = case_ratios(case, omega, below_one=True)
+    zeta = case_ratios(case, omega, below_one=True, added=spring_ratios(model, modal))
     shapes = modal.shapes.reshape(n6, -1)
     k = len(omega)
     fixed = np.zeros(n6, bool)
@@ -194,7 +197,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                          t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses,
-                         HistorySeries(qg, own), l_peak, l_time)
+                         HistorySeries(qg, own), l_peak, l_time,
+                         springs=series_springs(model, qg, np.hstack([shapes, own["displacement"]]), t))
 
 
 def _stresses(model, qg, columns, G, lines, t):

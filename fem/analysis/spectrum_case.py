@@ -15,8 +15,10 @@ from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import case_ratios
 from .link_dynamics import carried_ground, carried_inertia
+from .spring_damping import spring_ratios
 from .modal_case import ModesCaseResult, field_responses, ground_mass_warnings
 from .modal_sum import combine, combine_directions, cqc_correlation
+from .spring_forces import spectrum_springs
 from .stress import spectrum_stresses
 
 __all__ = ["SpectrumResult", "solve_spectrum_case"]
@@ -51,6 +53,7 @@ class SpectrumResult:
     warnings: tuple = ()
     links: np.ndarray | None = None   # (d,) combined peak forces of the rigid links on their linked DOFs
     stresses: object = None   # fem.analysis.stress.MemberStresses: per-mode stresses, combined
+    springs: object = None    # fem.analysis.spring_forces.SpringForces: per-mode forces, combined (None: no springs)
 
 
 def _base(model, R):
@@ -67,7 +70,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     if np.any(omega <= 0):
         raise ModelError(f"case {case.name}: rigid-body modes have no spectral response; "
                          "support the structure")
-    zeta = case_ratios(case, omega)
+    zeta = case_ratios(case, omega, added=spring_ratios(model, modal))
     T = 2 * np.pi / omega
     outside = []
     if sp.shape == "table":
@@ -87,7 +90,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     shapes = modal.shapes.reshape(n6, -1)
     C = carried_inertia(model, asm)
     per_dir_u, per_dir_r, per_dir_m, sas, modal_u, missing_frac = [], [], [], [], [], []
-    per_dir_b, per_dir_l, per_dir_f = [], [], []
+    per_dir_b, per_dir_l, per_dir_f, per_dir_s = [], [], [], []
     for d in range(3):
         factor = case.directions[d]
         if factor == 0:
@@ -137,6 +140,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         per_dir_r.append(combine(R2, case.combine, rr))
         per_dir_m.append(combine(F2, case.combine, rr))
         per_dir_f.append((F2, rr))
+        per_dir_s.append((U2, rr))
         per_dir_b.append(combine(_base(model, R2), case.combine, rr))
         sas.append(sa)
         modal_u.append(U.reshape(len(U), -1, 6))
@@ -147,7 +151,8 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           case.missing, np.array(missing_frac), outside,
                           combine_directions(per_dir_b, rule), sp.damping_factor(zeta), warnings,
                           combine_directions(per_dir_l, rule) if per_dir_l else None,
-                          spectrum_stresses(model, per_dir_f, case.combine, rule))
+                          spectrum_stresses(model, per_dir_f, case.combine, rule),
+                          springs=spectrum_springs(model, per_dir_s, case.combine, rule))
 
 
 def _damping_warnings(case, sp, zeta) -> tuple:

@@ -21,6 +21,7 @@ from .definitions import Definitions
 from .excitations import excitation_statement
 from .expressions import WILD, Evaluator
 from .links import end_offset, link_statement
+from .node_springs import node_spring_statement
 from .sources import Sources, file_name
 
 __all__ = ["CASE_KINDS", "LOOP_STATEMENTS", "MAX_COORDINATE", "Statements"]
@@ -334,6 +335,9 @@ class Statements:
                 raise DeckError(f"spring {d}: a stiffness cannot be negative", self.loc(kw))
             not_huge(vals[d], f"spring {d}", self.loc(kw))
         self.defs.springs.append((self.fixed_name(target), vals, self.loc(s)))
+
+    def st_node_spring(self, s):
+        node_spring_statement(self, s)
 
     def st_mass(self, s):
         target, value, *opts = s.children

@@ -11,6 +11,7 @@ import numpy as np
 
 from . import limits_out, resonance_out
 from .fmt import doc_units, percent, quantity
+from .springs_out import report_section as springs_section
 from .stress_out import report_section as stress_section
 
 __all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "report", "write_report"]
@@ -244,6 +245,7 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
                                                                             f"{quantity(doc, 'force', b['Fy'], (1e-3, 'kN'))}"],
                                                         ["largest displacement", quantity(doc, "length", c["max_displacement_m"], (1.0, "m"))]]))
         parts.append(stress_section(c, doc, _table))
+        parts.append(springs_section(c, doc, _table))
         parts += [_img(p, cap, "plot" if p.parent.name == "plots" else "gallery")
                   for p, cap in images.get(c["name"], [])]
     parts.append(f'<p class="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p></body></html>')

@@ -189,6 +189,9 @@ def results_doc(results) -> dict:
         "demands": [envelope_out.json_entry(results, r) for r in results.demands],
         "sections": _sections(model),
     }
+    from .springs_out import add_spring_blocks
+
+    add_spring_blocks(results, doc)
     return _with_stresses(results, doc)
 
 

@@ -171,6 +171,9 @@ def write_tables(results, out: Path) -> None:
     from .stress_out import write_stress_tables
 
     write_stress_tables(results, out)
+    from .springs_out import write_spring_tables
+
+    write_spring_tables(results, out)
     for r in results.modal:
         write = _OWN_TABLES.get(r.kind)
         if write is not None:
