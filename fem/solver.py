@@ -276,7 +276,8 @@ def solve(model: Model, cases=None) -> Results:
         raise ModelError(f"combination {dynamic[0].name}: a combination with a dynamic case in a model with "
                          "pretensioned members is not supported yet (the pretension state would be scaled with "
                          "the static cases' factors)", dynamic[0].location)
-    demands = _demands(model, run, responses, dynamic)
+    lines = _line_loads(model, asm)
+    demands = _demands(model, run, responses, dynamic, lines)
     mass = assembled_mass(model, asm)
     modal = [*run.modes.values(), *responses.values()]
     resonance = _resonance(model, run.modes)
@@ -284,20 +285,26 @@ def solve(model: Model, cases=None) -> Results:
                       list(demands.values()))
     return Results(model, {**run.statics, **run.modes, **responses, **demands}, sound, mass, checks, tuple(notes),
                    asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance,
-                   _stresses(model, asm, run.statics, responses))
+                   _stresses(model, lines, run.statics, responses))
 
 
-def _stresses(model: Model, asm, statics: dict, responses: dict) -> dict:
-    """The member stresses of every static case and combination (exact, from its end forces and
-    line loads) and of every response case (computed by its solver), by name."""
+def _line_loads(model: Model, asm) -> dict:
+    """The uniform line loads (e, 3) of every static case and static combination, by name."""
     from .analysis.static import line_loads
-    from .analysis.stress import member_stresses, section_table
 
-    table = section_table(model)
     lines = {c.name: line_loads(model, asm, c) for c in model.cases if c.kind == "static"}
     for cb in model.combinations:      # a combination of static cases: its factored line loads
         if all(n in lines for n in cb.factors):
             lines[cb.name] = sum((f * lines[n] for n, f in cb.factors.items()), np.zeros((model.n_members, 3)))
+    return lines
+
+
+def _stresses(model: Model, lines: dict, statics: dict, responses: dict) -> dict:
+    """The member stresses of every static case and combination (exact, from its end forces and
+    line loads) and of every response case (computed by its solver), by name."""
+    from .analysis.stress import member_stresses, section_table
+
+    table = section_table(model)
     out = {n: member_stresses(model, r.member_forces, lines[n], table=table) for n, r in statics.items() if n in lines}
     out.update({n: r.stresses for n, r in responses.items() if getattr(r, "stresses", None) is not None})
     return out
@@ -314,13 +321,14 @@ def _static_only(model: Model, combo) -> bool:
     return all(kinds.get(n) == "static" for n in combo.factors)
 
 
-def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
+def _demands(model: Model, run: _Run, responses: dict, dynamic: list, lines: dict) -> dict:
     """The combinations with a history, spectrum or harmonic case (`CombinationResult`) and
     the envelopes (`EnvelopeResult`), by name (fem/analysis/combine.py)."""
     from dataclasses import replace
 
     from .analysis.combine import combine_terms, envelope
     from .analysis.history_case import series_basis
+    from .analysis.stress_field import StressContext
 
     found = {**run.statics, **responses}
     used = {n for cb in dynamic for n in cb.factors} | {n for env in model.envelopes for n in env.over}
@@ -329,7 +337,7 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
         if r is not None and r.kind == "history":
             m = model_case(model, n).modes
             found[n] = replace(r, series=series_basis(model, run.stiffened.get(m, run.asm), r, run.modes[m]))
-    sizes = {"node": model.n_nodes, "member": model.n_members}
+    sizes = {"node": model.n_nodes, "member": model.n_members, "stress": StressContext(model, lines)}
     out = {}
     for cb in dynamic:
         statics = [(f, run.statics[n]) for n, f in cb.factors.items() if n in run.statics]
