@@ -1,0 +1,246 @@
+"""Member stresses of combinations and envelopes (fem/analysis/stress_field.py,
+fem/output/stress_demands.py) against hand formulas and numpy.
+
+Sources: Gere & Goodno, Mechanics of Materials, 8th ed. (combined loadings sigma = N/A +/- My/Wy
++/- Mz/Wz, ch. 8; wL^2/8 at midspan of a simply supported beam and the cantilever's tip stiffness
+3EI/L^3, Appendix G); Chopra, Dynamics of Structures, 4th ed., ch. 13 (a mode's equivalent
+static forces f_jk = m_j phi_jk Gamma_k A_k; SRSS and CQC of the modal responses, with the
+correlation of Der Kiureghian (1981) computed here with numpy).
+
+Tolerances: the Euler-Bernoulli element's end forces are exact for tip loads and uniform line
+loads and the extremes along a member are closed form, so static values agree to round-off
+(1e-9 relative); values built on eigenvectors agree to their residual (1e-6).
+"""
+
+import csv
+import json
+
+import numpy as np
+import pytest
+
+import fem
+from fem.analysis.stress_field import COLUMNS
+
+E = 200e9
+
+
+def _solve(text):
+    return fem.solve(fem.read_text(text))
+
+
+CANTILEVER = """
+material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3, yield = 355 MPa }
+section P = rect(b = 100 mm, h = 200 mm)
+node A = (0, 0, 0)
+node B = (2 m, 0, 0)
+member M : A -> B beam P S
+support A fixed
+case AX static { force B = (10 kN, 0, 0) }
+case BEND static { force B = (0, 2 kN, -5 kN) }
+combo C = 1.0*AX + 1.0*BEND
+envelope E over C
+envelope E2 over C, AX, BEND
+"""
+
+
+def test_static_parts_are_the_stresses_of_the_summed_forces():
+    """An envelope over a static combination and its cases: the combination's normal stresses
+    are N/A + My/Wy + Mz/Wz at the fixed end's corners (Gere & Goodno ch. 8), equal to the summed
+    case's own exact stresses to round-off (linearity); the governing corner is where the signs
+    of z My and -y Mz are both positive."""
+    r = _solve(CANTILEVER)
+    b, s = r["E"].fields["stress"], r.stresses["C"]
+    A, Wy, Wz, L = 0.1 * 0.2, 0.1 * 0.2**2 / 6, 0.2 * 0.1**2 / 6, 2.0
+    hand = 10e3 / A + 5e3 * L / Wy + 2e3 * L / Wz
+    assert b.max[0, 0] == pytest.approx(hand, rel=1e-9)
+    assert b.min[0, 0] == pytest.approx(10e3 / A - 5e3 * L / Wy - 2e3 * L / Wz, rel=1e-9)
+    np.testing.assert_allclose([b.max[0, 0], b.min[0, 0], b.max[0, 1]], [s.sigma_max[0], s.sigma_min[0], s.mises[0]],
+                               rtol=1e-12)
+    assert b.max[0, 2] == pytest.approx(s.mises[0] / 355e6, rel=1e-12) and b.min[0, 1] == -b.max[0, 1]
+    # over the cases too: the largest is the combination's, the smallest the bending case's alone
+    b2 = r["E2"].fields["stress"]
+    assert r["E2"].over[b2.max_by[0, 0]] == "C" and r["E2"].over[b2.min_by[0, 0]] == "BEND"
+    assert b2.min[0, 0] == pytest.approx(-5e3 * L / Wy - 2e3 * L / Wz, rel=1e-9)
+    # internal actions at x = 0 are minus the forces at end i: the corner of the largest stress
+    F = r["C"].member_forces[0]
+    from fem.analysis.stress_field import point_name
+
+    want = f"corner {'+' if F[5] > 0 else '-'}y {'+' if -F[4] > 0 else '-'}z"
+    assert point_name(r.model, 0, int(b.point_max[0, 0])) == want
+    assert point_name(r.model, 0, int(b2.point_max[0, 0])) == want
+
+
+SUPPORTED = """
+material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
+section P = rect(b = 100 mm, h = 200 mm)
+node A = (0, 0, 0)
+node B = (6 m, 0, 0)
+member M : A -> B beam P S
+support A (ux, uy, uz, rx)
+support B (uy, uz)
+case U1 static { line M = (0, 0, -3 kN/m) }
+case U2 static { line M = (0, 0, -1 kN/m) }
+combo C = 1.0*U1 + 1.0*U2
+envelope E over C
+"""
+
+
+def test_static_maximum_inside_the_member():
+    """The summed line loads' wL^2/8 at midspan (Gere & Goodno Appendix G), where the ends carry
+    no moment: the largest stress is found inside the member in closed form."""
+    r = _solve(SUPPORTED)
+    b = r["E"].fields["stress"]
+    W = 0.1 * 0.2**2 / 6
+    assert b.max[0, 0] == pytest.approx(4e3 * 36 / 8 / W, rel=1e-9)
+    assert b.min[0, 0] == pytest.approx(-4e3 * 36 / 8 / W, rel=1e-9)
+
+
+SPECTRUM = """
+material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3, yield = 355 MPa }
+section P = rect(b = 120 mm, h = 200 mm)
+node A = (0, 0, 0)
+node B = (0, 0, 3 m)
+node C = (0, 0, 6 m)
+member M1 : A -> B beam P S
+member M2 : B -> C beam P S
+support A fixed
+mass B = 2 t
+mass C = 1 t
+case G static { force C = (0, 0, -50 kN) }
+case MODES modes { count = 6 }
+case EQ spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (0, 1, 0),
+                   combine = RULE, damping = 5 percent }
+combo D = 1.0*G + 1.0*EQ
+envelope ENV over G, EQ, D
+"""
+
+
+@pytest.mark.parametrize("rule", ["srss", "cqc"])
+def test_spectrum_combination_adds_per_mode_stresses_with_both_signs(rule):
+    """Two lateral modes of a two-mass column under an axial load: at the base, the static
+    -P/A at every corner plus and minus the per-mode base stresses M_k c/I combined by SRSS or
+    CQC (Chopra ch. 13), computed by hand here from the modes."""
+    r = _solve(SPECTRUM.replace("RULE", rule))
+    sp, modal = r["EQ"], r["MODES"]
+    phi = modal.shapes
+    m = np.array([0.0, 2000.0, 1000.0])
+    z = np.array([0.0, 3.0, 6.0])
+    gamma = (m[:, None] * phi[:, 1, :]).sum(axis=0)
+    f = m[:, None] * phi[:, 1, :] * gamma * sp.sa[0]
+    M_base = (f * z[:, None]).sum(axis=0)
+    sec = r.model.sections["P"].props
+    per_mode = np.array([M_base / sec.Wy, M_base / sec.Wz])
+    if rule == "srss":
+        combined = np.sqrt((per_mode**2).sum(axis=1))
+    else:
+        w, zeta = modal.modes.omega, 0.05
+        rr = w[None, :] / w[:, None]
+        rho = 8 * zeta**2 * (1 + rr) * rr**1.5 / ((1 - rr**2) ** 2 + 4 * zeta**2 * rr * (1 + rr) ** 2)
+        combined = np.sqrt(np.einsum("ai,ij,aj->a", per_mode, rho, per_mode))
+    axial = -50e3 / sec.A
+    b = r["D"].fields["stress"]
+    k = r.model.member_names.index("M1")
+    assert min(abs(b.max[k, 0] - (axial + c)) / c for c in combined) < 1e-6
+    assert min(abs(b.min[k, 0] - (axial - c)) / c for c in combined) < 1e-6
+    assert np.isnan(b.max_by).all()                         # no history part: no time governs
+    # the equivalent stress bounds the larger normal size; the ratio is it over the yield
+    assert b.max[k, 1] >= abs(b.min[k, 0]) and b.max[k, 2] == pytest.approx(b.max[k, 1] / 355e6, rel=1e-12)
+
+
+def test_envelope_is_the_largest_and_smallest_over_its_cases():
+    """Envelope bounds against max/min taken by hand over the component cases' own stresses
+    (the static case's exact ones, the spectrum's +/- combined peaks, the combination's)."""
+    r = _solve(SPECTRUM.replace("RULE", "srss"))
+    g, eq, d = r.stresses["G"], r.stresses["EQ"], r["D"].fields["stress"]
+    env = r["ENV"].fields["stress"]
+    hi = np.stack([g.sigma_max, eq.sigma_max, d.max[:, 0]])
+    lo = np.stack([g.sigma_min, eq.sigma_min, d.min[:, 0]])
+    vm = np.stack([g.mises, eq.mises, d.max[:, 1]])
+    np.testing.assert_allclose(env.max[:, 0], hi.max(0), rtol=1e-12)
+    np.testing.assert_allclose(env.min[:, 0], lo.min(0), rtol=1e-12)
+    np.testing.assert_allclose(env.max[:, 1], vm.max(0), rtol=1e-12)
+    np.testing.assert_array_equal(env.max_by[:, 1], vm.argmax(0))
+    np.testing.assert_array_equal(env.max_by[:, 0], hi.argmax(0))
+    assert [r["ENV"].over[i] for i in env.max_by[:, 1]] == ["D", "D"]
+
+
+HISTORY = """
+material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3, yield = 355 MPa }
+section Q = rect(b = 60 mm, h = 60 mm)
+node A = (0, 0, 0)
+node B = (1.5 m, 0, 0)
+member M : A -> B beam Q S
+support A fixed
+mass B = 200 kg
+case PULL static { force B = (5 kN, 0, 0) }
+case MODES modes { count = 3 }
+case HIT history { force B = (0, 2 kN, 0), time = halfsine(0.05 s), duration = 0.5 s, step = 0.001 s,
+                   damping = 2 percent }
+combo C = 1.0*PULL + 1.0*HIT
+combo C2 = 1.0*PULL - 0.5*HIT
+"""
+
+
+@pytest.mark.parametrize("name, factor", [("C", 1.0), ("C2", -0.5)])
+def test_history_with_a_static_case_is_the_time_series_plus_the_static_result(name, factor):
+    """Static plus the time series, step by step, then the peaks: the base stress of a square
+    cantilever P/A +/- factor * 3 E u(t) c/L^2 (tip force 3EI u/L^3 times L over I/c, Gere &
+    Goodno Appendix G) from the recorded tip deflection, computed with numpy; its time."""
+    r = _solve(HISTORY)
+    h = r["HIT"]
+    c, L, A = 0.03, 1.5, 0.06**2
+    bend = factor * 3 * E * h.u[:, 1, 1] * c / L**2
+    series_hi = 5e3 / A + np.abs(bend)                   # a square's corners see +/- the bending
+    series_lo = 5e3 / A - np.abs(bend)
+    b = r[name].fields["stress"]
+    assert b.max[0, 0] == pytest.approx(series_hi.max(), rel=1e-6)
+    assert b.min[0, 0] == pytest.approx(series_lo.min(), rel=1e-6)
+    assert b.max_by[0, 0] == pytest.approx(h.t[series_hi.argmax()], abs=1e-12)
+
+
+def test_a_dynamic_peak_inside_a_member_is_bounded():
+    """A static line load with a spectrum peak: the combination never falls below the static
+    case's own largest stress inside the member nor below static plus peak at either end."""
+    text = SPECTRUM.replace("RULE", "srss").replace("case G static { force C = (0, 0, -50 kN) }",
+                                                    "case G static { line M1 = (20 kN/m, 0, 0) }")
+    r = _solve(text)
+    g, eq, d = r.stresses["G"], r.stresses["EQ"], r["D"].fields["stress"]
+    assert np.all(d.max[:, 0] >= g.sigma_max * (1 - 1e-12))
+    ends = np.nanmax(eq.points, axis=(1, 2))
+    assert np.all(d.max[:, 0] >= ends - 1e-9 * ends.max())
+    assert np.all(d.max[:, 0] <= g.sigma_max + ends * (1 + 1e-12))    # and never more than the sum of the two
+
+
+def test_outputs_carry_the_governing_members(tmp_path, capsys):
+    """results.json `fields.stress`, extremes_stresses.csv and the summary hold the same
+    governing member, point and ratio as the results."""
+    from fem.output.results_json import write_results_json
+    from fem.output.summary import print_solved
+    from fem.output.tables import write_tables
+
+    r = _solve(SPECTRUM.replace("RULE", "srss"))
+    out = tmp_path / "out"
+    out.mkdir()
+    write_tables(r, out)
+    write_results_json(r, out)
+    doc = json.loads((out / "results.json").read_text())
+    d = next(c for c in doc["demands"] if c["name"] == "D")
+    block = d["fields"]["stress"]
+    b = r["D"].fields["stress"]
+    k = int(np.nanargmax(b.max[:, 2]))
+    assert block["columns"] == list(COLUMNS)
+    assert block["governing"]["ratio"]["member"] == r.model.member_names[k]
+    assert block["governing"]["ratio"]["ratio_to_yield"] == b.max[k, 2]
+    assert block["governing_members"][0]["member"] == r.model.member_names[k]
+    assert block["governing"]["ratio"]["mises_point"].startswith("corner ")
+    env = next(c for c in doc["demands"] if c["name"] == "ENV")["fields"]["stress"]
+    assert env["governing"]["mises"]["mises_case"] == "D"
+    rows = list(csv.DictReader((out / "extremes_stresses.csv").open()))
+    assert len(rows) == 2 * 2
+    row = next(x for x in rows if x["result"] == "D" and x["member"] == r.model.member_names[k])
+    assert float(row["mises_Pa"]) == b.max[k, 1] and float(row["ratio_to_yield"]) == b.max[k, 2]
+    capsys.readouterr()
+    print_solved(r)
+    text = capsys.readouterr().out
+    assert f"stresses: governing member {r.model.member_names[k]} (P), equivalent {b.max[k, 1] * 1e-6:.4g} MPa" in text
+    assert f"{b.max[k, 2]:.3g} of yield (a plain ratio, not a code check)" in text
