@@ -268,16 +268,13 @@ def solve(model: Model, cases=None) -> Results:
             with stage(f"buckling case {c.name}: eigen solve"), _at_case(c), quiet(notes, f"case {c.name}"):
                 responses[c.name] = solve_buckling(model, asm, c, axial_forces(run.statics[c.loading].member_forces),
                                                    run.pretension, sound.spd)
+    changes = dict(run.statics)
     if state is not None:          # reported: the pretension state plus each case's change from it
         from .analysis.buckling import with_state
 
         run.statics = {n: with_state(r, state, model.coords) for n, r in run.statics.items()}
-    if state is not None and dynamic:
-        raise ModelError(f"combination {dynamic[0].name}: a combination with a dynamic case in a model with "
-                         "pretensioned members is not supported yet (the pretension state would be scaled with "
-                         "the static cases' factors)", dynamic[0].location)
     lines = _line_loads(model, asm)
-    demands = _demands(model, run, responses, dynamic, lines)
+    demands = _demands(model, run, responses, dynamic, lines, changes, state)
     mass = assembled_mass(model, asm)
     modal = [*run.modes.values(), *responses.values()]
     resonance = _resonance(model, run.modes)
@@ -321,9 +318,12 @@ def _static_only(model: Model, combo) -> bool:
     return all(kinds.get(n) == "static" for n in combo.factors)
 
 
-def _demands(model: Model, run: _Run, responses: dict, dynamic: list, lines: dict) -> dict:
+def _demands(model: Model, run: _Run, responses: dict, dynamic: list, lines: dict, changes: dict, state) -> dict:
     """The combinations with a history, spectrum or harmonic case (`CombinationResult`) and
-    the envelopes (`EnvelopeResult`), by name (fem/analysis/combine.py)."""
+    the envelopes (`EnvelopeResult`), by name (fem/analysis/combine.py). In a model with
+    pretensioned members a combination adds its static cases' changes from the pretension state
+    (`changes`) and the state once, as a term of its own, "(pretension state)": the dynamic
+    cases are motions about that settled state, as every static case is a change from it."""
     from dataclasses import replace
 
     from .analysis.combine import combine_terms, envelope
@@ -339,16 +339,27 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list, lines: dic
             found[n] = replace(r, series=series_basis(model, run.stiffened.get(m, run.asm), r, run.modes[m]))
     sizes = {"node": model.n_nodes, "member": model.n_members, "stress": StressContext(model, lines)}
     out = {}
+    settled = [] if state is None else [(1.0, _state_result(model, state))]
     for cb in dynamic:
-        statics = [(f, run.statics[n]) for n, f in cb.factors.items() if n in run.statics]
+        statics = [(f, changes[n]) for n, f in cb.factors.items() if n in changes] + settled
         part = combine(cb.name, statics, model.coords) if statics else None
+        terms = [(f, changes.get(n, found[n])) for n, f in cb.factors.items()] + settled
         with _at_case(cb):
-            out[cb.name] = combine_terms(cb.name, [(f, found[n]) for n, f in cb.factors.items()], sizes, part)
+            out[cb.name] = combine_terms(cb.name, terms, sizes, part)
     found.update(out)
     for env in model.envelopes:
         with _at_case(env):
             out[env.name] = envelope(env.name, [found[n] for n in env.over], sizes)
     return out
+
+
+def _state_result(model: Model, state):
+    """The pretension state as a static result named "(pretension state)" (no load applied)."""
+    from .analysis.static import StaticResult, equilibrium
+
+    applied = np.zeros_like(state.reactions)
+    return StaticResult("(pretension state)", state.u, state.reactions, state.member_forces, applied,
+                        equilibrium(model.coords, applied, state.reactions), state.residual, state.gross)
 
 
 def _resonance(model: Model, modes: dict) -> dict:

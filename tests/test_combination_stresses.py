@@ -244,3 +244,44 @@ def test_outputs_carry_the_governing_members(tmp_path, capsys):
     text = capsys.readouterr().out
     assert f"stresses: governing member {r.model.member_names[k]} (P), equivalent {b.max[k, 1] * 1e-6:.4g} MPa" in text
     assert f"{b.max[k, 2]:.3g} of yield (a plain ratio, not a code check)" in text
+
+
+GUYED = """
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3, yield = 355 MPa }
+section C = rect(b = 100 mm, h = 100 mm)
+section G = round(d = 12 mm)
+node B = (0, 0, 0)
+node TOP = (0, 0, 4 m)
+node AL = (-3 m, 0, 0)
+node AR = (3 m, 0, 0)
+member M : B -> TOP beam C S
+member G1 : TOP -> AL truss G S pretension = 20 kN
+member G2 : TOP -> AR truss G S pretension = 20 kN
+support B pinned
+support B (rz)
+support AL fixed
+support AR fixed
+support TOP (uy)
+mass TOP = 500 kg
+case W static { force TOP = (0, 0, -2 kN) }
+case MO modes { count = 4 }
+case EQ spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (1, 0, 0), combine = srss,
+                   damping = 5 percent }
+combo S2 = 2.0*W
+combo D = 2.0*W + 1.0*EQ
+"""
+
+
+def test_pretensioned_model_adds_its_state_once():
+    """With pretensioned guys, a combination with a dynamic case adds the pretension state once
+    (as the static combination 2.0*W does: the state plus twice W's change from it), then the
+    spectrum's peaks with both signs; its stresses bound the static combination's."""
+    r = _solve(GUYED)
+    s2, eq, d = r["S2"], r["EQ"], r["D"]
+    ef = d.fields["end_force"]
+    np.testing.assert_allclose(ef.max, s2.member_forces + eq.member_forces, rtol=1e-12, atol=1e-9)
+    np.testing.assert_allclose(ef.min, s2.member_forces - eq.member_forces, rtol=1e-12, atol=1e-9)
+    assert d.terms[-1][1] == "(pretension state)" and r.checks.passed["D"] and r.checks.passed["S2"]
+    assert d.static.equilibrium == s2.equilibrium
+    st = d.fields["stress"]
+    assert np.all(st.max[:, 0] >= r.stresses["S2"].sigma_max * (1 - 1e-12))

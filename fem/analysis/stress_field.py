@@ -109,7 +109,7 @@ def _steps(terms, t, lines, e):
     history terms: one step without history terms."""
     statics = [(f, r) for f, r in terms if r.kind == "static"]
     F0 = sum((f * np.asarray(r.member_forces, float) for f, r in statics), np.zeros((e, 12)))
-    w0 = sum((f * lines[r.name] for f, r in statics), np.zeros((e, 3)))
+    w0 = sum((f * lines.get(r.name, 0.0) for f, r in statics), np.zeros((e, 3)))    # none listed: none
     hist = [(f, r) for f, r in terms if r.kind == "history"]
     if not hist:
         yield np.array([np.nan]), F0[None], w0[None] if np.any(w0) else None
