@@ -285,3 +285,22 @@ def test_pretensioned_model_adds_its_state_once():
     assert d.static.equilibrium == s2.equilibrium
     st = d.fields["stress"]
     assert np.all(st.max[:, 0] >= r.stresses["S2"].sigma_max * (1 - 1e-12))
+
+
+HARMONIC = HISTORY.replace("""case HIT history { force B = (0, 2 kN, 0), time = halfsine(0.05 s), duration = 0.5 s, step = 0.001 s,
+                   damping = 2 percent }
+combo C = 1.0*PULL + 1.0*HIT
+combo C2 = 1.0*PULL - 0.5*HIT""", """case RUN harmonic { force B = (0, 1 kN, 0), from = 2 Hz, to = 8 Hz, points = 50, damping = 2 percent }
+combo C = 1.0*PULL - 2.0*RUN""")
+
+
+def test_harmonic_with_a_static_case_is_the_static_plus_and_minus_its_amplitude():
+    """s +/- |factor| A at each point: the base of a square cantilever P/A +/- 2 * 3 E |u| c/L^2
+    with |u| the largest tip amplitude over the sweep (Gere & Goodno Appendix G, tip stiffness
+    3EI/L^3), with numpy."""
+    r = _solve(HARMONIC)
+    h = r["RUN"]
+    amp = 2 * 3 * E * np.abs(h.u[:, 1, 1]).max() * 0.03 / 1.5**2
+    b = r["C"].fields["stress"]
+    assert b.max[0, 0] == pytest.approx(5e3 / 0.06**2 + amp, rel=1e-6)
+    assert b.min[0, 0] == pytest.approx(5e3 / 0.06**2 - amp, rel=1e-6)

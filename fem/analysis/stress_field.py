@@ -104,6 +104,21 @@ def _step_extremes(tab, pt, F, w, D, L):
     return vu, pu, vl, pl, tau
 
 
+def _groups(tab, pt):
+    """(members, their table, their points, point count): members with a round outline use all
+    the columns of `point_table`, the others only their own first ones (the rest repeat them)."""
+    from dataclasses import replace
+
+    rnd = tab.radius > 0
+    out = []
+    for sel, n in ((~rnd, tab.py.shape[1]), (rnd, pt.py.shape[1])):
+        if sel.any():
+            cut = (lambda x, sel=sel: replace(x, **{k: getattr(x, k)[sel] for k in x.__dataclass_fields__}))
+            sub_pt = cut(pt)
+            out.append((sel, cut(tab), replace(sub_pt, py=sub_pt.py[:, :n], pz=sub_pt.pz[:, :n]), n))
+    return out
+
+
 def _steps(terms, t, lines, e):
     """Blocks of (times, end forces (b, e, 12), line loads (b, e, 3) or None) of the static and
     history terms: one step without history terms."""
@@ -152,12 +167,17 @@ def combination_stresses(model: Model, terms, t, lines: dict, name: str = "", ta
     t_hi, t_lo, t_vm = np.full(e, np.nan), np.full(e, np.nan), np.full(e, np.nan)
     p_hi, p_lo, p_vm = np.zeros(e, int), np.zeros(e, int), np.zeros(e, int)
     cols = np.arange(e)
-    steps = _steps(terms, t, lines, e)
-    for times, F, w in steps:
+    groups = _groups(tab, pt)
+    for times, F, w in _steps(terms, t, lines, e):
         b = len(F)
         for a in range(0, b, max(1, _BLOCK // max(1, e * W))):
             s = slice(a, a + max(1, _BLOCK // max(1, e * W)))
-            vu, pu, vl, pl, tau = _step_extremes(tab, pt, F[s], None if w is None else w[s], D, L)
+            vu, pu, vl, pl, tau = (np.zeros((len(F[s]), e), int if k in (1, 3) else float) for k in range(5))
+            for sel, sub, sub_pt, n in groups:
+                got = _step_extremes(sub, sub_pt, F[s][:, sel], None if w is None else w[s][:, sel],
+                                     D[sel][..., :n], L[sel])
+                for whole, part in zip((vu, pu, vl, pl, tau), got):
+                    whole[:, sel] = part
             big = np.maximum(np.abs(vu), np.abs(vl))
             mis = np.sqrt(big**2 + 3 * (tau + tau_d) ** 2)
             pb = np.where(np.abs(vu) >= np.abs(vl), pu, pl)
