@@ -21,7 +21,9 @@ a round outline as the corners of the polygon drawn around it, fem.analysis.stre
   linear in x, so D (a norm of linear functions: SRSS, CQC with its correlation matrix
   positive semi-definite, the absolute sum, the 100/30 and SRSS direction rules, the largest
   modulus over frequencies) is convex in x and never above its chord. s +/- chord is again a
-  quadratic in x, extreme in closed form: exact at the ends, never short inside.
+  quadratic in x, extreme in closed form: exact at the ends, never short inside. (A harmonic
+  case with line loads on members is known at the member ends only, as its own stresses are:
+  inside such a member the line is not a proven bound.)
 Equivalent stress: sqrt(sigma^2 + 3 tau^2) with sigma the larger size of the normal extremes
 and tau the largest shear plus torsion at an end of the static/history part plus sum |factor|
 times each dynamic case's own largest tau: each of sigma and tau bounds its value at every

@@ -20,6 +20,8 @@ BASIS = ("static and history parts exact (history per time step, then the larges
          "harmonic peaks added with both signs at each stress point, inside a member on the straight line between "
          "their end values (a bound, never below); the equivalent stress sqrt(sigma^2 + 3 tau^2) from the largest "
          "normal and shear stresses (an upper bound)")
+EXACT = ("static and history parts exact (history per time step, then the largest over time); the equivalent "
+         "stress sqrt(sigma^2 + 3 tau^2) from the largest normal and shear stresses (an upper bound)")
 GOVERNING = 5          # members listed as governing in results.json, by ratio (or equivalent stress)
 
 
@@ -69,7 +71,9 @@ def demand_block(results, r) -> dict:
         if np.isfinite(vals).any():
             j = int(np.nanargmax(vals))
             gov[name] = {"member": model.member_names[j], **_member(results, r, j)}
-    return {"columns": list(COLUMNS), "units": "Pa (ratio: none)", "basis": BASIS, "ratio_note": RATIO_NOTE,
+    signless = r.kind == "envelope" or any(k in ("spectrum", "harmonic") for _, _, k in r.terms)
+    return {"columns": list(COLUMNS), "units": "Pa (ratio: none)", "basis": BASIS if signless else EXACT,
+            "ratio_note": RATIO_NOTE,
             "governing": gov,
             "governing_members": [{"member": model.member_names[j], **_member(results, r, j)}
                                   for j in ranked[:GOVERNING]],
