@@ -16,8 +16,11 @@ harmonics point by point, a round outline is taken as the `ROUND_POINTS` corners
 drawn around it (every 5 degrees, at r / cos 2.5 deg): such a sum is a convex function of the
 point (y, z) (a norm of terms linear in y, z), so its largest over the polygon, which holds the
 circle, is at a corner and is never below the true one; above it by at most 1/cos 2.5 deg - 1
-= 0.1 % of the bending part. The per-point peaks at the member ends (`MemberStresses.points`,
-in `point_table`'s order) are kept for combinations (fem.analysis.stress_field).
+= 0.1 % of the bending part. The per-point peaks of amplitudes and combined peaks at `STATIONS`
+equally spaced stations along each member (`MemberStresses.points`, in `point_table`'s order)
+are kept for combinations (fem.analysis.stress_field): without a line load in the modal or
+harmonic forces, each mode's or harmonic's actions are linear along the member, so they are
+interpolated from the ends exactly.
 Shear and torsion are largest at an end (V linear, T constant).
 
 The equivalent stress sqrt(sigma^2 + 3 tau^2) takes the largest |sigma| and the largest tau of
@@ -48,10 +51,11 @@ import numpy as np
 from ..model import Model
 from .modal_sum import combine, combine_directions
 
-__all__ = ["MemberStresses", "ROUND_POINTS", "harmonic_stresses", "member_stresses", "point_table", "section_table",
+__all__ = ["MemberStresses", "ROUND_POINTS", "STATIONS", "harmonic_stresses", "member_stresses", "point_table", "section_table",
            "series_stresses", "spectrum_stresses"]
 
 ROUND_POINTS = 72          # points around a round outline (every 5 degrees)
+STATIONS = 9               # stations along a member (its ends and eighth points) of the per-point peaks
 _BLOCK = 100_000           # floats of (steps, members, stations, points) held at once: cache-sized blocks, and
                            # little beside the memory a history or free case holds (history_bytes, free_bytes)
 
@@ -159,8 +163,9 @@ class MemberStresses:
     x : where along the member (m from end i) the largest |sigma| is (nan: not known)
     at : time (s) or frequency (Hz) of the largest equivalent stress, or None; at_unit "s"/"Hz"
     ratio : mises / yield strength (nan where the material declares none)
-    points : (e, 2, W) the normal stress peak (>= 0) at each stress point of each end, in
-        `point_table`'s order, for amplitudes and combined peaks (None for the others)
+    points : (e, STATIONS, W) the normal stress peak (>= 0) at each stress point at stations
+        L j/(STATIONS - 1) along the member, in `point_table`'s order, for amplitudes and combined
+        peaks (None for the others)
     """
 
     basis: str
@@ -188,6 +193,13 @@ class MemberStresses:
 def _end_actions(F):
     """Internal actions (..., e, 2, 6) at x = 0 and x = L from end forces F (..., e, 12)."""
     return np.stack([-F[..., :6], F[..., 6:]], axis=-2)
+
+
+def _along(ends):
+    """Internal actions (..., e, STATIONS, 6) along members without a line load, from those at
+    the ends (..., e, 2, 6): linear between them."""
+    f = np.linspace(0.0, 1.0, STATIONS)[:, None]
+    return ends[..., :1, :] * (1.0 - f) + ends[..., 1:, :] * f
 
 
 def _shear(tab: SectionTable, ends):
@@ -355,20 +367,20 @@ def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
     the frequency of the largest equivalent stress."""
     tab = section_table(model)
     e, m = model.n_members, len(freq)
-    block = max(1, _BLOCK // max(1, e * 2 * (ROUND_POINTS if tab.radius.any() else tab.py.shape[1])))
+    block = max(1, _BLOCK // max(1, e * STATIONS * (ROUND_POINTS if tab.radius.any() else tab.py.shape[1])))
     keys = ("sigma_max", "axial", "bending_y", "bending_z", "shear", "torsion", "tau", "mises")
     best = {k: np.zeros(e) for k in keys}
     at = np.full(e, np.nan)
     W = _width(tab)
-    points = np.zeros((e, 2, W))
+    points = np.zeros((e, STATIONS, W))
     for a in range(0, m, block):
         rows = slice(a, min(m, a + block))
         F = forces(rows)
         ends = _end_actions(F)                                     # (b, e, 2, 6) complex
         smax = np.zeros(ends.shape[:-2])
         for sel, sub in _groups(tab):
-            g = ends[:, sel]
-            amp = np.abs(_normal(sub, g[..., 0], g[..., 4], g[..., 5]))        # (b, e_g, 2, P)
+            g = _along(ends[:, sel])
+            amp = np.abs(_normal(sub, g[..., 0], g[..., 4], g[..., 5]))        # (b, e_g, STATIONS, P)
             smax[:, sel] = amp.reshape(*amp.shape[:-2], -1).max(axis=-1)
             points[sel] = np.maximum(points[sel], amp.max(axis=0)[..., np.arange(W) % amp.shape[-1]])
         v, t = _shear(tab, ends)
@@ -402,11 +414,11 @@ def spectrum_stresses(model: Model, per_direction, rule: str, spatial: str) -> M
     c = {k: combine_directions(v, spatial) for k, v in parts.items()}   # (e, 2)
     # the normal stress at each point: per mode, combined over the modes, then the directions
     smax, W = np.zeros(e), _width(tab)
-    points = np.zeros((e, 2, W))
+    points = np.zeros((e, STATIONS, W))
     for sel, sub in _groups(tab):
         per_dir = [combine(_normal(sub, g[..., 0], g[..., 4], g[..., 5]), rule, rho)
-                   for g, rho in ((a[:, sel], rho) for a, rho in ends)]
-        got = combine_directions(per_dir, spatial)                              # (e_g, 2, P)
+                   for g, rho in ((_along(a[:, sel]), rho) for a, rho in ends)]
+        got = combine_directions(per_dir, spatial)                              # (e_g, STATIONS, P)
         smax[sel] = got.reshape(sel.sum(), -1).max(axis=-1)
         points[sel] = got[..., np.arange(W) % got.shape[-1]]
     v = tab.ky[:, None] * c["Vy"] + tab.kz[:, None] * c["Vz"]

@@ -16,12 +16,14 @@ a round outline as the corners of the polygon drawn around it, fem.analysis.stre
 - spectrum and harmonic terms: the per-point peak D(p) of each (per-mode stresses combined by
   the case's rules, or harmonic amplitudes with their phases, the largest over the
   frequencies) is added with both signs at each point: s(x, p) +/- sum |factor| D(x, p). D is
-  known at the member ends; inside, it is taken on the straight line between them. That is a
-  bound: with no line load on the modal or harmonic forces, each mode's stress at a point is
-  linear in x, so D (a norm of linear functions: SRSS, CQC with its correlation matrix
-  positive semi-definite, the absolute sum, the 100/30 and SRSS direction rules, the largest
-  modulus over frequencies) is convex in x and never above its chord. s +/- chord is again a
-  quadratic in x, extreme in closed form: exact at the ends, never short inside. (A harmonic
+  known at the ends and eighth points of the member (fem.analysis.stress.STATIONS); between
+  them it is taken on the straight line joining them. That is a bound: with no line load on the
+  modal or harmonic forces, each mode's stress at a point is linear in x, so D (a norm of
+  linear functions: SRSS, CQC with its correlation matrix positive semi-definite, the absolute
+  sum, the 100/30 and SRSS direction rules, the largest modulus over frequencies) is convex in
+  x and never above a chord. s +/- chord is again a quadratic in x on each eighth, extreme in
+  closed form: exact at the stations, never short between them, and above by at most the
+  chord's gap (for a modal moment changing sign along the member, |slope| L/16). (A harmonic
   case with line loads on members is known at the member ends only, as its own stresses are:
   inside such a member the line is not a proven bound.)
 Equivalent stress: sqrt(sigma^2 + 3 tau^2) with sigma the larger size of the normal extremes
@@ -92,11 +94,16 @@ def _step_extremes(tab, pt, F, w, D, L):
         q = (lambda k: w[..., k][..., None])
         c1 = c1 - q(0) / A
         c2 = c2 - q(2) * z / (2 * Iy) - q(1) * y / (2 * Iz)
-    Lx = L[:, None]
-    slope = (D[:, 1] - D[:, 0]) / Lx
-    up, _ = _qmax(c0 + D[:, 0], c1 + slope, c2, Lx)
-    lo, _ = _qmax(-(c0 - D[:, 0]), -(c1 - slope), -c2, Lx)
-    lo = -lo
+    n = D.shape[1] - 1
+    h = L[:, None] / n
+    up = lo = None
+    for a in range(n):              # each stretch between stations: s +/- the chord of D
+        xa = a * h
+        b0, b1 = c0 + (c1 + c2 * xa) * xa, c1 + 2 * c2 * xa
+        slope = (D[:, a + 1] - D[:, a]) / h
+        u, _ = _qmax(b0 + D[:, a], b1 + slope, c2, h)
+        v, _ = _qmax(-(b0 - D[:, a]), -(b1 - slope), -c2, h)
+        up, lo = (u, -v) if up is None else (np.maximum(up, u), np.minimum(lo, -v))
     pu, pl = up.argmax(-1), lo.argmin(-1)
     vu = np.take_along_axis(up, pu[..., None], -1)[..., 0]
     vl = np.take_along_axis(lo, pl[..., None], -1)[..., 0]
@@ -156,14 +163,14 @@ def combination_stresses(model: Model, terms, t, lines: dict, name: str = "", ta
     tab, pt = table or (lambda s: (s, point_table(s)))(section_table(model))
     e, W = pt.py.shape
     L = model.lengths
-    D, tau_d = np.zeros((e, 2, W)), np.zeros(e)
+    D, tau_d = np.zeros((e, 2, W)), np.zeros(e)      # no dynamic term: one stretch, the whole member
     for f, r in terms:
         if r.kind in ("spectrum", "harmonic"):
             s = getattr(r, "stresses", None)
             if s is None or s.points is None:
                 raise ModelError(f"combination {name}: case {r.name} ({r.kind}) has no per-point stress peaks to "
                                  "combine; solve it with fem.solve")
-            D += abs(f) * np.nan_to_num(s.points)
+            D = abs(f) * np.nan_to_num(s.points) + (D if D.shape == s.points.shape else 0.0)
             tau_d += abs(f) * np.nan_to_num(s.tau)
     hi, lo, vm = np.full(e, -np.inf), np.full(e, np.inf), np.full(e, -np.inf)
     t_hi, t_lo, t_vm = np.full(e, np.nan), np.full(e, np.nan), np.full(e, np.nan)

@@ -17,8 +17,8 @@ from .tables import write_csv
 __all__ = ["BASIS", "demand_block", "demand_lines", "demand_report", "write_demand_stresses"]
 
 BASIS = ("static and history parts exact (history per time step, then the largest over time); spectrum and "
-         "harmonic peaks added with both signs at each stress point, inside a member on the straight line between "
-         "their end values (a bound, never below); the equivalent stress sqrt(sigma^2 + 3 tau^2) from the largest "
+         "harmonic peaks added with both signs at each stress point, between the ends and eighth points of a "
+         "member on straight lines between their values (a bound, never below); the equivalent stress sqrt(sigma^2 + 3 tau^2) from the largest "
          "normal and shear stresses (an upper bound)")
 EXACT = ("static and history parts exact (history per time step, then the largest over time); the equivalent "
          "stress sqrt(sigma^2 + 3 tau^2) from the largest normal and shear stresses (an upper bound)")
