@@ -415,12 +415,20 @@ def spectrum_stresses(model: Model, per_direction, rule: str, spatial: str) -> M
     # the normal stress at each point: per mode, combined over the modes, then the directions
     smax, W = np.zeros(e), _width(tab)
     points = np.zeros((e, STATIONS, W))
+    from dataclasses import replace
+
+    modes = max([len(a) for a, _ in ends] or [1])
     for sel, sub in _groups(tab):
-        per_dir = [combine(_normal(sub, g[..., 0], g[..., 4], g[..., 5]), rule, rho)
-                   for g, rho in ((_along(a[:, sel]), rho) for a, rho in ends)]
-        got = combine_directions(per_dir, spatial)                              # (e_g, STATIONS, P)
-        smax[sel] = got.reshape(sel.sum(), -1).max(axis=-1)
-        points[sel] = got[..., np.arange(W) % got.shape[-1]]
+        idx = np.flatnonzero(sel)
+        step = max(1, 10 * _BLOCK // (modes * STATIONS * sub.py.shape[1]))   # members per block
+        for first in range(0, len(idx), step):
+            part = replace(sub, **{f: getattr(sub, f)[first:first + step] for f in sub.__dataclass_fields__})
+            rows = idx[first:first + step]
+            per_dir = [combine(_normal(part, g[..., 0], g[..., 4], g[..., 5]), rule, rho)
+                       for g, rho in ((_along(a[:, rows]), rho) for a, rho in ends)]
+            got = combine_directions(per_dir, spatial)                          # (rows, STATIONS, P)
+            smax[rows] = got.reshape(len(rows), -1).max(axis=-1)
+            points[rows] = got[..., np.arange(W) % got.shape[-1]]
     v = tab.ky[:, None] * c["Vy"] + tab.kz[:, None] * c["Vz"]
     t = tab.kt[:, None] * c["T"]
     return _finish(tab, "combined peaks", smax, -smax, c["N"].max(-1) / tab.A, c["My"].max(-1) * tab.zmax / tab.Iy,
