@@ -377,3 +377,32 @@ def test_the_peak_inside_a_member_is_bounded_closely():
     b = r["D1"].fields["stress"]
     assert hi * (1 - 1e-9) <= b.max[j, 0] <= hi + gap + 1e-9 * hi
     assert lo - gap - 1e-9 * abs(lo) <= b.min[j, 0] <= lo * (1 - 1e-9)
+
+
+def test_no_yield_and_no_stress_points_give_nulls(tmp_path, capsys):
+    """Without a yield strength the ratio is null and members rank by equivalent stress; a
+    generic section without Wy, Wz has no stresses (null, empty cells), and results.json stays
+    strict JSON."""
+    from fem.output.results_json import write_results_json
+    from fem.output.summary import print_solved
+    from fem.output.tables import write_tables
+
+    text = SPECTRUM.replace("RULE", "srss").replace(", yield = 355 MPa", "").replace(
+        "member M2 : B -> C beam P S", "section X = generic(A = 0.02 m^2, Iy = 1e-4 m^4, Iz = 1e-4 m^4, J = 1e-4 m^4)\n"
+        "member M2 : B -> C beam X S")
+    r = _solve(text)
+    out = tmp_path / "out"
+    out.mkdir()
+    write_tables(r, out)
+    write_results_json(r, out)
+    doc = json.loads((out / "results.json").read_text(), parse_constant=lambda c: pytest.fail(f"{c} in results.json"))
+    block = next(c for c in doc["demands"] if c["name"] == "D")["fields"]["stress"]
+    assert block["members"]["M2"]["mises_Pa"] is None and block["members"]["M1"]["ratio_to_yield"] is None
+    assert [m["member"] for m in block["governing_members"]] == ["M1"] and "ratio" not in block["governing"]
+    row = next(x for x in csv.DictReader((out / "extremes_stresses.csv").open()) if x["member"] == "M2")
+    assert row["mises_Pa"] == "" and row["ratio_to_yield"] == ""
+    capsys.readouterr()
+    print_solved(r)
+    text = capsys.readouterr().out
+    assert "stresses: governing member M1 (P), equivalent" in text
+    assert "next by" not in text and "of yield" not in text.split("  D ")[-1]   # one member, no ratio
