@@ -214,6 +214,7 @@ def test_a_dynamic_peak_inside_a_member_is_bounded():
 def test_outputs_carry_the_governing_members(tmp_path, capsys):
     """results.json `fields.stress`, extremes_stresses.csv and the summary hold the same
     governing member, point and ratio as the results."""
+    from fem.analysis.stress_field import point_name
     from fem.output.results_json import write_results_json
     from fem.output.summary import print_solved
     from fem.output.tables import write_tables
@@ -242,7 +243,8 @@ def test_outputs_carry_the_governing_members(tmp_path, capsys):
     capsys.readouterr()
     print_solved(r)
     text = capsys.readouterr().out
-    assert f"stresses: governing member {r.model.member_names[k]} (P), equivalent {b.max[k, 1] * 1e-6:.4g} MPa" in text
+    pt = point_name(r.model, k, int(b.point_max[k, 1]))
+    assert f"stresses: governing member {r.model.member_names[k]} (P, {pt}), equivalent {b.max[k, 1] * 1e-6:.4g} MPa" in text
     assert f"{b.max[k, 2]:.3g} of yield (a plain ratio, not a code check)" in text
 
 
@@ -404,5 +406,34 @@ def test_no_yield_and_no_stress_points_give_nulls(tmp_path, capsys):
     capsys.readouterr()
     print_solved(r)
     text = capsys.readouterr().out
-    assert "stresses: governing member M1 (P), equivalent" in text
+    assert "stresses: governing member M1 (P, corner " in text
     assert "next by" not in text and "of yield" not in text.split("  D ")[-1]   # one member, no ratio
+
+
+ROUND = """
+material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
+section R = round(d = 60 mm)
+node A = (0, 0, 0)
+node B = (1.5 m, 0, 0)
+member M : A -> B beam R S
+support A fixed
+case Y static { force B = (0, 1 kN, 0) }
+case Z static { force B = (0, 0, -1 kN) }
+"""
+
+
+@pytest.mark.parametrize("case, fibre", [("Y", "outline at 180 deg from +y towards +z"),
+                                          ("Z", "outline at 90 deg from +y towards +z")])
+def test_a_case_names_its_governing_fibre(case, fibre):
+    """A cantilever along X pushed along +Y at its tip is stretched at the root on its -y side;
+    pushed down (-Z), on its top, +z (beam bending: the convex side is in tension, Gere & Goodno
+    ch. 5); a rectangle names its corner likewise."""
+    from fem.analysis.stress_field import point_name
+
+    r = _solve(ROUND)
+    assert r.model.member_names == ["M"]
+    assert point_name(r.model, 0, int(r.stresses[case].point[0])) == fibre
+    r = _solve(CANTILEVER)
+    F = r["C"].member_forces[0]
+    want = f"corner {'+' if F[5] > 0 else '-'}y {'+' if -F[4] > 0 else '-'}z"
+    assert point_name(r.model, 0, int(r.stresses["C"].point[0])) == want

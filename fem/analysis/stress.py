@@ -166,6 +166,8 @@ class MemberStresses:
     points : (e, STATIONS, W) the normal stress peak (>= 0) at each stress point at stations
         L j/(STATIONS - 1) along the member, in `point_table`'s order, for amplitudes and combined
         peaks (None for the others)
+    point : (e,) the stress point of the largest |sigma|, a column of `point_table` (a round
+        outline's extreme fibre to the nearest 5 degrees), or None
     """
 
     basis: str
@@ -183,6 +185,7 @@ class MemberStresses:
     at: np.ndarray | None = None
     at_unit: str = ""
     points: np.ndarray | None = None
+    point: np.ndarray | None = None
 
     def governing(self) -> int | None:
         """Index of the member with the largest equivalent stress (None if no member has one)."""
@@ -251,14 +254,14 @@ def _actions_at(F, w, x):
     return N, My, Mz
 
 
-def _finish(tab, basis, smax, smin, axial, by, bz, v, t, x, at=None, at_unit="", points=None):
+def _finish(tab, basis, smax, smin, axial, by, bz, v, t, x, at=None, at_unit="", points=None, point=None):
     tau = np.max(v + t, axis=-1) if v.ndim > axial.ndim else v + t
     big = np.maximum(np.abs(smax), np.abs(smin))
     mises = np.sqrt(big**2 + 3 * tau**2)
     nan = ~tab.known
     out = [np.where(nan, np.nan, a) for a in (smax, smin, axial, by, bz, np.max(v, axis=-1) if v.ndim > axial.ndim else v,
                                               np.max(t, axis=-1) if t.ndim > axial.ndim else t, tau, mises, x)]
-    return MemberStresses(basis, *out, out[8] / tab.fy, at, at_unit, points)
+    return MemberStresses(basis, *out, out[8] / tab.fy, at, at_unit, points, point)
 
 
 def member_stresses(model: Model, forces, w_local=None, *, table: SectionTable | None = None,
@@ -277,15 +280,23 @@ def member_stresses(model: Model, forces, w_local=None, *, table: SectionTable |
     N, My, Mz = _actions_at(F, w, x)
     sig = _normal(tab, N, My, Mz)                            # (e, s, P)
     flat = sig.reshape(*sig.shape[:-2], -1)
+    point = None
     if where:
-        k = np.abs(flat).argmax(axis=-1) // sig.shape[-1]
+        big = np.abs(flat).argmax(axis=-1)
+        k, p = big // sig.shape[-1], big % sig.shape[-1]
         xs = np.take_along_axis(x, k[..., None], axis=-1)[..., 0]
+        # a round outline's extreme fibre: along (-Mz, My) for N/A + b, opposite for N/A - b
+        at = (lambda a: np.take_along_axis(a, k[..., None], axis=-1)[..., 0])
+        deg = np.degrees(np.arctan2(at(My), -at(Mz))) + np.where(p == tab.py.shape[-1] + 1, 180.0, 0.0)
+        point = np.where(tab.radius > 0, np.rint(deg / (360 / ROUND_POINTS)).astype(int) % ROUND_POINTS, p)
     else:
         xs = np.full(flat.shape[:-1], np.nan)
     v, t = _shear(tab, _end_actions(F))
-    return _finish(tab, "exact", flat.max(axis=-1), flat.min(axis=-1), np.abs(N).max(axis=-1) / tab.A,
-                   np.abs(My).max(axis=-1) * tab.zmax / tab.Iy, np.abs(Mz).max(axis=-1) * tab.ymax / tab.Iz,
-                   v, t, xs)
+    out = _finish(tab, "exact", flat.max(axis=-1), flat.min(axis=-1), np.abs(N).max(axis=-1) / tab.A,
+                  np.abs(My).max(axis=-1) * tab.zmax / tab.Iy, np.abs(Mz).max(axis=-1) * tab.ymax / tab.Iz,
+                  v, t, xs)
+    out.point = point
+    return out
 
 
 class _Projected:
@@ -351,13 +362,16 @@ def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s", 
         new = top >= best["mises"]
         best["at"][new] = times[a + i[new]]
         step[new] = a + i[new]
-    for k in np.unique(step[step >= 0]):        # where along each member, at its peak step
+    point = np.zeros(e, int)
+    for k in np.unique(step[step >= 0]):        # where along each member and at which point, at its peak step
         rows = slice(k, k + 1)
         got = member_stresses(model, forces(rows), None if w_local is None else w_local(rows), table=tab)
         best["x"][step == k] = got.x[0, step == k]
+        point[step == k] = got.point[0, step == k]
     keys = ("sigma_max", "sigma_min", "axial", "bending_y", "bending_z", "shear", "torsion", "tau", "mises", "x")
     vals = {k: np.where(tab.known, best[k], np.nan) for k in keys}
-    return MemberStresses("peak over time", **vals, ratio=vals["mises"] / tab.fy, at=best["at"], at_unit=unit)
+    return MemberStresses("peak over time", **vals, ratio=vals["mises"] / tab.fy, at=best["at"], at_unit=unit,
+                          point=point)
 
 
 def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
@@ -398,7 +412,12 @@ def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
     return MemberStresses("amplitude", vals["sigma_max"], -vals["sigma_max"], vals["axial"], vals["bending_y"],
                           vals["bending_z"], vals["shear"], vals["torsion"], vals["tau"], vals["mises"],
                           np.full(e, np.nan), vals["mises"] / tab.fy, np.where(tab.known, at, np.nan), "Hz",
-                          np.where(tab.known[:, None, None], points, np.nan))
+                          np.where(tab.known[:, None, None], points, np.nan), _peak_point(points))
+
+
+def _peak_point(points):
+    """The point (a column of `point_table`) of the largest per-point peak of each member."""
+    return points.max(axis=1).argmax(axis=-1)
 
 
 def spectrum_stresses(model: Model, per_direction, rule: str, spatial: str) -> MemberStresses:
@@ -433,4 +452,4 @@ def spectrum_stresses(model: Model, per_direction, rule: str, spatial: str) -> M
     t = tab.kt[:, None] * c["T"]
     return _finish(tab, "combined peaks", smax, -smax, c["N"].max(-1) / tab.A, c["My"].max(-1) * tab.zmax / tab.Iy,
                    c["Mz"].max(-1) * tab.ymax / tab.Iz, v, t, np.full(e, np.nan),
-                   points=np.where(tab.known[:, None, None], points, np.nan))
+                   points=np.where(tab.known[:, None, None], points, np.nan), point=_peak_point(points))

@@ -122,12 +122,12 @@ def demand_lines(results, r, indent: str) -> list[str]:
     j = int(ranked[0])
     row = _member(results, r, j)
     by = row.get("mises_case") if r.kind == "envelope" else row.get("mises_time_s")
-    when = "" if by is None else (f", {by}" if r.kind == "envelope" else f", t = {by:.4g} s")
+    when = "" if by is None else (f" in {by}" if r.kind == "envelope" else f" at {by:.4g} s")
     ratio = "" if row["ratio_to_yield"] is None else \
         f", {row['ratio_to_yield']:.3g} of yield (a plain ratio, not a code check)"
-    lines = [f"{indent}stresses: governing member {model.member_names[j]} ({row['section']}), equivalent "
-             f"{row['mises_Pa'] * k:.4g} {unit} at {row['mises_point']}{when}{ratio}; normal "
-             f"{row['normal_min_Pa'] * k:.4g} to {row['normal_max_Pa'] * k:.4g} {unit}"]
+    lines = [f"{indent}stresses: governing member {model.member_names[j]} ({row['section']}, {row['mises_point']}), "
+             f"equivalent {row['mises_Pa'] * k:.4g} {unit}{when}; normal {row['normal_min_Pa'] * k:.4g} to "
+             f"{row['normal_max_Pa'] * k:.4g} {unit}{ratio}"]
     if len(ranked) > 1:
         b = r.fields["stress"]
         c = 2 if np.isfinite(b.max[:, 2]).any() else 1
