@@ -144,9 +144,13 @@ def _history(run: _Run, case):
 
 
 def _harmonic(run: _Run, case):
+    from .analysis.stress import STATIONS
+
     modes, _, factor = _links(case)
-    return solve_harmonic_case(run.model, run.asm, case, run.modes[modes], run.lu() if factor else None,
-                               around=excitation_frequencies(run.model))
+    model = run.model
+    added = {n for cb in model.combinations for n in cb.factors} | {n for env in model.envelopes for n in env.over}
+    return solve_harmonic_case(model, run.asm, case, run.modes[modes], run.lu() if factor else None,
+                               around=excitation_frequencies(model), stations=STATIONS if case.name in added else 2)
 
 
 def excitation_frequencies(model: Model) -> tuple[float, ...]:

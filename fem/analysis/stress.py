@@ -163,9 +163,9 @@ class MemberStresses:
     x : where along the member (m from end i) the largest |sigma| is (nan: not known)
     at : time (s) or frequency (Hz) of the largest equivalent stress, or None; at_unit "s"/"Hz"
     ratio : mises / yield strength (nan where the material declares none)
-    points : (e, STATIONS, W) the normal stress peak (>= 0) at each stress point at stations
-        L j/(STATIONS - 1) along the member, in `point_table`'s order, for amplitudes and combined
-        peaks (None for the others)
+    points : (e, S, W) the normal stress peak (>= 0) at each stress point at S stations
+        L j/(S - 1) along the member (S = STATIONS, or 2 for a harmonic case no combination adds),
+        in `point_table`'s order, for amplitudes and combined peaks (None for the others)
     point : (e,) the stress point of the largest |sigma|, a column of `point_table` (a round
         outline's extreme fibre to the nearest 5 degrees), or None
     """
@@ -198,10 +198,10 @@ def _end_actions(F):
     return np.stack([-F[..., :6], F[..., 6:]], axis=-2)
 
 
-def _along(ends):
-    """Internal actions (..., e, STATIONS, 6) along members without a line load, from those at
+def _along(ends, stations: int = STATIONS):
+    """Internal actions (..., e, stations, 6) along members without a line load, from those at
     the ends (..., e, 2, 6): linear between them."""
-    f = np.linspace(0.0, 1.0, STATIONS)[:, None]
+    f = np.linspace(0.0, 1.0, stations)[:, None]
     return ends[..., :1, :] * (1.0 - f) + ends[..., 1:, :] * f
 
 
@@ -374,26 +374,28 @@ def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s", 
                           point=point)
 
 
-def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
+def harmonic_stresses(model: Model, forces, freq, stations: int = 2) -> MemberStresses:
     """Amplitudes of a harmonic case: `forces(rows)` gives the complex end-force amplitudes
-    (b, e, 12) at the frequencies `rows` (a slice) of `freq` (m,) Hz. At each frequency the stress at a
+    (b, e, 12) at the frequencies `rows` (a slice) of `freq` (m,) Hz; `points` at `stations`
+    along each member (2: the ends; `STATIONS` for a case a combination adds: each station
+    costs a pass over the frequencies). At each frequency the stress at a
     point is |sum of the complex terms| (phases kept); the largest over the frequencies, with
     the frequency of the largest equivalent stress."""
     tab = section_table(model)
     e, m = model.n_members, len(freq)
-    block = max(1, _BLOCK // max(1, e * STATIONS * (ROUND_POINTS if tab.radius.any() else tab.py.shape[1])))
+    block = max(1, _BLOCK // max(1, e * stations * (ROUND_POINTS if tab.radius.any() else tab.py.shape[1])))
     keys = ("sigma_max", "axial", "bending_y", "bending_z", "shear", "torsion", "tau", "mises")
     best = {k: np.zeros(e) for k in keys}
     at = np.full(e, np.nan)
     W = _width(tab)
-    points = np.zeros((e, STATIONS, W))
+    points = np.zeros((e, stations, W))
     for a in range(0, m, block):
         rows = slice(a, min(m, a + block))
         F = forces(rows)
         ends = _end_actions(F)                                     # (b, e, 2, 6) complex
         smax = np.zeros(ends.shape[:-2])
         for sel, sub in _groups(tab):
-            g = _along(ends[:, sel])
+            g = _along(ends[:, sel], stations)
             amp = np.abs(_normal(sub, g[..., 0], g[..., 4], g[..., 5]))        # (b, e_g, STATIONS, P)
             smax[:, sel] = amp.reshape(*amp.shape[:-2], -1).max(axis=-1)
             points[sel] = np.maximum(points[sel], amp.max(axis=0)[..., np.arange(W) % amp.shape[-1]])

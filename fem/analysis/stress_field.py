@@ -170,7 +170,8 @@ def combination_stresses(model: Model, terms, t, lines: dict, name: str = "", ta
             if s is None or s.points is None:
                 raise ModelError(f"combination {name}: case {r.name} ({r.kind}) has no per-point stress peaks to "
                                  "combine; solve it with fem.solve")
-            D = abs(f) * np.nan_to_num(s.points) + (D if D.shape == s.points.shape else 0.0)
+            got, D = _common(abs(f) * np.nan_to_num(s.points), D)
+            D = got + D
             tau_d += abs(f) * np.nan_to_num(s.tau)
     hi, lo, vm = np.full(e, -np.inf), np.full(e, np.inf), np.full(e, -np.inf)
     t_hi, t_lo, t_vm = np.full(e, np.nan), np.full(e, np.nan), np.full(e, np.nan)
@@ -219,6 +220,18 @@ def point_name(model: Model, member: int, point: int) -> str:
     if len(sp.y) == 4:
         return f"corner {'+' if y > 0 else '-'}y {'+' if z > 0 else '-'}z"
     return f"outline point {k + 1} (y {1e3 * y:+.0f} mm, z {1e3 * z:+.0f} mm)"
+
+
+def _common(a, b):
+    """Two per-point peaks (e, s, W) at the same stations: the coarser taken on straight lines
+    between its stations at the finer's (a chord of a convex peak: still never below it)."""
+    if a.shape[1] < b.shape[1]:
+        return _common(b, a)[::-1]
+    s0, s = b.shape[1], a.shape[1]
+    pos = np.linspace(0.0, s0 - 1.0, s)
+    lo = np.minimum(pos.astype(int), s0 - 2)
+    w = (pos - lo)[None, :, None]
+    return a, b[:, lo] * (1 - w) + b[:, lo + 1] * w
 
 
 def _bounds(terms, name, t, sizes):
