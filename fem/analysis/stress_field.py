@@ -44,7 +44,7 @@ from ..model import Model
 from .combine import Bounds, Field, add_field
 from .stress import ROUND_POINTS, point_table, section_table
 
-__all__ = ["COLUMNS", "StressContext", "combination_stresses", "point_name"]
+__all__ = ["COLUMNS", "StressContext", "combination_stresses", "point_name", "point_namer"]
 
 COLUMNS = ("normal", "mises", "ratio")
 _BLOCK = 1_000_000        # floats of one (steps, members, points) array held at once
@@ -205,21 +205,32 @@ def combination_stresses(model: Model, terms, t, lines: dict, name: str = "", ta
                   np.stack([t_lo, t_vm, t_vm], 1), np.stack([p_hi, p_vm, p_vm], 1), np.stack([p_lo, p_vm, p_vm], 1))
 
 
+def point_namer(model: Model):
+    """A function (member, point) -> the stress point `point` (a column of `point_table`) of
+    member `member` in words: a corner of the outline by the signs of its local y and z, or a
+    round outline's angle from +y; "" for a section without stress points. The sections' points
+    are read once."""
+    pts = {n: s.stress_points() for n, s in model.sections.items()}
+    width = max([len(s.y) for s in pts.values() if s is not None] or [1]) or 1
+
+    def name(member: int, point: int) -> str:
+        sp = pts[model.member_section[member]]
+        if sp is None:
+            return ""
+        if sp.radius:
+            return f"outline at {360 // ROUND_POINTS * (point % ROUND_POINTS)} deg from +y towards +z"
+        k = (point % width) % len(sp.y)
+        y, z = sp.y[k], sp.z[k]
+        if len(sp.y) == 4:
+            return f"corner {'+' if y > 0 else '-'}y {'+' if z > 0 else '-'}z"
+        return f"outline point {k + 1} (y {1e3 * y:+.0f} mm, z {1e3 * z:+.0f} mm)"
+
+    return name
+
+
 def point_name(model: Model, member: int, point: int) -> str:
-    """The stress point `point` (a column of `point_table`) of member `member` in words: a corner
-    of the outline by the signs of its local y and z, or a round outline's angle from +y."""
-    sec = model.sections[model.member_section[member]]
-    sp = sec.stress_points()
-    if sp is None:
-        return ""
-    if sp.radius:
-        return f"outline at {5 * (point % ROUND_POINTS)} deg from +y towards +z"
-    width = max([len(s.y) for s in (x.stress_points() for x in model.sections.values()) if s is not None] or [1])
-    k = (point % width) % len(sp.y)
-    y, z = sp.y[k], sp.z[k]
-    if len(sp.y) == 4:
-        return f"corner {'+' if y > 0 else '-'}y {'+' if z > 0 else '-'}z"
-    return f"outline point {k + 1} (y {1e3 * y:+.0f} mm, z {1e3 * z:+.0f} mm)"
+    """`point_namer(model)(member, point)`, for one name."""
+    return point_namer(model)(member, point)
 
 
 def _common(a, b):

@@ -10,7 +10,7 @@ import math
 
 import numpy as np
 
-from ..analysis.stress_field import COLUMNS, point_name
+from ..analysis.stress_field import COLUMNS, point_namer
 from .stress_out import RATIO_NOTE, REPORT_ROWS, units_of
 from .tables import write_csv
 
@@ -35,8 +35,9 @@ def _f(x):
     return float(x) if x is not None and math.isfinite(x) else None
 
 
-def _member(results, r, j: int) -> dict:
-    """One member's stress bounds (SI) with the governing point and time or case of each."""
+def _member(results, r, j: int, name_of) -> dict:
+    """One member's stress bounds (SI) with the governing point and time or case of each;
+    `name_of` a `point_namer` of the model."""
     b, model = r.fields["stress"], results.model
     key = "time_s" if r.kind == "combination" else "case"
     row = {"section": model.member_section[j]}
@@ -45,7 +46,7 @@ def _member(results, r, j: int) -> dict:
                                    ("mises", b.max, b.max_by, b.point_max, 1)):
         v = _f(vals[j, c])
         row[f"{name}_Pa"] = v
-        row[f"{name}_point"] = None if v is None else point_name(model, j, int(pts[j, c]))
+        row[f"{name}_point"] = None if v is None else name_of(j, int(pts[j, c]))
         row[f"{name}_{key}"] = None if v is None else _by(r, by[j, c])
     row["ratio_to_yield"] = _f(b.max[j, 2])
     return row
@@ -65,19 +66,20 @@ def demand_block(results, r) -> dict:
     model = results.model
     ranked = _ranked(r)
     b = r.fields["stress"]
+    name_of = point_namer(model)
+    rows = {j: _member(results, r, j, name_of) for j in range(model.n_members)}
     gov = {}
     for name, vals in (("mises", b.max[:, 1]), ("ratio", b.max[:, 2]), ("normal_max", b.max[:, 0]),
                        ("normal_min", -b.min[:, 0])):
         if np.isfinite(vals).any():
             j = int(np.nanargmax(vals))
-            gov[name] = {"member": model.member_names[j], **_member(results, r, j)}
+            gov[name] = {"member": model.member_names[j], **rows[j]}
     signless = r.kind == "envelope" or any(k in ("spectrum", "harmonic") for _, _, k in r.terms)
     return {"columns": list(COLUMNS), "units": "Pa (ratio: none)", "basis": BASIS if signless else EXACT,
             "ratio_note": RATIO_NOTE,
             "governing": gov,
-            "governing_members": [{"member": model.member_names[j], **_member(results, r, j)}
-                                  for j in ranked[:GOVERNING]],
-            "members": {m: _member(results, r, j) for j, m in enumerate(model.member_names)}}
+            "governing_members": [{"member": model.member_names[j], **rows[j]} for j in ranked[:GOVERNING]],
+            "members": {m: rows[j] for j, m in enumerate(model.member_names)}}
 
 
 def write_demand_stresses(results, out) -> None:
@@ -94,10 +96,12 @@ def write_demand_stresses(results, out) -> None:
         head += [f"{name}_{u}", f"{name}_point", f"{name}_time_s", f"{name}_case"]
     head.append("ratio_to_yield")
 
+    name_of = point_namer(results.model)
+
     def rows():
         for r in demands:
             for j, m in enumerate(results.model.member_names):
-                row = _member(results, r, j)
+                row = _member(results, r, j, name_of)
                 cells = [r.name, r.kind, m, row["section"]]
                 for name in ("normal_max", "normal_min", "mises"):
                     v, by = row[f"{name}_Pa"], row.get(f"{name}_time_s", row.get(f"{name}_case"))
@@ -120,7 +124,7 @@ def demand_lines(results, r, indent: str) -> list[str]:
     units, model = units_of(results), results.model
     k, unit = (units.per_si("stress"), units.label("stress")) if units.chosen else (1e-6, "MPa")
     j = int(ranked[0])
-    row = _member(results, r, j)
+    row = _member(results, r, j, point_namer(model))
     by = row.get("mises_case") if r.kind == "envelope" else row.get("mises_time_s")
     when = "" if by is None else (f" in {by}" if r.kind == "envelope" else f" at {by:.4g} s")
     ratio = "" if row["ratio_to_yield"] is None else \
