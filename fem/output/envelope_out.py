@@ -187,9 +187,10 @@ def summary_lines(results, r, indent: str) -> list[str]:
     return lines
 
 
-def report_block(c: dict) -> str:
+def report_block(c: dict, doc: dict | None = None) -> str:
     """The report's section body of a results.json entry `c` of a combination or envelope: what
-    it adds or bounds, then per field the governing largest and smallest value of each component."""
+    it adds or bounds, then per field the governing largest and smallest value of each component
+    (member stresses in the display units of the document `doc`, MPa without a choice)."""
     esc = html.escape
     if c["kind"] == "combination":
         head = " ".join(f"{'+' if t['factor'] >= 0 else '-'} {abs(t['factor']):g} {esc(t['case'])} ({t['kind']})"
@@ -203,7 +204,7 @@ def report_block(c: dict) -> str:
     by = "time_s" if c["kind"] == "combination" else "case"
     for name, f in c["fields"].items():
         if name in _OWN:
-            out.append(stress_demands.demand_report(f, by))
+            out.append(stress_demands.demand_report(f, by, doc))
             continue
         rows = []
         for comp, g in f["governing"].items():

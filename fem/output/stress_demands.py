@@ -140,9 +140,13 @@ def demand_lines(results, r, indent: str) -> list[str]:
     return lines
 
 
-def demand_report(block: dict, by: str) -> str:
-    """The report's table of the most stressed members of a results.json `fields.stress` block
-    (MPa); `by` "time_s" or "case"."""
+def demand_report(block: dict, by: str, doc: dict | None = None) -> str:
+    """The report's table of the most stressed members of a results.json `fields.stress` block,
+    in the display units of the document `doc` (MPa without a choice); `by` "time_s" or "case"."""
+    from .fmt import doc_units
+
+    units = doc_units(doc or {})
+    k, unit = (units.per_si("stress"), units.label("stress")) if units.chosen else (1e-6, "MPa")
     esc = html.escape
     rows = sorted(((m, v) for m, v in block["members"].items() if v["mises_Pa"] is not None),
                   key=lambda mv: -mv[1]["mises_Pa"])[:REPORT_ROWS]
@@ -155,10 +159,10 @@ def demand_report(block: dict, by: str) -> str:
 
     body = "".join(
         "<tr>" + "".join(f"<td>{x}</td>" for x in (
-            esc(m), esc(v["section"]), f"{v['normal_max_Pa'] * 1e-6:.4g}", f"{v['normal_min_Pa'] * 1e-6:.4g}",
-            f"{v['mises_Pa'] * 1e-6:.4g}", "" if v["ratio_to_yield"] is None else f"{v['ratio_to_yield']:.3g}",
+            esc(m), esc(v["section"]), f"{v['normal_max_Pa'] * k:.4g}", f"{v['normal_min_Pa'] * k:.4g}",
+            f"{v['mises_Pa'] * k:.4g}", "" if v["ratio_to_yield"] is None else f"{v['ratio_to_yield']:.3g}",
             esc(v["mises_point"] or ""), when(v, "mises"))) + "</tr>" for m, v in rows)
-    return (f"<h3>member stresses (MPa)</h3><p>The {len(rows)} most stressed members; all in extremes_stresses.csv. "
+    return (f"<h3>member stresses ({esc(unit)})</h3><p>The {len(rows)} most stressed members; all in extremes_stresses.csv. "
             f"{esc(block['basis'][0].upper() + block['basis'][1:])}. {esc(RATIO_NOTE[0].upper() + RATIO_NOTE[1:])}.</p>"
             "<table><tr><th>member</th><th>section</th><th>sigma max</th><th>sigma min</th><th>equivalent</th>"
             f"<th>ratio to yield</th><th>point</th><th>{'time' if by == 'time_s' else 'case'}</th></tr>{body}</table>")
