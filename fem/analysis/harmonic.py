@@ -266,9 +266,11 @@ def _frequencies(case, omega, zeta, around) -> np.ndarray:
 
 
 def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
-                        lu=None, around=()) -> HarmonicResult:
+                        lu=None, around=(), stations: int = 2) -> HarmonicResult:
     """The steady response of harmonic `case` on the modes of `modal`; a sweep is refined around
-    the natural frequencies in it and the frequencies `around` (Hz: declared excitations)."""
+    the natural frequencies in it and the frequencies `around` (Hz: declared excitations).
+    `stations`: along each member, where the per-point stress amplitudes are kept
+    (fem.analysis.stress.harmonic_stresses; more for a case a combination adds)."""
     n6 = 6 * model.n_nodes
     f = asm.free
     phi, omega = modal.modes.phi, modal.modes.omega
@@ -362,7 +364,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     else:
         member_forces = (np.einsum("wk,kqc->wqc", H, Fm[:, members])
                          + _columns(m_static, (12 * members[:, None] + np.arange(12)).ravel(), (len(members), 12)))
-    stresses = _stresses(model, H, Fm, m_static, freq)
+    stresses = _stresses(model, H, Fm, m_static, freq, stations)
     complete = modes_complete_to(modal)
     top = float(freq[-1])
     if complete < top:
@@ -391,7 +393,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           springs=_springs(model, H, shapes, freq, static))
 
 
-def _stresses(model, H, Fm, m_static, freq):
+def _stresses(model, H, Fm, m_static, freq, stations=2):
     """Stress amplitudes of every member at every frequency (phases kept), largest over them."""
     from .stress import harmonic_stresses
 
@@ -402,7 +404,7 @@ def _stresses(model, H, Fm, m_static, freq):
         static = m_static if isinstance(m_static, np.ndarray) else (m_static[0][rows], m_static[1])
         return (H[rows] @ cols).reshape(-1, e, 12) + _columns(static, np.arange(12 * e), (e, 12))
 
-    return harmonic_stresses(model, forces, freq)
+    return harmonic_stresses(model, forces, freq, stations)
 
 
 def _springs(model, H, shapes, freq, static):

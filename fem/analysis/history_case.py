@@ -57,8 +57,9 @@ class HistoryResult:
 class HistorySeries(NamedTuple):
     """The whole response at every step without holding it: q (m, k + l) the histories of the
     k modes then of the l time functions' static parts, and statics[field] (N, l) the static
-    parts' own fields ("displacement" (6n,), "reaction" (6n,), "end_force" (12e,)). With the
-    modes' fields (`series_basis`), field(t_i) = basis[field] @ q[i]."""
+    parts' own fields ("displacement" (6n,), "reaction" (6n,), "end_force" (12e,)) and their
+    members' uniform line loads ("line_load" (3e,), local axes: at step i, statics @ q[i, k:]).
+    With the modes' fields (`series_basis`), field(t_i) = basis[field] @ q[i]."""
 
     q: np.ndarray
     statics: dict
@@ -197,7 +198,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                          t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses,
-                         HistorySeries(qg, own), l_peak, l_time,
+                         HistorySeries(qg, {**own, "line_load": np.array(lines).T}), l_peak, l_time,
                          springs=series_springs(model, qg, np.hstack([shapes, own["displacement"]]), t))
 
 

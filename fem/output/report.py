@@ -237,7 +237,7 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         elif c["kind"] in ("combination", "envelope"):
             from .envelope_out import report_block
 
-            parts.append(report_block(c))
+            parts.append(report_block(c, doc))
         elif c["kind"] == "spectrum":
             b = c["base_reaction"]
             parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],
