@@ -215,3 +215,28 @@ def test_layout_holds_in_headless_browser(rack, tmp_path, width):
     assert cols == 1 if width < 500 else cols >= 4
     img = np.asarray(Image.open(shot).convert("L"))[:, :width]
     assert len(np.unique(img)) > 10                      # not a blank page
+
+
+@pytest.mark.parametrize("chosen, force, moment", [("mm, kN, MPa", 1.0, 1.0), ("mm, N", 1e3, 1e3)])
+def test_reaction_and_end_force_tables_in_display_units(chosen, force, moment):
+    """A cantilever pipe with an arm, pushed sideways at the arm's tip: the base reaction is the
+    push reversed and the moment of the push about the base (statics of a rigid body: R = -F,
+    M = -r x F), shown in the units the document chose; the torque in the column is |r x F|_z."""
+    import fem
+    from fem.display import parse_units
+    from fem.output.report import case_tables
+    from shared_decks import PIPE_ARM
+
+    res = fem.solve(fem.read_text(PIPE_ARM + "case PUSH static { force H = (0, 2 kN, 0) }\n"))
+    u = parse_units(chosen)
+    doc = {"display_units": {"length": u.length, "force": u.force, "moment": u.moment, "stress": u.stress,
+                             "frequency": u.frequency, "chosen": True}}
+    text = case_tables(res, doc)["PUSH"]
+    row = re.search(r"<td class=\"l\">N0</td>(.*?)</tr>", text).group(1)
+    got = [float(v) for v in re.findall(r"<td[^>]*>([-0-9.e+]+)</td>", row)]
+    r, f = np.array([1.5, 0.0, 6.0]), np.array([0.0, 2.0, 0.0])          # m, kN
+    want = np.r_[-f * force, -np.cross(r, f) * moment]                     # (0, -2, 0) kN, (12, 0, -3) kN m
+    assert got == pytest.approx(want.tolist(), rel=5e-4, abs=1e-12)
+    assert f"Fx {u.label('force')}" in text and f"Mx {u.label('moment')}" in text
+    torque = re.search(r"<td class=\"l\">T</td><td[^>]*>([-0-9.e+]+) ", text).group(1)
+    assert abs(float(torque)) == pytest.approx(3.0 * moment, rel=5e-4)

@@ -16,7 +16,7 @@ from .report_page import table as _table
 from .report_tables import demand_tables, end_force_table, glance_rows, modes_table, reaction_table, shown_units
 from .stress_out import report_section as stress_section
 
-__all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "report", "write_report"]
+__all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "case_tables", "report", "write_report"]
 
 HISTORY_PLOTS = 12       # history plots per case in the report; every recorded node is in the CSV
 STATIC_PLOTS = 24     # deformed-shape plots of the first static cases and combinations (report size)
