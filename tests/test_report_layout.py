@@ -3,9 +3,10 @@ headless Chromium at a desktop width (1400 px) and a phone's (390 px).
 
 The rack is run once for the module, with pictures where this machine can draw them (the size
 check needs them; it skips without). The layout is measured by a copy of the report with a small
-probe script that paints its measurements as the colours of three squares at the top left,
+probe script that paints its measurements as the colours of squares at the top left,
 read back from the screenshot: the viewport width, the page's scroll width (wider than the
-viewport means the page scrolls sideways) and the number of columns of the fullest picture grid.
+viewport means the page scrolls sideways), the number of columns of the fullest picture grid
+and the width of its first picture before and after it is opened.
 Headless Chromium does not make its window narrower than 500 px, so the phone width is laid out
 in a 390 px iframe, which the page's media queries see as its viewport.
 """
@@ -167,14 +168,17 @@ def _browser():
     return None
 
 
-# paints window.innerWidth, the page's scrollWidth and the columns of the fullest picture grid as colours
+# paints as colours: window.innerWidth, the page's scrollWidth, the columns of the fullest picture
+# grid, the width of its first picture closed and opened, and the grid's width
 _PROBE = """<script>(function () {
   var d = document.documentElement, g = null, cols = 0;
   document.querySelectorAll('.grid').forEach(function (x) {
     if (!g || x.children.length > g.children.length) g = x; });
   if (g) { var seen = {}; for (var i = 0; i < g.children.length; i++) seen[g.children[i].offsetLeft] = 1;
            cols = Object.keys(seen).length; }
-  [window.innerWidth, d.scrollWidth, cols].forEach(function (v, k) {
+  var pic = g && g.querySelector('details'), thumb = 0, opened = 0;
+  if (pic) { thumb = pic.offsetWidth; pic.open = true; opened = pic.offsetWidth; }
+  [window.innerWidth, d.scrollWidth, cols, thumb, opened, g ? g.clientWidth : 0].forEach(function (v, k) {
     var e = document.createElement('div');
     e.style.cssText = 'position:fixed;left:0;width:20px;height:20px;z-index:99;top:' + 25 * k +
       'px;background:rgb(' + (v >> 8) + ',' + (v & 255) + ',7)';
@@ -182,9 +186,9 @@ _PROBE = """<script>(function () {
 })();</script>"""
 
 
-def _measure(shot: Path) -> tuple[int, int, int]:
+def _measure(shot: Path) -> tuple[int, ...]:
     im = Image.open(shot).convert("RGB")
-    return tuple(int(r) * 256 + int(g) for r, g, _ in (im.getpixel((10, 10 + 25 * k)) for k in range(3)))
+    return tuple(int(r) * 256 + int(g) for r, g, _ in (im.getpixel((10, 10 + 25 * k)) for k in range(6)))
 
 
 @pytest.mark.parametrize("width", [1400, 390])
@@ -210,9 +214,11 @@ def test_layout_holds_in_headless_browser(rack, tmp_path, width):
     r = subprocess.run([exe, *flags, f"--screenshot={shot}", f"--window-size={max(width, 500)},2400",
                         page.as_uri()], capture_output=True, text=True, timeout=180)
     assert r.returncode == 0, r.stderr[-1500:]
-    viewport, scroll, cols = _measure(shot)
+    viewport, scroll, cols, thumb, opened, grid_width = _measure(shot)
     assert viewport == width and scroll <= width
     assert cols == 1 if width < 500 else cols >= 4
+    # a picture opened (its <details> open, as a click does) takes the grid's whole width
+    assert opened == grid_width and (thumb < opened if cols > 1 else thumb == opened)
     img = np.asarray(Image.open(shot).convert("L"))[:, :width]
     assert len(np.unique(img)) > 10                      # not a blank page
 
