@@ -97,28 +97,34 @@ def demand_tables(c: dict, units) -> str:
         cols = reac["columns"]
         ks = [units["force" if j < 3 else "moment"][0] for j in range(len(cols))]
         rows = []
+        every = np.abs([np.asarray(v[side], float) * ks for v in reac["values"].values() for side in ("max", "min")])
+        scale_f, scale_m = every[:, :3].max(initial=0.0), every[:, 3:].max(initial=0.0)
         for node, v in reac["values"].items():
             for side in ("max", "min"):
                 vals = np.asarray(v[side], float) * ks
                 gov = v[f"{side}_{by}"]
-                cells = [f"{x:.4g}" + _gov(g, by) for x, g in zip(tidy(vals, np.abs(vals).max(initial=0.0)), gov)]
+                shown = np.r_[tidy(vals[:3], scale_f), tidy(vals[3:], scale_m)]     # each quantity on its own scale
+                cells = [f"{x:.4g}" + _gov(g, by) for x, g in zip(shown, gov)]
                 rows.append([html.escape(node) if side == "max" else "", "largest" if side == "max" else "smallest",
                              *cells])
         head = ["node", "bound", *(f"{cname} {units['force' if j < 3 else 'moment'][1]}" for j, cname in enumerate(cols))]
         parts.append(f"<h3>Reactions (largest and smallest, {'governing case' if by == 'case' else 'time'} "
                      "in brackets)</h3>" + _table(head, rows, left=2))
-    ef = c["fields"].get("end_force")
-    if ef and ef["governing"]:
+    for name, f in c["fields"].items():       # end forces, and member stresses where a field holds them
+        if name != "end_force" and "stress" not in name or not f["governing"]:
+            continue
         rows = []
-        for comp, g in ef["governing"].items():
-            k, unit = units["moment" if comp.split("_")[0] in ("T", "My", "Mz") else "force"]
+        for comp, g in f["governing"].items():
+            k, unit = units["stress" if name != "end_force" else
+                            "moment" if comp.split("_")[0] in ("T", "My", "Mz") else "force"]
             cells = [html.escape(comp)]
             for side in ("max", "min"):
                 e = g[side]
-                cells += [f"{e['value'] * k:.4g} {unit}", html.escape(e.get("member", "")) + _gov(e[by], by)]
+                cells += [f"{e['value'] * k:.4g} {unit}", html.escape(str(e.get("member", ""))) + _gov(e[by], by)]
             rows.append(cells)
-        parts.append("<h3>Governing member end forces</h3>" + _table(
-            ["component", "largest", "member", "smallest", "member"], rows))
+        title = "member end forces" if name == "end_force" else html.escape(name.replace("_", " "))
+        parts.append(f"<h3>Governing {title}</h3>" + _table(["component", "largest", "member", "smallest", "member"],
+                                                            rows))
     return "\n".join(parts)
 
 
