@@ -163,6 +163,7 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
             continue
         word = "" if c["kind"] in ("combination", "envelope") else " case"
         parts.append(f"<h2 id='case-{html.escape(c['name'])}'>{html.escape(c['kind'])}{word} {html.escape(c['name'])}</h2>")
+        start, folded = len(parts), ""
         if c["kind"] == "static":
             parts.append(_table(["quantity", "value"], [
                 ["largest translation", quantity(doc, "length", c["max_translation_m"], (1.0, "m"))],
@@ -188,15 +189,17 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
             from .envelope_out import report_block
 
             parts.append(demand_tables(c, units))
-            parts.append("<details><summary>every field's largest and smallest value, in SI units</summary>"
-                         f"{report_block(c)}</details>")
+            folded = ("<details><summary>every field's largest and smallest value, in SI units</summary>"
+                      f"{report_block(c)}</details>")
         elif c["kind"] == "spectrum":
             b = c["base_reaction"]
             parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],
                                                         ["base shear X, Y", f"{quantity(doc, 'force', b['Fx'], (1e-3, 'kN'))}, "
                                                                             f"{quantity(doc, 'force', b['Fy'], (1e-3, 'kN'))}"],
                                                         ["largest displacement", quantity(doc, "length", c["max_displacement_m"], (1.0, "m"))]]))
-        parts.append(tables.get(c["name"], ""))
+        # the case's short tables side by side where the page is wide enough, one under the other where not
+        boxes = [p if p.startswith("<div") else f"<div>{p}</div>" for p in [*parts[start:], tables.get(c["name"], "")] if p]
+        parts[start:] = ["<div class='cols'>", *boxes, "</div>", folded]
         parts.append(stress_section(c, doc, _table))
         parts.append(grid(images.get(c["name"], []), base))
     parts.append(f'<p class="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p></main></body></html>')

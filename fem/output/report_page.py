@@ -47,8 +47,8 @@ th, td { border-bottom: 1px solid #e4e7ec; padding: 0.25em 0.7em; text-align: ri
 th { background: #f4f6f8; } td.l, th.l, .last-l td:last-child, .last-l th:last-child { text-align: left; }
 tr:hover td { background: #f8fafc; }
 .pass { color: #2e7d32; font-weight: 600; } .fail { color: #b3261e; font-weight: 700; }
-.cols { display: grid; grid-template-columns: repeat(auto-fit, minmax(min(100%, 420px), 1fr));
-        gap: 0 1.5em; align-items: start; }
+.cols { display: flex; flex-wrap: wrap; gap: 0 2.5em; align-items: flex-start; }
+.cols > * { min-width: 0; max-width: 100%; }
 .grid { display: grid; grid-template-columns: repeat(auto-fill, minmax(min(100%, 260px), 1fr));
         gap: 0.8em; margin: 0.8em 0; }
 .grid > * { border: 1px solid #e4e7ec; border-radius: 4px; background: #fff; min-width: 0; }

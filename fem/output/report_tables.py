@@ -60,7 +60,7 @@ def reaction_table(results, r, units) -> str:
         total = v.sum(axis=0)
         rows.append(["<b>sum of forces</b>", *_cells(total[:3], sf), "", "", ""])   # nodal moments do not add
     head = ["node", *(f"{c} {lf}" for c in REACTIONS[:3]), *(f"{c} {lm}" for c in REACTIONS[3:])]
-    return f"<h3>Reactions ({what})</h3>" + _table(head, rows)
+    return f"<div><h3>Reactions ({what})</h3>{_table(head, rows)}</div>"
 
 
 def end_force_table(results, r, units) -> str:
@@ -84,7 +84,7 @@ def end_force_table(results, r, units) -> str:
         rows.append(cells)
     head = (["component", "largest", "member end", "smallest", "member end"] if what == "signed"
             else ["component", "largest", "member end"])
-    return f"<h3>Governing member end forces ({what})</h3>" + _table(head, rows)
+    return f"<div><h3>Governing member end forces ({what})</h3>{_table(head, rows)}</div>"
 
 
 def demand_tables(c: dict, units) -> str:
@@ -108,8 +108,8 @@ def demand_tables(c: dict, units) -> str:
                 rows.append([html.escape(node) if side == "max" else "", "largest" if side == "max" else "smallest",
                              *cells])
         head = ["node", "bound", *(f"{cname} {units['force' if j < 3 else 'moment'][1]}" for j, cname in enumerate(cols))]
-        parts.append(f"<h3>Reactions (largest and smallest, {'governing case' if by == 'case' else 'time'} "
-                     "in brackets)</h3>" + _table(head, rows, left=2))
+        parts.append(f"<div><h3>Reactions (largest and smallest, {'governing case' if by == 'case' else 'time'} "
+                     f"in brackets)</h3>{_table(head, rows, left=2)}</div>")
     for name, f in c["fields"].items():       # end forces, and member stresses where a field holds them
         if name != "end_force" and "stress" not in name or not f["governing"]:
             continue
@@ -123,8 +123,8 @@ def demand_tables(c: dict, units) -> str:
                 cells += [f"{e['value'] * k:.4g} {unit}", html.escape(str(e.get("member", ""))) + _gov(e[by], by)]
             rows.append(cells)
         title = "member end forces" if name == "end_force" else html.escape(name.replace("_", " "))
-        parts.append(f"<h3>Governing {title}</h3>" + _table(["component", "largest", "member", "smallest", "member"],
-                                                            rows))
+        parts.append(f"<div><h3>Governing {title}</h3>"
+                     f"{_table(['component', 'largest', 'member', 'smallest', 'member'], rows)}</div>")
     return "\n".join(parts)
 
 
