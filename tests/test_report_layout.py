@@ -266,3 +266,15 @@ def test_envelope_tables_name_what_governs():
     assert ">1.5 (A)</td>" in text and ">-1.5 (B)</td>" in text and ">200 (B)</td>" in text
     assert ">0 (A)</td>" in text and ">-1e-12" not in text                 # -1e-12 of 200 kN is round-off: shown as 0
     assert "Governing von mises stress" in text and "250 MPa" in text and "C1 (B)" in text
+
+
+def test_viewer_is_linked_when_present(rack, tmp_path):
+    """viewer.html beside the report gets a link in its header; without one there is none."""
+    from fem.output.report import write_report
+
+    doc = json.loads((rack / "results.json").read_text())
+    alone = write_report(tmp_path / "report.html", doc, {}).read_text(encoding="utf-8")
+    assert "viewer.html" not in alone
+    (tmp_path / "viewer.html").write_text("<!doctype html><title>view</title>")
+    linked = write_report(tmp_path / "report.html", doc, {}).read_text(encoding="utf-8")
+    assert "<a href='viewer.html'>interactive 3D view</a>" in linked
