@@ -15,6 +15,7 @@ from __future__ import annotations
 import base64
 import html
 import io
+import os
 from pathlib import Path
 
 __all__ = ["ANIMATION_BUDGET", "ANIMATION_FORMATS", "STYLE", "animation_file", "encode_still", "figure",
@@ -136,7 +137,7 @@ def figure(path: Path, caption: str, base: Path | None = None) -> str:
     cap = html.escape(caption)
     ext = path.suffix.lower()
     if ext in ANIMATION_FORMATS and path.stat().st_size > ANIMATION_BUDGET:
-        rel = path.name if base is None else path.relative_to(base).as_posix()
+        rel = path.name if base is None else Path(os.path.relpath(path, base)).as_posix()
         size = path.stat().st_size / 1e6
         return (f"<div><a class='linked' href='{html.escape(rel)}'>open {html.escape(rel)} ({size:.1f} MB, "
                 f"a file beside the report)</a><span class='cap'>{cap}</span></div>")
