@@ -17,7 +17,7 @@ from pathlib import Path
 from ..errors import ResultsError
 from ..progress import stage
 from . import folder as _folder
-from . import pictures, report
+from . import pictures, report, viewer
 from .results_json import write_results_json
 from .tables import write_tables
 
@@ -75,8 +75,8 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
                   write: str = "all") -> Written:
     """Write the results folder of `results` (a `fem.results.Results`): CSV tables, files for
     VTK viewers (a VTU per mode, one VTKHDF file per free or history case), results.json,
-    pictures (unless `render` is False) and the report, or less as `write` says, staged and
-    swapped in only when all succeeded.
+    pictures and the 3D view viewer.html (unless `render` is False) and the report, or less as
+    `write` says, staged and swapped in only when all succeeded.
 
     Parameters
     ----------
@@ -138,6 +138,9 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         if write == "all":
             notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps) if render
                       else "pictures skipped (--no-render)")
+            if render:      # the interactive 3D view (viewer.html), whole or not at all
+                failed = viewer.write_viewer(results, tmp)
+                notice += f"; {failed}" if failed else ""
             with stage("writing the report"):
                 report.report(results, doc, tmp, notice)
         else:
