@@ -203,8 +203,7 @@ def report_block(c: dict, doc: dict | None = None) -> str:
     out = [intro]
     by = "time_s" if c["kind"] == "combination" else "case"
     for name, f in c["fields"].items():
-        if name in _OWN:
-            out.append(stress_demands.demand_report(f, by, doc))
+        if name in _OWN:          # shown by the report in its own table (stress_demands.demand_report)
             continue
         rows = []
         for comp, g in f["governing"].items():

@@ -15,6 +15,7 @@ from .report_page import ok as _ok
 from .report_page import table as _table
 from .report_tables import demand_tables, end_force_table, glance_rows, modes_table, reaction_table, shown_units
 from .springs_out import report_section as springs_section
+from .stress_demands import demand_report
 from .stress_out import report_section as stress_section
 
 __all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "case_tables", "report", "write_report"]
@@ -190,6 +191,8 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
             from .envelope_out import report_block
 
             parts.append(demand_tables(c, units))
+            if "stress" in c["fields"]:           # the most stressed members, in the display units
+                parts.append(demand_report(c["fields"]["stress"], "time_s" if c["kind"] == "combination" else "case", doc))
             folded = ("<details><summary>every field's largest and smallest value, in SI units</summary>"
                       f"{report_block(c, doc)}</details>")
         elif c["kind"] == "spectrum":
