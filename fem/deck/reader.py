@@ -16,6 +16,8 @@ The reader in parts, in the order a deck flows through them::
 
 from __future__ import annotations
 
+import gc
+from contextlib import contextmanager
 from pathlib import Path
 
 from ..errors import DeckError
@@ -101,9 +103,10 @@ def read_deck(path, let: dict | None = None) -> Model:
         raise DeckError(f"deck '{path}' cannot be read: {exc.strerror}") from None
     if not there:
         raise DeckError(f"deck '{path}' does not exist")
-    r = _Reader(path, let)
-    r.statements.read_file(path)
-    model = r.model()
+    with _collector_paused():
+        r = _Reader(path, let)
+        r.statements.read_file(path)
+        model = r.model()
     model.source = str(path)
     return model
 
@@ -112,10 +115,25 @@ def read_text(text: str, name: str = "deck.deck", folder: str | Path = ".", let:
     """Read a deck from a string (used by tests); includes resolve relative to `folder`;
     `let` overrides parameters as in read_deck."""
     path = Path(folder) / name
-    r = _Reader(path, let)
-    r.sources.lines[path.resolve()] = text.splitlines()
-    with r.sources.reading(path.resolve()):
-        for stmt in r.sources.parse(text, path).children:
-            r.statements.statement(stmt)
-    with r.sources.reading(path.resolve()):      # the deck's own file for what has no other
-        return r.model()
+    with _collector_paused():
+        r = _Reader(path, let)
+        r.sources.lines[path.resolve()] = text.splitlines()
+        with r.sources.reading(path.resolve()):
+            for stmt in r.sources.parse(text, path).children:
+                r.statements.statement(stmt)
+        with r.sources.reading(path.resolve()):      # the deck's own file for what has no other
+            return r.model()
+
+
+@contextmanager
+def _collector_paused():
+    """The garbage collector paused while a deck is read: the parse tree, the tokens and the
+    definitions are a million or more objects in a large deck, which each collection would scan
+    again, and reading makes no reference cycles worth collecting meanwhile."""
+    enabled = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if enabled:
+            gc.enable()

@@ -236,26 +236,28 @@ class Statements:
     # ---------- nodes and members
     def st_node(self, s):
         name = self.ev.name(s.children[0])
-        self.defs.define("node", "node", name, self.loc(s))
-        self.defs.not_a_group(name, "node", self.loc(s))
+        where = self.loc(s)
+        self.defs.define("node", "node", name, where)
+        self.defs.not_a_group(name, "node", where)
         xyz = self.ev.vector(s.children[1], U.LENGTH, f"node {name}")
         if np.abs(xyz).max() > MAX_COORDINATE:
             raise DeckError(f"node {name}: a coordinate of {np.abs(xyz).max():.3g} m is beyond any structure "
-                            f"(the limit is {MAX_COORDINATE:g} m)", self.loc(s), "check the units of the coordinates")
-        self.defs.nodes[name] = (xyz, self.loc(s))
+                            f"(the limit is {MAX_COORDINATE:g} m)", where, "check the units of the coordinates")
+        self.defs.nodes[name] = (xyz, where)
 
     def st_member(self, s):
         ch = s.children
         ev = self.ev
         name = ev.name(ch[0])
-        self.defs.define("member", "member", name, self.loc(s))
-        self.defs.not_a_group(name, "member", self.loc(s))
+        where = self.loc(s)
+        self.defs.define("member", "member", name, where)
+        self.defs.not_a_group(name, "member", where)
         kind = str(ch[3])
         if kind not in ("beam", "truss"):
             raise DeckError(f"member {name}: kind must be 'beam' or 'truss', not '{kind}'", self.loc(ch[3]))
         m = dict(name=name, i=(ev.name(ch[1]), ch[1]), j=(ev.name(ch[2]), ch[2]), kind=kind,
                  section=(ev.name(ch[4]), ch[4]), material=(ev.name(ch[5]), ch[5]),
-                 roll=0.0, up=None, carried_mass=0.0, releases=np.zeros(12, bool), loc=self.loc(s), pretension=0.0)
+                 roll=0.0, up=None, carried_mass=0.0, releases=np.zeros(12, bool), loc=where, pretension=0.0)
         seen = set()
         for opt in ch[6:]:
             if opt.data == "release":
@@ -461,6 +463,8 @@ def _released_motion(released: np.ndarray) -> str | None:
 
     The member's rigid motions (translation a, rotation t; end j moves by a + t x L e_x) must
     each move some end DOF that is kept, else the released block of its stiffness is singular."""
+    if not released.any():
+        return None                       # no releases: every rigid motion moves a kept DOF
     G = np.zeros((12, 6))
     G[0:3, 0:3] = G[6:9, 0:3] = G[3:6, 3:6] = G[9:12, 3:6] = np.eye(3)
     G[7, 5], G[8, 4] = 1.0, -1.0          # t_z moves end j along local y, t_y against local z
