@@ -13,6 +13,7 @@ import numpy as np
 from lark import Token, Tree
 
 from ..errors import DeckError, Location, suggest
+from . import literals
 from . import units as U
 from .units import Quantity
 
@@ -229,21 +230,10 @@ class Evaluator:
         known = self.quantities.get(text)
         if known is not None:            # loops read the same literals over and over
             return known
-        i = 0
-        while i < len(text) and (text[i].isdigit() or text[i] in ".eE+-") and not (
-                text[i] in "eE" and (i + 1 >= len(text) or not (text[i + 1].isdigit() or text[i + 1] in "+-"))):
-            i += 1
-        value, unit = _literal(text[:i], self.loc(tok)), text[i:].strip()
-        q = Quantity(value)
-        for k, part in enumerate(_split_unit(unit)):
-            op, sym, power = part
-            base = U.unit_value(sym)
-            if base is None:
-                raise DeckError(f"unknown unit '{sym}'; {suggest(sym, U.UNITS)}", self.loc(tok))
-            base = base ** Quantity(power)
-            q = q * base if op == "*" else q / base
-        if not math.isfinite(q.value) or (q.value == 0 and value != 0):
-            raise DeckError(f"{text} is beyond the range of numbers once converted to SI units", self.loc(tok))
+        try:
+            q = literals.quantity(text)
+        except literals.LiteralError as exc:
+            raise DeckError(exc.message, self.loc(tok), exc.hint) from None
         self.quantities[text] = q
         return q
 
@@ -434,15 +424,11 @@ def _g(v: float) -> str:
 
 
 def _literal(text: str, where: Location) -> float:
-    """A number as written in the deck; one that overflows to inf or underflows to 0 is refused
-    rather than silently changed."""
-    v = float(text)
-    if math.isinf(v):
-        raise DeckError(f"the number {text} is too large (numbers reach about {_FLOAT_MAX:.1e})", where)
-    if v == 0 and re.search(r"[1-9]", re.split(r"[eE]", text)[0]):
-        raise DeckError(f"the number {text} is too small to hold (the smallest is about 5e-324)", where,
-                        "write 0 if zero is meant")
-    return v
+    """A bare number as written in the deck (literals.number), its refusal located at `where`."""
+    try:
+        return literals.number(text)
+    except literals.LiteralError as exc:
+        raise DeckError(exc.message, where, exc.hint) from None
 
 
 def too_deep(tree: Tree):
@@ -478,16 +464,3 @@ def _binary(a: Quantity, b: Quantity, op: str) -> Quantity:
                 raise ArithmeticError("division by zero")
             return Quantity(0.0 if a.value == 0 else getattr(a.value, op)(b.value), WILD)
     return getattr(a, op)(b)
-
-
-def _split_unit(unit: str):
-    """'kg/m^3' -> [('*','kg',1), ('/','m',3)]"""
-    out, op, buf = [], "*", ""
-    for ch in unit + "*":
-        if ch in "*/":
-            sym, _, p = buf.partition("^")
-            out.append((op, sym, int(p) if p else 1))
-            op, buf = ch, ""
-        else:
-            buf += ch
-    return out
