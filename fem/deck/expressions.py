@@ -271,22 +271,28 @@ class Evaluator:
 
     def value(self, t, dim, what: str) -> float:
         """Evaluate t and check it has dimension `dim`; return the SI float."""
-        q = self.evaluate(t)
+        return self.si(self.evaluate(t), dim, what, t)
+
+    def si(self, q: Quantity, dim, what: str, t=None) -> float:
+        """The SI float of `q`, the value of `t` (the tree refusals point at), as `dim`."""
         if q.dim is WILD or q.dim == dim:
             v = q.value
         elif q.dim == U.NONE and (f := self.assumed_factor(dim)) is not None:
             v = q.value * f
         elif q.dim == U.NONE:
             example, assume = U.UNIT_EXAMPLES.get(dim, ("6 m", "length in m"))
-            raise DeckError(f"{what} needs {U.dim_name(dim)}, but a bare number was given", self.loc(t),
+            raise DeckError(f"{what} needs {U.dim_name(dim)}, but a bare number was given", self._at(t),
                             f"write the unit after the number, e.g. '{example}'"
                             + (f", or declare 'assume {assume}'" if assume else ""))
         else:
-            raise DeckError(f"{what} needs {U.dim_name(dim)}, but {U.dim_name(q.dim)} was given", self.loc(t),
+            raise DeckError(f"{what} needs {U.dim_name(dim)}, but {U.dim_name(q.dim)} was given", self._at(t),
                             U.unit_remedy(dim, q.dim))
         if not math.isfinite(v):
-            raise DeckError(f"{what} is not a finite number", self.loc(t))
+            raise DeckError(f"{what} is not a finite number", self._at(t))
         return v
+
+    def _at(self, t) -> Location | None:
+        return None if t is None else self.loc(t)
 
     def angle(self, t, what: str) -> float:
         """An angle in rad, written with its unit (30 deg, 0.5 rad) or from a parameter or function;

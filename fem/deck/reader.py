@@ -26,6 +26,7 @@ from ..notes import Note
 from .build import build
 from .case_options import CaseOptions
 from .definitions import Definitions
+from . import fast_lines
 from .expressions import Evaluator
 from .sources import Sources, file_name
 from .statements import Statements
@@ -104,11 +105,15 @@ def read_deck(path, let: dict | None = None) -> Model:
     if not there:
         raise DeckError(f"deck '{path}' does not exist")
     with _collector_paused():
-        r = _Reader(path, let)
-        r.statements.read_file(path)
-        model = r.model()
+        model = _reference_on_error(lambda: _read_file(path, let))
     model.source = str(path)
     return model
+
+
+def _read_file(path: Path, let: dict | None) -> Model:
+    r = _Reader(path, let)
+    r.statements.read_file(path)
+    return r.model()
 
 
 def read_text(text: str, name: str = "deck.deck", folder: str | Path = ".", let: dict | None = None) -> Model:
@@ -116,13 +121,31 @@ def read_text(text: str, name: str = "deck.deck", folder: str | Path = ".", let:
     `let` overrides parameters as in read_deck."""
     path = Path(folder) / name
     with _collector_paused():
-        r = _Reader(path, let)
-        r.sources.lines[path.resolve()] = text.splitlines()
-        with r.sources.reading(path.resolve()):
-            for stmt in r.sources.parse(text, path).children:
-                r.statements.statement(stmt)
-        with r.sources.reading(path.resolve()):      # the deck's own file for what has no other
-            return r.model()
+        return _reference_on_error(lambda: _read_string(text, path, let))
+
+
+def _read_string(text: str, path: Path, let: dict | None) -> Model:
+    r = _Reader(path, let)
+    where = path.resolve()
+    r.sources.lines[where] = text.splitlines()
+    with r.sources.reading(where):
+        tree, quick = r.sources.read(text, path)
+        r.statements.run(tree.children, quick, where)
+    with r.sources.reading(where):      # the deck's own file for what has no other
+        return r.model()
+
+
+def _reference_on_error(read):
+    """read(), and when it refuses the deck, the refusal of the reference reading (lark for every
+    statement, fem/deck/fast_lines.py), so that a user sees the same error either way."""
+    if not fast_lines.quick():
+        return read()
+    try:
+        return read()
+    except DeckError:
+        pass
+    with fast_lines.lark_only():
+        return read()
 
 
 @contextmanager

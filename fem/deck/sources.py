@@ -18,6 +18,7 @@ from pathlib import Path
 from lark import Lark, Token, Tree
 
 from ..errors import DeckError, Location
+from . import fast_lines
 from .expressions import MAX_NESTING, too_deep
 from .syntax import keyword_callbacks
 from .syntax import parse as parse_deck_text
@@ -106,9 +107,9 @@ class Sources:
         self.deck_bytes = 0                            # bytes of deck text read so far (all files)
         self._shown: dict[Path, str] = {}
 
-    def load(self, path: Path, where: Location | None = None) -> tuple[Path, Tree]:
+    def load(self, path: Path, where: Location | None = None) -> tuple[Path, Tree, list]:
         """The deck file at `path` (the top deck, or an include named at `where`) checked, read
-        and parsed, its tokens located: (its resolved path, its tree)."""
+        and parsed, its tokens located: (its resolved path, lark's tree, the quick lines)."""
         path = resolved(path, "include" if where else "deck", where)
         if path in self.stack:
             raise DeckError(f"'{self.shown(path)}' includes itself (through {' -> '.join(self.shown(p) for p in self.stack)})", where)
@@ -122,9 +123,30 @@ class Sources:
                          total=self.deck_bytes)
         self.deck_bytes += len(text.encode("utf-8", errors="surrogatepass"))
         self.lines[path] = text.splitlines()
-        tree = self.parse(text, path)
+        tree, quick = self.read(text, path)
         self.mark(tree, path)
-        return path, tree
+        return path, tree, quick
+
+    def read(self, text: str, path: Path) -> tuple[Tree, list]:
+        """A deck file's text parsed: (lark's tree of what the quick line reader leaves to it, the
+        quick lines in order; fem/deck/fast_lines.py). A line that a statement of lark's spans is
+        given back to lark; a cut text that lark refuses is parsed whole, so its error is lark's."""
+        if not fast_lines.quick():
+            return self.parse(text, path), []
+        skip = frozenset()
+        for _ in range(3):
+            cut, quick = fast_lines.cut(text, skip)
+            if not quick:
+                break
+            try:
+                tree = self.parse(cut, path)
+            except DeckError:
+                break
+            spanned = fast_lines.spanned(tree, quick)
+            if not spanned:
+                return tree, quick
+            skip |= spanned
+        return self.parse(text, path), []
 
     def mark(self, tree: Tree, path: Path) -> None:
         """Remember each item's file, once per file."""
