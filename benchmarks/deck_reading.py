@@ -59,6 +59,7 @@ def best(f, repeat: int = 3) -> float:
 _CHILD = """
 import json, sys, time
 import fem
+assert fem.__file__.startswith(sys.argv[4]), fem.__file__
 fem.read_deck(sys.argv[2])
 out = []
 for deck in sys.argv[1:3]:
@@ -72,8 +73,10 @@ print(json.dumps(out))
 
 def _other(folder: str, a: Path, b: Path, repeat: int) -> list[float]:
     env = dict(os.environ, PYTHONPATH=str(Path(folder).resolve()))
-    done = subprocess.run([sys.executable, "-c", _CHILD, str(a), str(b), str(repeat)], env=env,
-                          capture_output=True, text=True, check=True)
+    # run in that folder: `python -c` puts the working folder first on the path
+    done = subprocess.run([sys.executable, "-c", _CHILD, str(a), str(b), str(repeat),
+                           str(Path(folder).resolve())], env=env,
+                          cwd=Path(folder).resolve(), capture_output=True, text=True, check=True)
     return json.loads(done.stdout.strip().splitlines()[-1])
 
 

@@ -244,3 +244,32 @@ def test_solving_gives_the_same_numbers():
     with fast_lines.lark_only():
         ref = fem.solve(fem.read_text(FLAT))["M"]
     assert np.array_equal(quick.modes.freq, ref.modes.freq) and np.array_equal(quick.shapes, ref.shapes)
+
+
+# ---------- loops: each expression compiled once (fem/deck/expressions.py) against the tree walk
+
+_EXPRESSIONS = ["i*0.37 m + 2 ft", "(i^2)*0.01 m - 3 mm", "-(i/3) * 1 m", "i*1e-3 km + 0", "sqrt(i+1) * 1 m",
+                "(i - 2) * 2 m / 3", "2^i * 1 mm", "abs(i - 3) * 1.5 m", "-i * 0.1 m + i*i * 2 cm"]
+
+
+def _loop_deck(rng, unrolled: bool) -> str:
+    exprs = [rng.choice(_EXPRESSIONS) for _ in range(3)]
+    head = FLAT.split("node A")[0]
+    if unrolled:
+        body = [f"node N{i} = ({', '.join(e.replace('i', f'({i})') for e in exprs)})" for i in range(6)]
+        body += [f"member M{i} : N{i} -> N{i + 1} beam P S" for i in range(5)]
+    else:
+        body = [f"for i in 0..5 {{ node N[i] = ({', '.join(exprs)}) }}",
+                "for i in 0..4 { member M[i] : N[i] -> N[i+1] beam P S }"]
+    return head + "\n".join(body) + "\nsupport N0 fixed\n"
+
+
+def test_loops_give_the_values_of_the_same_statements_written_out():
+    rng = random.Random(3)
+    for _ in range(30):
+        state = rng.getstate()
+        looped = fem.read_text(_loop_deck(rng, False))
+        rng.setstate(state)
+        flat = fem.read_text(_loop_deck(rng, True))
+        _same(looped.coords, flat.coords, "coords")
+        assert looped.node_names == flat.node_names and np.array_equal(looped.conn, flat.conn)

@@ -15,6 +15,8 @@ from lark import Token, Tree
 from ..errors import DeckError, Location, suggest
 from . import literals
 from . import units as U
+from .compiled import binary as _binary
+from .compiled import compiled
 from .units import Quantity
 
 __all__ = ["MAX_NESTING", "WILD", "Evaluator", "too_deep"]
@@ -49,6 +51,7 @@ class Evaluator:
         self.quantities: dict[str, Quantity] = {}      # literal text -> value, e.g. "6 m"
         self.overrides = self.override_trees(let or {})  # name -> (text, expression tree) from --set
         self.overridden: dict[str, str] = {}           # the overrides used, name -> text, in deck order
+        self._fast: dict[int, tuple] = {}              # id(tree) -> (tree, compiled), in loops
 
     # ---------- scopes
     def scope(self) -> tuple:
@@ -166,6 +169,20 @@ class Evaluator:
 
     # ---------- values
     def evaluate(self, t) -> Quantity:
+        """The value of expression tree `t`. Inside loops each tree is compiled once into nested
+        closures (fem/deck/compiled.py) that the later passes call; any failure of theirs is worked out again
+        by the tree walk, which gives the located error."""
+        if self.loop_vars and isinstance(t, Tree):
+            fast = self._fast.get(id(t))
+            if fast is None or fast[0] is not t:
+                fast = self._fast[id(t)] = (t, compiled(self, t))     # the tree kept: its id stays its own
+            try:
+                return fast[1]()
+            except Exception:   # noqa: BLE001 - the walk below raises the located error
+                pass
+        return self.walk(t)
+
+    def walk(self, t) -> Quantity:
         if isinstance(t, Token):
             raise DeckError(f"expected a value, found {t!s}", self.loc(t))
         d = t.data
@@ -451,22 +468,3 @@ def too_deep(tree: Tree):
             return (sub, height[id(sub)]) if sub.data == "loop" else None
         sub = deeper[0]
     return None
-
-
-def _binary(a: Quantity, b: Quantity, op: str) -> Quantity:
-    if op in ("__add__", "__sub__"):
-        if a.dim is WILD:
-            a = Quantity(a.value, b.dim)
-        if b.dim is WILD:
-            b = Quantity(b.value, a.dim)
-        if a.dim is WILD:
-            return Quantity(getattr(a.value, op)(b.value), WILD)
-    elif op == "__pow__":
-        a = Quantity(a.value, U.NONE if a.dim is WILD else a.dim)
-        b = Quantity(b.value, U.NONE)
-    else:
-        if a.dim is WILD or b.dim is WILD:
-            if op == "__truediv__" and b.value == 0:
-                raise ArithmeticError("division by zero")
-            return Quantity(0.0 if a.value == 0 else getattr(a.value, op)(b.value), WILD)
-    return getattr(a, op)(b)

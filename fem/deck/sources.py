@@ -106,6 +106,8 @@ class Sources:
         self.token_file: dict[int, Path] = {}
         self.deck_bytes = 0                            # bytes of deck text read so far (all files)
         self._shown: dict[Path, str] = {}
+        self._located: dict[int, tuple] = {}           # id(item) -> (item, file, Location), in loops
+        self.repeating = 0                             # loops running (their items are located again)
 
     def load(self, path: Path, where: Location | None = None) -> tuple[Path, Tree, list]:
         """The deck file at `path` (the top deck, or an include named at `where`) checked, read
@@ -168,6 +170,15 @@ class Sources:
     def loc(self, item) -> Location:
         meta = getattr(item, "meta", None)
         path = self.token_file.get(id(item)) or getattr(meta, "qfile", None) or self.stack[-1]
+        known = self._located.get(id(item))
+        if known is not None and known[0] is item and known[1] == path:
+            return known[2]                  # a loop's statement, located again on every pass
+        where = self._locate(item, path)
+        if self.repeating:
+            self._located[id(item)] = (item, path, where)     # the item kept, so its id stays its own
+        return where
+
+    def _locate(self, item, path: Path) -> Location:
         if isinstance(item, Token):
             line, col = item.line, item.column
         else:

@@ -463,6 +463,7 @@ class Statements:
         name = str(var)
         with ev.counter(name):
             self.loop_sites.append(self.loc(s))
+            self.sources.repeating += 1
             try:
                 for k in range(int(a.value), int(b.value) + 1):
                     ev.count(name, k)
@@ -470,6 +471,7 @@ class Statements:
                         self.statement(st)
             finally:
                 self.loop_sites.pop()
+                self.sources.repeating -= 1
 
 
 def not_huge(v: float, what: str, where: Location) -> None:
