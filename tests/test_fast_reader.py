@@ -273,3 +273,29 @@ def test_loops_give_the_values_of_the_same_statements_written_out():
         flat = fem.read_text(_loop_deck(rng, True))
         _same(looped.coords, flat.coords, "coords")
         assert looped.node_names == flat.node_names and np.array_equal(looped.conn, flat.conn)
+
+
+def test_compiled_loop_expressions_are_worked_out_without_the_walk():
+    """The closures compute sums, products, powers, signs, literals and counters themselves (a
+    compiled expression that always fell back to the walk would pass the test above)."""
+    from fem.deck.compiled import compiled
+    from fem.deck.expressions import Evaluator
+    from fem.deck.sources import Sources
+
+    path = Path("x.deck").resolve()
+    src = Sources(path)
+    ev = Evaluator(src)
+    for text in [e for e in _EXPRESSIONS if not e.startswith(("sqrt", "abs"))]:
+        src.lines[path] = [f"let q = {text}"]
+        tree = src.parse(f"let q = {text}\n", path).children[0].children[1]
+        for k in (0, 1, 4):
+            ev.count("i", k)
+            with src.reading(path):
+                expected = ev.walk(tree)
+                fast = compiled(ev, tree)
+            walk, ev.walk = ev.walk, None          # a call to the walk would fail
+            try:
+                with src.reading(path):
+                    assert fast() == expected, text
+            finally:
+                ev.walk = walk

@@ -48,14 +48,14 @@ def compiled(ev, t):
             return lambda: ev.walk(t)
     fa, fb, op, scaled = parts[0], parts[1], _OPS[d], d in ("mul", "div", "pow")
 
-    def binary():
+    def combined():
         a, b = fa(), fb()
         q = binary(a, b, op)
         if not math.isfinite(q.value) or (scaled and q.value == 0 and a.value != 0
                                           and (b.value != 0 or op == "__truediv__")):
             raise ArithmeticError        # refused by the walk, at its place
         return q
-    return binary
+    return combined
 
 
 def binary(a: Quantity, b: Quantity, op: str) -> Quantity:

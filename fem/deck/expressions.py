@@ -189,7 +189,10 @@ class Evaluator:
         ch = t.children
         try:
             if d == "number":
-                v = _literal(str(ch[0]), self.loc(t))
+                try:
+                    v = literals.number(str(ch[0]))
+                except literals.LiteralError as exc:
+                    raise DeckError(exc.message, self.loc(t), exc.hint) from None
                 return Quantity(v, WILD if v == 0 else U.NONE)
             if d == "quantity":
                 return self.quantity(ch[0])
@@ -444,14 +447,6 @@ def _source_text(where: Location, t) -> str:
 
 def _g(v: float) -> str:
     return f"{v:g}"
-
-
-def _literal(text: str, where: Location) -> float:
-    """A bare number as written in the deck (literals.number), its refusal located at `where`."""
-    try:
-        return literals.number(text)
-    except literals.LiteralError as exc:
-        raise DeckError(exc.message, where, exc.hint) from None
 
 
 def too_deep(tree: Tree):
