@@ -256,7 +256,7 @@ class Statements:
         self.defs.not_a_group(name, kind, where)
 
     def place_node(self, name: str, xyz: np.ndarray, where: Location) -> None:
-        if np.abs(xyz).max() > MAX_COORDINATE:
+        if max(map(abs, xyz.tolist())) > MAX_COORDINATE:     # finite values: as np.abs(xyz).max()
             raise DeckError(f"node {name}: a coordinate of {np.abs(xyz).max():.3g} m is beyond any structure "
                             f"(the limit is {MAX_COORDINATE:g} m)", where, "check the units of the coordinates")
         self.defs.nodes[name] = (xyz, where)
