@@ -112,8 +112,7 @@ def cut(text: str, skip: frozenset = frozenset()) -> tuple[str, list[QuickLine]]
 
 
 def _reserved(m: re.Match) -> bool:
-    return any(m.group(g) in _RESERVED for g in ("nn", "mn", "mi", "mj", "ms", "mm", "sn", "gn")
-               if m.group(g) is not None)
+    return not _RESERVED.isdisjoint(m.group("nn", "mn", "mi", "mj", "ms", "mm", "sn", "gn"))
 
 
 def spanned(tree, items: list[QuickLine]) -> frozenset:

@@ -54,9 +54,13 @@ def quantity(text: str) -> Quantity:
     steps = _STEPS.get(unit)
     if steps is None:
         steps = _STEPS[unit] = _steps(unit)
-    q = Quantity(value)
-    for op, base in steps:
-        q = q * base if op == "*" else q / base
+    if len(steps) == 1 and steps[0][0] == "*":      # one unit: the product Quantity.__mul__ forms
+        base = steps[0][1]
+        q = Quantity(value * base.value, base.dim)
+    else:
+        q = Quantity(value)
+        for op, base in steps:
+            q = q * base if op == "*" else q / base
     if not math.isfinite(q.value) or (q.value == 0 and value != 0):
         raise LiteralError(f"{text} is beyond the range of numbers once converted to SI units")
     return q

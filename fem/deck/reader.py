@@ -142,7 +142,7 @@ def _reference_on_error(read):
         return read()
     try:
         return read()
-    except DeckError:
+    except Exception:   # noqa: BLE001 - a refusal, or a fault of the quick reader: lark's reading decides
         pass
     with fast_lines.lark_only():
         return read()
