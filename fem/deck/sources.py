@@ -26,11 +26,13 @@ from .syntax import parse as parse_deck_text
 __all__ = ["MAX_DECK_BYTES", "MAX_TABLE_BYTES", "Sources", "build_parser", "file_name", "parses_kept", "read_utf8",
            "resolved"]
 
-# Our choice, from a measurement: a generated deck of node lines parsed at about 10-15 s and
-# 170 MB of memory per MB of deck (2-core machine shared with other jobs, load 4-9); `quaver
-# check` of an 8 MB one (176 000 node lines) took 190 s with a peak of 1.36 GB. So 8 MB, the
-# deck and its includes together, reads in minutes within about 1.5 GB; a deck of a hundred
-# thousand members written out line by line fits, and loops keep larger models short.
+# Our choice, from a measurement (2-core machine shared with other jobs, load 8-12): a generated
+# deck of 7.7 MB (90 000 node and 90 000 member lines) read in 8.9 s with a peak of 502 MB, the
+# one-line statements by the quick reader (fem/deck/fast_lines.py); the same deck read by lark
+# alone, as blocks, expressions and loops are, took 62 s and 1.08 GB, about 140 MB per MB. So
+# 8 MB, the deck and its includes together, reads in a minute or less within about 1.1 GB; a
+# deck of a hundred thousand members written out line by line fits, and loops keep larger
+# models short.
 MAX_DECK_BYTES = 8_000_000
 # Our choice: a table (two numbers a row, ~25 bytes) of 32 MB holds over a million rows, e.g.
 # 20 minutes of a record sampled at 1 kHz; read row by row at ~6 bytes of memory per byte.
@@ -326,8 +328,8 @@ def _small_enough(size: int, path: Path, what: str, where: Location | None, limi
     if what == "deck":
         whole = f"the deck and its includes would be over {_mb(total + size)}" if total else \
             f"the deck '{path.name}' is {_mb(size)}"
-        raise DeckError(f"{whole}, above the limit of {_mb(cap)} of deck text (reading takes about 170 MB of "
-                        "memory per MB)", where, "write repeated nodes and members with for loops, which keeps "
+        raise DeckError(f"{whole}, above the limit of {_mb(cap)} of deck text (reading takes up to about 140 MB "
+                        "of memory per MB)", where, "write repeated nodes and members with for loops, which keeps "
                         "a deck of any model size short")
     raise DeckError(f"table '{path.name}' is {_mb(size)}, above the limit of {_mb(cap)} for a table", where,
                     "thin the record to the time step the case uses, or cut it to the part of interest")

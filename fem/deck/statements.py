@@ -31,9 +31,9 @@ __all__ = ["CASE_KINDS", "LOOP_STATEMENTS", "MAX_COORDINATE", "Statements"]
 # cubed in the stiffness) well inside the floating-point range.
 MAX_COORDINATE = 1e9
 # Statements a deck's loops may execute in all, nested loops and included files counted pass by
-# pass (our choice): reading takes some 30-100 us a statement, so this bounds a deck to a minute
-# or two, while a model of a hundred thousand members and nodes is far inside it. A mistyped
-# range (0..999999 nested twice) is refused at once instead of running for days.
+# pass (our choice): a node or member in a loop reads in about 20 us (deck_reading.py, load 8-12),
+# so this bounds a deck's loops to a minute or less, while a model of a hundred thousand members
+# and nodes is far inside it. A mistyped range (0..999999 nested twice) is refused at once.
 LOOP_STATEMENTS = 1_000_000
 CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum", "buckling")
 
