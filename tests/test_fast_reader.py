@@ -299,3 +299,18 @@ def test_compiled_loop_expressions_are_worked_out_without_the_walk():
                     assert fast() == expected, text
             finally:
                 ev.walk = walk
+
+
+def test_included_files_read_the_same(tmp_path):
+    """Quick lines in an included file are located in that file, as lark's statements are."""
+    (tmp_path / "parts").mkdir()
+    (tmp_path / "parts" / "legs.deck").write_text("node L1 = (0, 0, 0)\nnode L2 = (0 m, 0 m, 3 m)\n"
+                                                  "member LEG : L1 -> L2 beam P S\nsupport L1 fixed\n"
+                                                  "mass L2 = 2 t\nnode A = (9 m, 9 m, 9 m)\n")
+    top = FLAT.replace("case M", 'include "parts/legs.deck"\ncase M')
+    (tmp_path / "top.deck").write_text(top)
+    assert _agree(lambda: fem.read_deck(tmp_path / "top.deck")) == "error"      # node A twice, located in the part
+    (tmp_path / "parts" / "legs.deck").write_text("node L1 = (5 m, 5 m, 0)\nnode L2 = (5 m, 5 m, 3 m)\n"
+                                                  "member LEG : L1 -> L2 beam P S\nsupport L1 fixed\n"
+                                                  "mass L2 = 2 t\nnode Z = (1 km, 0, 0)\nmember LZ : L2 -> Z truss P S\n")
+    assert _agree(lambda: fem.read_deck(tmp_path / "top.deck")) == "model"
