@@ -103,7 +103,42 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
 
 def _members(defs: Definitions, mems, node_names, nidx, coords, tol, notes):
     """(conn (e, 2), property columns (e,) each, up (e, 3) NaN where not given, releases (e, 12),
-    truss (e,)), each member's nodes, section and material looked up where it names them."""
+    truss (e,)), each member's nodes, section and material looked up where it names them: all
+    members at once, or one by one (_each_member) when one of them is refused, so that the
+    refusal is the first in the deck's order."""
+    e = len(mems)
+    try:
+        conn = np.array([(nidx[m["i"][0]], nidx[m["j"][0]]) for m in mems], int).reshape(e, 2)
+    except KeyError:
+        conn = None
+    pairs = dict.fromkeys((m["section"][0], m["material"][0]) for m in mems)
+    if conn is None or not e or not all(s in defs.sections and t in defs.materials for s, t in pairs):
+        return _each_member(defs, mems, node_names, nidx, coords, tol, notes)
+    axis = coords[conn[:, 1]] - coords[conn[:, 0]]
+    near = np.flatnonzero((conn[:, 0] == conn[:, 1]) | (np.sqrt((axis * axis).sum(axis=1)) <= 2 * tol))
+    if any(conn[k, 0] == conn[k, 1] or float(np.linalg.norm(axis[k])) <= tol for k in near):
+        return _each_member(defs, mems, node_names, nidx, coords, tol, notes)
+    paired, rows = {}, []
+    for s, t in pairs:
+        mat = defs.materials[t]
+        sp = _paired(defs, s, mat, paired, notes)
+        rows.append((mat.E, mat.G, mat.density, sp.A, sp.Iy, sp.Iz, sp.J, sp.Avy, sp.Avz))
+    at = {key: k for k, key in enumerate(pairs)}
+    table = np.array(rows, float)[[at[(m["section"][0], m["material"][0])] for m in mems]]
+    cols = {key: np.ascontiguousarray(table[:, c]) for c, key in enumerate(_COLUMNS[:9])}
+    cols["roll"] = np.array([m["roll"] for m in mems], float)
+    cols["carried_mass"] = np.array([m["carried_mass"] for m in mems], float)
+    releases = np.array([m["releases"] for m in mems], bool).reshape(e, 12)
+    truss = np.array([m["kind"] == "truss" for m in mems], bool)
+    up = np.full((e, 3), np.nan)
+    for k, m in enumerate(mems):
+        if m["up"] is not None:
+            up[k] = _up_vector(m["up"], axis[k] / float(np.linalg.norm(axis[k])), m)
+    return conn, cols, up, releases, truss
+
+
+def _each_member(defs: Definitions, mems, node_names, nidx, coords, tol, notes):
+    """_members one member after another, each refusal raised where the loop meets it."""
     e = len(mems)
     conn = np.zeros((e, 2), int)
     cols = {k: np.zeros(e) for k in _COLUMNS}
