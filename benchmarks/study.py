@@ -15,7 +15,9 @@ not timed; values spread over the same range), each writing its results folder w
 pictures, as a user's script would. Where the cluster's time goes comes from
 `StudyResult.phases`: starting the cluster, then per variant its reading and solving on a
 worker and the rest of the workers' time (scheduling, transfer, waiting), against the serial
-per-variant time. The load average is printed with each round, since these machines are shared.
+per-variant time. The load average is printed with each round, since these machines are shared,
+and the CPU seconds of each engine (the serial child; the cluster's scheduler, nannies and
+workers), which the load does not inflate as it does wall time.
 --quick: 40 variants, 3 subprocesses.
 """
 
@@ -23,6 +25,7 @@ from __future__ import annotations
 
 import json
 import os
+import resource
 import statistics
 import subprocess
 import sys
@@ -57,12 +60,27 @@ def _load() -> str:
     return " ".join(f"{x:.1f}" for x in os.getloadavg())
 
 
+def _cpu() -> float:
+    """CPU seconds (user + system) of this process and of its finished, reaped descendants."""
+    a, b = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+    return a.ru_utime + a.ru_stime + b.ru_utime + b.ru_stime
+
+
 def _cluster(n: int, chunk: int | None):
+    """Wall seconds, CPU seconds (the scheduler and client here, the nannies and workers once
+    the cluster is closed and they are reaped) and the StudyResult of one run on 2 workers."""
     from fem.study import run_study
 
-    t0 = time.perf_counter()
+    c0, t0 = _cpu(), time.perf_counter()
     r = run_study(_study(n), workers=2, progress=False, chunk=chunk)
-    return time.perf_counter() - t0, r
+    return time.perf_counter() - t0, _cpu() - c0, r
+
+
+def _autogroup() -> bool:
+    try:
+        return Path("/proc/sys/kernel/sched_autogroup_enabled").read_text().strip() == "1"
+    except OSError:
+        return False
 
 
 def main(n: int = 200, runs: int = 15, rounds: int = 1) -> None:
@@ -72,30 +90,41 @@ def main(n: int = 200, runs: int = 15, rounds: int = 1) -> None:
     print(f"{n} variants of the mast (MODES, 6 modes tracked); {os.cpu_count()} cores; BLAS 1 thread a process; "
           f"load average (1, 5, 15 min) at the start {_load()}")
     print()
-    print("| round | load before | serial API s | 2 workers, chunks s | speed-up | 2 workers, 1 a task s | speed-up "
-          "| load after |")
+    print("| round | load before | serial API s (CPU s) | 2 workers, chunks s (CPU s) | speed-up "
+          "| 2 workers, 1 a task s (CPU s) | speed-up | load after |")
     print("|---|---|---|---|---|---|---|---|")
-    ratios, worst, last = [], 0.0, None
+    ratios, worst, last, cpus = [], 0.0, None, []
     for k in range(rounds):
         load0 = _load()
+        c0 = _cpu()
         out = subprocess.run([sys.executable, __file__, "--serial-child", str(n)], env=env, check=True,
                              capture_output=True, text=True).stdout
+        c_serial = _cpu() - c0
         serial = json.loads(out.strip().splitlines()[-1])
         if k % 2:                                  # the two clusters' order alternates between rounds
-            t_single, single = _cluster(n, 1)
-            t_chunked, chunked = _cluster(n, None)
+            t_single, c_single, single = _cluster(n, 1)
+            t_chunked, c_chunked, chunked = _cluster(n, None)
         else:
-            t_chunked, chunked = _cluster(n, None)
-            t_single, single = _cluster(n, 1)
+            t_chunked, c_chunked, chunked = _cluster(n, None)
+            t_single, c_single, single = _cluster(n, 1)
         worst = max([worst] + [float(np.abs(np.array(a) / b["modes"]["MODES"]["freq"] - 1).max())
                                for a, b in zip(serial["freq"], chunked.results)])
         ratios.append((serial["wall"] / t_chunked, serial["wall"] / t_single))
-        print(f"| {k + 1} | {load0} | {serial['wall']:.2f} | {t_chunked:.2f} | {ratios[-1][0]:.2f}x | "
-              f"{t_single:.2f} | {ratios[-1][1]:.2f}x | {_load()} |")
+        cpus.append((c_chunked / c_serial, c_single / c_serial))
+        print(f"| {k + 1} | {load0} | {serial['wall']:.2f} ({c_serial:.1f}) | {t_chunked:.2f} ({c_chunked:.1f}) | "
+              f"{ratios[-1][0]:.2f}x | {t_single:.2f} ({c_single:.1f}) | {ratios[-1][1]:.2f}x | {_load()} |")
         last = (serial, chunked, single)
     print()
     print(f"speed-up of 2 workers over the serial API (target 1.7x): chunks {statistics.median(r[0] for r in ratios):.2f}x, "
           f"one variant a task {statistics.median(r[1] for r in ratios):.2f}x (medians of {rounds} round(s))")
+    cc, cs = statistics.median(c[0] for c in cpus), statistics.median(c[1] for c in cpus)
+    print(f"CPU of the cluster's processes against the serial process's (imports included in both): chunks {cc:.2f}x, "
+          f"one variant a task {cs:.2f}x; with two cores free, 2 workers could at best be {2 / cc:.2f}x and "
+          f"{2 / cs:.2f}x the serial API (an estimate, not a measurement)")
+    if _autogroup():
+        print("the kernel shares the CPU between sessions (sched_autogroup_enabled = 1): on a machine busy with "
+              "other sessions this session's processes together get one session's share, so two workers "
+              "cannot be much faster than one process however little the engine costs")
     print(f"largest relative difference of the cluster's frequencies from the serial ones: {worst:.1e}")
     serial, chunked, single = last
     print()
