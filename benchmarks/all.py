@@ -46,8 +46,9 @@ RUNS = {
 def blas_threads(env: dict) -> str:
     """The BLAS libraries a process started with `env` loads with numpy and scipy, and their threads."""
     code = ("import numpy, scipy.linalg\nfrom threadpoolctl import threadpool_info\n"
-            "print(', '.join(f\"{i['internal_api']} {i['num_threads']}\" for i in threadpool_info()"
-            " if i['user_api'] == 'blas'))")
+            "import pathlib\n"
+            "print(', '.join(f\"{pathlib.Path(i['filepath']).parent.name.removesuffix('.libs')}'s \""
+            "f\"{i['internal_api']} {i['num_threads']} thread{'s' * (i['num_threads'] != 1)}\" for i in threadpool_info() if i['user_api'] == 'blas'))")
     r = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True)
     return r.stdout.strip() or "unknown"
 
