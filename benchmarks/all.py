@@ -12,8 +12,9 @@ PYTHONPATH=. python benchmarks/all.py [--quick] [--only NAME[,NAME...]] [--list]
 --list    the runs this would make, without running them
 
 Ratios within one script's run are what count: these machines are shared and a table's load
-average says how quiet the machine was. A script that fails is reported with its exit status
-and the end of its error output, and the others still run (exit status 1 at the end).
+average says how quiet the machine was. A script that exits with a nonzero status (it failed,
+or it reports a target missed, as first_answer.py does) is shown with its output, its status and
+the end of its error output, and the others still run (exit status 1 at the end).
 """
 
 from __future__ import annotations
@@ -62,8 +63,12 @@ def _as_markdown(text: str) -> str:
     out, plain = [], []
 
     def flush():
-        if any(line.strip() for line in plain):
-            out.extend(["```text", *[line for line in plain], "```"])
+        while plain and not plain[-1].strip():
+            plain.pop()
+        while plain and not plain[0].strip():
+            plain.pop(0)
+        if plain:
+            out.extend(["```text", *plain, "```"])
         plain.clear()
 
     for line in text.rstrip("\n").splitlines():
@@ -121,13 +126,13 @@ def main(argv: list[str]) -> int:
         print()
         print(f"load average before {load0}, after {load1}; BLAS {blas}; {seconds:.0f} s")
         print()
-        if r.returncode:
-            print(f"FAILED (exit status {r.returncode}):")
-            print()
-            tail = "\n".join((r.stdout + r.stderr).strip().splitlines()[-15:])
-            print(_as_markdown(tail))
-        else:
+        if r.stdout.strip():
             print(_as_markdown(r.stdout))
+            print()
+        if r.returncode:                # a script's failure, or a target it reports as missed
+            print(f"exit status {r.returncode}; the end of its error output:")
+            print()
+            print("\n".join(["```text", *r.stderr.strip().splitlines()[-15:], "```"]))
         sys.stdout.flush()
     print()
     print("## Summary")
@@ -135,7 +140,7 @@ def main(argv: list[str]) -> int:
     print("| run | status | seconds | load before | load after |")
     print("|---|---|---|---|---|")
     for title, code, seconds, load0, load1 in summary:
-        print(f"| `{title}` | {'ok' if code == 0 else f'FAILED ({code})'} | {seconds:.0f} | {load0} | {load1} |")
+        print(f"| `{title}` | {'ok' if code == 0 else f'exit status {code}'} | {seconds:.0f} | {load0} | {load1} |")
     return 1 if any(code for _, code, *_ in summary) else 0
 
 
