@@ -28,7 +28,8 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 HERE = Path(__file__).resolve().parent
 
-# script -> (full runs, quick runs); each run is the script's argument list
+# script -> (full runs, quick runs); each run is the script's argument list. A script in this folder
+# that is not listed runs once with its defaults in both modes, after these.
 RUNS = {
     "startup": ([["7", "--cold"]], [["3"]]),
     "deck_reading": ([[]], [["2000"]]),
@@ -42,6 +43,14 @@ RUNS = {
     "first_answer": ([[]], [["--no-render", str(ROOT / "decks" / "rack.deck")]]),
     "render": ([[]], [["150", "2"]]),
 }
+
+
+def scripts() -> dict:
+    """Every benchmark script here (all.py aside): RUNS, then the others with their defaults."""
+    found = sorted(p.stem for p in HERE.glob("*.py") if p.stem != "all" and not p.stem.startswith("_"))
+    runs = {name: RUNS[name] for name in RUNS if name in found}
+    runs.update({name: ([[]], [[]]) for name in found if name not in RUNS})
+    return runs
 
 
 def blas_threads(env: dict) -> str:
@@ -87,6 +96,7 @@ def _as_markdown(text: str) -> str:
 
 def main(argv: list[str]) -> int:
     quick = "--quick" in argv
+    known = scripts()
     only = None
     if "--only" in argv:
         i = argv.index("--only")
@@ -94,12 +104,12 @@ def main(argv: list[str]) -> int:
             print("--only needs script names, e.g. --only startup,study", file=sys.stderr)
             return 2
         only = [n.removesuffix(".py") for n in argv[i + 1].split(",") if n]
-        unknown = [n for n in only if n not in RUNS]
+        unknown = [n for n in only if n not in known]
         if unknown:
-            print(f"no benchmark {', '.join(unknown)}; there are {', '.join(RUNS)}", file=sys.stderr)
+            print(f"no benchmark {', '.join(unknown)}; there are {', '.join(known)}", file=sys.stderr)
             return 2
-    names = only or list(RUNS)
-    runs = [(n, args) for n in names for args in RUNS[n][1 if quick else 0]]
+    names = only or list(known)
+    runs = [(n, args) for n in names for args in known[n][1 if quick else 0]]
     if "--list" in argv:
         for n, args in runs:
             print(" ".join(["python", f"benchmarks/{n}.py", *args]))
