@@ -138,8 +138,9 @@ def main(argv: list[str]) -> int:
         print()
         if r.stdout.strip():
             print(_as_markdown(r.stdout))
-            print()
         if r.returncode:                # a script's failure, or a target it reports as missed
+            if r.stdout.strip():
+                print()
             print(f"exit status {r.returncode}; the end of its error output:")
             print()
             print("\n".join(["```text", *r.stderr.strip().splitlines()[-15:], "```"]))
