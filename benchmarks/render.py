@@ -18,7 +18,8 @@ from assembly import grid_model  # noqa: E402
 from fem.analysis.modal_case import ModesCaseResult, influence_vectors  # noqa: E402
 from fem.analysis.modes import participation, solve_modes  # noqa: E402
 from fem.assembly import assemble  # noqa: E402
-from fem.output.render import can_render, render_all  # noqa: E402
+from fem.output.render import can_render  # noqa: E402
+from fem.output.render_pool import render_all  # noqa: E402
 from fem.output.vtk import shape_scale  # noqa: E402
 
 
