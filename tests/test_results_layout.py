@@ -103,8 +103,8 @@ case MODES modes { count = 8 }
     (tmp_path / "s.deck").write_text(SHEAR2)
     run_deck(str(tmp_path / "s.deck"), str(tmp_path / "s"), render=False)
     page = (tmp_path / "s" / "report.html").read_text()
-    row = page[page.index("Modes: MODES"):].split("<tr>")[2]          # mode 1: X, Y, Z, cumulative
-    assert row.count(">n/a</td>") == 4                                  # Y, Z and their sums
+    row = page[page.index("Modes: MODES"):].split("<tr>")[2]          # mode 1: X Y Z RX RY RZ, cumulative X Y Z
+    assert row.count(">n/a</td>") == 6          # Y, Z, RX, RZ (held at every node) and the sums of Y and Z
 
 
 def test_every_static_case_gets_its_deformed_plot(tmp_path):

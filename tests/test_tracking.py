@@ -57,7 +57,7 @@ def test_mac_of_a_mode_with_itself_and_with_another():
     np.testing.assert_allclose(np.diag(mac(phi, phi)), 1.0, rtol=1e-14)
     np.testing.assert_allclose(np.diag(mac(phi, phi, M)), 1.0, rtol=1e-14)
     # mass-weighted: distinct modes are M-orthogonal, MAC = (phi_i^T M phi_j)^2 at round-off
-    off = mac(phi, phi, M) - np.eye(phi.shape[1])
+    off = mac(phi, phi, M)[~np.eye(phi.shape[1], dtype=bool)]
     assert np.abs(off).max() < 1e-20
     # the plain form is not zero for them (the members' and the point mass's mass differ)
     assert (mac(phi, phi) - np.eye(phi.shape[1])).max() > 1e-4

@@ -111,8 +111,8 @@ def demand_tables(c: dict, units) -> str:
         parts.append(f"<div><h3>Reactions (largest and smallest, {'governing case' if by == 'case' else 'time'} "
                      f"in brackets)</h3>{_table(head, rows, left=2)}</div>")
     for name, f in c["fields"].items():       # end forces, and member stresses where a field holds them
-        if name != "end_force" or not f["governing"]:     # member stresses: stress_demands' own table
-            continue
+        if name == "stress" or name != "end_force" and "stress" not in name or not f["governing"]:
+            continue       # "stress" (per member, its stress points) has its own table: stress_demands.demand_report
         rows = []
         for comp, g in f["governing"].items():
             k, unit = units["stress" if name != "end_force" else
