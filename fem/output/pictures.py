@@ -12,7 +12,8 @@ from pathlib import Path
 __all__ = ["draw_pictures"]
 
 
-def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float = 12.0) -> str:
+def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float = 12.0,
+                  video: bool = False) -> str:
     """Pictures of `results` into out/pictures; returns the one-line notice for the summary."""
     modes = results.of_kind("modes")
     if results.of_kind("buckling"):
@@ -31,7 +32,7 @@ def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float
         if not ok:
             return f"pictures skipped: {why}; results are complete"
         files = render_pool.render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs,
-                                  draw_modes, fps)
+                                       draw_modes, fps, video)
     except Exception as exc:   # noqa: BLE001 - pictures are extras; a drawing failure must not lose results
         # half-drawn pictures would look complete in the report: drop them all
         shutil.rmtree(out / "pictures", ignore_errors=True)

@@ -1,5 +1,6 @@
 """Drawing many pictures at once: the modes and responses of a run spread over processes,
-each with its own offscreen context, that end with the run (`render_all`)."""
+each with one offscreen context that draws all of its pictures, ending with the run
+(`render_all`)."""
 
 from __future__ import annotations
 
@@ -7,23 +8,24 @@ import os
 import sys
 from pathlib import Path
 
-from .render import FPS, render_modes, render_response
+from .render import FPS, release, render_modes, render_response
 
 __all__ = ["PARENT_POLL", "render_all"]
 
 
 def _render_chunk(args):
-    kind, folder, model, item, extra, fps = args
+    kind, folder, model, item, extra, fps, video = args
     if kind == "modes":
-        return render_modes(folder, model, item, extra, fps=fps)
-    return render_response(folder, model, item.name, item.frame_t, item.frames, fps=fps)
+        return render_modes(folder, model, item, extra, fps=fps, video=video)
+    return render_response(folder, model, item.name, item.frame_t, item.frames, fps=fps, video=video)
 
 
 def render_all(folder: Path, model, modal_cases, responses, length: float, jobs: int = 1,
-               max_modes: int = 6, fps: float = FPS) -> list[Path]:
-    """Pictures and animations (played at `fps` frames a second) of the first `max_modes` modes
-    of every modes case and of every free/history response, in `jobs` parallel processes (each
-    with its own offscreen context)."""
+               max_modes: int = 6, fps: float = FPS, video: bool = False) -> list[Path]:
+    """Pictures and animations (played at `fps` frames a second; MP4 besides WebP with
+    `video`) of the first `max_modes` modes of every modes case and of every free/history
+    response, in `jobs` parallel processes (each with one offscreen context for all its
+    pictures)."""
     from dataclasses import replace
 
     tasks = []
@@ -33,12 +35,15 @@ def render_all(folder: Path, model, modal_cases, responses, length: float, jobs:
             one = replace(m, shapes=m.shapes[:, :, j:j + 1],
                           modes=replace(m.modes, freq=m.modes.freq[j:j + 1], period=m.modes.period[j:j + 1]),
                           part=replace(m.part, fraction=m.part.fraction[j:j + 1]))
-            tasks.append(("modes", folder, model, replace(one, first_mode=j), length, fps))
-    tasks += [("response", folder, model, r, None, fps) for r in responses]
+            tasks.append(("modes", folder, model, replace(one, first_mode=j), length, fps, video))
+    tasks += [("response", folder, model, r, None, fps, video) for r in responses]
     from ..progress import bar
 
     if jobs <= 1 or len(tasks) <= 1:
-        return [f for t in bar(tasks, len(tasks), "rendering") for f in _render_chunk(t)]
+        try:
+            return [f for t in bar(tasks, len(tasks), "rendering") for f in _render_chunk(t)]
+        finally:
+            release()
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor
 

@@ -38,7 +38,7 @@ ul.warnings li { color: #8a4b00; }
 
 def _img(path: Path, alt: str, cls: str = "") -> str:
     data = base64.b64encode(path.read_bytes()).decode("ascii")
-    mime = "image/gif" if path.suffix == ".gif" else "image/png"
+    mime = {".gif": "image/gif", ".webp": "image/webp"}.get(path.suffix, "image/png")
     return (f'<figure class="{cls}"><img alt="{html.escape(alt)}" src="data:{mime};base64,{data}">'
             f"<figcaption>{html.escape(alt)}</figcaption></figure>")
 
@@ -259,7 +259,7 @@ def _mode_images(pdir: Path, pics: Path, m) -> list:
     for j in range(min(6, m.shapes.shape[2])):
         # pictures of the first six modes, animations of the first three (keeps the file small)
         kinds = (("_plane.png", "across the main motion"), ("_iso.png", "isometric view"),
-                 (".gif", "one cycle"))[: 3 if j < 3 else 2]
+                 (".webp", "one cycle"))[: 3 if j < 3 else 2]
         for suffix, cap in kinds:
             f = pics / f"{m.name}_mode_{j + 1:03d}{suffix}"
             if f.exists():
@@ -281,7 +281,7 @@ def _motion_images(pdir: Path, pics: Path, model, x) -> list:
         node = model.node_names[x.record[j]]
         f = pdir / f"{x.name}_history_{re.sub(r'[^A-Za-z0-9_.-]', '_', node)}.png"
         images.append((plots.plot_history(f, x, node, j), f"displacement history at {node}{more}"))
-    for f, cap in ((pics / f"{x.name}.gif", "response animation"), (pics / f"{x.name}_peak.png", "largest motion")):
+    for f, cap in ((pics / f"{x.name}.webp", "response animation"), (pics / f"{x.name}_peak.png", "largest motion")):
         if f.exists():
             images.append((f, cap))
     return images

@@ -72,7 +72,7 @@ def prepare_folder(folder, deck: Path | None) -> tuple[Path, str, list[str]]:
 
 def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_modes: int = 6,
                   fps: float = 12.0, staged: Callable[[dict], None] | None = None,
-                  write: str = "all") -> Written:
+                  write: str = "all", video: bool = False) -> Written:
     """Write the results folder of `results` (a `fem.results.Results`): CSV tables, files for
     VTK viewers (a VTU per mode, one VTKHDF file per free or history case), results.json,
     pictures (unless `render` is False) and the report, or less as `write` says, staged and
@@ -93,6 +93,8 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         Draw the first `draw_modes` modes of each modes case.
     fps : float
         Frames a second of the animations.
+    video : bool
+        Also write each animation as MP4 (when an ffmpeg encoder is installed); WebP always.
     staged : callable, optional
         Called with the results document once the tables, VTU files and results.json are
         written (staged, not yet in place), before the pictures and the report: `quaver run`
@@ -136,7 +138,7 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         if staged is not None:
             staged(doc)
         if write == "all":
-            notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps) if render
+            notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps, video) if render
                       else "pictures skipped (--no-render)")
             with stage("writing the report"):
                 report.report(results, doc, tmp, notice)
