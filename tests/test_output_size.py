@@ -91,7 +91,7 @@ def test_write_choice_decides_what_the_folder_holds(solved, tmp_path):
     assert not any(f.startswith(("modes/", "response/", "plots/", "pictures/")) for f in tables)
     assert "report.html" not in tables
     viewers = folders["viewers"] - tables
-    assert "response/KICK.vtkhdf" in viewers and "modes/MODES_mode_001.vtu" in viewers
+    assert "response/KICK.vtkhdf" in viewers and "modes/MODES_modes.vtkhdf" in viewers
     assert "report.html" not in viewers and not any(f.startswith(("plots/", "pictures/")) for f in viewers)
     assert tables <= folders["viewers"] <= folders["all"]
     assert "report.html" in folders["all"]
