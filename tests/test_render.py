@@ -164,7 +164,7 @@ sys.exit(1)
 """
 
 RESULT_FILES = ("results.json", "displacements.csv", "reactions.csv", "member_forces.csv", "modes.csv",
-                "mode_shapes.csv", "free_REL.csv", "report.html", "modes/MODES_modes.vtkhdf", "response/REL.vtkhdf")
+                "mode_shapes.csv", "free_REL.csv.gz", "report.html", "modes/MODES_modes.vtkhdf", "response/REL.vtkhdf")
 
 
 def _run_in_process(deck, out, capsys):
