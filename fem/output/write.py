@@ -127,7 +127,13 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
     target, shown, notes = prepare_folder(folder, deck)
     tmp = _folder.stage(target)
     model = results.model
+    pool = None
     try:
+        if write == "all" and render and pictures.wants_pictures(results):
+            from . import render_pool
+
+            # the drawing processes start while the tables are written
+            pool = render_pool.start_pool(jobs)
         write_tables(results, tmp)
         if write != "tables":
             for r in results.of_kind("modes"):
@@ -138,7 +144,7 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         if staged is not None:
             staged(doc)
         if write == "all":
-            notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps, video) if render
+            notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps, video, pool=pool) if render
                       else "pictures skipped (--no-render)")
             with stage("writing the report"):
                 report.report(results, doc, tmp, notice)
@@ -156,4 +162,9 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         # interrupted (Ctrl-C) or failed part-way: folder.where() says where the results are
         shutil.rmtree(tmp, ignore_errors=True)
         raise
+    finally:
+        if pool is not None:                # not used (nothing drawable, no OpenGL) or failed
+            from . import render_pool
+
+            render_pool.stop_pool(pool)
     return Written(shown, target, doc, notice, tuple(notes))
