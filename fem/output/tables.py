@@ -68,6 +68,9 @@ def write_csv(path: Path, header, rows) -> None:
 
 SERIES_DIGITS = 9     # significant digits of the series tables: round-off far below any engineering use
 _ROWS = 20_000        # rows formatted at a time (bounds the memory of a long series)
+# zlib's default level; gzip's 9 made the rack demo's tables take 1.6 s of CPU against 0.9 s,
+# for files under 1 % smaller (our measurement)
+GZIP_LEVEL = 6
 
 
 def write_series(path: Path, header, columns) -> None:
@@ -78,7 +81,8 @@ def write_series(path: Path, header, columns) -> None:
     number = f"%.{SERIES_DIGITS}g"
     fmt = ",".join("%s" if np.asarray(c).dtype.kind in "OUS" else number for c in columns) + "\n"
     n = len(columns[0])
-    with path.open("wb") as raw, gzip.GzipFile(fileobj=raw, mode="wb", filename="", mtime=0) as gz, \
+    with path.open("wb") as raw, \
+            gzip.GzipFile(fileobj=raw, mode="wb", compresslevel=GZIP_LEVEL, filename="", mtime=0) as gz, \
             io.TextIOWrapper(gz, encoding="utf-8", newline="") as fh:
         csv.writer(fh).writerow(header)
         for a in range(0, n, _ROWS):
