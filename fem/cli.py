@@ -68,7 +68,7 @@ def _fps(text: str) -> float:
     except ValueError:
         raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
     if not 1 <= v <= 50:
-        # GIF frame delays are whole hundredths of a second, and players slow anything faster
+        # our cap: players slow very short frame delays, and no animation here needs more
         raise argparse.ArgumentTypeError(f"{text} is outside 1 to 50 frames a second")
     return v
 

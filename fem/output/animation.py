@@ -2,7 +2,8 @@
 besides when asked for (`quaver run --video`, needs an ffmpeg encoder).
 
 WebP keeps the frames' full colour (a GIF has 256 colours, quantised frame by frame at about
-16 ms a frame) in smaller files (about half on the demo decks), and browsers play it in an <img> like a GIF.
+16 ms a frame) in smaller files (about half on the demo decks); browsers play it in an <img>
+like a GIF.
 """
 
 from __future__ import annotations
