@@ -17,7 +17,7 @@ from pathlib import Path
 from ..errors import ResultsError
 from ..progress import stage
 from . import folder as _folder
-from . import pictures, report
+from . import pictures, report, viewer
 from .results_json import write_results_json
 from .tables import write_tables
 
@@ -74,9 +74,9 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
                   fps: float = 12.0, staged: Callable[[dict], None] | None = None,
                   write: str = "all", video: bool = False) -> Written:
     """Write the results folder of `results` (a `fem.results.Results`): CSV tables, files for
-    VTK viewers (a VTU per mode, one VTKHDF file per free or history case), results.json,
-    pictures (unless `render` is False) and the report, or less as `write` says, staged and
-    swapped in only when all succeeded.
+    VTK viewers (one VTKHDF file per modes case and per free or history case), results.json,
+    pictures and the 3D view viewer.html (unless `render` is False) and the report, or less as
+    `write` says, staged and swapped in only when all succeeded.
 
     Parameters
     ----------
@@ -96,7 +96,7 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
     video : bool
         Also write each animation as MP4 (when an ffmpeg encoder is installed); WebP always.
     staged : callable, optional
-        Called with the results document once the tables, VTU files and results.json are
+        Called with the results document once the tables, viewer files and results.json are
         written (staged, not yet in place), before the pictures and the report: `quaver run`
         prints the summary there, so the first numbers do not wait for the drawing. What it
         raises fails the write as any other error does (nothing is moved into place).
@@ -146,6 +146,9 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         if write == "all":
             notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps, video, pool=pool) if render
                       else "pictures skipped (--no-render)")
+            if render:      # the interactive 3D view (viewer.html), whole or not at all
+                failed = viewer.write_viewer(results, tmp)
+                notice += f"; {failed}" if failed else ""
             with stage("writing the report"):
                 report.report(results, doc, tmp, notice)
         else:
