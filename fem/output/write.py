@@ -1,7 +1,7 @@
 """`write_results`: a results folder that loses nothing, holding exactly what `quaver run` writes
 (all of it, or by `write` the tables alone or the tables and the files for viewers).
 
-The tables, VTU files, results.json, pictures and report go to a folder staged beside the
+The tables, files for viewers, results.json, pictures and report go to a folder staged beside the
 target and are swapped into place only when everything succeeded (`fem.output.folder`), so a
 failed or interrupted run leaves the previous results as they were. The numbers come first:
 the tables and results.json are staged (and `staged` is told) before any picture is drawn.
