@@ -2,24 +2,31 @@
 followed) on a local Dask cluster of 2 worker processes against the same study run serially
 through the API, and the serial API against `quaver run` started once per variant.
 
-PYTHONPATH=. python benchmarks/study.py [variants] [subprocesses]
+PYTHONPATH=. python benchmarks/study.py [variants] [subprocesses] [--rounds N] [--quick]
 (targets: cluster >= 1.7x the serial API; serial API >= 5x faster per variant than `quaver run`)
 
-Dask's workers run BLAS on one thread (set before they start); the serial study and the `quaver
-run` processes are started here with the same setting (OPENBLAS_NUM_THREADS=1 and the like), so
-the ratios compare the engines, not BLAS threading (with two BLAS threads on a loaded 2-core
-machine a mast solve was measured 15-20x slower). `quaver run` is started `subprocesses` times
-(default 15, values spread over the same range), each writing its results folder without
-pictures, as a user's script would, and its per-variant time scaled. The per-variant overhead of
-the cluster (scheduling, transfer, the cluster's start) is its wall time times its workers less
-the time the workers spent in variants, per variant; the load average is printed before and
-after, since these machines are shared.
+Each round runs, one after another, the serial study (in a child process, so that it pays its
+imports and first solves as the cluster's workers do), the cluster with the default chunks
+(several variants a task) and the cluster with one variant a task (these two in alternating
+order from round to round); a round's ratios share its load. Dask's workers run BLAS on one thread; the serial study and the `quaver run` processes
+are started with the same setting (OPENBLAS_NUM_THREADS=1 and the like), so the ratios compare
+the engines, not BLAS threading. `quaver run` is started `subprocesses` times (default 15, 0:
+not timed; values spread over the same range), each writing its results folder without
+pictures, as a user's script would. Where the cluster's time goes comes from
+`StudyResult.phases`: starting the cluster, then per variant its reading and solving on a
+worker and the rest of the workers' time (scheduling, transfer, waiting), against the serial
+per-variant time. The load average is printed with each round, since these machines are shared,
+and the CPU seconds of each engine (the serial child; the cluster's scheduler, nannies and
+workers), which the load does not inflate as it does wall time.
+--quick: 40 variants, 3 subprocesses.
 """
 
 from __future__ import annotations
 
 import json
 import os
+import resource
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -45,52 +52,116 @@ def _serial_child(n: int) -> None:
     t0 = time.perf_counter()
     r = run_study(_study(n), serial=True, progress=False)
     wall = time.perf_counter() - t0
-    print(json.dumps({"wall": wall, "read": sum(x.get("read_s", 0) for x in r.results) / n,
-                      "solve": sum(x.get("solve_s", 0) for x in r.results) / n,
+    print(json.dumps({"wall": wall, "phases": r.phases,
                       "freq": [x["modes"]["MODES"]["freq"].tolist() for x in r.results]}))
 
 
-def main(n: int = 200, runs: int = 15) -> None:
-    import numpy as np
+def _load() -> str:
+    return " ".join(f"{x:.1f}" for x in os.getloadavg())
 
+
+def _cpu() -> float:
+    """CPU seconds (user + system) of this process and of its finished, reaped descendants."""
+    a, b = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+    return a.ru_utime + a.ru_stime + b.ru_utime + b.ru_stime
+
+
+def _cluster(n: int, chunk: int | None):
+    """Wall seconds, CPU seconds (the scheduler and client here, the nannies and workers once
+    the cluster is closed and they are reaped) and the StudyResult of one run on 2 workers."""
     from fem.study import run_study
 
-    print(f"load average before: {os.getloadavg()}")
+    c0, t0 = _cpu(), time.perf_counter()
+    r = run_study(_study(n), workers=2, progress=False, chunk=chunk)
+    return time.perf_counter() - t0, _cpu() - c0, r
+
+
+def _autogroup() -> bool:
+    try:
+        return Path("/proc/sys/kernel/sched_autogroup_enabled").read_text().strip() == "1"
+    except OSError:
+        return False
+
+
+def main(n: int = 200, runs: int = 15, rounds: int = 1) -> None:
+    import numpy as np
+
     env = dict(os.environ, PYTHONPATH=str(ROOT), **ONE_THREAD)
-    out = subprocess.run([sys.executable, __file__, "--serial-child", str(n)], env=env, check=True,
-                         capture_output=True, text=True).stdout
-    serial = json.loads(out.strip().splitlines()[-1])
-    t_serial = serial["wall"]
-
-    t0 = time.perf_counter()
-    local = run_study(_study(n), workers=2, progress=False)
-    t_local = time.perf_counter() - t0
-    worst = max(float(np.abs(np.array(a) / b["modes"]["MODES"]["freq"] - 1).max())
-                for a, b in zip(serial["freq"], local.results))
-    busy = sum(r["seconds"] for r in local.results)
-
-    hs = [2.6 + 0.8 * i / max(runs - 1, 1) for i in range(runs)]
-    with tempfile.TemporaryDirectory() as tmp:
-        t0 = time.perf_counter()
-        for i, h in enumerate(hs):
-            subprocess.run([sys.executable, "-m", "fem", "run", "decks/mast.deck", "--case", "MODES", "--no-render",
-                            "--set", f"h={h!r} m", "--out", f"{tmp}/r{i}"], cwd=ROOT, env=env, check=True,
-                           stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-        t_runs = (time.perf_counter() - t0) / runs
-
-    print(f"{n} variants of the mast (MODES), serial API: {t_serial:.2f} s ({t_serial / n * 1e3:.1f} ms a variant: "
-          f"read {serial['read'] * 1e3:.1f} ms, solve {serial['solve'] * 1e3:.1f} ms)")
-    print(f"local cluster, 2 workers: {t_local:.2f} s; speed-up over serial {t_serial / t_local:.2f}x (target 1.7x)")
-    print(f"  workers busy {busy:.2f} s; overhead (scheduling, transfer, cluster start) "
-          f"{(2 * t_local - busy) / n * 1e3:.1f} ms a variant against {busy / n * 1e3:.1f} ms of work")
+    print(f"{n} variants of the mast (MODES, 6 modes tracked); {os.cpu_count()} cores; BLAS 1 thread a process; "
+          f"load average (1, 5, 15 min) at the start {_load()}")
+    print()
+    print("| round | load before | serial API s (CPU s) | 2 workers, chunks s (CPU s) | speed-up "
+          "| 2 workers, 1 a task s (CPU s) | speed-up | load after |")
+    print("|---|---|---|---|---|---|---|---|")
+    ratios, worst, last, cpus = [], 0.0, None, []
+    for k in range(rounds):
+        load0 = _load()
+        c0 = _cpu()
+        out = subprocess.run([sys.executable, __file__, "--serial-child", str(n)], env=env, check=True,
+                             capture_output=True, text=True).stdout
+        c_serial = _cpu() - c0
+        serial = json.loads(out.strip().splitlines()[-1])
+        if k % 2:                                  # the two clusters' order alternates between rounds
+            t_single, c_single, single = _cluster(n, 1)
+            t_chunked, c_chunked, chunked = _cluster(n, None)
+        else:
+            t_chunked, c_chunked, chunked = _cluster(n, None)
+            t_single, c_single, single = _cluster(n, 1)
+        worst = max([worst] + [float(np.abs(np.array(a) / b["modes"]["MODES"]["freq"] - 1).max())
+                               for a, b in zip(serial["freq"], chunked.results)])
+        ratios.append((serial["wall"] / t_chunked, serial["wall"] / t_single))
+        cpus.append((c_chunked / c_serial, c_single / c_serial))
+        print(f"| {k + 1} | {load0} | {serial['wall']:.2f} ({c_serial:.1f}) | {t_chunked:.2f} ({c_chunked:.1f}) | "
+              f"{ratios[-1][0]:.2f}x | {t_single:.2f} ({c_single:.1f}) | {ratios[-1][1]:.2f}x | {_load()} |")
+        last = (serial, chunked, single)
+    print()
+    print(f"speed-up of 2 workers over the serial API (target 1.7x): chunks {statistics.median(r[0] for r in ratios):.2f}x, "
+          f"one variant a task {statistics.median(r[1] for r in ratios):.2f}x (medians of {rounds} round(s))")
+    cc, cs = statistics.median(c[0] for c in cpus), statistics.median(c[1] for c in cpus)
+    print(f"CPU of the cluster's processes against the serial process's (imports included in both): chunks {cc:.2f}x, "
+          f"one variant a task {cs:.2f}x; with two cores free, 2 workers could at best be {2 / cc:.2f}x and "
+          f"{2 / cs:.2f}x the serial API (an estimate, not a measurement)")
+    if _autogroup():
+        print("the kernel shares the CPU between sessions (sched_autogroup_enabled = 1): on a machine busy with "
+              "other sessions this session's processes together get one session's share, so two workers "
+              "cannot be much faster than one process however little the engine costs")
     print(f"largest relative difference of the cluster's frequencies from the serial ones: {worst:.1e}")
-    print(f"quaver run, {runs} subprocesses: {t_runs:.2f} s a variant; serial API "
-          f"{t_runs / (t_serial / n):.1f}x faster a variant (target 5x)")
-    print(f"load average after: {os.getloadavg()}")
+    serial, chunked, single = last
+    print()
+    print("where the time went (last round), ms a variant unless stated:")
+    print()
+    print("| engine | start s | tasks | read | solve | workers' other time (scheduling, transfer, idle) | wall a variant |")
+    print("|---|---|---|---|---|---|---|")
+    for name, ph in (("serial API", serial["phases"]), ("2 workers, chunks", chunked.phases),
+                     ("2 workers, 1 a task", single.phases)):
+        wall = ph["prepare"] + ph["start"] + ph["run"]
+        print(f"| {name} | {ph['start']:.2f} | {ph['tasks']} | {ph['read'] / n * 1e3:.1f} | {ph['solve'] / n * 1e3:.1f} "
+              f"| {ph['overhead'] / n * 1e3:.1f} | {wall / n * 1e3:.1f} |")
+
+    if runs:
+        hs = [2.6 + 0.8 * i / max(runs - 1, 1) for i in range(runs)]
+        load0 = _load()
+        with tempfile.TemporaryDirectory() as tmp:
+            t0 = time.perf_counter()
+            for i, h in enumerate(hs):
+                subprocess.run([sys.executable, "-m", "fem", "run", "decks/mast.deck", "--case", "MODES",
+                                "--no-render", "--set", f"h={h!r} m", "--out", f"{tmp}/r{i}"], cwd=ROOT, env=env,
+                               check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+            t_runs = (time.perf_counter() - t0) / runs
+        print()
+        print(f"quaver run, {runs} subprocesses (load {load0} -> {_load()}): {t_runs:.2f} s a variant; serial API "
+              f"{t_runs / (serial['wall'] / n):.1f}x faster a variant (target 5x)")
 
 
 if __name__ == "__main__":
     if sys.argv[1:2] == ["--serial-child"]:
         _serial_child(int(sys.argv[2]))
     else:
-        main(*[int(a) for a in sys.argv[1:]])
+        args = sys.argv[1:]
+        rounds = int(args[args.index("--rounds") + 1]) if "--rounds" in args else 1
+        if "--rounds" in args:
+            del args[args.index("--rounds"):args.index("--rounds") + 2]
+        nums = [int(a) for a in args if not a.startswith("--")]
+        if "--quick" in args:
+            nums = nums or [40, 3]
+        main(*nums, rounds=rounds)

@@ -221,6 +221,10 @@ def assemble(model: Model, pattern: BlockPattern | None = None) -> Assembled:
         XM[4 * e:] += model.mass_coupling.reshape(n, 36)
     K = pattern.matrix_from_blocks(XK)
     M = pattern.matrix_from_blocks(XM)
+    if model.node_springs is not None and len(model.node_springs):     # springs between two nodes
+        from .elements.node_spring import spring_matrix
+
+        K = (K + spring_matrix(model.node_springs, model.coords)).tocsr()
     if model.pretension is not None and np.any(model.pretension):
         # a pretensioned cable resists sideways motion by its tension (a taut string)
         from .elements.geometric import geometric_matrix

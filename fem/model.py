@@ -15,7 +15,8 @@ from .errors import Location
 from .excitation import FrequencyBand, Machine
 from .sections import SectionProps
 
-__all__ = ["COMBINABLE", "DIRECTIONS", "Combination", "Envelope", "Link", "LoadCase", "LoadItem", "Material", "Model", "Section"]
+__all__ = ["COMBINABLE", "DIRECTIONS", "Combination", "Envelope", "Link", "LoadCase", "LoadItem", "Material", "Model",
+           "NodeSprings", "Section"]
 
 DIRECTIONS = ("ux", "uy", "uz", "rx", "ry", "rz")
 
@@ -83,6 +84,31 @@ class Link:
     location: Location | None = None
 
 
+@dataclass(frozen=True, eq=False)
+class NodeSprings:
+    """Linear springs each joining two nodes A and B (s springs), e.g. isolators, bearings and
+    bolted joints; the two nodes may coincide. Spring j resists the relative motion of its
+    nodes in its own axes: its force and moment on node B (local components) are
+    -k * axes (u_B - u_A), translations and rotations alike (fem.elements.node_spring).
+
+    names : (s,) their names; nodes : (s, 2) node indices A, B
+    k : (s, 6) stiffness along and about the spring's x, y, z: N/m, then N m/rad
+    axes : (s, 3, 3) rows: the spring's x, y, z in global components (identity: global axes)
+    damping : (s,) damping ratio of each spring (0: none); how modal cases use it is
+        fem/analysis/spring_damping.py
+    locations : where each is written"""
+
+    names: tuple
+    nodes: np.ndarray
+    k: np.ndarray
+    axes: np.ndarray
+    damping: np.ndarray
+    locations: tuple = ()
+
+    def __len__(self) -> int:
+        return len(self.names)
+
+
 @dataclass
 class Envelope:
     """The largest and smallest of every result over the cases and combinations `over`."""
@@ -110,7 +136,8 @@ class Model:
         insulation, trays), kg/m
     releases : (e, 12) bool, released local end DOFs
     restraint : (n, 6) bool, restrained DOFs
-    springs : (n, 6) spring stiffness to ground, N/m or N m/rad
+    springs : (n, 6) spring stiffness to ground, N/m or N m/rad (springs between two nodes:
+        `node_springs`)
     point_mass : (n, 6) mass and rotary inertia at nodes, kg and kg m^2 (the diagonal of each
         node's mass block; an off-node mass adds its inertia about the node here)
     mass_coupling : (n, 6, 6) or None, the off-diagonal terms of the nodal mass blocks of masses
@@ -166,6 +193,7 @@ class Model:
     mass_coupling: np.ndarray | None = None
     offsets: np.ndarray | None = None
     pretension: np.ndarray | None = None   # (e,) initial tension of truss members (guys, cables), N; None: none
+    node_springs: NodeSprings | None = None   # springs between two nodes (isolators, bearings); None: none
 
     @property
     def n_nodes(self) -> int:

@@ -55,6 +55,10 @@ class Results:
     stresses : dict of str to MemberStresses
         The member stresses of each case and combination that has member forces (static,
         combination, free, history, harmonic, spectrum), by name (`fem.analysis.stress`).
+    springs : dict of str to SpringForces
+        The forces of the springs between nodes (`fem.analysis.spring_forces`) of every static
+        case, combination of static cases, modes case (per mode) and free, history, harmonic and
+        spectrum case, by name; empty when the model has no such springs.
     resonance : dict of str to ResonanceCheck
         The resonance check of each modes case that checks excitations
         (`fem.analysis.resonance`), by modes case name; empty when the model declares none.
@@ -77,6 +81,7 @@ class Results:
     sensitivities: dict = field(default_factory=dict)
     resonance: dict = field(default_factory=dict)
     stresses: dict = field(default_factory=dict)
+    springs: dict = field(default_factory=dict)
 
     def __repr__(self) -> str:
         cases = ", ".join(f"{n} ({r.kind})" for n, r in self.cases.items())

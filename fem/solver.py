@@ -102,8 +102,8 @@ class _Run:
         self.statics: dict = {}
         self.modes: dict = {}
         self.stiffened: dict = {}      # the assembly (K + Kg) of each modes case under a preload or pretension
-        self.pretension = None         # (e,) axial forces of the pretension state beyond the pretensions
-                                       # themselves (which K holds), N, or None
+        self.pretension = None         # the pretension state's forces beyond the pretensions themselves
+                                       # (which K holds), a fem.analysis.buckling.Preload, or None
         self._factor = factor
 
     def lu(self):
@@ -115,13 +115,12 @@ class _Run:
 def _modes(run: _Run, case, notes, spd):
     """Solve the modes case `case`: with K, or with K + Kg of its preload's and the pretensions'
     axial forces (then its assembly is kept for the response cases built on it)."""
-    from .analysis.buckling import axial_forces, geometric_matrix, preloaded
+    from .analysis.buckling import geometric_matrix, preload_of, preloaded
 
-    N0 = run.pretension if run.pretension is not None and np.any(run.pretension) else None
+    N0 = run.pretension if run.pretension is not None and run.pretension.acts() else None
     if case.preload is None and N0 is None:
         return solve_modes_case(run.model, run.asm, case, factor=spd, notes=notes)
-    G = None if case.preload is None else \
-        geometric_matrix(run.model, run.asm, axial_forces(run.statics[case.preload].member_forces))
+    G = None if case.preload is None else geometric_matrix(run.model, run.asm, preload_of(run.statics[case.preload]))
     G0 = None if N0 is None else geometric_matrix(run.model, run.asm, N0)
     what = f"case {case.name}: the preload of case {case.preload}" if case.preload else \
         f"case {case.name}: the members' pretension"
@@ -144,9 +143,13 @@ def _history(run: _Run, case):
 
 
 def _harmonic(run: _Run, case):
+    from .analysis.stress import STATIONS
+
     modes, _, factor = _links(case)
-    return solve_harmonic_case(run.model, run.asm, case, run.modes[modes], run.lu() if factor else None,
-                               around=excitation_frequencies(run.model))
+    model = run.model
+    added = {n for cb in model.combinations for n in cb.factors} | {n for env in model.envelopes for n in env.over}
+    return solve_harmonic_case(model, run.asm, case, run.modes[modes], run.lu() if factor else None,
+                               around=excitation_frequencies(model), stations=STATIONS if case.name in added else 2)
 
 
 def excitation_frequencies(model: Model) -> tuple[float, ...]:
@@ -235,7 +238,7 @@ def solve(model: Model, cases=None) -> Results:
 
         with quiet(notes, "pretension"):
             state = pretension_state(model, asm, run.lu())
-            run.pretension = state.axial - model.pretension
+            run.pretension = state.beyond(model.pretension)
     sensitivities = {}
     dynamic = [cb for cb in model.combinations if not _static_only(model, cb)]
     for after in (False, True):       # modes under a preload once the static cases are solved
@@ -263,20 +266,18 @@ def solve(model: Model, cases=None) -> Results:
                 responses[c.name] = solver(run, c)
             run.asm = asm
         elif c.kind == "buckling":
-            from .analysis.buckling import axial_forces, solve_buckling
+            from .analysis.buckling import preload_of, solve_buckling
 
             with stage(f"buckling case {c.name}: eigen solve"), _at_case(c), quiet(notes, f"case {c.name}"):
-                responses[c.name] = solve_buckling(model, asm, c, axial_forces(run.statics[c.loading].member_forces),
+                responses[c.name] = solve_buckling(model, asm, c, preload_of(run.statics[c.loading]),
                                                    run.pretension, sound.spd)
+    changes = dict(run.statics)
     if state is not None:          # reported: the pretension state plus each case's change from it
         from .analysis.buckling import with_state
 
         run.statics = {n: with_state(r, state, model.coords) for n, r in run.statics.items()}
-    if state is not None and dynamic:
-        raise ModelError(f"combination {dynamic[0].name}: a combination with a dynamic case in a model with "
-                         "pretensioned members is not supported yet (the pretension state would be scaled with "
-                         "the static cases' factors)", dynamic[0].location)
-    demands = _demands(model, run, responses, dynamic)
+    lines = _line_loads(model, asm)
+    demands = _demands(model, run, responses, dynamic, lines, changes, state)
     mass = assembled_mass(model, asm)
     modal = [*run.modes.values(), *responses.values()]
     resonance = _resonance(model, run.modes)
@@ -284,20 +285,39 @@ def solve(model: Model, cases=None) -> Results:
                       list(demands.values()))
     return Results(model, {**run.statics, **run.modes, **responses, **demands}, sound, mass, checks, tuple(notes),
                    asked, {n: s for n, s in sensitivities.items() if s is not None}, resonance,
-                   _stresses(model, asm, run.statics, responses))
+                   _stresses(model, lines, run.statics, responses),
+                   springs=_springs(model, run.statics, run.modes, {**responses, **demands}))
 
 
-def _stresses(model: Model, asm, statics: dict, responses: dict) -> dict:
-    """The member stresses of every static case and combination (exact, from its end forces and
-    line loads) and of every response case (computed by its solver), by name."""
+def _springs(model: Model, statics: dict, modes: dict, responses: dict) -> dict:
+    """The forces of the springs between nodes of every case that has them, by name."""
+    from .analysis.spring_forces import modal_springs, static_springs
+
+    if model.node_springs is None:
+        return {}
+    out = {n: static_springs(model, r.u) for n, r in statics.items()}
+    out.update({n: modal_springs(model, r.shapes) for n, r in modes.items()})
+    out.update({n: r.springs for n, r in responses.items() if getattr(r, "springs", None) is not None})
+    return out
+
+
+def _line_loads(model: Model, asm) -> dict:
+    """The uniform line loads (e, 3) of every static case and static combination, by name."""
     from .analysis.static import line_loads
-    from .analysis.stress import member_stresses, section_table
 
-    table = section_table(model)
     lines = {c.name: line_loads(model, asm, c) for c in model.cases if c.kind == "static"}
     for cb in model.combinations:      # a combination of static cases: its factored line loads
         if all(n in lines for n in cb.factors):
             lines[cb.name] = sum((f * lines[n] for n, f in cb.factors.items()), np.zeros((model.n_members, 3)))
+    return lines
+
+
+def _stresses(model: Model, lines: dict, statics: dict, responses: dict) -> dict:
+    """The member stresses of every static case and combination (exact, from its end forces and
+    line loads) and of every response case (computed by its solver), by name."""
+    from .analysis.stress import member_stresses, section_table
+
+    table = section_table(model)
     out = {n: member_stresses(model, r.member_forces, lines[n], table=table) for n, r in statics.items() if n in lines}
     out.update({n: r.stresses for n, r in responses.items() if getattr(r, "stresses", None) is not None})
     return out
@@ -314,13 +334,18 @@ def _static_only(model: Model, combo) -> bool:
     return all(kinds.get(n) == "static" for n in combo.factors)
 
 
-def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
+def _demands(model: Model, run: _Run, responses: dict, dynamic: list, lines: dict, changes: dict, state) -> dict:
     """The combinations with a history, spectrum or harmonic case (`CombinationResult`) and
-    the envelopes (`EnvelopeResult`), by name (fem/analysis/combine.py)."""
+    the envelopes (`EnvelopeResult`), by name (fem/analysis/combine.py). In a model with
+    pretensioned members a combination adds its static cases' changes from the pretension state
+    (`changes`) and the state once, as a term of its own, "(pretension state)": the dynamic
+    cases are motions about that settled state, as every static case is a change from it."""
     from dataclasses import replace
 
     from .analysis.combine import combine_terms, envelope
     from .analysis.history_case import series_basis
+    from .analysis.spring_forces import combination_springs, envelope_springs
+    from .analysis.stress_field import StressContext
 
     found = {**run.statics, **responses}
     used = {n for cb in dynamic for n in cb.factors} | {n for env in model.envelopes for n in env.over}
@@ -329,18 +354,33 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list) -> dict:
         if r is not None and r.kind == "history":
             m = model_case(model, n).modes
             found[n] = replace(r, series=series_basis(model, run.stiffened.get(m, run.asm), r, run.modes[m]))
-    sizes = {"node": model.n_nodes, "member": model.n_members}
+    sizes = {"node": model.n_nodes, "member": model.n_members, "stress": StressContext(model, lines)}
     out = {}
+    settled = [] if state is None else [(1.0, _state_result(model, state))]
     for cb in dynamic:
-        statics = [(f, run.statics[n]) for n, f in cb.factors.items() if n in run.statics]
+        statics = [(f, changes[n]) for n, f in cb.factors.items() if n in changes] + settled
         part = combine(cb.name, statics, model.coords) if statics else None
+        terms = [(f, changes.get(n, found[n])) for n, f in cb.factors.items()] + settled
         with _at_case(cb):
-            out[cb.name] = combine_terms(cb.name, [(f, found[n]) for n, f in cb.factors.items()], sizes, part)
+            out[cb.name] = combine_terms(cb.name, terms, sizes, part)
+            out[cb.name].springs = combination_springs(model, [(f, found[n], n) for n, f in cb.factors.items()])
     found.update(out)
     for env in model.envelopes:
         with _at_case(env):
             out[env.name] = envelope(env.name, [found[n] for n in env.over], sizes)
+            out[env.name].springs = envelope_springs([
+                found[n].springs if found[n].kind == "combination" else combination_springs(model, [(1.0, found[n], n)])
+                for n in env.over])
     return out
+
+
+def _state_result(model: Model, state):
+    """The pretension state as a static result named "(pretension state)" (no load applied)."""
+    from .analysis.static import StaticResult, equilibrium
+
+    applied = np.zeros_like(state.reactions)
+    return StaticResult("(pretension state)", state.u, state.reactions, state.member_forces, applied,
+                        equilibrium(model.coords, applied, state.reactions), state.residual, state.gross)
 
 
 def _resonance(model: Model, modes: dict) -> dict:

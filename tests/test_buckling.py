@@ -37,7 +37,10 @@ def test_element_geometric_stiffness_against_the_integral():
     """Kg = N int N'^T N' dx of the cubic Hermite shape functions, integrated here with numpy's
     Gauss-Legendre rule (exact for the quadratic integrand), in the x-y plane (v, rz = dv/dx)
     and the x-z plane (w, ry = -dw/dx); the twist term N Ip / (A L) (McGuire, Gallagher and
-    Ziemian, Matrix Structural Analysis, 2nd ed., eq. 9.19, from memory). Round-off tolerance."""
+    Ziemian, Matrix Structural Analysis, 2nd ed., eq. 9.19, from memory; confirmed as the weak form,
+    over a linear twist, of the term (I0 P / A) theta'' of the torsion equation under an axial
+    load, Megson, An Introduction to Aircraft Structural Analysis, 2010, ch. 8, eq. 8.70). Round-off
+    tolerance."""
     L, N = 2.5, -3000.0
     kg = frame_geometric(L, N, A, 2e-6, 5e-6)[0]
     x, w = np.polynomial.legendre.leggauss(4)
@@ -112,7 +115,9 @@ def test_sway_portal_against_the_alignment_chart_equation():
     """A fixed-base portal, columns h = 4 m and beam b = 6 m of equal I, each column loaded with
     P at its top, sways at P_cr = (pi / K)^2 E I / h^2 where pi / K = x solves the sway-frame
     equation (G_A G_B x^2 - 36) / (6 (G_A + G_B)) = x / tan x with G_B = 0 (fixed base) and
-    G_A = (I/h) / (I/b) (AISC 360-16 Commentary, Appendix 7, eq. C-A-7-2, from memory; exact for
+    G_A = (I/h) / (I/b) (the equation of the sway-frame effective-length chart, AISC 360-05
+    Commentary, Fig. C-C2.4: confirmed in a published reproduction of that Commentary text; the
+    2016 edition's number, Appendix 7 eq. C-A-7-2, from memory; exact for
     a symmetric one-bay portal whose columns carry equal loads: its assumptions of equal joint
     rotations and beams bent in double curvature hold). Solved here with scipy's brentq. Columns
     nearly inextensible (A = 0.1 m^2), 8 elements per member: tolerance 1e-4."""
@@ -233,7 +238,10 @@ def test_a_case_built_in_python_naming_no_static_case_is_refused():
 def test_torsional_buckling_from_the_twist_term():
     """A column stiff in bending but with a tiny torsion constant buckles by twisting at
     P_T = G J / r0^2, r0^2 = Ip / A (no warping stiffness; Timoshenko and Gere, Theory of Elastic
-    Stability, 2nd ed., 1961, sec. 5.3, eq. 5-16 with C1 = 0, from memory of the numbering).
+    Stability, 2nd ed., 1961, sec. 5.3, eq. 5-16 with C1 = 0, from memory of the numbering;
+    confirmed: Megson, An Introduction to Aircraft Structural Analysis, 2010, ch. 8, eq. 8.70,
+    E Gamma theta^(4) - (G J - I0 P / A) theta'' = 0 for a section whose shear centre is its
+    centroid, here with Gamma = 0).
     Twist and its geometric term are both linear along the member, so the factor is exact at any
     mesh: round-off tolerance (and every twisting shape of the mesh shares it, a repeated factor).
     The shape twists only: scaled to a largest rotation of 1."""

@@ -5,7 +5,6 @@ import numpy as np
 import pytest
 
 import fem
-from fem.errors import ModelError
 
 COLUMN = """
 material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
@@ -30,10 +29,3 @@ def test_a_column_joined_by_a_rigid_link_buckles_at_the_euler_load():
     r = fem.solve(fem.read_text(COLUMN))
     EI = 200e9 * np.pi * 0.05 ** 4 / 64
     assert r["BK"].factors[0] * 1e3 == pytest.approx(np.pi ** 2 * EI / 8.0 ** 2, rel=1e-4)
-
-
-def test_buckling_with_member_end_offsets_is_refused_in_words():
-    deck = COLUMN.replace("link J: A[8] -> B[8]", "link J: A[8] -> B[8]\n"
-                          "member c : B[16] -> A[0] beam P S offset_i = (0.1 m, 0, 0)")
-    with pytest.raises(ModelError, match="end offsets"):
-        fem.solve(fem.read_text(deck))

@@ -222,6 +222,26 @@ def springs_for_supports(text, rng):
     return re.sub(r"^support (\S+) .*$", rf"spring \1 {springs}", text, flags=re.M)
 
 
+def isolate_a_mass(text, rng):
+    """A point mass moved onto a new node at its place, joined to the old one by a spring between
+    the nodes: some of the six directions (a mechanism when a moving one is left out), soft,
+    ordinary or stiff, sometimes turned or damped."""
+    found = re.findall(r"^mass (\w+) = ", text, flags=re.M)
+    if not found:
+        return text
+    node = rng.choice(found)
+    dirs = rng.sample(["ux", "uy", "uz", "rx", "ry", "rz"], rng.randint(1, 6))
+    k = rng.choice(["1e-6 N/m", "2e5 N/m", "1e13 N/m"])
+    kr = rng.choice(["1e-6 N*m", "5e4 N*m", "1e12 N*m"])
+    stiff = ", ".join(f"{d} = {k if d[0] == 'u' else kr}" for d in dirs)
+    extra = rng.choice(["", " damping = 5 percent", " along = (1, 1, 0)", " along = (0, 0, 1) up = (1, 0, 0)",
+                        " damping = 50 percent along = (1, 2, 3)"])
+    text = re.sub(rf"^mass {node} = ", "mass ISO_N = ", text, count=1, flags=re.M)
+    at = re.search(rf"^node {node} = (.*)$", text, flags=re.M)
+    where = at.group(1) if at else "(0, 0, 0)"
+    return text + f"\nnode ISO_N = {where}\nspring ISO_S: {node} -> ISO_N ({stiff}){extra}\n"
+
+
 def heavy_or_light_mass(text, rng):
     node = rng.choice(re.findall(r"^node (\w+)", text, flags=re.M) or ["A"])
     mass = rng.choice(["1e-9 kg", "1e12 kg", "1 kg"])
@@ -347,7 +367,7 @@ def expression(text, rng):
 MUTATIONS = [
     drop_supports, fix_everything, drop_member, releases_everywhere, all_truss, all_beam,
     duplicate_node, move_node_onto_another, no_mass, rotary_mass_only, mass_on_loose_node,
-    lumped_shear, far_node, drop_cases_but, springs_for_supports, heavy_or_light_mass,
+    lumped_shear, far_node, drop_cases_but, springs_for_supports, isolate_a_mass, heavy_or_light_mass,
     unsupported_in_a_plane, far_reference, repeat_statement, short_stiff_link, released_inclined_member,
     expression,
     _sub_value("E", ["1 Pa", "1e-9 Pa", "1e6 GPa", "1e300 Pa", "0", "-1 GPa"]),

@@ -30,7 +30,7 @@ from ..errors import ModelError
 from .factor import NotPositiveDefinite, negative_eigenvalues, spd_factor
 from .modes import DENSE_LIMIT, LANCZOS_TOL, sturm_shift
 
-__all__ = ["BucklingResult", "PretensionState", "axial_forces", "pretension_state", "with_state", "geometric_matrix", "lowest_factor", "preloaded", "prestress_forces",
+__all__ = ["BucklingResult", "Preload", "PretensionState", "axial_forces", "preload_of", "pretension_state", "with_state", "geometric_matrix", "lowest_factor", "preloaded", "prestress_forces",
            "solve_buckling", "sturm_check"]
 
 
@@ -63,17 +63,39 @@ def axial_forces(member_forces: np.ndarray) -> np.ndarray:
     return 0.5 * (member_forces[:, 6] - member_forces[:, 0])
 
 
-def geometric_matrix(model, asm: Assembled, N: np.ndarray) -> sp.csr_matrix:
-    """Global geometric stiffness (6n, 6n) of the member axial forces N (e,) N, tension positive,
-    reduced by the rigid links' transformation as K is (T^T Kg T). Member end offsets are refused:
-    their rigid arms would also carry the axial force's geometric terms, not modelled here."""
-    if model.offsets is not None and np.any(N[np.any(model.offsets != 0, axis=(1, 2))] != 0):
-        raise ModelError("stress stiffening and buckling do not take member end offsets into account yet "
-                         "(the offset arms would carry geometric terms too); model the offset with an extra "
-                         "node and a rigid link instead")
-    G = _geometric(model, asm.R, asm.L, N)
+@dataclass(frozen=True)
+class Preload:
+    """The forces of a state that enter the geometric stiffness: axial (e,) member axial forces N,
+    tension positive; ends (e, 12) the members' end forces on them, local axes (the arms of end
+    offsets carry them), or None to take the axial forces alone; links (d,) the rigid links'
+    forces at their linked DOFs (fem.analysis.static.link_forces), or None."""
+
+    axial: np.ndarray
+    ends: np.ndarray | None = None
+    links: np.ndarray | None = None
+
+    def acts(self) -> bool:
+        return bool(np.any(self.axial) or (self.links is not None and np.any(self.links)))
+
+
+def preload_of(result) -> Preload:
+    """The Preload of a static result (or a combination, or a PretensionState)."""
+    return Preload(axial_forces(result.member_forces), result.member_forces, getattr(result, "links", None))
+
+
+def geometric_matrix(model, asm: Assembled, N) -> sp.csr_matrix:
+    """Global geometric stiffness (6n, 6n) of a state's forces, reduced by the rigid links'
+    transformation as K is (T^T Kg T), plus the links' own term: a link carrying a force turns
+    it with the reference node's rotation (fem.elements.rigid.link_geometric). N: a Preload, or
+    the member axial forces (e,) N, tension positive, alone."""
+    pre = N if isinstance(N, Preload) else Preload(np.asarray(N, dtype=float))
+    G = _geometric(model, asm.R, asm.L, pre.axial, pre.ends)
     if asm.T is not None:
         G = asm.T.T @ G @ asm.T
+        if pre.links is not None:
+            from ..elements.rigid import link_geometric
+
+            G = G + link_geometric(model.coords, model.links, asm.linked, pre.links)
         G = (0.5 * (G + G.T)).tocsr()
     return G
 
@@ -91,6 +113,14 @@ class PretensionState:
     axial: np.ndarray
     residual: np.ndarray
     gross: np.ndarray
+    links: np.ndarray | None = None      # (d,) forces of the rigid links at their linked DOFs
+
+    def beyond(self, pretension: np.ndarray) -> Preload:
+        """The Preload of this state beyond the pretensions themselves (which K holds)."""
+        ends = self.member_forces.copy()
+        ends[:, 0] += pretension
+        ends[:, 6] -= pretension
+        return Preload(self.axial - pretension, ends, self.links)
 
 
 def pretension_state(model, asm: Assembled, lu) -> PretensionState | None:
@@ -103,7 +133,7 @@ def pretension_state(model, asm: Assembled, lu) -> PretensionState | None:
     a cable between fixed anchors keeps T). `lu` solves with K over the free DOFs, K holding
     the pretensions' own geometric stiffness (fem/assembly.py), so that a straight cable is
     not a mechanism."""
-    from .static import support_forces
+    from .static import link_forces, support_forces
 
     T = getattr(model, "pretension", None)
     if T is None or not np.any(T):
@@ -126,7 +156,7 @@ def pretension_state(model, asm: Assembled, lu) -> PretensionState | None:
     residual[asm.free] = Ku[asm.free] - f[asm.free]
     reactions = support_forces(model, asm, Ku - f, u)
     return PretensionState(u.reshape(-1, 6), reactions.reshape(-1, 6), mf, axial_forces(mf), residual,
-                           abs(asm.K) @ np.abs(u) + np.abs(f))
+                           abs(asm.K) @ np.abs(u) + np.abs(f), link_forces(asm, u, f))
 
 
 def prestress_forces(model, asm: Assembled, lu) -> np.ndarray | None:
@@ -145,7 +175,8 @@ def with_state(result, state: PretensionState, coords):
 
     reactions = result.reactions + state.reactions
     kept = result.residual is not None
-    return replace(result, u=result.u + state.u, reactions=reactions,
+    links = result.links + state.links if result.links is not None and state.links is not None else result.links
+    return replace(result, u=result.u + state.u, reactions=reactions, links=links,
                    member_forces=result.member_forces + state.member_forces,
                    equilibrium=equilibrium(coords, result.applied, reactions),
                    residual=result.residual + state.residual if kept else None,
@@ -231,17 +262,18 @@ def sturm_check(K, G, lam, keep: int, more: bool):
 ROUNDS = 3      # re-runs asking for more factors when the Sturm count shows some missed
 
 
-def solve_buckling(model, asm: Assembled, case, N: np.ndarray, N0: np.ndarray | None = None,
-                   factor=None) -> BucklingResult:
-    """The lowest `case.count` load factors and buckled shapes of the axial forces N (e,) of the
-    static case `case.loading`, with the pretension state's forces N0 (e,) held fixed (not scaled;
-    beyond the pretensions themselves, which asm.K holds). `factor`: an SPD factor of K over the
-    free DOFs already made (used when there is no N0)."""
+def solve_buckling(model, asm: Assembled, case, N, N0=None, factor=None) -> BucklingResult:
+    """The lowest `case.count` load factors and buckled shapes of the forces N (a Preload, or the
+    axial forces (e,) alone) of the static case `case.loading`, with the pretension state's forces
+    N0 held fixed (not scaled; beyond the pretensions themselves, which asm.K holds). `factor`: an
+    SPD factor of K over the free DOFs already made (used when there is no N0)."""
     f = asm.free
-    if not np.any(N != 0):
+    N = N if isinstance(N, Preload) else Preload(np.asarray(N, dtype=float))
+    N0 = N0 if N0 is None or isinstance(N0, Preload) else Preload(np.asarray(N0, dtype=float))
+    if not N.acts():
         raise ModelError(f"case {case.name}: the loads of case {case.loading} put no member in tension or "
                          "compression, so they cannot buckle the structure", case.location)
-    held = N0 is not None and np.any(N0)
+    held = N0 is not None and N0.acts()
     K = asm.K + geometric_matrix(model, asm, N0) if held else asm.K
     Kf = K[f][:, f].tocsc()
     G = geometric_matrix(model, asm, N)[f][:, f].tocsc()
@@ -271,5 +303,5 @@ def solve_buckling(model, asm: Assembled, case, N: np.ndarray, N0: np.ndarray | 
     top = np.argmax(np.abs(part), axis=0)
     scale = part[top, np.arange(keep)]
     shapes = shapes / np.where(scale != 0, scale, 1.0)
-    return BucklingResult(case.name, case.loading, lam, shapes, res, count, expected, shift, solver, N,
+    return BucklingResult(case.name, case.loading, lam, shapes, res, count, expected, shift, solver, N.axial,
                           N0 is not None)

@@ -27,7 +27,8 @@ The fields are named arrays of one result (`FIELDS`): "displacement" (n, 6), "re
 from a static result, how to read its peak from a spectrum or harmonic result, and either its
 history basis or how it follows from end forces (then computed, step by step, from the
 combined end forces: exact for the static and history parts, even for a quantity that is not
-linear in them).
+linear in them), or its own `bounds` of a combination's terms (member stresses,
+fem/analysis/stress_field.py: the "stress" field, which needs the model through `sizes`).
 """
 
 from __future__ import annotations
@@ -59,6 +60,8 @@ class Field:
     basis : HistoryResult -> (rows * columns, c) field of each column of its series, or None
         when the field follows from end forces (`of_forces`).
     of_forces : (m, e, 12) end forces -> (m, rows, columns), for a field computed from them.
+    bounds : (terms, name, t, sizes) -> Bounds or None, for a field that bounds a combination
+        itself (None: the field is left out, e.g. without what it needs in `sizes`).
     """
 
     name: str
@@ -68,6 +71,7 @@ class Field:
     peak: dict
     basis: Callable | None = None
     of_forces: Callable | None = None
+    bounds: Callable | None = None
 
 
 FIELDS: dict[str, Field] = {}
@@ -94,12 +98,15 @@ add_field(Field("end_force", "member", tuple(f"{c}_{e}" for e in "ij" for c in _
 class Bounds:
     """The largest and smallest value of one field (rows, columns) and what governs each:
     for a combination the time (s) of a history part, NaN where no time governs (no history
-    term); for an envelope the index of the governing case in its `over`."""
+    term); for an envelope the index of the governing case in its `over`. point_max, point_min:
+    for member stresses, the stress point of each value (fem.analysis.stress_field), else None."""
 
     max: np.ndarray
     min: np.ndarray
     max_by: np.ndarray
     min_by: np.ndarray
+    point_max: np.ndarray | None = None
+    point_min: np.ndarray | None = None
 
 
 @dataclass
@@ -122,6 +129,7 @@ class CombinationResult:
     static: StaticResult | None = None
     duration: tuple | None = None
     warnings: tuple = ()
+    springs: object = None      # fem.analysis.spring_forces.SpringForces, "bounds" (None: no springs between nodes)
 
 
 @dataclass
@@ -136,6 +144,7 @@ class EnvelopeResult:
     over: tuple
     fields: dict
     warnings: tuple = ()
+    springs: object = None      # fem.analysis.spring_forces.SpringForces, "bounds" (None: no springs between nodes)
 
 
 def _static_part(fld: Field, terms) -> np.ndarray | None:
@@ -202,8 +211,10 @@ def _series_bounds(fld: Field, base: np.ndarray, histories, t, shape) -> Bounds:
     return Bounds(hi.reshape(shape), lo.reshape(shape), hi_t.reshape(shape), lo_t.reshape(shape))
 
 
-def _field_bounds(fld: Field, terms, name: str, t, sizes: dict) -> Bounds:
+def _field_bounds(fld: Field, terms, name: str, t, sizes: dict) -> Bounds | None:
     """Bounds of one field of a combination; `sizes` the rows of "node" and "member" fields."""
+    if fld.bounds is not None:
+        return fld.bounds(terms, name, t, sizes)
     histories = [(f, r) for f, r in terms if r.kind == "history"]
     if fld.of_forces is None:
         base = _static_part(fld, terms)
@@ -240,6 +251,7 @@ def combine_terms(name: str, terms, sizes: dict, static: StaticResult | None = N
     histories = [(f, r) for f, r in terms if r.kind == "history"]
     t = _grid(name, histories)
     fields = {n: _field_bounds(fld, terms, name, t, sizes) for n, fld in FIELDS.items()}
+    fields = {n: b for n, b in fields.items() if b is not None}
     return CombinationResult(name, tuple((f, r.name, r.kind) for f, r in terms), fields, static,
                              None if t is None else (float(t[0]), float(t[-1])))
 
@@ -264,9 +276,15 @@ def envelope(name: str, results, sizes: dict) -> EnvelopeResult:
     """
     each = [bounds_of(r, sizes) for r in results]
     fields = {}
-    for n in FIELDS:
+    for n in [n for n in FIELDS if all(n in b for b in each)]:
         hi = np.stack([b[n].max for b in each])
         lo = np.stack([b[n].min for b in each])
-        i, j = hi.argmax(axis=0), lo.argmin(axis=0)
-        fields[n] = Bounds(np.take_along_axis(hi, i[None], 0)[0], np.take_along_axis(lo, j[None], 0)[0], i, j)
+        i, j = np.nan_to_num(hi, nan=-np.inf).argmax(axis=0), np.nan_to_num(lo, nan=np.inf).argmin(axis=0)
+        pick = [None if any(b[n].point_max is None for b in each) else
+                np.take_along_axis(np.stack([getattr(b[n], p) for b in each]), k[None], 0)[0]
+                for p, k in (("point_max", i), ("point_min", j))]
+        fields[n] = Bounds(np.take_along_axis(hi, i[None], 0)[0], np.take_along_axis(lo, j[None], 0)[0], i, j, *pick)
     return EnvelopeResult(name, tuple(r.name for r in results), fields)
+
+
+from . import stress_field  # noqa: E402,F401  (registers the "stress" field; it imports this module)

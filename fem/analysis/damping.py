@@ -10,12 +10,13 @@ from ..errors import ModelError
 __all__ = ["case_ratios"]
 
 
-def case_ratios(case, omega, below_one: bool = False) -> np.ndarray:
-    """case.damping.ratios(omega), checked. Rayleigh damping through two anchors gives
+def case_ratios(case, omega, below_one: bool = False, added=0.0) -> np.ndarray:
+    """case.damping.ratios(omega) plus the ratios `added` to each mode (the damping of springs
+    between nodes, fem.analysis.spring_damping), checked. Rayleigh damping through two anchors gives
     negative ratios (energy fed in, growth without bound) below the lower anchor when the upper
     ratio is much larger: refused. Ratios of 1 or more (overdamped modes, far outside the
     anchors) are refused too where the method needs `below_one`."""
-    zeta = case.damping.ratios(omega)
+    zeta = case.damping.ratios(omega) + added
     bad = np.flatnonzero((zeta < 0) | ((zeta >= 1) if below_one else False))
     if bad.size:
         j = int(bad[0])

@@ -12,7 +12,7 @@ bending in x-y, bending in x-z), condensed ones too, so the energy splits exactl
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -31,6 +31,7 @@ class Energies:
     spring_strain : (n,) springs to ground at each node
     node_kinetic : (n, 6) point masses and rotary inertias, global ux..rz
     member_axes : (e, 3, 3) local axes (rows x, y, z), to turn member kinds into global directions
+    node_spring_strain : (s,) each spring between two nodes (fem.model.NodeSprings), 0.5 d^T k d
     """
 
     member_strain: np.ndarray
@@ -38,10 +39,11 @@ class Energies:
     spring_strain: np.ndarray
     node_kinetic: np.ndarray
     member_axes: np.ndarray
+    node_spring_strain: np.ndarray = field(default_factory=lambda: np.zeros(0))
 
     @property
     def strain(self) -> float:
-        return float(self.member_strain.sum() + self.spring_strain.sum())
+        return float(self.member_strain.sum() + self.spring_strain.sum() + self.node_spring_strain.sum())
 
     @property
     def kinetic(self) -> float:
@@ -88,4 +90,10 @@ def field_energies(model, field: np.ndarray, matrices=None) -> Energies:
     node = 0.5 * model.point_mass * u ** 2
     if model.mass_coupling is not None:      # a mass off its node: u . (B u) / 2, split by DOF
         node = node + 0.5 * u * np.einsum("nab,nb->na", model.mass_coupling, u)
-    return Energies(strain, kinetic, 0.5 * (model.springs * u ** 2).sum(1), node, R)
+    between = np.zeros(0)
+    if model.node_springs is not None:
+        from ..elements.node_spring import spring_deflections
+
+        d = spring_deflections(model.node_springs, model.coords, u)
+        between = 0.5 * (model.node_springs.k * d ** 2).sum(1)
+    return Energies(strain, kinetic, 0.5 * (model.springs * u ** 2).sum(1), node, R, between)

@@ -10,6 +10,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .spring_damping import spring_ratios
 from .free import free_response, modal_initial_conditions
 from .memory import check_memory
 from .modal_case import ModesCaseResult, field_responses
@@ -48,6 +49,9 @@ class FreeCaseResult:
     inertia_rounding: float = 0.0   # the mismatch rounding alone can leave, on inertia_balance's scale
     inertia_ok: bool = True         # every mode and direction within its limit (inertia_balance_terms)
     stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
+    links: np.ndarray = None        # (d,) largest |force| of the rigid links at their linked DOFs (link_dynamics)
+    link_times: np.ndarray = None   # (d,) s, when
+    springs: object = None          # fem.analysis.spring_forces.SpringForces: peaks over time (None: no springs)
 
 
 BALANCE_TOL = 1e-6        # per-mode reactions vs inertia forces; limited by the eigen residuals
@@ -157,7 +161,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     f = asm.free
     M = asm.M[f][:, f]
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = case_ratios(case, omega, below_one=True)
+    zeta = case_ratios(case, omega, below_one=True, added=spring_ratios(model, modal))
     q0, qd0 = modal_initial_conditions(phi, M, u0[f], v0[f])
     mu = M @ u0[f]
     total = float(u0[f] @ mu)
@@ -168,7 +172,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
                  f"case {case.name}: the free vibration of {len(t):,} steps x {len(omega)} modes x {recorded} "
                  "recorded nodes", f"use a longer step or a shorter duration, fewer modes (count or fmax of "
                  f'{modal.name}), or record fewer nodes (record = "NAME*")')
-    q, _ = free_response(omega, zeta, q0, qd0, t)
+    q, qd = free_response(omega, zeta, q0, qd0, t)
     peak, peak_t = peaks(q, modal.shapes.reshape(6 * model.n_nodes, -1), t)
     record = case.record if case.record is not None else np.arange(model.n_nodes)
     sel = modal.shapes[record]                       # (r, 6, k)
@@ -177,7 +181,13 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     # displacements: peaks of the forces themselves, not forces of the peak displacements
     k = len(omega)
     Rm, Fm = field_responses(model, asm, modal.shapes.reshape(6 * model.n_nodes, -1).T)
-    r_peak, _ = peaks(q, Rm.reshape(k, -1).T, t)
+    from .link_dynamics import inertia_columns
+
+    acc = -omega ** 2 * q - 2 * zeta * omega * qd
+    carried = inertia_columns(model, asm, modal.shapes.reshape(6 * model.n_nodes, -1))
+    # the inertia links and masses off their nodes carry into supports joins the elastic K u
+    r_peak, _ = peaks(q, Rm.reshape(k, -1).T, t) if carried is None else \
+        peaks(np.hstack([q, acc]), np.hstack([Rm.reshape(k, -1).T, carried[0]]), t)
     m_peak, _ = peaks(q, Fm.reshape(k, -1).T, t)
     # the support forces at the start, K u0, against those the retained modes hold, K Phi q0:
     # a load carried by stiffer paths than the retained modes (a vertical load down a mast's legs)
@@ -203,9 +213,14 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     cols = Fm.reshape(k, -1).T
     stresses = series_stresses(model, lambda rows: (q[rows] @ cols.T).reshape(-1, model.n_members, 12), t,
                                linear=(q, cols.T))
+    from .link_dynamics import free_link_peaks
+    from .spring_forces import series_springs
+
+    l_peak, l_time = free_link_peaks(asm, modal.shapes.reshape(6 * model.n_nodes, -1), q, acc, t)
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
                           captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
-                          rel, ft, frames, warnings, start_error, rounding, ok, stresses)
+                          rel, ft, frames, warnings, start_error, rounding, ok, stresses, l_peak, l_time,
+                          springs=series_springs(model, q, modal.shapes.reshape(6 * model.n_nodes, -1), t))
 
 
 def inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:

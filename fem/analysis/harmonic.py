@@ -28,6 +28,7 @@ from ..harmonic_forms import complex_amplitude, growth
 from ..limits import ROWS_LIMIT
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .spring_damping import spring_ratios
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .static import load_vector
@@ -74,6 +75,10 @@ class HarmonicResult:
     listed: bool = False                # the frequencies are the case's list (at), not a sweep
     limits: tuple = ()                  # LimitCheck, ...: the case's vibration limits checked (vibration_check.py)
     stresses: object = None             # fem.analysis.stress.MemberStresses: amplitudes, largest over freq
+    links: np.ndarray = None            # (d,) largest force amplitude of the rigid links at their linked DOFs
+    link_freq: np.ndarray = None        # (d,) Hz, where
+    link_lag: np.ndarray = None         # (d,) degrees, lag there
+    springs: object = None              # fem.analysis.spring_forces.SpringForces: amplitudes (None: no springs)
 
     def velocity(self) -> np.ndarray:
         """(m, r, 3) complex velocity amplitudes of the recorded nodes' translations, m/s:
@@ -238,7 +243,9 @@ def _columns(static, cols, shape):
     (frequencies or 1, *shape)."""
     if isinstance(static, np.ndarray):
         return static[cols][None].reshape(1, *shape)
-    return (static[0] @ static[1][:, cols]).reshape(-1, *shape)
+    # the frequencies counted from the scales: a shape of size 0 (no member at a recorded node)
+    # leaves -1 undetermined
+    return (static[0] @ static[1][:, cols]).reshape(len(static[0]), *shape)
 
 
 def _frequencies(case, omega, zeta, around) -> np.ndarray:
@@ -259,13 +266,15 @@ def _frequencies(case, omega, zeta, around) -> np.ndarray:
 
 
 def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCaseResult,
-                        lu=None, around=()) -> HarmonicResult:
+                        lu=None, around=(), stations: int = 2) -> HarmonicResult:
     """The steady response of harmonic `case` on the modes of `modal`; a sweep is refined around
-    the natural frequencies in it and the frequencies `around` (Hz: declared excitations)."""
+    the natural frequencies in it and the frequencies `around` (Hz: declared excitations).
+    `stations`: along each member, where the per-point stress amplitudes are kept
+    (fem.analysis.stress.harmonic_stresses; more for a case a combination adds)."""
     n6 = 6 * model.n_nodes
     f = asm.free
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = case_ratios(case, omega)
+    zeta = case_ratios(case, omega, added=spring_ratios(model, modal))
     terms = load_terms(model, asm, case)
     freq = _frequencies(case, omega, zeta, tuple(around) + limit_frequencies(case.limits))
     record = case.record if case.record is not None else np.arange(model.n_nodes)
@@ -320,14 +329,21 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         r_static.append(r)
         m_static.append(m)
     r_static, m_static = parts(r_static), parts(m_static)
-    r_peak, r_peak_f, r_peak_c = _amplitude_peaks(H, Rm.reshape(len(omega), -1).T, freq, r_static)
+    from .link_dynamics import harmonic_inertia
+
+    # the inertia links and masses off their nodes carry into supports joins the elastic K u
+    extra = harmonic_inertia(model, asm, case, H, shapes, W, static)
+    Hr, Br = (H, Rm.reshape(len(omega), -1).T) if extra is None else \
+        (np.hstack([H, extra[0]]), np.hstack([Rm.reshape(len(omega), -1).T, extra[1]]))
+    r_peak, r_peak_f, r_peak_c = _amplitude_peaks(Hr, Br, freq, r_static)
     m_peak, m_peak_f, m_peak_c = _amplitude_peaks(H, Fm.reshape(len(omega), -1).T, freq, m_static)
     u = np.einsum("wk,rdk->wrd", H, modal.shapes[record])
     if static is not None:
         u = u + _columns(static, (6 * record[:, None] + np.arange(6)).ravel(), (len(record), 6))
     # complex reactions at every support and end forces of the members at the recorded nodes
-    reactions = (np.einsum("wk,ksd->wsd", H, Rm[:, support])
-                 + _columns(r_static, (6 * support[:, None] + np.arange(6)).ravel(), (len(support), 6)))
+    sdofs = (6 * support[:, None] + np.arange(6)).ravel()
+    reactions = (np.einsum("wk,ksd->wsd", H, Rm[:, support]) + _columns(r_static, sdofs, (len(support), 6))
+                 + (0 if extra is None else (extra[0] @ extra[1][sdofs].T).reshape(len(freq), len(support), 6)))
     # velocity and acceleration of the translations at every node, absolute: with the ground's
     # displacement -a_g / W^2 for a ground acceleration
     moving = (6 * np.arange(model.n_nodes)[:, None] + np.arange(3)).ravel()
@@ -348,7 +364,7 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     else:
         member_forces = (np.einsum("wk,kqc->wqc", H, Fm[:, members])
                          + _columns(m_static, (12 * members[:, None] + np.arange(12)).ravel(), (len(members), 12)))
-    stresses = _stresses(model, H, Fm, m_static, freq)
+    stresses = _stresses(model, H, Fm, m_static, freq, stations)
     complete = modes_complete_to(modal)
     top = float(freq[-1])
     if complete < top:
@@ -362,6 +378,9 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                      f"{complete:.4g} Hz, less than {MARGIN:g} times the top of the sweep ({top:.4g} Hz); "
                      "modes just above the band respond dynamically there, beyond any static correction: "
                      f"ask for modes up to at least {MARGIN * top:.4g} Hz",)
+    from .link_dynamics import harmonic_link_peaks
+
+    lk = harmonic_link_peaks(model, asm, case, H, shapes, W, S, static) or (None, None, None)
     return HarmonicResult(case.name, freq, record, u, peak.reshape(-1, 6), peak_f.reshape(-1, 6),
                           zeta, static is not None, float(omega.max() / (2 * np.pi)),
                           r_peak.reshape(-1, 6), m_peak.reshape(-1, 12), _lags(peak_c).reshape(-1, 6),
@@ -369,10 +388,12 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           m_peak_f.reshape(-1, 12), _lags(m_peak_c).reshape(-1, 12),
                           support, reactions, members, member_forces, warnings, complete,
                           vel.reshape(-1, 3), vel_f.reshape(-1, 3), acc.reshape(-1, 3), acc_f.reshape(-1, 3),
-                          case.ground, case.at is not None, limits, stresses)
+                          case.ground, case.at is not None, limits, stresses, lk[0], lk[1],
+                          None if lk[2] is None else _lags(lk[2]),
+                          springs=_springs(model, H, shapes, freq, static))
 
 
-def _stresses(model, H, Fm, m_static, freq):
+def _stresses(model, H, Fm, m_static, freq, stations=2):
     """Stress amplitudes of every member at every frequency (phases kept), largest over them."""
     from .stress import harmonic_stresses
 
@@ -383,7 +404,20 @@ def _stresses(model, H, Fm, m_static, freq):
         static = m_static if isinstance(m_static, np.ndarray) else (m_static[0][rows], m_static[1])
         return (H[rows] @ cols).reshape(-1, e, 12) + _columns(static, np.arange(12 * e), (e, 12))
 
-    return harmonic_stresses(model, forces, freq)
+    return harmonic_stresses(model, forces, freq, stations)
+
+
+def _springs(model, H, shapes, freq, static):
+    """Amplitudes of the springs between nodes, largest over the frequencies (phases kept)."""
+    from .spring_forces import deflection_matrix, peak_springs
+
+    if model.node_springs is None:
+        return None
+    D = deflection_matrix(model)
+    if static is not None:
+        static = D @ static if isinstance(static, np.ndarray) else (static[0], (D @ static[1].T).T)
+    pk, at, _ = _amplitude_peaks(H, np.asarray(D @ shapes), freq, static)
+    return peak_springs(model, pk, at, "amplitude", "Hz")
 
 
 def modes_complete_to(modal: ModesCaseResult) -> float:

@@ -12,11 +12,13 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .spring_damping import spring_ratios
 from .free_case import frame_indices, peak_index, peaks, step_warnings
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .recurrence import integrate_modal, knot_kicks
 from .static import line_loads, load_vector
+from .spring_forces import series_springs
 from .stress import series_stresses
 
 __all__ = ["HistoryResult", "HistorySeries", "series_basis", "solve_history_case"]
@@ -47,13 +49,17 @@ class HistoryResult:
     warnings: tuple = ()
     stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
     series: HistorySeries = None    # every field at every step, as columns times their histories
+    links: np.ndarray = None        # (d,) largest |force| of the rigid links at their linked DOFs (link_dynamics)
+    link_times: np.ndarray = None   # (d,) s, when
+    springs: object = None          # fem.analysis.spring_forces.SpringForces: peaks over time (None: no springs)
 
 
 class HistorySeries(NamedTuple):
     """The whole response at every step without holding it: q (m, k + l) the histories of the
     k modes then of the l time functions' static parts, and statics[field] (N, l) the static
-    parts' own fields ("displacement" (6n,), "reaction" (6n,), "end_force" (12e,)). With the
-    modes' fields (`series_basis`), field(t_i) = basis[field] @ q[i]."""
+    parts' own fields ("displacement" (6n,), "reaction" (6n,), "end_force" (12e,)) and their
+    members' uniform line loads ("line_load" (3e,), local axes: at step i, statics @ q[i, k:]).
+    With the modes' fields (`series_basis`), field(t_i) = basis[field] @ q[i]."""
 
     q: np.ndarray
     statics: dict
@@ -115,7 +121,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     t = np.arange(0.0, case.duration + 0.5 * dt, dt)
     n = len(t)
     phi, omega = modal.modes.phi, modal.modes.omega
-    zeta = case_ratios(case, omega, below_one=True)
+    zeta = case_ratios(case, omega, below_one=True, added=spring_ratios(model, modal))
     shapes = modal.shapes.reshape(n6, -1)
     k = len(omega)
     fixed = np.zeros(n6, bool)
@@ -161,7 +167,11 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     Rm, Fm = field_responses(model, asm, shapes.T)
     own = {"displacement": np.array(statics).T, "reaction": np.array(r_statics).T, "end_force": np.array(m_statics).T}
     peak, peak_t = peaks(qg, np.hstack([shapes, own["displacement"]]), t)
-    r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, own["reaction"]]), t)
+    from .link_dynamics import inertia_columns
+
+    carried = inertia_columns(model, asm, shapes)     # inertia links and masses off nodes carry into supports
+    r_peak, _ = peaks(qg, np.hstack([Rm.reshape(k, -1).T, own["reaction"]]), t) if carried is None else \
+        peaks(np.hstack([qg, acc, a_ground]), np.hstack([Rm.reshape(k, -1).T, own["reaction"], *carried]), t)
     m_peak, _ = peaks(qg, np.hstack([Fm.reshape(k, -1).T, own["end_force"]]), t)
     stresses = _stresses(model, qg, np.hstack([Fm.reshape(k, -1).T, own["end_force"]]), np.array(G).T,
                          np.array(lines), t)
@@ -180,11 +190,16 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
     # animation frames spaced by the modes that matter, the step of the largest motion among them
     frames = frame_indices(t, q, modal.shapes, omega, [peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
+    from .link_dynamics import history_link_peaks
+
+    l_peak, l_time = history_link_peaks(model, asm, groups, shapes, own["displacement"], qg, acc, a_ground,
+                                        np.array(G).T, t)
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                          t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses,
-                         HistorySeries(qg, own))
+                         HistorySeries(qg, {**own, "line_load": np.array(lines).T}), l_peak, l_time,
+                         springs=series_springs(model, qg, np.hstack([shapes, own["displacement"]]), t))
 
 
 def _stresses(model, qg, columns, G, lines, t):

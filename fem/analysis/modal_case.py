@@ -154,6 +154,9 @@ def effective_load(model: Model, asm: Assembled, case: LoadCase, ground=None) ->
         f = asm.free
         F = F.copy()
         F[f] -= asm.M[f][:, f] @ r.ravel()[f]
+        from .link_dynamics import carried_ground
+
+        F[f] -= carried_ground(model, asm, r.ravel())[f]
     return F
 
 

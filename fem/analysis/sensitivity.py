@@ -35,7 +35,8 @@ The parameters:
 - member mass: the whole mass matrix of the group's members (density and carried mass, rotary
   inertia included).
 - point mass, spring: all entries of one node's point mass and rotary inertia, or of its
-  springs to ground.
+  springs to ground; a spring between two nodes is a parameter of its own, named by the spring
+  (d lambda / d p = phi^T K_spring phi = 2 U_spring, its strain energy in the mode).
 
 Repeated eigenvalues (a round section's two bending planes) have no derivative as a pair of
 separate functions: for each parameter the one-sided derivatives (p increasing) of a cluster of
@@ -203,7 +204,7 @@ def _energy_rows(model, fields, matrices, incidence, point_nodes, spring_nodes):
     for u in fields:
         en = field_energies(model, u, matrices)
         rows_k.append(np.concatenate([2 * (incidence @ en.member_strain[:, c].sum(1)) for c in _MEMBER_COLUMNS.values()]
-                                     + [2 * en.spring_strain[spring_nodes]]))
+                                     + [2 * en.spring_strain[spring_nodes], 2 * en.node_spring_strain]))
         rows_m.append(np.r_[2 * (incidence @ en.member_kinetic.sum(1)), 2 * en.node_kinetic.sum(1)[point_nodes]])
         ms.append(en.member_strain.sum(1))
         mk.append(en.member_kinetic.sum(1))
@@ -280,10 +281,11 @@ def frequency_sensitivity(model, result, groups="member", modes=None, matrices=N
                                             inc, point_nodes, spring_nodes)
                 D[:, a, b] = D[:, b, a] = 0.5 * (np.r_[sk[:, 0], -lc * sm[:, 0]] - diag[:, a] - diag[:, b])
         d_lam[:, cols] = np.linalg.eigvalsh(D)
+    between = [] if model.node_springs is None else list(model.node_springs.names)   # springs between nodes
     kind = np.array(["bending"] * n_g + ["axial"] * n_g + ["torsion"] * n_g + ["spring"] * len(spring_nodes)
-                    + ["member mass"] * n_g + ["point mass"] * len(point_nodes), dtype=object)
+                    + ["spring"] * len(between) + ["member mass"] * n_g + ["point mass"] * len(point_nodes), dtype=object)
     node_names = list(model.node_names)
-    target = np.array(names * 3 + [node_names[i] for i in spring_nodes] + names
+    target = np.array(names * 3 + [node_names[i] for i in spring_nodes] + between + names
                       + [node_names[i] for i in point_nodes], dtype=object)
     # truss-only groups have no bending or torsion stiffness: no rows for them
     keep = np.ones(len(kind), dtype=bool)

@@ -14,8 +14,11 @@ from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import case_ratios
+from .link_dynamics import carried_ground, carried_inertia
+from .spring_damping import spring_ratios
 from .modal_case import ModesCaseResult, field_responses, ground_mass_warnings
 from .modal_sum import combine, combine_directions, cqc_correlation
+from .spring_forces import spectrum_springs
 from .stress import spectrum_stresses
 
 __all__ = ["SpectrumResult", "solve_spectrum_case"]
@@ -50,6 +53,7 @@ class SpectrumResult:
     warnings: tuple = ()
     links: np.ndarray | None = None   # (d,) combined peak forces of the rigid links on their linked DOFs
     stresses: object = None   # fem.analysis.stress.MemberStresses: per-mode stresses, combined
+    springs: object = None    # fem.analysis.spring_forces.SpringForces: per-mode forces, combined (None: no springs)
 
 
 def _base(model, R):
@@ -66,7 +70,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     if np.any(omega <= 0):
         raise ModelError(f"case {case.name}: rigid-body modes have no spectral response; "
                          "support the structure")
-    zeta = case_ratios(case, omega)
+    zeta = case_ratios(case, omega, added=spring_ratios(model, modal))
     T = 2 * np.pi / omega
     outside = []
     if sp.shape == "table":
@@ -84,30 +88,38 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     n6 = 6 * model.n_nodes
     M = asm.M[f][:, f]
     shapes = modal.shapes.reshape(n6, -1)
+    C = carried_inertia(model, asm)
     per_dir_u, per_dir_r, per_dir_m, sas, modal_u, missing_frac = [], [], [], [], [], []
-    per_dir_b, per_dir_l, per_dir_f = [], [], []
+    per_dir_b, per_dir_l, per_dir_f, per_dir_s = [], [], [], []
     for d in range(3):
         factor = case.directions[d]
         if factor == 0:
             continue
         r = np.zeros((model.n_nodes, 6))
         r[:, d] = 1.0
-        r = r.ravel()[f]
-        gamma = phi.T @ (M @ r)                          # (k,) mass-normalised participation
+        r_all = r.ravel()
+        r = r_all[f]
+        # the ground's load M r, with the inertia links and masses off supported nodes carry
+        load = M @ r + carried_ground(model, asm, r_all)[f]
+        gamma = phi.T @ load                             # (k,) mass-normalised participation
         sa = factor * sp(T, zeta)                       # (k,) m/s^2, each at its mode's damping
         U = (shapes * (gamma * sa / omega**2)).T        # (k, 6n) signed modal peaks
         Rm, Fm = field_responses(model, asm, U)
+        if C is not None:           # each mode's equivalent static loads w^2 M U that reach supports
+            Rm = Rm - (omega**2)[:, None, None] * np.asarray(C @ U.T).T.reshape(Rm.shape)
         total = float(r @ (M @ r))
-        missing_frac.append(1 - float(np.sum(gamma**2)) / total if total > 0 else np.nan)   # 0/0: no mass moves
+        gamma0 = phi.T @ (M @ r)
+        missing_frac.append(1 - float(np.sum(gamma0**2)) / total if total > 0 else np.nan)   # 0/0: no mass moves
         if case.missing:
             # residual rigid response: K^-1 M (r - sum gamma phi) at the zero-period acceleration,
             # one more term uncorrelated with every mode: SRSS with the modal combination under
             # srss and cqc, added absolutely under abs
-            dr = r - phi @ gamma
             umm = np.zeros(n6)
-            umm[f] = lu.solve(M @ dr) * factor * sp.zpa()
+            umm[f] = lu.solve(load - M @ (phi @ gamma)) * factor * sp.zpa()
             umm = asm.expand(umm)
             Rmm, Fmm = field_responses(model, asm, umm[None])
+            if C is not None:       # and the rigid part's: with the masses carried into supports
+                Rmm = Rmm - np.asarray(C @ (r_all - shapes @ gamma)).reshape(Rmm.shape) * factor * sp.zpa()
             rho_x = np.zeros((len(omega) + 1, len(omega) + 1))
             rho_x[:-1, :-1] = rho
             rho_x[-1, -1] = 1.0
@@ -128,6 +140,7 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         per_dir_r.append(combine(R2, case.combine, rr))
         per_dir_m.append(combine(F2, case.combine, rr))
         per_dir_f.append((F2, rr))
+        per_dir_s.append((U2, rr))
         per_dir_b.append(combine(_base(model, R2), case.combine, rr))
         sas.append(sa)
         modal_u.append(U.reshape(len(U), -1, 6))
@@ -138,7 +151,8 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           case.missing, np.array(missing_frac), outside,
                           combine_directions(per_dir_b, rule), sp.damping_factor(zeta), warnings,
                           combine_directions(per_dir_l, rule) if per_dir_l else None,
-                          spectrum_stresses(model, per_dir_f, case.combine, rule))
+                          spectrum_stresses(model, per_dir_f, case.combine, rule),
+                          springs=spectrum_springs(model, per_dir_s, case.combine, rule))
 
 
 def _damping_warnings(case, sp, zeta) -> tuple:

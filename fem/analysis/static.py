@@ -133,6 +133,13 @@ def normalised_stiffness(model: Model, asm: Assembled):
     cols = np.r_[np.tile(dofs, (1, 12)).ravel(), np.arange(n)]
     vals = np.r_[kg.ravel(), (model.springs.ravel() > 0).astype(float)]
     Kn = sp.coo_matrix((vals, (rows, cols)), shape=(n, n)).tocsr()
+    ns = model.node_springs
+    if ns is not None and len(ns):  # springs between nodes, each acting direction at unit stiffness
+        from dataclasses import replace
+
+        from ..elements.node_spring import spring_matrix
+
+        Kn = (Kn + spring_matrix(replace(ns, k=(ns.k > 0).astype(float)), model.coords)).tocsr()
     if asm.T is not None:           # through the rigid links, as K itself
         Kn = (asm.T.T @ Kn @ asm.T).tocsr()
     return Kn[asm.free][:, asm.free]
@@ -191,6 +198,8 @@ def stiffness_contrast(model: Model, asm: Assembled) -> float:
     k = asm.k_local
     scale = np.abs(np.diagonal(k, axis1=1, axis2=2)).max(axis=1, initial=0.0)
     scale = np.r_[scale, model.springs[model.springs > 0]]
+    if model.node_springs is not None:
+        scale = np.r_[scale, model.node_springs.k[model.node_springs.k > 0]]
     scale = scale[scale > 0]
     return float(scale.max() / scale.min()) if len(scale) else 1.0
 

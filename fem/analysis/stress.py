@@ -12,8 +12,15 @@ end or where its derivative vanishes: those stations are evaluated in closed for
 largest normal stress of a static case is exact. A round section's extremes are
 N/A +/- sqrt(M_y^2 + M_z^2) c/I, exact at each station; under a line load its stations add the
 eighth points of the member (sampled, not closed form). Where stresses are summed over modes or
-harmonics point by point, a round outline is taken at `ROUND_POINTS` points, every 5 degrees:
-the bending part found is then within 1 - cos 2.5 deg = 0.1 % of the true one, below it.
+harmonics point by point, a round outline is taken as the `ROUND_POINTS` corners of the polygon
+drawn around it (every 5 degrees, at r / cos 2.5 deg): such a sum is a convex function of the
+point (y, z) (a norm of terms linear in y, z), so its largest over the polygon, which holds the
+circle, is at a corner and is never below the true one; above it by at most 1/cos 2.5 deg - 1
+= 0.1 % of the bending part. The per-point peaks of amplitudes and combined peaks at `STATIONS`
+equally spaced stations along each member (`MemberStresses.points`, in `point_table`'s order)
+are kept for combinations (fem.analysis.stress_field): without a line load in the modal or
+harmonic forces, each mode's or harmonic's actions are linear along the member, so they are
+interpolated from the ends exactly.
 Shear and torsion are largest at an end (V linear, T constant).
 
 The equivalent stress sqrt(sigma^2 + 3 tau^2) takes the largest |sigma| and the largest tau of
@@ -44,10 +51,11 @@ import numpy as np
 from ..model import Model
 from .modal_sum import combine, combine_directions
 
-__all__ = ["MemberStresses", "ROUND_POINTS", "harmonic_stresses", "member_stresses", "section_table",
+__all__ = ["MemberStresses", "ROUND_POINTS", "STATIONS", "harmonic_stresses", "member_stresses", "point_table", "section_table",
            "series_stresses", "spectrum_stresses"]
 
 ROUND_POINTS = 72          # points around a round outline (every 5 degrees)
+STATIONS = 9               # stations along a member (its ends and eighth points) of the per-point peaks
 _BLOCK = 100_000           # floats of (steps, members, stations, points) held at once: cache-sized blocks, and
                            # little beside the memory a history or free case holds (history_bytes, free_bytes)
 
@@ -116,20 +124,29 @@ def _groups(tab: SectionTable):
             continue
         sub = replace(tab, **{k: getattr(tab, k)[sel] for k in tab.__dataclass_fields__})
         if sel is rnd:
-            r = sub.radius[:, None]
+            r = sub.radius[:, None] / np.cos(np.pi / ROUND_POINTS)
             sub = replace(sub, py=r * np.cos(theta), pz=r * np.sin(theta), radius=np.zeros_like(sub.radius))
         out.append((sel, sub))
     return out
 
 
-def _point_peaks(tab: SectionTable, ends, reduce):
-    """reduce(sigma (..., e_g, 2, P)) -> (..., e_g) for each group of `_groups`, joined (..., e);
-    `ends` (..., e, 2, 6) internal actions at the ends."""
-    out = np.zeros(ends.shape[:-2], float)
+def _width(tab: SectionTable) -> int:
+    """Points per member in `point_table`'s order."""
+    return max(tab.py.shape[1], ROUND_POINTS if tab.radius.any() else 0)
+
+
+def point_table(tab: SectionTable) -> SectionTable:
+    """`tab` with every member's points in one (e, W) array and no radius: a round outline as
+    the corners of the polygon around it (module docstring), other sections' points repeated
+    to the width W. Point k of a member is column k % P of its group (P its group's count)."""
+    from dataclasses import replace
+
+    e, W = len(tab.A), _width(tab)
+    py, pz = np.zeros((e, W)), np.zeros((e, W))
     for sel, sub in _groups(tab):
-        g = ends[..., sel, :, :]
-        out[..., sel] = reduce(_normal(sub, g[..., 0], g[..., 4], g[..., 5]))
-    return out
+        k = np.arange(W) % sub.py.shape[1]
+        py[sel], pz[sel] = sub.py[:, k], sub.pz[:, k]
+    return replace(tab, py=py, pz=pz, radius=np.zeros_like(tab.radius))
 
 
 @dataclass
@@ -146,6 +163,11 @@ class MemberStresses:
     x : where along the member (m from end i) the largest |sigma| is (nan: not known)
     at : time (s) or frequency (Hz) of the largest equivalent stress, or None; at_unit "s"/"Hz"
     ratio : mises / yield strength (nan where the material declares none)
+    points : (e, S, W) the normal stress peak (>= 0) at each stress point at S stations
+        L j/(S - 1) along the member (S = STATIONS, or 2 for a harmonic case no combination adds),
+        in `point_table`'s order, for amplitudes and combined peaks (None for the others)
+    point : (e,) the stress point of the largest |sigma|, a column of `point_table` (a round
+        outline's extreme fibre to the nearest 5 degrees), or None
     """
 
     basis: str
@@ -162,6 +184,8 @@ class MemberStresses:
     ratio: np.ndarray
     at: np.ndarray | None = None
     at_unit: str = ""
+    points: np.ndarray | None = None
+    point: np.ndarray | None = None
 
     def governing(self) -> int | None:
         """Index of the member with the largest equivalent stress (None if no member has one)."""
@@ -172,6 +196,13 @@ class MemberStresses:
 def _end_actions(F):
     """Internal actions (..., e, 2, 6) at x = 0 and x = L from end forces F (..., e, 12)."""
     return np.stack([-F[..., :6], F[..., 6:]], axis=-2)
+
+
+def _along(ends, stations: int = STATIONS):
+    """Internal actions (..., e, stations, 6) along members without a line load, from those at
+    the ends (..., e, 2, 6): linear between them."""
+    f = np.linspace(0.0, 1.0, stations)[:, None]
+    return ends[..., :1, :] * (1.0 - f) + ends[..., 1:, :] * f
 
 
 def _shear(tab: SectionTable, ends):
@@ -223,14 +254,14 @@ def _actions_at(F, w, x):
     return N, My, Mz
 
 
-def _finish(tab, basis, smax, smin, axial, by, bz, v, t, x, at=None, at_unit=""):
+def _finish(tab, basis, smax, smin, axial, by, bz, v, t, x, at=None, at_unit="", points=None, point=None):
     tau = np.max(v + t, axis=-1) if v.ndim > axial.ndim else v + t
     big = np.maximum(np.abs(smax), np.abs(smin))
     mises = np.sqrt(big**2 + 3 * tau**2)
     nan = ~tab.known
     out = [np.where(nan, np.nan, a) for a in (smax, smin, axial, by, bz, np.max(v, axis=-1) if v.ndim > axial.ndim else v,
                                               np.max(t, axis=-1) if t.ndim > axial.ndim else t, tau, mises, x)]
-    return MemberStresses(basis, *out, out[8] / tab.fy, at, at_unit)
+    return MemberStresses(basis, *out, out[8] / tab.fy, at, at_unit, points, point)
 
 
 def member_stresses(model: Model, forces, w_local=None, *, table: SectionTable | None = None,
@@ -249,15 +280,23 @@ def member_stresses(model: Model, forces, w_local=None, *, table: SectionTable |
     N, My, Mz = _actions_at(F, w, x)
     sig = _normal(tab, N, My, Mz)                            # (e, s, P)
     flat = sig.reshape(*sig.shape[:-2], -1)
+    point = None
     if where:
-        k = np.abs(flat).argmax(axis=-1) // sig.shape[-1]
+        big = np.abs(flat).argmax(axis=-1)
+        k, p = big // sig.shape[-1], big % sig.shape[-1]
         xs = np.take_along_axis(x, k[..., None], axis=-1)[..., 0]
+        # a round outline's extreme fibre: along (-Mz, My) for N/A + b, opposite for N/A - b
+        at = (lambda a: np.take_along_axis(a, k[..., None], axis=-1)[..., 0])
+        deg = np.degrees(np.arctan2(at(My), -at(Mz))) + np.where(p == tab.py.shape[-1] + 1, 180.0, 0.0)
+        point = np.where(tab.radius > 0, np.rint(deg / (360 / ROUND_POINTS)).astype(int) % ROUND_POINTS, p)
     else:
         xs = np.full(flat.shape[:-1], np.nan)
     v, t = _shear(tab, _end_actions(F))
-    return _finish(tab, "exact", flat.max(axis=-1), flat.min(axis=-1), np.abs(N).max(axis=-1) / tab.A,
-                   np.abs(My).max(axis=-1) * tab.zmax / tab.Iy, np.abs(Mz).max(axis=-1) * tab.ymax / tab.Iz,
-                   v, t, xs)
+    out = _finish(tab, "exact", flat.max(axis=-1), flat.min(axis=-1), np.abs(N).max(axis=-1) / tab.A,
+                  np.abs(My).max(axis=-1) * tab.zmax / tab.Iy, np.abs(Mz).max(axis=-1) * tab.ymax / tab.Iz,
+                  v, t, xs)
+    out.point = point
+    return out
 
 
 class _Projected:
@@ -323,31 +362,43 @@ def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s", 
         new = top >= best["mises"]
         best["at"][new] = times[a + i[new]]
         step[new] = a + i[new]
-    for k in np.unique(step[step >= 0]):        # where along each member, at its peak step
+    point = np.zeros(e, int)
+    for k in np.unique(step[step >= 0]):        # where along each member and at which point, at its peak step
         rows = slice(k, k + 1)
         got = member_stresses(model, forces(rows), None if w_local is None else w_local(rows), table=tab)
         best["x"][step == k] = got.x[0, step == k]
+        point[step == k] = got.point[0, step == k]
     keys = ("sigma_max", "sigma_min", "axial", "bending_y", "bending_z", "shear", "torsion", "tau", "mises", "x")
     vals = {k: np.where(tab.known, best[k], np.nan) for k in keys}
-    return MemberStresses("peak over time", **vals, ratio=vals["mises"] / tab.fy, at=best["at"], at_unit=unit)
+    return MemberStresses("peak over time", **vals, ratio=vals["mises"] / tab.fy, at=best["at"], at_unit=unit,
+                          point=point)
 
 
-def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
+def harmonic_stresses(model: Model, forces, freq, stations: int = 2) -> MemberStresses:
     """Amplitudes of a harmonic case: `forces(rows)` gives the complex end-force amplitudes
-    (b, e, 12) at the frequencies `rows` (a slice) of `freq` (m,) Hz. At each frequency the stress at a
+    (b, e, 12) at the frequencies `rows` (a slice) of `freq` (m,) Hz; `points` at `stations`
+    along each member (2: the ends; `STATIONS` for a case a combination adds: each station
+    costs a pass over the frequencies). At each frequency the stress at a
     point is |sum of the complex terms| (phases kept); the largest over the frequencies, with
     the frequency of the largest equivalent stress."""
     tab = section_table(model)
     e, m = model.n_members, len(freq)
-    block = max(1, _BLOCK // max(1, e * 2 * (ROUND_POINTS if tab.radius.any() else tab.py.shape[1])))
+    block = max(1, _BLOCK // max(1, e * stations * (ROUND_POINTS if tab.radius.any() else tab.py.shape[1])))
     keys = ("sigma_max", "axial", "bending_y", "bending_z", "shear", "torsion", "tau", "mises")
     best = {k: np.zeros(e) for k in keys}
     at = np.full(e, np.nan)
+    W = _width(tab)
+    points = np.zeros((e, stations, W))
     for a in range(0, m, block):
         rows = slice(a, min(m, a + block))
         F = forces(rows)
         ends = _end_actions(F)                                     # (b, e, 2, 6) complex
-        smax = _point_peaks(tab, ends, lambda sig: np.abs(sig).reshape(*sig.shape[:-2], -1).max(axis=-1))
+        smax = np.zeros(ends.shape[:-2])
+        for sel, sub in _groups(tab):
+            g = _along(ends[:, sel], stations)
+            amp = np.abs(_normal(sub, g[..., 0], g[..., 4], g[..., 5]))        # (b, e_g, STATIONS, P)
+            smax[:, sel] = amp.reshape(*amp.shape[:-2], -1).max(axis=-1)
+            points[sel] = np.maximum(points[sel], amp.max(axis=0)[..., np.arange(W) % amp.shape[-1]])
         v, t = _shear(tab, ends)
         got = {"sigma_max": smax, "axial": np.abs(ends[..., 0]).max(-1) / tab.A,
                "bending_y": np.abs(ends[..., 4]).max(-1) * tab.zmax / tab.Iy,
@@ -362,7 +413,13 @@ def harmonic_stresses(model: Model, forces, freq) -> MemberStresses:
     vals = {k: np.where(tab.known, best[k], np.nan) for k in keys}
     return MemberStresses("amplitude", vals["sigma_max"], -vals["sigma_max"], vals["axial"], vals["bending_y"],
                           vals["bending_z"], vals["shear"], vals["torsion"], vals["tau"], vals["mises"],
-                          np.full(e, np.nan), vals["mises"] / tab.fy, np.where(tab.known, at, np.nan), "Hz")
+                          np.full(e, np.nan), vals["mises"] / tab.fy, np.where(tab.known, at, np.nan), "Hz",
+                          np.where(tab.known[:, None, None], points, np.nan), _peak_point(points))
+
+
+def _peak_point(points):
+    """The point (a column of `point_table`) of the largest per-point peak of each member."""
+    return points.max(axis=1).argmax(axis=-1)
 
 
 def spectrum_stresses(model: Model, per_direction, rule: str, spatial: str) -> MemberStresses:
@@ -377,12 +434,24 @@ def spectrum_stresses(model: Model, per_direction, rule: str, spatial: str) -> M
              for k, j in (("N", 0), ("My", 4), ("Mz", 5), ("Vy", 1), ("Vz", 2), ("T", 3))}
     c = {k: combine_directions(v, spatial) for k, v in parts.items()}   # (e, 2)
     # the normal stress at each point: per mode, combined over the modes, then the directions
-    smax = np.zeros(e)
+    smax, W = np.zeros(e), _width(tab)
+    points = np.zeros((e, STATIONS, W))
+    from dataclasses import replace
+
+    modes = max([len(a) for a, _ in ends] or [1])
     for sel, sub in _groups(tab):
-        per_dir = [combine(_normal(sub, g[..., 0], g[..., 4], g[..., 5]), rule, rho)
-                   for g, rho in ((a[:, sel], rho) for a, rho in ends)]
-        smax[sel] = combine_directions(per_dir, spatial).reshape(sel.sum(), -1).max(axis=-1)
+        idx = np.flatnonzero(sel)
+        step = max(1, 10 * _BLOCK // (modes * STATIONS * sub.py.shape[1]))   # members per block
+        for first in range(0, len(idx), step):
+            part = replace(sub, **{f: getattr(sub, f)[first:first + step] for f in sub.__dataclass_fields__})
+            rows = idx[first:first + step]
+            per_dir = [combine(_normal(part, g[..., 0], g[..., 4], g[..., 5]), rule, rho)
+                       for g, rho in ((_along(a[:, rows]), rho) for a, rho in ends)]
+            got = combine_directions(per_dir, spatial)                          # (rows, STATIONS, P)
+            smax[rows] = got.reshape(len(rows), -1).max(axis=-1)
+            points[rows] = got[..., np.arange(W) % got.shape[-1]]
     v = tab.ky[:, None] * c["Vy"] + tab.kz[:, None] * c["Vz"]
     t = tab.kt[:, None] * c["T"]
     return _finish(tab, "combined peaks", smax, -smax, c["N"].max(-1) / tab.A, c["My"].max(-1) * tab.zmax / tab.Iy,
-                   c["Mz"].max(-1) * tab.ymax / tab.Iz, v, t, np.full(e, np.nan))
+                   c["Mz"].max(-1) * tab.ymax / tab.Iz, v, t, np.full(e, np.nan),
+                   points=np.where(tab.known[:, None, None], points, np.nan), point=_peak_point(points))

@@ -18,6 +18,7 @@ from .excitations import model_excitations
 from .expressions import Evaluator
 from .links import check_linked_starts, end_offsets, linked_nodes, mass_coupling, read_links, supported_references
 from .model_checks import COINCIDENT
+from .node_springs import read_node_springs
 from .plausible import model_warnings
 
 __all__ = ["build"]
@@ -43,6 +44,8 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
     restraint = _restraints(defs, nidx, notes)
     springs = _springs(defs, nidx, restraint, notes)
     links = read_links(defs, nidx, restraint)
+    node_springs = read_node_springs(defs, nidx)
+    held = springs if node_springs is None else springs + _spring_hold(node_springs, coords)
     linked = linked_nodes(links, len(node_names))
     on_member = np.zeros(len(node_names), bool)
     on_member[conn.ravel()] = True
@@ -52,19 +55,21 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
         if any((vec[3:] > 0).any() for _, vec, _ in defs.masses) else np.ones((len(node_names), 3), bool)
     turned = turned | linked[:, 3:] | _turned_by_links(links, coords)
     # a follower's linked directions move with its reference node, as if held for its mass
-    pmass = _masses(defs, nidx, restraint | linked, springs, on_member, turned, notes)
+    pmass = _masses(defs, nidx, restraint | linked, held, on_member, turned, notes)
     midx = {m["name"]: k for k, m in enumerate(mems)}
     reading = ev.scope()
     cases = [build_case(c, nidx, midx) for c in defs.cases]
     notes.extend(model_checks.loads_on_supports(cases, restraint, node_names))
     check_linked_starts(cases, linked, node_names)
     notes.extend(supported_references(links, restraint, pmass, conn, cases, node_names))
-    used = on_member | restraint.any(axis=1) | (springs > 0).any(axis=1) | (pmass > 0).any(axis=1)
+    used = on_member | restraint.any(axis=1) | (held > 0).any(axis=1) | (pmass > 0).any(axis=1)
     for c in cases:
         for item in c.loads:
             if item.kind in ("force", "moment", "displacement", "velocity"):
                 used[item.targets] = True
     joined = {(min(lk.reference, d), max(lk.reference, d)) for lk in links for d in lk.dependents.tolist()}
+    if node_springs is not None:        # a spring may join two nodes at one place (an isolator)
+        joined |= {(min(a, b), max(a, b)) for a, b in node_springs.nodes.tolist()}
     notes.extend(model_checks.coincident_nodes(defs.nodes, node_names, coords, tol, used, joined))
     names = {c.name for c in cases if c.kind == "static"}
     combinable = {c.name for c in cases if c.kind in COMBINABLE}
@@ -89,7 +94,8 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
                   groups=member_groups(defs), excitations=model_excitations(defs, nidx),
                   cases=cases, combinations=combos, envelopes=envelopes, settings=_settings(defs.settings), warnings=notes,
                   links=links, mass_coupling=mass_coupling(defs, nidx),
-                  offsets=end_offsets(mems, coords, conn, cols["roll"], up, tol), pretension=_pretensions(mems), **cols)
+                  offsets=end_offsets(mems, coords, conn, cols["roll"], up, tol), pretension=_pretensions(mems),
+                  node_springs=node_springs, **cols)
     notes.extend(model_warnings(model, defs.defined, [m["loc"] for m in mems], defs.section_params,
                                 ev.assume_sites.get(U.LENGTH)))
     return model
@@ -97,7 +103,42 @@ def build(defs: Definitions, ev: Evaluator, build_case, notes: list, references:
 
 def _members(defs: Definitions, mems, node_names, nidx, coords, tol, notes):
     """(conn (e, 2), property columns (e,) each, up (e, 3) NaN where not given, releases (e, 12),
-    truss (e,)), each member's nodes, section and material looked up where it names them."""
+    truss (e,)), each member's nodes, section and material looked up where it names them: all
+    members at once, or one by one (_each_member) when one of them is refused, so that the
+    refusal is the first in the deck's order."""
+    e = len(mems)
+    try:
+        conn = np.array([(nidx[m["i"][0]], nidx[m["j"][0]]) for m in mems], int).reshape(e, 2)
+    except KeyError:
+        conn = None
+    pairs = dict.fromkeys((m["section"][0], m["material"][0]) for m in mems)
+    if conn is None or not e or not all(s in defs.sections and t in defs.materials for s, t in pairs):
+        return _each_member(defs, mems, node_names, nidx, coords, tol, notes)
+    axis = coords[conn[:, 1]] - coords[conn[:, 0]]
+    near = np.flatnonzero((conn[:, 0] == conn[:, 1]) | (np.sqrt((axis * axis).sum(axis=1)) <= 2 * tol))
+    if any(conn[k, 0] == conn[k, 1] or float(np.linalg.norm(axis[k])) <= tol for k in near):
+        return _each_member(defs, mems, node_names, nidx, coords, tol, notes)
+    paired, rows = {}, []
+    for s, t in pairs:
+        mat = defs.materials[t]
+        sp = _paired(defs, s, mat, paired, notes)
+        rows.append((mat.E, mat.G, mat.density, sp.A, sp.Iy, sp.Iz, sp.J, sp.Avy, sp.Avz))
+    at = {key: k for k, key in enumerate(pairs)}
+    table = np.array(rows, float)[[at[(m["section"][0], m["material"][0])] for m in mems]]
+    cols = {key: np.ascontiguousarray(table[:, c]) for c, key in enumerate(_COLUMNS[:9])}
+    cols["roll"] = np.array([m["roll"] for m in mems], float)
+    cols["carried_mass"] = np.array([m["carried_mass"] for m in mems], float)
+    releases = np.array([m["releases"] for m in mems], bool).reshape(e, 12)
+    truss = np.array([m["kind"] == "truss" for m in mems], bool)
+    up = np.full((e, 3), np.nan)
+    for k, m in enumerate(mems):
+        if m["up"] is not None:
+            up[k] = _up_vector(m["up"], axis[k] / float(np.linalg.norm(axis[k])), m)
+    return conn, cols, up, releases, truss
+
+
+def _each_member(defs: Definitions, mems, node_names, nidx, coords, tol, notes):
+    """_members one member after another, each refusal raised where the loop meets it."""
     e = len(mems)
     conn = np.zeros((e, 2), int)
     cols = {k: np.zeros(e) for k in _COLUMNS}
@@ -207,6 +248,18 @@ def _springs(defs: Definitions, nidx, restraint, notes) -> np.ndarray:
         if held and len(held) == acting:           # it acts nowhere: every spring of it is held
             notes.append(model_checks.idle_spring(where, held))
     return springs
+
+
+def _spring_hold(ns, coords) -> np.ndarray:
+    """(n, 6) what the springs between nodes hold at each node, global directions: the
+    diagonal of R^T diag(k) R for translations and for rotations (the rigid arms of nodes
+    apart add rotational terms only; a direction held here is held there too)."""
+    sq = ns.axes ** 2                                                   # (s, 3 local, 3 global)
+    d = np.concatenate([np.einsum("sa,sag->sg", ns.k[:, :3], sq), np.einsum("sa,sag->sg", ns.k[:, 3:], sq)], axis=1)
+    out = np.zeros((len(coords), 6))
+    for end in (0, 1):
+        np.add.at(out, ns.nodes[:, end], d)
+    return out
 
 
 def _masses(defs: Definitions, nidx, restraint, springs, on_member, turned, notes) -> np.ndarray:

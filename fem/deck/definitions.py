@@ -32,6 +32,7 @@ class Definitions:
         self.masses: list = []                         # (target, (m, m, m, Ixx, Iyy, Izz), where)
         self.off_masses: list = []                     # (target, m, inertia (3,), offset (3,), where)
         self.links: list = []                          # (name, reference token, [targets], dirs, where)
+        self.node_springs: list = []                   # (name, node A, node B, k (6,), axes (3, 3), zeta, where)
         self.cases: list = []                          # (name, kind, items, where, assumed, scope)
         self.combos: list = []                         # (name, tree, where, scope)
         self.envelopes: list = []                      # (name, [(case name, where)], where)

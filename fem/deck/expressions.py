@@ -13,7 +13,10 @@ import numpy as np
 from lark import Token, Tree
 
 from ..errors import DeckError, Location, suggest
+from . import literals
 from . import units as U
+from .compiled import binary as _binary
+from .compiled import compiled
 from .units import Quantity
 
 __all__ = ["MAX_NESTING", "WILD", "Evaluator", "too_deep"]
@@ -48,6 +51,7 @@ class Evaluator:
         self.quantities: dict[str, Quantity] = {}      # literal text -> value, e.g. "6 m"
         self.overrides = self.override_trees(let or {})  # name -> (text, expression tree) from --set
         self.overridden: dict[str, str] = {}           # the overrides used, name -> text, in deck order
+        self._fast: dict[int, tuple] = {}              # id(tree) -> (tree, compiled), in loops
 
     # ---------- scopes
     def scope(self) -> tuple:
@@ -165,13 +169,30 @@ class Evaluator:
 
     # ---------- values
     def evaluate(self, t) -> Quantity:
+        """The value of expression tree `t`. Inside loops each tree is compiled once into nested
+        closures (fem/deck/compiled.py) that the later passes call; any failure of theirs is worked out again
+        by the tree walk, which gives the located error."""
+        if self.loop_vars and isinstance(t, Tree):
+            fast = self._fast.get(id(t))
+            if fast is None or fast[0] is not t:
+                fast = self._fast[id(t)] = (t, compiled(self, t))     # the tree kept: its id stays its own
+            try:
+                return fast[1]()
+            except Exception:   # noqa: BLE001 - the walk below raises the located error
+                pass
+        return self.walk(t)
+
+    def walk(self, t) -> Quantity:
         if isinstance(t, Token):
             raise DeckError(f"expected a value, found {t!s}", self.loc(t))
         d = t.data
         ch = t.children
         try:
             if d == "number":
-                v = _literal(str(ch[0]), self.loc(t))
+                try:
+                    v = literals.number(str(ch[0]))
+                except literals.LiteralError as exc:
+                    raise DeckError(exc.message, self.loc(t), exc.hint) from None
                 return Quantity(v, WILD if v == 0 else U.NONE)
             if d == "quantity":
                 return self.quantity(ch[0])
@@ -229,21 +250,10 @@ class Evaluator:
         known = self.quantities.get(text)
         if known is not None:            # loops read the same literals over and over
             return known
-        i = 0
-        while i < len(text) and (text[i].isdigit() or text[i] in ".eE+-") and not (
-                text[i] in "eE" and (i + 1 >= len(text) or not (text[i + 1].isdigit() or text[i + 1] in "+-"))):
-            i += 1
-        value, unit = _literal(text[:i], self.loc(tok)), text[i:].strip()
-        q = Quantity(value)
-        for k, part in enumerate(_split_unit(unit)):
-            op, sym, power = part
-            base = U.unit_value(sym)
-            if base is None:
-                raise DeckError(f"unknown unit '{sym}'; {suggest(sym, U.UNITS)}", self.loc(tok))
-            base = base ** Quantity(power)
-            q = q * base if op == "*" else q / base
-        if not math.isfinite(q.value) or (q.value == 0 and value != 0):
-            raise DeckError(f"{text} is beyond the range of numbers once converted to SI units", self.loc(tok))
+        try:
+            q = literals.quantity(text)
+        except literals.LiteralError as exc:
+            raise DeckError(exc.message, self.loc(tok), exc.hint) from None
         self.quantities[text] = q
         return q
 
@@ -281,22 +291,28 @@ class Evaluator:
 
     def value(self, t, dim, what: str) -> float:
         """Evaluate t and check it has dimension `dim`; return the SI float."""
-        q = self.evaluate(t)
+        return self.si(self.evaluate(t), dim, what, t)
+
+    def si(self, q: Quantity, dim, what: str, t=None) -> float:
+        """The SI float of `q`, the value of `t` (the tree refusals point at), as `dim`."""
         if q.dim is WILD or q.dim == dim:
             v = q.value
         elif q.dim == U.NONE and (f := self.assumed_factor(dim)) is not None:
             v = q.value * f
         elif q.dim == U.NONE:
             example, assume = U.UNIT_EXAMPLES.get(dim, ("6 m", "length in m"))
-            raise DeckError(f"{what} needs {U.dim_name(dim)}, but a bare number was given", self.loc(t),
+            raise DeckError(f"{what} needs {U.dim_name(dim)}, but a bare number was given", self._at(t),
                             f"write the unit after the number, e.g. '{example}'"
                             + (f", or declare 'assume {assume}'" if assume else ""))
         else:
-            raise DeckError(f"{what} needs {U.dim_name(dim)}, but {U.dim_name(q.dim)} was given", self.loc(t),
+            raise DeckError(f"{what} needs {U.dim_name(dim)}, but {U.dim_name(q.dim)} was given", self._at(t),
                             U.unit_remedy(dim, q.dim))
         if not math.isfinite(v):
-            raise DeckError(f"{what} is not a finite number", self.loc(t))
+            raise DeckError(f"{what} is not a finite number", self._at(t))
         return v
+
+    def _at(self, t) -> Location | None:
+        return None if t is None else self.loc(t)
 
     def angle(self, t, what: str) -> float:
         """An angle in rad, written with its unit (30 deg, 0.5 rad) or from a parameter or function;
@@ -433,18 +449,6 @@ def _g(v: float) -> str:
     return f"{v:g}"
 
 
-def _literal(text: str, where: Location) -> float:
-    """A number as written in the deck; one that overflows to inf or underflows to 0 is refused
-    rather than silently changed."""
-    v = float(text)
-    if math.isinf(v):
-        raise DeckError(f"the number {text} is too large (numbers reach about {_FLOAT_MAX:.1e})", where)
-    if v == 0 and re.search(r"[1-9]", re.split(r"[eE]", text)[0]):
-        raise DeckError(f"the number {text} is too small to hold (the smallest is about 5e-324)", where,
-                        "write 0 if zero is meant")
-    return v
-
-
 def too_deep(tree: Tree):
     """(the outermost expression or loop nested deeper than MAX_NESTING levels, its depth), or None."""
     height = {}
@@ -459,35 +463,3 @@ def too_deep(tree: Tree):
             return (sub, height[id(sub)]) if sub.data == "loop" else None
         sub = deeper[0]
     return None
-
-
-def _binary(a: Quantity, b: Quantity, op: str) -> Quantity:
-    if op in ("__add__", "__sub__"):
-        if a.dim is WILD:
-            a = Quantity(a.value, b.dim)
-        if b.dim is WILD:
-            b = Quantity(b.value, a.dim)
-        if a.dim is WILD:
-            return Quantity(getattr(a.value, op)(b.value), WILD)
-    elif op == "__pow__":
-        a = Quantity(a.value, U.NONE if a.dim is WILD else a.dim)
-        b = Quantity(b.value, U.NONE)
-    else:
-        if a.dim is WILD or b.dim is WILD:
-            if op == "__truediv__" and b.value == 0:
-                raise ArithmeticError("division by zero")
-            return Quantity(0.0 if a.value == 0 else getattr(a.value, op)(b.value), WILD)
-    return getattr(a, op)(b)
-
-
-def _split_unit(unit: str):
-    """'kg/m^3' -> [('*','kg',1), ('/','m',3)]"""
-    out, op, buf = [], "*", ""
-    for ch in unit + "*":
-        if ch in "*/":
-            sym, _, p = buf.partition("^")
-            out.append((op, sym, int(p) if p else 1))
-            op, buf = ch, ""
-        else:
-            buf += ch
-    return out

@@ -156,10 +156,11 @@ def end_offsets(mems, coords, conn, roll, up, tol: float) -> np.ndarray | None:
 
 def supported_references(links, restraint, pmass, conn, cases, node_names) -> list[Note]:
     """A note for each link whose reference node a support holds while mass follows it (a point
-    mass or a member at a follower) in a deck with response cases: their reactions there are
-    the elastic forces K u (as at every support), which leave out the inertia the link carries
-    from its followers' masses into the support."""
-    dynamic = [c.name for c in cases if c.kind in ("free", "history", "harmonic", "spectrum")]
+    mass or a member at a follower) in a deck with spectrum cases without the missing-mass term:
+    their reactions there leave out the inertia of the followers' masses moving with the support,
+    which no mode holds (free, history and harmonic cases, and spectrum cases with `missing = on`,
+    add it: fem.analysis.link_dynamics.carried_inertia)."""
+    dynamic = [c.name for c in cases if c.kind == "spectrum" and not c.missing]
     if not dynamic:
         return []
     out = []
@@ -170,8 +171,8 @@ def supported_references(links, restraint, pmass, conn, cases, node_names) -> li
         if held.any() and carried[link.dependents].any():
             dirs = ", ".join(d for d, h in zip(DIRECTIONS, held) if h)
             out.append(Note(link.location, f"link {link.name}: its reference node {node_names[link.reference]} is "
-                            f"supported ({dirs}) and mass follows the link, so the reactions of the response cases "
-                            f"({', '.join(dynamic)}) at that node leave out the inertia of that mass (reactions are "
-                            "the elastic forces K u); displacements, member forces and static reactions are exact; "
-                            "to see those forces, put the support at a node the followers reach through members"))
+                            f"supported ({dirs}) and mass follows the link, so the reactions of the spectrum cases "
+                            f"({', '.join(dynamic)}) at that node leave out the inertia of that mass moving with the "
+                            "support, which no mode holds; set missing = on in them to add it (the rigid response "
+                            "of what the modes leave out)"))
     return out

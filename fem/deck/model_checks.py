@@ -221,3 +221,22 @@ def massless_materials(materials: dict, defined: dict, mems, carried_mass, modal
             out.append(Note(where, f"material {name} has zero density, so {count} member(s) of it carry no mass in "
                                    f"modes case {', '.join(modal)}; give its density if their mass matters"))
     return out
+
+
+def released_motion(released: np.ndarray) -> str | None:
+    """A rigid motion of a member that its end releases (12,) leave free, in words, or None.
+
+    The member's rigid motions (translation a, rotation t; end j moves by a + t x L e_x) must
+    each move some end DOF that is kept, else the released block of its stiffness is singular."""
+    if not released.any():
+        return None                       # no releases: every rigid motion moves a kept DOF
+    G = np.zeros((12, 6))
+    G[0:3, 0:3] = G[6:9, 0:3] = G[3:6, 3:6] = G[9:12, 3:6] = np.eye(3)
+    G[7, 5], G[8, 4] = 1.0, -1.0          # t_z moves end j along local y, t_y against local z
+    kept = G[~released]
+    if len(kept) >= 6 and np.linalg.matrix_rank(kept) == 6:
+        return None
+    v = np.linalg.svd(np.vstack([kept, np.zeros((6, 6))]))[2][-1]
+    words = ["slide along its axis", "move along its local y", "move along its local z",
+             "twist about its axis", "turn about its local y", "turn about its local z"]
+    return words[int(np.argmax(np.abs(v)))]

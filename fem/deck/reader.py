@@ -16,6 +16,8 @@ The reader in parts, in the order a deck flows through them::
 
 from __future__ import annotations
 
+import gc
+from contextlib import contextmanager
 from pathlib import Path
 
 from ..errors import DeckError
@@ -24,6 +26,7 @@ from ..notes import Note
 from .build import build
 from .case_options import CaseOptions
 from .definitions import Definitions
+from . import fast_lines
 from .expressions import Evaluator
 from .sources import Sources, file_name
 from .statements import Statements
@@ -101,21 +104,59 @@ def read_deck(path, let: dict | None = None) -> Model:
         raise DeckError(f"deck '{path}' cannot be read: {exc.strerror}") from None
     if not there:
         raise DeckError(f"deck '{path}' does not exist")
-    r = _Reader(path, let)
-    r.statements.read_file(path)
-    model = r.model()
+    with _collector_paused():
+        model = _reference_on_error(lambda: _read_file(path, let))
     model.source = str(path)
     return model
+
+
+def _read_file(path: Path, let: dict | None) -> Model:
+    r = _Reader(path, let)
+    r.statements.read_file(path)
+    return r.model()
 
 
 def read_text(text: str, name: str = "deck.deck", folder: str | Path = ".", let: dict | None = None) -> Model:
     """Read a deck from a string (used by tests); includes resolve relative to `folder`;
     `let` overrides parameters as in read_deck."""
     path = Path(folder) / name
+    with _collector_paused():
+        return _reference_on_error(lambda: _read_string(text, path, let))
+
+
+def _read_string(text: str, path: Path, let: dict | None) -> Model:
     r = _Reader(path, let)
-    r.sources.lines[path.resolve()] = text.splitlines()
-    with r.sources.reading(path.resolve()):
-        for stmt in r.sources.parse(text, path).children:
-            r.statements.statement(stmt)
-    with r.sources.reading(path.resolve()):      # the deck's own file for what has no other
+    where = path.resolve()
+    r.sources.lines[where] = text.splitlines()
+    with r.sources.reading(where):
+        tree, quick = r.sources.read(text, path)
+        r.statements.run(tree.children, quick, where)
+    with r.sources.reading(where):      # the deck's own file for what has no other
         return r.model()
+
+
+def _reference_on_error(read):
+    """read(), and when it refuses the deck, the refusal of the reference reading (lark for every
+    statement, fem/deck/fast_lines.py), so that a user sees the same error either way."""
+    if not fast_lines.quick():
+        return read()
+    try:
+        return read()
+    except Exception:   # noqa: BLE001 - a refusal, or a fault of the quick reader: lark's reading decides
+        pass
+    with fast_lines.lark_only():
+        return read()
+
+
+@contextmanager
+def _collector_paused():
+    """The garbage collector paused while a deck is read: the parse tree, the tokens and the
+    definitions are a million or more objects in a large deck, which each collection would scan
+    again, and reading makes no reference cycles worth collecting meanwhile."""
+    enabled = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if enabled:
+            gc.enable()

@@ -18,6 +18,7 @@ from pathlib import Path
 from lark import Lark, Token, Tree
 
 from ..errors import DeckError, Location
+from . import fast_lines
 from .expressions import MAX_NESTING, too_deep
 from .syntax import keyword_callbacks
 from .syntax import parse as parse_deck_text
@@ -25,11 +26,13 @@ from .syntax import parse as parse_deck_text
 __all__ = ["MAX_DECK_BYTES", "MAX_TABLE_BYTES", "Sources", "build_parser", "file_name", "parses_kept", "read_utf8",
            "resolved"]
 
-# Our choice, from a measurement: a generated deck of node lines parsed at about 10-15 s and
-# 170 MB of memory per MB of deck (2-core machine shared with other jobs, load 4-9); `quaver
-# check` of an 8 MB one (176 000 node lines) took 190 s with a peak of 1.36 GB. So 8 MB, the
-# deck and its includes together, reads in minutes within about 1.5 GB; a deck of a hundred
-# thousand members written out line by line fits, and loops keep larger models short.
+# Our choice, from a measurement (2-core machine shared with other jobs, load 8-12): a generated
+# deck of 7.7 MB (90 000 node and 90 000 member lines) read in 8.9 s with a peak of 502 MB, the
+# one-line statements by the quick reader (fem/deck/fast_lines.py); the same deck read by lark
+# alone, as blocks, expressions and loops are, took 62 s and 1.08 GB, about 140 MB per MB. So
+# 8 MB, the deck and its includes together, reads in a minute or less within about 1.1 GB; a
+# deck of a hundred thousand members written out line by line fits, and loops keep larger
+# models short.
 MAX_DECK_BYTES = 8_000_000
 # Our choice: a table (two numbers a row, ~25 bytes) of 32 MB holds over a million rows, e.g.
 # 20 minutes of a record sampled at 1 kHz; read row by row at ~6 bytes of memory per byte.
@@ -105,10 +108,12 @@ class Sources:
         self.token_file: dict[int, Path] = {}
         self.deck_bytes = 0                            # bytes of deck text read so far (all files)
         self._shown: dict[Path, str] = {}
+        self._located: dict[int, tuple] = {}           # id(item) -> (item, file, Location), in loops
+        self.repeating = 0                             # loops running (their items are located again)
 
-    def load(self, path: Path, where: Location | None = None) -> tuple[Path, Tree]:
+    def load(self, path: Path, where: Location | None = None) -> tuple[Path, Tree, list]:
         """The deck file at `path` (the top deck, or an include named at `where`) checked, read
-        and parsed, its tokens located: (its resolved path, its tree)."""
+        and parsed, its tokens located: (its resolved path, lark's tree, the quick lines)."""
         path = resolved(path, "include" if where else "deck", where)
         if path in self.stack:
             raise DeckError(f"'{self.shown(path)}' includes itself (through {' -> '.join(self.shown(p) for p in self.stack)})", where)
@@ -122,9 +127,30 @@ class Sources:
                          total=self.deck_bytes)
         self.deck_bytes += len(text.encode("utf-8", errors="surrogatepass"))
         self.lines[path] = text.splitlines()
-        tree = self.parse(text, path)
+        tree, quick = self.read(text, path)
         self.mark(tree, path)
-        return path, tree
+        return path, tree, quick
+
+    def read(self, text: str, path: Path) -> tuple[Tree, list]:
+        """A deck file's text parsed: (lark's tree of what the quick line reader leaves to it, the
+        quick lines in order; fem/deck/fast_lines.py). A line that a statement of lark's spans is
+        given back to lark; a cut text that lark refuses is parsed whole, so its error is lark's."""
+        if not fast_lines.quick():
+            return self.parse(text, path), []
+        skip = frozenset()
+        for _ in range(3):
+            cut, quick = fast_lines.cut(text, skip)
+            if not quick:
+                break
+            try:
+                tree = self.parse(cut, path)
+            except DeckError:
+                break
+            spanned = fast_lines.spanned(tree, quick)
+            if not spanned:
+                return tree, quick
+            skip |= spanned
+        return self.parse(text, path), []
 
     def mark(self, tree: Tree, path: Path) -> None:
         """Remember each item's file, once per file."""
@@ -146,6 +172,15 @@ class Sources:
     def loc(self, item) -> Location:
         meta = getattr(item, "meta", None)
         path = self.token_file.get(id(item)) or getattr(meta, "qfile", None) or self.stack[-1]
+        known = self._located.get(id(item))
+        if known is not None and known[0] is item and known[1] == path:
+            return known[2]                  # a loop's statement, located again on every pass
+        where = self._locate(item, path)
+        if self.repeating:
+            self._located[id(item)] = (item, path, where)     # the item kept, so its id stays its own
+        return where
+
+    def _locate(self, item, path: Path) -> Location:
         if isinstance(item, Token):
             line, col = item.line, item.column
         else:
@@ -293,8 +328,8 @@ def _small_enough(size: int, path: Path, what: str, where: Location | None, limi
     if what == "deck":
         whole = f"the deck and its includes would be over {_mb(total + size)}" if total else \
             f"the deck '{path.name}' is {_mb(size)}"
-        raise DeckError(f"{whole}, above the limit of {_mb(cap)} of deck text (reading takes about 170 MB of "
-                        "memory per MB)", where, "write repeated nodes and members with for loops, which keeps "
+        raise DeckError(f"{whole}, above the limit of {_mb(cap)} of deck text (reading takes up to about 140 MB "
+                        "of memory per MB)", where, "write repeated nodes and members with for loops, which keeps "
                         "a deck of any model size short")
     raise DeckError(f"table '{path.name}' is {_mb(size)}, above the limit of {_mb(cap)} for a table", where,
                     "thin the record to the time step the case uses, or cut it to the part of interest")

@@ -16,11 +16,14 @@ from ..geometry import offset_mass
 from ..model import DIRECTIONS, Material, Section
 from ..notes import Note
 from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entry, make_section
+from . import fast_lines
 from . import units as U
 from .definitions import Definitions
 from .excitations import excitation_statement
 from .expressions import WILD, Evaluator
 from .links import end_offset, link_statement
+from .model_checks import released_motion
+from .node_springs import node_spring_statement
 from .sources import Sources, file_name
 
 __all__ = ["CASE_KINDS", "LOOP_STATEMENTS", "MAX_COORDINATE", "Statements"]
@@ -29,9 +32,9 @@ __all__ = ["CASE_KINDS", "LOOP_STATEMENTS", "MAX_COORDINATE", "Statements"]
 # cubed in the stiffness) well inside the floating-point range.
 MAX_COORDINATE = 1e9
 # Statements a deck's loops may execute in all, nested loops and included files counted pass by
-# pass (our choice): reading takes some 30-100 us a statement, so this bounds a deck to a minute
-# or two, while a model of a hundred thousand members and nodes is far inside it. A mistyped
-# range (0..999999 nested twice) is refused at once instead of running for days.
+# pass (our choice): a node or member in a loop reads in about 20 us (deck_reading.py, load 8-12),
+# so this bounds a deck's loops to a minute or less, while a model of a hundred thousand members
+# and nodes is far inside it. A mistyped range (0..999999 nested twice) is refused at once.
 LOOP_STATEMENTS = 1_000_000
 CASE_KINDS = ("static", "modes", "free", "history", "harmonic", "spectrum", "buckling")
 
@@ -49,10 +52,18 @@ class Statements:
 
     def read_file(self, path: Path, where: Location | None = None) -> None:
         """Run the statements of the deck file at `path` (an include when `where` names it)."""
-        path, tree = self.sources.load(path, where)
+        path, tree, quick = self.sources.load(path, where)
         with self.sources.reading(path):
-            for stmt in tree.children:
-                self.statement(stmt)
+            self.run(tree.children, quick, path)
+
+    def run(self, stmts, quick: list, path: Path) -> None:
+        """Run a file's statements, lark's `stmts` and the `quick` lines, in the file's order."""
+        shown, src = self.sources.shown(path), self.sources.lines[path]
+        for item in fast_lines.in_order(stmts, quick):
+            if isinstance(item, Tree):
+                self.statement(item)
+            else:
+                fast_lines.run(self, item, path, shown, src)
 
     def statement(self, s: Tree) -> None:
         if self.loop_sites:
@@ -236,26 +247,38 @@ class Statements:
     # ---------- nodes and members
     def st_node(self, s):
         name = self.ev.name(s.children[0])
-        self.defs.define("node", "node", name, self.loc(s))
-        self.defs.not_a_group(name, "node", self.loc(s))
-        xyz = self.ev.vector(s.children[1], U.LENGTH, f"node {name}")
-        if np.abs(xyz).max() > MAX_COORDINATE:
+        where = self.loc(s)
+        self.new_name("node", name, where)
+        self.place_node(name, self.ev.vector(s.children[1], U.LENGTH, f"node {name}"), where)
+
+    def new_name(self, kind: str, name: str, where: Location) -> None:
+        """A node's or member's name defined at `where` (once, and not a group's)."""
+        self.defs.define(kind, kind, name, where)
+        self.defs.not_a_group(name, kind, where)
+
+    def place_node(self, name: str, xyz: np.ndarray, where: Location) -> None:
+        if max(map(abs, xyz.tolist())) > MAX_COORDINATE:     # finite values: as np.abs(xyz).max()
             raise DeckError(f"node {name}: a coordinate of {np.abs(xyz).max():.3g} m is beyond any structure "
-                            f"(the limit is {MAX_COORDINATE:g} m)", self.loc(s), "check the units of the coordinates")
-        self.defs.nodes[name] = (xyz, self.loc(s))
+                            f"(the limit is {MAX_COORDINATE:g} m)", where, "check the units of the coordinates")
+        self.defs.nodes[name] = (xyz, where)
+
+    @staticmethod
+    def plain_member(name: str, i, j, kind: str, section, material, where: Location) -> dict:
+        """A member's record before its options: ends, section and material as (name, token)."""
+        return dict(name=name, i=i, j=j, kind=kind, section=section, material=material, roll=0.0, up=None,
+                    carried_mass=0.0, releases=np.zeros(12, bool), loc=where, pretension=0.0)
 
     def st_member(self, s):
         ch = s.children
         ev = self.ev
         name = ev.name(ch[0])
-        self.defs.define("member", "member", name, self.loc(s))
-        self.defs.not_a_group(name, "member", self.loc(s))
+        where = self.loc(s)
+        self.new_name("member", name, where)
         kind = str(ch[3])
         if kind not in ("beam", "truss"):
             raise DeckError(f"member {name}: kind must be 'beam' or 'truss', not '{kind}'", self.loc(ch[3]))
-        m = dict(name=name, i=(ev.name(ch[1]), ch[1]), j=(ev.name(ch[2]), ch[2]), kind=kind,
-                 section=(ev.name(ch[4]), ch[4]), material=(ev.name(ch[5]), ch[5]),
-                 roll=0.0, up=None, carried_mass=0.0, releases=np.zeros(12, bool), loc=self.loc(s), pretension=0.0)
+        m = self.plain_member(name, (ev.name(ch[1]), ch[1]), (ev.name(ch[2]), ch[2]), kind,
+                              (ev.name(ch[4]), ch[4]), (ev.name(ch[5]), ch[5]), where)
         seen = set()
         for opt in ch[6:]:
             if opt.data == "release":
@@ -297,7 +320,7 @@ class Statements:
         if kind == "truss" and "offsets" in m:
             raise DeckError(f"member {name}: a truss member carries its force along the line between its nodes, so "
                             "it takes no end offsets", self.loc(s), "make it a beam, or move its nodes")
-        motion = _released_motion(m["releases"]) if kind == "beam" else None
+        motion = released_motion(m["releases"]) if kind == "beam" else None
         if motion:
             raise DeckError(f"member {name}: its end releases let it {motion} with nothing to resist it", self.loc(s),
                             "release a direction at one end only (a hinge keeps the other end's rotations)")
@@ -335,6 +358,7 @@ class Statements:
             not_huge(vals[d], f"spring {d}", self.loc(kw))
         self.defs.springs.append((self.fixed_name(target), vals, self.loc(s)))
 
+    st_node_spring = node_spring_statement      # fem/deck/node_springs.py
     def st_mass(self, s):
         target, value, *opts = s.children
         m = self.ev.value(value, U.MASS, "mass")
@@ -353,20 +377,24 @@ class Statements:
                 raise DeckError(f"mass: unknown option '{opt.children[0]}'; use inertia = (Ixx, Iyy, Izz) or "
                                 "offset = (dx, dy, dz)", self.loc(opt))
             inertia = self.ev.vector(opt.children[1], (1, 2, 0), "mass inertia")
+        self.add_mass(target, m, inertia, offset, self.loc(s))
+
+    def add_mass(self, target, m: float, inertia: np.ndarray, offset, where: Location) -> None:
+        """A point mass `m` with its `inertia` (3,) about its centre, `offset` (3,) from its node or None,
+        at `target` as written (its indices worked out now)."""
         if m < 0 or (inertia < 0).any():
-            raise DeckError("a mass or inertia cannot be negative", self.loc(s))
+            raise DeckError("a mass or inertia cannot be negative", where)
         for v in (m, *inertia):
-            not_huge(v, "mass", self.loc(s))
+            not_huge(v, "mass", where)
+        target = self.fixed_name(target)
         about_node = inertia
         if offset is not None and offset.any():
             # the inertia about the node (parallel axes); the coupling terms are built with the model
             about_node = np.diagonal(offset_mass([m], [inertia], [offset])[0])[3:]
-            self.defs.off_masses.append((self.fixed_name(target), m, inertia, offset, self.loc(s)))
-        self.defs.masses.append((self.fixed_name(target), np.r_[m, m, m, about_node], self.loc(s)))
+            self.defs.off_masses.append((target, m, inertia, offset, where))
+        self.defs.masses.append((target, np.r_[m, m, m, about_node], where))
 
-    def st_link(self, s):
-        link_statement(self, s)
-
+    st_link = link_statement                    # fem/deck/links.py
     def st_group(self, s):
         defs = self.defs
         name = self.ev.name(s.children[0])
@@ -435,6 +463,7 @@ class Statements:
         name = str(var)
         with ev.counter(name):
             self.loop_sites.append(self.loc(s))
+            self.sources.repeating += 1
             try:
                 for k in range(int(a.value), int(b.value) + 1):
                     ev.count(name, k)
@@ -442,6 +471,7 @@ class Statements:
                         self.statement(st)
             finally:
                 self.loop_sites.pop()
+                self.sources.repeating -= 1
 
 
 def not_huge(v: float, what: str, where: Location) -> None:
@@ -454,23 +484,6 @@ def not_huge(v: float, what: str, where: Location) -> None:
 
 _LOOP_HINT = (f"check the loop ranges: a deck's loops may execute at most {LOOP_STATEMENTS:,} statements, "
               "which keeps a mistyped range from running for hours")
-
-
-def _released_motion(released: np.ndarray) -> str | None:
-    """A rigid motion of a member that its end releases (12,) leave free, in words, or None.
-
-    The member's rigid motions (translation a, rotation t; end j moves by a + t x L e_x) must
-    each move some end DOF that is kept, else the released block of its stiffness is singular."""
-    G = np.zeros((12, 6))
-    G[0:3, 0:3] = G[6:9, 0:3] = G[3:6, 3:6] = G[9:12, 3:6] = np.eye(3)
-    G[7, 5], G[8, 4] = 1.0, -1.0          # t_z moves end j along local y, t_y against local z
-    kept = G[~released]
-    if len(kept) >= 6 and np.linalg.matrix_rank(kept) == 6:
-        return None
-    v = np.linalg.svd(np.vstack([kept, np.zeros((6, 6))]))[2][-1]
-    words = ["slide along its axis", "move along its local y", "move along its local z",
-             "twist about its axis", "turn about its local y", "turn about its local z"]
-    return words[int(np.argmax(np.abs(v)))]
 
 
 def _family_ranges() -> str:

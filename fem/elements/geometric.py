@@ -9,8 +9,10 @@ in each bending plane (N/L) [[6/5, L/10, -6/5, L/10], [L/10, 2L^2/15, -L/10, -L^
 (Przemieniecki, Theory of Matrix Structural Analysis, 1968, sec. 15.3; McGuire, Gallagher and
 Ziemian, Matrix Structural Analysis, 2nd ed., 2000, sec. 9.3 and eq. 9.19), plus the twist term
 N Ip / (A L) [[1, -1], [-1, 1]] of a section whose shear centre is its centroid (the same
-source, from memory): a compressed member twists more easily (torsional buckling at
-N = G J A / Ip without warping stiffness). The end-moment terms of that source are left out:
+source, from memory; it is the weak form over a linear twist of the term (I0 P / A) theta'' of
+the torsion equation under an axial load, Megson, An Introduction to Aircraft Structural
+Analysis, 2010, ch. 8, eq. 8.70, confirmed): a compressed member twists more easily (torsional
+buckling at N = G J A / Ip without warping stiffness). The end-moment terms of that source are left out:
 only the axial force of the preload acts. Shear-flexible members use the same matrix (the
 deflection's slope, not the section's rotation, carries the force).
 
@@ -71,12 +73,15 @@ def truss_geometric(L, N):
     return kg
 
 
-def geometric_matrix(model, R, L, N):
+def geometric_matrix(model, R, L, N, ends=None):
     """Global geometric stiffness (6n, 6n) CSR of the member axial forces N (e,) N, tension
-    positive; R (e, 3, 3) and L (e,) the members' axes and lengths.
+    positive; R (e, 3, 3) and L (e,) the members' axes and lengths (of their elastic parts).
 
     Members with released ends take Kg condensed with their stiffness's static transform
-    T^T Kg T (the released end follows the member, as for the consistent mass)."""
+    T^T Kg T (the released end follows the member, as for the consistent mass). Members with
+    end offsets take it moved along their rigid arms as K is (A^T Kg A), plus the arms' own
+    term (fem.elements.rigid.arm_geometric) from the members' end forces `ends` (e, 12), local
+    axes, on the members (fem.analysis.static member forces), or from N alone when not given."""
     from ..assembly import BlockPattern, _blocks, element_matrices
     from .frame import condense_mass, to_global
 
@@ -90,8 +95,20 @@ def geometric_matrix(model, R, L, N):
     if rel.any():
         k, _, _, _ = element_matrices(model, condense=False)
         kg = condense_mass(k, kg, rel)
+    kg = to_global(kg, R)
+    if model.offsets is not None:
+        from .rigid import arm_geometric, end_arms
+
+        A = end_arms(model.offsets)
+        kg = np.swapaxes(A, 1, 2) @ kg @ A
     X = np.zeros((4 * e + n, 36))
-    X[:4 * e] = _blocks(to_global(kg, R))
+    X[:4 * e] = _blocks(kg)
     G = BlockPattern.of(model.conn, n).matrix_from_blocks(X)
+    if model.offsets is not None:
+        if ends is None:
+            ends = np.zeros((e, 12))
+            ends[:, 0], ends[:, 6] = -N, N
+        p = np.einsum("eba,ekb->eka", R, np.asarray(ends, dtype=float).reshape(e, 2, 6)[:, :, :3])   # global
+        G = G + arm_geometric(model.conn.ravel(), model.offsets.reshape(-1, 3), p.reshape(-1, 3), n)
     G.eliminate_zeros()
     return G

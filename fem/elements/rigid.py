@@ -13,7 +13,7 @@ import scipy.sparse as sp
 
 from ..geometry import skew
 
-__all__ = ["arm_transform", "end_arms", "forces_at_nodes", "link_transform"]
+__all__ = ["arm_geometric", "arm_transform", "end_arms", "forces_at_nodes", "link_geometric", "link_transform"]
 
 
 def arm_transform(arm: np.ndarray) -> np.ndarray:
@@ -24,6 +24,45 @@ def arm_transform(arm: np.ndarray) -> np.ndarray:
     A[..., [0, 1, 2, 3, 4, 5], [0, 1, 2, 3, 4, 5]] = 1.0
     A[..., :3, 3:] = -skew(arm)
     return A
+
+
+def arm_geometric(nodes: np.ndarray, arms: np.ndarray, forces: np.ndarray, n_nodes: int) -> sp.csr_matrix:
+    """Geometric stiffness (6n, 6n) CSR of rigid arms carrying forces: arm k runs from node
+    nodes[k] by the vector arms[k] (3,) to a point where it pushes with the force p = forces[k]
+    (3,) on what it carries (p = dPi/du there: a rigid link's force on its dependent node, a
+    member's end force at its elastic end).
+
+    To second order a rotation theta of the node moves the arm's end by theta x a + 1/2
+    theta x (theta x a), whose second term, weighted by p, is the energy 1/2 theta^T G theta
+    with G = 1/2 (p a^T + a p^T) - (p . a) I on the node's rotations. For an arm of length a
+    along x carrying an axial force N (tension positive, p = -N x) this is N a (I - x x^T):
+    N / a on the relative sideways motion a theta of the arm's ends, a rigid bar's P-delta."""
+    a = np.asarray(arms, dtype=float).reshape(-1, 3)
+    p = np.asarray(forces, dtype=float).reshape(-1, 3)
+    g = 0.5 * (p[:, :, None] * a[:, None, :] + a[:, :, None] * p[:, None, :])
+    g -= np.einsum("ki,ki->k", p, a)[:, None, None] * np.eye(3)
+    dof = 6 * np.asarray(nodes, dtype=np.int64)[:, None] + np.arange(3, 6)          # (k, 3) rotations
+    rows = np.broadcast_to(dof[:, :, None], g.shape).ravel()
+    cols = np.broadcast_to(dof[:, None, :], g.shape).ravel()
+    n6 = 6 * n_nodes
+    return sp.csr_matrix((g.ravel(), (rows, cols)), shape=(n6, n6))
+
+
+def link_geometric(coords: np.ndarray, links, linked: np.ndarray, forces: np.ndarray) -> sp.csr_matrix:
+    """Geometric stiffness (6n, 6n) CSR of rigid links carrying the forces `forces` (d,) at
+    their linked DOFs `linked` (d,) (fem.analysis.static.link_forces), on the rotations of
+    their reference nodes (`arm_geometric` with the arm from the reference to each dependent
+    node and the link's force on it; the moments it passes take no second-order term, a
+    dependent node turning as its reference does)."""
+    n = len(coords)
+    p = np.zeros(6 * n)
+    p[linked] = forces
+    p = p.reshape(n, 6)
+    ref = np.full(n, -1)
+    for link in links:
+        ref[np.asarray(link.dependents, dtype=np.int64)] = int(link.reference)
+    d = np.flatnonzero(ref >= 0)
+    return arm_geometric(ref[d], coords[d] - coords[ref[d]], p[d, :3], n)
 
 
 def end_arms(offsets: np.ndarray) -> np.ndarray:

@@ -93,6 +93,13 @@ def describe_mode(model, shape: np.ndarray, energies: Energies | None = None, ma
     'local: twist of MB2a, MB2b, turning MOTOR about X'
     """
     en = energies or field_energies(model, shape, matrices)
+    if en.node_spring_strain.size:      # a spring between nodes: half its energy at each end
+        from dataclasses import replace
+
+        at = np.zeros(model.n_nodes)
+        for end in (0, 1):
+            np.add.at(at, model.node_springs.nodes[:, end], 0.5 * en.node_spring_strain)
+        en = replace(en, spring_strain=en.spring_strain + at, node_spring_strain=np.zeros(0))
     e = model.n_members
     strain_m = en.member_strain.sum(1)
     kin_m = en.member_kinetic.sum(1)

@@ -5,7 +5,8 @@ Every field registered in `fem.analysis.combine.FIELDS` is written the same way:
 over the nodes (reactions over the supported and sprung nodes only), a member field over the
 members; for each value its largest and smallest, and what governs each: the time (s) of a
 combination's history part, or the case of an envelope. A further field (member stresses)
-appears in every output without a change here.
+appears in every output without a change here; member stresses (the "stress" field) have their
+own layout in fem/output/stress_demands.py (stress points, ratios, extremes_stresses.csv).
 """
 
 from __future__ import annotations
@@ -16,6 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from ..analysis.combine import FIELDS
+from . import stress_demands
 from .tables import supported_nodes, write_csv
 
 __all__ = ["json_entry", "report_block", "summary_lines", "write_extremes_tables"]
@@ -62,6 +64,7 @@ def _governing(model, r, name: str) -> dict:
 
 
 _BY = {"combination": "time_s", "envelope": "case"}
+_OWN = ("stress",)      # fields written by their own module
 
 
 def json_entry(results, r) -> dict:
@@ -73,6 +76,10 @@ def json_entry(results, r) -> dict:
             if r.kind == "combination" else {"over": list(r.over)})
     fields = {}
     for name, fld in FIELDS.items():
+        if name not in r.fields or name in _OWN:
+            if name in r.fields:
+                fields[name] = stress_demands.demand_block(results, r)
+            continue
         b = r.fields[name]
         idx, names = _rows(model, name)
         fields[name] = {"columns": list(fld.columns), "units": UNITS.get(name, "SI"),
@@ -92,7 +99,10 @@ def write_extremes_tables(results, out: Path) -> None:
     if not demands:
         return
     model = results.model
+    stress_demands.write_demand_stresses(results, out)
     for name, fld in FIELDS.items():
+        if name in _OWN or any(name not in r.fields for r in demands):
+            continue
         idx, names = _rows(model, name)
         head = ["result", "kind", fld.of, "component", "max", "max_time_s", "max_case", "min", "min_time_s",
                 "min_case"]
@@ -167,6 +177,7 @@ def summary_lines(results, r, indent: str) -> list[str]:
         ok = "pass" if results.checks.passed[r.name] else "FAIL"
         lines.append(f"{indent}static part: equilibrium {r.static.equilibrium:.1e} {ok}; peaks are bounds, "
                      "not a state in equilibrium")
+    lines += stress_demands.demand_lines(results, r, indent)
     lines += [f"{indent}{w}" for w in ch["warnings"]]
     if r.kind == "envelope":
         counts = np.bincount(r.fields["end_force"].max_by.ravel(), minlength=len(r.over))
@@ -176,9 +187,10 @@ def summary_lines(results, r, indent: str) -> list[str]:
     return lines
 
 
-def report_block(c: dict) -> str:
+def report_block(c: dict, doc: dict | None = None) -> str:
     """The report's section body of a results.json entry `c` of a combination or envelope: what
-    it adds or bounds, then per field the governing largest and smallest value of each component."""
+    it adds or bounds, then per field the governing largest and smallest value of each component
+    (member stresses in the display units of the document `doc`, MPa without a choice)."""
     esc = html.escape
     if c["kind"] == "combination":
         head = " ".join(f"{'+' if t['factor'] >= 0 else '-'} {abs(t['factor']):g} {esc(t['case'])} ({t['kind']})"
@@ -191,6 +203,8 @@ def report_block(c: dict) -> str:
     out = [intro]
     by = "time_s" if c["kind"] == "combination" else "case"
     for name, f in c["fields"].items():
+        if name in _OWN:          # shown by the report in its own table (stress_demands.demand_report)
+            continue
         rows = []
         for comp, g in f["governing"].items():
             cells = [esc(comp)]

@@ -96,7 +96,16 @@ def _scene(model, radius):
     import pyvista as pv
 
     lines = np.c_[np.full(len(model.conn), 2), model.conn].ravel()
-    poly = pv.PolyData(model.coords.astype(float), lines=lines)
+    points = model.coords.astype(float)
+    if model.node_springs is not None:            # springs between nodes: a zig-zag each
+        from .springs_out import spring_symbols
+
+        extra, cells = spring_symbols(model)
+        cells[np.arange(len(cells)) % (cells[0] + 1) != 0] += len(points)
+        points, lines = np.vstack([points, extra]), np.r_[lines, cells]
+    poly = pv.PolyData(points, lines=lines)
+    if model.node_springs is not None:
+        poly.cell_data["spring"] = np.r_[np.zeros(len(model.conn)), np.ones(len(model.node_springs))]
     return pv, poly
 
 
@@ -191,6 +200,8 @@ def _setup(pv, poly, caption, size=SIZE):
     p = _canvas(pv, size)
     p.set_background("white")
     p.add_mesh(poly.copy(), color="#b8bcc4", opacity=0.4, line_width=3, render_lines_as_tubes=True)
+    if "spring" in poly.cell_data:         # springs between nodes, in their undeformed places
+        p.add_mesh(poly.extract_cells(np.flatnonzero(poly.cell_data["spring"])), color="#2a7f62", line_width=3)
     p.add_text(caption, position="upper_left", font_size=11 if size[0] >= size[1] else 9, color="#1d2733")
     # a small orientation marker in the lower right corner, clear of captions and colour bar
     # (kept from the plotter's last picture when in the same place: it draws the same)

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import base64
 import html
 import re
 from pathlib import Path
@@ -11,52 +10,18 @@ import numpy as np
 
 from . import limits_out, resonance_out
 from .fmt import doc_units, percent, quantity
+from .report_page import animation_file, grid, navigation, page_head
+from .report_page import ok as _ok
+from .report_page import table as _table
+from .report_tables import demand_tables, end_force_table, glance_rows, modes_table, reaction_table, shown_units
+from .springs_out import report_section as springs_section
+from .stress_demands import demand_report
 from .stress_out import report_section as stress_section
 
-__all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "report", "write_report"]
+__all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "case_tables", "report", "write_report"]
 
 HISTORY_PLOTS = 12       # history plots per case in the report; every recorded node is in the CSV
 STATIC_PLOTS = 24     # deformed-shape plots of the first static cases and combinations (report size)
-
-STYLE = """
-body { font-family: system-ui, sans-serif; color: #1d2733; max-width: 1100px; margin: 2em auto;
-       padding: 0 1em; line-height: 1.4; }
-h1 { font-size: 1.6em; margin-bottom: 0.1em; } h2 { border-bottom: 2px solid #c0562f;
-     padding-bottom: 0.15em; margin-top: 2em; }
-.caution { background: #fdf3e7; border-left: 5px solid #c0562f; padding: 0.6em 1em; }
-table { border-collapse: collapse; margin: 0.6em 0; font-size: 0.9em; }
-th, td { border-bottom: 1px solid #e4e7ec; padding: 0.25em 0.7em; text-align: right; }
-th { background: #f4f6f8; } td.l, th.l { text-align: left; }
-.pass { color: #2e7d32; font-weight: 600; } .fail { color: #b3261e; font-weight: 700; }
-figure { display: inline-block; margin: 0.4em; vertical-align: top; }
-figure img { max-width: 100%; border: 1px solid #e4e7ec; } figcaption { font-size: 0.8em; }
-figure { max-width: 100%; } .plot img { width: 760px; }
-.gallery img { width: auto; height: auto; max-width: min(520px, 100%); max-height: 620px; }
-ul.warnings li { color: #8a4b00; }
-"""
-
-
-def _img(path: Path, alt: str, cls: str = "") -> str:
-    data = base64.b64encode(path.read_bytes()).decode("ascii")
-    mime = {".gif": "image/gif", ".webp": "image/webp"}.get(path.suffix, "image/png")
-    return (f'<figure class="{cls}"><img alt="{html.escape(alt)}" src="data:{mime};base64,{data}">'
-            f"<figcaption>{html.escape(alt)}</figcaption></figure>")
-
-
-def _table(head, rows, left=1) -> str:
-    th = "".join(f'<th class="{"l" if i < left else ""}">{html.escape(str(h))}</th>' for i, h in enumerate(head))
-    body = []
-    for r in rows:
-        body.append("<tr>" + "".join(f'<td class="{"l" if i < left else ""}">{c}</td>' for i, c in enumerate(r))
-                    + "</tr>")
-    return f"<table><tr>{th}</tr>{''.join(body)}</table>"
-
-
-def _ok(flag) -> str:
-    if flag is None:
-        return "not run"
-    return '<span class="pass">pass</span>' if flag else '<span class="fail">FAIL</span>'
-
 
 def _force_rows(c: dict, doc: dict = None) -> list:
     """Largest peak reaction force and member end forces of a free or history case."""
@@ -75,12 +40,13 @@ def _force_rows(c: dict, doc: dict = None) -> list:
 
 
 def _forces(doc: dict, values) -> str:
-    """X, Y, Z force sums in the display unit (kN without one), round-off shown as 0 when chosen."""
+    """X, Y, Z force sums in the display unit (kN without one), round-off (under
+    fem.display.ZERO_TOL of the largest) shown as 0."""
     from ..display import tidy
 
     units = doc_units(doc)
     if not units.chosen:
-        return ", ".join(f"{v / 1e3:.4g}" for v in values) + " kN"
+        return ", ".join(f"{v:.4g}" for v in tidy(np.asarray(values, float) / 1e3)) + " kN"
     shown = tidy(np.asarray(values, float) * units.per_si("force"))
     return ", ".join(f"{v:.4g}" for v in shown) + f" {units.label('force')}"
 
@@ -96,16 +62,14 @@ def _warnings(doc: dict) -> list[str]:
 
 
 def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]],
-                 notes: list[str] = ()) -> Path:
+                 notes: list[str] = (), tables: dict[str, str] | None = None) -> Path:
     """doc: the results.json content; images: section name -> [(file, caption)]; notes: run
-    notices for the Warnings section (pictures skipped, ...)."""
+    notices for the Warnings section (pictures skipped, ...); tables: case name -> HTML of its
+    reaction and end-force tables (`case_tables`)."""
+    base, tables = path.parent, tables or {}
     m = doc["model"]
-    parts = [f"<!doctype html><html lang='en'><head><meta charset='utf-8'><title>{html.escape(m['title'] or 'Quaver results')}</title>"
-             f"<style>{STYLE}</style></head><body>",
-             f"<h1>{html.escape(m['title'] or m['deck'])}</h1><p>Deck <code>{html.escape(m['deck'])}</code></p>",
-             f'<p class="caution" id="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p>',
-             "<h2 id='model'>Model</h2>",
-             _table(["item", "value"], [
+    title = m["title"] or m["deck"]
+    parts = [_table(["item", "value"], [
                  ["nodes", m["nodes"]], ["members", m["members"]],
                  ["total mass", f"{m['total_mass_kg']:.6g} kg"],
                  ["bounding box", f"{np.round(m['bounding_box_m'][0], 3).tolist()} to {np.round(m['bounding_box_m'][1], 3).tolist()} m"]]),
@@ -114,6 +78,7 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
     parts.append("<ul class='warnings'>" + "".join(f"<li>{html.escape(w)}</li>" for w in found) + "</ul>"
                  if found else "<p>none</p>")
     parts.append("<h2 id='checks'>Self-checks</h2>")
+    units = shown_units(doc)
     rows = [["assembled mass vs members + point masses", f"{m['assembled_mass_kg'][0]:.6g} kg", _ok(m["mass_check_pass"])]]
     for c in [*doc["cases"], *doc.get("demands", [])]:
         ch = c["checks"]
@@ -187,31 +152,20 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         if c.get("preload_note"):
             under = f"the preload of case {c['preload']}" if c.get("preload") else "the members' pretension"
             parts.append(f"<p>Under {html.escape(under)}: {html.escape(c['preload_note'])}.</p>")
-        eff = np.array(c["effective_mass_kg"])
-        tot = np.array(c["participating_total_kg"])
-        frac = np.divide(eff, tot, out=np.full_like(eff, np.nan), where=tot > 0)   # n/a where no mass moves
-        cum = np.cumsum(frac, axis=0)
-
-        def pc(v):
-            return percent(v).rstrip("%")
-
-        parts.append(_table(["mode", "frequency Hz", "period s", "X %", "Y %", "Z %", "cum. X %", "cum. Y %", "cum. Z %"],
-                            [[j + 1, f"{f:.4g}", "rigid" if p is None or not np.isfinite(p) else f"{p:.4g}", *(pc(v) for v in frac[j, :3]),
-                              *(pc(v) for v in cum[j, :3])]
-                             for j, (f, p) in enumerate(zip(c["frequency_Hz"], c["period_s"]))], left=0))
-        parts += [_img(p, cap, "gallery" if "mode_" in p.name else "plot")
-                  for p, cap in images.get(c["name"], [])]
+        parts.append(modes_table(c))
+        parts.append(grid(images.get(c["name"], []), base))
         if c.get("sensitivity"):
             from .sensitivity_tables import sensitivity_section
 
             parts.append(sensitivity_section(c))
         parts += resonance_out.report_section(c, _table)
-        parts += [_img(p, cap, "plot") for p, cap in images.get(f"{c['name']} resonance", [])]
+        parts.append(grid(images.get(f"{c['name']} resonance", []), base))
     for c in [*doc["cases"], *doc.get("demands", [])]:
         if c["kind"] == "modes":
             continue
         word = "" if c["kind"] in ("combination", "envelope") else " case"
         parts.append(f"<h2 id='case-{html.escape(c['name'])}'>{html.escape(c['kind'])}{word} {html.escape(c['name'])}</h2>")
+        start, folded = len(parts), ""
         if c["kind"] == "static":
             parts.append(_table(["quantity", "value"], [
                 ["largest translation", quantity(doc, "length", c["max_translation_m"], (1.0, "m"))],
@@ -221,12 +175,12 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         elif c["kind"] in ("free", "history"):
             parts.append(_table(["quantity", "value"], [["time steps", c["time_steps"]], ["duration", f"{c['duration_s']:.4g} s"],
                                                         ["largest translation", quantity(doc, "length", c["peak_translation_m"], (1.0, "m"))],
-                                                        *_force_rows(c, doc)]))
+                                                        *_force_rows(c, doc), *_link_rows(c)]))
         elif c["kind"] == "harmonic":
             parts.append(_table(["quantity", "value"], [["band", f"{c['band_Hz'][0]:.4g} to {c['band_Hz'][1]:.4g} Hz"],
                                                         ["frequencies", c["frequencies"]],
                                                         ["largest amplitude", quantity(doc, "length", c["peak_amplitude_m"], (1.0, "m"))],
-                                                        *_motion_rows(c)]))
+                                                        *_motion_rows(c), *_link_rows(c)]))
             if c.get("vibration_limits"):
                 parts.append(_table(["vibration limit", "found", "result"], limits_out.report_rows(c, _ok)))
         elif c["kind"] == "buckling":
@@ -236,19 +190,44 @@ def write_report(path: Path, doc: dict, images: dict[str, list[tuple[Path, str]]
         elif c["kind"] in ("combination", "envelope"):
             from .envelope_out import report_block
 
-            parts.append(report_block(c))
+            parts.append(demand_tables(c, units))
+            if "stress" in c["fields"]:           # the most stressed members, in the display units
+                parts.append(demand_report(c["fields"]["stress"], "time_s" if c["kind"] == "combination" else "case", doc))
+            folded = ("<details><summary>every field's largest and smallest value, in SI units</summary>"
+                      f"{report_block(c, doc)}</details>")
         elif c["kind"] == "spectrum":
             b = c["base_reaction"]
             parts.append(_table(["quantity", "value"], [["combination", f"{c['combination'].upper()}, directions {c['direction_rule']}"],
                                                         ["base shear X, Y", f"{quantity(doc, 'force', b['Fx'], (1e-3, 'kN'))}, "
                                                                             f"{quantity(doc, 'force', b['Fy'], (1e-3, 'kN'))}"],
                                                         ["largest displacement", quantity(doc, "length", c["max_displacement_m"], (1.0, "m"))]]))
+        # the case's short tables side by side where the page is wide enough, one under the other where not
+        boxes = [p if p.startswith("<div") else f"<div>{p}</div>" for p in [*parts[start:], tables.get(c["name"], "")] if p]
+        parts[start:] = ["<div class='cols'>", *boxes, "</div>", folded]
         parts.append(stress_section(c, doc, _table))
-        parts += [_img(p, cap, "plot" if p.parent.name == "plots" else "gallery")
-                  for p, cap in images.get(c["name"], [])]
-    parts.append(f'<p class="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p></body></html>')
-    path.write_text("\n".join(parts), encoding="utf-8")
+        parts.append(springs_section(c, doc, _table))
+        parts.append(grid(images.get(c["name"], []), base))
+    parts.append(f'<p class="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p></main></body></html>')
+    glance = _table(["item", "value", "result"], glance_rows(doc, rows, units), left=2)
+    path.write_text("\n".join([*_top(doc, title, path.parent, rows), glance, "<h2 id='model'>Model</h2>", *parts]),
+                    encoding="utf-8")
     return path
+
+
+def _top(doc: dict, title: str, base: Path, check_rows: list) -> list[str]:
+    """The page's head, navigation bar, title, caution and the heading of the at-a-glance table."""
+    m = doc["model"]
+    viewer = (base / "viewer.html").is_file()
+    links = [("glance", "At a glance", False), ("model", "Model", False), ("warnings", "Warnings", False),
+             ("checks", "Self-checks", any('class="fail"' in r[2] for r in check_rows))]
+    for c in [*doc["cases"], *doc.get("demands", [])]:
+        anchor = f"modes-{c['name']}" if c["kind"] == "modes" else f"case-{c['name']}"
+        links.append((anchor, c["name"], False))
+    see = " &middot; <a href='viewer.html'>interactive 3D view</a> (viewer.html)" if viewer else ""
+    return [page_head(title), navigation(links), "<main>", f"<h1>{html.escape(title)}</h1>",
+            f"<p>Deck <code>{html.escape(m['deck'])}</code>{see}</p>",
+            f'<p class="caution" id="caution"><b>Caution.</b> {html.escape(doc["caution"])}</p>',
+            "<h2 id='glance'>At a glance</h2>"]
 
 
 def _mode_images(pdir: Path, pics: Path, m) -> list:
@@ -258,12 +237,10 @@ def _mode_images(pdir: Path, pics: Path, m) -> list:
     images = [(plots.plot_participation(pdir / f"{m.name}_participation.png", m), "effective modal mass")]
     for j in range(min(6, m.shapes.shape[2])):
         # pictures of the first six modes, animations of the first three (keeps the file small)
-        kinds = (("_plane.png", "across the main motion"), ("_iso.png", "isometric view"),
-                 (".webp", "one cycle"))[: 3 if j < 3 else 2]
-        for suffix, cap in kinds:
-            f = pics / f"{m.name}_mode_{j + 1:03d}{suffix}"
-            if f.exists():
-                images.append((f, f"mode {j + 1}, {m.modes.freq[j]:.4g} Hz, {cap}"))
+        stem = f"{m.name}_mode_{j + 1:03d}"
+        found = [(pics / f"{stem}_plane.png", "across the main motion"), (pics / f"{stem}_iso.png", "isometric view"),
+                 *([(animation_file(pics, stem), "one cycle")] if j < 3 else [])]
+        images += [(f, f"mode {j + 1}, {m.modes.freq[j]:.4g} Hz, {cap}") for f, cap in found if f and f.exists()]
     return images
 
 
@@ -281,8 +258,8 @@ def _motion_images(pdir: Path, pics: Path, model, x) -> list:
         node = model.node_names[x.record[j]]
         f = pdir / f"{x.name}_history_{re.sub(r'[^A-Za-z0-9_.-]', '_', node)}.png"
         images.append((plots.plot_history(f, x, node, j), f"displacement history at {node}{more}"))
-    for f, cap in ((pics / f"{x.name}.webp", "response animation"), (pics / f"{x.name}_peak.png", "largest motion")):
-        if f.exists():
+    for f, cap in ((animation_file(pics, x.name), "response animation"), (pics / f"{x.name}_peak.png", "largest motion")):
+        if f and f.exists():
             images.append((f, cap))
     return images
 
@@ -345,11 +322,20 @@ def report(results, doc: dict, out: Path, notice: str = "") -> None:
             from .buckling_out import picture_images
 
             images[x.name] = picture_images(pics, x)
-    write_report(out / "report.html", doc, images, notes=[notice] if notice.startswith("pictures skipped:") else [])
+    write_report(out / "report.html", doc, images, notes=[notice] if notice.startswith("pictures skipped:") else [],
+                 tables=case_tables(results, doc))
+
+
+def case_tables(results, doc: dict) -> dict[str, str]:
+    """Case name -> its reactions per node and governing member end forces (report_tables)."""
+    units = shown_units(doc)
+    return {r.name: reaction_table(results, r, units) + end_force_table(results, r, units)
+            for r in [*results.statics, *results.of_kind("spectrum", "free", "history", "harmonic")]}
 
 
 def _link_rows(c) -> list:
-    """The largest force and moment each rigid link exerts on a node that follows it (static)."""
+    """The largest force and moment each rigid link exerts on a node that follows it (static); in a
+    dynamic case the resultant of its directions' peaks (which need not coincide: an upper bound)."""
     rows = []
     for link, nodes in c.get("link_forces", {}).items():
         force = max((np.hypot.reduce([v or 0.0 for v in vals[:3]]), n) for n, vals in nodes.items())

@@ -112,7 +112,7 @@ def _response(results, r) -> dict:
             "peak_translation_m": float(np.abs(r.peak[:, :3]).max()),
             "peaks": {model.node_names[k]: {"value": r.peak[k].tolist(), "time_s": r.peak_time[k].tolist()}
                       for k in range(model.n_nodes)},
-            **_force_peaks(model, r, supported_nodes(model)),
+            **_force_peaks(model, r, supported_nodes(model)), **link_entry(model, r),
             "checks": results.checks.cases[r.name]}
 
 
@@ -123,7 +123,7 @@ def _harmonic(results, r) -> dict:
             "peak_amplitude_m": float(np.abs(r.peak[:, :3]).max()),
             "peaks": {model.node_names[k]: {"amplitude": r.peak[k].tolist(), "frequency_Hz": r.peak_freq[k].tolist(),
                                             "lag_deg": r.peak_lag[k].tolist()} for k in range(model.n_nodes)},
-            **_harmonic_force_peaks(model, r), **harmonic_motion(model, r),
+            **_harmonic_force_peaks(model, r), **harmonic_motion(model, r), **link_entry(model, r),
             "checks": results.checks.cases[r.name], **limits_out.case_entry(results, r)}
 
 
@@ -189,6 +189,9 @@ def results_doc(results) -> dict:
         "demands": [envelope_out.json_entry(results, r) for r in results.demands],
         "sections": _sections(model),
     }
+    from .springs_out import add_spring_blocks
+
+    add_spring_blocks(results, doc)
     return _with_stresses(results, doc)
 
 

@@ -83,8 +83,17 @@ def stress_block(results, name: str) -> dict | None:
     missing = sorted({model.member_section[j] for j in np.flatnonzero(np.isnan(s.mises))})
     return {"basis": s.basis, "ratio_note": RATIO_NOTE,
             "governing": None if g is None else {"member": model.member_names[g], "section": model.member_section[g],
-                                                 **members[model.member_names[g]]},
+                                                 "point": _point(model, s, g), **members[model.member_names[g]]},
             "sections_without_stress_points": missing, "members": members}
+
+
+def _point(model, s, j: int) -> str | None:
+    """The governing stress point of member j in words (the largest |sigma|), None if not known."""
+    if s.point is None:
+        return None
+    from ..analysis.stress_field import point_name
+
+    return point_name(model, j, int(s.point[j])) or None
 
 
 def summary_lines(results, name: str, indent: str) -> list[str]:
@@ -106,8 +115,9 @@ def summary_lines(results, name: str, indent: str) -> list[str]:
     sign = "+/-" if s.basis in ("amplitude", "combined peaks") else ""
     rng = (f"normal {sign}{s.sigma_max[g] * k:.4g} {unit}" if sign else
            f"normal {s.sigma_min[g] * k:.4g} to {s.sigma_max[g] * k:.4g} {unit}")
+    pt = _point(model, s, g)
     lines = [f"{indent}stresses ({_BASIS[s.basis]}): governing member {model.member_names[g]} "
-             f"({model.member_section[g]}), equivalent {s.mises[g] * k:.4g} {unit}{where}; {rng}{ratio}"]
+             f"({model.member_section[g]}{', ' + pt if pt else ''}), equivalent {s.mises[g] * k:.4g} {unit}{where}; {rng}{ratio}"]
     missing = sorted({model.member_section[j] for j in np.flatnonzero(np.isnan(s.mises))})
     if missing:
         lines.append(f"{indent}no stresses in the members of section(s) {', '.join(missing)}: a generic section "

@@ -18,6 +18,7 @@ from .fmt import percent
 from .results_json import CAUTION
 from .stress_out import summary_lines as stress_summary
 from .stress_out import units_of
+from .springs_out import summary_lines as springs_summary
 
 __all__ = ["print_solved", "print_summary", "print_written"]
 
@@ -164,7 +165,7 @@ def print_solved(results, name: str = "") -> None:
     for r in [*results.statics, *results.modal, *results.demands]:
         for line in _LINES[r.kind](results, r):
             print(line)
-        for line in stress_summary(results, r.name, _CONTINUED):
+        for line in stress_summary(results, r.name, _CONTINUED) + springs_summary(results, r.name, _CONTINUED):
             print(line)
         for w in r.warnings if r.kind in _OWN_WARNINGS else ():
             print(f"{_CONTINUED}{w}")

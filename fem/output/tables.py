@@ -206,6 +206,9 @@ def write_tables(results, out: Path) -> None:
     from .stress_out import write_stress_tables
 
     write_stress_tables(results, out)
+    from .springs_out import write_spring_tables
+
+    write_spring_tables(results, out)
     for r in results.modal:
         write = _OWN_TABLES.get(r.kind)
         if write is not None:
@@ -227,9 +230,10 @@ def write_tables(results, out: Path) -> None:
     from .limits_out import write_limit_tables
 
     write_limit_tables(results, out)
-    from .link_tables import write_link_table, write_offset_table
+    from .link_tables import write_link_peaks, write_link_table, write_offset_table
 
     write_link_table(out, results)
+    write_link_peaks(out, results)
     if model.offsets is not None:
         from ..assembly import element_matrices
 

@@ -45,6 +45,7 @@ class StudyResult:
     engine: str = ""
     seconds: float = 0.0
     excitations: tuple = ()
+    phases: dict = field(default_factory=dict)
 
     @property
     def failed(self) -> list[int]:
@@ -106,12 +107,13 @@ def _check(study: Study, model) -> None:
 
 
 def run_study(study, *, serial: bool = False, workers: int | None = None, scheduler: str | None = None,
-              progress: bool = True) -> StudyResult:
+              progress: bool = True, chunk: int | None = None) -> StudyResult:
     """Run `study` (a Study, or the path of a study file) and return its StudyResult.
 
     serial : run every variant in this process (no Dask); workers : the local cluster's worker
     processes (default the study's, 2); scheduler : the address of a running Dask scheduler
-    (default the study's; None: a local cluster). Nothing is written: `StudyResult.write`.
+    (default the study's; None: a local cluster); chunk : variants a Dask task (default: about
+    eight tasks a worker). Nothing is written: `StudyResult.write`.
     """
     from ..deck.reader import read_deck
 
@@ -127,15 +129,27 @@ def run_study(study, *, serial: bool = False, workers: int | None = None, schedu
     # the first variant read here too: an override the deck refuses for every variant is said once
     read_deck(deck, let=vs[0].let or None)
     scheduler = scheduler or study.scheduler
+    phases = {"prepare": time.perf_counter() - t0}
     if serial:
+        t1 = time.perf_counter()
         results, where = run_serial(job, vs, progress), "serial, in this process"
+        phases.update(start=0.0, run=time.perf_counter() - t1, tasks=len(vs), workers=1)
     else:
-        results, where = on_dask(job, vs, workers or study.workers, scheduler, progress)
+        results, where = on_dask(job, vs, workers or study.workers, scheduler, progress, chunk, phases)
+    _work_phases(phases, results, phases.get("workers", 1))
     case = study.track or next((c.name for c in model.cases if c.kind == "modes"), None)
     tracked = track(results, vs, case, study.n_track) if case else None
     columns, record_columns = _tables(study, vs, results, tracked, job)
     return StudyResult(study, vs, results, tracked, columns, record_columns, where, time.perf_counter() - t0,
-                       tuple(getattr(model, "excitations", ()) or ()))
+                       tuple(getattr(model, "excitations", ()) or ()), phases=phases)
+
+
+def _work_phases(phases: dict, results: list[dict], workers: int) -> None:
+    """The variants' own reading and solving time, and the rest of the workers' time."""
+    phases["read"] = float(sum(r.get("read_s", 0.0) for r in results))
+    phases["solve"] = float(sum(r.get("solve_s", 0.0) for r in results))
+    busy = float(sum(r.get("seconds", 0.0) for r in results))
+    phases["overhead"] = max(phases.get("run", 0.0) * workers - busy, 0.0)
 
 
 def _label(name: str, unit: str) -> str:

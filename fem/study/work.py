@@ -27,7 +27,7 @@ import numpy as np
 from ..deck.reader import _Reader
 from ..errors import DeckError, QuaverError
 
-__all__ = ["Bundle", "Job", "bundle", "run_variant"]
+__all__ = ["Bundle", "Job", "bundle", "run_chunk", "run_variant"]
 
 _AXIS = {"x": 0, "y": 1, "z": 2, "rx": 3, "ry": 4, "rz": 5}
 
@@ -127,6 +127,18 @@ def run_variant(job: Job, index: int, let: dict) -> dict:
         out.update(status="error", message=f"{type(exc).__name__}: {exc}")
     out["seconds"] = time.perf_counter() - t0
     return out
+
+
+def run_chunk(job: Job, items) -> list[dict]:
+    """The variants `items` [(index, let)] one after another, as one task of a worker, BLAS on
+    one thread (a worker process shares the cores with the others; Dask's nanny sets this in the
+    environment, a worker started without one may not): a row each, a failure in its own row."""
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:                 # a dependency; without it the environment's setting stands
+        return [run_variant(job, i, let) for i, let in items]
+    with threadpool_limits(limits=1, user_api="blas"):
+        return [run_variant(job, i, let) for i, let in items]
 
 
 def record_case_name(case: str, r: int) -> str:
