@@ -1,10 +1,19 @@
-"""Render speed: pictures and 24-frame GIFs of the first 6 modes of a ~1000-member frame.
+"""Render speed and output size.
 
-PYTHONPATH=. python benchmarks/render.py [members] [jobs]   (target: under 20 s on 2 cores)
+PYTHONPATH=. python benchmarks/render.py [deck] [repeats]    (default decks/rack.deck, 1)
+    `quaver run` of the deck as a user runs it (a new process each time), by default and with
+    --no-render, alternately; the ratio default / --no-render (target <= 3) and the results
+    folder's size and file count (target under about 15 MB and 100 files), the load average
+    printed beside them.
+PYTHONPATH=. python benchmarks/render.py frame [members] [jobs]
+    pictures and animations of the first 6 modes of a generated ~1000-member frame (target
+    under 20 s on 2 cores).
 """
 
 from __future__ import annotations
 
+import os
+import subprocess
 import sys
 import tempfile
 import time
@@ -12,18 +21,65 @@ from pathlib import Path
 
 import numpy as np
 
-sys.path.insert(0, __file__.rsplit("/", 1)[0])
-from assembly import grid_model  # noqa: E402
-
-from fem.analysis.modal_case import ModesCaseResult, influence_vectors  # noqa: E402
-from fem.analysis.modes import participation, solve_modes  # noqa: E402
-from fem.assembly import assemble  # noqa: E402
-from fem.output.render import can_render  # noqa: E402
-from fem.output.render_pool import render_all  # noqa: E402
-from fem.output.vtk import shape_scale  # noqa: E402
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT / "benchmarks"))
 
 
-def main(members: int, jobs: int) -> None:
+def _load() -> str:
+    return " ".join(f"{x:.1f}" for x in os.getloadavg())
+
+
+def _folder(path: Path) -> tuple[float, int, dict]:
+    """MB, file count and MB by top-level part of a results folder."""
+    parts, total, count = {}, 0, 0
+    for f in path.rglob("*"):
+        if f.is_file():
+            size = f.stat().st_size
+            total, count = total + size, count + 1
+            top = f.relative_to(path).parts[0] if len(f.relative_to(path).parts) > 1 else (
+                "report.html" if f.name == "report.html" else "tables")
+            parts[top] = parts.get(top, 0) + size
+    return total / 1e6, count, {k: v / 1e6 for k, v in sorted(parts.items())}
+
+
+def _run(deck: Path, out: Path, *extra: str) -> float:
+    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    t0 = time.perf_counter()
+    r = subprocess.run([sys.executable, "-m", "fem", "run", str(deck), "--out", str(out), *extra],
+                       cwd=ROOT, env=env, capture_output=True, text=True)
+    dt = time.perf_counter() - t0
+    if r.returncode != 0:
+        raise SystemExit(f"quaver run failed ({r.returncode}):\n{r.stdout[-2000:]}{r.stderr[-2000:]}")
+    return dt
+
+
+def run_ratio(deck: Path, repeats: int = 1) -> None:
+    print(f"{deck.name}: load average {_load()} (1, 5, 15 min) at the start, {os.cpu_count()} cores")
+    with tempfile.TemporaryDirectory() as tmp:
+        full, bare = [], []
+        for k in range(repeats):
+            bare.append(_run(deck, Path(tmp) / f"bare{k}", "--no-render"))
+            full.append(_run(deck, Path(tmp) / f"full{k}"))
+        mb, files, parts = _folder(Path(tmp) / "full0")
+        tmb, tfiles, _ = _folder(Path(tmp) / "bare0")
+    f, b = min(full), min(bare)
+    print(f"default run {f:.1f} s, --no-render {b:.1f} s: ratio {f / b:.2f} (target <= 3); "
+          f"best of {repeats}; load average {_load()} at the end")
+    print(f"default folder {mb:.1f} MB in {files} files (target under about 15 MB and 100 files); "
+          f"--no-render {tmb:.1f} MB in {tfiles} files")
+    print("  by part: " + ", ".join(f"{k} {v:.1f} MB" for k, v in parts.items()))
+
+
+def frame(members: int, jobs: int) -> None:
+    from assembly import grid_model
+
+    from fem.analysis.modal_case import ModesCaseResult, influence_vectors
+    from fem.analysis.modes import participation, solve_modes
+    from fem.assembly import assemble
+    from fem.output.render import MODE_FRAMES, can_render
+    from fem.output.render_pool import render_all
+    from fem.output.vtk import shape_scale
+
     model = grid_model(members)
     model.restraint[model.coords[:, 2] == 0] = True
     asm = assemble(model)
@@ -42,9 +98,13 @@ def main(members: int, jobs: int) -> None:
         t0 = time.perf_counter()
         files = render_all(Path(tmp), model, [case], [], shape_scale(model), jobs)
         dt = time.perf_counter() - t0
-    print(f"{model.n_members} members, 6 modes: {len(files)} files (2 PNG, a 24-frame GIF and, with the video extra, an MP4 per mode) "
-          f"in {dt:.1f} s with {jobs} process(es)")
+    print(f"{model.n_members} members, 6 modes: {len(files)} files (2 PNG and a {MODE_FRAMES}-frame WebP a mode) "
+          f"in {dt:.1f} s with {jobs} process(es); load average {_load()}")
 
 
 if __name__ == "__main__":
-    main(int(sys.argv[1]) if len(sys.argv) > 1 else 1000, int(sys.argv[2]) if len(sys.argv) > 2 else 2)
+    args = sys.argv[1:]
+    if args and args[0] == "frame":
+        frame(int(args[1]) if len(args) > 1 else 1000, int(args[2]) if len(args) > 2 else 2)
+    else:
+        run_ratio(Path(args[0]) if args else ROOT / "decks" / "rack.deck", int(args[1]) if len(args) > 1 else 1)

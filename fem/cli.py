@@ -42,6 +42,8 @@ def _parser() -> argparse.ArgumentParser:
                    help="draw the first N modes of each modes case (default 6)")
     r.add_argument("--fps", type=_fps, default=12.0, metavar="N",
                    help="frames a second of the animations, 1 to 50 (default 12)")
+    r.add_argument("--video", action="store_true",
+                   help="also write each animation as MP4 (needs the 'video' extra's ffmpeg encoder)")
     r.add_argument("--units", type=_units, metavar="UNITS",
                    help="units of the summary, report and tables: a list such as mm,kN,MPa or a named set "
                         "(engineering: mm, kN, kN*m, MPa; si); results.json stays SI (default: the deck's "
@@ -66,7 +68,7 @@ def _fps(text: str) -> float:
     except ValueError:
         raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
     if not 1 <= v <= 50:
-        # GIF frame delays are whole hundredths of a second, and players slow anything faster
+        # our cap: players slow very short frame delays, and no animation here needs more
         raise argparse.ArgumentTypeError(f"{text} is outside 1 to 50 frames a second")
     return v
 
@@ -134,7 +136,7 @@ def main(argv: list[str] | None = None) -> int:
             return run_command(args, CAUTION)
         return run_deck(args.deck, args.out, render=not args.no_render, jobs=max(1, args.jobs),
                         draw_modes=max(0, args.draw_modes), fps=args.fps, let=_overrides(args.let),
-                        cases=args.cases, write=args.write, units=args.units)
+                        cases=args.cases, write=args.write, units=args.units, video=args.video)
     except QuaverError as exc:
         state = folder.where()
         _say(f"error: {exc}" + (f"\nnote: {state}" if state.startswith("the new results") else ""))
@@ -153,11 +155,11 @@ def main(argv: list[str] | None = None) -> int:
 
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,
              draw_modes: int = 6, fps: float = 12.0, let: dict | None = None, cases=None,
-             write: str = "all", units=None) -> int:
+             write: str = "all", units=None, video: bool = False) -> int:
     """Solve the deck and write its results folder (default results/<deck name>); `let`
     overrides let parameters (read_deck), `cases` names the cases and combinations to solve
     (with what they need; all when None), `write` what the folder holds (write_results), `units`
-    (fem.display.DisplayUnits) the display units over the deck's.
+    (fem.display.DisplayUnits) the display units over the deck's, `video` MP4 animations besides WebP.
     Prints the summary; returns the exit status."""
     from dataclasses import replace
     from pathlib import Path
@@ -187,7 +189,7 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
             _silence_stdout()
 
     written = write_results(results, shown, render=render, jobs=jobs, draw_modes=draw_modes, fps=fps,
-                            staged=first_answer, write=write)
+                            staged=first_answer, write=write, video=video)
     status = print_written(results, replace(written, notes=(*notes, *written.notes)))
     sys.stdout.flush()          # a reader gone by now is met here (status 0), not at the exit
     return status

@@ -4,6 +4,7 @@ scipy's solve_ivp and the response-spectrum formulas of EN 1998-1:2004 and Der K
 (1981). Each check reads the files a user reads (CSV and results.json), not internal arrays."""
 
 import csv
+import gzip
 import json
 from pathlib import Path
 
@@ -41,7 +42,7 @@ class Run:
     def rows(self, file, case=None, keys=1):
         """{label or (labels): values} of the rows of one case (or of a file without a case
         column when case is None: {(first column, label): values})."""
-        with open(self.out / file) as fh:
+        with (gzip.open(self.out / file, "rt", newline="") if file.endswith(".gz") else open(self.out / file)) as fh:
             r = csv.reader(fh)
             next(r)
             out = {}
@@ -230,8 +231,8 @@ def test_modes_against_dense_eigh(which, request):
 
 
 def _history_rows(r: Run, name):
-    """{node: (steps, 12) ux..rz, vx..vz, ax..az} of a history or free CSV."""
-    with open(r.out / name) as fh:
+    """{node: (steps, 12) ux..rz, vx..vz, ax..az} of a history or free table (gzip-compressed CSV)."""
+    with gzip.open(r.out / name, "rt", newline="") as fh:
         rd = csv.reader(fh)
         next(rd)
         out = {}
@@ -280,7 +281,7 @@ def test_surge_against_solve_ivp_of_the_same_modes_and_static_correction(rack):
     u_res -= Phi @ (Phi.T @ F / w2)
     u = Phi @ q + np.outer(u_res, g(t))
     v = Phi @ qd + np.outer(u_res, gd)
-    h = _history_rows(r, "history_SURGE.csv")
+    h = _history_rows(r, "history_SURGE.csv.gz")
     umax = np.abs(u.reshape(-1, 6, len(t))[:, :3]).max()
     vmax = np.abs(v.reshape(-1, 6, len(t))[:, :3]).max()
     for n, rows in h.items():
@@ -312,7 +313,7 @@ def test_quake_against_solve_ivp_of_the_same_modes(rack):
     q, _ = _modal_ivp(w2, 0.05, p, lambda tt: np.interp(tt, table[:, 0], table[:, 1]), t,
                       rtol=1e-10, max_step=0.01)
     u = Phi @ q
-    h = _history_rows(r, "history_QUAKE.csv")
+    h = _history_rows(r, "history_QUAKE.csv.gz")
     umax = np.abs(u.reshape(-1, 6, len(t))[:, :3]).max()
     for n, rows in h.items():
         j = 6 * r.idx[n]
@@ -334,8 +335,8 @@ def test_pump_against_a_direct_complex_solve(rack):
     C = r.M @ Phi @ np.diag(2 * 0.03 * w) @ Phi.T @ r.M
     F = np.zeros(r.n6)
     F[6 * r.idx["L2_0"] + 1] = 1500.0
-    frf = r.rows("frf_PUMP.csv", None)
-    frr = r.rows("frf_reactions_PUMP.csv", None)
+    frf = r.rows("frf_PUMP.csv.gz", None)
+    frr = r.rows("frf_reactions_PUMP.csv.gz", None)
     freqs = sorted({f for f, _ in frf})
     amax = max(v[:3].max() for v in frf.values())
     rmax = max(v[:6].max() for v in frr.values())
@@ -419,7 +420,7 @@ def test_mast_release_against_solve_ivp(mast):
     q, _ = _modal_ivp(w2, 0.02, np.zeros(9), lambda tt: 0.0, t, q0=Phi.T @ r.M @ u0, rtol=1e-11)
     u = Phi @ q
     umax = np.abs(u.reshape(-1, 6, len(t))[:, :3]).max()
-    for n, rows in _history_rows(r, "free_RELEASE.csv").items():
+    for n, rows in _history_rows(r, "free_RELEASE.csv.gz").items():
         j = 6 * r.idx[n]
         np.testing.assert_allclose(rows[:, 0:6], u[j:j + 6].T, rtol=0, atol=1e-8 * umax)
     Ku = r.K @ u

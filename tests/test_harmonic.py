@@ -1,5 +1,7 @@
 """Harmonic sweeps: SDOF amplification and phase, direct complex solve of the full system."""
 
+import gzip
+
 import numpy as np
 import pytest
 import scipy.sparse.linalg as spla
@@ -198,13 +200,13 @@ def test_reaction_and_end_force_phases_match_direct_complex_solve(tmp_path):
     assert np.ptp(lag_degrees(R[:, 0, 0])) > 90
     out = tmp_path / "out"
     doc = write_results(solved, out, render=False).doc
-    with (out / "frf_reactions_F.csv").open() as fh:
+    with gzip.open(out / "frf_reactions_F.csv.gz", "rt", newline="") as fh:
         rows = [row for row in csv.DictReader(fh) if row["node"] == "N0"]
     assert len(rows) == len(h.freq)
     k = int(np.argmax(np.abs(R[:, 0, 0])))
     assert float(rows[k]["amp_Fx"]) == pytest.approx(abs(R[k, 0, 0]), rel=1e-8)
     assert float(rows[k]["lag_deg_Fx"]) == pytest.approx(lag_degrees(R[k, 0, 0]), abs=1e-5)
-    with (out / "frf_member_forces_F.csv").open() as fh:
+    with gzip.open(out / "frf_member_forces_F.csv.gz", "rt", newline="") as fh:
         rows = [row for row in csv.DictReader(fh) if row["member"] == "ARM" and row["end"] == "j"]
     assert float(rows[k]["lag_deg_Mz"]) == pytest.approx(lag_degrees(Fm[k, arm, 11]), abs=1e-5)
     case = next(c for c in json.loads((out / "results.json").read_text())["cases"] if c["name"] == "F")
@@ -230,8 +232,8 @@ def test_end_force_table_beyond_the_row_limit_is_warned_not_written(tmp_path, mo
     assert len(w) == 1 and len(h.warnings) == 2
     assert w[0].startswith("deck.deck:") and "record fewer nodes" in w[0]
     write_results(solved, tmp_path / "out", render=False)
-    assert (tmp_path / "out" / "frf_reactions_F.csv").exists()
-    assert not (tmp_path / "out" / "frf_member_forces_F.csv").exists()
+    assert (tmp_path / "out" / "frf_reactions_F.csv.gz").exists()
+    assert not (tmp_path / "out" / "frf_member_forces_F.csv.gz").exists()
 
 
 def test_modes_complete_to_the_sturm_shift(capsys, tmp_path):

@@ -87,11 +87,11 @@ def test_write_choice_decides_what_the_folder_holds(solved, tmp_path):
         write_results(solved, out, render=False, write=choice)
         folders[choice] = {p.relative_to(out).as_posix() for p in out.rglob("*") if p.is_file()}
     tables = folders["tables"]
-    assert "results.json" in tables and "displacements.csv" in tables and "history_KICK.csv" in tables
+    assert "results.json" in tables and "displacements.csv" in tables and "history_KICK.csv.gz" in tables
     assert not any(f.startswith(("modes/", "response/", "plots/", "pictures/")) for f in tables)
     assert "report.html" not in tables
     viewers = folders["viewers"] - tables
-    assert "response/KICK.vtkhdf" in viewers and "modes/MODES_mode_001.vtu" in viewers
+    assert "response/KICK.vtkhdf" in viewers and "modes/MODES_modes.vtkhdf" in viewers
     assert "report.html" not in viewers and not any(f.startswith(("plots/", "pictures/")) for f in viewers)
     assert tables <= folders["viewers"] <= folders["all"]
     assert "report.html" in folders["all"]

@@ -37,8 +37,8 @@ from fem.output.vtk import shape_scale
 m = read_deck(sys.argv[1])
 others = solve(m).modal
 out = Path(sys.argv[2])
-moved = render_modes(out / "a", m, others[0], shape_scale(m), gif=False)
-still = render_modes(out / "b", m, others[0], 0.0, gif=False)
+moved = render_modes(out / "a", m, others[0], shape_scale(m), animate=False)
+still = render_modes(out / "b", m, others[0], 0.0, animate=False)
 a = np.asarray(Image.open(moved[0]).convert("RGB"), dtype=float)
 b = np.asarray(Image.open(still[0]).convert("RGB"), dtype=float)
 h, w, _ = a.shape
@@ -85,33 +85,37 @@ def test_renders_show_motion(deck, tmp_path):
     assert got["bar_colours"] > 200 and got["edge_white"]
 
 
-def test_run_writes_pictures_and_gifs(deck, tmp_path):
+def test_run_writes_pictures_and_animations(deck, tmp_path):
     ok, why = can_render()
     if not ok:
         pytest.skip(why)
     out = tmp_path / "res"
     r = subprocess.run([sys.executable, "-m", "fem", "run", str(deck), "--out", str(out), "--jobs", "1",
-                        "--fps", "5"], capture_output=True, text=True, timeout=600, cwd=ROOT)
+                        "--fps", "5", "--video"], capture_output=True, text=True, timeout=600, cwd=ROOT)
     assert r.returncode == 0, r.stderr[-2000:]
     pics = sorted(p.name for p in (out / "pictures").iterdir())
-    assert "MODES_mode_001_plane.png" in pics and "MODES_mode_002.gif" in pics and "REL.gif" in pics
+    assert "MODES_mode_001_plane.png" in pics and "MODES_mode_002.webp" in pics and "REL.webp" in pics
+    assert not any(p.endswith(".gif") for p in pics)            # each animation is written once, as WebP
     import h5py
     import numpy as np
     from PIL import Image
-    gif = Image.open(out / "pictures" / "MODES_mode_001.gif")
-    assert gif.n_frames == 24               # each frame's time caption differs, so none is merged
+    from fem.output.render import MODE_FRAMES
+    anim = Image.open(out / "pictures" / "MODES_mode_001.webp")
+    assert anim.n_frames == MODE_FRAMES == 16    # each frame's time caption differs, so none is merged
     # the colour bar stays inside the smaller animation frames too: the right edge is white
     # above the axes marker
-    frame = np.asarray(gif.convert("RGB"), dtype=float)
+    frame = np.asarray(anim.convert("RGB"), dtype=float)
     assert (frame[: int(0.8 * frame.shape[0]), -3:] > 250).all()
     assert ((frame[:, int(0.8 * frame.shape[1]):, 2] - frame[:, int(0.8 * frame.shape[1]):, 0]) > 60).sum() > 100
     report = (out / "report.html").read_text(encoding="utf-8")
     assert "mode 1, " in report and "isometric view" in report and "one cycle" in report
-    rel = Image.open(out / "pictures" / "REL.gif")
+    rel = Image.open(out / "pictures" / "REL.webp")
+    rel.seek(1)
+    rel.load()
     assert rel.info["duration"] == 200      # --fps 5: 200 ms a frame
     doc = json.loads((out / "results.json").read_text())
     with h5py.File(out / "response" / "REL.vtkhdf") as h5:     # one file, a step per frame
-        assert rel.n_frames == len(h5["VTKHDF/Steps/Values"])
+        assert rel.n_frames == len(h5["VTKHDF/Steps/Values"]) <= 120    # under the animations' cap
     # the time caption sits in the lower-left corner (bottom 12 % of the height, left third);
     # it changes from frame to frame while the structure above it is drawn elsewhere
     caps = []
@@ -129,11 +133,11 @@ def test_run_writes_pictures_and_gifs(deck, tmp_path):
     right = peak[: int(0.8 * peak.shape[0]), int(0.8 * peak.shape[1]):]
     assert ((right[..., 2] - right[..., 0]) > 60).sum() > 100
     assert (peak[: int(0.8 * peak.shape[0]), -3:] > 250).all()
-    from fem.output.render import video_available
+    from fem.output.animation import video_available
     if video_available():
         import imageio.v2 as imageio
         with imageio.get_reader(out / "pictures" / "MODES_mode_001.mp4") as rd:
-            assert rd.count_frames() == 24
+            assert rd.count_frames() == MODE_FRAMES
             assert rd.get_data(0).shape[:2] == (640, 480)     # portrait, rows x columns
 
 
@@ -160,7 +164,7 @@ sys.exit(1)
 """
 
 RESULT_FILES = ("results.json", "displacements.csv", "reactions.csv", "member_forces.csv", "modes.csv",
-                "mode_shapes.csv", "free_REL.csv", "report.html", "modes/MODES_modes.pvd", "response/REL.vtkhdf")
+                "mode_shapes.csv", "free_REL.csv.gz", "report.html", "modes/MODES_modes.vtkhdf", "response/REL.vtkhdf")
 
 
 def _run_in_process(deck, out, capsys):

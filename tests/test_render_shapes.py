@@ -31,7 +31,7 @@ for j in (0, 3):
     one = replace(modes, shapes=modes.shapes[:, :, j:j + 1], first_mode=j,
                   modes=replace(modes.modes, freq=modes.modes.freq[j:j + 1], period=modes.modes.period[j:j + 1]),
                   part=replace(modes.part, fraction=modes.part.fraction[j:j + 1]))
-    files = render_modes(out, m, one, shape_scale(m), gif=False)
+    files = render_modes(out, m, one, shape_scale(m), animate=False)
     a = np.asarray(Image.open(files[1]).convert("RGB"), dtype=float)      # isometric
     h, w, _ = a.shape
     x0, y0, x1, y1 = PICTURE_FIELD

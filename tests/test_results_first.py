@@ -44,7 +44,7 @@ def test_the_numbers_are_printed_before_the_pictures_are_drawn(tmp_path, deck, c
     out = tmp_path / "proj"
     seen = {}
 
-    def draw(results, staged, jobs, draw_modes=6, fps=12.0):
+    def draw(results, staged, jobs, draw_modes=6, fps=12.0, video=False, pool=None):
         seen["printed"] = capsys.readouterr().out
         seen["in place"] = out.exists()
         seen["staged"] = sorted(p.name for p in staged.iterdir())

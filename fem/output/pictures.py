@@ -9,11 +9,18 @@ from __future__ import annotations
 import shutil
 from pathlib import Path
 
-__all__ = ["draw_pictures"]
+__all__ = ["draw_pictures", "wants_pictures"]
 
 
-def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float = 12.0) -> str:
-    """Pictures of `results` into out/pictures; returns the one-line notice for the summary."""
+def wants_pictures(results) -> bool:
+    """Whether `results` has anything to draw (modes, buckled shapes, free or history responses)."""
+    return bool(results.of_kind("modes", "buckling", "free", "history"))
+
+
+def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float = 12.0,
+                  video: bool = False, pool=None) -> str:
+    """Pictures of `results` into out/pictures, drawn by the processes of `pool`
+    (render_pool.start_pool) when given; returns the one-line notice for the summary."""
     modes = results.of_kind("modes")
     if results.of_kind("buckling"):
         from .buckling_out import mode_view
@@ -31,7 +38,7 @@ def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float
         if not ok:
             return f"pictures skipped: {why}; results are complete"
         files = render_pool.render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs,
-                                  draw_modes, fps)
+                                       draw_modes, fps, video, pool=pool)
     except Exception as exc:   # noqa: BLE001 - pictures are extras; a drawing failure must not lose results
         # half-drawn pictures would look complete in the report: drop them all
         shutil.rmtree(out / "pictures", ignore_errors=True)

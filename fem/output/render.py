@@ -20,7 +20,8 @@ import numpy as np
 from .fmt import percent
 from .vtk import MAX_TURN, drawing_scale
 
-__all__ = ["can_render", "drawing_scale", "one_line", "render_modes", "render_response"]
+__all__ = ["MODE_FRAMES", "RESPONSE_FRAMES", "can_render", "drawing_scale", "one_line", "plotters_made",
+           "release", "render_modes", "render_response", "response_frames"]
 
 _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64, 64)); "
           "p.add_mesh(pv.Sphere()); p.screenshot(None); p.close()")
@@ -28,6 +29,8 @@ COLORMAP = "cividis"        # perceptually uniform, readable in grey and by colo
 SIZE = (960, 720)           # still pictures
 GIF_SIZE = (640, 480)       # animations: smaller frames keep files and the report light
 FPS = 12.0                  # animation frames a second (quaver run --fps)
+MODE_FRAMES = 16            # frames of a mode's cycle: a sine at 16 points reads as smooth motion
+RESPONSE_FRAMES = 120       # at most this many frames of a response animation, spread evenly (our choice)
 
 
 _ANSI = re.compile(r"\x1b\[[0-9;?]*[ -/]*[@-~]|\x1b[@-_]")
@@ -162,15 +165,50 @@ def _sizes(model) -> tuple[tuple[int, int], tuple[int, int]]:
     return SIZE, GIF_SIZE
 
 
+_CANVAS = {"plotter": None, "made": 0}
+
+
+def plotters_made() -> int:
+    """How many plotters (offscreen contexts) this process has made: one serves every picture."""
+    return _CANVAS["made"]
+
+
+def release() -> None:
+    """Close this process's plotter (the next picture makes a new one)."""
+    p, _CANVAS["plotter"] = _CANVAS["plotter"], None
+    if p is not None:
+        p.close()
+
+
+def _canvas(pv, size):
+    """This process's one offscreen plotter, emptied of the last picture's actors, colour bars
+    and texts (its lights and render window kept): making a context costs about 0.4 s."""
+    p = _CANVAS["plotter"]
+    if p is None or p._closed:
+        p = _CANVAS["plotter"] = pv.Plotter(off_screen=True, window_size=size)
+        _CANVAS["made"] += 1
+        _CANVAS["axes"] = None
+    else:
+        for title in list(p.scalar_bars.keys()):
+            p.remove_scalar_bar(title, render=False)
+        p.renderer.clear_actors()
+        p.window_size = size
+    return p
+
+
 def _setup(pv, poly, caption, size=SIZE):
-    p = pv.Plotter(off_screen=True, window_size=size)
+    p = _canvas(pv, size)
     p.set_background("white")
     p.add_mesh(poly.copy(), color="#b8bcc4", opacity=0.4, line_width=3, render_lines_as_tubes=True)
     if "spring" in poly.cell_data:         # springs between nodes, in their undeformed places
         p.add_mesh(poly.extract_cells(np.flatnonzero(poly.cell_data["spring"])), color="#2a7f62", line_width=3)
     p.add_text(caption, position="upper_left", font_size=11 if size[0] >= size[1] else 9, color="#1d2733")
     # a small orientation marker in the lower right corner, clear of captions and colour bar
-    p.add_axes(line_width=2, color="#1d2733", viewport=(0.86, 0.0, 1.0, 0.14 * size[0] / size[1]))
+    # (kept from the plotter's last picture when in the same place: it draws the same)
+    viewport = (0.86, 0.0, 1.0, 0.14 * size[0] / size[1])
+    if _CANVAS.get("axes") != viewport:
+        p.add_axes(line_width=2, color="#1d2733", viewport=viewport)
+        _CANVAS["axes"] = viewport
     return p
 
 
@@ -277,10 +315,11 @@ def _mode_caption(j: int, modal, jj: int, character) -> str:
             f"effective mass X {percent(eff[0])}  Y {percent(eff[1])}  Z {percent(eff[2])}")
 
 
-def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
-                 gif: bool = True, fps: float = FPS) -> list[Path]:
-    """Per mode: PNG in the plane of largest motion, an isometric PNG, and a GIF of one cycle,
-    all from one plotter whose points are updated in place. Members are drawn along their own
+def render_modes(folder: Path, model, modal, length: float, frames: int = MODE_FRAMES,
+                 animate: bool = True, fps: float = FPS, video: bool = False) -> list[Path]:
+    """Per mode: PNG in the plane of largest motion, an isometric PNG, and an animation of one
+    cycle (WebP; MP4 too with `video`), all from this process's one plotter, its points updated
+    in place. Members are drawn along their own
     interpolated shapes (several points each), twisting members with a ribbon; the shape is
     scaled by drawing_scale. Colour: the drawn motion (translation, and twist times the lever
     length / MAX_TURN) relative to its largest, 0 to 1. Caption: what the mode does and where
@@ -335,34 +374,24 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = 24,
         _fit(p, span, *ISO)
         p.screenshot(str(stem) + "_iso.png")
         out += [Path(str(stem) + "_plane.png"), Path(str(stem) + "_iso.png")]
-        if gif:
+        if animate:
             def show(i, drawn=drawn, disp=disp, twist=twist):
                 a = np.sin(2 * np.pi * i / frames)
                 _frame(p, drawn, disp * a, twist * a)
             p.window_size = moving
             _fit(p, span, *view)
             out += _animate(p, show, frames, stem, fps, _clock(p, ""),
-                            _cycle_captions(float(modal.modes.period[jj]), frames), size=moving)
-        p.close()
+                            _cycle_captions(float(modal.modes.period[jj]), frames), size=moving, video=video)
     return out
 
 
-def video_available() -> bool:
-    """MP4 needs an ffmpeg encoder; the optional 'video' extra (imageio-ffmpeg) ships one."""
-    try:
-        import imageio_ffmpeg  # noqa: F401
-    except ImportError:
-        return False
-    return True
-
-
 def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
-             captions=(), size=GIF_SIZE) -> list[Path]:
+             captions=(), size=GIF_SIZE, video: bool = False) -> list[Path]:
     """Render frames 0..count-1 once each (show(i) moves the drawing to frame i), with its
-    caption in the `clock` text actor; write stem.gif always and stem.mp4 when an encoder is
-    available. Frames are taken from the live plotter (points updated in place), so one
-    context serves every frame and both files."""
-    import imageio.v2 as imageio
+    caption in the `clock` text actor; write them once as stem.webp (and stem.mp4 with `video`,
+    `animation.write_animation`). Frames are taken from the live plotter (points updated in
+    place), so one context serves every frame."""
+    from .animation import write_animation
 
     p.window_size = size
     _bar_fonts(p, size)
@@ -372,22 +401,22 @@ def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
             clock.set_text("lower_left", captions[i])
         show(i)
         images.append(p.screenshot(None, return_img=True))
-    gif = stem.with_suffix(".gif")
-    imageio.mimsave(gif, images, duration=1000 / fps, loop=0)
-    out = [gif]
-    if video_available():
-        mp4 = stem.with_suffix(".mp4")
-        with imageio.get_writer(mp4, fps=fps, codec="libx264", quality=7, macro_block_size=16) as w:
-            for im in images:
-                w.append_data(im)
-        out.append(mp4)
-    return out
+    return write_animation(stem, images, fps, video)
 
 
-def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool = True,
-                    fps: float = FPS) -> list[Path]:
-    """GIF of a free or history response at an exaggerated but constant scale, each frame
-    captioned with its time, and a PNG of the frame with the largest motion. Members follow
+def response_frames(count: int, worst: int, cap: int = RESPONSE_FRAMES) -> np.ndarray:
+    """Indices of the frames a response animation shows: all of `count` up to `cap`, else about
+    `cap` spread evenly with the first, the last and the one of largest motion (`worst`)."""
+    if count <= cap:
+        return np.arange(count)
+    return np.union1d(np.linspace(0, count - 1, cap).round().astype(int), [worst])
+
+
+def render_response(folder: Path, model, name: str, frame_t, frames, animate: bool = True,
+                    fps: float = FPS, video: bool = False) -> list[Path]:
+    """Animation (WebP; MP4 too with `video`) of a free or history response at an exaggerated
+    but constant scale, at most about RESPONSE_FRAMES frames each captioned with its time, and
+    a PNG of the frame with the largest motion. Members follow
     their interpolated shapes; the scale makes the largest translation 5 % of the model's size
     unless the rotations would then pass MAX_TURN (as for mode shapes)."""
     from ..elements.interpolate import member_curves, points_per_member, prepare_curves
@@ -420,13 +449,14 @@ def render_response(folder: Path, model, name: str, frame_t, frames, gif: bool =
     png = folder / f"{name}_peak.png"
     p.screenshot(str(png))
     out = [png]
-    if gif:
+    if animate:
+        shown = response_frames(len(frame_t), worst)
+
         def show(i):
-            c = member_curves(model, frames[i], prepared=prepared)
+            c = member_curves(model, frames[shown[i]], prepared=prepared)
             _frame(p, drawn, c.disp * k, c.twist * k, "motion (m)", k if k > 0 else 1.0)
-        marks = [f"t = {x:.4g} s" + ("  (largest motion)" if i == worst else "") for i, x in enumerate(frame_t)]
+        marks = [f"t = {frame_t[i]:.4g} s" + ("  (largest motion)" if i == worst else "") for i in shown]
         p.window_size = moving
         _fit(p, span, *ISO)
-        out += _animate(p, show, len(frame_t), folder / name, fps, clock, marks, size=moving)
-    p.close()
+        out += _animate(p, show, len(shown), folder / name, fps, clock, marks, size=moving, video=video)
     return out

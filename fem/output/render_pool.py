@@ -1,5 +1,6 @@
 """Drawing many pictures at once: the modes and responses of a run spread over processes,
-each with its own offscreen context, that end with the run (`render_all`)."""
+each with one offscreen context that draws all of its pictures, ending with the run
+(`render_all`)."""
 
 from __future__ import annotations
 
@@ -7,43 +8,72 @@ import os
 import sys
 from pathlib import Path
 
-from .render import FPS, render_modes, render_response
+from .render import FPS, release, render_modes, render_response
 
-__all__ = ["PARENT_POLL", "render_all"]
+__all__ = ["PARENT_POLL", "render_all", "start_pool", "stop_pool"]
 
 
 def _render_chunk(args):
-    kind, folder, model, item, extra, fps = args
+    kind, folder, model, item, extra, fps, video = args
     if kind == "modes":
-        return render_modes(folder, model, item, extra, fps=fps)
-    return render_response(folder, model, item.name, item.frame_t, item.frames, fps=fps)
+        return render_modes(folder, model, item, extra, fps=fps, video=video)
+    return render_response(folder, model, item.name, item.frame_t, item.frames, fps=fps, video=video)
+
+
+def _warm() -> None:
+    """A drawing process's start-up: the libraries every picture needs."""
+    import pyvista  # noqa: F401
+
+    from ..elements import interpolate  # noqa: F401
+
+
+def start_pool(jobs: int):
+    """The `jobs` drawing processes, started now so that their start-up (importing pyvista and
+    VTK, 1-2 s each) overlaps the writing of the tables; None for one job. Hand it to
+    `render_all`, which ends it; `stop_pool` ends it if it is not used."""
+    if jobs <= 1:
+        return None
+    import multiprocessing as mp
+    from concurrent.futures import ProcessPoolExecutor
+
+    ex = ProcessPoolExecutor(max_workers=jobs, mp_context=mp.get_context("spawn"),
+                             initializer=_worker_start, initargs=(os.getpid(),))
+    for _ in range(jobs):           # a process is spawned for each task submitted while none is idle
+        ex.submit(_warm)
+    return ex
+
+
+def stop_pool(pool) -> None:
+    """End the drawing processes of `start_pool` (None: nothing to do) at once."""
+    if pool is not None:
+        _stop_workers(pool)
 
 
 def render_all(folder: Path, model, modal_cases, responses, length: float, jobs: int = 1,
-               max_modes: int = 6, fps: float = FPS) -> list[Path]:
-    """Pictures and animations (played at `fps` frames a second) of the first `max_modes` modes
-    of every modes case and of every free/history response, in `jobs` parallel processes (each
-    with its own offscreen context)."""
+               max_modes: int = 6, fps: float = FPS, video: bool = False, pool=None) -> list[Path]:
+    """Pictures and animations (played at `fps` frames a second; MP4 besides WebP with
+    `video`) of the first `max_modes` modes of every modes case and of every free/history
+    response, in `jobs` parallel processes (each with one offscreen context for all its
+    pictures), those of `pool` (`start_pool`) when given, which end with it."""
     from dataclasses import replace
 
-    tasks = []
+    # the responses first: the longest tasks, so the processes finish together
+    tasks = [("response", folder, model, r, None, fps, video) for r in responses]
     for m in modal_cases:
         # one task per mode so the work spreads over the processes
         for j in range(min(m.shapes.shape[2], max_modes)):
             one = replace(m, shapes=m.shapes[:, :, j:j + 1],
                           modes=replace(m.modes, freq=m.modes.freq[j:j + 1], period=m.modes.period[j:j + 1]),
                           part=replace(m.part, fraction=m.part.fraction[j:j + 1]))
-            tasks.append(("modes", folder, model, replace(one, first_mode=j), length, fps))
-    tasks += [("response", folder, model, r, None, fps) for r in responses]
+            tasks.append(("modes", folder, model, replace(one, first_mode=j), length, fps, video))
     from ..progress import bar
 
-    if jobs <= 1 or len(tasks) <= 1:
-        return [f for t in bar(tasks, len(tasks), "rendering") for f in _render_chunk(t)]
-    import multiprocessing as mp
-    from concurrent.futures import ProcessPoolExecutor
-
-    ex = ProcessPoolExecutor(max_workers=jobs, mp_context=mp.get_context("spawn"),
-                             initializer=_worker_start, initargs=(os.getpid(),))
+    if pool is None and (jobs <= 1 or len(tasks) <= 1):
+        try:
+            return [f for t in bar(tasks, len(tasks), "rendering") for f in _render_chunk(t)]
+        finally:
+            release()
+    ex = pool if pool is not None else start_pool(jobs)
     try:
         done = bar(ex.map(_render_chunk, tasks), len(tasks), "rendering")
         files = [f for files in done for f in files]
@@ -69,6 +99,8 @@ def _worker_start(parent: int) -> None:
     import threading
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    # the offscreen window the parent's probe (render.can_render) uses; the pool may start first
+    os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
     null = os.open(os.devnull, os.O_WRONLY)
     os.dup2(null, 1)
     os.dup2(null, 2)

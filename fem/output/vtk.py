@@ -1,7 +1,8 @@
 """Mode-shape and response files any VTK viewer opens, members as polylines through points along
-them carrying the members' own interpolated shapes: one VTU per mode (meshio) and a PVD
-collection to step through them; one VTKHDF file per response case holding all its time steps
-(h5py), so a time series is one file, not one per frame.
+them carrying the members' own interpolated shapes: one VTKHDF file (h5py) per modes case with a
+step per mode (the step's value is the mode number) and one per response case holding all its
+time steps, so a series is one file, not one per mode or frame. (`_Grid.write` writes a single
+shape as VTU with meshio.)
 
 Points: the model's nodes first, in model order (point i is node i), then the inner points of
 each member in member order (VTU_POINTS - 2 per member, evenly spaced; fewer when the inner
@@ -16,19 +17,19 @@ from __future__ import annotations
 
 import csv
 from pathlib import Path
-from xml.sax.saxutils import quoteattr
 
 import numpy as np
 
 from ..elements.interpolate import member_curves, points_per_member, prepare_curves
 from ..model import Model
 
-__all__ = ["MAX_TURN", "RESPONSE_FORMAT", "drawing_scale", "shape_scale", "write_pvd", "write_mode_files",
+__all__ = ["MAX_TURN", "RESPONSE_FORMAT", "drawing_scale", "shape_scale", "write_mode_files",
            "write_response_files", "write_vtkhdf_series"]
 
 MAX_TURN = 0.5       # rad: the largest section rotation a drawn shape shows (our choice)
 VTU_POINTS = 5       # points along each member in the files: a cubic's bow shows at this count
 VTU_BUDGET = 20_000  # inner points of all members in one file, at most (our choice)
+RESPONSE_FORMAT = "vtkhdf"   # one file per modes or response case: VTKHDF 2 (HDF5) with its steps
 
 
 def shape_scale(model: Model, fraction: float = 0.05) -> float:
@@ -92,14 +93,6 @@ class _Grid:
                     cell_data={"member": [self.member]}).write(path, file_format="vtu")
 
 
-def write_pvd(path: Path, entries: list[tuple[float, str]]) -> None:
-    """A ParaView data collection: (time or mode number, relative file name) per frame."""
-    lines = ['<?xml version="1.0"?>', '<VTKFile type="Collection" version="0.1">', "  <Collection>"]
-    lines += [f'    <DataSet timestep="{t:.9g}" part="0" file={quoteattr(f)}/>' for t, f in entries]
-    lines += ["  </Collection>", "</VTKFile>", ""]
-    path.write_text("\n".join(lines))
-
-
 def _write_names(folder: Path, model: Model) -> Path:
     path = folder / "names.csv"
     with path.open("w", newline="") as f:
@@ -111,26 +104,24 @@ def _write_names(folder: Path, model: Model) -> Path:
 
 
 def write_mode_files(folder: Path, model: Model, modal, length: float | None = None) -> list[Path]:
-    """modes/<case>_mode_<j>.vtu for every mode plus <case>_modes.pvd and names.csv; each shape
-    is drawn as in the pictures, along the members, at drawing_scale with `length` (default
-    shape_scale(model)); returns the files."""
+    """modes/<case>_modes.vtkhdf, every mode a step whose value is the mode number (1, 2, ...),
+    and names.csv; each shape is drawn as in the pictures, along the members, at drawing_scale
+    with `length` (default shape_scale(model)); returns the files."""
     length = shape_scale(model) if length is None else length
     folder.mkdir(parents=True, exist_ok=True)
     grid = _Grid(model)
-    entries, files = [], []
-    for j in range(modal.shapes.shape[2]):
+
+    def scaled(j):
         s = modal.shapes[:, :, j]
         c = grid.curves(s)
-        k = drawing_scale(c, s, length)
-        name = f"{modal.name}_mode_{j + 1:03d}.vtu"
-        grid.write(folder / name, grid.fields(s, k, c))
-        entries.append((j + 1, name))
-        files.append(folder / name)
-    write_pvd(folder / f"{modal.name}_modes.pvd", entries)
-    return files + [folder / f"{modal.name}_modes.pvd", _write_names(folder, model)]
+        return grid.fields(s, drawing_scale(c, s, length), c)
+
+    k = modal.shapes.shape[2]
+    path = folder / f"{modal.name}_modes.{RESPONSE_FORMAT}"
+    write_vtkhdf_series(path, grid, [float(j + 1) for j in range(k)], (scaled(j) for j in range(k)))
+    return [path, _write_names(folder, model)]
 
 
-RESPONSE_FORMAT = "vtkhdf"   # one file per response case: VTKHDF 2 (HDF5) with its time steps
 
 
 def write_response_files(folder: Path, model: Model, name: str, t: np.ndarray, u_all: np.ndarray,

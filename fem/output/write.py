@@ -1,7 +1,7 @@
 """`write_results`: a results folder that loses nothing, holding exactly what `quaver run` writes
 (all of it, or by `write` the tables alone or the tables and the files for viewers).
 
-The tables, VTU files, results.json, pictures and report go to a folder staged beside the
+The tables, files for viewers, results.json, pictures and report go to a folder staged beside the
 target and are swapped into place only when everything succeeded (`fem.output.folder`), so a
 failed or interrupted run leaves the previous results as they were. The numbers come first:
 the tables and results.json are staged (and `staged` is told) before any picture is drawn.
@@ -72,9 +72,9 @@ def prepare_folder(folder, deck: Path | None) -> tuple[Path, str, list[str]]:
 
 def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_modes: int = 6,
                   fps: float = 12.0, staged: Callable[[dict], None] | None = None,
-                  write: str = "all") -> Written:
+                  write: str = "all", video: bool = False) -> Written:
     """Write the results folder of `results` (a `fem.results.Results`): CSV tables, files for
-    VTK viewers (a VTU per mode, one VTKHDF file per free or history case), results.json,
+    VTK viewers (one VTKHDF file per modes case and per free or history case), results.json,
     pictures and the 3D view viewer.html (unless `render` is False) and the report, or less as
     `write` says, staged and swapped in only when all succeeded.
 
@@ -93,8 +93,10 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         Draw the first `draw_modes` modes of each modes case.
     fps : float
         Frames a second of the animations.
+    video : bool
+        Also write each animation as MP4 (when an ffmpeg encoder is installed); WebP always.
     staged : callable, optional
-        Called with the results document once the tables, VTU files and results.json are
+        Called with the results document once the tables, viewer files and results.json are
         written (staged, not yet in place), before the pictures and the report: `quaver run`
         prints the summary there, so the first numbers do not wait for the drawing. What it
         raises fails the write as any other error does (nothing is moved into place).
@@ -125,7 +127,13 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
     target, shown, notes = prepare_folder(folder, deck)
     tmp = _folder.stage(target)
     model = results.model
+    pool = None
     try:
+        if write == "all" and render and pictures.wants_pictures(results):
+            from . import render_pool
+
+            # the drawing processes start while the tables are written
+            pool = render_pool.start_pool(jobs)
         write_tables(results, tmp)
         if write != "tables":
             for r in results.of_kind("modes"):
@@ -136,7 +144,7 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         if staged is not None:
             staged(doc)
         if write == "all":
-            notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps) if render
+            notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps, video, pool=pool) if render
                       else "pictures skipped (--no-render)")
             if render:      # the interactive 3D view (viewer.html), whole or not at all
                 failed = viewer.write_viewer(results, tmp)
@@ -157,4 +165,9 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         # interrupted (Ctrl-C) or failed part-way: folder.where() says where the results are
         shutil.rmtree(tmp, ignore_errors=True)
         raise
+    finally:
+        if pool is not None:                # not used (nothing drawable, no OpenGL) or failed
+            from . import render_pool
+
+            render_pool.stop_pool(pool)
     return Written(shown, target, doc, notice, tuple(notes))

@@ -1,0 +1,85 @@
+"""Animations written once as animated WebP, response animations capped in frames, and one
+offscreen plotter reused for every picture a process draws."""
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from fem.output.animation import write_animation
+from fem.output.render import RESPONSE_FRAMES, can_render, response_frames
+
+ROOT = Path(__file__).parents[1]
+
+
+def test_webp_keeps_every_frame_and_its_timing(tmp_path):
+    from PIL import Image
+
+    # 7 frames of a moving dark bar, each differing from the last
+    frames = []
+    for k in range(7):
+        im = np.full((48, 64, 3), 255, np.uint8)
+        im[10:30, 5 + 6 * k:11 + 6 * k] = (20, 40, 90)
+        frames.append(im)
+    files = write_animation(tmp_path / "shape", frames, fps=4.0)
+    assert files == [tmp_path / "shape.webp"]
+    anim = Image.open(files[0])
+    assert anim.format == "WEBP" and anim.n_frames == 7 and anim.size == (64, 48)
+    for k in (0, 3, 6):
+        anim.seek(k)
+        anim.load()
+        assert anim.info["duration"] == 250                       # 4 frames a second
+        got = np.asarray(anim.convert("RGB"), float)
+        # lossy, but each frame shows its own bar where it was drawn (dark) and white elsewhere
+        assert got[20, 8 + 6 * k].max() < 128 and got[40, 8 + 6 * k].min() > 200
+
+
+def test_response_frames_are_capped_and_keep_first_last_and_largest():
+    assert list(response_frames(50, 7)) == list(range(50))       # under the cap: every frame
+    shown = response_frames(1001, 333)
+    assert RESPONSE_FRAMES <= len(shown) <= RESPONSE_FRAMES + 1
+    assert shown[0] == 0 and shown[-1] == 1000 and 333 in shown
+    assert (np.diff(shown) > 0).all() and np.diff(shown).max() <= 1000 / (RESPONSE_FRAMES - 1) + 1
+
+
+REUSE = r"""
+import json, sys
+from pathlib import Path
+from fem import read_text, solve
+from fem.output import render, render_pool
+from fem.output.vtk import shape_scale
+deck = '''
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+for i in 0..3 { node N[i] = (0, 0, i*1.5 m) }
+for i in 0..2 { member M[i] : N[i] -> N[i+1] beam P S }
+support N0 fixed
+mass N3 = 300 kg
+case TIP static { force N3 = (2 kN, 0, 0) }
+case MODES modes { count = 2 }
+case REL free { start = TIP, duration = 0.3 s, step = 0.01 s }
+'''
+res = solve(read_text(deck))
+render.can_render()
+out = Path(sys.argv[1])
+files = render_pool.render_all(out, res.model, res.of_kind("modes"), res.of_kind("free"),
+                               shape_scale(res.model), jobs=1, max_modes=2)
+print(json.dumps({"made": render.plotters_made(), "files": sorted(f.name for f in files)}))
+"""
+
+
+def test_one_plotter_draws_every_picture_of_a_process(tmp_path):
+    ok, why = can_render()
+    if not ok:
+        pytest.skip(why)
+    r = subprocess.run([sys.executable, "-c", REUSE, str(tmp_path)], capture_output=True, text=True,
+                       timeout=300, cwd=ROOT)
+    assert r.returncode == 0, r.stderr[-2000:]
+    got = json.loads(r.stdout.strip().splitlines()[-1])
+    assert got["made"] == 1                 # two modes and a response, one context
+    assert got["files"] == ["MODES_mode_001.webp", "MODES_mode_001_iso.png", "MODES_mode_001_plane.png",
+                            "MODES_mode_002.webp", "MODES_mode_002_iso.png", "MODES_mode_002_plane.png",
+                            "REL.webp", "REL_peak.png"]
