@@ -295,6 +295,13 @@ def _frame(p, drawn: _Drawn, disp, twist, colour: str | None = None, norm: float
     p.render()
 
 
+def _still(p, path: Path) -> Path:
+    """The plotter's picture as a palette PNG file (`png`)."""
+    from .png import write_palette_png
+
+    return write_palette_png(path, p.screenshot(None, return_img=True))
+
+
 def _clock(p, text: str):
     """The frame's time caption, lower left; its text is replaced frame by frame."""
     return p.add_text(text, position="lower_left", font_size=8, color="#1d2733")
@@ -370,9 +377,9 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = MODE_F
                      drawn.ribbon_points(disp, twist), drawn.ribbon_points(-disp, -twist)]
         _fit(p, span, *view)
         stem = folder / f"{modal.name}_mode_{j + 1:03d}"
-        p.screenshot(str(stem) + "_plane.png")
+        _still(p, Path(str(stem) + "_plane.png"))
         _fit(p, span, *ISO)
-        p.screenshot(str(stem) + "_iso.png")
+        _still(p, Path(str(stem) + "_iso.png"))
         out += [Path(str(stem) + "_plane.png"), Path(str(stem) + "_iso.png")]
         if animate:
             def show(i, drawn=drawn, disp=disp, twist=twist):
@@ -447,7 +454,7 @@ def render_response(folder: Path, model, name: str, frame_t, frames, animate: bo
     span = np.r_[poly.points, (pts[None] + k * curves.disp.reshape(len(curves.disp), -1, 3)).reshape(-1, 3)]
     _fit(p, span, *ISO)
     png = folder / f"{name}_peak.png"
-    p.screenshot(str(png))
+    _still(p, png)
     out = [png]
     if animate:
         shown = response_frames(len(frame_t), worst)
