@@ -70,3 +70,32 @@ def test_report_from_plots_drawn_before_is_the_same(solved, tmp_path):
     report.report(solved, doc, b, plotted=report.draw_plots(solved, b))
     assert (a / "report.html").read_bytes() == (b / "report.html").read_bytes()
     assert sorted(p.name for p in (a / "plots").iterdir()) == sorted(p.name for p in (b / "plots").iterdir())
+
+
+def test_gl_probe_starts_with_the_pool_and_runs_once(monkeypatch):
+    """render.start_probe runs the OpenGL probe in a thread (while the tables are written);
+    render.probed waits for that one instead of starting a second."""
+    import subprocess
+    import time
+
+    from fem.output import render
+
+    calls = []
+
+    def fake_run(cmd, **kw):
+        calls.append(cmd)
+        time.sleep(0.3)
+        return subprocess.CompletedProcess(cmd, 0, "", "")
+
+    monkeypatch.delenv("QUAVER_NO_GL", raising=False)
+    monkeypatch.setattr(render, "_PROBING", [])
+    monkeypatch.setattr(render.subprocess, "run", fake_run)
+    render.can_render.cache_clear()
+    try:
+        render.start_probe()
+        render.start_probe()               # once a process
+        assert render.probed() == (True, "")
+        assert render.can_render() == (True, "")
+    finally:
+        render.can_render.cache_clear()
+    assert len(calls) == 1

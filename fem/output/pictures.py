@@ -34,7 +34,7 @@ def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float
 
     model = results.model
     try:
-        ok, why = render.can_render()
+        ok, why = render.probed()     # started with the pool (render_pool.start_pool)
         if not ok:
             return f"pictures skipped: {why}; results are complete"
         files = render_pool.render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs,

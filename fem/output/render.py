@@ -20,8 +20,8 @@ import numpy as np
 from .fmt import percent
 from .vtk import MAX_TURN, drawing_scale
 
-__all__ = ["MODE_FRAMES", "RESPONSE_FRAMES", "can_render", "drawing_scale", "one_line", "plotters_made",
-           "release", "render_modes", "render_response", "response_frames"]
+__all__ = ["MODE_FRAMES", "RESPONSE_FRAMES", "can_render", "drawing_scale", "one_line", "plotters_made", "probed",
+           "release", "render_modes", "render_response", "response_frames", "start_probe"]
 
 _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64, 64)); "
           "p.add_mesh(pv.Sphere()); p.screenshot(None); p.close()")
@@ -76,6 +76,26 @@ def can_render() -> tuple[bool, str]:
         return False, f"no OpenGL context could be created ({last})"
     os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
     return True, ""
+
+
+_PROBING: list = []
+
+
+def start_probe() -> None:
+    """Start `can_render`'s probe (a child process of about 1 s) in a thread now, so that its
+    answer is ready when the pictures start (`probed`); once a process."""
+    if not _PROBING:
+        import threading
+
+        _PROBING.append(threading.Thread(target=can_render, name="quaver-gl-probe", daemon=True))
+        _PROBING[0].start()
+
+
+def probed() -> tuple[bool, str]:
+    """`can_render`, after the probe `start_probe` began has finished (one probe, not two)."""
+    if _PROBING:
+        _PROBING[0].join()
+    return can_render()
 
 
 def _view_vector(main: int, extent: np.ndarray) -> np.ndarray:
