@@ -420,11 +420,18 @@ def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
     place), so one context serves every frame."""
     from .animation import write_animation
 
+    from .caption import FIXED_FROM, FixedCaption
+
     p.window_size = size
     _bar_fonts(p, size)
     images = []
+    if clock is not None and count >= FIXED_FROM:       # the captions' font size found once
+        show(0)
+        clock = FixedCaption(p, clock, captions[:count])
     for i in range(count):
-        if clock is not None:
+        if isinstance(clock, FixedCaption):
+            clock.show(captions[i])
+        elif clock is not None:
             clock.set_text("lower_left", captions[i])
         show(i)
         images.append(p.screenshot(None, return_img=True))
