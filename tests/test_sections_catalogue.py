@@ -387,8 +387,8 @@ RTOL_FAMILY = {
     # [+1.72 % IPE 400]; for HEB the spread is 0.95 % (HEB 300).
     ("IPE", "J"): 0.02,
     # Equal angles, built with the root fillet r = kdes - t and square toes [largest deviation]:
-    # A 1.36 % (L4X4X5/16; the table's A is the sharp t(2b - t) to its printed digits in 9 of 20
-    # rows and includes the fillet in others); I_u 0.91 % (default 1 %). I about a leg 1.92 % and
+    # A 1.36 % (L4X4X5/16, one of the 9 of 20 rows whose A is the sharp t(2b - t) to its printed
+    # digits; the others include the fillet); I_u 0.91 % (default 1 %). I about a leg 1.92 % and
     # W to the leg tip 1.82 % (L10X10X1): the L10 and L12 rows publish I about a leg 0.7-1.7 %
     # below even the sharp outline with their own A; I_v = I_leg - |I_product| is a difference, so
     # that gap grows to 5.41 % in I_v (L10X10X1; 14 of 20 rows above 1 %). J 3.32 % (L5X5X5/16):
