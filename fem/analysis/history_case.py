@@ -59,11 +59,15 @@ class HistorySeries(NamedTuple):
     k modes then of the l time functions' static parts, and statics[field] (N, l) the static
     parts' own fields ("displacement" (6n,), "reaction" (6n,), "end_force" (12e,)) and their
     members' uniform line loads ("line_load" (3e,), local axes: at step i, statics @ q[i, k:]).
-    With the modes' fields (`series_basis`), field(t_i) = basis[field] @ q[i]."""
+    With the modes' fields (`series_basis`), field(t_i) = basis[field] @ q[i]. inertia (m, k + 3):
+    the modes' accelerations then the ground's X, Y, Z, when the model carries inertia into
+    supports (link_dynamics.carried_inertia; else None); the reactions then add
+    basis["reaction_inertia"] @ inertia[i]."""
 
     q: np.ndarray
     statics: dict
     basis: dict | None = None
+    inertia: np.ndarray | None = None
 
 
 def series_basis(model: Model, asm: Assembled, r: HistoryResult, modal: ModesCaseResult) -> HistorySeries:
@@ -74,7 +78,12 @@ def series_basis(model: Model, asm: Assembled, r: HistoryResult, modal: ModesCas
     Rm, Fm = field_responses(model, asm, shapes.T)
     k = shapes.shape[1]
     own = {"displacement": shapes, "reaction": Rm.reshape(k, -1).T, "end_force": Fm.reshape(k, -1).T}
-    return r.series._replace(basis={f: np.hstack([own[f], r.series.statics[f]]) for f in own})
+    basis = {f: np.hstack([own[f], r.series.statics[f]]) for f in own}
+    if r.series.inertia is not None:        # the inertia links and masses off nodes carry into supports
+        from .link_dynamics import inertia_columns
+
+        basis["reaction_inertia"] = np.hstack(inertia_columns(model, asm, shapes))
+    return r.series._replace(basis=basis)
 
 
 class _Part(NamedTuple):
@@ -198,7 +207,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                          t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses,
-                         HistorySeries(qg, {**own, "line_load": np.array(lines).T}), l_peak, l_time,
+                         HistorySeries(qg, {**own, "line_load": np.array(lines).T},
+                                       inertia=None if carried is None else np.hstack([acc, a_ground])), l_peak, l_time,
                          springs=series_springs(model, qg, np.hstack([shapes, own["displacement"]]), t))
 
 
