@@ -42,11 +42,20 @@ combo CS = 1.0*ST + 1.0*SHAKE
 combo CH = 1.0*ST + 1.0*HUM
 combo CE = 1.0*ST + 1.0*EQ
 """
-LINK = BASE + "link ARM: B -> F\n"
-STIFF = BASE + "member ARM : B -> F beam Q H\n"
+AT_F = """
+case SF static { force F = (1 kN, 0, -5 kN) }
+combo CF = 1.0*SF + 1.0*KNOCK
+combo CG = 1.0*SF - 2.0*SHAKE
+combo CFH = 1.0*SF + 1.0*HUM
+combo CFE = 1.0*SF - 1.5*EQ
+envelope ALL over CF, CG, CFH
+"""
+LINK = BASE + AT_F + "link ARM: B -> F\n"
+STIFF = BASE + AT_F + "member ARM : B -> F beam Q H\n"
 OFF = BASE.replace("node F = (0.8 m, 0, 0)\n", "").replace(
     "mass F = 800 kg", "mass B = 800 kg offset = (0.8 m, 0, 0)")
 PAIRS = (("CK", "KNOCK"), ("CS", "SHAKE"))
+FOLLOWER = slice(0, 6)       # the link holds all six directions of F, its only follower
 
 
 @pytest.fixture(scope="module")
@@ -114,3 +123,79 @@ def test_mass_off_the_supported_node_combines_as_the_link(link):
     scale = np.abs(b.max[j]).max()
     np.testing.assert_allclose(a.max[i], b.max[j], rtol=0, atol=1e-8 * scale)
     np.testing.assert_allclose(a.min[i], b.min[j], rtol=0, atol=1e-8 * scale)
+
+
+def test_static_link_force_holds_the_load_on_its_follower(link):
+    """A load on the massless follower F only: the link holds it, p = -f (equilibrium of the node,
+    any statics text); exact to round-off of the static solve (1e-9 of the load)."""
+    f = link["CF"].fields["link_force"]
+    np.testing.assert_allclose(link["SF"].links, [-1e3, 0, 5e3, 0, 0, 0], rtol=0, atol=1e-6)
+    assert f.max.shape == (4, 6)
+
+
+@pytest.mark.parametrize("combo, case, factor", [("CF", "KNOCK", 1.0), ("CG", "SHAKE", -2.0)])
+def test_link_force_combination_by_time_holds_the_history_case_peaks(link, combo, case, factor):
+    """Static + factor * history, link forces step by step (K u - f and the inertia M a the link
+    holds): less the static link force, the larger size of the largest and smallest is |factor|
+    times the history case's own link force peak (fem/analysis/link_dynamics.py, checked against
+    closed forms in tests/test_link_dynamics.py). The same products summed in another order:
+    tolerance 1e-9 of the largest peak."""
+    f, s, h = link[combo].fields["link_force"], link["SF"].links, link[case]
+    F = link.model.node_names.index("F")
+    own = np.maximum(f.max[F] - s, s - f.min[F])
+    np.testing.assert_allclose(own, abs(factor) * h.links, rtol=0, atol=1e-9 * np.abs(h.links).max())
+    assert h.links[2] > 50.0                 # the link swings the 800 kg counterweight vertically
+    assert np.all(np.isfinite(f.max_by[F]))  # a history part governs: times, s
+    others = [i for i in range(4) if i != F]
+    assert not np.any(f.max[others]) and not np.any(f.min[others])
+
+
+@pytest.mark.parametrize("combo, case, factor", [("CFH", "HUM", 1.0), ("CFE", "EQ", -1.5)])
+def test_link_force_peaks_enter_with_both_signs(link, combo, case, factor):
+    """Spectrum and harmonic terms: static +/- |factor| * the case's link force peaks (the usual
+    treatment of a result without sign; common practice, no source), exact to round-off."""
+    f, s, p = link[combo].fields["link_force"], link["SF"].links, link[case].links
+    F = link.model.node_names.index("F")
+    np.testing.assert_allclose(f.max[F], s + abs(factor) * p, rtol=0, atol=1e-12 * np.abs(s).max())
+    np.testing.assert_allclose(f.min[F], s - abs(factor) * p, rtol=0, atol=1e-12 * np.abs(s).max())
+
+
+def test_link_force_combination_matches_the_stiff_member_end_force(link, stiff):
+    """Static + force history: the link's force on F in X and Z against the stiff member's end
+    force at F. The member B -> F lies along X with its local z along Z, and its end force at j
+    is what the node exerts on the member, so the link's largest force is minus the member's
+    smallest: (Fx, Fz) max = -(N_j, Vz_j) min and min = -max (the static part shows the
+    convention: the link holds -1 kN X, the member's N_j is +1 kN). Less the static part, which
+    is equal in both; the models differ by the member's flexibility and fast modes (measured
+    8e-5 of the history's largest link force): tolerance 1e-3 of it."""
+    F = link.model.node_names.index("F")
+    a = link["CF"].fields["link_force"]
+    e = stiff["CF"].fields["end_force"]
+    arm = stiff.model.member_names.index("ARM")
+    s = link["SF"].links[[0, 2]]
+    got = np.r_[a.max[F, [0, 2]], a.min[F, [0, 2]]] - np.r_[s, s]
+    want = -np.r_[e.min[arm, [6, 8]], e.max[arm, [6, 8]]] - np.r_[s, s]
+    np.testing.assert_allclose(got, want, rtol=0, atol=1e-3 * link["KNOCK"].links.max())
+
+
+def test_link_force_field_is_written(link, tmp_path):
+    """results.json demands carry `link_force` over the follower nodes only; the extremes table
+    extremes_link_force.csv a row per result, follower and direction."""
+    import json
+
+    fem.write_results(link, tmp_path / "out", write="tables")
+    doc = json.loads((tmp_path / "out" / "results.json").read_text())
+    got = {d["name"]: d for d in doc["demands"]}
+    fld = got["CF"]["fields"]["link_force"]
+    assert list(fld["values"]) == ["F"] and fld["units"] == "N or N m"
+    F = link.model.node_names.index("F")
+    assert fld["values"]["F"]["max"] == pytest.approx(link["CF"].fields["link_force"].max[F].tolist())
+    assert "link_force" in got["ALL"]["fields"]
+    rows = (tmp_path / "out" / "extremes_link_force.csv").read_text().splitlines()
+    assert rows[0].startswith("result,kind,node,component,max")
+    assert len(rows) == 1 + len(doc["demands"]) * 6
+
+
+def test_no_link_no_field(stiff):
+    """A model without links has no link_force field."""
+    assert "link_force" not in stiff["CF"].fields

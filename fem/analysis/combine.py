@@ -28,7 +28,8 @@ from a static result, how to read its peak from a spectrum or harmonic result, a
 history basis or how it follows from end forces (then computed, step by step, from the
 combined end forces: exact for the static and history parts, even for a quantity that is not
 linear in them), or its own `bounds` of a combination's terms (member stresses,
-fem/analysis/stress_field.py: the "stress" field, which needs the model through `sizes`).
+fem/analysis/stress_field.py: the "stress" field, which needs the model through `sizes`; the
+rigid links' forces, fem/analysis/link_field.py, which need the linked DOFs, `sizes["links"]`).
 """
 
 from __future__ import annotations
@@ -195,6 +196,7 @@ def _series_bounds(fld: Field, base: np.ndarray, histories, t, shape) -> Bounds:
     basis = fld.basis if fld.of_forces is None else FIELDS["end_force"].basis
     more = [(f * r.series.inertia, fld.inertia(r)) for f, r in histories
             if fld.of_forces is None and fld.inertia is not None and r.series.inertia is not None]
+    more = [m for m in more if m[1] is not None]
     q = np.hstack([f * r.series.q for f, r in histories] + [m[0] for m in more])      # (m, C)
     B = np.hstack([basis(r) for _, r in histories] + [m[1] for m in more])            # (N, C)
     flat = base.ravel()
@@ -294,3 +296,4 @@ def envelope(name: str, results, sizes: dict) -> EnvelopeResult:
 
 
 from . import stress_field  # noqa: E402,F401  (registers the "stress" field; it imports this module)
+from . import link_field  # noqa: E402,F401  (registers the "link_force" field)
