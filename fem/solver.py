@@ -344,6 +344,7 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list, lines: dic
 
     from .analysis.combine import combine_terms, envelope
     from .analysis.history_case import series_basis
+    from .analysis.link_field import linked_dofs
     from .analysis.spring_forces import combination_springs, envelope_springs
     from .analysis.stress_field import StressContext
 
@@ -354,7 +355,8 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list, lines: dic
         if r is not None and r.kind == "history":
             m = model_case(model, n).modes
             found[n] = replace(r, series=series_basis(model, run.stiffened.get(m, run.asm), r, run.modes[m]))
-    sizes = {"node": model.n_nodes, "member": model.n_members, "stress": StressContext(model, lines)}
+    sizes = {"node": model.n_nodes, "member": model.n_members, "stress": StressContext(model, lines),
+             "links": linked_dofs(model)}
     out = {}
     settled = [] if state is None else [(1.0, _state_result(model, state))]
     for cb in dynamic:

@@ -17,6 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from ..analysis.combine import FIELDS
+from ..analysis.link_field import followers
 from . import stress_demands
 from .tables import supported_nodes, write_csv
 
@@ -25,7 +26,7 @@ __all__ = ["json_entry", "report_block", "summary_lines", "write_extremes_tables
 # the file of each field's table, and the unit of its values (SI, as every table)
 _FILES = {"displacement": "extremes_displacements.csv", "reaction": "extremes_reactions.csv",
           "end_force": "extremes_member_forces.csv"}
-UNITS = {"displacement": "m or rad", "reaction": "N or N m", "end_force": "N or N m"}
+UNITS = {"displacement": "m or rad", "reaction": "N or N m", "end_force": "N or N m", "link_force": "N or N m"}
 
 
 def _rows(model, name: str):
@@ -33,7 +34,8 @@ def _rows(model, name: str):
     fld = FIELDS[name]
     if fld.of == "member":
         return np.arange(model.n_members), model.member_names
-    idx = supported_nodes(model) if name == "reaction" else np.arange(model.n_nodes)
+    idx = supported_nodes(model) if name == "reaction" else followers(model) if name == "link_force" else \
+        np.arange(model.n_nodes)
     return idx, [model.node_names[k] for k in idx]
 
 
