@@ -181,7 +181,7 @@ def summary_lines(results, r, indent: str) -> list[str]:
                      "not a state in equilibrium")
     lines += stress_demands.demand_lines(results, r, indent)
     lines += [f"{indent}{w}" for w in ch["warnings"]]
-    if r.kind == "envelope":
+    if r.kind == "envelope" and results.model.n_members:
         counts = np.bincount(r.fields["end_force"].max_by.ravel(), minlength=len(r.over))
         counts += np.bincount(r.fields["end_force"].min_by.ravel(), minlength=len(r.over))
         lines.append(f"{indent}end forces governed by: " + ", ".join(
