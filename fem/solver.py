@@ -317,6 +317,8 @@ def _stresses(model: Model, lines: dict, statics: dict, responses: dict) -> dict
     line loads) and of every response case (computed by its solver), by name."""
     from .analysis.stress import member_stresses, section_table
 
+    if model.n_members == 0:           # springs and masses only: no member has a stress
+        return {}
     table = section_table(model)
     out = {n: member_stresses(model, r.member_forces, lines[n], table=table) for n, r in statics.items() if n in lines}
     out.update({n: r.stresses for n, r in responses.items() if getattr(r, "stresses", None) is not None})
@@ -344,6 +346,7 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list, lines: dic
 
     from .analysis.combine import combine_terms, envelope
     from .analysis.history_case import series_basis
+    from .analysis.link_field import linked_dofs
     from .analysis.spring_forces import combination_springs, envelope_springs
     from .analysis.stress_field import StressContext
 
@@ -354,7 +357,8 @@ def _demands(model: Model, run: _Run, responses: dict, dynamic: list, lines: dic
         if r is not None and r.kind == "history":
             m = model_case(model, n).modes
             found[n] = replace(r, series=series_basis(model, run.stiffened.get(m, run.asm), r, run.modes[m]))
-    sizes = {"node": model.n_nodes, "member": model.n_members, "stress": StressContext(model, lines)}
+    sizes = {"node": model.n_nodes, "member": model.n_members, "stress": StressContext(model, lines) if model.n_members else None,
+             "links": linked_dofs(model)}
     out = {}
     settled = [] if state is None else [(1.0, _state_result(model, state))]
     for cb in dynamic:

@@ -38,3 +38,24 @@ member ARM : N4 -> H beam P S
 support N0 fixed
 mass H = 400 kg
 """
+
+# two masses in series on springs between nodes: 800 kg on a 4 MN/m mount (SLAB), 300 kg on a
+# 1 MN/m isolator (ISO) above it, vertical motion only; a two-degree-of-freedom system
+ISOLATED_PAIR = """
+material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+node G = (0, 0, 0)
+node F = (1 m, 0, 0)
+node A = (0, 0, 0.5 m)
+node B = (0, 0, 1 m)
+member FLOOR : G -> F beam P S
+support G fixed
+support F fixed
+support A (ux, uy, rx, ry, rz)
+support B (ux, uy, rx, ry, rz)
+spring SLAB: G -> A (uz = 4 MN/m)
+spring ISO: A -> B (uz = 1 MN/m)
+mass A = 800 kg
+mass B = 300 kg
+case MODES modes { count = 2 }
+"""

@@ -8,25 +8,9 @@ import scipy.linalg as sla
 from fem import solve
 from fem.analysis.spring_damping import spring_ratios
 from fem.deck.reader import read_text
+from shared_decks import ISOLATED_PAIR
 
-TWO = """
-material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-node G = (0, 0, 0)
-node F = (1 m, 0, 0)
-node A = (0, 0, 0.5 m)
-node B = (0, 0, 1 m)
-member FLOOR : G -> F beam P S
-support G fixed
-support F fixed
-support A (ux, uy, rx, ry, rz)
-support B (ux, uy, rx, ry, rz)
-spring SLAB: G -> A (uz = 4 MN/m)
-spring ISO: A -> B (uz = 1 MN/m) damping = ZETA
-mass A = 800 kg
-mass B = 300 kg
-case MODES modes { count = 2 }
-"""
+TWO = ISOLATED_PAIR.replace("(uz = 1 MN/m)\n", "(uz = 1 MN/m) damping = ZETA\n")
 
 
 @pytest.mark.parametrize("zeta_s", [0.01, 0.05])

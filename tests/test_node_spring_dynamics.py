@@ -7,6 +7,7 @@ import pytest
 from fem import solve
 from fem.analysis.sensitivity import frequency_sensitivity
 from fem.deck.reader import read_text
+from shared_decks import ISOLATED_PAIR
 
 # a 400 kg machine on an isolator above a rigidly supported base node (vertical only): one DOF,
 # k = 250 kN/m, f = sqrt(k/m)/2pi = 3.979 Hz. A massless floor member keeps the model a frame.
@@ -71,30 +72,12 @@ case HUM harmonic { force A = (0, 0, 100 N), from = 1 Hz, to = 8 Hz, points = 20
     assert s.force[0, 2] == pytest.approx(100 / (2 * 0.03), rel=2e-3)   # near 1/(2 zeta) at resonance
 
 
-TWO = """
-material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-node G = (0, 0, 0)
-node F = (1 m, 0, 0)
-node A = (0, 0, 0.5 m)
-node B = (0, 0, 1 m)
-member FLOOR : G -> F beam P S
-support G fixed
-support F fixed
-support A (ux, uy, rx, ry, rz)
-support B (ux, uy, rx, ry, rz)
-spring SLAB: G -> A (uz = 4 MN/m)
-spring ISO: A -> B (uz = 1 MN/m)
-mass A = 800 kg
-mass B = 300 kg
-case MODES modes { count = 2 }
-"""
 
 
 def test_spectrum_spring_forces_combine_per_mode_forces():
     # each mode's force k (phi_B - phi_A) Gamma Sa / w^2 (Chopra, 4th ed., sec. 13.1, the peak
     # modal responses), combined by SRSS (eq. 13.7.2): not k times combined displacements
-    r = solve(read_text(TWO + """
+    r = solve(read_text(ISOLATED_PAIR + """
 case QUAKE spectrum { modes = MODES, curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (0, 0, 1),
                       combine = srss }
 """))
@@ -115,14 +98,14 @@ case QUAKE spectrum { modes = MODES, curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 
 def test_sensitivity_to_a_spring_between_nodes_against_central_differences():
     # d lambda / d p = phi^T K_spring phi (Fox and Kapoor 1968), against full re-solves with the
     # spring scaled by 1 +/- h: central difference error O(h^2) ~ 1e-8 of lambda at h = 1e-4
-    r = solve(read_text(TWO))
+    r = solve(read_text(ISOLATED_PAIR))
     sens = frequency_sensitivity(r.model, r["MODES"])
     row = [i for i, (k, t) in enumerate(zip(sens.kind, sens.target)) if k == "spring" and t == "ISO"]
     assert len(row) == 1
     h = 1e-4
     lam = []
     for p in (1 + h, 1 - h):
-        rp = solve(read_text(TWO.replace("uz = 1 MN/m", f"uz = {1e6 * p!r} N/m")))
+        rp = solve(read_text(ISOLATED_PAIR.replace("uz = 1 MN/m", f"uz = {1e6 * p!r} N/m")))
         lam.append(rp["MODES"].modes.omega ** 2)
     fd = (lam[0] - lam[1]) / (2 * h)
     np.testing.assert_allclose(sens.d_lambda[row[0]], fd, rtol=1e-6)

@@ -78,7 +78,7 @@ def test_every_table_is_present(rack):
               "spectrum": ("Reactions (combined peaks)", "Governing member end forces (combined peaks)"),
               "history": ("Reactions (peaks over time)", "Governing member end forces (peaks over time)"),
               "harmonic": ("Reactions (amplitudes", "Governing member end forces (amplitudes"),
-              "combination": ("Reactions (largest and smallest, time", "Governing member end forces"),
+              "combination": ("Reactions (largest and smallest, ", "Governing member end forces"),
               "envelope": ("Reactions (largest and smallest, governing case", "Governing member end forces")}
     kinds = set()
     for c in [*doc["cases"], *doc["demands"]]:

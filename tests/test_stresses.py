@@ -353,6 +353,7 @@ SHAPE_CASES = [
     ("rect", {"b": 0.1, "h": 0.2}),
     ("ishape", {"d": 0.3, "bf": 0.3, "tf": 0.019, "tw": 0.011, "r": 0.027}),
     ("angle", {"b": 0.06, "h": 0.04, "t": 0.005}),
+    ("angle", {"b": 0.06, "h": 0.04, "t": 0.005, "r": 0.006}),
     ("channel", {"d": 0.15, "bf": 0.075, "tf": 0.01, "tw": 0.0055, "r": 0.01}),
     ("catalogue", {"designation": "HEB 300"}),
     ("catalogue", {"designation": "L4X4X1/2"}),

@@ -166,3 +166,39 @@ def test_frame_spacing_from_the_modes():
     q[:, 1] *= 100                           # now the 0.01 s mode matters: every step, capped
     idx = frame_indices(t, q, shapes, omega, cap=50)
     assert len(idx) <= 51 and np.ptp(np.diff(idx)[:-1]) == 0
+
+
+ISOLATED = Path(__file__).parents[1] / "decks" / "fanframe-isolated.deck"
+
+
+def test_springs_between_nodes_are_line_cells(tmp_path):
+    # The isolators of the fan frame are in the modes file as line cells from node A to node B,
+    # marked by cell data `spring` (their index, -1 on members) and `member` = -1, named in
+    # names.csv, and read back by VTK's own reader (pyvista) with the members' cells.
+    import pyvista as pv
+
+    from fem import read_deck
+
+    out = tmp_path / "m"
+    # exit status 1: the deck's resonance check fails by design (its modes sit in the fan's ranges)
+    assert main(["run", str(ISOLATED), "--out", str(out), "--no-render", "--case", "MODES"]) in (0, 1)
+    assert (out / "modes" / "MODES_modes.vtkhdf").exists()
+    model = read_deck(ISOLATED)
+    sp = model.node_springs
+    mesh = pv.read(out / "modes" / "MODES_modes.vtkhdf")
+    spring, member = mesh.cell_data["spring"], mesh.cell_data["member"]
+    is_spring = spring >= 0
+    assert is_spring.sum() == len(sp) == 4 and (member[is_spring] == -1).all()
+    assert (member[~is_spring] >= 0).all() and (spring[~is_spring] == -1).all()
+    assert (mesh.celltypes == 3).all()                                          # VTK_LINE
+    conn = mesh.cells.reshape(-1, 3)[:, 1:]                                     # (2, a, b) per line
+    np.testing.assert_array_equal(conn[is_spring][np.argsort(spring[is_spring])], sp.nodes)
+    # a spring's end points are its nodes' points (point i is node i)
+    np.testing.assert_allclose(mesh.points[sp.nodes[:, 1]], model.coords[sp.nodes[:, 1]])
+    names = [r for r in csv.DictReader((out / "modes" / "names.csv").open()) if r["kind"] == "spring"]
+    assert [r["name"] for r in names] == list(sp.names)
+    # a model without springs writes no `spring` array (its files as before)
+    out2 = tmp_path / "r"
+    assert main(["run", str(RACK), "--out", str(out2), "--no-render"]) == 0
+    for f in (out2 / "modes").glob("*.vtkhdf"):
+        assert "spring" not in pv.read(f).cell_data

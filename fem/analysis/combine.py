@@ -28,7 +28,8 @@ from a static result, how to read its peak from a spectrum or harmonic result, a
 history basis or how it follows from end forces (then computed, step by step, from the
 combined end forces: exact for the static and history parts, even for a quantity that is not
 linear in them), or its own `bounds` of a combination's terms (member stresses,
-fem/analysis/stress_field.py: the "stress" field, which needs the model through `sizes`).
+fem/analysis/stress_field.py: the "stress" field, which needs the model through `sizes`; the
+rigid links' forces, fem/analysis/link_field.py, which need the linked DOFs, `sizes["links"]`).
 """
 
 from __future__ import annotations
@@ -62,6 +63,9 @@ class Field:
     of_forces : (m, e, 12) end forces -> (m, rows, columns), for a field computed from them.
     bounds : (terms, name, t, sizes) -> Bounds or None, for a field that bounds a combination
         itself (None: the field is left out, e.g. without what it needs in `sizes`).
+    inertia : HistoryResult -> (rows * columns, k + 3) field per unit modal and ground
+        acceleration (the series' `inertia` histories), or None: what the field adds beyond its
+        basis, e.g. the inertia rigid links carry into supports in the reactions.
     """
 
     name: str
@@ -72,6 +76,7 @@ class Field:
     basis: Callable | None = None
     of_forces: Callable | None = None
     bounds: Callable | None = None
+    inertia: Callable | None = None
 
 
 FIELDS: dict[str, Field] = {}
@@ -88,7 +93,7 @@ add_field(Field("displacement", "node", DIRECTIONS, lambda r: r.u,
                 lambda r: r.series.basis["displacement"]))
 add_field(Field("reaction", "node", ("Fx", "Fy", "Fz", "Mx", "My", "Mz"), lambda r: r.reactions,
                 {"spectrum": lambda r: r.reactions, "harmonic": lambda r: r.reaction_peak},
-                lambda r: r.series.basis["reaction"]))
+                lambda r: r.series.basis["reaction"], inertia=lambda r: r.series.basis.get("reaction_inertia")))
 add_field(Field("end_force", "member", tuple(f"{c}_{e}" for e in "ij" for c in _END), lambda r: r.member_forces,
                 {"spectrum": lambda r: r.member_forces, "harmonic": lambda r: r.member_peak},
                 lambda r: r.series.basis["end_force"]))
@@ -188,9 +193,12 @@ def _series_bounds(fld: Field, base: np.ndarray, histories, t, shape) -> Bounds:
         if r.series.basis is None:
             raise ModelError(f"history case {r.name}: its series has no basis; give the result with "
                              "fem.analysis.history_case.series_basis (fem.solve does)")
-    q = np.hstack([f * r.series.q for f, r in histories])                        # (m, C)
     basis = fld.basis if fld.of_forces is None else FIELDS["end_force"].basis
-    B = np.hstack([basis(r) for _, r in histories])                              # (N, C)
+    more = [(f * r.series.inertia, fld.inertia(r)) for f, r in histories
+            if fld.of_forces is None and fld.inertia is not None and r.series.inertia is not None]
+    more = [m for m in more if m[1] is not None]
+    q = np.hstack([f * r.series.q for f, r in histories] + [m[0] for m in more])      # (m, C)
+    B = np.hstack([basis(r) for _, r in histories] + [m[1] for m in more])            # (N, C)
     flat = base.ravel()
     n = int(np.prod(shape))
     hi, lo = np.full(n, -np.inf), np.full(n, np.inf)
@@ -288,3 +296,4 @@ def envelope(name: str, results, sizes: dict) -> EnvelopeResult:
 
 
 from . import stress_field  # noqa: E402,F401  (registers the "stress" field; it imports this module)
+from . import link_field  # noqa: E402,F401  (registers the "link_force" field)

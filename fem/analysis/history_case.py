@@ -59,11 +59,16 @@ class HistorySeries(NamedTuple):
     k modes then of the l time functions' static parts, and statics[field] (N, l) the static
     parts' own fields ("displacement" (6n,), "reaction" (6n,), "end_force" (12e,)) and their
     members' uniform line loads ("line_load" (3e,), local axes: at step i, statics @ q[i, k:]).
-    With the modes' fields (`series_basis`), field(t_i) = basis[field] @ q[i]."""
+    With the modes' fields (`series_basis`), field(t_i) = basis[field] @ q[i]. inertia (m, k + 3):
+    the modes' accelerations then the ground's X, Y, Z, in a model with rigid links or inertia
+    carried into supports (link_dynamics; else None); the reactions then add
+    basis["reaction_inertia"] @ inertia[i], the links' forces ("link_force", at the linked DOFs)
+    basis["link_inertia"] @ inertia[i]."""
 
     q: np.ndarray
     statics: dict
     basis: dict | None = None
+    inertia: np.ndarray | None = None
 
 
 def series_basis(model: Model, asm: Assembled, r: HistoryResult, modal: ModesCaseResult) -> HistorySeries:
@@ -74,7 +79,16 @@ def series_basis(model: Model, asm: Assembled, r: HistoryResult, modal: ModesCas
     Rm, Fm = field_responses(model, asm, shapes.T)
     k = shapes.shape[1]
     own = {"displacement": shapes, "reaction": Rm.reshape(k, -1).T, "end_force": Fm.reshape(k, -1).T}
-    return r.series._replace(basis={f: np.hstack([own[f], r.series.statics[f]]) for f in own})
+    basis = {f: np.hstack([own[f], r.series.statics[f]]) for f in own}
+    from .link_dynamics import inertia_columns, link_inertia_columns
+
+    carried = None if r.series.inertia is None else inertia_columns(model, asm, shapes)
+    if carried is not None:                 # the inertia links and masses off nodes carry into supports
+        basis["reaction_inertia"] = np.hstack(carried)
+    if "link_force" in r.series.statics:    # the links' forces: K u - f and the inertia M a they hold
+        basis["link_force"] = np.hstack([np.asarray(asm.link_rows @ shapes), r.series.statics["link_force"]])
+        basis["link_inertia"] = np.hstack(link_inertia_columns(model, asm, shapes))
+    return r.series._replace(basis=basis)
 
 
 class _Part(NamedTuple):
@@ -190,15 +204,19 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
     # animation frames spaced by the modes that matter, the step of the largest motion among them
     frames = frame_indices(t, q, modal.shapes, omega, [peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
-    from .link_dynamics import history_link_peaks
+    from .link_dynamics import history_link_peaks, history_link_statics
 
     l_peak, l_time = history_link_peaks(model, asm, groups, shapes, own["displacement"], qg, acc, a_ground,
                                         np.array(G).T, t)
+    if l_peak is not None:      # the links' forces per unit of each time function, for combinations
+        own["link_force"] = history_link_statics(model, asm, groups, own["displacement"])
     return HistoryResult(case.name, t, record, u, vel, a, peak.reshape(-1, 6),
                          peak_t.reshape(-1, 6), zeta, corrected,
                          r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                          t[frames], np.einsum("fk,ndk->fnd", qg[frames], full), warnings, stresses,
-                         HistorySeries(qg, {**own, "line_load": np.array(lines).T}), l_peak, l_time,
+                         HistorySeries(qg, {**own, "line_load": np.array(lines).T},
+                                       inertia=None if carried is None and l_peak is None else np.hstack([acc, a_ground])),
+                         l_peak, l_time,
                          springs=series_springs(model, qg, np.hstack([shapes, own["displacement"]]), t))
 
 

@@ -15,7 +15,7 @@ import numpy as np
 from ..assembly import Assembled
 
 __all__ = ["carried_ground", "carried_inertia", "free_link_peaks", "harmonic_link_peaks", "harmonic_inertia", "history_link_peaks",
-           "inertia_columns"]
+           "history_link_statics", "inertia_columns", "link_inertia_columns"]
 
 
 def _translations(n_nodes: int) -> np.ndarray:
@@ -48,15 +48,29 @@ def history_link_peaks(model, asm: Assembled, groups, shapes, statics, qg, acc, 
     a_ground (m, 3), the loads of group l (fem.analysis.history_case._groups) times G[:, l].
     (None, None) without links."""
     from .free_case import peaks
-    from .static import load_vector
 
     if asm.link_rows is None:
         return None, None
+    k = shapes.shape[1]
+    B = np.hstack([np.asarray(asm.link_rows @ shapes), history_link_statics(model, asm, groups, statics),
+                   *link_inertia_columns(model, asm, shapes)])
+    return peaks(np.hstack([qg[:, :k], G, acc, a_ground]), B, t)
+
+
+def history_link_statics(model, asm: Assembled, groups, statics) -> np.ndarray:
+    """(d, l) the link forces per unit of each group's time function (its columns of a history's
+    series): the static parts' K s less the group's loads where they act, at the linked DOFs."""
+    from .static import load_vector
+
     loads = [load_vector(model, asm, sub, carried=False)[0][asm.linked] if (sub.loads or sub.gravity is not None)
              else np.zeros(len(asm.linked)) for _, sub, _ in groups]
-    B = np.hstack([np.asarray(asm.link_rows @ np.hstack([shapes, statics])), np.asarray(asm.link_mass @ shapes),
-                   _ground_columns(asm, model.n_nodes), -np.array(loads).T])
-    return peaks(np.hstack([qg, acc, a_ground, G]), B, t)
+    return np.asarray(asm.link_rows @ statics) - np.array(loads).T
+
+
+def link_inertia_columns(model, asm: Assembled, shapes: np.ndarray):
+    """(link_mass shapes (d, k), link_mass r (d, 3)): the link forces per unit modal acceleration
+    of each shape and per unit ground acceleration X, Y, Z."""
+    return np.asarray(asm.link_mass @ shapes), _ground_columns(asm, model.n_nodes)
 
 
 def harmonic_link_peaks(model, asm: Assembled, case, H, shapes, W, S, static):

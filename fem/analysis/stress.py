@@ -327,7 +327,7 @@ class _Projected:
                        np.abs(Mz).max(-1) * tab.ymax / tab.Iz, v, t, np.full(smax.shape, np.nan))
 
 
-def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s", linear=None) -> MemberStresses:
+def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s", linear=None) -> MemberStresses | None:
     """Peaks over a series of static-like states (a history's steps): `forces(rows)` gives the
     end forces (b, e, 12) of the steps `rows` (a slice), `w_local(rows)` their line loads
     (b, e, 3) or is None; `times` (m,) labels the steps. `linear` = (q (m, c), columns (c, e*12))
@@ -335,6 +335,8 @@ def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s", 
     projection (the same numbers, fewer operations). Each quantity is its largest over the steps
     (sigma_min its smallest); `at` is the time of the largest equivalent stress, `x` where
     |sigma| was then."""
+    if model.n_members == 0:      # springs and masses only: no member, no stress
+        return None
     tab = section_table(model)
     e, m = model.n_members, len(times)
     width = (tab.py.shape[1] + 8) * ((11 + tab.py.shape[1]) if w_local is not None else 2)
@@ -374,13 +376,15 @@ def series_stresses(model: Model, forces, times, w_local=None, unit: str = "s", 
                           point=point)
 
 
-def harmonic_stresses(model: Model, forces, freq, stations: int = 2) -> MemberStresses:
+def harmonic_stresses(model: Model, forces, freq, stations: int = 2) -> MemberStresses | None:
     """Amplitudes of a harmonic case: `forces(rows)` gives the complex end-force amplitudes
     (b, e, 12) at the frequencies `rows` (a slice) of `freq` (m,) Hz; `points` at `stations`
     along each member (2: the ends; `STATIONS` for a case a combination adds: each station
     costs a pass over the frequencies). At each frequency the stress at a
     point is |sum of the complex terms| (phases kept); the largest over the frequencies, with
     the frequency of the largest equivalent stress."""
+    if model.n_members == 0:      # springs and masses only: no member, no stress
+        return None
     tab = section_table(model)
     e, m = model.n_members, len(freq)
     block = max(1, _BLOCK // max(1, e * stations * (ROUND_POINTS if tab.radius.any() else tab.py.shape[1])))
@@ -422,11 +426,13 @@ def _peak_point(points):
     return points.max(axis=1).argmax(axis=-1)
 
 
-def spectrum_stresses(model: Model, per_direction, rule: str, spatial: str) -> MemberStresses:
+def spectrum_stresses(model: Model, per_direction, rule: str, spatial: str) -> MemberStresses | None:
     """Combined peaks of a spectrum case: `per_direction` [(F (k, e, 12) signed per-mode end
     forces, rho (k, k) or None)] for each direction; every stress quantity is computed per mode
     and combined over the modes by `rule` ('srss', 'cqc', 'abs') and over the directions by
     `spatial` ('srss', '100/30')."""
+    if model.n_members == 0:      # springs and masses only: no member, no stress
+        return None
     tab = section_table(model)
     e = model.n_members
     ends = [(_end_actions(np.asarray(F, float)), rho) for F, rho in per_direction]     # (k, e, 2, 6)

@@ -17,6 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from ..analysis.combine import FIELDS
+from ..analysis.link_field import followers
 from . import stress_demands
 from .tables import supported_nodes, write_csv
 
@@ -25,7 +26,7 @@ __all__ = ["json_entry", "report_block", "summary_lines", "write_extremes_tables
 # the file of each field's table, and the unit of its values (SI, as every table)
 _FILES = {"displacement": "extremes_displacements.csv", "reaction": "extremes_reactions.csv",
           "end_force": "extremes_member_forces.csv"}
-UNITS = {"displacement": "m or rad", "reaction": "N or N m", "end_force": "N or N m"}
+UNITS = {"displacement": "m or rad", "reaction": "N or N m", "end_force": "N or N m", "link_force": "N or N m"}
 
 
 def _rows(model, name: str):
@@ -33,7 +34,8 @@ def _rows(model, name: str):
     fld = FIELDS[name]
     if fld.of == "member":
         return np.arange(model.n_members), model.member_names
-    idx = supported_nodes(model) if name == "reaction" else np.arange(model.n_nodes)
+    idx = supported_nodes(model) if name == "reaction" else followers(model) if name == "link_force" else \
+        np.arange(model.n_nodes)
     return idx, [model.node_names[k] for k in idx]
 
 
@@ -179,7 +181,7 @@ def summary_lines(results, r, indent: str) -> list[str]:
                      "not a state in equilibrium")
     lines += stress_demands.demand_lines(results, r, indent)
     lines += [f"{indent}{w}" for w in ch["warnings"]]
-    if r.kind == "envelope":
+    if r.kind == "envelope" and results.model.n_members:
         counts = np.bincount(r.fields["end_force"].max_by.ravel(), minlength=len(r.over))
         counts += np.bincount(r.fields["end_force"].min_by.ravel(), minlength=len(r.over))
         lines.append(f"{indent}end forces governed by: " + ", ".join(

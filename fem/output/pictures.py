@@ -14,7 +14,7 @@ __all__ = ["draw_pictures", "pictures_and_plots", "wants_pictures"]
 
 def wants_pictures(results) -> bool:
     """Whether `results` has anything to draw (modes, buckled shapes, free or history responses)."""
-    return bool(results.of_kind("modes", "buckling", "free", "history"))
+    return results.model.n_members > 0 and bool(results.of_kind("modes", "buckling", "free", "history"))
 
 
 def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float = 12.0,
@@ -29,6 +29,8 @@ def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float
     responses = results.of_kind("free", "history")
     if not modes and not responses:
         return "no modes or responses to draw"
+    if results.model.n_members == 0:       # springs and masses only: the pictures draw members
+        return "pictures skipped: the model has no members to draw; results are complete"
     from . import render, render_pool
     from .vtk import shape_scale
 

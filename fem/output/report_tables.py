@@ -108,8 +108,9 @@ def demand_tables(c: dict, units) -> str:
                 rows.append([html.escape(node) if side == "max" else "", "largest" if side == "max" else "smallest",
                              *cells])
         head = ["node", "bound", *(f"{cname} {units['force' if j < 3 else 'moment'][1]}" for j, cname in enumerate(cols))]
-        parts.append(f"<div><h3>Reactions (largest and smallest, {'governing case' if by == 'case' else 'time'} "
-                     f"in brackets)</h3>{_table(head, rows, left=2)}</div>")
+        timed = any(g is not None for v in reac["values"].values() for side in ("max", "min") for g in v[f"{side}_{by}"])
+        note = ("governing case in brackets" if by == "case" else "time in brackets") if timed else "peaks, no time"
+        parts.append(f"<div><h3>Reactions (largest and smallest, {note})</h3>{_table(head, rows, left=2)}</div>")
     for name, f in c["fields"].items():       # end forces, and member stresses where a field holds them
         if name == "stress" or name != "end_force" and "stress" not in name or not f["governing"]:
             continue       # "stress" (per member, its stress points) has its own table: stress_demands.demand_report

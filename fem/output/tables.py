@@ -96,7 +96,8 @@ def _grid(first, second, values) -> list:
     """The columns of a series table: `first` (m,) repeated per row of `second` (r,), `second`
     tiled per step, then values (m, r, k) column by column."""
     m, r = len(first), len(second)
-    v = np.asarray(values).reshape(m * r, -1)
+    v = np.asarray(values)
+    v = v.reshape(m * r, v.shape[-1])           # sized: no rows (no member) keeps its columns
     return [np.repeat(np.asarray(first, float), r), np.tile(np.asarray(second, dtype=object), m),
             *(v[:, j] for j in range(v.shape[1]))]
 
@@ -152,7 +153,7 @@ def _harmonic_tables(out: Path, model, r) -> None:
                  ["frequency_Hz", "node", *(f"amp_{c}" for c in REACTIONS), *(f"lag_deg_{c}" for c in REACTIONS)],
                  _grid(r.freq, [nodes[n] for n in r.support], np.concatenate([np.abs(r.reactions), lag], axis=2)))
     if r.member_forces is not None:
-        mf = r.member_forces.reshape(len(r.freq), -1, 2, 6)           # (m, q, end, 6)
+        mf = r.member_forces.reshape(len(r.freq), len(r.members), 2, 6)           # (m, q, end, 6)
         lag = lag_degrees(mf, 1e-9 * np.abs(mf).max(initial=0.0))
         ends = [(mems[q], end) for q in r.members for end in "ij"]
         cols = _grid(r.freq, range(len(ends)), np.concatenate([np.abs(mf), lag], axis=3))

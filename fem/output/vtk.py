@@ -8,9 +8,12 @@ Points: the model's nodes first, in model order (point i is node i), then the in
 each member in member order (VTU_POINTS - 2 per member, evenly spaced; fewer when the inner
 points of all members would pass VTU_BUDGET, and none, straight members, beyond VTU_BUDGET
 members: the files of large models stay close to their node count). Cells: the line segments
-of each member's polyline. Point data `node` is the node's index (-1 at inner points) and cell
-data `member` the member's index; `names.csv` beside the files maps both to their names (VTU
-string arrays do not survive meshio).
+of each member's polyline, then one line cell per spring between nodes (from its node A to its
+node B; a spring whose nodes coincide is a line of zero length). Point data `node` is the node's
+index (-1 at inner points) and cell data `member` the member's index (-1 on a spring's cell);
+a model with springs also has cell data `spring`, the spring's index (-1 on members' cells).
+`names.csv` beside the files maps the indices to their names (VTU string arrays do not survive
+meshio).
 """
 
 from __future__ import annotations
@@ -68,8 +71,16 @@ class _Grid:
         n, e, q = model.n_nodes, model.n_members, max(int(n_points), 2)
         inner = n + np.arange(e * (q - 2)).reshape(e, q - 2)
         poly = np.c_[model.conn[:, :1], inner, model.conn[:, 1:]]                # (e, q)
-        self.lines = np.stack([poly[:, :-1], poly[:, 1:]], axis=-1).reshape(-1, 2)
-        self.member = np.repeat(np.arange(e, dtype=np.int32), q - 1)
+        lines = np.stack([poly[:, :-1], poly[:, 1:]], axis=-1).reshape(-1, 2)
+        member = np.repeat(np.arange(e, dtype=np.int32), q - 1)
+        springs = model.node_springs
+        s = 0 if springs is None else len(springs)
+        self.lines = np.r_[lines, np.asarray(springs.nodes).reshape(s, 2)] if s else lines
+        self.member = np.r_[member, np.full(s, -1, dtype=np.int32)]
+        # cell data `spring`, only where the model has springs (files without them unchanged)
+        self.cell_data = {"member": self.member}
+        if s:
+            self.cell_data["spring"] = np.r_[np.full(len(lines), -1), np.arange(s)].astype(np.int32)
         self.node = np.r_[np.arange(n), np.full(e * (q - 2), -1)].astype(np.int32)
         self.points = np.r_[model.coords, self.prepared.base[:, 1:-1].reshape(-1, 3)]
         self.model = model
@@ -90,7 +101,7 @@ class _Grid:
         data = {k: np.ascontiguousarray(v, dtype=float) for k, v in point_data.items()}
         data["node"] = self.node
         meshio.Mesh(self.points, [("line", self.lines)], point_data=data,
-                    cell_data={"member": [self.member]}).write(path, file_format="vtu")
+                    cell_data={k: [v] for k, v in self.cell_data.items()}).write(path, file_format="vtu")
 
 
 def _write_names(folder: Path, model: Model) -> Path:
@@ -100,6 +111,8 @@ def _write_names(folder: Path, model: Model) -> Path:
         w.writerow(["kind", "index", "name"])
         w.writerows(["node", i, n] for i, n in enumerate(model.node_names))
         w.writerows(["member", i, n] for i, n in enumerate(model.member_names))
+        if model.node_springs is not None:
+            w.writerows(["spring", i, n] for i, n in enumerate(model.node_springs.names))
     return path
 
 
@@ -142,7 +155,7 @@ def write_vtkhdf_series(path: Path, grid: _Grid, times: list[float], fields) -> 
     """A transient VTKHDF 2.0 unstructured grid (docs.vtk.org, VTKHDF format specification,
     'Transient data'): the points and line cells written once as one part that every step
     reuses (Steps/PartOffsets 0), the point data of step i at rows i P .. (i + 1) P - 1
-    (Steps/PointDataOffsets), the index arrays `node` and `member` once (offset 0). `fields`
+    (Steps/PointDataOffsets), the index arrays `node`, `member` (and `spring`) once (offset 0). `fields`
     yields a dict of (P, 3) arrays per time; the arrays are gzip-compressed in chunks of one
     step."""
     import h5py
@@ -161,7 +174,8 @@ def write_vtkhdf_series(path: Path, grid: _Grid, times: list[float], fields) -> 
         root.create_dataset("Connectivity", data=grid.lines.ravel().astype(np.int64))
         root.create_dataset("Types", data=np.full(n_cells, 3, dtype=np.uint8))     # VTK_LINE
         pd, cd = root.create_group("PointData"), root.create_group("CellData")
-        cd.create_dataset("member", data=grid.member)
+        for key, v in grid.cell_data.items():
+            cd.create_dataset(key, data=v)
         pd.create_dataset("node", data=grid.node)
         st = root.create_group("Steps")
         st.attrs["NSteps"] = np.int64(m)
@@ -171,7 +185,8 @@ def write_vtkhdf_series(path: Path, grid: _Grid, times: list[float], fields) -> 
         st.create_dataset("NumberOfParts", data=np.ones(m, dtype=np.int64))
         pdo, cdo = st.create_group("PointDataOffsets"), st.create_group("CellDataOffsets")
         pdo.create_dataset("node", data=np.zeros(m, dtype=np.int64))
-        cdo.create_dataset("member", data=np.zeros(m, dtype=np.int64))
+        for key in grid.cell_data:
+            cdo.create_dataset(key, data=np.zeros(m, dtype=np.int64))
         out = {}
         for i, data in enumerate(fields):
             for key, v in data.items():

@@ -114,7 +114,7 @@ def _round(row):
 
 
 def _equal_angle(row):
-    dims = {"b": row["b"] * IN, "h": row["b"] * IN, "t": row["t"] * IN}
+    dims = {"b": row["b"] * IN, "h": row["b"] * IN, "t": row["t"] * IN, "r": (row["kdes"] - row["t"]) * IN}
     pub = {"A": row["A"] * IN**2, "Iy": row["Iw"] * IN**4, "Iz": row["Iz"] * IN**4,
            "J": row["J"] * IN**4, "I_leg": row["Ix"] * IN**4, "W_leg": row["Sx"] * IN**3}
     return "angle", dims, pub

@@ -5,8 +5,8 @@ properties (m^2, m^3, m^4). Member local axes: x along the member, local z is th
 direction, local y the width direction; ``Iy`` (bending about local y) is the strong axis of
 an I shape. By default corners are sharp (no root or corner radii) and torsion constants of
 open shapes use the thin-wall sum b t^3/3, so values sit slightly below rolled-section tables.
-Optional radii make rolled shapes match their tables: the root fillet ``r`` of I shapes and
-channels, the corner radii ``ro``/``ri`` of hollow rectangles (see each function).
+Optional radii make rolled shapes match their tables: the root fillet ``r`` of I shapes,
+channels and angles, the corner radii ``ro``/``ri`` of hollow rectangles (see each function).
 
 Shear areas (for Timoshenko members) are ``kappa * A`` with Cowper's (1966) coefficients at
 Poisson's ratio ``nu`` (default 0.3, pass the material's) for solid and hollow round and solid
@@ -25,6 +25,9 @@ from collections.abc import Callable
 from .formulas import (  # noqa: F401 (SectionProps and the kappas are re-exported)
     _NU,
     SectionProps,
+    _angle_moments,
+    _angle_outline,
+    _angle_torsion,
     _el_darwish_johnston,
     _fillet,
     _less,
@@ -239,32 +242,26 @@ def ishape(d: float, bf: float, tf: float, tw: float, r: float = 0.0) -> Section
     return SectionProps("ishape", A, Iy, Iz, J, 5.0 / 3.0 * bf * tf, d * tw, 2.0 * Iy / d, 2.0 * Iz / bf)
 
 
-def angle_leg_moments(b: float, h: float, t: float):
-    """Area, centroid (cy, cz) from the heel, and centroidal Iyy=int z^2, Izz=int y^2, Pyz."""
-    # two rectangles: leg b along y (b x t) and the rest of leg h along z (t x (h - t))
-    rects = ((0.0, b, 0.0, t), (0.0, t, t, h))
-    A = sum((y1 - y0) * (z1 - z0) for y0, y1, z0, z1 in rects)
-    cy = sum((y1 - y0) * (z1 - z0) * (y0 + y1) / 2.0 for y0, y1, z0, z1 in rects) / A
-    cz = sum((y1 - y0) * (z1 - z0) * (z0 + z1) / 2.0 for y0, y1, z0, z1 in rects) / A
-    Iyy = Izz = Pyz = 0.0
-    for y0, y1, z0, z1 in rects:
-        y0, y1, z0, z1 = y0 - cy, y1 - cy, z0 - cz, z1 - cz
-        Iyy += (y1 - y0) * (z1**3 - z0**3) / 3.0
-        Izz += (z1 - z0) * (y1**3 - y0**3) / 3.0
-        Pyz += (y1**2 - y0**2) * (z1**2 - z0**2) / 4.0
-    return A, cy, cz, Iyy, Izz, Pyz
+def angle_leg_moments(b: float, h: float, t: float, r: float = 0.0):
+    """Area, centroid (cy, cz) from the heel, and centroidal Iyy=int z^2, Izz=int y^2, Pyz of an
+    angle (legs b along y and h along z, thickness t, root fillet r; exact)."""
+    return _angle_moments(b, h, t, r)
 
 
-def _check_angle(b, h, t):
+def _check_angle(b, h, t, r=0.0):
     b = _positive(b, "b", "angle")
     h = _positive(h, "h", "angle")
     t = _positive(t, "t", "angle")
     _less(t, "t", min(b, h), "min(b, h)", "angle")
-    return b, h, t
+    r = _non_negative(r, "r", "angle")
+    if r > min(b, h) - t:
+        raise ValueError(f"angle: the root radius r must fit along the inner faces of the legs, "
+                         f"r <= min(b, h) - t (got r={r:g} m, limit {min(b, h) - t:g} m)")
+    return b, h, t, r
 
 
-def angle(b: float, h: float, t: float) -> SectionProps:
-    """Equal or unequal leg angle, sharp corners, on its principal axes.
+def angle(b: float, h: float, t: float, r: float = 0.0) -> SectionProps:
+    """Equal or unequal leg angle on its principal axes, sharp or with a root fillet.
 
     Parameters
     ----------
@@ -272,38 +269,44 @@ def angle(b: float, h: float, t: float) -> SectionProps:
         Leg lengths, m (leg b lies along the first leg axis, leg h along the second).
     t : float
         Thickness of both legs, m; less than min(b, h).
+    r : float, optional
+        Root fillet radius between the legs' inner faces, m (default 0: sharp corners); at most
+        min(b, h) - t. Toes are square (no toe radius).
 
     Returns
     -------
     SectionProps
         The local axes of an angle member are its principal axes: Iy = I_u (major), Iz = I_v
-        (minor). See :func:`angle_principal_angle` for the orientation of u relative to the
-        legs. J = (b + h - t) t^3 / 3 (thin-wall). Wy, Wz divide I_u, I_v by the largest distance
-        of a corner of the outline from the u and v axes. Shear areas are 0 (rigid in shear):
-        angle members are slender bracing for which shear deformation is negligible, and there is
-        no well-established shear area on the principal axes.
+        (minor), from the moments and the product of inertia about the leg axes through the
+        centroid, exact with the fillet. See :func:`angle_principal_angle` for the orientation of
+        u relative to the legs. J: without a fillet the thin-wall (b + h - t) t^3 / 3; with one
+        El Darwish & Johnston's formula (:func:`fem.sections.formulas._angle_torsion`), so J jumps
+        by a few percent between r = 0 and a small r. Wy, Wz divide I_u, I_v by the largest
+        distance of a corner of the outline from the u and v axes. Shear areas are 0 (rigid in
+        shear): angle members are slender bracing for which shear deformation is negligible, and
+        there is no well-established shear area on the principal axes.
     """
-    b, h, t = _check_angle(b, h, t)
-    A, cy, cz, Iyy, Izz, Pyz = angle_leg_moments(b, h, t)
+    b, h, t, r = _check_angle(b, h, t, r)
+    A, cy, cz, Iyy, Izz, Pyz = _angle_moments(b, h, t, r)
     mean = 0.5 * (Iyy + Izz)
     rad = math.hypot(0.5 * (Iyy - Izz), Pyz)
-    J = (b + h - t) * t**3 / 3.0
+    J = _angle_torsion(b, h, t, r) if r > 0.0 else (b + h - t) * t**3 / 3.0
     theta = 0.5 * math.atan2(-Pyz, 0.5 * (Iyy - Izz))        # as in angle_principal_angle
     cu, su = math.cos(theta), math.sin(theta)
-    corners = [(y - cy, z - cz) for y, z in ((0.0, 0.0), (b, 0.0), (b, t), (t, t), (t, h), (0.0, h))]
+    corners = [(y - cy, z - cz) for y, z in _angle_outline(b, h, t, r)]
     far_v = max(abs(-su * y + cu * z) for y, z in corners)    # distance from the u axis
     far_u = max(abs(cu * y + su * z) for y, z in corners)     # distance from the v axis
     return SectionProps("angle", A, mean + rad, mean - rad, J, 0.0, 0.0, (mean + rad) / far_v, (mean - rad) / far_u)
 
 
-def angle_principal_angle(b: float, h: float, t: float) -> float:
+def angle_principal_angle(b: float, h: float, t: float, r: float = 0.0) -> float:
     """Angle (rad) from the leg-b axis to the major principal axis u of an angle section.
 
     Measured positive from leg b towards leg h, in (-pi/2, pi/2]; pi/4 for an equal angle
     (the axis of symmetry). The member's local y axis is u and local z is v.
     """
-    b, h, t = _check_angle(b, h, t)
-    _, _, _, Iyy, Izz, Pyz = angle_leg_moments(b, h, t)
+    b, h, t, r = _check_angle(b, h, t, r)
+    _, _, _, Iyy, Izz, Pyz = _angle_moments(b, h, t, r)
     # I(theta) about the axis (cos, sin) = mean + (Iyy-Izz)/2 cos 2theta - Pyz sin 2theta
     theta = 0.5 * math.atan2(-Pyz, 0.5 * (Iyy - Izz))
     return theta if theta > -math.pi / 2 else theta + math.pi
@@ -392,7 +395,7 @@ SHAPES: dict[str, tuple[Callable[..., SectionProps], tuple[str, ...], tuple[str,
     "rhs": (rhs, ("b", "h", "t"), ("ro", "ri")),
     "rect": (rect, ("b", "h"), ()),
     "ishape": (ishape, ("d", "bf", "tf", "tw"), ("r",)),
-    "angle": (angle, ("b", "h", "t"), ()),
+    "angle": (angle, ("b", "h", "t"), ("r",)),
     "channel": (channel, ("d", "bf", "tf", "tw"), ("r",)),
     "generic": (generic, ("A", "Iy", "Iz", "J"), ("Avy", "Avz", "Wy", "Wz", "Wt")),
 }
