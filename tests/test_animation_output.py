@@ -83,3 +83,63 @@ def test_one_plotter_draws_every_picture_of_a_process(tmp_path):
     assert got["files"] == ["MODES_mode_001.webp", "MODES_mode_001_iso.png", "MODES_mode_001_plane.png",
                             "MODES_mode_002.webp", "MODES_mode_002_iso.png", "MODES_mode_002_plane.png",
                             "REL.webp", "REL_peak.png"]
+
+
+def test_webp_frames_decode_close_to_the_drawing(tmp_path):
+    """Lossy at WEBP_QUALITY with the smallest-size search: every frame kept, each within a mean
+    of 3 of 255 a channel of what was drawn (the rack's response measured 1.02; our bound),
+    identical neighbours merged into one frame of their summed duration."""
+    from PIL import Image
+
+    frames = []
+    for k in (0, 1, 1, 2, 3):
+        im = np.full((96, 128, 3), 255, np.uint8)
+        im[20:60, 10 + 12 * k:22 + 12 * k] = np.linspace(30, 220, 12, dtype=np.uint8)[None, :, None]
+        frames.append(im)
+    anim = Image.open(write_animation(tmp_path / "shape", frames, fps=10.0)[0])
+    assert anim.n_frames == 4
+    shown = [frames[0], frames[1], frames[3], frames[4]]
+    for k, want in enumerate(shown):
+        anim.seek(k)
+        anim.load()
+        assert anim.info["duration"] == (200 if k == 1 else 100)
+        assert np.abs(np.asarray(anim.convert("RGB"), float) - want).mean() < 3.0
+
+
+def test_fixed_captions_draw_as_the_annotation(tmp_path):
+    """A long animation's captions drawn by a text actor at the font size found once are the
+    same pixels as the corner annotation draws (caption.FixedCaption), the wider caption of the
+    largest motion included; in a child process (an offscreen context)."""
+    ok, why = can_render()
+    if not ok:
+        pytest.skip(why)
+    code = r'''
+import json, sys
+import numpy as np, pyvista as pv
+from fem.output.caption import FixedCaption
+captions = [f"t = {0.013 * i:.4g} s" for i in range(45)]
+captions[20] += "  (largest motion)"
+def frames(fixed):
+    p = pv.Plotter(off_screen=True, window_size=(640, 480))
+    p.set_background("white")
+    p.add_mesh(pv.Line((0, 0, 0), (1, 1, 0), resolution=20), line_width=6, render_lines_as_tubes=True)
+    clock = p.add_text("", position="lower_left", font_size=8, color="#1d2733")
+    shown = FixedCaption(p, clock, captions) if fixed else None
+    out = []
+    for c in captions:
+        shown.show(c) if fixed else clock.set_text("lower_left", c)
+        p.render()
+        out.append(p.screenshot(None, return_img=True))
+    info = (shown.actor is not None, shown.longest) if fixed else None
+    p.close()
+    return np.array(out), info
+a, _ = frames(False)
+b, (found, longest) = frames(True)
+print(json.dumps({"same": [bool(np.array_equal(x, y)) for x, y in zip(a, b)], "found": found,
+                  "longest": longest}))
+'''
+    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300, cwd=ROOT)
+    assert r.returncode == 0, r.stderr[-2000:]
+    got = json.loads(r.stdout.strip().splitlines()[-1])
+    assert got["found"] and all(got["same"])
+    assert got["longest"] < len("t = 0.26 s  (largest motion)")      # that one is the annotation's

@@ -9,7 +9,7 @@ from __future__ import annotations
 import shutil
 from pathlib import Path
 
-__all__ = ["draw_pictures", "wants_pictures"]
+__all__ = ["draw_pictures", "pictures_and_plots", "wants_pictures"]
 
 
 def wants_pictures(results) -> bool:
@@ -36,7 +36,7 @@ def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float
 
     model = results.model
     try:
-        ok, why = render.can_render()
+        ok, why = render.probed()     # started with the pool (render_pool.start_pool)
         if not ok:
             return f"pictures skipped: {why}; results are complete"
         files = render_pool.render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs,
@@ -46,3 +46,35 @@ def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float
         shutil.rmtree(out / "pictures", ignore_errors=True)
         return f"pictures skipped: {type(exc).__name__}: {render.one_line(exc, last=False)}; results are complete"
     return f"{len(files)} pictures and animations in pictures/"
+
+
+def pictures_and_plots(results, out: Path, jobs: int, draw_modes: int = 6, fps: float = 12.0,
+                       video: bool = False, pool=None) -> tuple[str, dict | None]:
+    """The pictures (`draw_pictures`) and, while the processes of `pool` draw them, the report's
+    matplotlib plots in this process (`report.draw_plots`), which would otherwise only wait for
+    the pool: (notice, plots for `report.report`). Without a pool the pictures alone, and None
+    for the plots (the report draws them).
+
+    A failure or Ctrl-C while plotting is raised at once; the caller ends the pool
+    (`render_pool.stop_pool`), which ends the drawing thread with it."""
+    if pool is None:
+        return draw_pictures(results, out, jobs, draw_modes, fps, video), None
+    import threading
+
+    from .report import draw_plots
+
+    got: dict = {}
+
+    def draw():
+        try:
+            got["notice"] = draw_pictures(results, out, jobs, draw_modes, fps, video, pool=pool)
+        except BaseException as exc:      # noqa: BLE001 - handed to the caller's thread below
+            got["error"] = exc
+
+    worker = threading.Thread(target=draw, name="quaver-pictures", daemon=True)
+    worker.start()
+    plotted = draw_plots(results, out)
+    worker.join()
+    if "error" in got:
+        raise got["error"]
+    return got["notice"], plotted

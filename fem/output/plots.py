@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import io
 from pathlib import Path
 
 import numpy as np
@@ -25,10 +26,13 @@ def _fig(w=7.0, h=3.6):
 
 
 def _save(plt, fig, path: Path) -> Path:
+    from .png import write_palette_png
+
     fig.tight_layout()
-    fig.savefig(path)
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png")
     plt.close(fig)
-    return path
+    return write_palette_png(path, buf.getvalue())
 
 
 def plot_participation(path: Path, modal) -> Path:

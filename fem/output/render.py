@@ -20,8 +20,8 @@ import numpy as np
 from .fmt import percent
 from .vtk import MAX_TURN, drawing_scale
 
-__all__ = ["MODE_FRAMES", "RESPONSE_FRAMES", "can_render", "drawing_scale", "one_line", "plotters_made",
-           "release", "render_modes", "render_response", "response_frames"]
+__all__ = ["MODE_FRAMES", "RESPONSE_FRAMES", "can_render", "drawing_scale", "one_line", "plotters_made", "probed",
+           "release", "render_modes", "render_response", "response_frames", "start_probe"]
 
 _PROBE = ("import pyvista as pv; p = pv.Plotter(off_screen=True, window_size=(64, 64)); "
           "p.add_mesh(pv.Sphere()); p.screenshot(None); p.close()")
@@ -76,6 +76,26 @@ def can_render() -> tuple[bool, str]:
         return False, f"no OpenGL context could be created ({last})"
     os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
     return True, ""
+
+
+_PROBING: list = []
+
+
+def start_probe() -> None:
+    """Start `can_render`'s probe (a child process of about 1 s) in a thread now, so that its
+    answer is ready when the pictures start (`probed`); once a process."""
+    if not _PROBING:
+        import threading
+
+        _PROBING.append(threading.Thread(target=can_render, name="quaver-gl-probe", daemon=True))
+        _PROBING[0].start()
+
+
+def probed() -> tuple[bool, str]:
+    """`can_render`, after the probe `start_probe` began has finished (one probe, not two)."""
+    if _PROBING:
+        _PROBING[0].join()
+    return can_render()
 
 
 def _view_vector(main: int, extent: np.ndarray) -> np.ndarray:
@@ -295,6 +315,13 @@ def _frame(p, drawn: _Drawn, disp, twist, colour: str | None = None, norm: float
     p.render()
 
 
+def _still(p, path: Path) -> Path:
+    """The plotter's picture as a palette PNG file (`png`)."""
+    from .png import write_palette_png
+
+    return write_palette_png(path, p.screenshot(None, return_img=True))
+
+
 def _clock(p, text: str):
     """The frame's time caption, lower left; its text is replaced frame by frame."""
     return p.add_text(text, position="lower_left", font_size=8, color="#1d2733")
@@ -370,9 +397,9 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = MODE_F
                      drawn.ribbon_points(disp, twist), drawn.ribbon_points(-disp, -twist)]
         _fit(p, span, *view)
         stem = folder / f"{modal.name}_mode_{j + 1:03d}"
-        p.screenshot(str(stem) + "_plane.png")
+        _still(p, Path(str(stem) + "_plane.png"))
         _fit(p, span, *ISO)
-        p.screenshot(str(stem) + "_iso.png")
+        _still(p, Path(str(stem) + "_iso.png"))
         out += [Path(str(stem) + "_plane.png"), Path(str(stem) + "_iso.png")]
         if animate:
             def show(i, drawn=drawn, disp=disp, twist=twist):
@@ -393,11 +420,18 @@ def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
     place), so one context serves every frame."""
     from .animation import write_animation
 
+    from .caption import FIXED_FROM, FixedCaption
+
     p.window_size = size
     _bar_fonts(p, size)
     images = []
+    if clock is not None and count >= FIXED_FROM:       # the captions' font size found once
+        show(0)
+        clock = FixedCaption(p, clock, captions[:count])
     for i in range(count):
-        if clock is not None:
+        if isinstance(clock, FixedCaption):
+            clock.show(captions[i])
+        elif clock is not None:
             clock.set_text("lower_left", captions[i])
         show(i)
         images.append(p.screenshot(None, return_img=True))
@@ -447,7 +481,7 @@ def render_response(folder: Path, model, name: str, frame_t, frames, animate: bo
     span = np.r_[poly.points, (pts[None] + k * curves.disp.reshape(len(curves.disp), -1, 3)).reshape(-1, 3)]
     _fit(p, span, *ISO)
     png = folder / f"{name}_peak.png"
-    p.screenshot(str(png))
+    _still(p, png)
     out = [png]
     if animate:
         shown = response_frames(len(frame_t), worst)

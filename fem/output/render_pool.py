@@ -29,8 +29,12 @@ def _warm() -> None:
 
 def start_pool(jobs: int):
     """The `jobs` drawing processes, started now so that their start-up (importing pyvista and
-    VTK, 1-2 s each) overlaps the writing of the tables; None for one job. Hand it to
+    VTK, 1-2 s each) overlaps the writing of the tables, as does the OpenGL probe
+    (`render.start_probe`); None for one job. Hand it to
     `render_all`, which ends it; `stop_pool` ends it if it is not used."""
+    from .render import start_probe
+
+    start_probe()               # whether OpenGL works here, found meanwhile too
     if jobs <= 1:
         return None
     import multiprocessing as mp

@@ -18,7 +18,7 @@ from .springs_out import report_section as springs_section
 from .stress_demands import demand_report
 from .stress_out import report_section as stress_section
 
-__all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "case_tables", "report", "write_report"]
+__all__ = ["HISTORY_PLOTS", "STATIC_PLOTS", "case_tables", "draw_plots", "report", "write_report"]
 
 HISTORY_PLOTS = 12       # history plots per case in the report; every recorded node is in the CSV
 STATIC_PLOTS = 24     # deformed-shape plots of the first static cases and combinations (report size)
@@ -230,11 +230,16 @@ def _top(doc: dict, title: str, base: Path, check_rows: list) -> list[str]:
             "<h2 id='glance'>At a glance</h2>"]
 
 
-def _mode_images(pdir: Path, pics: Path, m) -> list:
-    """The participation plot of a modes case, then its pictures found in `pics`."""
+def _mode_plots(pdir: Path, m) -> list:
+    """The participation plot of a modes case."""
     from . import plots
 
-    images = [(plots.plot_participation(pdir / f"{m.name}_participation.png", m), "effective modal mass")]
+    return [(plots.plot_participation(pdir / f"{m.name}_participation.png", m), "effective modal mass")]
+
+
+def _mode_pictures(pics: Path, m) -> list:
+    """The pictures of a modes case found in `pics`."""
+    images = []
     for j in range(min(6, m.shapes.shape[2])):
         # pictures of the first six modes, animations of the first three (keeps the file small)
         stem = f"{m.name}_mode_{j + 1:03d}"
@@ -244,9 +249,9 @@ def _mode_images(pdir: Path, pics: Path, m) -> list:
     return images
 
 
-def _motion_images(pdir: Path, pics: Path, model, x) -> list:
+def _motion_plots(pdir: Path, model, x) -> list:
     """A free or history case: one plot per recorded node; past HISTORY_PLOTS, those that move
-    most (in record order); then its animation and largest-motion picture."""
+    most (in record order)."""
     from . import plots
 
     top = np.abs(x.u[:, :, :3]).max(axis=(0, 2))
@@ -258,10 +263,13 @@ def _motion_images(pdir: Path, pics: Path, model, x) -> list:
         node = model.node_names[x.record[j]]
         f = pdir / f"{x.name}_history_{re.sub(r'[^A-Za-z0-9_.-]', '_', node)}.png"
         images.append((plots.plot_history(f, x, node, j), f"displacement history at {node}{more}"))
-    for f, cap in ((animation_file(pics, x.name), "response animation"), (pics / f"{x.name}_peak.png", "largest motion")):
-        if f and f.exists():
-            images.append((f, cap))
     return images
+
+
+def _motion_pictures(pics: Path, x) -> list:
+    """A free or history case's animation and largest-motion picture found in `pics`."""
+    return [(f, cap) for f, cap in ((animation_file(pics, x.name), "response animation"),
+                                    (pics / f"{x.name}_peak.png", "largest motion")) if f and f.exists()]
 
 
 def _motion_rows(c) -> list:
@@ -294,30 +302,43 @@ def _spectrum_images(pdir: Path, results, x) -> list:
     return [(plots.plot_spectrum(pdir / f"{x.name}_spectrum.png", x, spectrum), "spectrum and modal periods")]
 
 
-def report(results, doc: dict, out: Path, notice: str = "") -> None:
-    """Plots into out/plots and the self-contained out/report.html of `results` (a
-    `fem.results.Results`) and its results document `doc`."""
+def draw_plots(results, out: Path) -> dict[str, list]:
+    """Every matplotlib plot of the report of `results`, drawn into out/plots (they need no
+    picture, so a run draws them while its pictures render): section name -> [(file, caption)]."""
     from . import plots
     from .vtk import shape_scale
 
     model = results.model
     pdir = out / "plots"
     pdir.mkdir(exist_ok=True)
-    pics = out / "pictures"
     images: dict[str, list] = {}
     for m in results.of_kind("modes"):
-        images[m.name] = _mode_images(pdir, pics, m)
+        images[m.name] = _mode_plots(pdir, m)
     images.update({f"{n} resonance": v for n, v in resonance_out.report_images(pdir, results).items()})
     for r in results.statics[:STATIC_PLOTS]:
         images[r.name] = [(plots.plot_static(pdir / f"{r.name}_deformed.png", model, r, shape_scale(model)),
                            "deformed shape")]
-    drawn = {"free": lambda x: _motion_images(pdir, pics, model, x),
-             "history": lambda x: _motion_images(pdir, pics, model, x),
+    drawn = {"free": lambda x: _motion_plots(pdir, model, x),
+             "history": lambda x: _motion_plots(pdir, model, x),
              "harmonic": lambda x: _harmonic_images(pdir, results, x),
              "spectrum": lambda x: _spectrum_images(pdir, results, x)}
     for x in results.modal:
         if x.kind in drawn:
             images[x.name] = drawn[x.kind](x)
+    return images
+
+
+def report(results, doc: dict, out: Path, notice: str = "", plotted: dict[str, list] | None = None) -> None:
+    """The self-contained out/report.html of `results` (a `fem.results.Results`) and its
+    results document `doc`, with the plots of `draw_plots` (`plotted`; drawn now into out/plots
+    when not given) and the pictures found in out/pictures."""
+    pics = out / "pictures"
+    images = {k: list(v) for k, v in (draw_plots(results, out) if plotted is None else plotted).items()}
+    for x in results.modal:
+        if x.kind == "modes":
+            images.setdefault(x.name, []).extend(_mode_pictures(pics, x))
+        elif x.kind in ("free", "history"):
+            images.setdefault(x.name, []).extend(_motion_pictures(pics, x))
         elif x.kind == "buckling":
             from .buckling_out import picture_images
 

@@ -1,10 +1,11 @@
 """The report's page: its style sheet, navigation bar and picture grid, and the pictures and
 animations as the page carries them (one self-contained file, no script, nothing fetched).
 
-Stills are re-encoded for the page as palette PNG (256 colours, Pillow's fast octree
-quantiser), the files on disk stay as drawn; the smaller of the two is embedded. On the demo
-rack this takes the stills from 2.5 MB to 0.7 MB; a still from the renderer or a plot has
-flat colours and anti-aliased edges, which a 256-colour palette keeps. An animation is found
+Stills are embedded as palette PNG (256 colours, `fem.output.png`): Quaver's own pictures and
+plots are written so already and embedded as they are; another PNG is re-encoded when that
+makes it smaller. On the demo rack this takes the stills from 2.5 MB to 0.7 MB; a still from
+the renderer or a plot has flat colours and anti-aliased edges, which a 256-colour palette
+keeps. An animation is found
 by its file stem in the lightest format present (.webp, .mp4, .gif: the smallest file wins)
 and embedded when it is at most ANIMATION_BUDGET bytes, else linked as a file beside the
 report, so the report stays a few MB however long a response runs.
@@ -14,7 +15,6 @@ from __future__ import annotations
 
 import base64
 import html
-import io
 import os
 from pathlib import Path
 
@@ -107,16 +107,11 @@ def encode_still(path: Path) -> tuple[bytes, str]:
     data = path.read_bytes()
     if path.suffix.lower() != ".png":
         return data, _MIME.get(path.suffix.lower(), "image/png")
-    from PIL import Image
+    if data[:8] == b"\x89PNG\r\n\x1a\n" and data[25:26] == b"\x03":     # IHDR colour type 3: palette already
+        return data, "image/png"
+    from .png import palette_png
 
-    with Image.open(io.BytesIO(data)) as im:
-        rgb = im.convert("RGBA")
-        flat = Image.new("RGB", rgb.size, "white")
-        flat.paste(rgb, mask=rgb.getchannel("A"))       # plots: transparent parts on white paper
-        q = flat.quantize(256, method=Image.Quantize.FASTOCTREE)
-        buf = io.BytesIO()
-        q.save(buf, "PNG", optimize=True)
-    small = buf.getvalue()
+    small = palette_png(data)
     return (small, "image/png") if len(small) < len(data) else (data, "image/png")
 
 

@@ -144,13 +144,14 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
         if staged is not None:
             staged(doc)
         if write == "all":
-            notice = (pictures.draw_pictures(results, tmp, jobs, draw_modes, fps, video, pool=pool) if render
-                      else "pictures skipped (--no-render)")
+            # the report's plots are drawn while the pool draws the pictures
+            notice, plotted = (pictures.pictures_and_plots(results, tmp, jobs, draw_modes, fps, video, pool=pool)
+                               if render else ("pictures skipped (--no-render)", None))
             if render:      # the interactive 3D view (viewer.html), whole or not at all
                 failed = viewer.write_viewer(results, tmp)
                 notice += f"; {failed}" if failed else ""
             with stage("writing the report"):
-                report.report(results, doc, tmp, notice)
+                report.report(results, doc, tmp, notice, plotted)
         else:
             notice = f"pictures, plots and report not written (--write {write})"
         _folder.write_manifest(tmp, target.name)
