@@ -164,19 +164,22 @@ def _angle_moments(b: float, h: float, t: float, r: float = 0.0) -> tuple:
     Heel at the origin, legs along +y and +z; the leg rectangles b x t and t x (h - t) plus the
     fillet in the re-entrant corner at (t, t).
     """
-    parts = [(0.0, b, 0.0, t), (0.0, t, t, h)]
-    m = [0.0] * 6
-    for y0, y1, z0, z1 in parts:
-        area = (y1 - y0) * (z1 - z0)
-        for k, v in enumerate((area, area * (y0 + y1) / 2.0, area * (z0 + z1) / 2.0,
-                               (y1 - y0) * (z1**3 - z0**3) / 3.0, (z1 - z0) * (y1**3 - y0**3) / 3.0,
-                               (y1**2 - y0**2) * (z1**2 - z0**2) / 4.0)):
-            m[k] += v
-    if r > 0.0:
-        m = [x + f for x, f in zip(m, _spandrel_raw(t, t, 1.0, 1.0, r))]
-    A, Sy, Sz, Iyy, Izz, Pyz = m
-    cy, cz = Sy / A, Sz / A
-    return A, cy, cz, Iyy - A * cz * cz, Izz - A * cy * cy, Pyz - A * cy * cz
+    rects = ((0.0, b, 0.0, t), (0.0, t, t, h))
+    fil = _spandrel_raw(t, t, 1.0, 1.0, r) if r > 0.0 else (0.0,) * 6   # raw moments about the heel
+    A = sum((y1 - y0) * (z1 - z0) for y0, y1, z0, z1 in rects) + fil[0]
+    cy = (sum((y1 - y0) * (z1 - z0) * (y0 + y1) / 2.0 for y0, y1, z0, z1 in rects) + fil[1]) / A
+    cz = (sum((y1 - y0) * (z1 - z0) * (z0 + z1) / 2.0 for y0, y1, z0, z1 in rects) + fil[2]) / A
+    Iyy = Izz = Pyz = 0.0
+    for y0, y1, z0, z1 in rects:             # each rectangle about the centroid (no cancellation)
+        y0, y1, z0, z1 = y0 - cy, y1 - cy, z0 - cz, z1 - cz
+        Iyy += (y1 - y0) * (z1**3 - z0**3) / 3.0
+        Izz += (z1 - z0) * (y1**3 - y0**3) / 3.0
+        Pyz += (y1**2 - y0**2) * (z1**2 - z0**2) / 4.0
+    if r > 0.0:                              # the fillet's heel moments moved to the centroid
+        Iyy += fil[3] - 2.0 * cz * fil[2] + fil[0] * cz * cz
+        Izz += fil[4] - 2.0 * cy * fil[1] + fil[0] * cy * cy
+        Pyz += fil[5] - cy * fil[2] - cz * fil[1] + fil[0] * cy * cz
+    return A, cy, cz, Iyy, Izz, Pyz
 
 
 def _angle_outline(b: float, h: float, t: float, r: float = 0.0) -> list:
