@@ -249,23 +249,30 @@ def test_reaction_and_end_force_tables_in_display_units(chosen, force, moment):
 
 
 def test_envelope_tables_name_what_governs():
-    """An envelope's reactions per node with the governing case beside each bound, and a member
-    stress field (SI, Pa) shown in the chosen stress unit with its member and case."""
+    """An envelope's reactions per node with the governing case beside each bound, and its member
+    stress field (results.json, SI, Pa) shown in the chosen stress unit with its member and case."""
     from fem.output.report_tables import demand_tables, shown_units
+    from fem.output.stress_demands import demand_report
 
     cols = ["Fx", "Fy", "Fz", "Mx", "My", "Mz"]
     c = {"kind": "envelope", "fields": {
         "reaction": {"columns": cols, "governing": {}, "values": {"G0": {
             "max": [1500.0, 0.0, 2e5, 0.0, 3e3, 0.0], "min": [-1500.0, -1e-12, 1e5, 0.0, -3e3, 0.0],
             "max_case": ["A", "A", "B", "A", "B", "A"], "min_case": ["B", "A", "A", "A", "A", "A"]}}},
-        "von_mises_stress": {"columns": ["at_i"], "values": {}, "governing": {"at_i": {
-            "max": {"value": 2.5e8, "member": "C1", "case": "B"}, "min": {"value": 0.0, "member": "C2", "case": "A"}}}}}}
+    }}
+    stress = {"basis": "static parts exact", "members": {
+        "C1": {"section": "COL", "normal_max_Pa": 2.4e8, "normal_min_Pa": -1e8, "mises_Pa": 2.5e8,
+               "ratio_to_yield": 0.704, "mises_point": "corner +y +z", "mises_case": "B"},
+        "C2": {"section": "COL", "normal_max_Pa": 1e7, "normal_min_Pa": 0.0, "mises_Pa": 1e7,
+               "ratio_to_yield": 0.028, "mises_point": "corner -y +z", "mises_case": "A"}}}
     doc = {"display_units": {"length": "mm", "force": "kN", "moment": "kN*m", "stress": "MPa", "frequency": "Hz",
                              "chosen": True}}
     text = demand_tables(c, shown_units(doc))
     assert ">1.5 (A)</td>" in text and ">-1.5 (B)</td>" in text and ">200 (B)</td>" in text
     assert ">0 (A)</td>" in text and ">-1e-12" not in text                 # -1e-12 of 200 kN is round-off: shown as 0
-    assert "Governing von mises stress" in text and "250 MPa" in text and "C1 (B)" in text
+    table = demand_report(stress, "case", doc)
+    assert "member stresses (MPa)" in table and "<td>250</td>" in table and "<td>B</td>" in table
+    assert table.index("<td>C1</td>") < table.index("<td>C2</td>")          # most stressed first
 
 
 def test_viewer_is_linked_when_present(rack, tmp_path):

@@ -111,20 +111,17 @@ def demand_tables(c: dict, units) -> str:
         timed = any(g is not None for v in reac["values"].values() for side in ("max", "min") for g in v[f"{side}_{by}"])
         note = ("governing case in brackets" if by == "case" else "time in brackets") if timed else "peaks, no time"
         parts.append(f"<div><h3>Reactions (largest and smallest, {note})</h3>{_table(head, rows, left=2)}</div>")
-    for name, f in c["fields"].items():       # end forces, and member stresses where a field holds them
-        if name == "stress" or name != "end_force" and "stress" not in name or not f["governing"]:
-            continue       # "stress" (per member, its stress points) has its own table: stress_demands.demand_report
+    ends = c["fields"].get("end_force")      # member stresses: their own table, stress_demands.demand_report
+    if ends and ends["governing"]:
         rows = []
-        for comp, g in f["governing"].items():
-            k, unit = units["stress" if name != "end_force" else
-                            "moment" if comp.split("_")[0] in ("T", "My", "Mz") else "force"]
+        for comp, g in ends["governing"].items():
+            k, unit = units["moment" if comp.split("_")[0] in ("T", "My", "Mz") else "force"]
             cells = [html.escape(comp)]
             for side in ("max", "min"):
                 e = g[side]
                 cells += [f"{e['value'] * k:.4g} {unit}", html.escape(str(e.get("member", ""))) + _gov(e[by], by)]
             rows.append(cells)
-        title = "member end forces" if name == "end_force" else html.escape(name.replace("_", " "))
-        parts.append(f"<div><h3>Governing {title}</h3>"
+        parts.append("<div><h3>Governing member end forces</h3>"
                      f"{_table(['component', 'largest', 'member', 'smallest', 'member'], rows)}</div>")
     return "\n".join(parts)
 
