@@ -59,3 +59,22 @@ mass A = 800 kg
 mass B = 300 kg
 case MODES modes { count = 2 }
 """
+
+# a pinned column foot B under a portal (column COL, beam BM to a fixed support G) and a node F
+# 0.8 m out from the foot carrying an 800 kg counterweight; the files that use it join F to B
+# (a rigid link, a mass off the node or a stiff member H/Q) and add their cases
+COUNTERWEIGHT_FRAME = """
+material ST { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
+material H { E = 210 GPa, nu = 0.3, density = 0 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.1 mm)
+section Q = generic(A = 1 m^2, Iy = 1 m^4, Iz = 1 m^4, J = 1 m^4)
+node B = (0, 0, 0)
+node T = (0, 0, 3 m)
+node F = (0.8 m, 0, 0)
+node G = (3 m, 0, 3 m)
+member COL : B -> T beam P ST
+member BM : T -> G beam P ST
+support B pinned
+support G fixed
+mass F = 800 kg
+"""

@@ -12,6 +12,7 @@ import numpy as np
 import pytest
 
 import fem
+from shared_decks import COUNTERWEIGHT_FRAME
 
 K, M = 1e5, 100.0
 W = np.sqrt(K / M)
@@ -133,20 +134,7 @@ case HA harmonic { force N4 = (1 kN, 2 kN, -0.5 kN), at = (3 Hz), damping = 0.01
     assert np.linalg.norm(a.links[3:]) > 1e-3 * np.linalg.norm(a.links[:3])   # the link carries a moment
 
 
-COUNTERWEIGHT = """
-material ST { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
-material H { E = 210 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.1 mm)
-section Q = generic(A = 1 m^2, Iy = 1 m^4, Iz = 1 m^4, J = 1 m^4)
-node B = (0, 0, 0)
-node T = (0, 0, 3 m)
-node F = (0.8 m, 0, 0)
-node G = (3 m, 0, 3 m)
-member COL : B -> T beam P ST
-member BM : T -> G beam P ST
-support B pinned
-support G fixed
-mass F = 800 kg
+COUNTERWEIGHT = COUNTERWEIGHT_FRAME + """
 case MODES modes { count = 30 }
 case ST static { force T = (6 kN, 0, 0) }
 case KNOCK history { force T = (6 kN, 0, 0), time = halfsine(0.05 s), duration = 0.2 s, step = 0.001 s,
