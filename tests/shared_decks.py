@@ -78,3 +78,19 @@ support B pinned
 support G fixed
 mass F = 800 kg
 """
+
+# a 400 kg machine on an isolator above a rigidly supported base node (vertical only): one DOF,
+# k = 250 kN/m, f = sqrt(k/m)/2pi = 3.979 Hz. A massless floor member keeps the model a frame.
+ISOLATED_SDOF = """
+material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+node G = (0, 0, 0)
+node F = (1 m, 0, 0)
+node A = (0, 0, 0)
+member FLOOR : G -> F beam P S
+support G fixed
+support F fixed
+support A (ux, uy, rx, ry, rz)
+spring ISO: G -> A (uz = 250 kN/m)
+mass A = 400 kg
+"""

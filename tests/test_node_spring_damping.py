@@ -8,7 +8,7 @@ import scipy.linalg as sla
 from fem import solve
 from fem.analysis.spring_damping import spring_ratios
 from fem.deck.reader import read_text
-from shared_decks import ISOLATED_PAIR
+from shared_decks import ISOLATED_PAIR, ISOLATED_SDOF
 
 TWO = ISOLATED_PAIR.replace("(uz = 1 MN/m)\n", "(uz = 1 MN/m) damping = ZETA\n")
 
@@ -40,18 +40,7 @@ def test_a_harmonic_case_uses_the_spring_damping():
     # one DOF on a damped isolator, no damping of the case's own: the mode's ratio is the
     # spring's, and the amplitude of k u is p0 R_d with R_d of that ratio (Chopra, Dynamics of
     # Structures, 4th ed., eq. 3.2.11)
-    deck = """
-material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-node G = (0, 0, 0)
-node F = (1 m, 0, 0)
-node A = (0, 0, 0)
-member FLOOR : G -> F beam P S
-support G fixed
-support F fixed
-support A (ux, uy, rx, ry, rz)
-spring ISO: G -> A (uz = 250 kN/m) damping = 6 percent
-mass A = 400 kg
+    deck = ISOLATED_SDOF.replace("(uz = 250 kN/m)\n", "(uz = 250 kN/m) damping = 6 percent\n") + """
 case MODES modes { count = 1 }
 case HUM harmonic { force A = (0, 0, 100 N), from = 1 Hz, to = 8 Hz, points = 200 }
 """

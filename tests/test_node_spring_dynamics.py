@@ -7,23 +7,8 @@ import pytest
 from fem import solve
 from fem.analysis.sensitivity import frequency_sensitivity
 from fem.deck.reader import read_text
-from shared_decks import ISOLATED_PAIR
+from shared_decks import ISOLATED_PAIR, ISOLATED_SDOF
 
-# a 400 kg machine on an isolator above a rigidly supported base node (vertical only): one DOF,
-# k = 250 kN/m, f = sqrt(k/m)/2pi = 3.979 Hz. A massless floor member keeps the model a frame.
-SDOF = """
-material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-node G = (0, 0, 0)
-node F = (1 m, 0, 0)
-node A = (0, 0, 0)
-member FLOOR : G -> F beam P S
-support G fixed
-support F fixed
-support A (ux, uy, rx, ry, rz)
-spring ISO: G -> A (uz = 250 kN/m)
-mass A = 400 kg
-"""
 K, M = 250e3, 400.0
 WN = np.sqrt(K / M)
 
@@ -32,7 +17,7 @@ def test_free_vibration_peak_is_the_starting_force():
     # released from the deflection under 2 kN, undamped: u(t) = u0 cos(w t) (Chopra, Dynamics
     # of Structures, 4th ed., eq. 2.1.3 with zero initial velocity), so the largest spring force
     # is the starting one, at t = 0 and again every period
-    r = solve(read_text(SDOF + """
+    r = solve(read_text(ISOLATED_SDOF + """
 case PUSH static { force A = (0, 0, 2 kN) }
 case MODES modes { count = 1 }
 case LET free { start = PUSH, duration = 1 s, step = 0.001 s, damping = 0 percent }
@@ -47,7 +32,7 @@ case LET free { start = PUSH, duration = 1 s, step = 0.001 s, damping = 0 percen
 def test_step_load_doubles_the_spring_force():
     # a suddenly applied constant force on an undamped SDOF: u_max = 2 F / k (Chopra, 4th ed.,
     # sec. 4.3, eq. 4.3.2), at t = T/2 (3T/2, ...); step 1 ms resolves the peak to 1 - cos(w dt / 2) ~ 1e-4
-    r = solve(read_text(SDOF + """
+    r = solve(read_text(ISOLATED_SDOF + """
 case MODES modes { count = 1 }
 case KICK history { force A = (0, 0, 1 kN), time = step, duration = 0.5 s, step = 0.001 s, damping = 0 percent }
 """))
@@ -60,7 +45,7 @@ case KICK history { force A = (0, 0, 1 kN), time = step, duration = 0.5 s, step 
 def test_harmonic_amplitude_against_the_deformation_response_factor():
     # steady amplitude of k u under p0 sin(w t): p0 R_d, R_d = 1 / sqrt((1 - r^2)^2 + (2 zeta r)^2)
     # (Chopra, 4th ed., eq. 3.2.11); the sweep's largest, at the frequency reported
-    r = solve(read_text(SDOF + """
+    r = solve(read_text(ISOLATED_SDOF + """
 case MODES modes { count = 1 }
 case HUM harmonic { force A = (0, 0, 100 N), from = 1 Hz, to = 8 Hz, points = 200, damping = 3 percent }
 """))
@@ -119,7 +104,7 @@ def test_spring_forces_reach_the_tables_results_json_summary_and_report(tmp_path
     from fem import write_results
     from fem.output.summary import print_summary
 
-    r = solve(read_text(SDOF + """
+    r = solve(read_text(ISOLATED_SDOF + """
 case PUSH static { force A = (0, 0, -2 kN) }
 case MODES modes { count = 1 }
 """))
@@ -159,7 +144,7 @@ def test_harmonic_case_recording_a_node_no_member_reaches():
     # regression: a harmonic load that grows with the frequency (an unbalance) and a recorded
     # node that no member has an end at (here a mass on an isolator) failed when the end-force
     # table of the recorded members was empty
-    r = solve(read_text(SDOF + """
+    r = solve(read_text(ISOLATED_SDOF + """
 case MODES modes { count = 1 }
 case RUN harmonic { unbalance A = 10 kg * 1 mm about x, from = 1 Hz, to = 8 Hz, points = 50, damping = 2 percent,
                     record = "A" }
@@ -174,7 +159,7 @@ case RUN harmonic { unbalance A = 10 kg * 1 mm about x, from = 1 Hz, to = 8 Hz, 
 def test_combination_with_a_history_and_a_spectrum_bounds_the_spring_force(tmp_path):
     # dead load, a suddenly applied 1 kN up (its spring force runs from 0 to 2 kN, Chopra sec.
     # 4.3) and half a vertical spectrum peak (no sign: both ways, fem/analysis/combine.py)
-    r = solve(read_text(SDOF + """
+    r = solve(read_text(ISOLATED_SDOF + """
 case DEAD static { gravity = (0, 0, -9.81 m/s^2) }
 case MODES modes { count = 1 }
 case KICK history { force A = (0, 0, 1 kN), time = step, duration = 0.5 s, step = 0.001 s, damping = 0 percent }
