@@ -45,8 +45,6 @@ def recurrence_coefficients(omega, zeta, dt):
 
 def integrate_modal_steps(omega, zeta, dt, p, q0=None, v0=None, kicks=None):
     """Reference stepper: a Python loop over time steps, vectorised over modes."""
-    from scipy.signal import lfilter         # here, not at the top: scipy.signal takes ~0.5 s to import
-
     c = recurrence_coefficients(omega, zeta, dt)
     p = np.asarray(p, dtype=float)
     n, k = p.shape
