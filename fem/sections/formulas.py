@@ -1,5 +1,6 @@
 """The pieces the section shapes are built from: the properties record, dimension checks,
-Cowper's shear coefficients, fillet and rounded-corner integrals and torsion formulas."""
+Cowper's shear coefficients, fillet and rounded-corner integrals and torsion formulas (the
+numerical Saint-Venant solver is :mod:`.torsion`)."""
 
 from __future__ import annotations
 
@@ -188,26 +189,6 @@ def _angle_outline(b: float, h: float, t: float, r: float = 0.0) -> list:
     tangent points (t + r, t) and (t, t + r)."""
     inner = [(t, t)] if r == 0.0 else [(t + r, t), (t, t + r)]
     return [(0.0, 0.0), (b, 0.0), (b, t), *inner, (t, h), (0.0, h)]
-
-
-def _angle_torsion(b: float, h: float, t: float, r: float) -> float:
-    """Saint-Venant J of an angle with legs b, h of one thickness t and a root fillet r > 0.
-
-    El Darwish & Johnston (1965), "Torsion of structural shapes", J. Struct. Div. ASCE 91(ST1), as
-    given in Roark's Formulas for Stress and Strain, Table 10.1 (L-section, the case citing them),
-    with both legs of thickness t: J = K1 + K2 + alpha D^4, the whole leg b as a rectangle free at
-    both ends K1 = b t^3 [1/3 - 0.21 (t/b)(1 - t^4/(12 b^4))], the rest of leg h free at its tip
-    K2 = c t^3 [1/3 - 0.105 (t/c)(1 - t^4/(192 c^4))] with c = h - t, the junction factor
-    alpha = 0.07 + 0.076 r/t and the inscribed circle D = 2 [2t + 3r - sqrt(2 (2r + t)^2)].
-    Checked against a finite-difference Saint-Venant solution (tests/test_sections_catalogue.py):
-    0.2 % to 2.6 % above it, the most for thin legs with large fillets (r/t > 1).
-    """
-    c = h - t
-    K1 = b * t**3 * (1.0 / 3.0 - 0.21 * t / b * (1.0 - t**4 / (12.0 * b**4)))
-    K2 = c * t**3 * (1.0 / 3.0 - 0.105 * t / c * (1.0 - t**4 / (192.0 * c**4)))
-    alpha = 0.07 + 0.076 * r / t
-    D = 2.0 * (2.0 * t + 3.0 * r - math.sqrt(2.0) * (2.0 * r + t))
-    return K1 + K2 + alpha * D**4
 
 
 # ----------------------------------------------------------------------------- shear coefficients

@@ -27,7 +27,6 @@ from .formulas import (  # noqa: F401 (SectionProps and the kappas are re-export
     SectionProps,
     _angle_moments,
     _angle_outline,
-    _angle_torsion,
     _el_darwish_johnston,
     _fillet,
     _less,
@@ -40,6 +39,7 @@ from .formulas import (  # noqa: F401 (SectionProps and the kappas are re-export
     cowper_kappa_rectangle,
     cowper_kappa_solid_circle,
 )
+from .torsion import angle_torsion_constant
 
 __all__ = [
     "CATALOGUE",
@@ -280,8 +280,9 @@ def angle(b: float, h: float, t: float, r: float = 0.0) -> SectionProps:
         (minor), from the moments and the product of inertia about the leg axes through the
         centroid, exact with the fillet. See :func:`angle_principal_angle` for the orientation of
         u relative to the legs. J: without a fillet the thin-wall (b + h - t) t^3 / 3; with one
-        El Darwish & Johnston's formula (:func:`fem.sections.formulas._angle_torsion`), so J jumps
-        by a few percent between r = 0 and a small r. Wy, Wz divide I_u, I_v by the largest
+        the Saint-Venant J of the filleted outline with square toes, solved numerically
+        (:func:`fem.sections.torsion.angle_torsion_constant`, within about 1e-4), so J jumps by a
+        few percent between r = 0 and a small r. Wy, Wz divide I_u, I_v by the largest
         distance of a corner of the outline from the u and v axes. Shear areas are 0 (rigid in
         shear): angle members are slender bracing for which shear deformation is negligible, and
         there is no well-established shear area on the principal axes.
@@ -290,7 +291,7 @@ def angle(b: float, h: float, t: float, r: float = 0.0) -> SectionProps:
     A, cy, cz, Iyy, Izz, Pyz = _angle_moments(b, h, t, r)
     mean = 0.5 * (Iyy + Izz)
     rad = math.hypot(0.5 * (Iyy - Izz), Pyz)
-    J = _angle_torsion(b, h, t, r) if r > 0.0 else (b + h - t) * t**3 / 3.0
+    J = angle_torsion_constant(b, h, t, r) if r > 0.0 else (b + h - t) * t**3 / 3.0
     theta = 0.5 * math.atan2(-Pyz, 0.5 * (Iyy - Izz))        # as in angle_principal_angle
     cu, su = math.cos(theta), math.sin(theta)
     corners = [(y - cy, z - cz) for y, z in _angle_outline(b, h, t, r)]
