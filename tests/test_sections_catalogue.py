@@ -91,11 +91,14 @@ def _channel_outline(d, bf, tf, tw, r):
     return p + [(bf, zf), (bf, d / 2), (0.0, d / 2)]
 
 
-def _angle_outline(b, h, t, r):
-    """CCW outline of an angle, heel at the origin, leg b along y and leg h along z."""
-    p = [(0.0, 0.0), (b, 0.0), (b, t)]
+def _angle_outline(b, h, t, r, r2=0.0):
+    """CCW outline of an angle, heel at the origin, leg b along y and leg h along z; root fillet
+    r, toe radius r2 at the inner corner of each toe."""
+    p = [(0.0, 0.0), (b, 0.0)]
+    p += _arc(b - r2, t - r2, r2, 0.0, math.pi / 2) if r2 else [(b, t)]
     p += _arc(t + r, t + r, r, -math.pi / 2, -math.pi) if r else [(t, t)]
-    return p + [(t, h), (0.0, h)]
+    p += _arc(t - r2, h - r2, r2, 0.0, math.pi / 2) if r2 else [(t, h)]
+    return p + [(0.0, h)]
 
 
 def _product(pts, cy, cz):
@@ -171,21 +174,23 @@ def test_rhs_default_inside_radius_is_concentric():
             assert getattr(a, f) == pytest.approx(getattr(b, f), rel=1e-12), f
 
 
-@pytest.mark.parametrize("b, h, t, r", [
-    (0.127, 0.127, 0.0079375, 0.0127127),    # L5X5X5/16 dimensions (AISC v15.0), r = kdes - t
-    (0.2032, 0.2032, 0.0254, 0.016002),      # L8X8X1
-    (0.150, 0.090, 0.010, 0.012),            # unequal, arbitrary
-    (0.090, 0.150, 0.010, 0.012),            # the same, legs swapped
-], ids=["L5x5x5/16", "L8x8x1", "150x90x10", "90x150x10"])
-def test_angle_fillet_against_polygon(b, h, t, r):
-    # Independent route: polygon integration of the exact outline (the fillet arc in N_ARC chords),
+@pytest.mark.parametrize("b, h, t, r, r2", [
+    (0.127, 0.127, 0.0079375, 0.0127127, 0.0),    # L5X5X5/16 dimensions (AISC v15.0), r = kdes - t
+    (0.2032, 0.2032, 0.0254, 0.016002, 0.0),      # L8X8X1
+    (0.150, 0.090, 0.010, 0.012, 0.0),            # unequal, arbitrary
+    (0.090, 0.150, 0.010, 0.012, 0.0),            # the same, legs swapped
+    (0.080, 0.080, 0.008, 0.010, 0.005),          # 80 x 80 x 8, EN 10056-1 radii r1, r2 = r1/2
+    (0.150, 0.090, 0.010, 0.012, 0.010),          # unequal with toe radii r2 = t, arbitrary
+], ids=["L5x5x5/16", "L8x8x1", "150x90x10", "90x150x10", "80x80x8-toes", "150x90x10-toes"])
+def test_angle_fillet_against_polygon(b, h, t, r, r2):
+    # Independent route: polygon integration of the exact outline (the arcs in N_ARC chords),
     # then the principal moments as the eigenvalues of the inertia tensor (numpy), and the
     # direction of the major one; rtol 1e-6 as for the I shapes (a fillet moves A by up to 2 %).
-    pts = _angle_outline(b, h, t, r)
+    pts = _angle_outline(b, h, t, r, r2)
     A, cy, cz, Iyy, Izz = _moments(pts)
     Pyz = _product(pts, cy, cz)
-    s = angle(b, h, t, r=r)
-    got = angle_leg_moments(b, h, t, r)
+    s = angle(b, h, t, r=r, r2=r2)
+    got = angle_leg_moments(b, h, t, r, r2)
     assert got[:3] == pytest.approx((A, cy, cz), rel=1e-6)
     assert got[3:] == pytest.approx((Iyy, Izz, Pyz), rel=1e-6)
     assert s.A == pytest.approx(A, rel=1e-6)
@@ -193,9 +198,10 @@ def test_angle_fillet_against_polygon(b, h, t, r):
     lam, vec = np.linalg.eigh([[Iyy, -Pyz], [-Pyz, Izz]])
     assert (s.Iy, s.Iz) == pytest.approx((lam[1], lam[0]), rel=1e-6)
     u = vec[:, 1]
-    th = angle_principal_angle(b, h, t, r)
+    th = angle_principal_angle(b, h, t, r, r2)
     assert abs(u[0] * math.cos(th) + u[1] * math.sin(th)) == pytest.approx(1.0, abs=1e-9)
-    # W: the farthest polygon vertex from each principal axis (a tip or the heel, never the arc)
+    # W: the farthest polygon vertex from each principal axis (a corner, or on a toe arc; never
+    # on the concave root fillet)
     d_u = max(abs(-math.sin(th) * (y - cy) + math.cos(th) * (z - cz)) for y, z in pts)
     d_v = max(abs(math.cos(th) * (y - cy) + math.sin(th) * (z - cz)) for y, z in pts)
     assert s.Wy == pytest.approx(lam[1] / d_u, rel=1e-6)
@@ -243,7 +249,7 @@ def test_angle_sharp_default_and_registry():
     # no radius keeps the sharp-corner angle and its thin-wall J exactly (existing decks unchanged)
     assert angle(0.1, 0.08, 0.01, r=0.0) == angle(0.1, 0.08, 0.01)
     assert angle(0.1, 0.1, 0.01).J == pytest.approx((0.2 - 0.01) * 0.01**3 / 3, rel=1e-14)
-    assert SHAPES["angle"][2] == ("r",)
+    assert SHAPES["angle"][2] == ("r", "r2")
     assert make_section("angle", {"b": 0.1, "h": 0.1, "t": 0.01, "r": 0.012}) == angle(0.1, 0.1, 0.01, r=0.012)
     # the catalogue's angles carry the table's root radius kdes - t
     assert catalogue_entry("L4X4X1/2").dims["r"] == pytest.approx((0.875 - 0.5) * 0.0254, rel=1e-12)
@@ -335,7 +341,10 @@ def test_ishape_fillet_J_against_finite_differences():
     (lambda: ishape(0.3, 0.3, 0.019, 0.011, r=0.15), r"ishape: the root radius r must fit"),
     (lambda: channel(0.2, 0.08, 0.011, 0.006, r=0.08), r"channel: the root radius r must fit"),
     (lambda: angle(0.1, 0.1, 0.01, r=-0.001), r"angle: r must be zero or positive"),
-    (lambda: angle(0.1, 0.08, 0.01, r=0.075), r"angle: the root radius r must fit along the inner faces"),
+    (lambda: angle(0.1, 0.08, 0.01, r=0.075), r"angle: the root radius r and the toe radius r2 must fit along the inner faces"),
+    (lambda: angle(0.1, 0.08, 0.01, r=0.04, r2=0.031), r"r \+ r2 <= min\(b, h\) - t \(got r=0.04 m, r2=0.031 m, limit 0.07 m\)"),
+    (lambda: angle(0.1, 0.08, 0.01, r=0.01, r2=0.011), r"angle: the toe radius r2 must not exceed the thickness t"),
+    (lambda: angle(0.1, 0.08, 0.01, r2=-0.001), r"angle: r2 must be zero or positive"),
     (lambda: rhs(0.1, 0.2, 0.008, ro=0.01, ri=0.02), r"rhs: the inside corner radius ri must not exceed the outside"),
     (lambda: rhs(0.1, 0.2, 0.008, ro=0.06), r"rhs: the outside corner radius ro must not exceed min\(b, h\)/2"),
     (lambda: rhs(0.1, 0.2, 0.008, ro=0.05, ri=0.045), r"rhs: the inside corner radius ri must not exceed min\(b, h\)/2 - t"),

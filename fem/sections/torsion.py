@@ -167,9 +167,10 @@ def _richardson(j1: float, j2: float) -> float:
     return j2 + (j2 - j1) / (2.0**_ORDER - 1.0)
 
 
-def _angle_patches(b, h, t, r, n):
+def _angle_patches(b, h, t, r, r2, n):
     """Node grids of an angle (heel at the origin, leg b along y, leg h along z, thickness t,
-    root fillet r > 0, square toes) at n quadratic elements through the thickness."""
+    root fillet r > 0, toe radius r2 >= 0 at the inner corner of each toe) at n quadratic
+    elements through the thickness."""
     c = t + r
     p = (c - r / math.sqrt(2.0), c - r / math.sqrt(2.0))   # middle of the fillet arc
     nc = max(n, round(n * c / t))                           # elements along the corner patches
@@ -180,19 +181,25 @@ def _angle_patches(b, h, t, r, n):
         _coons(segment((0, 0), (0, c)), arc((c, c), r, -0.75 * math.pi, -math.pi),
                segment((0, 0), p), segment((0, c), (t, c)), 2 * nc, 2 * n),
     ]
-    for length, leg in ((b - c, lambda y, z: (y, z)), (h - c, lambda y, z: (z, y))):
-        if length <= 1e-12 * t:
-            continue
-        m = max(1, math.ceil(n * length / (_ASPECT * t)))
-        g = _coons(segment((c, 0), (c + length, 0)), segment((c, t), (c + length, t)),
-                   segment((c, 0), (c, t)), segment((c + length, 0), (c + length, t)), 2 * m, 2 * n)
-        grids.append(np.stack(leg(g[..., 0], g[..., 1]), axis=-1))
+    for leg_length, leg in ((b, lambda y, z: (y, z)), (h, lambda y, z: (z, y))):
+        e = leg_length - r2                                   # the straight part ends at e
+        length = e - c
+        if length > 1e-12 * t:
+            m = max(1, math.ceil(n * length / (_ASPECT * t)))
+            g = _coons(segment((c, 0), (e, 0)), segment((c, t), (e, t)),
+                       segment((c, 0), (c, t)), segment((e, 0), (e, t)), 2 * m, 2 * n)
+            grids.append(np.stack(leg(g[..., 0], g[..., 1]), axis=-1))
+        if r2 > 0.0:      # the toe: its inner corner rounded, the arc as the patch's top edge
+            m = max(1, round(n * r2 / t))
+            g = _coons(segment((e, 0), (leg_length, 0)), arc((e, t - r2), r2, 0.5 * math.pi, 0.0),
+                       segment((e, 0), (e, t)), segment((leg_length, 0), (leg_length, t - r2)), 2 * m, 2 * n)
+            grids.append(np.stack(leg(g[..., 0], g[..., 1]), axis=-1))
     return grids
 
 
 @functools.lru_cache(maxsize=256)
-def angle_torsion_constant(b: float, h: float, t: float, r: float, n: int = 3) -> float:
-    """Saint-Venant J of an angle with legs b and h, thickness t, root fillet r > 0, square toes.
+def angle_torsion_constant(b: float, h: float, t: float, r: float, r2: float = 0.0, n: int = 3) -> float:
+    """Saint-Venant J of an angle with legs b and h, thickness t, root fillet r > 0 and toe radius r2.
 
     Parameters
     ----------
@@ -201,7 +208,10 @@ def angle_torsion_constant(b: float, h: float, t: float, r: float, n: int = 3) -
     t : float
         Thickness of both legs, less than min(b, h).
     r : float
-        Root fillet radius, 0 < r <= min(b, h) - t.
+        Root fillet radius, r > 0.
+    r2 : float, optional
+        Radius of the inner corner of each toe (default 0: square toes), at most t;
+        r + r2 <= min(b, h) - t.
     n : int, optional
         Quadratic elements through the thickness on the coarse mesh (default 3; the fine mesh
         has 2n); J is extrapolated from the two.
@@ -217,10 +227,10 @@ def angle_torsion_constant(b: float, h: float, t: float, r: float, n: int = 3) -
     >>> round(angle_torsion_constant(8.0, 8.0, 1.0, 0.63), 3)      # L8X8X1 (AISC: 5.08 in^4)
     5.076
     """
-    if not (0.0 < t < min(b, h) and 0.0 < r <= min(b, h) - t):
-        raise ValueError(f"angle torsion: need 0 < t < min(b, h) and 0 < r <= min(b, h) - t "
-                         f"(got b={b:g}, h={h:g}, t={t:g}, r={r:g})")
-    scale = t          # solve on the unit thickness: the node merge tolerance is relative anyway
-    j1 = _solve(_angle_patches(b / scale, h / scale, 1.0, r / scale, n))
-    j2 = _solve(_angle_patches(b / scale, h / scale, 1.0, r / scale, 2 * n))
-    return _richardson(j1, j2) * scale**4
+    if not (0.0 < t < min(b, h) and r > 0.0 and 0.0 <= r2 <= t and r + r2 <= min(b, h) - t):
+        raise ValueError(f"angle torsion: need 0 < t < min(b, h), r > 0, 0 <= r2 <= t and "
+                         f"r + r2 <= min(b, h) - t (got b={b:g}, h={h:g}, t={t:g}, r={r:g}, r2={r2:g})")
+    # solved on the unit thickness (the node merge tolerance is relative anyway)
+    j1 = _solve(_angle_patches(b / t, h / t, 1.0, r / t, r2 / t, n))
+    j2 = _solve(_angle_patches(b / t, h / t, 1.0, r / t, r2 / t, 2 * n))
+    return _richardson(j1, j2) * t**4
