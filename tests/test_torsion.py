@@ -104,7 +104,8 @@ def test_angle_toe_radii():
 
 def test_angle_symmetry_units_and_cache():
     # swapping the legs mirrors the mesh; J scales as length^4 (the solve is on t = 1)
-    assert angle_torsion_constant(8.0, 5.0, 0.5, 0.4) == pytest.approx(angle_torsion_constant(5.0, 8.0, 0.5, 0.4), rel=1e-12)
+    swapped = angle_torsion_constant(5.0, 8.0, 0.5, 0.4)
+    assert angle_torsion_constant(8.0, 5.0, 0.5, 0.4) == pytest.approx(swapped, rel=1e-12)
     assert angle_torsion_constant(0.2032, 0.2032, 0.0254, 0.016002) == pytest.approx(
         angle_torsion_constant(8.0, 8.0, 1.0, 0.016002 / 0.0254) * 0.0254**4, rel=1e-9)
     before = angle_torsion_constant.cache_info().hits
