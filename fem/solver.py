@@ -384,7 +384,8 @@ def _state_result(model: Model, state):
 
     applied = np.zeros_like(state.reactions)
     return StaticResult("(pretension state)", state.u, state.reactions, state.member_forces, applied,
-                        equilibrium(model.coords, applied, state.reactions), state.residual, state.gross)
+                        equilibrium(model.coords, applied, state.reactions), state.residual, state.gross,
+                        links=state.links)
 
 
 def _resonance(model: Model, modes: dict) -> dict:

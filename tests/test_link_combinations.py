@@ -202,3 +202,44 @@ def test_link_on_a_free_reference_node():
     f, s = res["CF"].fields["link_force"], res["SF"].links
     np.testing.assert_allclose(np.maximum(f.max[F] - s, s - f.min[F]), h.links, rtol=0, atol=1e-9 * h.links.max())
     assert h.links.max() > 50.0
+
+
+def test_pretensioned_model_combines_link_forces():
+    """A guy pretensioned at 20 kN from the follower F straight up to an anchor: a combination
+    with a spectrum case adds the pretension state (and its link forces) once with the static
+    case's change: the static result (state included) +/- the spectrum's peaks, as without
+    pretension (round-off, 1e-12 of the static link force). The link now also holds the guy's
+    pull on the node F: the static case's link force differs from the unguyed model's by minus
+    the guy's tension N, straight down (equilibrium of the node, which carries no other member;
+    any statics text; round-off of the solves, 1e-9 of N)."""
+    deck = LINK + ("node A = (0.8 m, 0, 3 m)\nsupport A pinned\n"
+                   "member GUY : F -> A truss P ST pretension = 20 kN\n")
+    res = fem.solve(fem.read_text(deck))
+    F = res.model.node_names.index("F")
+    c, s, p = res["CFE"], res["SF"].links, res["EQ"].links
+    assert c.terms[-1][1] == "(pretension state)"
+    f = c.fields["link_force"]
+    np.testing.assert_allclose(f.max[F], s + 1.5 * p, rtol=0, atol=1e-12 * np.abs(s).max())
+    np.testing.assert_allclose(f.min[F], s - 1.5 * p, rtol=0, atol=1e-12 * np.abs(s).max())
+    change = res["SF"].links - fem.solve(fem.read_text(LINK))["SF"].links
+    N = res["SF"].member_forces[res.model.member_names.index("GUY"), 6]      # tension at A, N
+    assert N > 20e3          # the pretension, raised by the load pulling F down
+    np.testing.assert_allclose(change, [0, 0, -N, 0, 0, 0], rtol=0, atol=1e-9 * N)
+
+
+def test_summary_names_the_largest_link_force(link, stiff):
+    """The console lines of a combination name its largest link force, where and when, from the
+    field itself (the largest in size of its largest and smallest values); a model without links
+    has no such line, and a link that holds no moment shows none."""
+    from fem.output.envelope_out import summary_lines
+
+    f = link["CF"].fields["link_force"]
+    F = link.model.node_names.index("F")
+    hi, lo = f.max[F, :3], f.min[F, :3]
+    j = int(np.argmax(np.maximum(np.abs(hi), np.abs(lo))))
+    v = hi[j] if abs(hi[j]) >= abs(lo[j]) else lo[j]
+    got = [ln for ln in summary_lines(link, link["CF"], "") if "link force" in ln]
+    assert len(got) == 1 and got[0].startswith(f"largest link force {v:.4g} N at F F{'xyz'[j]} (t = ")
+    # a point mass on F with no rotary inertia and no moment on F: the link holds no moment
+    assert not np.any(f.max[F, 3:]) and not np.any(f.min[F, 3:]) and "link moment" not in got[0]
+    assert not any("link" in ln for ln in summary_lines(stiff, stiff["CF"], ""))

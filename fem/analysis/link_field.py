@@ -5,8 +5,9 @@ direction the link does not hold), like link_forces.csv.
 A static term adds its link forces exactly; a history term its forces step by step, the links'
 K u - f and the inertia M a they hold (fem/analysis/link_dynamics.py), from the series basis
 (fem.analysis.history_case.series_basis); spectrum and harmonic terms their peaks with both
-signs, as every field (fem/analysis/combine.py). The field is left out where a term has no link
-forces: a model without links, or the pretension state of a model with pretensioned members.
+signs, as every field (fem/analysis/combine.py). In a model with pretensioned members the
+pretension state, a static term of its own, adds its link forces once. The field is left out
+where a term has no link forces: a model without links.
 """
 
 from __future__ import annotations

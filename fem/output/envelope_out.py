@@ -152,8 +152,8 @@ def _governed(r, g) -> str:
 
 def summary_lines(results, r, indent: str) -> list[str]:
     """The console lines of a combination with a dynamic case or an envelope: what it is, its
-    largest translation, reaction and end force with where and what governs each, and the
-    balance of a combination's static part."""
+    largest translation, reaction, end force and force of a rigid link on the node it holds, with
+    where and what governs each, and the balance of a combination's static part."""
     model = results.model
     if r.kind == "combination":
         terms = " ".join(f"{'+' if f >= 0 else '-'} {abs(f):g}*{n}" for f, n, _ in r.terms).lstrip("+ ")
@@ -166,11 +166,12 @@ def summary_lines(results, r, indent: str) -> list[str]:
     for group in ((("displacement", "translation", (0, 1, 2), "m"), ("reaction", "reaction force", (0, 1, 2), "N"),
                    ("reaction", "reaction moment", (3, 4, 5), "N m")),
                   (("end_force", "end force", (0, 1, 2, 6, 7, 8), "N"),
-                   ("end_force", "end moment", (3, 4, 5, 9, 10, 11), "N m"))):
+                   ("end_force", "end moment", (3, 4, 5, 9, 10, 11), "N m")),
+                  (("link_force", "link force", (0, 1, 2), "N"), ("link_force", "link moment", (3, 4, 5), "N m"))):
         parts = []
         for name, label, cols, unit in group:
-            got = _largest(model, r, name, cols)
-            if got is not None:
+            got = _largest(model, r, name, cols) if name in r.fields else None
+            if got is not None and (name != "link_force" or got[0] != 0.0):   # a link may hold no moment
                 v, where, comp, g = got
                 parts.append(f"{label} {v:.4g} {unit} at {where} {comp}{_governed(r, g)}")
         if parts:

@@ -16,6 +16,7 @@ Families (table files in fem/sections/data; each header names the standard and t
 - round HSS and pipe, e.g. ``HSS4X.250``, ``Pipe6SCH40``: aisc_round.csv (ASTM A500,
   ASME B36.10M; AISC v15.0)
 - equal angles, e.g. ``L4X4X1/2``: aisc_l_equal.csv (ASTM A6; AISC v15.0)
+- equal angles with root and toe radii, e.g. ``L 100x100x10``: en10056_l_equal.csv (EN 10056-1)
 
 Designations are matched without regard to case or spaces ("heb300", "HEB 300", "W14x90");
 "HE 300 B" is read as "HEB 300".
@@ -113,6 +114,14 @@ def _round(row):
     return "pipe", dims, pub
 
 
+def _en_equal_angle(row):
+    mm = 0.001
+    dims = {"b": row["b"] * mm, "h": row["b"] * mm, "t": row["t"] * mm, "r": row["r1"] * mm, "r2": row["r2"] * mm}
+    pub = {"A": row["A"] * CM**2, "Iy": row["Iu"] * CM**4, "Iz": row["Iv"] * CM**4, "J": row["It"] * CM**4,
+           "I_leg": row["Iy"] * CM**4, "W_leg": row["Wy"] * CM**3}
+    return "angle", dims, pub
+
+
 def _equal_angle(row):
     dims = {"b": row["b"] * IN, "h": row["b"] * IN, "t": row["t"] * IN, "r": (row["kdes"] - row["t"]) * IN}
     pub = {"A": row["A"] * IN**2, "Iy": row["Iw"] * IN**4, "Iz": row["Iz"] * IN**4,
@@ -127,6 +136,7 @@ _FAMILIES = (
     _Family("HSS rectangular", "aisc_hss_rect.csv", "ASTM A500", _hss_rect),
     _Family("HSS round / pipe", "aisc_round.csv", "ASTM A500 (HSS), ASME B36.10M (pipe)", _round),
     _Family("L equal", "aisc_l_equal.csv", "ASTM A6/A6M", _equal_angle),
+    _Family("L equal EN", "en10056_l_equal.csv", "EN 10056-1", _en_equal_angle),
 )
 
 

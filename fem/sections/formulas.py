@@ -1,5 +1,6 @@
 """The pieces the section shapes are built from: the properties record, dimension checks,
-Cowper's shear coefficients, fillet and rounded-corner integrals and torsion formulas."""
+Cowper's shear coefficients, fillet and rounded-corner integrals and torsion formulas (the
+numerical Saint-Venant solver is :mod:`.torsion`)."""
 
 from __future__ import annotations
 
@@ -157,15 +158,21 @@ def _spandrel_raw(py: float, pz: float, sy: float, sz: float, r: float) -> tuple
             i_side + 2.0 * py * gy * a + py * py * a, p_corner + (py * gz + pz * gy) * a + py * pz * a)
 
 
-def _angle_moments(b: float, h: float, t: float, r: float = 0.0) -> tuple:
+def _angle_moments(b: float, h: float, t: float, r: float = 0.0, r2: float = 0.0) -> tuple:
     """Area, centroid (cy, cz) from the heel and centroidal int z^2, int y^2, int yz of an angle
-    with legs b (along y) and h (along z), thickness t and root fillet r (exact).
+    with legs b (along y) and h (along z), thickness t, root fillet r and toe radius r2 (exact).
 
     Heel at the origin, legs along +y and +z; the leg rectangles b x t and t x (h - t) plus the
-    fillet in the re-entrant corner at (t, t).
+    fillet in the re-entrant corner at (t, t), less a spandrel of radius r2 at the inner corner
+    of each toe, (b, t) and (t, h).
     """
     rects = ((0.0, b, 0.0, t), (0.0, t, t, h))
-    fil = _spandrel_raw(t, t, 1.0, 1.0, r) if r > 0.0 else (0.0,) * 6   # raw moments about the heel
+    parts = []                                   # (sign, raw moments about the heel)
+    if r > 0.0:
+        parts.append((1.0, _spandrel_raw(t, t, 1.0, 1.0, r)))
+    if r2 > 0.0:
+        parts += [(-1.0, _spandrel_raw(b, t, -1.0, -1.0, r2)), (-1.0, _spandrel_raw(t, h, -1.0, -1.0, r2))]
+    fil = [sum(sg * m[k] for sg, m in parts) for k in range(6)]
     A = sum((y1 - y0) * (z1 - z0) for y0, y1, z0, z1 in rects) + fil[0]
     cy = (sum((y1 - y0) * (z1 - z0) * (y0 + y1) / 2.0 for y0, y1, z0, z1 in rects) + fil[1]) / A
     cz = (sum((y1 - y0) * (z1 - z0) * (z0 + z1) / 2.0 for y0, y1, z0, z1 in rects) + fil[2]) / A
@@ -175,39 +182,38 @@ def _angle_moments(b: float, h: float, t: float, r: float = 0.0) -> tuple:
         Iyy += (y1 - y0) * (z1**3 - z0**3) / 3.0
         Izz += (z1 - z0) * (y1**3 - y0**3) / 3.0
         Pyz += (y1**2 - y0**2) * (z1**2 - z0**2) / 4.0
-    if r > 0.0:                              # the fillet's heel moments moved to the centroid
+    if parts:                                # the spandrels' heel moments moved to the centroid
         Iyy += fil[3] - 2.0 * cz * fil[2] + fil[0] * cz * cz
         Izz += fil[4] - 2.0 * cy * fil[1] + fil[0] * cy * cy
         Pyz += fil[5] - cy * fil[2] - cz * fil[1] + fil[0] * cy * cz
     return A, cy, cz, Iyy, Izz, Pyz
 
 
-def _angle_outline(b: float, h: float, t: float, r: float = 0.0) -> list:
-    """Corners of an angle's outline from the heel (y along leg b, z along leg h): heel, the tips'
-    outer and inner corners and the re-entrant corner, which a root fillet r splits into its two
-    tangent points (t + r, t) and (t, t + r)."""
+def _angle_outline(b: float, h: float, t: float, r: float = 0.0, r2: float = 0.0) -> list:
+    """Points of an angle's outline from the heel (y along leg b, z along leg h), in order: heel,
+    the toes' outer and inner corners and the re-entrant corner. A root fillet r splits the
+    re-entrant corner into its two tangent points (t + r, t) and (t, t + r); a toe radius r2
+    replaces each toe's inner corner by its arc, given as points every 15 degrees (tangent points
+    included), so a linear function's largest value on the arc is found within r2 (1 - cos 7.5 deg)
+    = 0.009 r2 of the exact one (see :func:`_angle_far` for the exact distance)."""
     inner = [(t, t)] if r == 0.0 else [(t + r, t), (t, t + r)]
-    return [(0.0, 0.0), (b, 0.0), (b, t), *inner, (t, h), (0.0, h)]
+    if r2 == 0.0:
+        return [(0.0, 0.0), (b, 0.0), (b, t), *inner, (t, h), (0.0, h)]
+    phi = [k * math.pi / 12.0 for k in range(7)]
+    toe_b = [(b - r2 + r2 * math.cos(f), t - r2 + r2 * math.sin(f)) for f in phi]
+    toe_h = [(t - r2 + r2 * math.cos(f), h - r2 + r2 * math.sin(f)) for f in phi]
+    return [(0.0, 0.0), (b, 0.0), *toe_b, *inner, *toe_h, (0.0, h)]
 
 
-def _angle_torsion(b: float, h: float, t: float, r: float) -> float:
-    """Saint-Venant J of an angle with legs b, h of one thickness t and a root fillet r > 0.
-
-    El Darwish & Johnston (1965), "Torsion of structural shapes", J. Struct. Div. ASCE 91(ST1), as
-    given in Roark's Formulas for Stress and Strain, Table 10.1 (L-section, the case citing them),
-    with both legs of thickness t: J = K1 + K2 + alpha D^4, the whole leg b as a rectangle free at
-    both ends K1 = b t^3 [1/3 - 0.21 (t/b)(1 - t^4/(12 b^4))], the rest of leg h free at its tip
-    K2 = c t^3 [1/3 - 0.105 (t/c)(1 - t^4/(192 c^4))] with c = h - t, the junction factor
-    alpha = 0.07 + 0.076 r/t and the inscribed circle D = 2 [2t + 3r - sqrt(2 (2r + t)^2)].
-    Checked against a finite-difference Saint-Venant solution (tests/test_sections_catalogue.py):
-    0.2 % to 2.6 % above it, the most for thin legs with large fillets (r/t > 1).
-    """
-    c = h - t
-    K1 = b * t**3 * (1.0 / 3.0 - 0.21 * t / b * (1.0 - t**4 / (12.0 * b**4)))
-    K2 = c * t**3 * (1.0 / 3.0 - 0.105 * t / c * (1.0 - t**4 / (192.0 * c**4)))
-    alpha = 0.07 + 0.076 * r / t
-    D = 2.0 * (2.0 * t + 3.0 * r - math.sqrt(2.0) * (2.0 * r + t))
-    return K1 + K2 + alpha * D**4
+def _angle_far(b: float, h: float, t: float, r: float, r2: float, cy: float, cz: float, ny: float, nz: float) -> float:
+    """Largest |n . (p - centroid)| over an angle's outline, n = (ny, nz) a unit vector: the
+    corners, and on each toe arc (which spans 0 to 90 degrees about its centre) the point whose
+    normal is +/-n where that lies on the arc (exact)."""
+    inner = [(t, t)] if r == 0.0 else [(t + r, t), (t, t + r)]
+    pts = [(0.0, 0.0), (b, 0.0), (b, t - r2), (b - r2, t), *inner, (t, h - r2), (t - r2, h), (0.0, h)]
+    for oy, oz in ((b - r2, t - r2), (t - r2, h - r2)) if r2 > 0.0 else ():   # the toe arcs' centres
+        pts += [(oy + r2 * sy, oz + r2 * sz) for sy, sz in ((ny, nz), (-ny, -nz)) if sy >= 0.0 and sz >= 0.0]
+    return max(abs(ny * (y - cy) + nz * (z - cz)) for y, z in pts)
 
 
 # ----------------------------------------------------------------------------- shear coefficients

@@ -137,14 +137,14 @@ def stress_points(shape: str, dims: dict, props: SectionProps) -> StressPoints |
         return StressPoints(y, z, 0.0, qy, qz, max(tf, tw) / p.J, _VQIT + " (web for Vz, flanges for Vy)",
                             "T t_max/J (open thin-walled)")
     if shape == "angle":
-        b, h, t, r = dims["b"], dims["h"], dims["t"], dims.get("r", 0.0)
+        b, h, t, r, r2 = dims["b"], dims["h"], dims["t"], dims.get("r", 0.0), dims.get("r2", 0.0)
         from .formulas import _angle_outline
         from .shapes import angle_leg_moments, angle_principal_angle
 
-        _, cy, cz, _, _, _ = angle_leg_moments(b, h, t, r)
-        th = angle_principal_angle(b, h, t, r)
+        _, cy, cz, _, _, _ = angle_leg_moments(b, h, t, r, r2)
+        th = angle_principal_angle(b, h, t, r, r2)
         cu, su = math.cos(th), math.sin(th)
-        pts = [(yy - cy, zz - cz) for yy, zz in _angle_outline(b, h, t, r)]
+        pts = [(yy - cy, zz - cz) for yy, zz in _angle_outline(b, h, t, r, r2)]
         y = tuple(cu * a + su * c for a, c in pts)          # along u (local y)
         z = tuple(-su * a + cu * c for a, c in pts)         # along v (local z)
         f = 1.5 / (t * min(b, h))

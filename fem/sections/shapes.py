@@ -25,9 +25,8 @@ from collections.abc import Callable
 from .formulas import (  # noqa: F401 (SectionProps and the kappas are re-exported)
     _NU,
     SectionProps,
+    _angle_far,
     _angle_moments,
-    _angle_outline,
-    _angle_torsion,
     _el_darwish_johnston,
     _fillet,
     _less,
@@ -40,6 +39,7 @@ from .formulas import (  # noqa: F401 (SectionProps and the kappas are re-export
     cowper_kappa_rectangle,
     cowper_kappa_solid_circle,
 )
+from .torsion import angle_torsion_constant
 
 __all__ = [
     "CATALOGUE",
@@ -242,26 +242,27 @@ def ishape(d: float, bf: float, tf: float, tw: float, r: float = 0.0) -> Section
     return SectionProps("ishape", A, Iy, Iz, J, 5.0 / 3.0 * bf * tf, d * tw, 2.0 * Iy / d, 2.0 * Iz / bf)
 
 
-def angle_leg_moments(b: float, h: float, t: float, r: float = 0.0):
+def angle_leg_moments(b: float, h: float, t: float, r: float = 0.0, r2: float = 0.0):
     """Area, centroid (cy, cz) from the heel, and centroidal Iyy=int z^2, Izz=int y^2, Pyz of an
-    angle (legs b along y and h along z, thickness t, root fillet r; exact)."""
-    return _angle_moments(b, h, t, r)
+    angle (legs b along y and h along z, thickness t, root fillet r, toe radius r2; exact)."""
+    return _angle_moments(b, h, t, r, r2)
 
 
-def _check_angle(b, h, t, r=0.0):
-    b = _positive(b, "b", "angle")
-    h = _positive(h, "h", "angle")
-    t = _positive(t, "t", "angle")
+def _check_angle(b, h, t, r=0.0, r2=0.0):
+    b, h, t = (_positive(v, n, "angle") for v, n in ((b, "b"), (h, "h"), (t, "t")))
     _less(t, "t", min(b, h), "min(b, h)", "angle")
-    r = _non_negative(r, "r", "angle")
-    if r > min(b, h) - t:
-        raise ValueError(f"angle: the root radius r must fit along the inner faces of the legs, "
-                         f"r <= min(b, h) - t (got r={r:g} m, limit {min(b, h) - t:g} m)")
-    return b, h, t, r
+    r, r2 = _non_negative(r, "r", "angle"), _non_negative(r2, "r2", "angle")
+    if r + r2 > min(b, h) - t:
+        raise ValueError(f"angle: the root radius r and the toe radius r2 must fit along the inner faces "
+                         f"of the legs, r + r2 <= min(b, h) - t (got r={r:g} m, r2={r2:g} m, "
+                         f"limit {min(b, h) - t:g} m)")
+    if r2 > t:
+        raise ValueError(f"angle: the toe radius r2 must not exceed the thickness t (got r2={r2:g} m, t={t:g} m)")
+    return b, h, t, r, r2
 
 
-def angle(b: float, h: float, t: float, r: float = 0.0) -> SectionProps:
-    """Equal or unequal leg angle on its principal axes, sharp or with a root fillet.
+def angle(b: float, h: float, t: float, r: float = 0.0, r2: float = 0.0) -> SectionProps:
+    """Equal or unequal leg angle on its principal axes, sharp or with root and toe radii.
 
     Parameters
     ----------
@@ -270,43 +271,45 @@ def angle(b: float, h: float, t: float, r: float = 0.0) -> SectionProps:
     t : float
         Thickness of both legs, m; less than min(b, h).
     r : float, optional
-        Root fillet radius between the legs' inner faces, m (default 0: sharp corners); at most
-        min(b, h) - t. Toes are square (no toe radius).
+        Root fillet radius between the legs' inner faces, m (default 0: sharp corners).
+    r2 : float, optional
+        Toe radius at the inner corner of each leg's end, m (default 0: square toes); at most t,
+        and r + r2 <= min(b, h) - t. EN 10056-1 angles have r2 = r/2.
 
     Returns
     -------
     SectionProps
         The local axes of an angle member are its principal axes: Iy = I_u (major), Iz = I_v
         (minor), from the moments and the product of inertia about the leg axes through the
-        centroid, exact with the fillet. See :func:`angle_principal_angle` for the orientation of
-        u relative to the legs. J: without a fillet the thin-wall (b + h - t) t^3 / 3; with one
-        El Darwish & Johnston's formula (:func:`fem.sections.formulas._angle_torsion`), so J jumps
-        by a few percent between r = 0 and a small r. Wy, Wz divide I_u, I_v by the largest
-        distance of a corner of the outline from the u and v axes. Shear areas are 0 (rigid in
-        shear): angle members are slender bracing for which shear deformation is negligible, and
-        there is no well-established shear area on the principal axes.
+        centroid, exact with the radii. See :func:`angle_principal_angle` for the orientation of
+        u relative to the legs. J: without a root fillet the thin-wall (b + h - t) t^3 / 3; with
+        one the Saint-Venant J of the outline (toe radii included), solved numerically
+        (:func:`fem.sections.torsion.angle_torsion_constant`, within about 1e-4), so J jumps by a
+        few percent between r = 0 and a small r. Wy, Wz divide I_u, I_v by the largest distance
+        of the outline from the u and v axes (a corner, or a point of a toe arc). Shear areas are
+        0 (rigid in shear): angle members are slender bracing for which shear deformation is
+        negligible, and there is no well-established shear area on the principal axes.
     """
-    b, h, t, r = _check_angle(b, h, t, r)
-    A, cy, cz, Iyy, Izz, Pyz = _angle_moments(b, h, t, r)
+    b, h, t, r, r2 = _check_angle(b, h, t, r, r2)
+    A, cy, cz, Iyy, Izz, Pyz = _angle_moments(b, h, t, r, r2)
     mean = 0.5 * (Iyy + Izz)
     rad = math.hypot(0.5 * (Iyy - Izz), Pyz)
-    J = _angle_torsion(b, h, t, r) if r > 0.0 else (b + h - t) * t**3 / 3.0
+    J = angle_torsion_constant(b, h, t, r, r2) if r > 0.0 else (b + h - t) * t**3 / 3.0
     theta = 0.5 * math.atan2(-Pyz, 0.5 * (Iyy - Izz))        # as in angle_principal_angle
     cu, su = math.cos(theta), math.sin(theta)
-    corners = [(y - cy, z - cz) for y, z in _angle_outline(b, h, t, r)]
-    far_v = max(abs(-su * y + cu * z) for y, z in corners)    # distance from the u axis
-    far_u = max(abs(cu * y + su * z) for y, z in corners)     # distance from the v axis
+    far_v = _angle_far(b, h, t, r, r2, cy, cz, -su, cu)       # distance from the u axis
+    far_u = _angle_far(b, h, t, r, r2, cy, cz, cu, su)        # distance from the v axis
     return SectionProps("angle", A, mean + rad, mean - rad, J, 0.0, 0.0, (mean + rad) / far_v, (mean - rad) / far_u)
 
 
-def angle_principal_angle(b: float, h: float, t: float, r: float = 0.0) -> float:
+def angle_principal_angle(b: float, h: float, t: float, r: float = 0.0, r2: float = 0.0) -> float:
     """Angle (rad) from the leg-b axis to the major principal axis u of an angle section.
 
     Measured positive from leg b towards leg h, in (-pi/2, pi/2]; pi/4 for an equal angle
     (the axis of symmetry). The member's local y axis is u and local z is v.
     """
-    b, h, t, r = _check_angle(b, h, t, r)
-    _, _, _, Iyy, Izz, Pyz = _angle_moments(b, h, t, r)
+    b, h, t, r, r2 = _check_angle(b, h, t, r, r2)
+    _, _, _, Iyy, Izz, Pyz = _angle_moments(b, h, t, r, r2)
     # I(theta) about the axis (cos, sin) = mean + (Iyy-Izz)/2 cos 2theta - Pyz sin 2theta
     theta = 0.5 * math.atan2(-Pyz, 0.5 * (Iyy - Izz))
     return theta if theta > -math.pi / 2 else theta + math.pi
@@ -395,7 +398,7 @@ SHAPES: dict[str, tuple[Callable[..., SectionProps], tuple[str, ...], tuple[str,
     "rhs": (rhs, ("b", "h", "t"), ("ro", "ri")),
     "rect": (rect, ("b", "h"), ()),
     "ishape": (ishape, ("d", "bf", "tf", "tw"), ("r",)),
-    "angle": (angle, ("b", "h", "t"), ("r",)),
+    "angle": (angle, ("b", "h", "t"), ("r", "r2")),
     "channel": (channel, ("d", "bf", "tf", "tw"), ("r",)),
     "generic": (generic, ("A", "Iy", "Iz", "J"), ("Avy", "Avz", "Wy", "Wz", "Wt")),
 }
