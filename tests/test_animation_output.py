@@ -33,7 +33,7 @@ def test_webp_keeps_every_frame_and_its_timing(tmp_path):
         anim.load()
         assert anim.info["duration"] == 250                       # 4 frames a second
         got = np.asarray(anim.convert("RGB"), float)
-        # lossy, but each frame shows its own bar where it was drawn (dark) and white elsewhere
+        # each frame shows its own bar where it was drawn (dark) and white elsewhere
         assert got[20, 8 + 6 * k].max() < 128 and got[40, 8 + 6 * k].min() > 200
 
 
@@ -86,9 +86,9 @@ def test_one_plotter_draws_every_picture_of_a_process(tmp_path):
 
 
 def test_webp_frames_decode_close_to_the_drawing(tmp_path):
-    """Lossy at WEBP_QUALITY with the smallest-size search: every frame kept, each within a mean
-    of 3 of 255 a channel of what was drawn (the rack's response measured 1.02; our bound),
-    identical neighbours merged into one frame of their summed duration."""
+    """On one palette, lossless, with the smallest-size search: every frame kept, each within a
+    mean of 3 of 255 a channel of what was drawn (the rack's responses measured 1.07-1.09; our
+    bound), identical neighbours merged into one frame of their summed duration."""
     from PIL import Image
 
     frames = []
@@ -143,3 +143,30 @@ print(json.dumps({"same": [bool(np.array_equal(x, y)) for x, y in zip(a, b)], "f
     got = json.loads(r.stdout.strip().splitlines()[-1])
     assert got["found"] and all(got["same"])
     assert got["longest"] < len("t = 0.26 s  (largest motion)")      # that one is the annotation's
+
+
+def test_webp_frames_share_one_palette_close_to_a_colour_ramp(tmp_path):
+    """Frames holding more than 256 colours (a smooth ramp like a colour bar, 600 shades, and a
+    bar moving across it) decode to one set of at most 256 colours shared by every frame, each
+    frame within a mean of 2 of 255 a channel of the drawing (the bound the palette pictures
+    keep, tests/test_png.py)."""
+    from PIL import Image
+
+    ramp = np.linspace(0, 1, 600)
+    colours = (np.c_[ramp, 0.6 * ramp + 0.2, 1 - ramp] * 255).round().astype(np.uint8)     # (600, 3)
+    frames = []
+    for k in range(9):
+        im = np.full((120, 600, 3), 255, np.uint8)
+        im[:40] = colours[None, :, :]
+        im[60:100, 40 + 50 * k:80 + 50 * k] = colours[60 * k]
+        frames.append(im)
+    anim = Image.open(write_animation(tmp_path / "ramp", frames, fps=10.0)[0])
+    assert anim.n_frames == len(frames)
+    seen = set()
+    for k, want in enumerate(frames):
+        anim.seek(k)
+        anim.load()
+        got = np.asarray(anim.convert("RGB"))
+        assert np.abs(got.astype(float) - want).mean() < 2.0
+        seen |= set(map(tuple, got.reshape(-1, 3).tolist()))
+    assert len(seen) <= 256

@@ -1,9 +1,11 @@
 """Animations written once from their rendered frames: an animated WebP (Pillow), and an MP4
 besides when asked for (`quaver run --video`, needs an ffmpeg encoder).
 
-WebP keeps the frames' full colour (a GIF has 256 colours, quantised frame by frame at about
-16 ms a frame) in smaller files (about half on the demo decks); browsers play it in an <img>
-like a GIF.
+The frames are drawings (flat colours, a colour bar, anti-aliased edges and captions): they are
+put on one palette of 256 colours (Pillow's fast octree quantiser, the encoding of the pictures,
+`png.py`) found once from PALETTE_SAMPLES frames spread over the animation, then written as
+lossless WebP, which codes a frame of few colours as palette indices and each frame against the
+last. Browsers play it in an <img> like a GIF.
 """
 
 from __future__ import annotations
@@ -12,15 +14,16 @@ from pathlib import Path
 
 import numpy as np
 
-__all__ = ["ANIMATION_SUFFIX", "WEBP_QUALITY", "video_available", "write_animation"]
+__all__ = ["ANIMATION_SUFFIX", "PALETTE_SAMPLES", "video_available", "write_animation"]
 
 ANIMATION_SUFFIX = ".webp"
-# lossy WebP at this quality keeps the members, the colour bar and the captions sharp (looked at
-# side by side); the rack demo's 120-frame response: 2.2 MB, against 3.4 MB lossless and 2.6 MB
-# at quality 85 (our measurement)
-WEBP_QUALITY = 75
-# encoder effort 0-6: on that response 2 takes half the CPU time of Pillow's default 4 (1.3 s
-# against 2.6 s) for files 5 % larger; 0 and 1 save little more time for 15-25 % larger files
+# On the rack demo's animations (our measurement, 640 x 480): the two responses (120 frames) 1.90
+# and 1.66 MB as lossy WebP at quality 75, 1.05 and 0.70 MB on one palette, lossless; the mode
+# cycles 80-97 kB against 71-91 kB. Mean difference from the drawing 1.07-1.09 of 255 a channel
+# against 1.02 lossy, but the 99.9th percentile 7-10 against 25-28: no ringing around the lines
+# and captions. Lossy at encoder effort 6 saved 6 % for 20 times the encoding time.
+PALETTE_SAMPLES = 16    # frames the palette is found from; 4 or 8 left the worst frame at 2.2 of 255
+# lossless encoder effort 0-6: 2 and the smallest-size search as before; 0 gives 60 % larger files
 WEBP_METHOD = 2
 
 
@@ -34,19 +37,31 @@ def video_available() -> bool:
     return True
 
 
+def _palette(images):
+    """One 256-colour palette (a "P" image) for all the frames `images`, from PALETTE_SAMPLES of
+    them spread evenly, first and last included: the frames share their colour bar and
+    background, so one palette serves all and the encoder sees no colour flicker."""
+    from PIL import Image
+
+    pick = np.unique(np.linspace(0, len(images) - 1, PALETTE_SAMPLES).round().astype(int))
+    sheet = np.concatenate([np.asarray(images[i])[..., :3] for i in pick], axis=0)
+    return Image.fromarray(np.ascontiguousarray(sheet)).quantize(256, method=Image.Quantize.FASTOCTREE)
+
+
 def write_animation(stem: Path, images: list[np.ndarray], fps: float, video: bool = False) -> list[Path]:
     """stem.webp of the RGB frames `images` (each (h, w, 3) uint8), played at `fps` frames a
     second and looping; with `video` (and an encoder) also stem.mp4. Returns the files."""
     from PIL import Image
 
-    frames = [Image.fromarray(np.ascontiguousarray(im[..., :3])) for im in images]
+    palette = _palette(images)
+    frames = [Image.fromarray(np.ascontiguousarray(im[..., :3])).quantize(palette=palette, dither=Image.Dither.NONE)
+              .convert("RGB") for im in images]
     path = stem.with_suffix(ANIMATION_SUFFIX)
-    # minimize_size: the encoder tries more ways of coding each frame against the last; every
-    # frame is kept (identical neighbours become one longer frame either way) and decodes as
-    # close to the drawing as without it (mean 1.02 of 255 a channel on the rack's QUAKE
-    # response), in 12 % smaller files (2.16 -> 1.90 MB) for 10 % more encoding time
+    # minimize_size: the encoder tries more ways of coding each frame against the last (6 %
+    # smaller on the rack's responses); every frame is kept, identical neighbours become one
+    # longer frame
     frames[0].save(path, format="WEBP", save_all=True, append_images=frames[1:], duration=round(1000 / fps),
-                   loop=0, quality=WEBP_QUALITY, method=WEBP_METHOD, minimize_size=True)
+                   loop=0, lossless=True, quality=100, method=WEBP_METHOD, minimize_size=True)
     out = [path]
     if video and video_available():
         import imageio.v2 as imageio
