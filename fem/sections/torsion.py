@@ -147,7 +147,7 @@ def _solve(grids: list[np.ndarray], mirrored: bool = False) -> float:
     return float(f[free] @ phi)
 
 
-def patch_torsion_constant(patches) -> float:
+def patch_torsion_constant(patches, mirrored: bool = False) -> float:
     """J of a region made of four-sided patches, extrapolated from two meshes.
 
     Parameters
@@ -158,6 +158,10 @@ def patch_torsion_constant(patches) -> float:
         the bottom edge to the top one. nu, nv: quadratic elements along u and v on the coarse
         mesh; the fine mesh doubles both. Patches that share an edge must be given the same
         edge callable with the same count, and the region's outline is every edge not shared.
+    mirrored : bool, optional
+        The patches cover the quarter y >= 0, z >= 0 of a region symmetric about both axes:
+        phi is free on the outline's edges along y = 0 and z = 0 (d(phi)/dn = 0 there) and the
+        J returned is the whole region's, four times the quarter's.
 
     Returns
     -------
@@ -167,7 +171,7 @@ def patch_torsion_constant(patches) -> float:
     def mesh(k):
         return [_coons(bo, to, le, ri, 2 * k * nu, 2 * k * nv) for bo, to, le, ri, nu, nv in patches]
 
-    return _richardson(_solve(mesh(1)), _solve(mesh(2)))
+    return (4.0 if mirrored else 1.0) * _richardson(_solve(mesh(1), mirrored), _solve(mesh(2), mirrored))
 
 
 def _richardson(j1: float, j2: float) -> float:
