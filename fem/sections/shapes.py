@@ -27,7 +27,6 @@ from .formulas import (  # noqa: F401 (SectionProps and the kappas are re-export
     SectionProps,
     _angle_far,
     _angle_moments,
-    _el_darwish_johnston,
     _fillet,
     _less,
     _non_negative,

@@ -15,6 +15,10 @@ slightly lower, which the extrapolation leaves as a residual far below the table
 (tests/test_torsion.py measures it on a rectangle against the exact series and on angles
 against finer meshes).
 
+An outline symmetric about both axes (the I shape) is solved on a quarter: phi is left free on
+the two lines of symmetry, which imposes the natural condition d(phi)/dn = 0 of the weak form, and
+J is four times the quarter's (tests/test_ishape_torsion.py checks the quarter against the whole).
+
 Vectorised over elements (batched 9 x 9 element matrices, one sparse solve per mesh); results
 are cached per set of dimensions, so a section used by many members is solved once.
 """
