@@ -27,7 +27,6 @@ from .formulas import (  # noqa: F401 (SectionProps and the kappas are re-export
     SectionProps,
     _angle_far,
     _angle_moments,
-    _el_darwish_johnston,
     _fillet,
     _less,
     _non_negative,
@@ -39,7 +38,7 @@ from .formulas import (  # noqa: F401 (SectionProps and the kappas are re-export
     cowper_kappa_rectangle,
     cowper_kappa_solid_circle,
 )
-from .torsion import angle_torsion_constant
+from .torsion import angle_torsion_constant, ishape_torsion_constant
 
 __all__ = [
     "CATALOGUE",
@@ -203,9 +202,10 @@ def ishape(d: float, bf: float, tf: float, tw: float, r: float = 0.0) -> Section
     SectionProps
         Iy about the strong axis; A, Iy, Iz exact with the four fillets (see :func:`_fillet`);
         Wy = 2 Iy/d, Wz = 2 Iz/bf. J: without fillets the thin-wall sum
-        [2 bf tf^3 + (d - 2tf) tw^3]/3; with fillets El Darwish & Johnston's formula
-        (:func:`_el_darwish_johnston`), which also corrects the flange ends, so J jumps by a few
-        percent between r = 0 and a small r > 0. Shear areas: Avz = d tw (web, common practice),
+        [2 bf tf^3 + (d - 2tf) tw^3]/3; with fillets the Saint-Venant J of the outline, solved
+        numerically (:func:`fem.sections.torsion.ishape_torsion_constant`, within about 1e-4),
+        which also has the flange ends' loss, so J jumps by a few percent between r = 0 and a
+        small r > 0. Shear areas: Avz = d tw (web, common practice),
         Avy = (5/3) bf tf, i.e. the two flanges as rectangles with kappa = 5/6 (common practice,
         approximate); the fillets are not counted in them.
 
@@ -213,8 +213,13 @@ def ishape(d: float, bf: float, tf: float, tw: float, r: float = 0.0) -> Section
     --------
     >>> s = ishape(0.300, 0.300, 0.019, 0.011, r=0.027)   # HEB 300, EN 10365 dimensions
     >>> round(s.A * 1e4, 1), round(s.Iy * 1e8), round(s.J * 1e8)   # cm^2, cm^4, cm^4
-    (149.1, 25166, 189)
+    (149.1, 25166, 187)
     """
+    return _ishape(d, bf, tf, tw, r, ishape_torsion_constant)
+
+
+def _ishape(d, bf, tf, tw, r, fillet_j: Callable[..., float]) -> SectionProps:
+    """:func:`ishape`, with the J of a filleted shape (r > 0) from fillet_j(d, bf, tf, tw, r)."""
     d = _positive(d, "d", "ishape")
     bf = _positive(bf, "bf", "ishape")
     tf = _positive(tf, "tf", "ishape")
@@ -236,7 +241,7 @@ def ishape(d: float, bf: float, tf: float, tw: float, r: float = 0.0) -> Section
         A += 4.0 * a
         Iy += 4.0 * (I0 + a * (hw / 2.0 - c) ** 2)
         Iz += 4.0 * (I0 + a * (tw / 2.0 + c) ** 2)
-        J = _el_darwish_johnston(d, bf, tf, tw, r)
+        J = fillet_j(d, bf, tf, tw, r)
     else:
         J = (2.0 * bf * tf**3 + hw * tw**3) / 3.0
     return SectionProps("ishape", A, Iy, Iz, J, 5.0 / 3.0 * bf * tf, d * tw, 2.0 * Iy / d, 2.0 * Iz / bf)
