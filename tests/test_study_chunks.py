@@ -125,3 +125,18 @@ def test_an_unexpected_failure_inside_a_chunk_is_that_variants_row_only(study, c
     for i in (0, 1, 3, 5, 6):
         np.testing.assert_array_equal(got.results[i]["modes"]["MODES"]["freq"],
                                       serial.results[i]["modes"]["MODES"]["freq"])
+
+
+def test_the_command_line_sets_the_variants_a_task(study, cluster, capsys):
+    from fem.cli import main
+
+    deck = study.deck
+    status = main(["study", str(deck), "--vary", "h in (80 mm, 90 mm, 100 mm, 110 mm, 120 mm)", "--scheduler",
+                   cluster, "--chunk", "2", "--out", str(deck.parent / "cli")])
+    text = capsys.readouterr().out
+    assert status == 0 and "5 variants on scheduler" in text and "(3 tasks)" in text     # 2 + 2 + 1
+    rows = (deck.parent / "cli" / "study.csv").read_text().splitlines()
+    assert len(rows) == 6 and all(",ok," in r for r in rows[1:])
+    for bad, said in ((["--chunk", "0"], "--chunk 0: give 1 or more"), (["--chunk", "2", "--serial"], "--serial")):
+        status = main(["study", str(deck), "--vary", "h in (80 mm, 90 mm)", *bad])
+        assert status == 2 and said in capsys.readouterr().err
