@@ -3,12 +3,13 @@ Dask's distributed scheduler (`on_dask`): a local cluster of worker processes on
 (loopback only, one thread each, no dashboard) or a running scheduler given by its address.
 
 Both paths call the same `run_variant`. On Dask the Job (the deck's files, the records) is
-scattered to every worker once and each task carries a chunk of consecutive variants' overrides
-(`chunks`: about TASKS_PER_WORKER tasks a worker, so that scheduling and transfer are paid per
-chunk, not per variant, while the last tasks still balance the workers); results come back as
-chunks finish, under a progress bar over the variants. A variant that fails inside a chunk is
-reported in its own row and the chunk goes on; a task lost with its worker (the process killed,
-out of memory) is reported in the row of each of its variants, like a variant the deck refuses.
+sent to the workers once, as a task of its own, and each task carries a chunk of consecutive
+variants' overrides (`chunks`: about TASKS_PER_WORKER tasks a worker, so that scheduling and
+transfer are paid per chunk, not per variant, while the last tasks still balance the workers);
+results come back as chunks finish, under a progress bar over the variants. A variant that
+fails inside a chunk is reported in its own row and the chunk goes on; the variants of a task
+lost with its worker (the process killed, out of memory) run again one a task, one after
+another, and a variant lost on its own is reported in its row, like a variant the deck refuses.
 The cluster's profiler is off and its timers relaxed (QUIET_CLUSTER); `phases` receives where
 the time went (cluster start, running the variants).
 """
@@ -33,9 +34,14 @@ TASKS_PER_WORKER = 8
 # every 10 ms), the event loops' health check, the system monitor and the memory monitor every
 # 1-2 s instead of 20, 500 and 100 ms (a memory limit is then enforced within a second). An idle
 # local cluster of 2 workers measured 92 ms of CPU a second with Dask's defaults, 12 with these.
+# On the local cluster (its scheduler runs in this process) a worker holds one task at a time
+# (`worker-saturation` 1.0: a worker that dies takes no queued task with it) and a task lost with
+# its worker is not tried again by Dask (`allowed-failures` 0): `_run` sends a lost chunk's
+# variants again one a task, and reports a single variant lost with its worker in its row.
 QUIET_CLUSTER = {"distributed.worker.profile.enabled": False, "distributed.admin.tick.interval": "1s",
                  "distributed.admin.system-monitor.interval": "2s",
-                 "distributed.worker.memory.monitor-interval": "1s"}
+                 "distributed.worker.memory.monitor-interval": "1s",
+                 "distributed.scheduler.worker-saturation": 1.0, "distributed.scheduler.allowed-failures": 0}
 
 
 class StudyError(QuaverError, RuntimeError):
@@ -94,28 +100,57 @@ def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, 
 
 
 def _run(client, job: Job, groups: list[list], n: int, progress: bool) -> dict[int, dict]:
-    """Each group of variants as one task; their results by variant index, as they come."""
+    """Each group of variants as one task; their results by variant index, as they come. The
+    variants of a task lost with its worker are sent again one a task, one after another (so that
+    no other of them waits on a worker that a fatal variant kills): those that did not kill it
+    solve; a variant lost on its own is reported in its row."""
     from dask.distributed import as_completed
 
-    shared = client.scatter(job, broadcast=True)
-    futures = {client.submit(run_chunk, shared, [(v.index, v.let) for v in g], pure=False): g for g in groups}
+    # the Job as a task of its own rather than scattered: the scheduler can compute it again
+    # should every worker holding it be lost, where scattered data would be gone for good
+    shared = client.submit(_same, job, pure=False)
+
+    def submit(g):
+        return client.submit(run_chunk, shared, [(v.index, v.let) for v in g], pure=False)
+
+    futures = {submit(g): g for g in groups}
+    again: list = []                       # variants of lost chunks, waiting to run alone
     out: dict[int, dict] = {}
 
     def each_variant():
-        for fut in as_completed(futures):
-            group = futures[fut]
+        pending = as_completed(futures)
+        for fut in pending:
+            group = futures.pop(fut)
             try:
                 rows = fut.result()
-            except Exception as exc:   # noqa: BLE001 - the task was lost with its worker: its variants' rows say so
-                rows = [{"index": v.index, "status": "error", "message": f"{type(exc).__name__}: {exc}",
-                         "seconds": 0.0} for v in group]
+            except Exception as exc:   # noqa: BLE001 - the task was lost with its worker
+                if len(group) > 1:
+                    again.extend(group)
+                    rows = []
+                else:
+                    rows = [{"index": v.index, "status": "error", "seconds": 0.0,
+                             "message": f"its worker was lost while it ran ({type(exc).__name__}: "
+                                        f"{str(exc).split('. ')[0]})"}
+                            for v in group]
+            if fut is alone[0]:
+                alone[0] = None
+            if again and alone[0] is None:
+                v = again.pop(0)
+                alone[0] = submit([v])
+                futures[alone[0]] = [v]
+                pending.add(alone[0])
             for row in rows:
                 out[row["index"]] = row
                 yield row
 
+    alone = [None]                         # the one of them running now
     for _ in (bar(each_variant(), total=n, label="variants") if progress else each_variant()):
         pass
     return out
+
+
+def _same(x):
+    return x
 
 
 def _connect(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple:
