@@ -11,7 +11,8 @@ fails inside a chunk is reported in its own row and the chunk goes on; the varia
 lost with its worker (the process killed, out of memory) run again one a task, one after
 another, and a variant lost on its own is reported in its row, like a variant the deck refuses.
 The cluster's profiler is off and its timers relaxed (QUIET_CLUSTER); `phases` receives where
-the time went (cluster start, running the variants).
+the time went (cluster start, running the variants). A local cluster closes in the background
+once the results are in (`wait_closed`).
 """
 
 from __future__ import annotations
@@ -24,7 +25,7 @@ from ..errors import QuaverError
 from ..progress import bar
 from .work import Job, run_chunk, run_variant
 
-__all__ = ["StudyError", "chunks", "on_dask", "serial"]
+__all__ = ["StudyError", "chunks", "on_dask", "serial", "wait_closed"]
 
 CONNECT_TIMEOUT = "20s"     # our choice: a scheduler on this network answers in well under a second
 # our choice: 8 tasks a worker keep the idle tail at the end under about 1/8 of a worker's share
@@ -88,6 +89,7 @@ def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, 
         raise StudyError(f"studies on a cluster need dask.distributed ({exc}); install quaver's dependencies, "
                          "or run the study serially (--serial)") from None
     phases = {} if phases is None else phases
+    done = False
     with dask.config.set(QUIET_CLUSTER):
         t0 = time.perf_counter()
         client, cluster, where = _connect(Client, LocalCluster, workers, scheduler)
@@ -98,11 +100,12 @@ def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, 
             groups = chunks(variants, phases["workers"], chunk)
             out = _run(client, job, groups, len(variants), progress)
             phases["run"], phases["tasks"] = time.perf_counter() - t0, len(groups)
+            done = True
             return [out[v.index] for v in variants], where
         finally:
             client.close()
             if cluster is not None:
-                cluster.close()
+                _close(cluster, wait=not done)
 
 
 def _run(client, job: Job, groups: list[list], n: int, progress: bool) -> dict[int, dict]:
@@ -153,6 +156,36 @@ def _run(client, job: Job, groups: list[list], n: int, progress: bool) -> dict[i
     for _ in (bar(each_variant(), total=n, label="variants") if progress else each_variant()):
         pass
     return out
+
+
+_CLOSING: list = []         # local clusters closing in the background
+
+
+def _close(cluster, wait: bool) -> None:
+    """Close a local cluster: at once after a failure; after a run, in a thread while the study
+    goes on with its table (the worker processes take about 0.5 s to end, measured; the Python
+    interpreter waits for the thread before it exits, and `wait_closed` waits for it)."""
+    import threading
+
+    if wait:
+        cluster.close()
+        return
+
+    def close():
+        try:
+            cluster.close()
+        except Exception:   # noqa: BLE001 - the study's results are in; a late error closing is not the user's
+            logging.getLogger(__name__).debug("closing the local cluster", exc_info=True)
+
+    t = threading.Thread(target=close, name="quaver-close-cluster")
+    t.start()
+    _CLOSING[:] = [c for c in _CLOSING if c.is_alive()] + [t]
+
+
+def wait_closed() -> None:
+    """Wait until every local cluster a study started has closed (its worker processes ended)."""
+    while _CLOSING:
+        _CLOSING.pop().join()
 
 
 def _same(x):
