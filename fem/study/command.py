@@ -30,7 +30,8 @@ def add_parser(sub):
     s.add_argument("--workers", type=int, metavar="N", help="worker processes of the local cluster (default 2)")
     s.add_argument("--scheduler", metavar="ADDRESS", help="a running Dask scheduler, e.g. tcp://127.0.0.1:8786")
     s.add_argument("--chunk", type=int, metavar="N",
-                   help="variants a Dask task (default: about eight tasks a worker)")
+                   help="variants a Dask task (default: a quarter of those left for 2 workers, "
+                        "shrinking to 2)")
     s.add_argument("--cases", metavar="A,B", help="the cases to solve (with a deck; default all)")
     for word in _LINES:
         s.add_argument(f"--{word}", action="append", metavar="TEXT", dest=f"line_{word}",

@@ -4,8 +4,8 @@ Dask's distributed scheduler (`on_dask`): a local cluster of worker processes on
 
 Both paths call the same `run_variant`. On Dask the Job (the deck's files, the records) is
 sent to the workers once, as a task of its own, and each task carries a chunk of consecutive
-variants' overrides (`chunks`: about TASKS_PER_WORKER tasks a worker, so that scheduling and
-transfer are paid per chunk, not per variant, while the last tasks still balance the workers);
+variants' overrides (`chunks`: long ones first, then shorter and shorter, so that scheduling
+and transfer are paid per chunk, not per variant, while the last tasks balance the workers);
 results come back as chunks finish, under a progress bar over the variants. A variant that
 fails inside a chunk is reported in its own row and the chunk goes on; the variants of a task
 lost with its worker (the process killed, out of memory) run again one a task, one after
@@ -28,9 +28,12 @@ from .work import Job, run_chunk, run_variant
 __all__ = ["StudyError", "chunks", "on_dask", "serial", "wait_closed"]
 
 CONNECT_TIMEOUT = "20s"     # our choice: a scheduler on this network answers in well under a second
-# our choice: 8 tasks a worker keep the idle tail at the end under about 1/8 of a worker's share
-# while a sweep of 200 variants on 2 workers pays Dask's per-task costs 16 times instead of 200
-TASKS_PER_WORKER = 8
+# our choice: each task takes 1/(GUIDED * workers) of the variants left: with 2 workers a sweep
+# of 200 variants goes in 19 tasks of 50, 38, 28 ... 3, 2, 2 variants, so the first tasks pay
+# Dask's per-task costs over many variants and the last ones leave a worker idle for about the
+# time of two variants rather than half a chunk of 12 (equal chunks, 8 a worker, did so)
+GUIDED = 2
+MIN_CHUNK = 2
 # Dask settings for a study's run: no statistical profiler on the workers (it samples their stacks
 # every 10 ms), the event loops' health check, the system monitor and the memory monitor every
 # 1-2 s instead of 20, 500 and 100 ms (a memory limit is then enforced within a second). An idle
@@ -67,18 +70,25 @@ def serial(job: Job, variants, progress: bool = True) -> list[dict]:
 
 
 def chunks(variants, workers: int, size: int | None = None) -> list[list]:
-    """The variants in consecutive groups, one a task: `size` each (the last may be shorter), by
-    default as many as make about TASKS_PER_WORKER tasks a worker."""
+    """The variants in consecutive groups, one a task: `size` each (the last may be shorter), or
+    by default shrinking ones (guided scheduling): each group 1/(GUIDED * workers) of the
+    variants not yet grouped, so that the first tasks are long (Dask's costs paid rarely) and
+    the last ones short (the workers finish together)."""
     variants = list(variants)
-    if size is None:
-        size = math.ceil(len(variants) / (max(int(workers), 1) * TASKS_PER_WORKER))
-    size = max(int(size), 1)
-    return [variants[i:i + size] for i in range(0, len(variants), size)]
+    if size is not None:
+        size = max(int(size), 1)
+        return [variants[i:i + size] for i in range(0, len(variants), size)]
+    out, i, share = [], 0, GUIDED * max(int(workers), 1)
+    while i < len(variants):
+        step = max(math.ceil((len(variants) - i) / share), MIN_CHUNK)
+        out.append(variants[i:i + step])
+        i += step
+    return out
 
 
 def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, progress: bool = True,
             chunk: int | None = None, phases: dict | None = None) -> tuple:
-    """Every variant on Dask, in tasks of `chunk` variants (None: see `chunks`); (results in
+    """Every variant on Dask, in tasks of `chunk` variants (None: shrinking ones, see `chunks`); (results in
     variant order, a description of the cluster). `phases`, when given, receives the seconds
     spent starting or reaching the cluster ('start') and running the variants ('run'), the
     number of workers ('workers') and of tasks ('tasks')."""
