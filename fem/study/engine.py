@@ -51,7 +51,10 @@ QUIET_CLUSTER = {"distributed.worker.profile.enabled": False, "distributed.admin
                  "distributed.admin.system-monitor.interval": "2s",
                  "distributed.worker.memory.monitor-interval": "1s",
                  "distributed.scheduler.worker-saturation": 1.0, "distributed.scheduler.allowed-failures": 0,
-                 "distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None}
+                 "distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None,
+                 # the Job (a record suite's tables) goes once, as a task of its own: no warning
+                 # that the graph is large, whose remedy (scatter) is what it replaces on purpose
+                 "distributed.admin.large-graph-warning-threshold": "4GiB"}
 
 
 class StudyError(QuaverError, RuntimeError):
