@@ -62,8 +62,10 @@ def setup(tmp_path_factory):
 
     with dask.config.set(QUIET_CLUSTER), warnings.catch_warnings():
         warnings.simplefilter("ignore", UserWarning)
+        # the workers' temporary folders (the deck's copies a killed worker leaves) in pytest's
         cluster = LocalCluster(n_workers=2, threads_per_worker=1, processes=True, host="127.0.0.1",
-                               dashboard_address=None, silence_logs=logging.CRITICAL)
+                               dashboard_address=None, silence_logs=logging.CRITICAL,
+                               env={"TMPDIR": str(folder)})
     with cluster, Client(cluster) as client:
         client.register_plugin(Killer())
         yield folder, marker, cluster.scheduler_address
