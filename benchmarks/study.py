@@ -8,7 +8,9 @@ PYTHONPATH=. python benchmarks/study.py [variants] [subprocesses] [--rounds N] [
 Each round runs, one after another, the serial study (in a child process, so that it pays its
 imports and first solves as the cluster's workers do), the cluster with the default chunks
 (several variants a task) and the cluster with one variant a task (these two in alternating
-order from round to round); a round's ratios share its load. Dask's workers run BLAS on one thread; the serial study and the `quaver run` processes
+order from round to round), then two serial children of half the variants each side by side
+(no Dask: what two plain processes get from the machine at that moment, the cluster's ideal);
+a round's ratios share its load. Dask's workers run BLAS on one thread; the serial study and the `quaver run` processes
 are started with the same setting (OPENBLAS_NUM_THREADS=1 and the like), so the ratios compare
 the engines, not BLAS threading. `quaver run` is started `subprocesses` times (default 15, 0:
 not timed; values spread over the same range), each writing its results folder without
@@ -67,13 +69,31 @@ def _cpu() -> float:
 
 
 def _cluster(n: int, chunk: int | None):
-    """Wall seconds, CPU seconds (the scheduler and client here, the nannies and workers once
-    the cluster is closed and they are reaped) and the StudyResult of one run on 2 workers."""
+    """Wall seconds (until the results are in: the cluster then closes in the background), CPU
+    seconds (the scheduler and client here, the workers once the cluster is closed and they are
+    reaped) and the StudyResult of one run on 2 workers."""
     from fem.study import run_study
+
+    from fem.study.engine import wait_closed
 
     c0, t0 = _cpu(), time.perf_counter()
     r = run_study(_study(n), workers=2, progress=False, chunk=chunk)
-    return time.perf_counter() - t0, _cpu() - c0, r
+    wall = time.perf_counter() - t0
+    wait_closed()                   # the cluster closes in the background: its processes' CPU counted
+    return wall, _cpu() - c0, r
+
+
+def _halves(n: int, env: dict) -> tuple[float, float]:
+    """Wall seconds (the later of the two, each measured inside its child as the serial API's
+    is) and CPU seconds of two serial children of n/2 variants each run side by side: what two
+    plain processes get from this machine now, the cluster's ideal at the same load."""
+    c0 = _cpu()
+    procs = [subprocess.Popen([sys.executable, __file__, "--serial-child", str(n // 2)], env=env,
+                              stdout=subprocess.PIPE, text=True) for _ in range(2)]
+    walls = [json.loads(p.communicate()[0].strip().splitlines()[-1])["wall"] for p in procs]
+    if any(p.returncode for p in procs):
+        raise RuntimeError("a serial child failed")
+    return max(walls), _cpu() - c0
 
 
 def _autogroup() -> bool:
@@ -91,9 +111,10 @@ def main(n: int = 200, runs: int = 15, rounds: int = 1) -> None:
           f"load average (1, 5, 15 min) at the start {_load()}")
     print()
     print("| round | load before | serial API s (CPU s) | 2 workers, chunks s (CPU s) | speed-up "
-          "| 2 workers, 1 a task s (CPU s) | speed-up | load after |")
-    print("|---|---|---|---|---|---|---|---|")
-    ratios, worst, last, cpus = [], 0.0, None, []
+          "| 2 workers, 1 a task s (CPU s) | speed-up | 2 serial halves side by side s (CPU s) | speed-up "
+          "| load after |")
+    print("|---|---|---|---|---|---|---|---|---|---|")
+    ratios, worst, last, cpus, ideal = [], 0.0, None, [], []
     for k in range(rounds):
         load0 = _load()
         c0 = _cpu()
@@ -109,14 +130,21 @@ def main(n: int = 200, runs: int = 15, rounds: int = 1) -> None:
             t_single, c_single, single = _cluster(n, 1)
         worst = max([worst] + [float(np.abs(np.array(a) / b["modes"]["MODES"]["freq"] - 1).max())
                                for a, b in zip(serial["freq"], chunked.results)])
+        t_halves, c_halves = _halves(n, env)
         ratios.append((serial["wall"] / t_chunked, serial["wall"] / t_single))
+        ideal.append((serial["wall"] / t_halves, t_halves / t_chunked))
         cpus.append((c_chunked / c_serial, c_single / c_serial))
         print(f"| {k + 1} | {load0} | {serial['wall']:.2f} ({c_serial:.1f}) | {t_chunked:.2f} ({c_chunked:.1f}) | "
-              f"{ratios[-1][0]:.2f}x | {t_single:.2f} ({c_single:.1f}) | {ratios[-1][1]:.2f}x | {_load()} |")
+              f"{ratios[-1][0]:.2f}x | {t_single:.2f} ({c_single:.1f}) | {ratios[-1][1]:.2f}x | "
+              f"{t_halves:.2f} ({c_halves:.1f}) | {ideal[-1][0]:.2f}x | {_load()} |")
         last = (serial, chunked, single)
     print()
     print(f"speed-up of 2 workers over the serial API (target 1.7x): chunks {statistics.median(r[0] for r in ratios):.2f}x, "
           f"one variant a task {statistics.median(r[1] for r in ratios):.2f}x (medians of {rounds} round(s))")
+    print(f"two plain serial processes of {n // 2} variants side by side (no Dask; the later one's wall, "
+          f"timed as the serial API's): {statistics.median(r[0] for r in ideal):.2f}x "
+          f"the serial API; the cluster with chunks {statistics.median(r[1] for r in ideal):.2f}x as fast as "
+          f"they (1.0: as fast as this machine allows two processes now)")
     cc, cs = statistics.median(c[0] for c in cpus), statistics.median(c[1] for c in cpus)
     print(f"CPU of the cluster's processes against the serial process's (imports included in both): chunks {cc:.2f}x, "
           f"one variant a task {cs:.2f}x; with two cores free, 2 workers could at best be {2 / cc:.2f}x and "

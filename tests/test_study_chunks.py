@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from fem.study import read_study_text, run_study
-from fem.study.engine import TASKS_PER_WORKER, chunks
+from fem.study.engine import GUIDED, MIN_CHUNK, chunks
 
 distributed = pytest.importorskip("distributed", reason="dask.distributed is not installed")
 
@@ -45,9 +45,18 @@ def test_chunks_cover_the_variants_in_order_once():
         got = chunks(vs, 2, size)
         assert [v for g in got for v in g] == vs
         assert all(len(g) == size for g in got[:-1]) and 0 < len(got[-1]) <= size
-    # by default about TASKS_PER_WORKER tasks a worker, never an empty one, never more than the variants
-    assert len(chunks(list(range(200)), 2)) == 2 * TASKS_PER_WORKER
-    assert len(chunks(list(range(5)), 2)) == 5
+    # by default shrinking chunks, each 1/(GUIDED x workers) of the variants left and at least
+    # MIN_CHUNK (the last may be shorter), in order, never an empty one
+    for n, workers in ((200, 2), (1000, 3), (5, 2), (1, 4)):
+        got = chunks(list(range(n)), workers)
+        assert [v for g in got for v in g] == list(range(n))
+        sizes = [len(g) for g in got]
+        assert sizes == sorted(sizes, reverse=True) and sizes[-1] >= 1
+        left = n
+        for s in sizes[:-1]:
+            assert s == max(-(-left // (GUIDED * workers)), MIN_CHUNK)
+            left -= s
+    assert [len(g) for g in chunks(list(range(200)), 2)] == [50, 38, 28, 21, 16, 12, 9, 7, 5, 4, 3, 2, 2, 2, 1]
     assert chunks([], 2) == []
     assert chunks(vs, 0, 0) == [[v] for v in vs]                # nonsense sizes fall back to one a task
 
@@ -125,3 +134,18 @@ def test_an_unexpected_failure_inside_a_chunk_is_that_variants_row_only(study, c
     for i in (0, 1, 3, 5, 6):
         np.testing.assert_array_equal(got.results[i]["modes"]["MODES"]["freq"],
                                       serial.results[i]["modes"]["MODES"]["freq"])
+
+
+def test_the_command_line_sets_the_variants_a_task(study, cluster, capsys):
+    from fem.cli import main
+
+    deck = study.deck
+    status = main(["study", str(deck), "--vary", "h in (80 mm, 90 mm, 100 mm, 110 mm, 120 mm)", "--scheduler",
+                   cluster, "--chunk", "2", "--out", str(deck.parent / "cli")])
+    text = capsys.readouterr().out
+    assert status == 0 and "5 variants on scheduler" in text and "(3 tasks)" in text     # 2 + 2 + 1
+    rows = (deck.parent / "cli" / "study.csv").read_text().splitlines()
+    assert len(rows) == 6 and all(",ok," in r for r in rows[1:])
+    for bad, said in ((["--chunk", "0"], "--chunk 0: give 1 or more"), (["--chunk", "2", "--serial"], "--serial")):
+        status = main(["study", str(deck), "--vary", "h in (80 mm, 90 mm)", *bad])
+        assert status == 2 and said in capsys.readouterr().err

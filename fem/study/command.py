@@ -29,6 +29,9 @@ def add_parser(sub):
     s.add_argument("--serial", action="store_true", help="run the variants in this process, without Dask")
     s.add_argument("--workers", type=int, metavar="N", help="worker processes of the local cluster (default 2)")
     s.add_argument("--scheduler", metavar="ADDRESS", help="a running Dask scheduler, e.g. tcp://127.0.0.1:8786")
+    s.add_argument("--chunk", type=int, metavar="N",
+                   help="variants a Dask task (default: a quarter of those left for 2 workers, "
+                        "shrinking to 2)")
     s.add_argument("--cases", metavar="A,B", help="the cases to solve (with a deck; default all)")
     for word in _LINES:
         s.add_argument(f"--{word}", action="append", metavar="TEXT", dest=f"line_{word}",
@@ -59,11 +62,20 @@ def run_command(args, caution: str) -> int:
         from ..errors import DeckError
 
         raise DeckError(f"--workers {args.workers}: give 1 to 256")
+    if args.chunk is not None:
+        from ..errors import DeckError
+
+        if args.serial:
+            raise DeckError("--chunk sets the variants a Dask task; a --serial study has no tasks: "
+                            "give one or the other")
+        if args.chunk < 1:
+            raise DeckError(f"--chunk {args.chunk}: give 1 or more variants a task")
     result = run_study(study, serial=args.serial, workers=args.workers, scheduler=args.scheduler,
-                       progress=True)
+                       progress=True, chunk=args.chunk)
     out = result.write(args.out or default_out)
     n, failed = len(result.variants), result.failed
-    print(f"{study.title or study.deck}: {n} variant{'s' if n != 1 else ''} on {result.engine} in "
+    tasks = "" if args.serial else f" ({result.phases.get('tasks', 0)} tasks)"
+    print(f"{study.title or study.deck}: {n} variant{'s' if n != 1 else ''} on {result.engine}{tasks} in "
           f"{result.seconds:.1f} s")
     for r in result.results:
         if r["status"] != "ok":

@@ -3,14 +3,16 @@ Dask's distributed scheduler (`on_dask`): a local cluster of worker processes on
 (loopback only, one thread each, no dashboard) or a running scheduler given by its address.
 
 Both paths call the same `run_variant`. On Dask the Job (the deck's files, the records) is
-scattered to every worker once and each task carries a chunk of consecutive variants' overrides
-(`chunks`: about TASKS_PER_WORKER tasks a worker, so that scheduling and transfer are paid per
-chunk, not per variant, while the last tasks still balance the workers); results come back as
-chunks finish, under a progress bar over the variants. A variant that fails inside a chunk is
-reported in its own row and the chunk goes on; a task lost with its worker (the process killed,
-out of memory) is reported in the row of each of its variants, like a variant the deck refuses.
+sent to the workers once, as a task of its own, and each task carries a chunk of consecutive
+variants' overrides (`chunks`: long ones first, then shorter and shorter, so that scheduling
+and transfer are paid per chunk, not per variant, while the last tasks balance the workers);
+results come back as chunks finish, under a progress bar over the variants. A variant that
+fails inside a chunk is reported in its own row and the chunk goes on; the variants of a task
+lost with its worker (the process killed, out of memory) run again one a task, one after
+another, and a variant lost on its own is reported in its row, like a variant the deck refuses.
 The cluster's profiler is off and its timers relaxed (QUIET_CLUSTER); `phases` receives where
-the time went (cluster start, running the variants).
+the time went (cluster start, running the variants). A local cluster closes in the background
+once the results are in (`wait_closed`).
 """
 
 from __future__ import annotations
@@ -23,19 +25,36 @@ from ..errors import QuaverError
 from ..progress import bar
 from .work import Job, run_chunk, run_variant
 
-__all__ = ["StudyError", "chunks", "on_dask", "serial"]
+__all__ = ["StudyError", "chunks", "on_dask", "serial", "wait_closed"]
 
 CONNECT_TIMEOUT = "20s"     # our choice: a scheduler on this network answers in well under a second
-# our choice: 8 tasks a worker keep the idle tail at the end under about 1/8 of a worker's share
-# while a sweep of 200 variants on 2 workers pays Dask's per-task costs 16 times instead of 200
-TASKS_PER_WORKER = 8
+# our choice: each task takes 1/(GUIDED * workers) of the variants left: with 2 workers a sweep
+# of 200 variants goes in 19 tasks of 50, 38, 28 ... 3, 2, 2 variants, so the first tasks pay
+# Dask's per-task costs over many variants and the last ones leave a worker idle for about the
+# time of two variants rather than half a chunk of 12 (equal chunks, 8 a worker, did so)
+GUIDED = 2
+MIN_CHUNK = 2
 # Dask settings for a study's run: no statistical profiler on the workers (it samples their stacks
 # every 10 ms), the event loops' health check, the system monitor and the memory monitor every
 # 1-2 s instead of 20, 500 and 100 ms (a memory limit is then enforced within a second). An idle
 # local cluster of 2 workers measured 92 ms of CPU a second with Dask's defaults, 12 with these.
+# On the local cluster (its scheduler runs in this process) a worker holds one task at a time
+# (`worker-saturation` 1.0: a worker that dies takes no queued task with it) and a task lost with
+# its worker is not tried again by Dask (`allowed-failures` 0): `_run` sends a lost chunk's
+# variants again one a task, and reports a single variant lost with its worker in its row.
+# Dask starts its workers with MALLOC_TRIM_THRESHOLD_=65536 (glibc hands freed memory back to the
+# system past 64 KiB, for workers that hold large data between tasks); a study's workers hold
+# none, and a solve's arrays, freed and allocated again, then cost page faults: the mast's
+# variants took 15 % more CPU in a process started so (53 against 46 ms, load 4). Unset here: the
+# C library's own threshold (adaptive, 128 KiB up to 32 MiB) stands.
 QUIET_CLUSTER = {"distributed.worker.profile.enabled": False, "distributed.admin.tick.interval": "1s",
                  "distributed.admin.system-monitor.interval": "2s",
-                 "distributed.worker.memory.monitor-interval": "1s"}
+                 "distributed.worker.memory.monitor-interval": "1s",
+                 "distributed.scheduler.worker-saturation": 1.0, "distributed.scheduler.allowed-failures": 0,
+                 "distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None,
+                 # the Job (a record suite's tables) goes once, as a task of its own: no warning
+                 # that the graph is large, whose remedy (scatter) is what it replaces on purpose
+                 "distributed.admin.large-graph-warning-threshold": "4GiB"}
 
 
 class StudyError(QuaverError, RuntimeError):
@@ -54,18 +73,25 @@ def serial(job: Job, variants, progress: bool = True) -> list[dict]:
 
 
 def chunks(variants, workers: int, size: int | None = None) -> list[list]:
-    """The variants in consecutive groups, one a task: `size` each (the last may be shorter), by
-    default as many as make about TASKS_PER_WORKER tasks a worker."""
+    """The variants in consecutive groups, one a task: `size` each (the last may be shorter), or
+    by default shrinking ones (guided scheduling): each group 1/(GUIDED * workers) of the
+    variants not yet grouped, so that the first tasks are long (Dask's costs paid rarely) and
+    the last ones short (the workers finish together)."""
     variants = list(variants)
-    if size is None:
-        size = math.ceil(len(variants) / (max(int(workers), 1) * TASKS_PER_WORKER))
-    size = max(int(size), 1)
-    return [variants[i:i + size] for i in range(0, len(variants), size)]
+    if size is not None:
+        size = max(int(size), 1)
+        return [variants[i:i + size] for i in range(0, len(variants), size)]
+    out, i, share = [], 0, GUIDED * max(int(workers), 1)
+    while i < len(variants):
+        step = max(math.ceil((len(variants) - i) / share), MIN_CHUNK)
+        out.append(variants[i:i + step])
+        i += step
+    return out
 
 
 def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, progress: bool = True,
             chunk: int | None = None, phases: dict | None = None) -> tuple:
-    """Every variant on Dask, in tasks of `chunk` variants (None: see `chunks`); (results in
+    """Every variant on Dask, in tasks of `chunk` variants (None: shrinking ones, see `chunks`); (results in
     variant order, a description of the cluster). `phases`, when given, receives the seconds
     spent starting or reaching the cluster ('start') and running the variants ('run'), the
     number of workers ('workers') and of tasks ('tasks')."""
@@ -76,6 +102,7 @@ def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, 
         raise StudyError(f"studies on a cluster need dask.distributed ({exc}); install quaver's dependencies, "
                          "or run the study serially (--serial)") from None
     phases = {} if phases is None else phases
+    done = False
     with dask.config.set(QUIET_CLUSTER):
         t0 = time.perf_counter()
         client, cluster, where = _connect(Client, LocalCluster, workers, scheduler)
@@ -86,36 +113,96 @@ def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, 
             groups = chunks(variants, phases["workers"], chunk)
             out = _run(client, job, groups, len(variants), progress)
             phases["run"], phases["tasks"] = time.perf_counter() - t0, len(groups)
+            done = True
             return [out[v.index] for v in variants], where
         finally:
             client.close()
             if cluster is not None:
-                cluster.close()
+                _close(cluster, wait=not done)
 
 
 def _run(client, job: Job, groups: list[list], n: int, progress: bool) -> dict[int, dict]:
-    """Each group of variants as one task; their results by variant index, as they come."""
+    """Each group of variants as one task; their results by variant index, as they come. The
+    variants of a task lost with its worker are sent again one a task, one after another (so that
+    no other of them waits on a worker that a fatal variant kills): those that did not kill it
+    solve; a variant lost on its own is reported in its row."""
     from dask.distributed import as_completed
 
-    shared = client.scatter(job, broadcast=True)
-    futures = {client.submit(run_chunk, shared, [(v.index, v.let) for v in g], pure=False): g for g in groups}
+    # the Job as a task of its own rather than scattered: the scheduler can compute it again
+    # should every worker holding it be lost, where scattered data would be gone for good
+    shared = client.submit(_same, job, pure=False)
+
+    def submit(g):
+        return client.submit(run_chunk, shared, [(v.index, v.let) for v in g], pure=False)
+
+    futures = {submit(g): g for g in groups}
+    again: list = []                       # variants of lost chunks, waiting to run alone
     out: dict[int, dict] = {}
 
     def each_variant():
-        for fut in as_completed(futures):
-            group = futures[fut]
+        pending = as_completed(futures)
+        for fut in pending:
+            group = futures.pop(fut)
             try:
                 rows = fut.result()
-            except Exception as exc:   # noqa: BLE001 - the task was lost with its worker: its variants' rows say so
-                rows = [{"index": v.index, "status": "error", "message": f"{type(exc).__name__}: {exc}",
-                         "seconds": 0.0} for v in group]
+            except Exception as exc:   # noqa: BLE001 - the task was lost with its worker
+                if len(group) > 1:
+                    again.extend(group)
+                    rows = []
+                else:
+                    rows = [{"index": v.index, "status": "error", "seconds": 0.0,
+                             "message": f"its worker was lost while it ran ({type(exc).__name__}: "
+                                        f"{str(exc).split('. ')[0]})"}
+                            for v in group]
+            if fut is alone[0]:
+                alone[0] = None
+            if again and alone[0] is None:
+                v = again.pop(0)
+                alone[0] = submit([v])
+                futures[alone[0]] = [v]
+                pending.add(alone[0])
             for row in rows:
                 out[row["index"]] = row
                 yield row
 
+    alone = [None]                         # the one of them running now
     for _ in (bar(each_variant(), total=n, label="variants") if progress else each_variant()):
         pass
     return out
+
+
+_CLOSING: list = []         # local clusters closing in the background
+
+
+def _close(cluster, wait: bool) -> None:
+    """Close a local cluster: at once after a failure; after a run, in a thread while the study
+    goes on with its table (the worker processes take about 0.5 s to end, measured; the Python
+    interpreter waits for the thread before it exits, and `wait_closed` waits for it)."""
+    import threading
+
+    if wait:
+        cluster.close()
+        return
+
+    def close():
+        try:
+            cluster.close()
+        except Exception:   # noqa: BLE001 - the study's results are in; a late error closing is not the user's
+            logging.getLogger(__name__).debug("closing the local cluster", exc_info=True)
+
+    t = threading.Thread(target=close, name="quaver-close-cluster")
+    t.start()
+    _CLOSING[:] = [c for c in _CLOSING if c.is_alive()] + [t]
+
+
+def wait_closed() -> None:
+    """Wait until every local cluster a study started has closed (its worker processes ended)."""
+    while _CLOSING:
+        _CLOSING.pop().join()
+
+
+def _same(x):
+    return x
 
 
 def _connect(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple:

@@ -112,8 +112,8 @@ def run_study(study, *, serial: bool = False, workers: int | None = None, schedu
 
     serial : run every variant in this process (no Dask); workers : the local cluster's worker
     processes (default the study's, 2); scheduler : the address of a running Dask scheduler
-    (default the study's; None: a local cluster); chunk : variants a Dask task (default: about
-    eight tasks a worker). Nothing is written: `StudyResult.write`.
+    (default the study's; None: a local cluster); chunk : variants a Dask task (default:
+    shrinking tasks, each 1/(2 x workers) of the variants left, at least 2). Nothing is written: `StudyResult.write`.
     """
     from ..deck.reader import read_deck
 
