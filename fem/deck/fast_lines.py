@@ -37,13 +37,14 @@ from .expressions import WILD
 from .syntax import STATEMENTS
 from .units import Quantity
 
-__all__ = ["QuickLine", "cut", "in_order", "lark_only", "quick", "run", "spanned"]
+__all__ = ["LINE", "QuickLine", "Spot", "cut", "in_order", "lark_only", "quick", "run", "spanned"]
 
 _QUICK = ContextVar("quaver_quick_lines", default=True)
 
 # names the grammar reserves anywhere: such a line goes to lark
 _RESERVED = frozenset(STATEMENTS) | {"release", "in", "at", "over", "times", "lag", "about", "like", "limit", "rms"}
 _NAME = r"[A-Za-z_][A-Za-z0-9_]*+"
+_FREE = rf"(?!(?:{'|'.join(sorted(_RESERVED))})(?![A-Za-z0-9_])){_NAME}"      # a name that is not reserved
 _PATTERN = r"(?=[A-Za-z0-9_.\-]*[*?])[A-Za-z0-9_.\-*?]++"         # the grammar's PATTERN
 _NUM = r"(?:[0-9]++(?:\.[0-9]++)?|\.[0-9]++)(?:[eE][+-]?[0-9]++)?"
 _UNIT = r"[ \t]*+[A-Za-z]++(?:\^-?[0-9]++)?(?:[/*][A-Za-z]++(?:\^-?[0-9]++)?)*+"
@@ -55,15 +56,33 @@ def _value(tag: str) -> str:
 
 
 _DIR = "(?:" + "|".join(DIRECTIONS) + ")"
-_LINE = re.compile(
+LINE = re.compile(
     rf"^(?P<lead>{_S})(?:"
-    rf"node[ \t]++(?P<nn>{_NAME}){_S}={_S}\({_S}{_value('x')},{_S}{_value('y')},{_S}{_value('z')}\)"
-    rf"|member[ \t]++(?P<mn>{_NAME}){_S}:{_S}(?P<mi>{_NAME}){_S}->{_S}(?P<mj>{_NAME})[ \t]++(?P<mk>beam|truss)"
-    rf"[ \t]++(?P<ms>{_NAME})[ \t]++(?P<mm>{_NAME})"
-    rf"|support[ \t]++(?:(?P<sp>{_PATTERN})|(?P<sn>{_NAME}))"
+    rf"node[ \t]++(?P<nn>{_FREE}){_S}={_S}\({_S}{_value('x')},{_S}{_value('y')},{_S}{_value('z')}\)"
+    rf"|member[ \t]++(?P<mn>{_FREE}){_S}:{_S}(?P<mi>{_FREE}){_S}->{_S}(?P<mj>{_FREE})[ \t]++(?P<mk>beam|truss)"
+    rf"[ \t]++(?P<ms>{_FREE})[ \t]++(?P<mm>{_FREE})"
+    rf"|support[ \t]++(?:(?P<sp>{_PATTERN})|(?P<sn>{_FREE}))"
     rf"(?:[ \t]++(?P<sh>fixed|pinned)|{_S}\((?P<sd>{_S}{_DIR}{_S}(?:,{_S}{_DIR}{_S})*+)\))"
-    rf"|mass[ \t]++(?:(?P<gp>{_PATTERN})|(?P<gn>{_NAME})){_S}={_S}{_value('w')}"
+    rf"|mass[ \t]++(?:(?P<gp>{_PATTERN})|(?P<gn>{_FREE})){_S}={_S}{_value('w')}"
     r")[ \t\r]*+(?:#[^\n]*+)?$", re.MULTILINE)
+
+
+class Spot:
+    """Where group `group` of a quick line's match is written, for Sources.loc (which reads a
+    tree's meta): a member's end, section or material, located only when a refusal names it."""
+
+    __slots__ = ("match", "group", "line", "qfile")
+
+    def __init__(self, match: re.Match, group: str, line: int, qfile):
+        self.match, self.group, self.line, self.qfile = match, group, line, qfile
+
+    @property
+    def meta(self):
+        return self
+
+    @property
+    def column(self) -> int:
+        return self.match.start(self.group) - self.match.start() + 1
 
 
 class QuickLine:
@@ -95,24 +114,20 @@ def cut(text: str, skip: frozenset = frozenset()) -> tuple[str, list[QuickLine]]
     are left to lark."""
     items, pieces = [], []
     line, pos, last = 1, 0, 0
-    for m in _LINE.finditer(text):
+    for m in LINE.finditer(text):
         start = m.start()
         line += text.count("\n", pos, start)
         pos = start
-        if line in skip or _reserved(m):
+        if line in skip:
             continue
-        items.append(QuickLine(m, line, len(m.group("lead")) + 1))
-        pieces.append(text[last:start])
-        pieces.append(" " * (m.end() - start))
-        last = m.end()
+        items.append(QuickLine(m, line, m.end(1) - start + 1))
+        end = m.end()
+        pieces += (text[last:start], " " * (end - start))
+        last = end
     if not items:
         return text, items
     pieces.append(text[last:])
     return "".join(pieces), items
-
-
-def _reserved(m: re.Match) -> bool:
-    return not _RESERVED.isdisjoint(m.group("nn", "mn", "mi", "mj", "ms", "mm", "sn", "gn"))
 
 
 def spanned(tree, items: list[QuickLine]) -> frozenset:
@@ -132,15 +147,20 @@ def spanned(tree, items: list[QuickLine]) -> frozenset:
 
 
 def in_order(stmts, quick: list[QuickLine]):
-    """Lark's statements and the quick lines merged in the order of their lines."""
+    """Lark's statements and the runs of quick lines between them (lists), in the order of their lines."""
     k = 0
     for stmt in stmts:
-        line = getattr(stmt.meta, "line", 0)
-        while k < len(quick) and quick[k].line < line:
-            yield quick[k]
-            k += 1
+        j = bisect.bisect_left(quick, getattr(stmt.meta, "line", 0), k, key=_line)
+        if j > k:
+            yield quick[k:j]
+            k = j
         yield stmt
-    yield from quick[k:]
+    if k < len(quick):
+        yield quick[k:]
+
+
+def _line(q: QuickLine) -> int:
+    return q.line
 
 
 def run(st, q: QuickLine, path, shown: str, src: list[str]) -> None:
@@ -157,8 +177,7 @@ def run(st, q: QuickLine, path, shown: str, src: list[str]) -> None:
     name = m.group("mn")
     if name is not None:
         st.new_name("member", name, where)
-        files = st.sources.token_file
-        ends = [(m.group(g), _token(m, g, "NAME", line, files, path)) for g in ("mi", "mj", "ms", "mm")]
+        ends = [(m.group(g), Spot(m, g, line, path)) for g in ("mi", "mj", "ms", "mm")]
         st.defs.members[name] = st.plain_member(name, ends[0], ends[1], m.group("mk"), ends[2], ends[3], where)
         return
     files = st.sources.token_file

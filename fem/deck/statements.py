@@ -16,7 +16,7 @@ from ..geometry import offset_mass
 from ..model import DIRECTIONS, Material, Section
 from ..notes import Note
 from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entry, make_section
-from . import fast_lines
+from . import fast_batch, fast_lines
 from . import units as U
 from . import vector_loops
 from .definitions import Definitions
@@ -64,7 +64,7 @@ class Statements:
             if isinstance(item, Tree):
                 self.statement(item)
             else:
-                fast_lines.run(self, item, path, shown, src)
+                fast_batch.run(self, item, path, shown, src)
 
     def statement(self, s: Tree) -> None:
         if self.loop_sites:
