@@ -131,7 +131,7 @@ case M modes { count = 2 }
 
 def test_the_hot_lines_are_read_quickly_and_lark_reads_the_rest():
     cut, quick = fast_lines.cut(FLAT)
-    assert [q.line for q in quick] == list(range(4, 14))
+    assert [line for _, line, _ in quick] == list(range(4, 14))
     assert len(cut) == len(FLAT) and cut.count("\n") == FLAT.count("\n")   # offsets, lines, columns kept
     assert cut.splitlines()[3].strip() == "" and "material" in cut and "case M" in cut
     assert _text_agrees(FLAT, ".") == "model"
@@ -271,7 +271,7 @@ def test_long_runs_are_read_together(monkeypatch):
     """Node and member lines of a long run do not go through the line reader one by one."""
     ran = []
     one = fast_lines.run
-    monkeypatch.setattr(fast_lines, "run", lambda st, q, *a: (ran.append(q.line), one(st, q, *a))[1])
+    monkeypatch.setattr(fast_lines, "run", lambda st, q, *a: (ran.append(q[1]), one(st, q, *a))[1])
     lines = [FLAT.split("node A")[0].rstrip("\n")] + [f"node N{i} = ({i} m, 0, 0)" for i in range(20)]
     lines += [f"member M{i} : N{i} -> N{i + 1} beam P S" for i in range(19)] + ["support N0 fixed"]
     text = "\n".join(lines) + "\n"

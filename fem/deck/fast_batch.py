@@ -10,6 +10,7 @@ refusal makes the reader read the deck again with lark alone (fem/deck/reader.py
 from __future__ import annotations
 
 import re
+from itertools import repeat
 
 import numpy as np
 from ..errors import Location
@@ -44,68 +45,74 @@ def run(st, items: list, path, shown: str, src: list[str]) -> None:
 
 def _together(st, items: list, path, shown: str, src: list[str]) -> list:
     """Read the node and member lines of `items` together; the other lines, to be read one by one."""
-    rows = [q.match.groups() for q in items]
+    rows = [q[0].groups() for q in items]
     nodes = [k for k, g in enumerate(rows) if g[_NN] is not None]
     members = [k for k, g in enumerate(rows) if g[_MN] is not None]
     if not nodes and not members:
         return items
-    node_names = [rows[k][_NN] for k in nodes]
-    member_names = [rows[k][_MN] for k in members]
+    cols = list(zip(*[rows[k] for k in nodes]))          # the node lines' groups, group by group
+    node_names, member_names = list(cols[_NN]) if nodes else [], [rows[k][_MN] for k in members]
     xyz = np.empty((len(nodes), 3))
-    for c, (s, n, u) in enumerate(_XYZ):
-        xyz[:, c] = _si(st.ev, [rows[k][s] for k in nodes], [rows[k][n] for k in nodes],
-                        [rows[k][u] for k in nodes], U.LENGTH)
-    from .statements import MAX_COORDINATE        # (statements imports the reader of quick lines)
-    if len(nodes) and np.abs(xyz).max() > MAX_COORDINATE:
+    if nodes:
+        for c, (s, n, u) in enumerate(_XYZ):
+            xyz[:, c] = _si(st.ev, cols[s], cols[n], cols[u], U.LENGTH)
+        from .statements import MAX_COORDINATE        # (statements imports the reader of quick lines)
+        if np.abs(xyz).max() > MAX_COORDINATE:
+            raise _Refused
+    if _taken(st.defs.defined, node_names + member_names):
         raise _Refused
-    names = node_names + member_names
-    defined = st.defs.defined
-    if len(set(names)) != len(names) or any((space, n) in defined for n in names
-                                            for space in ("node", "member", "group")):
-        raise _Refused
-    # every line of the run is accepted: record them in the order of the lines
+    # every line of the run is accepted: record them, each kind in the order of its lines
     nsrc = len(src)
-    where = [Location(shown, q.line, q.column, src[q.line - 1] if 0 < q.line <= nsrc else "") for q in items]
-    kinds = [None] * len(items)
-    for k, n in zip(nodes, node_names):
-        kinds[k] = ("node", n)
-    for k, n in zip(members, member_names):
-        kinds[k] = ("member", n)
-    defined.update([(key, (key[0], where[k])) for k, key in enumerate(kinds) if key is not None])
-    st.defs.nodes.update(zip(node_names, zip(list(xyz), [where[k] for k in nodes])))
-    plain, mems, spot = st.plain_member, st.defs.members, fast_lines.Spot
-    for k, name in zip(members, member_names):
-        q, g = items[k], rows[k]
-        m, line = q.match, q.line
-        mems[name] = plain(name, (g[_MI], spot(m, "mi", line, path)), (g[_MJ], spot(m, "mj", line, path)), g[_MK],
-                           (g[_MS], spot(m, "ms", line, path)), (g[_MM], spot(m, "mm", line, path)), where[k])
+    where = [Location(shown, line, column, src[line - 1] if 0 < line <= nsrc else "") for _, line, column in items]
+    node_where, member_where = [where[k] for k in nodes], [where[k] for k in members]
+    defs = st.defs
+    defs.defined.update(zip(zip(repeat("node"), node_names), zip(repeat("node"), node_where)))
+    defs.defined.update(zip(zip(repeat("member"), member_names), zip(repeat("member"), member_where)))
+    defs.nodes.update(zip(node_names, zip(list(xyz), node_where)))
+    plain, mems = st.plain_member, defs.members
+    for k, name, at in zip(members, member_names, member_where):    # each name's place (match, group, line,
+        m, line, _ = items[k]                                       # file), located by Sources.loc
+        g = rows[k]
+        mems[name] = plain(name, (g[_MI], (m, "mi", line, path)), (g[_MJ], (m, "mj", line, path)), g[_MK],
+                           (g[_MS], (m, "ms", line, path)), (g[_MM], (m, "mm", line, path)), at)
+    if len(nodes) + len(members) == len(items):
+        return []
     done = set(nodes) | set(members)
     return [q for k, q in enumerate(items) if k not in done]
 
 
-def _si(ev, signs: list, nums: list, units: list, dim) -> np.ndarray:
+def _taken(defined: dict, names: list[str]) -> bool:
+    """True when a name is given twice, or is already a node's, member's or group's."""
+    unique = set(names)
+    if len(unique) != len(names):
+        return True
+    spaces = ("node", "member", "group")
+    if len(defined) < 3 * len(names):
+        return any(space in spaces and n in unique for space, n in defined)
+    return any(any(map(defined.__contains__, zip(repeat(space), names))) for space in spaces)
+
+
+def _si(ev, signs, nums, units, dim) -> np.ndarray:
     """The SI values, as `dim`, of literals written sign, number, unit (None for a bare number),
     as fast_lines._si gives them one by one: literals.number or literals.quantity, the sign, then
     Evaluator.si (a sign commutes with the conversion's products and quotients)."""
     v = np.array(list(map(float, nums)))
     if not np.all(np.isfinite(v)):
         raise _Refused
-    for k in np.flatnonzero(v == 0).tolist():            # a number too small to hold
-        if re.search(r"[1-9]", re.split(r"[eE]", nums[k])[0]):
+    for text in {nums[k] for k in np.flatnonzero(v == 0).tolist()}:      # a number too small to hold
+        if re.search(r"[1-9]", re.split(r"[eE]", text)[0]):
             raise _Refused
-    out = np.where(np.array([s == "-" for s in signs], bool), -v, v)
-    by_unit: dict = {}
-    for k, u in enumerate(units):
-        by_unit.setdefault(u, []).append(k)
-    for u, ks in by_unit.items():
-        ks = np.array(ks)
-        x = out[ks]
+    out = np.where(np.array(signs) == "-", -v, v)
+    written = np.array(units, dtype=object)
+    for u in set(units):
+        at = written == u if u is not None else np.equal(written, None)
+        x = out[at]
         if u is None:                                    # a bare number; a bare 0 fits any dimension
             f = ev.assumed_factor(dim)
             if f is None and np.any(x != 0):
                 raise _Refused
             if f is not None:
-                out[ks] = np.where(x == 0, x, x * f)
+                out[at] = np.where(x == 0, x, x * f)
             continue
         try:
             steps = literals.unit_steps(u.strip())
@@ -115,9 +122,9 @@ def _si(ev, signs: list, nums: list, units: list, dim) -> np.ndarray:
         for op, base in steps:
             x = x * base.value if op == "*" else x / base.value
             d = tuple((a + b) if op == "*" else (a - b) for a, b in zip(d, base.dim))
-        if d != dim or not np.all(np.isfinite(x)) or np.any((x == 0) & (v[ks] != 0)):
+        if d != dim or not np.all(np.isfinite(x)) or np.any((x == 0) & (v[at] != 0)):
             raise _Refused
-        out[ks] = x
+        out[at] = x
     if not np.all(np.isfinite(out)):
         raise _Refused
     return out

@@ -25,6 +25,8 @@ import bisect
 import re
 from contextlib import contextmanager
 from contextvars import ContextVar
+from itertools import chain
+from operator import itemgetter
 
 import numpy as np
 from lark import Token
@@ -37,9 +39,10 @@ from .expressions import WILD
 from .syntax import STATEMENTS
 from .units import Quantity
 
-__all__ = ["LINE", "QuickLine", "Spot", "cut", "in_order", "lark_only", "quick", "run", "spanned"]
+__all__ = ["LINE", "QuickLine", "cut", "in_order", "lark_only", "quick", "run", "spanned"]
 
 _QUICK = ContextVar("quaver_quick_lines", default=True)
+_LINE_OF = itemgetter(1)
 
 # names the grammar reserves anywhere: such a line goes to lark
 _RESERVED = frozenset(STATEMENTS) | {"release", "in", "at", "over", "times", "lag", "about", "like", "limit", "rms"}
@@ -67,31 +70,9 @@ LINE = re.compile(
     r")[ \t\r]*+(?:#[^\n]*+)?$", re.MULTILINE)
 
 
-class Spot:
-    """Where group `group` of a quick line's match is written, for Sources.loc (which reads a
-    tree's meta): a member's end, section or material, located only when a refusal names it."""
-
-    __slots__ = ("match", "group", "line", "qfile")
-
-    def __init__(self, match: re.Match, group: str, line: int, qfile):
-        self.match, self.group, self.line, self.qfile = match, group, line, qfile
-
-    @property
-    def meta(self):
-        return self
-
-    @property
-    def column(self) -> int:
-        return self.match.start(self.group) - self.match.start() + 1
-
-
-class QuickLine:
-    """One statement read here: its match, line and column (of its keyword)."""
-
-    __slots__ = ("match", "line", "column")
-
-    def __init__(self, match: re.Match, line: int, column: int):
-        self.match, self.line, self.column = match, line, column
+# A quick line, one statement read here: the tuple (its match, its line, the column of its
+# keyword); plain tuples, as a large deck has hundreds of thousands of them.
+QuickLine = tuple
 
 
 def quick() -> bool:
@@ -111,28 +92,29 @@ def lark_only():
 
 def cut(text: str, skip: frozenset = frozenset()) -> tuple[str, list[QuickLine]]:
     """(the text with the quick lines blanked, those lines in order); lines numbered in `skip`
-    are left to lark."""
-    items, pieces = [], []
-    line, pos, last = 1, 0, 0
-    for m in LINE.finditer(text):
-        start = m.start()
-        line += text.count("\n", pos, start)
-        pos = start
-        if line in skip:
-            continue
-        items.append(QuickLine(m, line, m.end(1) - start + 1))
-        end = m.end()
-        pieces += (text[last:start], " " * (end - start))
-        last = end
-    if not items:
-        return text, items
-    pieces.append(text[last:])
-    return "".join(pieces), items
+    are left to lark. Each step over all the lines at once: a line's number is one more than the
+    newlines before it."""
+    ms = list(LINE.finditer(text))
+    if not ms:
+        return text, []
+    starts = [m.start() for m in ms]
+    breaks = np.flatnonzero(np.frombuffer(text.encode("utf-32-le", "surrogatepass"), np.uint32) == 10)
+    lines = (np.searchsorted(breaks, starts) + 1).tolist()
+    if skip:
+        keep = [k for k, line in enumerate(lines) if line not in skip]
+        if not keep:
+            return text, []
+        ms, starts, lines = [ms[k] for k in keep], [starts[k] for k in keep], [lines[k] for k in keep]
+    ends = [m.end() for m in ms]
+    items = list(zip(ms, lines, [m.end(1) - a + 1 for m, a in zip(ms, starts)]))
+    kept = [text[b:a] for b, a in zip([0, *ends], starts)]
+    blanks = [" " * (b - a) for a, b in zip(starts, ends)]
+    return "".join([*chain.from_iterable(zip(kept, blanks)), text[ends[-1]:]]), items
 
 
 def spanned(tree, items: list[QuickLine]) -> frozenset:
     """The quick lines that a statement of lark's `tree` spans (they belong to it)."""
-    lines = [q.line for q in items]
+    lines = [q[1] for q in items]
     out = set()
     for stmt in tree.children:
         meta = stmt.meta
@@ -150,7 +132,7 @@ def in_order(stmts, quick: list[QuickLine]):
     """Lark's statements and the runs of quick lines between them (lists), in the order of their lines."""
     k = 0
     for stmt in stmts:
-        j = bisect.bisect_left(quick, getattr(stmt.meta, "line", 0), k, key=_line)
+        j = bisect.bisect_left(quick, getattr(stmt.meta, "line", 0), k, key=_LINE_OF)
         if j > k:
             yield quick[k:j]
             k = j
@@ -159,14 +141,10 @@ def in_order(stmts, quick: list[QuickLine]):
         yield quick[k:]
 
 
-def _line(q: QuickLine) -> int:
-    return q.line
-
-
 def run(st, q: QuickLine, path, shown: str, src: list[str]) -> None:
     """Run quick line `q` of file `path` (named `shown`, lines `src`) through Statements `st`."""
-    m, line = q.match, q.line
-    where = Location(shown, line, q.column, src[line - 1] if 0 < line <= len(src) else "")
+    m, line, column = q
+    where = Location(shown, line, column, src[line - 1] if 0 < line <= len(src) else "")
     ev = st.ev
     name = m.group("nn")
     if name is not None:
@@ -177,7 +155,7 @@ def run(st, q: QuickLine, path, shown: str, src: list[str]) -> None:
     name = m.group("mn")
     if name is not None:
         st.new_name("member", name, where)
-        ends = [(m.group(g), Spot(m, g, line, path)) for g in ("mi", "mj", "ms", "mm")]
+        ends = [(m.group(g), (m, g, line, path)) for g in ("mi", "mj", "ms", "mm")]   # located by Sources.loc
         st.defs.members[name] = st.plain_member(name, ends[0], ends[1], m.group("mk"), ends[2], ends[3], where)
         return
     files = st.sources.token_file

@@ -19,6 +19,7 @@ from __future__ import annotations
 
 from contextlib import contextmanager
 from contextvars import ContextVar
+from itertools import repeat
 
 import numpy as np
 from lark import Token, Tree
@@ -248,9 +249,9 @@ class _Body:
     # ---------- checked, then recorded in the order of the passes
     def check(self) -> None:
         """Refuse a name defined twice, or already defined as a node, member or group."""
-        defined = self.st.defs.defined
-        if len(set(self.names)) != len(self.names) or any(
-                (space, n) in defined for n in self.names for space in ("node", "member", "group")):
+        taken, names = self.st.defs.defined.__contains__, self.names
+        if len(set(names)) != len(names) or any(any(map(taken, zip(repeat(space), names)))
+                                                for space in ("node", "member", "group")):
             raise _Refused
 
     def record(self) -> None:
