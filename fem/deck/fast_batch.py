@@ -59,7 +59,7 @@ def _together(st, items: list, path, shown: str, src: list[str]) -> list:
         from .statements import MAX_COORDINATE        # (statements imports the reader of quick lines)
         if np.abs(xyz).max() > MAX_COORDINATE:
             raise _Refused
-    if _taken(st.defs.defined, node_names + member_names):
+    if st.defs.taken(node_names + member_names):
         raise _Refused
     # every line of the run is accepted: record them, each kind in the order of its lines
     nsrc = len(src)
@@ -79,17 +79,6 @@ def _together(st, items: list, path, shown: str, src: list[str]) -> list:
         return []
     done = set(nodes) | set(members)
     return [q for k, q in enumerate(items) if k not in done]
-
-
-def _taken(defined: dict, names: list[str]) -> bool:
-    """True when a name is given twice, or is already a node's, member's or group's."""
-    unique = set(names)
-    if len(unique) != len(names):
-        return True
-    spaces = ("node", "member", "group")
-    if len(defined) < 3 * len(names):
-        return any(space in spaces and n in unique for space, n in defined)
-    return any(any(map(defined.__contains__, zip(repeat(space), names))) for space in spaces)
 
 
 def _si(ev, signs, nums, units, dim) -> np.ndarray:

@@ -208,7 +208,7 @@ class _Body:
         if np.abs(xyz).max() > MAX_COORDINATE:
             raise _Refused
         self.names += names
-        self.out["defined"].append([(("node", n), ("node", where)) for n in names])
+        self.out["defined"].append(list(zip(zip(repeat("node"), names), repeat(("node", where)))))
         self.out["nodes"].append(list(zip(names, zip(list(xyz), [where] * self.n))))
 
     def st_member(self, s):
@@ -220,7 +220,7 @@ class _Body:
         ends = [list(zip(self.name(ch[k]), [ch[k]] * self.n)) for k in (1, 2, 4, 5)]
         plain = self.st.plain_member
         self.names += names
-        self.out["defined"].append([(("member", n), ("member", where)) for n in names])
+        self.out["defined"].append(list(zip(zip(repeat("member"), names), repeat(("member", where)))))
         self.out["members"].append([(n, plain(n, i, j, kind, sec, mat, where))
                                     for n, i, j, sec, mat in zip(names, *ends)])
 
@@ -249,9 +249,7 @@ class _Body:
     # ---------- checked, then recorded in the order of the passes
     def check(self) -> None:
         """Refuse a name defined twice, or already defined as a node, member or group."""
-        taken, names = self.st.defs.defined.__contains__, self.names
-        if len(set(names)) != len(names) or any(any(map(taken, zip(repeat(space), names)))
-                                                for space in ("node", "member", "group")):
+        if self.st.defs.taken(self.names):
             raise _Refused
 
     def record(self) -> None:
