@@ -2,10 +2,10 @@
 lines between two of lark's statements, so the parameters, assumed units and names in force are
 the same for all of them. The node and member lines of a run are read together: their literals
 converted column by column with the evaluator's rules (literals.py, Evaluator.si), their names
-checked at once, their definitions recorded in the order of the lines. The support and mass
-lines, and a run any line of which would be refused (a name defined twice, a unit that does not
-fit, a coordinate beyond any structure), are read line by line by `fast_lines.run`, whose
-refusal makes the reader read the deck again with lark alone (fem/deck/reader.py)."""
+checked at once, their definitions recorded, each kind in the order of its lines. The support
+and mass lines, and a run any line of which would be refused (a name defined twice, a unit that
+does not fit, a coordinate beyond any structure), are read line by line by `fast_lines.run`,
+whose refusal makes the reader read the deck again with lark alone (fem/deck/reader.py)."""
 
 from __future__ import annotations
 
@@ -13,6 +13,7 @@ import re
 from itertools import repeat
 
 import numpy as np
+
 from ..errors import Location
 from . import fast_lines, literals
 from . import units as U
@@ -62,19 +63,20 @@ def _together(st, items: list, path, shown: str, src: list[str]) -> list:
     if st.defs.taken(node_names + member_names):
         raise _Refused
     # every line of the run is accepted: record them, each kind in the order of its lines
-    nsrc = len(src)
+    nsrc, defs = len(src), st.defs
     where = [Location(shown, line, column, src[line - 1] if 0 < line <= nsrc else "") for _, line, column in items]
     node_where, member_where = [where[k] for k in nodes], [where[k] for k in members]
-    defs = st.defs
     defs.defined.update(zip(zip(repeat("node"), node_names), zip(repeat("node"), node_where)))
     defs.defined.update(zip(zip(repeat("member"), member_names), zip(repeat("member"), member_where)))
     defs.nodes.update(zip(node_names, zip(list(xyz), node_where)))
-    plain, mems = st.plain_member, defs.members
-    for k, name, at in zip(members, member_names, member_where):    # each name's place (match, group, line,
-        m, line, _ = items[k]                                       # file), located by Sources.loc
-        g = rows[k]
-        mems[name] = plain(name, (g[_MI], (m, "mi", line, path)), (g[_MJ], (m, "mj", line, path)), g[_MK],
-                           (g[_MS], (m, "ms", line, path)), (g[_MM], (m, "mm", line, path)), at)
+    if members:
+        mcols = list(zip(*[rows[k] for k in members]))
+        matches, lines = zip(*[items[k][:2] for k in members])
+
+        def ends(g: str, i: int):     # (name, its place (match, group, line, file), which Sources.loc locates)
+            return zip(mcols[i], zip(matches, repeat(g), lines, repeat(path)))
+        defs.members.update(zip(member_names, map(st.plain_member, member_names, ends("mi", _MI), ends("mj", _MJ),
+                                                   mcols[_MK], ends("ms", _MS), ends("mm", _MM), member_where)))
     if len(nodes) + len(members) == len(items):
         return []
     done = set(nodes) | set(members)
