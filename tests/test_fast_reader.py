@@ -131,7 +131,7 @@ case M modes { count = 2 }
 
 def test_the_hot_lines_are_read_quickly_and_lark_reads_the_rest():
     cut, quick = fast_lines.cut(FLAT)
-    assert [q.line for q in quick] == list(range(4, 14))
+    assert [line for _, line, _ in quick] == list(range(4, 14))
     assert len(cut) == len(FLAT) and cut.count("\n") == FLAT.count("\n")   # offsets, lines, columns kept
     assert cut.splitlines()[3].strip() == "" and "material" in cut and "case M" in cut
     assert _text_agrees(FLAT, ".") == "model"
@@ -178,9 +178,9 @@ def _literal(rng, metres: float) -> str:
     return text + rng.choice(["", " ", "\t"]) + unit
 
 
-def _generated(rng) -> str:
+def _generated(rng, n: int = 0) -> str:
     sp = lambda: rng.choice(["", " ", "  ", "\t"])          # noqa: E731
-    n = rng.randint(3, 9)
+    n = n or rng.randint(3, 9)
     lines = ['title "generated"', "material S { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }",
              "section P = pipe(od = 168.3 mm, wall = 7.11 mm)"]
     if rng.random() < 0.2:
@@ -236,6 +236,47 @@ def test_mutated_decks_read_the_same():
     rng = random.Random(17)
     kinds = [_text_agrees(_mutated(rng, _generated(rng)), ".") for _ in range(250)]
     assert 25 < kinds.count("error") < 245   # both outcomes are exercised
+
+
+# ---------- long runs of quick lines, read together (fem/deck/fast_batch.py)
+
+def test_long_generated_decks_read_the_same():
+    rng = random.Random(1204)
+    kinds = [_text_agrees(_generated(rng, rng.randint(12, 40)), ".") for _ in range(40)]
+    assert kinds.count("model") > 35
+    kinds = [_text_agrees(_mutated(rng, _generated(rng, rng.randint(12, 40))), ".") for _ in range(120)]
+    assert 10 < kinds.count("error") < 115
+
+
+@pytest.mark.parametrize("old, new", [
+    ("node N5 = (", "node N2 = ("), ("member M7 :", "member M2 :"), ("member M7 :", "member N7 :"),
+    ("node N5 = (", "assume length in mm\nnode N5 = ("), ("15 m,", "15,"), ("15 m,", "0,"), ("15 m,", "-0,"),
+    ("15 m,", "-0 m,"), ("15 m,", "15 kg,"), ("15 m,", "15 mx,"), ("15 m,", "1e12 m,"), ("15 m,", "1e-400 m,"),
+    ("15 m,", "1e308 km,"), ("15 m,", "1e-320 mm,"), ("15 m,", "- 15 ft,"), ("15 m,", "+15 in,"),
+    ("15 m,", "15 m/s*s,"), ("15 m,", "30 deg,"), ("N9 -> N10", "N9 -> N99"), ("beam P S", "beam P Q"),
+])
+def test_long_runs_with_a_slip_read_the_same(old, new):
+    lines = [FLAT.split("node A")[0].rstrip("\n")]
+    lines += [f"node N{i} = ({3 * i} m, {i % 4}.5 m, 0)" for i in range(30)]
+    lines += [f"member M{i} : N{i} -> N{i + 1} beam P S" for i in range(29)]
+    lines += ["support N0 fixed", "mass N3 = 2 t", "case M modes { count = 2 }"]
+    text = "\n".join(lines) + "\n"
+    assert old in text
+    _text_agrees(text.replace(old, new, 1), ".")
+    if "assume" in new:
+        _text_agrees(text.replace(old, new, 1).replace("15 m,", "15,"), ".")
+
+
+def test_long_runs_are_read_together(monkeypatch):
+    """Node and member lines of a long run do not go through the line reader one by one."""
+    ran = []
+    one = fast_lines.run
+    monkeypatch.setattr(fast_lines, "run", lambda st, q, *a: (ran.append(q[1]), one(st, q, *a))[1])
+    lines = [FLAT.split("node A")[0].rstrip("\n")] + [f"node N{i} = ({i} m, 0, 0)" for i in range(20)]
+    lines += [f"member M{i} : N{i} -> N{i + 1} beam P S" for i in range(19)] + ["support N0 fixed"]
+    text = "\n".join(lines) + "\n"
+    model = fem.read_text(text)
+    assert ran == [text.count("\n")] and model.coords[19].tolist() == [19.0, 0.0, 0.0] and len(model.conn) == 19
 
 
 def test_solving_gives_the_same_numbers():

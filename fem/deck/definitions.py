@@ -4,6 +4,7 @@ keep the names apart; the statement handlers fill it in, the model is built from
 from __future__ import annotations
 
 import fnmatch
+from itertools import repeat
 
 from lark import Token
 
@@ -66,6 +67,17 @@ class Definitions:
                 raise DeckError(f"{kind} {name} has the same name as {first[0]} {name} (at {first[1]}); "
                                 "a name in a support, load or group could then mean either", where,
                                 "give one of them another name")
+
+    def taken(self, names: list[str]) -> bool:
+        """True when node and member `names`, defined together, hold a name twice or one already
+        defined as a node, member or group (what `define` and `not_a_group` refuse one by one)."""
+        unique = set(names)
+        if len(unique) != len(names):
+            return True
+        spaces, defined = ("node", "member", "group"), self.defined
+        if len(defined) < 3 * len(names):
+            return any(space in spaces and n in unique for space, n in defined)
+        return any(any(map(defined.__contains__, zip(repeat(space), names))) for space in spaces)
 
     def targets(self, t, table: dict, what: str) -> list[str]:
         """Resolve a name, group or glob pattern to names defined in `table`."""

@@ -25,6 +25,8 @@ import bisect
 import re
 from contextlib import contextmanager
 from contextvars import ContextVar
+from itertools import chain
+from operator import itemgetter
 
 import numpy as np
 from lark import Token
@@ -37,13 +39,15 @@ from .expressions import WILD
 from .syntax import STATEMENTS
 from .units import Quantity
 
-__all__ = ["QuickLine", "cut", "in_order", "lark_only", "quick", "run", "spanned"]
+__all__ = ["LINE", "QuickLine", "cut", "in_order", "lark_only", "quick", "run", "spanned"]
 
 _QUICK = ContextVar("quaver_quick_lines", default=True)
+_LINE_OF = itemgetter(1)
 
 # names the grammar reserves anywhere: such a line goes to lark
 _RESERVED = frozenset(STATEMENTS) | {"release", "in", "at", "over", "times", "lag", "about", "like", "limit", "rms"}
 _NAME = r"[A-Za-z_][A-Za-z0-9_]*+"
+_FREE = rf"(?!(?:{'|'.join(sorted(_RESERVED))})(?![A-Za-z0-9_])){_NAME}"      # a name that is not reserved
 _PATTERN = r"(?=[A-Za-z0-9_.\-]*[*?])[A-Za-z0-9_.\-*?]++"         # the grammar's PATTERN
 _NUM = r"(?:[0-9]++(?:\.[0-9]++)?|\.[0-9]++)(?:[eE][+-]?[0-9]++)?"
 _UNIT = r"[ \t]*+[A-Za-z]++(?:\^-?[0-9]++)?(?:[/*][A-Za-z]++(?:\^-?[0-9]++)?)*+"
@@ -55,24 +59,20 @@ def _value(tag: str) -> str:
 
 
 _DIR = "(?:" + "|".join(DIRECTIONS) + ")"
-_LINE = re.compile(
+LINE = re.compile(
     rf"^(?P<lead>{_S})(?:"
-    rf"node[ \t]++(?P<nn>{_NAME}){_S}={_S}\({_S}{_value('x')},{_S}{_value('y')},{_S}{_value('z')}\)"
-    rf"|member[ \t]++(?P<mn>{_NAME}){_S}:{_S}(?P<mi>{_NAME}){_S}->{_S}(?P<mj>{_NAME})[ \t]++(?P<mk>beam|truss)"
-    rf"[ \t]++(?P<ms>{_NAME})[ \t]++(?P<mm>{_NAME})"
-    rf"|support[ \t]++(?:(?P<sp>{_PATTERN})|(?P<sn>{_NAME}))"
+    rf"node[ \t]++(?P<nn>{_FREE}){_S}={_S}\({_S}{_value('x')},{_S}{_value('y')},{_S}{_value('z')}\)"
+    rf"|member[ \t]++(?P<mn>{_FREE}){_S}:{_S}(?P<mi>{_FREE}){_S}->{_S}(?P<mj>{_FREE})[ \t]++(?P<mk>beam|truss)"
+    rf"[ \t]++(?P<ms>{_FREE})[ \t]++(?P<mm>{_FREE})"
+    rf"|support[ \t]++(?:(?P<sp>{_PATTERN})|(?P<sn>{_FREE}))"
     rf"(?:[ \t]++(?P<sh>fixed|pinned)|{_S}\((?P<sd>{_S}{_DIR}{_S}(?:,{_S}{_DIR}{_S})*+)\))"
-    rf"|mass[ \t]++(?:(?P<gp>{_PATTERN})|(?P<gn>{_NAME})){_S}={_S}{_value('w')}"
+    rf"|mass[ \t]++(?:(?P<gp>{_PATTERN})|(?P<gn>{_FREE})){_S}={_S}{_value('w')}"
     r")[ \t\r]*+(?:#[^\n]*+)?$", re.MULTILINE)
 
 
-class QuickLine:
-    """One statement read here: its match, line and column (of its keyword)."""
-
-    __slots__ = ("match", "line", "column")
-
-    def __init__(self, match: re.Match, line: int, column: int):
-        self.match, self.line, self.column = match, line, column
+# A quick line, one statement read here: the tuple (its match, its line, the column of its
+# keyword); plain tuples, as a large deck has hundreds of thousands of them.
+QuickLine = tuple
 
 
 def quick() -> bool:
@@ -92,32 +92,29 @@ def lark_only():
 
 def cut(text: str, skip: frozenset = frozenset()) -> tuple[str, list[QuickLine]]:
     """(the text with the quick lines blanked, those lines in order); lines numbered in `skip`
-    are left to lark."""
-    items, pieces = [], []
-    line, pos, last = 1, 0, 0
-    for m in _LINE.finditer(text):
-        start = m.start()
-        line += text.count("\n", pos, start)
-        pos = start
-        if line in skip or _reserved(m):
-            continue
-        items.append(QuickLine(m, line, len(m.group("lead")) + 1))
-        pieces.append(text[last:start])
-        pieces.append(" " * (m.end() - start))
-        last = m.end()
-    if not items:
-        return text, items
-    pieces.append(text[last:])
-    return "".join(pieces), items
-
-
-def _reserved(m: re.Match) -> bool:
-    return not _RESERVED.isdisjoint(m.group("nn", "mn", "mi", "mj", "ms", "mm", "sn", "gn"))
+    are left to lark. Each step over all the lines at once: a line's number is one more than the
+    newlines before it."""
+    ms = list(LINE.finditer(text))
+    if not ms:
+        return text, []
+    starts = [m.start() for m in ms]
+    breaks = np.flatnonzero(np.frombuffer(text.encode("utf-32-le", "surrogatepass"), np.uint32) == 10)
+    lines = (np.searchsorted(breaks, starts) + 1).tolist()
+    if skip:
+        keep = [k for k, line in enumerate(lines) if line not in skip]
+        if not keep:
+            return text, []
+        ms, starts, lines = [ms[k] for k in keep], [starts[k] for k in keep], [lines[k] for k in keep]
+    ends = [m.end() for m in ms]
+    items = list(zip(ms, lines, [m.end(1) - a + 1 for m, a in zip(ms, starts)]))
+    kept = [text[b:a] for b, a in zip([0, *ends], starts)]
+    blanks = [" " * (b - a) for a, b in zip(starts, ends)]
+    return "".join([*chain.from_iterable(zip(kept, blanks)), text[ends[-1]:]]), items
 
 
 def spanned(tree, items: list[QuickLine]) -> frozenset:
     """The quick lines that a statement of lark's `tree` spans (they belong to it)."""
-    lines = [q.line for q in items]
+    lines = [q[1] for q in items]
     out = set()
     for stmt in tree.children:
         meta = stmt.meta
@@ -132,21 +129,22 @@ def spanned(tree, items: list[QuickLine]) -> frozenset:
 
 
 def in_order(stmts, quick: list[QuickLine]):
-    """Lark's statements and the quick lines merged in the order of their lines."""
+    """Lark's statements and the runs of quick lines between them (lists), in the order of their lines."""
     k = 0
     for stmt in stmts:
-        line = getattr(stmt.meta, "line", 0)
-        while k < len(quick) and quick[k].line < line:
-            yield quick[k]
-            k += 1
+        j = bisect.bisect_left(quick, getattr(stmt.meta, "line", 0), k, key=_LINE_OF)
+        if j > k:
+            yield quick[k:j]
+            k = j
         yield stmt
-    yield from quick[k:]
+    if k < len(quick):
+        yield quick[k:]
 
 
 def run(st, q: QuickLine, path, shown: str, src: list[str]) -> None:
     """Run quick line `q` of file `path` (named `shown`, lines `src`) through Statements `st`."""
-    m, line = q.match, q.line
-    where = Location(shown, line, q.column, src[line - 1] if 0 < line <= len(src) else "")
+    m, line, column = q
+    where = Location(shown, line, column, src[line - 1] if 0 < line <= len(src) else "")
     ev = st.ev
     name = m.group("nn")
     if name is not None:
@@ -157,8 +155,7 @@ def run(st, q: QuickLine, path, shown: str, src: list[str]) -> None:
     name = m.group("mn")
     if name is not None:
         st.new_name("member", name, where)
-        files = st.sources.token_file
-        ends = [(m.group(g), _token(m, g, "NAME", line, files, path)) for g in ("mi", "mj", "ms", "mm")]
+        ends = [(m.group(g), (m, g, line, path)) for g in ("mi", "mj", "ms", "mm")]   # located by Sources.loc
         st.defs.members[name] = st.plain_member(name, ends[0], ends[1], m.group("mk"), ends[2], ends[3], where)
         return
     files = st.sources.token_file

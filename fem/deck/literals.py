@@ -16,7 +16,7 @@ from ..errors import suggest
 from . import units as U
 from .units import Quantity
 
-__all__ = ["LiteralError", "number", "quantity"]
+__all__ = ["LiteralError", "number", "quantity", "unit_steps"]
 
 _FLOAT_MAX = float(np.finfo(float).max)
 # the number at the front of a QUANTITY token (grammar/deck.lark); no unit starts with e or E
@@ -50,10 +50,7 @@ def quantity(text: str) -> Quantity:
     quantities does)."""
     head = _NUMBER.match(text)
     value = number(head.group(0))
-    unit = text[head.end():].strip()
-    steps = _STEPS.get(unit)
-    if steps is None:
-        steps = _STEPS[unit] = _steps(unit)
+    steps = unit_steps(text[head.end():].strip())
     if len(steps) == 1 and steps[0][0] == "*":      # one unit: the product Quantity.__mul__ forms
         base = steps[0][1]
         q = Quantity(value * base.value, base.dim)
@@ -64,6 +61,15 @@ def quantity(text: str) -> Quantity:
     if not math.isfinite(q.value) or (q.value == 0 and value != 0):
         raise LiteralError(f"{text} is beyond the range of numbers once converted to SI units")
     return q
+
+
+def unit_steps(unit: str) -> tuple:
+    """The steps that convert a number with the unit `unit` ('kg/m^3') to SI, in order, as
+    (operator, Quantity) pairs: (('*', kg), ('/', m^3)); worked out once per unit text."""
+    steps = _STEPS.get(unit)
+    if steps is None:
+        steps = _STEPS[unit] = _steps(unit)
+    return steps
 
 
 def _steps(unit: str) -> tuple:

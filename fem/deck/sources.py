@@ -170,6 +170,10 @@ class Sources:
             self.stack.pop()
 
     def loc(self, item) -> Location:
+        if type(item) is tuple:             # a name in a quick line: (match, group, line, file)
+            match, group, line, path = item
+            src = self.lines[path][line - 1] if 0 < line <= len(self.lines[path]) else ""
+            return Location(self.shown(path), line, match.start(group) - match.start() + 1, src)
         meta = getattr(item, "meta", None)
         path = self.token_file.get(id(item)) or getattr(meta, "qfile", None) or self.stack[-1]
         known = self._located.get(id(item))

@@ -1,6 +1,6 @@
 """Statement handlers: each statement of a deck checked where it is written and recorded, with
-its location, in the deck's Definitions; loops run their bodies pass by pass under a cap on
-the statements they execute in all."""
+its location, in the deck's Definitions; loops run their bodies (at once, or pass by pass)
+under a cap on the statements they execute in all."""
 
 from __future__ import annotations
 
@@ -16,8 +16,9 @@ from ..geometry import offset_mass
 from ..model import DIRECTIONS, Material, Section
 from ..notes import Note
 from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entry, make_section
-from . import fast_lines
+from . import fast_batch, fast_lines
 from . import units as U
+from . import vector_loops
 from .definitions import Definitions
 from .excitations import excitation_statement
 from .expressions import WILD, Evaluator
@@ -63,7 +64,7 @@ class Statements:
             if isinstance(item, Tree):
                 self.statement(item)
             else:
-                fast_lines.run(self, item, path, shown, src)
+                fast_batch.run(self, item, path, shown, src)
 
     def statement(self, s: Tree) -> None:
         if self.loop_sites:
@@ -443,12 +444,12 @@ class Statements:
         passes = max(int(b.value) - int(a.value) + 1, 0)
         for sub in (x for st in body for x in st.iter_subtrees()):
             if sub.data == "let" and str(sub.children[0]) in ev.overrides:
-                nm = str(sub.children[0])
-                raise DeckError(f"--set {nm}: the let of {nm} at {self.loc(sub)} is inside the loop at {self.loc(s)}, "
-                                "which works it out again on every pass, so one value cannot replace it", None,
+                raise DeckError(f"--set {(nm := str(sub.children[0]))}: the let of {nm} at {self.loc(sub)} is inside "
+                                f"the loop at {self.loc(s)}, which works it out again on every pass, so one value "
+                                "cannot replace it", None,
                                 "move the let out of the loop if it is the same on every pass")
-        if not body:
-            return                      # nothing to repeat
+        if not body:                    # nothing to repeat
+            return
         if self.loop_steps + passes * len(body) > LOOP_STATEMENTS:
             again = f", and again on each pass of the loop at {self.loop_sites[-1]}" if self.loop_sites else ""
             raise DeckError(f"this loop would execute {passes:,} passes of {len(body)} statement(s){again}, taking "
@@ -460,12 +461,12 @@ class Statements:
                                   f"statements are skipped; write {b.value:g}..{a.value:g} to run them")
             if w not in self.notes:          # once, though an enclosing loop reads it again
                 self.notes.append(w)
-        name = str(var)
+        name, first, last = str(var), int(a.value), int(b.value)
         with ev.counter(name):
             self.loop_sites.append(self.loc(s))
             self.sources.repeating += 1
-            try:
-                for k in range(int(a.value), int(b.value) + 1):
+            try:        # the common kind of body at once (fem/deck/vector_loops.py), else pass by pass
+                for k in range(first, last + 1) if not vector_loops.run(self, name, first, last, body) else ():
                     ev.count(name, k)
                     for st in body:
                         self.statement(st)
