@@ -240,11 +240,12 @@ PICTURE_FIELD = (0.02, 0.03, 0.80, 0.88)
 ISO = ((1.0, 1.0, 1.0), (0.0, 0.0, 1.0))      # isometric: looking from (1, 1, 1), z up
 
 
-def _fit(p, points: np.ndarray, toward, up) -> None:
+def _fit(p, points: np.ndarray, toward, up, render: bool = True) -> None:
     """Parallel projection looking from direction `toward` (to the camera) with `up` as near
     vertical as it can be, fitted tightly to `points` (undeformed and deformed), the model
     inside PICTURE_FIELD. The camera is set here in full (pyvista's view presets keep state that
-    spoils a later parallel fit)."""
+    spoils a later parallel fit). Rendered for a still (a screenshot reuses the last rendered
+    image otherwise), not with render=False: an animation renders each of its frames."""
     cam = p.camera
     d = -np.asarray(toward, float)
     d /= np.linalg.norm(d)
@@ -268,7 +269,8 @@ def _fit(p, points: np.ndarray, toward, up) -> None:
     cam.parallel_projection = True
     cam.parallel_scale = half_h
     p.renderer.ResetCameraClippingRange()
-    p.render()                   # a screenshot reuses the last rendered image otherwise
+    if render:
+        p.render()
 
 
 RELATIVE = "relative displacement"
@@ -406,7 +408,7 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = MODE_F
                 a = np.sin(2 * np.pi * i / frames)
                 _frame(p, drawn, disp * a, twist * a)
             p.window_size = moving
-            _fit(p, span, *view)
+            _fit(p, span, *view, render=False)
             out += _animate(p, show, frames, stem, fps, _clock(p, ""),
                             _cycle_captions(float(modal.modes.period[jj]), frames), size=moving, video=video)
     return out
@@ -491,6 +493,6 @@ def render_response(folder: Path, model, name: str, frame_t, frames, animate: bo
             _frame(p, drawn, c.disp * k, c.twist * k, "motion (m)", k if k > 0 else 1.0)
         marks = [f"t = {frame_t[i]:.4g} s" + ("  (largest motion)" if i == worst else "") for i in shown]
         p.window_size = moving
-        _fit(p, span, *ISO)
+        _fit(p, span, *ISO, render=False)
         out += _animate(p, show, len(shown), folder / name, fps, clock, marks, size=moving, video=video)
     return out
