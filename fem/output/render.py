@@ -200,11 +200,6 @@ def release() -> None:
         p.close()
 
 
-def _resize(p, size) -> None:
-    """Set the frame size (pyvista's window_size setter also renders, an image nobody takes)."""
-    p.render_window.SetSize(*size)
-
-
 def _canvas(pv, size):
     """This process's one offscreen plotter, emptied of the last picture's actors, colour bars
     and texts (its lights and render window kept): making a context costs about 0.4 s."""
@@ -217,14 +212,14 @@ def _canvas(pv, size):
         for title in list(p.scalar_bars.keys()):
             p.remove_scalar_bar(title, render=False)
         p.renderer.clear_actors()
-        _resize(p, size)
+        p.render_window.SetSize(*size)          # pyvista's window_size setter also renders
     return p
 
 
 def _setup(pv, poly, caption, size=SIZE):
     p = _canvas(pv, size)
     p.set_background("white")
-    # render=False: pyvista renders on every actor added otherwise, an image nobody takes
+    # render=False here and below: pyvista renders on every actor added otherwise, an image nobody takes
     p.add_mesh(poly.copy(), color="#b8bcc4", opacity=0.4, line_width=3, render_lines_as_tubes=True, render=False)
     if "spring" in poly.cell_data:         # springs between nodes, in their undeformed places
         p.add_mesh(poly.extract_cells(np.flatnonzero(poly.cell_data["spring"])), color="#2a7f62", line_width=3,
@@ -251,8 +246,7 @@ def _fit(p, points: np.ndarray, toward, up, render: bool = True) -> None:
     """Parallel projection looking from direction `toward` (to the camera) with `up` as near
     vertical as it can be, fitted tightly to `points` (undeformed and deformed), the model
     inside PICTURE_FIELD. The camera is set here in full (pyvista's view presets keep state that
-    spoils a later parallel fit). Rendered for a still (a screenshot reuses the last rendered
-    image otherwise), not with render=False: an animation renders each of its frames."""
+    spoils a later parallel fit); rendered for a still, not with render=False (frames render)."""
     cam = p.camera
     d = -np.asarray(toward, float)
     d /= np.linalg.norm(d)
@@ -277,7 +271,7 @@ def _fit(p, points: np.ndarray, toward, up, render: bool = True) -> None:
     cam.parallel_scale = half_h
     p.renderer.ResetCameraClippingRange()
     if render:
-        p.render()
+        p.render()               # a screenshot reuses the last rendered image otherwise
 
 
 RELATIVE = "relative displacement"
@@ -414,7 +408,7 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = MODE_F
             def show(i, drawn=drawn, disp=disp, twist=twist):
                 a = np.sin(2 * np.pi * i / frames)
                 _frame(p, drawn, disp * a, twist * a)
-            _resize(p, moving)
+            p.render_window.SetSize(*moving)
             _fit(p, span, *view, render=False)
             out += _animate(p, show, frames, stem, fps, _clock(p, ""),
                             _cycle_captions(float(modal.modes.period[jj]), frames), size=moving, video=video)
@@ -431,7 +425,7 @@ def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
 
     from .caption import FIXED_FROM, FixedCaption
 
-    _resize(p, size)
+    p.render_window.SetSize(*size)
     _bar_fonts(p, size)
     images = []
     if clock is not None and count >= FIXED_FROM:       # the captions' font size found once
@@ -499,7 +493,7 @@ def render_response(folder: Path, model, name: str, frame_t, frames, animate: bo
             c = member_curves(model, frames[shown[i]], prepared=prepared)
             _frame(p, drawn, c.disp * k, c.twist * k, "motion (m)", k if k > 0 else 1.0)
         marks = [f"t = {frame_t[i]:.4g} s" + ("  (largest motion)" if i == worst else "") for i in shown]
-        _resize(p, moving)
+        p.render_window.SetSize(*moving)
         _fit(p, span, *ISO, render=False)
         out += _animate(p, show, len(shown), folder / name, fps, clock, marks, size=moving, video=video)
     return out
