@@ -8,6 +8,10 @@ Exit statuses: 0 all self-checks pass; 1 results written, a self-check failed; 2
 the deck, the model or the results folder (one message, nothing written); 70 an internal error
 (a fault in Quaver: a short message asking for a report; the traceback with --debug or
 QUAVER_DEBUG=1); 130 interrupted.
+
+With QUAVER_TIMING set (to 1, or to the launch time as time.time() gives it, as
+benchmarks/startup.py does), `quaver check` prints the times of its phases on stderr: start-up
+(the interpreter and the imports up to the reading of the deck) and the check's own work.
 """
 
 from __future__ import annotations
@@ -19,6 +23,7 @@ __all__ = ["main", "run_deck"]
 
 INTERNAL_ERROR = 70     # the conventional status of an internal software error (sysexits.h, EX_SOFTWARE)
 DEBUG_ENV = "QUAVER_DEBUG"
+TIMING_ENV = "QUAVER_TIMING"
 
 CAUTION = ("Caution: results support, and never replace, the judgement of a qualified engineer; "
            "local codes and licensed practice govern.")
@@ -110,14 +115,23 @@ def main(argv: list[str] | None = None) -> int:
 
     try:
         if args.command == "check":
-            from .analysis.soundness import examine, summary_lines
             from .deck.reader import read_deck
 
+            marks = _phases()               # start-up ends here: the deck is read next
             model = read_deck(args.deck, let=_overrides(args.let))
+            _mark(marks, "reading")
+            # imported once the deck has been read (scipy, about half of the check's imports, is
+            # not needed to report a mistake in the deck)
+            from .analysis.soundness import examine, summary_lines
+
+            if model.n_nodes:               # what the checks import (so their phase is their work)
+                from .analysis import factor, static  # noqa: F401
+            _mark(marks, "check_imports")
             # the same mechanism, free-structure and conditioning checks as `quaver run`, refused
             # with the same message; no case is solved. A deck without nodes (materials and
             # sections to include elsewhere) has nothing to check
             sound = examine(model)[1] if model.n_nodes else None
+            _mark(marks, "checks")
             lo, hi = model.bounding_box()
             print(f"{model.title or args.deck}: {model.n_nodes} nodes, {model.n_members} members, "
                   f"total mass {model.total_mass():.6g} kg")
@@ -129,6 +143,8 @@ def main(argv: list[str] | None = None) -> int:
             for line in summary_lines(sound):
                 print(line)
             print(CAUTION)
+            _mark(marks, "summary")
+            _report(marks)
             return 0
         if args.command == "study":
             from .study.command import run_command
@@ -193,6 +209,44 @@ def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int =
     status = print_written(results, replace(written, notes=(*notes, *written.notes)))
     sys.stdout.flush()          # a reader gone by now is met here (status 0), not at the exit
     return status
+
+
+def _phases() -> list | None:
+    """The first mark of `quaver check`'s phases (the end of start-up: CPU time since the process
+    began, and wall time since the launch time QUAVER_TIMING holds, if it holds one), or None
+    when QUAVER_TIMING is not set."""
+    import os
+    import time
+
+    value = os.environ.get(TIMING_ENV, "").strip()
+    if value in ("", "0"):
+        return None
+    try:
+        launched = float(value) if float(value) > 1e9 else None
+    except ValueError:
+        launched = None
+    wall = time.time() - launched if launched else float("nan")
+    return [("startup", time.perf_counter(), time.process_time(), wall)]
+
+
+def _mark(marks: list | None, phase: str) -> None:
+    """The end of `phase` (with QUAVER_TIMING)."""
+    if marks is not None:
+        import time
+
+        marks.append((phase, time.perf_counter(), time.process_time(), 0.0))
+
+
+def _report(marks: list | None) -> None:
+    """'quaver timing: startup_cpu=... startup_wall=... reading=... ...' on stderr: start-up's
+    CPU time and wall time since launch, then each phase's wall time, in seconds."""
+    if marks is None:
+        return
+    _, _, cpu, wall = marks[0]
+    parts = [f"startup_cpu={cpu:.4f}", f"startup_wall={wall:.4f}"]
+    parts += [f"{name}={t - marks[k][1]:.4f}" for k, (name, t, _, _) in enumerate(marks[1:])]
+    parts.append(f"total_cpu={marks[-1][2]:.4f}")
+    sys.stderr.write("quaver timing: " + " ".join(parts) + "\n")
 
 
 def _silence_stdout() -> None:

@@ -61,3 +61,28 @@ def test_solving_static_and_modes_cases_leaves_scipy_signal_out(tmp_path):
                      "assert r['MODES'].shapes.shape[-1] == 2", tmp_path)
     assert "fem.analysis.recurrence" in loaded                     # the module is there, its import is not
     assert _heavy(loaded, ("matplotlib", "pyvista", "vtk", "dask", "distributed"), ("scipy.signal",)) == set()
+
+
+def test_a_mistake_in_the_deck_is_reported_without_importing_scipy(tmp_path):
+    # the checks' imports (scipy: about half of a check's) follow the reading of the deck
+    deck = tmp_path / "slip.deck"
+    deck.write_text("node A = (0, 0, 0)\nnode B = (1 m, 0, 0)\nmembr A B\n")
+    loaded = _loaded("import contextlib, io\nfrom fem.cli import main\n"
+                     "with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):\n"
+                     f"    assert main(['check', {str(deck)!r}]) == 2", tmp_path)
+    assert "fem.deck.reader" in loaded
+    assert {m for m in loaded if m.split(".")[0] == "scipy"} == set()
+
+
+def test_a_timed_check_reports_its_phases_on_stderr():
+    # QUAVER_TIMING (benchmarks/startup.py): start-up apart from the check's own work
+    r = subprocess.run([sys.executable, "-m", "fem", "check", "decks/rack.deck"], cwd=ROOT, capture_output=True,
+                       text=True, timeout=300, env=dict(os.environ, PYTHONPATH=str(ROOT), QUAVER_TIMING="1"))
+    assert r.returncode == 0, r.stderr
+    line = [ln for ln in r.stderr.splitlines() if ln.startswith("quaver timing: ")]
+    phases = dict(w.split("=") for w in line[0].split()[2:])
+    assert list(phases) == ["startup_cpu", "startup_wall", "reading", "check_imports", "checks", "summary",
+                            "total_cpu"]
+    assert phases["startup_wall"] == "nan"                          # no launch time given
+    assert 0 < float(phases["startup_cpu"]) < float(phases["total_cpu"])
+    assert "quaver timing" not in r.stdout                          # the summary's text is unchanged

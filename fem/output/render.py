@@ -212,17 +212,19 @@ def _canvas(pv, size):
         for title in list(p.scalar_bars.keys()):
             p.remove_scalar_bar(title, render=False)
         p.renderer.clear_actors()
-        p.window_size = size
+        p.render_window.SetSize(*size)          # pyvista's window_size setter also renders
     return p
 
 
 def _setup(pv, poly, caption, size=SIZE):
     p = _canvas(pv, size)
     p.set_background("white")
-    p.add_mesh(poly.copy(), color="#b8bcc4", opacity=0.4, line_width=3, render_lines_as_tubes=True)
+    # render=False here and below: pyvista renders on every actor added otherwise, an image nobody takes
+    p.add_mesh(poly.copy(), color="#b8bcc4", opacity=0.4, line_width=3, render_lines_as_tubes=True, render=False)
     if "spring" in poly.cell_data:         # springs between nodes, in their undeformed places
-        p.add_mesh(poly.extract_cells(np.flatnonzero(poly.cell_data["spring"])), color="#2a7f62", line_width=3)
-    p.add_text(caption, position="upper_left", font_size=11 if size[0] >= size[1] else 9, color="#1d2733")
+        p.add_mesh(poly.extract_cells(np.flatnonzero(poly.cell_data["spring"])), color="#2a7f62", line_width=3,
+                   render=False)
+    p.add_text(caption, position="upper_left", font_size=11 if size[0] >= size[1] else 9, color="#1d2733", render=False)
     # a small orientation marker in the lower right corner, clear of captions and colour bar
     # (kept from the plotter's last picture when in the same place: it draws the same)
     viewport = (0.86, 0.0, 1.0, 0.14 * size[0] / size[1])
@@ -240,11 +242,11 @@ PICTURE_FIELD = (0.02, 0.03, 0.80, 0.88)
 ISO = ((1.0, 1.0, 1.0), (0.0, 0.0, 1.0))      # isometric: looking from (1, 1, 1), z up
 
 
-def _fit(p, points: np.ndarray, toward, up) -> None:
+def _fit(p, points: np.ndarray, toward, up, render: bool = True) -> None:
     """Parallel projection looking from direction `toward` (to the camera) with `up` as near
     vertical as it can be, fitted tightly to `points` (undeformed and deformed), the model
     inside PICTURE_FIELD. The camera is set here in full (pyvista's view presets keep state that
-    spoils a later parallel fit)."""
+    spoils a later parallel fit); rendered for a still, not with render=False (frames render)."""
     cam = p.camera
     d = -np.asarray(toward, float)
     d /= np.linalg.norm(d)
@@ -268,7 +270,8 @@ def _fit(p, points: np.ndarray, toward, up) -> None:
     cam.parallel_projection = True
     cam.parallel_scale = half_h
     p.renderer.ResetCameraClippingRange()
-    p.render()                   # a screenshot reuses the last rendered image otherwise
+    if render:
+        p.render()               # a screenshot reuses the last rendered image otherwise
 
 
 RELATIVE = "relative displacement"
@@ -285,7 +288,7 @@ def _add_coloured(p, mesh, scalars: str, clim, size, title: str = "relative\ndis
                   fmt: str = "%.1f") -> None:
     """The members as tubes coloured by `scalars` over `clim`, with the colour bar on the right."""
     p.add_mesh(mesh, scalars=scalars, cmap=COLORMAP, clim=clim, line_width=6, render_lines_as_tubes=True,
-               scalar_bar_args=_bar(size, title, fmt))
+               scalar_bar_args=_bar(size, title, fmt), render=False)
     for bar in p.scalar_bars.values():
         bar.SetVerticalTitleSeparation(8)          # keeps the title clear of the top label
 
@@ -306,7 +309,7 @@ def _deformed(p, drawn: _Drawn) -> None:
     if drawn.ribbon is not None:
         # the quads' edges mark cross-sections along the member, turned by the twist
         p.add_mesh(drawn.ribbon, color=RIBBON, opacity=0.7, show_edges=True, edge_color="#5a2410",
-                   line_width=1)
+                   line_width=1, render=False)
 
 
 def _frame(p, drawn: _Drawn, disp, twist, colour: str | None = None, norm: float = 1.0):
@@ -324,7 +327,7 @@ def _still(p, path: Path) -> Path:
 
 def _clock(p, text: str):
     """The frame's time caption, lower left; its text is replaced frame by frame."""
-    return p.add_text(text, position="lower_left", font_size=8, color="#1d2733")
+    return p.add_text(text, position="lower_left", font_size=8, color="#1d2733", render=False)
 
 
 def _cycle_captions(period: float, frames: int) -> list[str]:
@@ -405,8 +408,8 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = MODE_F
             def show(i, drawn=drawn, disp=disp, twist=twist):
                 a = np.sin(2 * np.pi * i / frames)
                 _frame(p, drawn, disp * a, twist * a)
-            p.window_size = moving
-            _fit(p, span, *view)
+            p.render_window.SetSize(*moving)
+            _fit(p, span, *view, render=False)
             out += _animate(p, show, frames, stem, fps, _clock(p, ""),
                             _cycle_captions(float(modal.modes.period[jj]), frames), size=moving, video=video)
     return out
@@ -422,7 +425,7 @@ def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
 
     from .caption import FIXED_FROM, FixedCaption
 
-    p.window_size = size
+    p.render_window.SetSize(*size)
     _bar_fonts(p, size)
     images = []
     if clock is not None and count >= FIXED_FROM:       # the captions' font size found once
@@ -490,7 +493,7 @@ def render_response(folder: Path, model, name: str, frame_t, frames, animate: bo
             c = member_curves(model, frames[shown[i]], prepared=prepared)
             _frame(p, drawn, c.disp * k, c.twist * k, "motion (m)", k if k > 0 else 1.0)
         marks = [f"t = {frame_t[i]:.4g} s" + ("  (largest motion)" if i == worst else "") for i in shown]
-        p.window_size = moving
-        _fit(p, span, *ISO)
+        p.render_window.SetSize(*moving)
+        _fit(p, span, *ISO, render=False)
         out += _animate(p, show, len(shown), folder / name, fps, clock, marks, size=moving, video=video)
     return out
