@@ -13,7 +13,7 @@ from ..notes import Note
 from ..sections import make_section, shear_follows_nu
 from . import model_checks
 from . import units as U
-from .definitions import Definitions
+from .definitions import NO_RELEASES, Definitions
 from .excitations import model_excitations
 from .expressions import Evaluator
 from .links import check_linked_starts, end_offsets, linked_nodes, mass_coupling, read_links, supported_references
@@ -128,7 +128,9 @@ def _members(defs: Definitions, mems, node_names, nidx, coords, tol, notes):
     cols = {key: np.ascontiguousarray(table[:, c]) for c, key in enumerate(_COLUMNS[:9])}
     cols["roll"] = np.array([m["roll"] for m in mems], float)
     cols["carried_mass"] = np.array([m["carried_mass"] for m in mems], float)
-    releases = np.array([m["releases"] for m in mems], bool).reshape(e, 12)
+    releases = np.zeros((e, 12), bool)
+    for k in [k for k, m in enumerate(mems) if m["releases"] is not NO_RELEASES]:
+        releases[k] = mems[k]["releases"]
     truss = np.array([m["kind"] == "truss" for m in mems], bool)
     up = np.full((e, 3), np.nan)
     for k, m in enumerate(mems):

@@ -6,13 +6,18 @@ from __future__ import annotations
 import fnmatch
 from itertools import repeat
 
+import numpy as np
 from lark import Token
 
 from ..errors import DeckError, Location, suggest
 from ..model import Material, Section
 from ..notes import Note
 
-__all__ = ["Definitions"]
+__all__ = ["Definitions", "NO_RELEASES"]
+
+# A member without releases (most of them) shares this read-only row; a release makes its own.
+NO_RELEASES = np.zeros(12, bool)
+NO_RELEASES.flags.writeable = False
 
 
 class Definitions:

@@ -19,7 +19,7 @@ from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entr
 from . import fast_batch, fast_lines
 from . import units as U
 from . import vector_loops
-from .definitions import Definitions
+from .definitions import NO_RELEASES, Definitions
 from .excitations import excitation_statement
 from .expressions import WILD, Evaluator
 from .links import end_offset, link_statement
@@ -267,7 +267,7 @@ class Statements:
     def plain_member(name: str, i, j, kind: str, section, material, where: Location) -> dict:
         """A member's record before its options: ends, section and material as (name, token)."""
         return dict(name=name, i=i, j=j, kind=kind, section=section, material=material, roll=0.0, up=None,
-                    carried_mass=0.0, releases=np.zeros(12, bool), loc=where, pretension=0.0)
+                    carried_mass=0.0, releases=NO_RELEASES, loc=where, pretension=0.0)
 
     def st_member(self, s):
         ch = s.children
@@ -292,7 +292,7 @@ class Statements:
                 for d in opt.children[1].children:
                     if str(d) not in DIRECTIONS:
                         raise DeckError(f"unknown direction '{d}'; {suggest(str(d), DIRECTIONS)}", self.loc(d))
-                    m["releases"][DIRECTIONS.index(str(d)) + (6 if end == "j" else 0)] = True
+                    m["releases"] = m["releases"] | (np.arange(12) == DIRECTIONS.index(str(d)) + 6 * (end == "j"))
                 continue
             key, val = str(opt.children[0]), opt.children[1]
             self.defs.once(seen, key, self.loc(opt), f"member {name}")
