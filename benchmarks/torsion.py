@@ -14,41 +14,20 @@ noisy: compare ratios, not milliseconds).
 from __future__ import annotations
 
 import os
+import sys
 import time
-
-import numpy as np
-import scipy.sparse as sp
-from scipy.sparse.linalg import spsolve
+from pathlib import Path
 
 from fem.sections import catalogue_designations, catalogue_entry
 from fem.sections.torsion import angle_torsion_constant
 
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
+from prandtl_grid import angle_nodes, prandtl_J  # noqa: E402  (the tests' finite-difference check)
+
 
 def _fd(b, t, r, r2, h):
     """J of an equal angle by finite differences on a grid of spacing h (nodes strictly inside)."""
-    y = np.arange(-h, b + 2 * h, h)
-    Y, Z = np.meshgrid(y, y, indexing="ij")
-    e = 1e-9 * b
-    inside = (Y > e) & (Z > e) & (Y < b - e) & (Z < b - e)
-    c = t + r
-    inside &= (Y < t - e) | (Z < t - e) | ((Y < c) & (Z < c) & ((Y - c) ** 2 + (Z - c) ** 2 > r * r))
-    if r2:
-        o = b - r2
-        for P, Q in ((Y, Z), (Z, Y)):
-            inside &= ~((P > o) & (Q > t - r2) & ((P - o) ** 2 + (Q - (t - r2)) ** 2 > r2 * r2))
-    idx = -np.ones(inside.shape, int)
-    n = int(inside.sum())
-    idx[inside] = np.arange(n)
-    I, K = np.nonzero(inside)
-    rows, cols, vals = [np.arange(n)], [np.arange(n)], [np.full(n, -4.0)]
-    for di, dk in ((1, 0), (-1, 0), (0, 1), (0, -1)):
-        nb = idx[I + di, K + dk]
-        ok = nb >= 0
-        rows.append(np.arange(n)[ok])
-        cols.append(nb[ok])
-        vals.append(np.ones(ok.sum()))
-    L = sp.csc_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))), shape=(n, n))
-    return 2.0 * spsolve(L, np.full(n, -2.0 * h * h)).sum() * h * h
+    return prandtl_J(angle_nodes(h, b, t, r, r2), h)
 
 
 def main() -> None:

@@ -94,3 +94,28 @@ support A (ux, uy, rx, ry, rz)
 spring ISO: G -> A (uz = 250 kN/m)
 mass A = 400 kg
 """
+
+# a 1.8 m steel cantilever in six elements whose depth is the parameter h (the studies' model)
+STUDY_CANTILEVER = """
+let h = 100 mm
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section R = rect(b = 100 mm, h = h)
+for i in 0..6 { node N[i] = (i*0.3 m, 0, 0) }
+for i in 0..5 { member M[i] : N[i] -> N[i+1] beam R S }
+support N0 fixed
+case MODES modes { count = 3 }
+"""
+
+# a 6 m column fixed at A with 2 t at B (3 m) and 1 t at C (6 m), 120 x 200 mm: two lateral
+# modes in each plane; the files that use it write the material and add the cases
+TWO_MASS_COLUMN = """
+section P = rect(b = 120 mm, h = 200 mm)
+node A = (0, 0, 0)
+node B = (0, 0, 3 m)
+node C = (0, 0, 6 m)
+member M1 : A -> B beam P S
+member M2 : B -> C beam P S
+support A fixed
+mass B = 2 t
+mass C = 1 t
+"""

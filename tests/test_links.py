@@ -16,6 +16,7 @@ Sources beside each check:
 import numpy as np
 import pytest
 import scipy.linalg as sla
+from shared_decks import COUNTERWEIGHT_FRAME
 
 from fem import solve
 from fem.analysis.static import solve_static
@@ -435,21 +436,7 @@ def test_supported_reference_with_mass_following_is_warned():
     mode holds: a spectrum case's reactions leave that inertia out unless its missing-mass term
     is on, and the reader says so at the link. Free, history and harmonic cases, and spectrum
     cases with `missing = on`, add it (tests/test_link_dynamics.py), so they are not warned about."""
-    deck = """
-material ST { E = 210 GPa, nu = 0.3, density = 7850 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.1 mm)
-node B = (0, 0, 0)
-node T = (0, 0, 3 m)
-node F = (0.8 m, 0, 0)
-node G = (3 m, 0, 3 m)
-member COL : B -> T beam P ST
-member BM : T -> G beam P ST
-support B pinned
-support G fixed
-mass F = 800 kg
-link ARM: B -> F
-case MODES modes { count = 4 }
-"""
+    deck = COUNTERWEIGHT_FRAME + "link ARM: B -> F\ncase MODES modes { count = 4 }\n"
     quiet = read_text(deck)
     assert not [w for w in quiet.warnings if "link ARM" in str(w)]
     loud = read_text(deck + "case KNOCK history { force T = (6 kN, 0, 0), time = halfsine(0.05 s), duration = 0.2 s, "
@@ -459,7 +446,7 @@ case MODES modes { count = 4 }
     assert not [w for w in read_text(deck + spectrum + ", missing = on }\n").warnings if "link ARM" in str(w)]
     loud = read_text(deck + spectrum + " }\n")
     (w,) = [w for w in loud.warnings if "link ARM" in str(w)]
-    assert "leave out the inertia" in str(w) and w.location.line == 13
+    assert "leave out the inertia" in str(w) and w.location.line == deck.splitlines().index("link ARM: B -> F") + 1
 
 
 def test_mass_on_a_follower_free_in_a_direction_is_refused():

@@ -12,6 +12,7 @@ import math
 
 import numpy as np
 import pytest
+from prandtl_grid import angle_nodes, prandtl_J
 
 from fem.sections import (
     SHAPES,
@@ -208,24 +209,6 @@ def test_angle_fillet_against_polygon(b, h, t, r, r2):
     assert s.Wz == pytest.approx(lam[0] / d_v, rel=1e-6)
 
 
-def _angle_nodes(h, b, t, r, r2=0.0):
-    """Grid nodes strictly inside an equal angle with a root fillet (and toe radii r2); the
-    straight edges lie on grid lines (t and b multiples of h), only the arcs are stair-stepped."""
-    y = np.arange(-h, b + 2 * h, h)
-    Y, Z = np.meshgrid(y, y, indexing="ij")
-    e = 1e-9 * b
-    body = (Y > e) & (Z > e) & (Y < b - e) & (Z < b - e)
-    legs = (Y < t - e) | (Z < t - e)
-    c = t + r
-    fillet = (Y < c) & (Z < c) & ((Y - c) ** 2 + (Z - c) ** 2 > r * r)
-    inside = body & (legs | fillet)
-    if r2:
-        o = b - r2
-        for P, Q in ((Y, Z), (Z, Y)):              # the toe of each leg: P along it, Q across
-            inside &= ~((P > o) & (Q > t - r2) & ((P - o) ** 2 + (Q - (t - r2)) ** 2 > r2 * r2))
-    return inside
-
-
 @pytest.mark.parametrize("designation, J_fd_in4", [
     ("L5X5X5/16", 0.10873),   # r/t = 1.6, the largest fillet relative to t in the table
     ("L8X8X1", 5.0775),       # r/t = 0.63
@@ -242,8 +225,8 @@ def test_angle_fillet_J_against_finite_differences(designation, J_fd_in4):
     e = catalogue_entry(designation)
     IN = 0.0254
     b, t, r = e.dims["b"] / IN, e.dims["t"] / IN, e.dims["r"] / IN
-    J1 = _prandtl_J(_angle_nodes(t / 16, b, t, r), t / 16)
-    J2 = _prandtl_J(_angle_nodes(t / 32, b, t, r), t / 32)
+    J1 = prandtl_J(angle_nodes(t / 16, b, t, r), t / 16)
+    J2 = prandtl_J(angle_nodes(t / 32, b, t, r), t / 32)
     J_fd = 2.0 * J2 - J1
     assert J_fd == pytest.approx(J_fd_in4, rel=2e-3)            # the solver itself, as measured
     assert catalogue_section(designation).J / IN**4 == pytest.approx(J_fd, rel=3e-3)
@@ -260,8 +243,8 @@ def test_en_angle_it_above_the_outline_J():
     # the outline the table gives, and the 1.7 % to 3.1 % gap in RTOL_FAMILY is the table's.
     e = catalogue_entry("L 80x80x8")
     b, t, r, r2 = (e.dims[k] * 1e3 for k in ("b", "t", "r", "r2"))      # mm
-    J1 = _prandtl_J(_angle_nodes(t / 16, b, t, r, r2), t / 16)
-    J2 = _prandtl_J(_angle_nodes(t / 32, b, t, r, r2), t / 32)
+    J1 = prandtl_J(angle_nodes(t / 16, b, t, r, r2), t / 16)
+    J2 = prandtl_J(angle_nodes(t / 32, b, t, r, r2), t / 32)
     assert catalogue_section("L 80x80x8").J * 1e12 == pytest.approx(2.0 * J2 - J1, rel=3e-3)
     for d in catalogue_designations("L equal EN"):
         e = catalogue_entry(d)
@@ -307,30 +290,6 @@ def test_fillets_in_the_deck_registry():
     assert s == ishape(0.3, 0.3, 0.019, 0.011, r=0.027)
 
 
-def _prandtl_J(inside, h):
-    """Saint-Venant J by finite differences of Prandtl's stress function on a square grid.
-
-    laplacian(phi) = -2 inside, phi = 0 on the outline and beyond; J = 2 int phi dA. Nodes in
-    ``inside`` are the unknowns (the 5-point stencil reads 0 at every other node).
-    """
-    import scipy.sparse as sp
-    import scipy.sparse.linalg as spl
-
-    idx = -np.ones(inside.shape, int)
-    n = int(inside.sum())
-    idx[inside] = np.arange(n)
-    I, K = np.nonzero(inside)
-    rows, cols, vals = [np.arange(n)], [np.arange(n)], [np.full(n, -4.0)]
-    for di, dk in ((1, 0), (-1, 0), (0, 1), (0, -1)):
-        nb = idx[I + di, K + dk]
-        ok = nb >= 0
-        rows.append(np.arange(n)[ok])
-        cols.append(nb[ok])
-        vals.append(np.ones(ok.sum()))
-    L = sp.csc_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))), shape=(n, n))
-    return 2.0 * spl.spsolve(L, np.full(n, -2.0 * h * h)).sum() * h * h
-
-
 def _i_nodes(h, d, bf, tf, tw, r):
     """Grid nodes strictly inside an I shape with root fillets (mm); edges lie on grid lines."""
     y = np.arange(-bf / 2, bf / 2 + h / 2, h)
@@ -355,8 +314,8 @@ def test_ishape_fillet_J_against_finite_differences():
     # El Darwish & Johnston's closed form, a fit to numerical solutions, gives 189.18 (+0.95 %).
     # rtol 2e-3 is the finite differences' own error; the closed form lies outside it.
     dims = (300.0, 300.0, 19.0, 11.0, 27.0)
-    J1 = _prandtl_J(_i_nodes(0.5, *dims), 0.5)
-    J2 = _prandtl_J(_i_nodes(0.25, *dims), 0.25)
+    J1 = prandtl_J(_i_nodes(0.5, *dims), 0.5)
+    J2 = prandtl_J(_i_nodes(0.25, *dims), 0.25)
     J_fd = (2.0 * J2 - J1) * 1e-12                      # mm^4 -> m^4
     s = ishape(0.300, 0.300, 0.019, 0.011, r=0.027)
     assert J_fd == pytest.approx(187.39e-8, rel=2e-3)   # the solver itself, as measured above

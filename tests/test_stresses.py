@@ -15,6 +15,7 @@ relative); responses built on eigenvectors agree to their residual (1e-6).
 
 import numpy as np
 import pytest
+from shared_decks import TWO_MASS_COLUMN
 
 import fem
 from fem.analysis.stress import member_stresses
@@ -193,16 +194,7 @@ def test_portal_frame_columns_against_hand_statics():
 
 SPECTRUM = """
 material S { E = 200 GPa, nu = 0.3, density = 0 kg/m^3 }
-section P = rect(b = 120 mm, h = 200 mm)
-node A = (0, 0, 0)
-node B = (0, 0, 3 m)
-node C = (0, 0, 6 m)
-member M1 : A -> B beam P S
-member M2 : B -> C beam P S
-support A fixed
-mass B = 2 t
-mass C = 1 t
-case MODES modes { count = 6 }
+""" + TWO_MASS_COLUMN + """case MODES modes { count = 6 }
 case EQ spectrum { curve = plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s), directions = (0, 1, 0),
                    combine = RULE, damping = 5 percent }
 """

@@ -4,23 +4,15 @@ the rest of its chunk solves. The reference is the serial path in this process."
 
 import numpy as np
 import pytest
+from shared_decks import STUDY_CANTILEVER
 
 from fem.study import read_study_text, run_study
 from fem.study.engine import GUIDED, MIN_CHUNK, chunks
 
 distributed = pytest.importorskip("distributed", reason="dask.distributed is not installed")
 
-# a 1.8 m steel cantilever whose depth varies (our own test model); -1 mm is refused by the deck
-CANTILEVER = """
-let h = 100 mm
-material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
-section R = rect(b = 100 mm, h = h)
-for i in 0..6 { node N[i] = (i*0.3 m, 0, 0) }
-for i in 0..5 { member M[i] : N[i] -> N[i+1] beam R S }
-support N0 fixed
-case MODES modes { count = 3 }
-case TIP static { force N6 = (0, 1 kN, -2 kN) }
-"""
+# the studies' cantilever (tests/shared_decks.py) with a tip load; -1 mm is refused by the deck
+CANTILEVER = STUDY_CANTILEVER + "case TIP static { force N6 = (0, 1 kN, -2 kN) }\n"
 STUDY = ('deck "cant.deck"\nvary h in (80 mm, 90 mm, -1 mm, 100 mm, 110 mm, 120 mm, 130 mm)\n'
          'peak tip = TIP displacement N6 z\n')
 STATUS = ["ok", "ok", "refused", "ok", "ok", "ok", "ok"]

@@ -8,22 +8,14 @@ import warnings
 
 import numpy as np
 import pytest
+from shared_decks import STUDY_CANTILEVER
 
 from fem.study import read_study_text, run_study
 from fem.study.engine import QUIET_CLUSTER
 
 distributed = pytest.importorskip("distributed", reason="dask.distributed is not installed")
 
-# a 1.8 m steel cantilever whose depth varies (our own test model)
-CANTILEVER = """
-let h = 100 mm
-material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
-section R = rect(b = 100 mm, h = h)
-for i in 0..6 { node N[i] = (i*0.3 m, 0, 0) }
-for i in 0..5 { member M[i] : N[i] -> N[i+1] beam R S }
-support N0 fixed
-case MODES modes { count = 3 }
-"""
+CANTILEVER = STUDY_CANTILEVER           # tests/shared_decks.py
 
 
 def _study(folder, values):
