@@ -3,11 +3,11 @@ same results, to the last bit. A `Results` holds every case by name with its kin
 checks, the self-checks and the solve's notes."""
 
 import copy
-import dataclasses
 from pathlib import Path
 
 import numpy as np
 import pytest
+from same import assert_same as _same
 
 from fem import solve
 from fem.deck.reader import read_deck, read_text
@@ -15,35 +15,6 @@ from fem.errors import DeckError
 from fem.notes import Note
 
 ROOT = Path(__file__).resolve().parents[1]
-
-
-def _same(a, b, where="model") -> None:
-    """Assert a and b are equal all the way down: dataclasses field by field, dicts key by key
-    (order too), sequences item by item, arrays bit for bit (dtype, shape, NaN where NaN)."""
-    assert type(a) is type(b), f"{where}: {type(a).__name__} != {type(b).__name__}"
-    if isinstance(a, np.ndarray):
-        assert a.dtype == b.dtype and a.shape == b.shape, where
-        if a.dtype.kind in "fc":
-            assert np.array_equal(a, b, equal_nan=True), where
-        else:
-            assert np.array_equal(a, b), where
-    elif dataclasses.is_dataclass(a):
-        for f in dataclasses.fields(a):
-            _same(getattr(a, f.name), getattr(b, f.name), f"{where}.{f.name}")
-    elif isinstance(a, dict):
-        assert list(a) == list(b), f"{where}: keys {list(a)} != {list(b)}"
-        for k in a:
-            _same(a[k], b[k], f"{where}[{k!r}]")
-    elif isinstance(a, (list, tuple)):
-        assert len(a) == len(b), f"{where}: length {len(a)} != {len(b)}"
-        for i, (x, y) in enumerate(zip(a, b)):
-            _same(x, y, f"{where}[{i}]")
-    elif isinstance(a, float):
-        assert a == b or (np.isnan(a) and np.isnan(b)), f"{where}: {a!r} != {b!r}"
-    elif hasattr(a, "__dict__") and not callable(a):
-        _same(vars(a), vars(b), where)
-    else:
-        assert a == b, f"{where}: {a!r} != {b!r}"
 
 
 # every kind of case: static, a combination, modes, free, history, harmonic, spectrum; and a

@@ -4,6 +4,7 @@ the rest of its chunk solves. The reference is the serial path in this process."
 
 import numpy as np
 import pytest
+from same import assert_same_columns as _same
 from shared_decks import STUDY_CANTILEVER
 
 from fem.study import read_study_text, run_study
@@ -16,19 +17,6 @@ CANTILEVER = STUDY_CANTILEVER + "case TIP static { force N6 = (0, 1 kN, -2 kN) }
 STUDY = ('deck "cant.deck"\nvary h in (80 mm, 90 mm, -1 mm, 100 mm, 110 mm, 120 mm, 130 mm)\n'
          'peak tip = TIP displacement N6 z\n')
 STATUS = ["ok", "ok", "refused", "ok", "ok", "ok", "ok"]
-
-
-def _same(a, b):
-    """Every column but the timings equal, to the bit (NaN where a variant did not solve)."""
-    assert a.columns.keys() == b.columns.keys()
-    for k in a.columns:
-        if k == "seconds":
-            continue
-        x, y = a.columns[k], b.columns[k]
-        if isinstance(x[0], float):
-            np.testing.assert_array_equal(np.array(x, float), np.array(y, float), err_msg=k)
-        else:
-            assert x == y, k
 
 
 def test_chunks_cover_the_variants_in_order_once():

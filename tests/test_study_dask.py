@@ -8,8 +8,8 @@ import sys
 import time
 from pathlib import Path
 
-import numpy as np
 import pytest
+from same import assert_same_columns as _same
 
 from fem.study import read_study_text, run_study
 
@@ -26,18 +26,6 @@ case MODES modes { count = 3 }
 case TIP static { force N12 = (0, 1 kN, -2 kN) }
 """
 STUDY = 'deck "cant.deck"\nvary h in (80 mm, 95 mm, 105 mm, -1 mm, 120 mm)\npeak tip = TIP displacement N12 z\n'
-
-
-def _same(a, b):
-    """Every column but the timings equal, to the bit (NaN where a variant did not solve)."""
-    for k in a.columns:
-        if k == "seconds":
-            continue
-        x, y = a.columns[k], b.columns[k]
-        if isinstance(x[0], float):
-            np.testing.assert_array_equal(np.array(x, float), np.array(y, float), err_msg=k)
-        else:
-            assert x == y, k
 
 
 @pytest.fixture(scope="module")

@@ -12,7 +12,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from test_fast_reader import _TEXTS, _mutated, _outcome, _same
+from same import assert_same as _same
+from test_fast_reader import _TEXTS, _mutated, _outcome
 
 import fem
 from fem.deck import fast_lines
