@@ -29,7 +29,7 @@ __all__ = ["StudyError", "chunks", "on_dask", "serial", "wait_closed"]
 
 CONNECT_TIMEOUT = "20s"     # our choice: a scheduler on this network answers in well under a second
 # our choice: each task takes 1/(GUIDED * workers) of the variants left: with 2 workers a sweep
-# of 200 variants goes in 19 tasks of 50, 38, 28 ... 3, 2, 2 variants, so the first tasks pay
+# of 200 variants goes in 15 tasks of 50, 38, 28 ... 2, 2, 1 variants, so the first tasks pay
 # Dask's per-task costs over many variants and the last ones leave a worker idle for about the
 # time of two variants rather than half a chunk of 12 (equal chunks, 8 a worker, did so)
 GUIDED = 2
@@ -130,7 +130,7 @@ def _run(client, job: Job, groups: list[list], n: int, progress: bool) -> dict[i
 
     # the Job as a task of its own rather than scattered: the scheduler can compute it again
     # should every worker holding it be lost, where scattered data would be gone for good
-    shared = client.submit(_same, job, pure=False)
+    shared = client.submit(_as_task, job, pure=False)
 
     def submit(g):
         return client.submit(run_chunk, shared, [(v.index, v.let) for v in g], pure=False)
@@ -201,7 +201,8 @@ def wait_closed() -> None:
         _CLOSING.pop().join()
 
 
-def _same(x):
+def _as_task(x):
+    """x itself: what a task returns to hold x on the workers as a result Dask can recompute."""
     return x
 
 
