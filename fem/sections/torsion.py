@@ -303,7 +303,7 @@ def ishape_torsion_constant(d: float, bf: float, tf: float, tw: float, r: float,
     -------
     float
         J, within about 1e-4 of the exact value of the outline at the default n (measured
-        against finer meshes in tests/test_torsion.py).
+        against finer meshes in tests/test_ishape_torsion.py).
 
     Examples
     --------
