@@ -5,21 +5,25 @@ through the API, and the serial API against `quaver run` started once per varian
 PYTHONPATH=. python benchmarks/study.py [variants] [subprocesses] [--rounds N] [--quick]
 (targets: cluster >= 1.7x the serial API; serial API >= 5x faster per variant than `quaver run`)
 
-Each round runs, one after another, the serial study (in a child process, so that it pays its
-imports and first solves as the cluster's workers do), the cluster with the default chunks
-(several variants a task) and the cluster with one variant a task (these two in alternating
-order from round to round), then two serial children of half the variants each side by side
-(no Dask: what two plain processes get from the machine at that moment, the cluster's ideal);
-a round's ratios share its load. Dask's workers run BLAS on one thread; the serial study and the `quaver run` processes
-are started with the same setting (OPENBLAS_NUM_THREADS=1 and the like), so the ratios compare
-the engines, not BLAS threading. `quaver run` is started `subprocesses` times (default 15, 0:
-not timed; values spread over the same range), each writing its results folder without
-pictures, as a user's script would. Where the cluster's time goes comes from
-`StudyResult.phases`: starting the cluster, then per variant its reading and solving on a
-worker and the rest of the workers' time (scheduling, transfer, waiting), against the serial
-per-variant time. The load average is printed with each round, since these machines are shared,
-and the CPU seconds of each engine (the serial child; the cluster's scheduler, nannies and
-workers), which the load does not inflate as it does wall time.
+Each round runs, one after another and each in a fresh child process (`fem.study` imported
+before the clock starts, so that every engine pays what it imports on its way and its first
+solves, as a user's process would: the cluster the import of dask.distributed and its workers'
+start), the serial study, the cluster with the default chunks (several variants a task) and the
+cluster with one variant a task (these two in alternating order from round to round), then two
+serial children of half the variants each side by side (no Dask: what two plain processes get
+from the machine at that moment, the cluster's ideal); a round's ratios share its load. Dask's
+workers run BLAS on one thread; every child and the `quaver run` processes are started with the
+same setting (OPENBLAS_NUM_THREADS=1 and the like), so the ratios compare the engines, not BLAS
+threading. The cluster's workers are forked from their child on Linux (fem.study.engine.
+start_method; DASK_DISTRIBUTED__WORKER__MULTIPROCESSING_METHOD=spawn in the environment measures
+spawned ones). `quaver run` is started `subprocesses` times (default 15, 0: not timed; values
+spread over the same range), each writing its results folder without pictures, as a user's
+script would. Where the cluster's time goes comes from `StudyResult.phases`: starting the
+cluster, then per variant its reading and solving on a worker and the rest of the workers' time
+(scheduling, transfer, waiting), against the serial per-variant time. The load average is
+printed with each round, since these machines are shared, and the CPU seconds of each engine
+(the child and the processes it started: a cluster's workers), which the load does not inflate
+as it does wall time.
 --quick: 40 variants, 3 subprocesses.
 """
 
@@ -47,12 +51,18 @@ def _study(n: int):
     return read_study_text(text, "bench.study", ROOT / "decks")
 
 
-def _serial_child(n: int) -> None:
-    """In a process started with one BLAS thread: the serial study; prints its numbers as JSON."""
+def _child(n: int, engine: str) -> None:
+    """In a process started with one BLAS thread, `fem.study` imported: the study run serially
+    (`serial`) or on a local cluster of 2 workers with the default chunks (`chunks`) or one
+    variant a task (`single`); prints its numbers as JSON. Each engine so pays in its timing what
+    it imports on its way (the cluster: dask.distributed here, the workers' start) and its first
+    solves, as a user's fresh process would; the wall ends when the results are in (a cluster then
+    closes in the background, and this process waits for it before it ends)."""
     from fem.study import run_study
 
+    kw = {"serial": dict(serial=True), "chunks": dict(workers=2), "single": dict(workers=2, chunk=1)}[engine]
     t0 = time.perf_counter()
-    r = run_study(_study(n), serial=True, progress=False)
+    r = run_study(_study(n), progress=False, **kw)
     wall = time.perf_counter() - t0
     print(json.dumps({"wall": wall, "phases": r.phases,
                       "freq": [x["modes"]["MODES"]["freq"].tolist() for x in r.results]}))
@@ -68,19 +78,14 @@ def _cpu() -> float:
     return a.ru_utime + a.ru_stime + b.ru_utime + b.ru_stime
 
 
-def _cluster(n: int, chunk: int | None):
-    """Wall seconds (until the results are in: the cluster then closes in the background), CPU
-    seconds (the scheduler and client here, the workers once the cluster is closed and they are
-    reaped) and the StudyResult of one run on 2 workers."""
-    from fem.study import run_study
-
-    from fem.study.engine import wait_closed
-
-    c0, t0 = _cpu(), time.perf_counter()
-    r = run_study(_study(n), workers=2, progress=False, chunk=chunk)
-    wall = time.perf_counter() - t0
-    wait_closed()                   # the cluster closes in the background: its processes' CPU counted
-    return wall, _cpu() - c0, r
+def _run_child(n: int, engine: str, env: dict) -> tuple[float, float, dict]:
+    """Wall seconds (measured inside the child), CPU seconds (the child and every process it
+    started: a cluster's workers) and the child's numbers, for one study in a fresh process."""
+    c0 = _cpu()
+    out = subprocess.run([sys.executable, __file__, "--child", str(n), engine], env=env, check=True,
+                         capture_output=True, text=True).stdout
+    got = json.loads(out.strip().splitlines()[-1])
+    return got["wall"], _cpu() - c0, got
 
 
 def _halves(n: int, env: dict) -> tuple[float, float]:
@@ -88,7 +93,7 @@ def _halves(n: int, env: dict) -> tuple[float, float]:
     is) and CPU seconds of two serial children of n/2 variants each run side by side: what two
     plain processes get from this machine now, the cluster's ideal at the same load."""
     c0 = _cpu()
-    procs = [subprocess.Popen([sys.executable, __file__, "--serial-child", str(n // 2)], env=env,
+    procs = [subprocess.Popen([sys.executable, __file__, "--child", str(n // 2), "serial"], env=env,
                               stdout=subprocess.PIPE, text=True) for _ in range(2)]
     walls = [json.loads(p.communicate()[0].strip().splitlines()[-1])["wall"] for p in procs]
     if any(p.returncode for p in procs):
@@ -117,19 +122,15 @@ def main(n: int = 200, runs: int = 15, rounds: int = 1) -> None:
     ratios, worst, last, cpus, ideal = [], 0.0, None, [], []
     for k in range(rounds):
         load0 = _load()
-        c0 = _cpu()
-        out = subprocess.run([sys.executable, __file__, "--serial-child", str(n)], env=env, check=True,
-                             capture_output=True, text=True).stdout
-        c_serial = _cpu() - c0
-        serial = json.loads(out.strip().splitlines()[-1])
+        _, c_serial, serial = _run_child(n, "serial", env)
         if k % 2:                                  # the two clusters' order alternates between rounds
-            t_single, c_single, single = _cluster(n, 1)
-            t_chunked, c_chunked, chunked = _cluster(n, None)
+            t_single, c_single, single = _run_child(n, "single", env)
+            t_chunked, c_chunked, chunked = _run_child(n, "chunks", env)
         else:
-            t_chunked, c_chunked, chunked = _cluster(n, None)
-            t_single, c_single, single = _cluster(n, 1)
-        worst = max([worst] + [float(np.abs(np.array(a) / b["modes"]["MODES"]["freq"] - 1).max())
-                               for a, b in zip(serial["freq"], chunked.results)])
+            t_chunked, c_chunked, chunked = _run_child(n, "chunks", env)
+            t_single, c_single, single = _run_child(n, "single", env)
+        worst = max([worst] + [float(np.abs(np.array(a) / np.array(b) - 1).max())
+                               for a, b in zip(serial["freq"], chunked["freq"])])
         t_halves, c_halves = _halves(n, env)
         ratios.append((serial["wall"] / t_chunked, serial["wall"] / t_single))
         ideal.append((serial["wall"] / t_halves, t_halves / t_chunked))
@@ -160,8 +161,8 @@ def main(n: int = 200, runs: int = 15, rounds: int = 1) -> None:
     print()
     print("| engine | start s | tasks | read | solve | workers' other time (scheduling, transfer, idle) | wall a variant |")
     print("|---|---|---|---|---|---|---|")
-    for name, ph in (("serial API", serial["phases"]), ("2 workers, chunks", chunked.phases),
-                     ("2 workers, 1 a task", single.phases)):
+    for name, ph in (("serial API", serial["phases"]), ("2 workers, chunks", chunked["phases"]),
+                     ("2 workers, 1 a task", single["phases"])):
         wall = ph["prepare"] + ph["start"] + ph["run"]
         print(f"| {name} | {ph['start']:.2f} | {ph['tasks']} | {ph['read'] / n * 1e3:.1f} | {ph['solve'] / n * 1e3:.1f} "
               f"| {ph['overhead'] / n * 1e3:.1f} | {wall / n * 1e3:.1f} |")
@@ -182,8 +183,8 @@ def main(n: int = 200, runs: int = 15, rounds: int = 1) -> None:
 
 
 if __name__ == "__main__":
-    if sys.argv[1:2] == ["--serial-child"]:
-        _serial_child(int(sys.argv[2]))
+    if sys.argv[1:2] == ["--child"]:
+        _child(int(sys.argv[2]), sys.argv[3])
     else:
         args = sys.argv[1:]
         rounds = int(args[args.index("--rounds") + 1]) if "--rounds" in args else 1

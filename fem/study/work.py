@@ -14,8 +14,8 @@ with the exception's type and text. Neither stops the study.
 
 from __future__ import annotations
 
-import atexit
 import hashlib
+import os
 import shutil
 import tempfile
 import time
@@ -91,13 +91,19 @@ def bundle(deck, let: dict | None = None) -> Bundle:
 
 
 _FOLDERS: dict[str, Path] = {}      # bundle digest -> where this process wrote it
+if hasattr(os, "register_at_fork"):     # a forked worker writes its own (its parent removes these)
+    os.register_at_fork(after_in_child=_FOLDERS.clear)
 
 
 def _folder(b: Bundle) -> Path:
     where = _FOLDERS.get(b.digest)
     if where is None:
+        from multiprocessing.util import Finalize
+
         where = Path(tempfile.mkdtemp(prefix="quaver-study-"))
-        atexit.register(shutil.rmtree, where, True)
+        # removed when this process ends: multiprocessing runs these finalizers both at an
+        # interpreter's exit and at the end of a forked child, which skips the atexit handlers
+        Finalize(None, shutil.rmtree, args=(where, True), exitpriority=0)
         for rel, data in b.files.items():
             p = where / rel
             p.parent.mkdir(parents=True, exist_ok=True)

@@ -1,0 +1,71 @@
+"""How a local cluster's workers start (forked on Linux unless the user chose otherwise in Dask's
+configuration), and what a worker leaves behind: the temporary folder holding its copy of the
+deck goes with the process, forked or spawned, while its parent's copy stays."""
+
+import multiprocessing as mp
+import sys
+
+import pytest
+from same import assert_same_columns as _same
+from shared_decks import STUDY_CANTILEVER
+
+from fem.study import read_study_text, run_study
+from fem.study.engine import START_ENV, start_method, wait_closed
+from fem.study.work import Bundle, _folder
+
+distributed = pytest.importorskip("distributed", reason="dask.distributed is not installed")
+
+STUDY = 'deck "cant.deck"\nvary h in (80 mm, 90 mm, -1 mm, 100 mm, 110 mm)\n'
+BUNDLE = Bundle("cant.deck", {"cant.deck": STUDY_CANTILEVER.encode()}, "0123456789abcdef")
+
+
+def test_workers_fork_on_linux_unless_the_user_chose(monkeypatch):
+    monkeypatch.delenv(START_ENV, raising=False)
+    assert start_method() == ("fork" if sys.platform.startswith("linux") else "spawn")
+    for method in ("spawn", "forkserver"):
+        monkeypatch.setenv(START_ENV, method)
+        assert start_method() == method
+
+
+def _child_folder(q):
+    q.put(str(_folder(BUNDLE)))
+
+
+@pytest.mark.parametrize("method", ["fork", "spawn"])
+def test_a_child_process_removes_its_own_copy_of_the_deck(method, tmp_path, monkeypatch):
+    if method not in mp.get_all_start_methods():
+        pytest.skip(f"no {method} on this platform")
+    monkeypatch.setenv("TMPDIR", str(tmp_path))
+    monkeypatch.setattr("tempfile.tempdir", None)
+    mine = _folder(BUNDLE)
+    ctx = mp.get_context(method)
+    q = ctx.Queue()
+    p = ctx.Process(target=_child_folder, args=(q,))
+    p.start()
+    theirs = q.get(timeout=60)
+    p.join(60)
+    assert p.exitcode == 0
+    assert theirs != str(mine) and theirs.startswith(str(tmp_path))     # a copy of its own
+    assert not (tmp_path / theirs).exists()                             # gone with the child
+    assert (mine / "cant.deck").read_text() == STUDY_CANTILEVER         # the parent's stays
+
+
+@pytest.mark.parametrize("method", [None, "spawn"])
+def test_forked_and_spawned_workers_give_the_serial_numbers_and_leave_no_copies(method, tmp_path, monkeypatch):
+    folder = tmp_path / "study"
+    folder.mkdir()
+    (folder / "cant.deck").write_text(STUDY_CANTILEVER)
+    s = read_study_text(STUDY, "t.study", folder)
+    serial = run_study(s, serial=True, progress=False)
+    scratch = tmp_path / "tmp"
+    scratch.mkdir()
+    if method:
+        monkeypatch.setenv(START_ENV, method)
+    monkeypatch.setenv("TMPDIR", str(scratch))          # the workers' temporary folders
+    monkeypatch.setattr("tempfile.tempdir", None)
+    local = run_study(s, workers=2, progress=False)
+    wait_closed()
+    assert local.columns["status"] == ["ok", "ok", "refused", "ok", "ok"]
+    _same(serial, local)
+    assert (scratch / "dask-scratch-space").is_dir()     # the workers did use this folder
+    assert not list(scratch.glob("quaver-study-*"))
