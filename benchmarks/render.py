@@ -63,8 +63,6 @@ def _run(deck: Path, out: Path, *extra: str, code: Path = ROOT) -> float:
     r = subprocess.run([sys.executable, "-m", "fem", "run", str(deck), "--out", str(out), *extra],
                        cwd=code, env=env, capture_output=True, text=True)
     dt = time.perf_counter() - t0
-    after = resource.getrusage(resource.RUSAGE_CHILDREN)
-    CPU.append(after.ru_utime - before.ru_utime + after.ru_stime - before.ru_stime)
     if r.returncode != 0:
         raise SystemExit(f"quaver run failed ({r.returncode}):\n{r.stdout[-2000:]}{r.stderr[-2000:]}")
     return dt
@@ -155,8 +153,6 @@ def frame(members: int, jobs: int) -> None:
         t0 = time.perf_counter()
         files = render_all(Path(tmp), model, [case], [], shape_scale(model), jobs)
         dt = time.perf_counter() - t0
-    after = resource.getrusage(resource.RUSAGE_CHILDREN)
-    CPU.append(after.ru_utime - before.ru_utime + after.ru_stime - before.ru_stime)
     print(f"{model.n_members} members, 6 modes: {len(files)} files (2 PNG and a {MODE_FRAMES}-frame WebP a mode) "
           f"in {dt:.1f} s with {jobs} process(es); load average {_load()}")
 
