@@ -63,6 +63,8 @@ def _run(deck: Path, out: Path, *extra: str, code: Path = ROOT) -> float:
     r = subprocess.run([sys.executable, "-m", "fem", "run", str(deck), "--out", str(out), *extra],
                        cwd=code, env=env, capture_output=True, text=True)
     dt = time.perf_counter() - t0
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    CPU.append(after.ru_utime - before.ru_utime + after.ru_stime - before.ru_stime)
     if r.returncode != 0:
         raise SystemExit(f"quaver run failed ({r.returncode}):\n{r.stdout[-2000:]}{r.stderr[-2000:]}")
     return dt

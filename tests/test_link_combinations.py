@@ -12,9 +12,9 @@ elastic end force brings the inertia to the support with no carried-inertia term
 
 import numpy as np
 import pytest
+from shared_decks import COUNTERWEIGHT_FRAME
 
 import fem
-from shared_decks import COUNTERWEIGHT_FRAME
 
 BASE = COUNTERWEIGHT_FRAME + """
 case MODES modes { count = 30 }

@@ -10,9 +10,9 @@ import json
 
 import numpy as np
 import pytest
+from shared_decks import COUNTERWEIGHT_FRAME
 
 import fem
-from shared_decks import COUNTERWEIGHT_FRAME
 
 K, M = 1e5, 100.0
 W = np.sqrt(K / M)

@@ -4,11 +4,11 @@ against a direct complex eigen solve, and in a harmonic case."""
 import numpy as np
 import pytest
 import scipy.linalg as sla
+from shared_decks import ISOLATED_PAIR, ISOLATED_SDOF
 
 from fem import solve
 from fem.analysis.spring_damping import spring_ratios
 from fem.deck.reader import read_text
-from shared_decks import ISOLATED_PAIR, ISOLATED_SDOF
 
 TWO = ISOLATED_PAIR.replace("(uz = 1 MN/m)\n", "(uz = 1 MN/m) damping = ZETA\n")
 

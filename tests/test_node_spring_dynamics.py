@@ -3,11 +3,11 @@ against closed forms (sources beside each) and against full solves."""
 
 import numpy as np
 import pytest
+from shared_decks import ISOLATED_PAIR, ISOLATED_SDOF
 
 from fem import solve
 from fem.analysis.sensitivity import frequency_sensitivity
 from fem.deck.reader import read_text
-from shared_decks import ISOLATED_PAIR, ISOLATED_SDOF
 
 K, M = 250e3, 400.0
 WN = np.sqrt(K / M)

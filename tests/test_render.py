@@ -99,6 +99,7 @@ def test_run_writes_pictures_and_animations(deck, tmp_path):
     import h5py
     import numpy as np
     from PIL import Image
+
     from fem.output.render import MODE_FRAMES
     anim = Image.open(out / "pictures" / "MODES_mode_001.webp")
     assert anim.n_frames == MODE_FRAMES == 16    # each frame's time caption differs, so none is merged

@@ -228,10 +228,11 @@ def test_reaction_and_end_force_tables_in_display_units(chosen, force, moment):
     """A cantilever pipe with an arm, pushed sideways at the arm's tip: the base reaction is the
     push reversed and the moment of the push about the base (statics of a rigid body: R = -F,
     M = -r x F), shown in the units the document chose; the torque in the column is |r x F|_z."""
+    from shared_decks import PIPE_ARM
+
     import fem
     from fem.display import parse_units
     from fem.output.report import case_tables
-    from shared_decks import PIPE_ARM
 
     res = fem.solve(fem.read_text(PIPE_ARM + "case PUSH static { force H = (0, 2 kN, 0) }\n"))
     u = parse_units(chosen)

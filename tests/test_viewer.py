@@ -14,10 +14,10 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from shared_decks import TINY_CANTILEVER
 
 from fem import read_deck, read_text, solve, write_results
 from fem.output import pictures, viewer
-from shared_decks import TINY_CANTILEVER
 
 ROOT = Path(__file__).parents[1]
 RACK = ROOT / "decks" / "rack.deck"

@@ -295,5 +295,5 @@ def envelope(name: str, results, sizes: dict) -> EnvelopeResult:
     return EnvelopeResult(name, tuple(r.name for r in results), fields)
 
 
-from . import stress_field  # noqa: E402,F401  (registers the "stress" field; it imports this module)
-from . import link_field  # noqa: E402,F401  (registers the "link_force" field)
+from . import stress_field  # noqa: E402,F401,I001  (registers the "stress" field; it imports this module)
+from . import link_field  # noqa: E402,F401,I001  (registers the "link_force" field)

@@ -10,10 +10,10 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
-from .spring_damping import spring_ratios
 from .free import free_response, modal_initial_conditions
 from .memory import check_memory
 from .modal_case import ModesCaseResult, field_responses
+from .spring_damping import spring_ratios
 
 __all__ = ["animation_frames", "frame_indices", "FreeCaseResult", "inertia_balance", "peak_index", "peaks",
            "solve_free_case", "step_warnings"]

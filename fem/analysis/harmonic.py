@@ -28,9 +28,9 @@ from ..harmonic_forms import complex_amplitude, growth
 from ..limits import ROWS_LIMIT
 from ..model import LoadCase, Model
 from .damping import case_ratios
-from .spring_damping import spring_ratios
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
+from .spring_damping import spring_ratios
 from .static import load_vector
 from .vibration_check import check_limits, limit_frequencies
 

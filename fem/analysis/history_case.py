@@ -12,13 +12,13 @@ import numpy as np
 from ..assembly import Assembled
 from ..model import LoadCase, Model
 from .damping import case_ratios
-from .spring_damping import spring_ratios
 from .free_case import frame_indices, peak_index, peaks, step_warnings
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
 from .recurrence import integrate_modal, knot_kicks
-from .static import line_loads, load_vector
+from .spring_damping import spring_ratios
 from .spring_forces import series_springs
+from .static import line_loads, load_vector
 from .stress import series_stresses
 
 __all__ = ["HistoryResult", "HistorySeries", "series_basis", "solve_history_case"]

@@ -97,7 +97,7 @@ def integrate_modal(omega, zeta, dt, p, q0=None, v0=None, kicks=None):
     per output (scipy.signal.lfilter) with denominator a = 1 - (A + Bp) z^-1 + (A Bp - B Ap) z^-2:
     q = ((1 - Bp z^-1) w_q + B z^-1 w_v) / a and v = (Ap z^-1 w_q + (1 - A z^-1) w_v) / a.
     """
-    from scipy.signal import lfilter         # here, not at the top: scipy.signal takes ~0.5 s to import
+    from scipy.signal import lfilter  # here, not at the top: scipy.signal takes ~0.5 s to import
 
     c = recurrence_coefficients(omega, zeta, dt)
     p = np.asarray(p, dtype=float)

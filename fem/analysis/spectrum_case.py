@@ -15,9 +15,9 @@ from ..errors import ModelError
 from ..model import LoadCase, Model
 from .damping import case_ratios
 from .link_dynamics import carried_ground, carried_inertia
-from .spring_damping import spring_ratios
 from .modal_case import ModesCaseResult, field_responses, ground_mass_warnings
 from .modal_sum import combine, combine_directions, cqc_correlation
+from .spring_damping import spring_ratios
 from .spring_forces import spectrum_springs
 from .stress import spectrum_stresses
 

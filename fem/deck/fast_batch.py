@@ -57,7 +57,7 @@ def _together(st, items: list, path, shown: str, src: list[str]) -> list:
     if nodes:
         for c, (s, n, u) in enumerate(_XYZ):
             xyz[:, c] = _si(st.ev, cols[s], cols[n], cols[u], U.LENGTH)
-        from .statements import MAX_COORDINATE        # (statements imports the reader of quick lines)
+        from .statements import MAX_COORDINATE  # (statements imports the reader of quick lines)
         if np.abs(xyz).max() > MAX_COORDINATE:
             raise _Refused
     if st.defs.taken(node_names + member_names):

@@ -23,10 +23,10 @@ from pathlib import Path
 from ..errors import DeckError
 from ..model import Model
 from ..notes import Note
+from . import fast_lines
 from .build import build
 from .case_options import CaseOptions
 from .definitions import Definitions
-from . import fast_lines
 from .expressions import Evaluator
 from .sources import Sources, file_name
 from .statements import Statements

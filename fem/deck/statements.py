@@ -16,9 +16,8 @@ from ..geometry import offset_mass
 from ..model import DIRECTIONS, Material, Section
 from ..notes import Note
 from ..sections import CATALOGUE, SHAPES, catalogue_designations, catalogue_entry, make_section
-from . import fast_batch, fast_lines
+from . import fast_batch, fast_lines, vector_loops
 from . import units as U
-from . import vector_loops
 from .definitions import NO_RELEASES, Definitions
 from .excitations import excitation_statement
 from .expressions import WILD, Evaluator

@@ -196,7 +196,7 @@ class _Body:
 
     # ---------- statements (Statements.st_node, st_member, st_support, st_mass)
     def st_node(self, s):
-        from .statements import MAX_COORDINATE        # (statements imports this module)
+        from .statements import MAX_COORDINATE  # (statements imports this module)
 
         names, where = self.name(s.children[0]), self.st.loc(s)
         vec = s.children[1]

@@ -422,7 +422,6 @@ def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
     `animation.write_animation`). Frames are taken from the live plotter (points updated in
     place), so one context serves every frame."""
     from .animation import write_animation
-
     from .caption import FIXED_FROM, FixedCaption
 
     p.render_window.SetSize(*size)

@@ -16,9 +16,9 @@ from ..analysis.static import precision_lines
 from . import buckling_out, limits_out, resonance_out
 from .fmt import percent
 from .results_json import CAUTION
+from .springs_out import summary_lines as springs_summary
 from .stress_out import summary_lines as stress_summary
 from .stress_out import units_of
-from .springs_out import summary_lines as springs_summary
 
 __all__ = ["print_solved", "print_summary", "print_written"]
 
