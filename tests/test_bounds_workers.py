@@ -14,6 +14,7 @@ import uuid
 from pathlib import Path
 
 import pytest
+from interrupts import sigint_as_at_a_terminal
 
 from fem.output.render import can_render
 
@@ -74,7 +75,7 @@ def _start(tmp_path, mark):
     env.pop("QUAVER_NO_GL", None)
     return subprocess.Popen([sys.executable, "-m", "fem", "run", str(deck), "--out", str(tmp_path / "res"),
                              "--jobs", "2"], cwd=ROOT, env=env, stdout=subprocess.PIPE,
-                            stderr=subprocess.PIPE, start_new_session=True)
+                            stderr=subprocess.PIPE, start_new_session=True, preexec_fn=sigint_as_at_a_terminal)
 
 
 def _wait_for_workers(proc, count: int = 2, timeout: float = 240.0) -> list[int]:

@@ -9,6 +9,7 @@ import time
 from pathlib import Path
 
 import pytest
+from interrupts import sigint_as_at_a_terminal
 from shared_decks import TINY_CANTILEVER
 
 import fem.output.folder as folder
@@ -346,7 +347,7 @@ from fem.cli import main
 sys.exit(main(["run", {str(deck)!r}, "--out", {str(out)!r}, "--no-render"]))
 """
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300, cwd=ROOT,
-                       env=dict(os.environ, PYTHONPATH=str(ROOT)))
+                       env=dict(os.environ, PYTHONPATH=str(ROOT)), preexec_fn=sigint_as_at_a_terminal)
     assert r.returncode == 130, r.stderr
     assert (out / "notes.txt").read_text() == "notes"
     if moving == "earlier":
