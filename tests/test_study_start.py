@@ -1,8 +1,10 @@
 """How a local cluster's workers start (forked on Linux unless the user chose otherwise in Dask's
-configuration), and what a worker leaves behind: the temporary folder holding its copy of the
-deck goes with the process, forked or spawned, while its parent's copy stays."""
+configuration), and what a study leaves behind: the temporary folder holding a worker's copy of
+the deck goes with the process, forked or spawned, while its parent's copy stays; the study's
+process keeps its environment."""
 
 import multiprocessing as mp
+import os
 import sys
 
 import pytest
@@ -51,7 +53,7 @@ def test_a_child_process_removes_its_own_copy_of_the_deck(method, tmp_path, monk
 
 
 @pytest.mark.parametrize("method", [None, "spawn"])
-def test_forked_and_spawned_workers_give_the_serial_numbers_and_leave_no_copies(method, tmp_path, monkeypatch):
+def test_forked_and_spawned_workers_give_the_serial_numbers_and_leave_nothing_behind(method, tmp_path, monkeypatch):
     folder = tmp_path / "study"
     folder.mkdir()
     (folder / "cant.deck").write_text(STUDY_CANTILEVER)
@@ -63,8 +65,13 @@ def test_forked_and_spawned_workers_give_the_serial_numbers_and_leave_no_copies(
         monkeypatch.setenv(START_ENV, method)
     monkeypatch.setenv("TMPDIR", str(scratch))          # the workers' temporary folders
     monkeypatch.setattr("tempfile.tempdir", None)
+    for name in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS", "PYTHONHASHSEED"):
+        monkeypatch.delenv(name, raising=False)
+    environment = dict(os.environ)
     local = run_study(s, workers=2, progress=False)
     wait_closed()
+    # the nanny sets its workers' variables (BLAS threads 1 ...) here too: they are taken back
+    assert dict(os.environ) == environment
     assert local.columns["status"] == ["ok", "ok", "refused", "ok", "ok"]
     _same(serial, local)
     assert (scratch / "dask-scratch-space").is_dir()     # the workers did use this folder

@@ -18,6 +18,7 @@ once the results are in (`wait_closed`).
 
 from __future__ import annotations
 
+import contextlib
 import logging
 import math
 import sys
@@ -142,7 +143,7 @@ def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, 
     phases = {} if phases is None else phases
     done = False
     local = {START_KEY: start_method()} if scheduler is None else {}
-    with dask.config.set({**QUIET_CLUSTER, **local}):
+    with dask.config.set({**QUIET_CLUSTER, **local}), _environment_kept():
         t0 = time.perf_counter()
         client, cluster, where = _connect(Client, LocalCluster, workers, scheduler)
         phases["start"] = time.perf_counter() - t0
@@ -208,6 +209,25 @@ def _run(client, job: Job, groups: list[list], n: int, progress: bool) -> dict[i
     for _ in (bar(each_variant(), total=n, label="variants") if progress else each_variant()):
         pass
     return out
+
+
+@contextlib.contextmanager
+def _environment_kept():
+    """This process's environment as it was, afterwards: Dask's nanny sets its workers'
+    variables (OMP_NUM_THREADS=1 and the other BLAS limits, PYTHONHASHSEED, its parent's pid) in
+    the environment of the process that starts them, where they would outlive the study and
+    reach every program it starts later (a notebook's BLAS-heavy tools on one thread)."""
+    import os
+
+    before = dict(os.environ)
+    try:
+        yield
+    finally:
+        for k in [k for k in os.environ if k not in before]:
+            del os.environ[k]
+        for k, v in before.items():
+            if os.environ.get(k) != v:
+                os.environ[k] = v
 
 
 _CLOSING: list = []         # local clusters closing in the background
