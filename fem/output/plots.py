@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import io
 from pathlib import Path
 
 import numpy as np
@@ -26,13 +25,22 @@ def _fig(w=7.0, h=3.6):
 
 
 def _save(plt, fig, path: Path) -> Path:
+    fig.tight_layout()
+    return save_drawn(plt, fig, path)
+
+
+def save_drawn(plt, fig, path: Path) -> Path:
+    """`fig` drawn once and written to `path` as palette PNG (`png`), then closed. Not savefig:
+    after tight_layout it draws the figure twice (once for the layout engine that tight_layout
+    leaves behind, then the picture) and encodes a PNG that would be decoded again here; the
+    canvas's own pixels are the same (every plot of the rack demo byte for byte)."""
     from .png import write_palette_png
 
-    fig.tight_layout()
-    buf = io.BytesIO()
-    fig.savefig(buf, format="png")
-    plt.close(fig)
-    return write_palette_png(path, buf.getvalue())
+    fig.canvas.draw()
+    try:
+        return write_palette_png(path, np.asarray(fig.canvas.buffer_rgba()))
+    finally:
+        plt.close(fig)
 
 
 def plot_participation(path: Path, modal) -> Path:

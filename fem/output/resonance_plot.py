@@ -17,7 +17,6 @@ matplotlib (Agg) is imported only when a diagram is drawn.
 
 from __future__ import annotations
 
-import io
 from pathlib import Path
 
 import numpy as np
@@ -148,11 +147,6 @@ def plot_resonance(path, check, source: str | None = None) -> Path:
     fig = resonance_figure(check, source)          # selects the Agg backend before pyplot is imported here
     import matplotlib.pyplot as plt
 
-    from .png import write_palette_png
+    from .plots import save_drawn
 
-    path = Path(path)
-    buf = io.BytesIO()
-    fig.savefig(buf, format="png")
-    plt.close(fig)
-    write_palette_png(path, buf.getvalue())
-    return path
+    return save_drawn(plt, fig, Path(path))
