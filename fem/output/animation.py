@@ -26,9 +26,10 @@ PALETTE_SAMPLES = 16    # frames the palette is found from; 4 or 8 left the wors
 # lossless encoder effort 0-6: 2 and the smallest-size search as before; 0 gives 60 % larger files
 WEBP_METHOD = 2
 # lossless "quality" is more encoder effort, 0-100: the rack demo's 8 animations (our measurement,
-# best of 2) took 4.96 s to encode at 100, 3.75 s at 50 and 3.62 s at 40, for 2226, 2258 and 2263
-# kB; the same pixels at any setting (lossless)
-WEBP_EFFORT = 50
+# at encoder effort 2 with the smallest-size search) took 4.96 s to encode at 100, 3.82 s at 50,
+# 3.05 s at 25 and 1.89 s at 0, for 2226, 2258, 2310 and 2629 kB: 0 halves the encoding for 16 %
+# more bytes in the animations (2 % of the rack's results folder); the same pixels at any setting
+WEBP_EFFORT = 0
 
 
 def video_available() -> bool:
