@@ -273,5 +273,5 @@ def test_start_support_forces_held_by_the_modes(count):
     R0, Rq = (K @ u0)[root], (K @ u_modes)[root]
     expected = np.abs(Rq - R0).max() / np.abs(R0).max()
     assert free.start_force_error == pytest.approx(expected, rel=1e-9, abs=1e-12)
-    warned = any("support force at the start" in w for w in free.warnings)
+    warned = any("support force at the start" in w.text for w in free.warnings)
     assert warned == (count == 4) and (expected > 0.02) == (count == 4)

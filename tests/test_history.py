@@ -240,7 +240,7 @@ def test_member_peaks_match_direct_integration():
 def test_coarse_step_is_warned_with_the_figure():
     T = 2 * np.pi * np.sqrt(1e6 / K_BAR)
     r = sdof("step", f"{3 * T} s", f"{T / 4} s")
-    assert r.warnings and "coarse" in r.warnings[0] and f"{T / 10:.3g}" in r.warnings[0]
+    assert r.warnings and "coarse" in r.warnings[0].text and f"{T / 10:.3g}" in r.warnings[0].text
     assert not sdof("step", f"{T} s", f"{T / 20} s").warnings
 
 

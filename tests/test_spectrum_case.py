@@ -195,8 +195,9 @@ def test_table_made_for_another_damping_is_scaled_per_mode(tmp_path):
     np.testing.assert_allclose(eq.damping_factor, factor, rtol=1e-6)
     np.testing.assert_allclose(eq.sa[0], 4 * factor, rtol=1e-6)
     assert len(eq.warnings) == 1
-    assert "made for 2 % damping" in eq.warnings[0] and "eta(zeta) / eta(made_for)" in eq.warnings[0]
-    assert eq.warnings[0].startswith("s.deck:12:1: warning: case EQ:")     # located at the case
+    assert "made for 2 % damping" in eq.warnings[0].text and "eta(zeta) / eta(made_for)" in eq.warnings[0].text
+    assert str(eq.warnings[0]).startswith("s.deck:12:1: warning: case EQ:")     # located at the case
+    assert (eq.warnings[0].location.line, eq.warnings[0].kind) == (12, "warning")
     assert not any("does not say" in str(w) for w in m.warnings)
 
 
@@ -233,7 +234,7 @@ def test_made_for_with_a_design_curve_is_refused(tmp_path):
 def test_twoperiod_curve_at_other_damping_is_warned():
     deck = (RAYLEIGH2 % "srss").replace("plateau(0.25 gee, 1.2, 0.15 s, 0.5 s, 2 s)", "twoperiod(0.8 gee, 0.4 gee, 6 s)")
     eq = solve(read_text(deck)).modal[-1]
-    assert len(eq.warnings) == 1 and "5 % damped design spectrum" in eq.warnings[0]
+    assert len(eq.warnings) == 1 and "5 % damped design spectrum" in eq.warnings[0].text
     np.testing.assert_allclose(eq.damping_factor, 1.0)
 
 

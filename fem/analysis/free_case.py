@@ -9,6 +9,7 @@ import numpy as np
 
 from ..assembly import Assembled
 from ..model import LoadCase, Model
+from ..notes import Note
 from .damping import case_ratios
 from .free import free_response, modal_initial_conditions
 from .memory import check_memory
@@ -206,7 +207,7 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
                      f"{100 * START_FORCE_TOL:g} %",)
     ft, frames = animation_frames(t, q, modal.shapes, omega=omega,
                                   must=[peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
-    warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
+    warnings = tuple(Note(case.location, w) for w in warnings)
     rel, rounding, ok = inertia_balance_terms(model, asm, modal, Rm)
     from .stress import series_stresses
 

@@ -27,6 +27,7 @@ from ..errors import ModelError
 from ..harmonic_forms import complex_amplitude, growth
 from ..limits import ROWS_LIMIT
 from ..model import LoadCase, Model
+from ..notes import Note
 from .damping import case_ratios
 from .memory import check_memory
 from .modal_case import ModesCaseResult, effective_load, field_responses, ground_mass_warnings, residual_static
@@ -353,11 +354,10 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         motion.append((-1.0 / W[:, None] ** 2, np.tile(case.ground, model.n_nodes)[None]))
     motion = (np.hstack([m[0] for m in motion]), np.vstack([m[1] for m in motion])) if motion else None
     vel, vel_f, acc, acc_f = motion_peaks(H, shapes[moving], freq, motion)
-    warnings = tuple(f"{case.location}: warning: {w}" for w in
-                     ground_mass_warnings(case, modal, [case.ground] if case.ground is not None else []))
+    warnings = ground_mass_warnings(case, modal, [case.ground] if case.ground is not None else [])
     if not write_members:
         member_forces = None
-        warnings += (f"{case.location}: warning: case {case.name}: the end-force table would have "
+        warnings += (f"case {case.name}: the end-force table would have "
                      f"{len(freq):,} frequencies x {len(members)} members x 2 ends = {member_rows:,} rows, above "
                      f"the limit of {ROWS_LIMIT:,}, and is not written; record fewer nodes (so that at most "
                      f"{ROWS_LIMIT // (2 * len(freq)):,} members have an end at them) or use fewer points",)
@@ -368,13 +368,13 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
     complete = modes_complete_to(modal)
     top = float(freq[-1])
     if complete < top:
-        warnings += (f"{case.location}: warning: case {case.name}: the retained modes are complete only up to "
+        warnings += (f"case {case.name}: the retained modes are complete only up to "
                      f"{complete:.4g} Hz, below the top of the sweep ({top:.4g} Hz); ask for more modes"
                      + (" (static correction on)" if static is not None else " or set correction = on"),)
     elif complete < MARGIN * top:
         # a mode just above the band is driven at r = f/fn up to 1/MARGIN: amplified by up to
         # 1/(1 - r^2) = 1.8 at the top of the sweep, which the static correction cannot see
-        warnings += (f"{case.location}: warning: case {case.name}: the modes are complete only up to "
+        warnings += (f"case {case.name}: the modes are complete only up to "
                      f"{complete:.4g} Hz, less than {MARGIN:g} times the top of the sweep ({top:.4g} Hz); "
                      "modes just above the band respond dynamically there, beyond any static correction: "
                      f"ask for modes up to at least {MARGIN * top:.4g} Hz",)
@@ -386,8 +386,8 @@ def solve_harmonic_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
                           r_peak.reshape(-1, 6), m_peak.reshape(-1, 12), _lags(peak_c).reshape(-1, 6),
                           r_peak_f.reshape(-1, 6), _lags(r_peak_c).reshape(-1, 6),
                           m_peak_f.reshape(-1, 12), _lags(m_peak_c).reshape(-1, 12),
-                          support, reactions, members, member_forces, warnings, complete,
-                          vel.reshape(-1, 3), vel_f.reshape(-1, 3), acc.reshape(-1, 3), acc_f.reshape(-1, 3),
+                          support, reactions, members, member_forces, tuple(Note(case.location, w) for w in warnings),
+                          complete, vel.reshape(-1, 3), vel_f.reshape(-1, 3), acc.reshape(-1, 3), acc_f.reshape(-1, 3),
                           case.ground, case.at is not None, limits, stresses, lk[0], lk[1],
                           None if lk[2] is None else _lags(lk[2]),
                           springs=_springs(model, H, shapes, freq, static))

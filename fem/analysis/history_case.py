@@ -11,6 +11,7 @@ import numpy as np
 
 from ..assembly import Assembled
 from ..model import LoadCase, Model
+from ..notes import Note
 from .damping import case_ratios
 from .free_case import frame_indices, peak_index, peaks, step_warnings
 from .memory import check_memory
@@ -201,7 +202,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     warnings = step_warnings(dt, omega, "the load and the output are",
                              "each step is integrated exactly for a linear load")
     warnings += ground_mass_warnings(case, modal, [gr for _, _, gr in groups if gr is not None])
-    warnings = tuple(f"{case.location}: warning: {w}" if case.location else w for w in warnings)
+    warnings = tuple(Note(case.location, w) for w in warnings)
     # animation frames spaced by the modes that matter, the step of the largest motion among them
     frames = frame_indices(t, q, modal.shapes, omega, [peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
     from .link_dynamics import history_link_peaks, history_link_statics

@@ -13,6 +13,7 @@ import numpy as np
 from ..assembly import Assembled
 from ..errors import ModelError
 from ..model import LoadCase, Model
+from ..notes import Note
 from .damping import case_ratios
 from .link_dynamics import carried_ground, carried_inertia
 from .modal_case import ModesCaseResult, field_responses, ground_mass_warnings
@@ -31,7 +32,7 @@ class SpectrumResult:
     damping ratio zeta (k,) (m/s^2, direction factor included); damping_factor (k,) the factor
     those ordinates carry for damping (Spectrum.damping_factor: eta for a design curve,
     eta(zeta) / eta(made_for) for a table, else 1); modal_u (d, k, n, 6) signed per-mode
-    displacement peaks; missing_fraction (d,); warnings: located texts."""
+    displacement peaks; missing_fraction (d,); warnings: Notes at the case."""
 
     kind: ClassVar[str] = "spectrum"
 
@@ -78,11 +79,11 @@ def solve_spectrum_case(model: Model, asm: Assembled, case: LoadCase, modal: Mod
         outside = [float(t) for t in T if t < tmin or t > tmax]
     warnings = _damping_warnings(case, sp, zeta)
     if outside:
-        warnings += (f"{case.location}: warning: case {case.name}: {len(outside)} modal period(s) outside the "
+        warnings += (f"case {case.name}: {len(outside)} modal period(s) outside the "
                      "table: held below the first period, falling as 1/T^2 beyond the last",)
     if not case.missing:
-        warnings += tuple(f"{case.location}: warning: {w}" for w in
-                          ground_mass_warnings(case, modal, [case.directions], " or set missing = on"))
+        warnings += ground_mass_warnings(case, modal, [case.directions], " or set missing = on")
+    warnings = tuple(Note(case.location, w) for w in warnings)
     rho = cqc_correlation(omega, zeta)
     f = asm.free
     n6 = 6 * model.n_nodes
@@ -159,10 +160,10 @@ def _damping_warnings(case, sp, zeta) -> tuple:
     """Say once how the spectrum's ordinates follow the modes' damping where that is a choice."""
     pct = f"{100 * zeta.min():.3g}" + (f" to {100 * zeta.max():.3g}" if np.ptp(zeta) > 1e-12 else "")
     if sp.shape == "table" and sp.made_for is not None and np.any(np.abs(zeta - sp.made_for) > 1e-12):
-        return (f"{case.location}: warning: case {case.name}: the spectrum table was made for "
+        return (f"case {case.name}: the spectrum table was made for "
                 f"{100 * sp.made_for:.3g} % damping and the modes have {pct} %; each mode's ordinate is scaled "
                 "by eta(zeta) / eta(made_for), eta = sqrt(10 / (5 + zeta in %)) >= 0.55 (EN 1998-1:2004 Eq. 3.6)",)
     if sp.shape == "twoperiod" and np.any(np.abs(zeta - 0.05) > 1e-12):
-        return (f"{case.location}: warning: case {case.name}: the two-period curve is a 5 % damped design "
+        return (f"case {case.name}: the two-period curve is a 5 % damped design "
                 f"spectrum and is used unchanged for modes with {pct} % damping",)
     return ()
