@@ -1,5 +1,7 @@
 """History cases: SDOF load factors, full-system integration, static correction, ground motion."""
 
+from dataclasses import replace
+
 import numpy as np
 import pytest
 import scipy.sparse.linalg as spla
@@ -242,6 +244,11 @@ def test_coarse_step_is_warned_with_the_figure():
     r = sdof("step", f"{3 * T} s", f"{T / 4} s")
     assert r.warnings and "coarse" in r.warnings[0].text and f"{T / 10:.3g}" in r.warnings[0].text
     assert not sdof("step", f"{T} s", f"{T / 20} s").warnings
+    # a Note located at the case; a case made in Python (no location) says "warning: ..." alone
+    assert str(r.warnings[0]) == f"{r.warnings[0].location}: warning: {r.warnings[0].text}"
+    m = read_text(SDOF % ("step", f"{3 * T} s", f"{T / 4} s", "0"))
+    made = solve(replace(m, cases=[replace(c, location=None) for c in m.cases])).modal[-1]
+    assert made.warnings[0].location is None and str(made.warnings[0]) == f"warning: {r.warnings[0].text}"
 
 
 def test_step_longer_than_table_spacing_is_warned(tmp_path):
