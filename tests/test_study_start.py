@@ -6,12 +6,13 @@ process keeps its environment."""
 import multiprocessing as mp
 import os
 import sys
+import time
 
 import pytest
 from same import assert_same_columns as _same
 from shared_decks import STUDY_CANTILEVER
 
-from fem.study import read_study_text, run_study
+from fem.study import engine, read_study_text, run_study
 from fem.study.engine import START_ENV, start_method, wait_closed
 from fem.study.work import Bundle, _folder
 
@@ -76,3 +77,32 @@ def test_forked_and_spawned_workers_give_the_serial_numbers_and_leave_nothing_be
     _same(serial, local)
     assert (scratch / "dask-scratch-space").is_dir()     # the workers did use this folder
     assert not list(scratch.glob("quaver-study-*"))
+
+
+STUCK = [False]        # while set, a process forked from this one hangs at once (see below)
+if hasattr(os, "register_at_fork"):
+    os.register_at_fork(after_in_child=lambda: STUCK[0] and time.sleep(3600))
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="workers are forked on Linux only")
+def test_forked_workers_that_never_start_are_given_up_and_spawned(tmp_path, monkeypatch):
+    # a worker stuck right after the fork, as a lock held at the fork by another thread of this
+    # process would leave it: the cluster gives it up after START_TIMEOUT and spawns its workers
+    folder = tmp_path / "study"
+    folder.mkdir()
+    (folder / "cant.deck").write_text(STUDY_CANTILEVER)
+    s = read_study_text(STUDY, "t.study", folder)
+    serial = run_study(s, serial=True, progress=False)
+    monkeypatch.delenv(START_ENV, raising=False)
+    monkeypatch.setattr(engine, "START_TIMEOUT", 3)
+    STUCK[0] = True
+    try:
+        t0 = time.perf_counter()
+        local = run_study(s, workers=2, progress=False)
+    finally:
+        STUCK[0] = False
+    wait_closed()
+    assert local.engine.startswith("local cluster of 2 worker processes, spawned (forked ones did not start: "
+                                   "a worker did not reach the scheduler within 3 s)")
+    assert local.phases["start"] >= 3 and time.perf_counter() - t0 < 60
+    _same(serial, local)

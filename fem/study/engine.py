@@ -31,6 +31,9 @@ from .work import Job, run_chunk, run_variant
 __all__ = ["StudyError", "chunks", "on_dask", "serial", "wait_closed"]
 
 CONNECT_TIMEOUT = "20s"     # our choice: a scheduler on this network answers in well under a second
+# our choice: a local cluster's worker that has not reached its scheduler by then is taken as
+# stuck (measured: 0.08 s forked, 0.5 s spawned on a quiet machine, 2.4-3.7 s spawned at load 10)
+START_TIMEOUT = 60
 # our choice: each task takes 1/(GUIDED * workers) of the variants left: with 2 workers a sweep
 # of 200 variants goes in 15 tasks of 50, 38, 28 ... 2, 2, 1 variants, so the first tasks pay
 # Dask's per-task costs over many variants and the last ones leave a worker idle for about the
@@ -142,10 +145,9 @@ def on_dask(job: Job, variants, workers: int = 2, scheduler: str | None = None, 
                          "or run the study serially (--serial)") from None
     phases = {} if phases is None else phases
     done = False
-    local = {START_KEY: start_method()} if scheduler is None else {}
-    with dask.config.set({**QUIET_CLUSTER, **local}), _environment_kept():
+    with dask.config.set(QUIET_CLUSTER), _environment_kept():
         t0 = time.perf_counter()
-        client, cluster, where = _connect(Client, LocalCluster, workers, scheduler)
+        client, cluster, where = _start(Client, LocalCluster, workers, scheduler)
         phases["start"] = time.perf_counter() - t0
         try:
             t0 = time.perf_counter()
@@ -265,6 +267,33 @@ def _as_task(x):
     return x
 
 
+def _dask_config(key: str):
+    import dask
+
+    return dask.config.get(key, None)
+
+
+def _start(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple:
+    """`_connect`, a local cluster's workers started by `start_method`; forked workers that do
+    not start (a lock held in this process at the fork would leave them stuck; none has been
+    seen) are given up after START_TIMEOUT and spawned instead, and the description says so."""
+    import dask
+
+    if scheduler is not None:
+        return _connect(Client, LocalCluster, workers, scheduler)
+    method = start_method()
+    try:
+        with dask.config.set({START_KEY: method}):
+            return _connect(Client, LocalCluster, workers, None)
+    except StudyError as exc:
+        if method != "fork":
+            raise
+        why = str(exc).removeprefix("the local cluster could not start: ")
+    with dask.config.set({START_KEY: "spawn"}):
+        client, cluster, where = _connect(Client, LocalCluster, workers, None)
+    return client, cluster, f"{where}, spawned (forked ones did not start: {why})"
+
+
 def _connect(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple:
     """(client, the local cluster or None, a description): a local cluster of `workers` worker
     processes on the loopback address, or the scheduler at `scheduler`."""
@@ -272,20 +301,27 @@ def _connect(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple
     try:
         if scheduler is None:
             cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, host="127.0.0.1",
-                                   dashboard_address=None, silence_logs=logging.ERROR)
+                                   # the scheduler's HTTP server (health, metrics) on a free port
+                                   # of the loopback address, not 8787 (two studies at once would
+                                   # warn), and no dashboard
+                                   dashboard_address="127.0.0.1:0", scheduler_kwargs={"dashboard": False},
+                                   silence_logs=logging.ERROR, death_timeout=START_TIMEOUT)
             client = Client(cluster)
             where = f"local cluster of {workers} worker process{'es' if workers != 1 else ''}"
         else:
             client = Client(scheduler, timeout=CONNECT_TIMEOUT)
             n = len(client.scheduler_info().get("workers", {}))
             where = f"scheduler {scheduler} ({n} worker{'s' if n != 1 else ''})"
-    except (OSError, TimeoutError, RuntimeError) as exc:
+    except Exception as exc:   # noqa: BLE001 - Dask reports a worker that never connected as AssertionError
         if cluster is not None:
             cluster.close()
         what = "the local cluster could not start" if scheduler is None else f"no scheduler answers at {scheduler}"
-        # worker processes are started afresh and import the script that started them: a script
-        # that runs a study at its top level would start another one in each of them
+        if isinstance(exc, AssertionError):         # Dask's word for a worker still starting at the timeout
+            exc = f"a worker did not reach the scheduler within {START_TIMEOUT} s"
+        # spawned worker processes import the script that started them: a script that runs a
+        # study at its top level would start another one in each of them
+        spawned = scheduler is None and _dask_config(START_KEY) != "fork"
         hint = ("; in a script, run the study under `if __name__ == \"__main__\":` (the worker processes "
-                "import the script), or run it serially") if scheduler is None else ""
+                "import the script), or run it serially") if spawned else ""
         raise StudyError(f"{what}: {exc}{hint}") from None
     return client, cluster, where
