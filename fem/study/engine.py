@@ -267,12 +267,6 @@ def _as_task(x):
     return x
 
 
-def _dask_config(key: str):
-    import dask
-
-    return dask.config.get(key, None)
-
-
 def _start(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple:
     """`_connect`, a local cluster's workers started by `start_method`; forked workers that do
     not start (a lock held in this process at the fork would leave them stuck; none has been
@@ -320,7 +314,9 @@ def _connect(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple
             exc = f"a worker did not reach the scheduler within {START_TIMEOUT} s"
         # spawned worker processes import the script that started them: a script that runs a
         # study at its top level would start another one in each of them
-        spawned = scheduler is None and _dask_config(START_KEY) != "fork"
+        import dask
+
+        spawned = scheduler is None and dask.config.get(START_KEY, None) != "fork"
         hint = ("; in a script, run the study under `if __name__ == \"__main__\":` (the worker processes "
                 "import the script), or run it serially") if spawned else ""
         raise StudyError(f"{what}: {exc}{hint}") from None
