@@ -5,8 +5,10 @@ process keeps its environment."""
 
 import multiprocessing as mp
 import os
+import subprocess
 import sys
 import time
+from pathlib import Path
 
 import pytest
 from same import assert_same_columns as _same
@@ -106,3 +108,20 @@ def test_forked_workers_that_never_start_are_given_up_and_spawned(tmp_path, monk
                                    "a worker did not reach the scheduler within 3 s)")
     assert local.phases["start"] >= 3 and time.perf_counter() - t0 < 60
     _same(serial, local)
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="workers are forked on Linux only")
+def test_a_script_without_a_main_guard_runs_its_study_once(tmp_path):
+    # forked workers do not import the script that started them, so a study at a script's top
+    # level runs once (spawned workers would each import it and start it again)
+    (tmp_path / "cant.deck").write_text(STUDY_CANTILEVER)
+    (tmp_path / "top.py").write_text(
+        "from pathlib import Path\nfrom fem.study import read_study_text, run_study\n"
+        "print('started')\n"
+        "s = read_study_text('deck \"cant.deck\"\\nvary h in (80 mm, 90 mm)\\n', 't.study', Path('.'))\n"
+        "r = run_study(s, workers=2, progress=False)\nprint(r.engine, r.columns['status'])\n")
+    env = {k: v for k, v in os.environ.items() if k != START_ENV}
+    env["PYTHONPATH"] = str(Path(__file__).resolve().parents[1])
+    r = subprocess.run([sys.executable, "top.py"], cwd=tmp_path, env=env, capture_output=True, text=True, timeout=120)
+    assert r.returncode == 0, r.stderr[-2000:]
+    assert r.stdout.splitlines() == ["started", "local cluster of 2 worker processes ['ok', 'ok']"]
