@@ -45,3 +45,19 @@ def angle_nodes(h, b, t, r, r2=0.0):
         for P, Q in ((Y, Z), (Z, Y)):              # the toe of each leg: P along it, Q across
             inside &= ~((P > o) & (Q > t - r2) & ((P - o) ** 2 + (Q - (t - r2)) ** 2 > r2 * r2))
     return inside
+
+
+def channel_nodes(h, d, bf, tf, tw, r):
+    """Grid nodes strictly inside a channel with parallel flanges and root fillets r: the web's
+    back on y = 0, the flanges along y from z = 0 and z = d; the straight edges lie on grid lines
+    (every dimension a multiple of h), only the arcs are stair-stepped."""
+    Y, Z = np.meshgrid(np.arange(-h, bf + 2 * h, h), np.arange(-h, d + 2 * h, h), indexing="ij")
+    e = 1e-9 * d
+    body = (Y > e) & (Z > e) & (Y < bf - e) & (Z < d - e)
+    plates = (Y < tw - e) | (Z < tf - e) | (Z > d - tf + e)
+    inside = body & plates
+    for zc in (tf + r, d - tf - r):                # the two fillets, centres (tw + r, zc), with
+        # the nodes on the flange's inner face between them (inside: fillet and flange meet there)
+        corner = (Y < tw + r) & (np.abs(Z - zc) < r + e) & ((Z - zc) * (zc - d / 2) > 0)
+        inside |= body & corner & ((Y - tw - r) ** 2 + (Z - zc) ** 2 > r * r)
+    return inside
