@@ -1,6 +1,6 @@
 """Saint-Venant J by finite differences on a square grid: the independent check of the finite-
-element torsion solver (fem.sections.torsion) used by tests/test_sections_catalogue.py and
-benchmarks/torsion.py. The grid stair-steps every arc, so its J is first order in the spacing
+element torsion solver (fem.sections.torsion) used by tests/test_sections_catalogue.py,
+tests/test_channel_torsion.py and benchmarks/torsion.py. The grid stair-steps every arc, so its J is first order in the spacing
 and is extrapolated by the callers as 2 J(h/2) - J(h)."""
 
 import numpy as np
