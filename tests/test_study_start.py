@@ -89,14 +89,14 @@ if hasattr(os, "register_at_fork"):
 @pytest.mark.skipif(not sys.platform.startswith("linux"), reason="workers are forked on Linux only")
 def test_forked_workers_that_never_start_are_given_up_and_spawned(tmp_path, monkeypatch):
     # a worker stuck right after the fork, as a lock held at the fork by another thread of this
-    # process would leave it: the cluster gives it up after START_TIMEOUT and spawns its workers
+    # process would leave it: the cluster gives it up after FORK_TIMEOUT and spawns its workers
     folder = tmp_path / "study"
     folder.mkdir()
     (folder / "cant.deck").write_text(STUDY_CANTILEVER)
     s = read_study_text(STUDY, "t.study", folder)
     serial = run_study(s, serial=True, progress=False)
     monkeypatch.delenv(START_ENV, raising=False)
-    monkeypatch.setattr(engine, "START_TIMEOUT", 3)
+    monkeypatch.setattr(engine, "FORK_TIMEOUT", 3)        # the spawned ones keep START_TIMEOUT
     STUCK[0] = True
     try:
         t0 = time.perf_counter()

@@ -32,8 +32,10 @@ __all__ = ["StudyError", "chunks", "on_dask", "serial", "wait_closed"]
 
 CONNECT_TIMEOUT = "20s"     # our choice: a scheduler on this network answers in well under a second
 # our choice: a local cluster's worker that has not reached its scheduler by then is taken as
-# stuck (measured: 0.08 s forked, 0.5 s spawned on a quiet machine, 2.4-3.7 s spawned at load 10)
+# stuck (measured: 0.08 s forked, 0.5 s spawned on a quiet machine, 2.4-3.7 s spawned at load 10);
+# a forked one, which has nothing to import, sooner
 START_TIMEOUT = 60
+FORK_TIMEOUT = 20
 # our choice: each task takes 1/(GUIDED * workers) of the variants left: with 2 workers a sweep
 # of 200 variants goes in 15 tasks of 50, 38, 28 ... 2, 2, 1 variants, so the first tasks pay
 # Dask's per-task costs over many variants and the last ones leave a worker idle for about the
@@ -270,7 +272,7 @@ def _as_task(x):
 def _start(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple:
     """`_connect`, a local cluster's workers started by `start_method`; forked workers that do
     not start (a lock held in this process at the fork would leave them stuck; none has been
-    seen) are given up after START_TIMEOUT and spawned instead, and the description says so."""
+    seen) are given up after FORK_TIMEOUT and spawned instead, and the description says so."""
     import dask
 
     if scheduler is not None:
@@ -278,19 +280,20 @@ def _start(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple:
     method = start_method()
     try:
         with dask.config.set({START_KEY: method}):
-            return _connect(Client, LocalCluster, workers, None)
+            return _connect(Client, LocalCluster, workers, None, FORK_TIMEOUT if method == "fork" else START_TIMEOUT)
     except StudyError as exc:
         if method != "fork":
             raise
         why = str(exc).removeprefix("the local cluster could not start: ")
     with dask.config.set({START_KEY: "spawn"}):
-        client, cluster, where = _connect(Client, LocalCluster, workers, None)
+        client, cluster, where = _connect(Client, LocalCluster, workers, None, START_TIMEOUT)
     return client, cluster, f"{where}, spawned (forked ones did not start: {why})"
 
 
-def _connect(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple:
+def _connect(Client, LocalCluster, workers: int, scheduler: str | None, timeout: float = START_TIMEOUT) -> tuple:
     """(client, the local cluster or None, a description): a local cluster of `workers` worker
-    processes on the loopback address, or the scheduler at `scheduler`."""
+    processes on the loopback address, each given `timeout` seconds to reach its scheduler, or
+    the scheduler at `scheduler`."""
     cluster = None
     try:
         if scheduler is None:
@@ -299,7 +302,7 @@ def _connect(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple
                                    # of the loopback address, not 8787 (two studies at once would
                                    # warn), and no dashboard
                                    dashboard_address="127.0.0.1:0", scheduler_kwargs={"dashboard": False},
-                                   silence_logs=logging.ERROR, death_timeout=START_TIMEOUT)
+                                   silence_logs=logging.ERROR, death_timeout=timeout)
             client = Client(cluster)
             where = f"local cluster of {workers} worker process{'es' if workers != 1 else ''}"
         else:
@@ -311,7 +314,7 @@ def _connect(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple
             cluster.close()
         what = "the local cluster could not start" if scheduler is None else f"no scheduler answers at {scheduler}"
         if isinstance(exc, AssertionError):         # Dask's word for a worker still starting at the timeout
-            exc = f"a worker did not reach the scheduler within {START_TIMEOUT} s"
+            exc = f"a worker did not reach the scheduler within {timeout:g} s"
         # spawned worker processes import the script that started them: a script that runs a
         # study at its top level would start another one in each of them
         import dask
