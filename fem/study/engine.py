@@ -89,8 +89,8 @@ def start_method() -> str:
     - this process's state: a study's temporary folders are forgotten in the child (each worker
       writes and removes its own, see `work._folder`), and multiprocessing ends a forked child
       without running this process's atexit handlers.
-    Python 3.12 and later warn (a DeprecationWarning, silent by default) when a process with
-    threads forks."""
+    Python 3.12 and later warn (a DeprecationWarning) when a process with threads forks; `_start`
+    silences that one warning."""
     import os
 
     import dask
@@ -278,6 +278,13 @@ def _start(Client, LocalCluster, workers: int, scheduler: str | None) -> tuple:
     if scheduler is not None:
         return _connect(Client, LocalCluster, workers, scheduler)
     method = start_method()
+    if method == "fork":
+        # Python 3.12+ warns at every fork of a process with threads; the hazard is known and
+        # met (`start_method`), and the warning would only reach the user's test runs
+        import warnings
+
+        warnings.filterwarnings("ignore", r"This process \(pid=\d+\) is multi-threaded, use of fork\(\)",
+                                DeprecationWarning)
     try:
         with dask.config.set({START_KEY: method}):
             return _connect(Client, LocalCluster, workers, None, FORK_TIMEOUT if method == "fork" else START_TIMEOUT)
