@@ -155,3 +155,31 @@ def test_knot_kicks_make_jumps_and_kinks_exact():
     # without the kicks the same samples miss the jump between them
     q_plain, _ = integrate_modal(w, z, dt, p)
     assert np.abs(q_plain[:, 2] - q[:, 2]).max() > 1e-4 * np.abs(q[:, 2]).max()
+
+
+def test_short_histories_filter_without_scipy_signal_to_the_bit(monkeypatch):
+    # Up to SHORT_HISTORY steps the all-pole filter runs as a loop over time steps on every mode
+    # at once (_all_pole), sparing the import of scipy.signal; it repeats lfilter's direct form II
+    # transposed operation for operation, so the two agree to the bit (the reference: lfilter
+    # itself, and integrate_modal forced onto it), zeros' signs, infinities and NaN included
+    from scipy.signal import lfilter
+
+    import fem.analysis.recurrence as rec
+
+    rng = np.random.default_rng(7)
+    k, n = 5, 700
+    a1, a2 = -1.9 + 0.05 * rng.random(k), 0.9 + 0.09 * rng.random(k)
+    u = rng.normal(size=(n, k)) * 10.0 ** rng.integers(-8, 8, size=(n, k))
+    u[3, 0], u[5, 1], u[7, 2], u[9, 3] = -0.0, np.inf, np.nan, 0.0
+    got = rec._all_pole(a1, a2, u)
+    ref = np.stack([lfilter([1.0], [1.0, a1[j], a2[j]], u[:, j]) for j in range(k)], axis=1)
+    np.testing.assert_array_equal(got, ref)
+    assert np.array_equal(np.signbit(got), np.signbit(ref))
+    w, z = np.array([0.0, 1.3, 7.0, 30.0, 300.0]), np.array([0.0, 0.02, 0.1, 1.5, 0.05])
+    p = rng.normal(size=(n, k))
+    q0, v0 = rng.normal(size=k), rng.normal(size=k)
+    short = rec.integrate_modal(w, z, 0.01, p, q0, v0)
+    monkeypatch.setattr(rec, "SHORT_HISTORY", 0)
+    long = rec.integrate_modal(w, z, 0.01, p, q0, v0)
+    for a, b in zip(short, long):
+        np.testing.assert_array_equal(a, b)

@@ -63,6 +63,17 @@ def test_solving_static_and_modes_cases_leaves_scipy_signal_out(tmp_path):
     assert _heavy(loaded, ("matplotlib", "pyvista", "vtk", "dask", "distributed"), ("scipy.signal",)) == set()
 
 
+def test_a_short_time_history_leaves_scipy_signal_out(tmp_path):
+    # a history of up to SHORT_HISTORY steps is filtered without scipy.signal (0.37 s of imports),
+    # to the bit of its lfilter (tests/test_recurrence.py)
+    deck = TINY_CANTILEVER + ("case PULSE history { force B = (2 kN, 0, 0), time = halfsine(0.05 s), "
+                              "duration = 1 s, step = 0.001 s, damping = 2 percent }\n")
+    loaded = _loaded(f"import fem\nr = fem.solve(fem.read_text({deck!r}))\n"
+                     "assert r['PULSE'].peak.max() > 0", tmp_path)
+    assert "fem.analysis.recurrence" in loaded
+    assert _heavy(loaded, ("matplotlib", "pyvista", "vtk", "dask", "distributed"), ("scipy.signal",)) == set()
+
+
 def test_a_mistake_in_the_deck_is_reported_without_importing_scipy(tmp_path):
     # the checks' imports (scipy: about half of a check's) follow the reading of the deck
     deck = tmp_path / "slip.deck"
