@@ -309,3 +309,23 @@ def test_twist_of_a_shaft_on_its_own_axis():
     shape[:, 5] = 0
     shape[:, 1] = np.linspace(0, 1, 5) ** 2
     assert dominant_direction(shape, coords)[0] == "Y"
+
+
+def test_the_gl_probe_needs_vtk_alone_and_says_why_it_fails(monkeypatch):
+    # the probe opens the kind of offscreen window the pictures use, on VTK alone (pyvista's
+    # import and a plotter tripled its cost); an X window without an X server cannot be made,
+    # and the probe's one line says so
+    from fem.output import render
+
+    assert "pyvista" not in render._PROBE
+    monkeypatch.delenv("QUAVER_NO_GL", raising=False)
+    monkeypatch.delenv("DISPLAY", raising=False)
+    monkeypatch.setenv("VTK_DEFAULT_OPENGL_WINDOW", "vtkXOpenGLRenderWindow")
+    render.can_render.cache_clear()
+    try:
+        ok, why = render.can_render()
+    finally:
+        render.can_render.cache_clear()
+    if ok:
+        pytest.skip("this machine makes an offscreen window without an X server (an OSMesa fallback)")
+    assert why.startswith("no OpenGL context could be created (") and "\n" not in why and "\x1b" not in why
