@@ -164,6 +164,8 @@ def _peak(fn):
 
 
 def test_history_estimate_bounds_the_measured_peak(mast):
+    import scipy.signal  # noqa: F401 - imported first: its import (past SHORT_HISTORY steps) is not the case's memory
+
     m, asm, modal = mast
     case = m.cases[2]
     peak = _peak(lambda: solve_history_case(m, asm, case, modal))

@@ -23,13 +23,10 @@ from .vtk import MAX_TURN, drawing_scale
 __all__ = ["MODE_FRAMES", "RESPONSE_FRAMES", "can_render", "drawing_scale", "one_line", "plotters_made", "probed",
            "release", "render_modes", "render_response", "response_frames", "start_probe"]
 
-# an offscreen window of the kind pictures use, rendered once, on VTK alone: 0.3 s of CPU
-# where the same through pyvista (its import, a plotter, a sphere) took 1.0 s (measured)
-_PROBE = ("import vtkmodules.vtkRenderingOpenGL2\n"
-          "from vtkmodules.vtkRenderingCore import vtkRenderWindow, vtkRenderer\n"
+# the pictures' kind of offscreen window, rendered once on VTK alone (0.3 s of CPU; 1.0 s via pyvista)
+_PROBE = ("import vtkmodules.vtkRenderingOpenGL2\nfrom vtkmodules.vtkRenderingCore import vtkRenderWindow, vtkRenderer\n"
           "w = vtkRenderWindow(); w.SetOffScreenRendering(1); w.SetSize(64, 64); w.AddRenderer(vtkRenderer())\n"
-          "w.Render()\n"
-          "if not w.SupportsOpenGL(): raise SystemExit('the render window has no OpenGL context')\n")
+          "w.Render()\nif not w.SupportsOpenGL(): raise SystemExit('the render window has no OpenGL context')\n")
 COLORMAP = "cividis"        # perceptually uniform, readable in grey and by colour-blind readers
 SIZE = (960, 720)           # still pictures
 GIF_SIZE = (640, 480)       # animations: smaller frames keep files and the report light
