@@ -1,5 +1,6 @@
 """Saint-Venant J of filleted I shapes solved numerically (fem.sections.torsion), and which J each
-published table prints.
+published table prints; the mesh convergence of the channel's J too (its other checks are in
+tests/test_channel_torsion.py).
 
 Independent references, named beside each check: the exact series of a solid rectangle
 (Timoshenko & Goodier, *Theory of Elasticity*, 3rd ed., section 109; fem.sections.rect's series),
@@ -14,7 +15,7 @@ import numpy as np
 import pytest
 
 from fem.sections import catalogue_designations, catalogue_entry, catalogue_section, ishape, rect
-from fem.sections.torsion import ishape_torsion_constant, patch_torsion_constant, segment
+from fem.sections.torsion import channel_torsion_constant, ishape_torsion_constant, patch_torsion_constant, segment
 
 
 def _rectangle(a, b, n, quarter):
@@ -37,22 +38,27 @@ def test_quarter_with_natural_symmetry_edges(a):
     assert quarter == pytest.approx(rect(a, 1.0).J, rel=5e-5)
 
 
-@pytest.mark.parametrize("dims", [
-    (300.0, 300.0, 19.0, 11.0, 27.0),        # HEB 300 (EN 10365, mm)
-    (400.0, 180.0, 13.5, 8.6, 21.0),         # IPE 400
-    (22.4, 17.9, 4.91, 3.07, 0.6),           # W14X730-like: the smallest r/tf here, 0.12 (in)
-    (300.0, 300.0, 19.0, 11.0, 0.19),        # a fillet of tf/100
-    (100.0, 200.0, 10.0, 10.0, 40.0),        # the largest r between the flanges: no straight web
-    (300.0, 100.0, 10.0, 10.0, 45.0),        # the largest r across the flange: no outstand
-], ids=["HEB300", "IPE400", "small-r", "r=tf/100", "r-max-web", "r-max-flange"])
-def test_ishape_converges(dims):
-    # The default mesh (3 and 6 elements across the half web and the flange, extrapolated)
+@pytest.mark.parametrize("solver, dims", [
+    (ishape_torsion_constant, (300.0, 300.0, 19.0, 11.0, 27.0)),     # HEB 300 (EN 10365, mm)
+    (ishape_torsion_constant, (400.0, 180.0, 13.5, 8.6, 21.0)),      # IPE 400
+    (ishape_torsion_constant, (22.4, 17.9, 4.91, 3.07, 0.6)),        # W14X730-like: smallest r/tf here, 0.12 (in)
+    (ishape_torsion_constant, (300.0, 300.0, 19.0, 11.0, 0.19)),     # a fillet of tf/100
+    (ishape_torsion_constant, (100.0, 200.0, 10.0, 10.0, 40.0)),     # the largest r between the flanges
+    (ishape_torsion_constant, (300.0, 100.0, 10.0, 10.0, 45.0)),     # the largest r across the flange
+    (channel_torsion_constant, (200.0, 80.0, 11.0, 6.0, 13.0)),      # UPE 200 (mm)
+    (channel_torsion_constant, (80.0, 50.0, 7.0, 4.0, 10.0)),        # UPE 80
+    (channel_torsion_constant, (20.0, 8.0, 1.5, 1.0, 0.05)),         # a fillet of tf/30
+    (channel_torsion_constant, (20.0, 8.0, 1.5, 1.0, 7.0)),          # the largest r along the flange
+], ids=["HEB300", "IPE400", "small-r", "r=tf/100", "r-max-web", "r-max-flange",
+        "UPE200", "UPE80", "channel-r=tf/30", "channel-r-max"])
+def test_filleted_J_converges(solver, dims):
+    # The default mesh (3 and 6 elements across the (half) web and the flange, extrapolated)
     # against 8 and 16: measured 1.3e-5 (HEB 300), 1.2e-5 (IPE 400), 1.6e-4 (r/tf = 0.12),
-    # 1.8e-4 (r = tf/100), 3e-6 and 3e-7 (largest fillets). The small fillets converge slowest:
-    # the arc is a near-corner, where phi is least smooth.
+    # 1.8e-4 (r = tf/100), 3e-6 and 3e-7 (largest fillets); channels 2.1e-5 (UPE 200), 1.8e-5
+    # (UPE 80), 1.8e-4 (r = tf/30), 2.0e-5 (largest r). The small fillets converge slowest: the
+    # arc is a near-corner, where phi is least smooth.
     small = dims[4] < 0.2 * dims[2]
-    assert ishape_torsion_constant(*dims) == pytest.approx(ishape_torsion_constant(*dims, n=8),
-                                                           rel=3e-4 if small else 5e-5)
+    assert solver(*dims) == pytest.approx(solver(*dims, n=8), rel=3e-4 if small else 5e-5)
 
 
 def test_ishape_thin_wall_limit_and_junction():
