@@ -106,6 +106,19 @@ support N0 fixed
 case MODES modes { count = 3 }
 """
 
+# a cantilever 2 m long of a b x h rectangle, b = 100 mm across (local y = global Y), depth h
+# along Z, in 20 elements: the bending frequency in the plane of h grows as h (Euler-Bernoulli:
+# f ~ sqrt(E I / (rho A)) ~ h), the other does not depend on h, so the two bending planes'
+# frequencies pass each other as h passes b; the files that use it add the modes case
+CROSSING_CANTILEVER = """
+let h = 100 mm
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section R = rect(b = 100 mm, h = h)
+for i in 0..20 { node N[i] = (i*0.1 m, 0, 0) }
+for i in 0..19 { member M[i] : N[i] -> N[i+1] beam R S }
+support N0 fixed
+"""
+
 # a 6 m column fixed at A with 2 t at B (3 m) and 1 t at C (6 m), 120 x 200 mm: two lateral
 # modes in each plane; the files that use it write the material and add the cases
 TWO_MASS_COLUMN = """

@@ -7,24 +7,15 @@ import math
 import numpy as np
 import pytest
 import scipy.linalg
+from shared_decks import CROSSING_CANTILEVER
 
 import fem
 from fem.analysis.tracking import mac
 from fem.cli import main
 from fem.study import read_study_text, run_study
 
-# a cantilever 2 m long, a b x h rectangle (b = 100 mm): the bending frequency in the plane of h
-# grows as h (Euler-Bernoulli: f ~ sqrt(E I / (rho A)) ~ h), the other does not depend on h
-# (~ b), so the two first modes cross as h passes b
-CANTILEVER = """
-let h = 100 mm
-material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
-section R = rect(b = 100 mm, h = h)
-for i in 0..20 { node N[i] = (i*0.1 m, 0, 0) }
-for i in 0..19 { member M[i] : N[i] -> N[i+1] beam R S }
-support N0 fixed
-case MODES modes { count = 3 }
-"""
+# the crossing cantilever (tests/shared_decks.py): its two first modes cross as h passes b
+CANTILEVER = CROSSING_CANTILEVER + "case MODES modes { count = 3 }\n"
 
 HISTORY = """
 case QUAKE history { ground = (0, G, 0), table = "base.csv", duration = 0.6 s, step = 0.001 s,

@@ -7,6 +7,7 @@ with W = M exactly 0 for two modes of one model (M-orthogonality).
 
 import numpy as np
 import pytest
+from shared_decks import CROSSING_CANTILEVER
 
 from fem.analysis.modal_case import solve_modes_case
 from fem.analysis.tracking import common_dofs, mac, match_modes, track_sweep
@@ -31,17 +32,9 @@ mass C = 200 kg
 case MODES modes { count = 6 }
 """
 
-# a cantilever 2 m long of a b x h rectangle, b = 100 mm across (local y = global Y), depth h
-# along Z: the two bending planes' frequencies pass each other as h passes b
-CANTILEVER = """
-let h = 100 mm
-material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
-section R = rect(b = 100 mm, h = h)
-for i in 0..20 { node N[i] = (i*0.1 m, 0, 0) }
-for i in 0..19 { member M[i] : N[i] -> N[i+1] beam R S }
-support N0 fixed
-case MODES modes { count = 4 }
-"""
+# the crossing cantilever (tests/shared_decks.py): the two bending planes' frequencies pass each
+# other as h passes b
+CANTILEVER = CROSSING_CANTILEVER + "case MODES modes { count = 4 }\n"
 
 
 def solved(text, **let):
