@@ -30,16 +30,21 @@ def _outcome(read):
                          None if loc is None else (loc.file, loc.line, loc.column, loc.source_line))
 
 
+def _same_outcome(got, ref):
+    """Two `_outcome`s agree: the same error to its location and hint, or models equal to the bit."""
+    assert got[0] == ref[0], (got, ref)
+    if got[0] == "error":
+        assert got[1] == ref[1]
+    else:
+        _same(got[1], ref[1])
+
+
 def _agree(read):
     """Read with the quick reader and with lark alone; assert the outcomes agree; the kind."""
     quick = _outcome(read)
     with fast_lines.lark_only():
         ref = _outcome(read)
-    assert quick[0] == ref[0], (quick, ref)
-    if quick[0] == "error":
-        assert quick[1] == ref[1]
-    else:
-        _same(quick[1], ref[1])
+    _same_outcome(quick, ref)
     return quick[0]
 
 

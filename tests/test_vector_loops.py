@@ -13,7 +13,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from same import assert_same as _same
-from test_fast_reader import _TEXTS, _mutated, _outcome
+from test_fast_reader import _TEXTS, _mutated, _outcome, _same_outcome
 
 import fem
 from fem.deck import fast_lines
@@ -31,11 +31,7 @@ def _three(read) -> str:
     with fast_lines.lark_only():
         ref = _outcome(read)
     for other in (slow, ref):
-        assert fast[0] == other[0], (fast, other)
-        if fast[0] == "error":
-            assert fast[1] == other[1]
-        else:
-            _same(fast[1], other[1])
+        _same_outcome(fast, other)
     return fast[0]
 
 
