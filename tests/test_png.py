@@ -59,3 +59,31 @@ def test_report_embeds_a_palette_png_as_it_is(tmp_path):
     Image.fromarray(_plot_rgb()).save(g)
     data, _ = encode_still(g)
     assert len(data) < g.stat().st_size and Image.open(io.BytesIO(data)).mode == "P"
+
+
+def test_a_plot_drawn_once_gives_the_pixels_savefig_gave(tmp_path):
+    # save_drawn takes the canvas's pixels after one drawing; savefig (the reference, matplotlib's
+    # own writer) draws twice after tight_layout and encodes a PNG: the palette files are the same
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    from fem.output.plots import save_drawn
+
+    def figure():
+        fig, ax = plt.subplots(figsize=(7, 3.6), dpi=110)
+        t = np.linspace(0.0, 3.0, 1501)
+        ax.plot(t, np.sin(7 * t) * np.exp(-t), label="U2 y")
+        ax.set_xlabel("time [s]")
+        ax.set_title("a decaying response", loc="left")
+        ax.legend()
+        fig.tight_layout()
+        return fig
+
+    fig = figure()
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png")
+    plt.close(fig)
+    drawn = save_drawn(plt, figure(), tmp_path / "drawn.png")
+    assert drawn.read_bytes() == palette_png(buf.getvalue())
