@@ -109,7 +109,8 @@ def test_webp_frames_decode_close_to_the_drawing(tmp_path):
 def test_fixed_captions_draw_as_the_annotation(tmp_path):
     """A long animation's captions drawn by a text actor at the font size found once are the
     same pixels as the corner annotation draws (caption.FixedCaption), the wider caption of the
-    largest motion included; in a child process (an offscreen context)."""
+    largest motion included, each frame taken as the pictures take them (grab.grab); in a child
+    process (an offscreen context)."""
     ok, why = can_render()
     if not ok:
         pytest.skip(why)
@@ -117,6 +118,7 @@ def test_fixed_captions_draw_as_the_annotation(tmp_path):
 import json, sys
 import numpy as np, pyvista as pv
 from fem.output.caption import FixedCaption
+from fem.output.grab import grab
 captions = [f"t = {0.013 * i:.4g} s" for i in range(45)]
 captions[20] += "  (largest motion)"
 def frames(fixed):
@@ -128,8 +130,7 @@ def frames(fixed):
     out = []
     for c in captions:
         shown.show(c) if fixed else clock.set_text("lower_left", c)
-        p.render()
-        out.append(p.screenshot(None, return_img=True))
+        out.append(grab(p))
     info = (shown.actor is not None, shown.longest) if fixed else None
     p.close()
     return np.array(out), info

@@ -13,6 +13,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from .grab import grab
+
 __all__ = ["FIXED_FROM", "FixedCaption"]
 
 FIXED_FROM = 40        # frames: shorter animations keep the annotation (the search costs a few renders)
@@ -34,8 +36,7 @@ class FixedCaption:
         actor.GetTextProperty().ShallowCopy(clock.GetTextProperty())
         for size in _SIZES:
             actor.GetTextProperty().SetFontSize(size)
-            p.render()
-            if np.array_equal(p.screenshot(None, return_img=True), want):
+            if np.array_equal(grab(p), want):
                 self.actor, self.longest = actor, len(first)
                 break
         else:
@@ -48,7 +49,7 @@ class FixedCaption:
             text = max((c for c in captions if len(c) == n))
             want = self._annotated(text)
             self._fixed(text)
-            if np.array_equal(p.screenshot(None, return_img=True), want):
+            if np.array_equal(grab(p), want):
                 self.longest = n
                 break
 
@@ -57,14 +58,12 @@ class FixedCaption:
             self.actor.SetVisibility(False)
         self.clock.SetVisibility(True)
         self.clock.set_text("lower_left", text)
-        self.p.render()
-        return self.p.screenshot(None, return_img=True)
+        return grab(self.p)
 
     def _fixed(self, text: str) -> None:
         self.clock.SetVisibility(False)
         self.actor.SetVisibility(True)
         self.actor.SetInput(text)
-        self.p.render()
 
     def show(self, text: str) -> None:
         """Set the caption (drawn at the next render)."""

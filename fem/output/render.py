@@ -208,6 +208,10 @@ def _canvas(pv, size):
     p = _CANVAS["plotter"]
     if p is None or p._closed:
         p = _CANVAS["plotter"] = pv.Plotter(off_screen=True, window_size=size)
+        # translucent parts blended in drawing order, not VTK's order-independent pass (half of
+        # a frame's CPU on the software renderer): the grey undeformed members are one colour,
+        # whose layers blend to the same colour in any order (grab.py has the measurements)
+        p.renderer.SetUseOIT(False)
         _CANVAS["made"] += 1
         _CANVAS["axes"] = None
     else:
@@ -244,11 +248,11 @@ PICTURE_FIELD = (0.02, 0.03, 0.80, 0.88)
 ISO = ((1.0, 1.0, 1.0), (0.0, 0.0, 1.0))      # isometric: looking from (1, 1, 1), z up
 
 
-def _fit(p, points: np.ndarray, toward, up, render: bool = True) -> None:
+def _fit(p, points: np.ndarray, toward, up) -> None:
     """Parallel projection looking from direction `toward` (to the camera) with `up` as near
     vertical as it can be, fitted tightly to `points` (undeformed and deformed), the model
     inside PICTURE_FIELD. The camera is set here in full (pyvista's view presets keep state that
-    spoils a later parallel fit); rendered for a still, not with render=False (frames render)."""
+    spoils a later parallel fit); the picture is rendered when taken (`grab`)."""
     cam = p.camera
     d = -np.asarray(toward, float)
     d /= np.linalg.norm(d)
@@ -272,8 +276,6 @@ def _fit(p, points: np.ndarray, toward, up, render: bool = True) -> None:
     cam.parallel_projection = True
     cam.parallel_scale = half_h
     p.renderer.ResetCameraClippingRange()
-    if render:
-        p.render()               # a screenshot reuses the last rendered image otherwise
 
 
 RELATIVE = "relative displacement"
@@ -314,17 +316,12 @@ def _deformed(p, drawn: _Drawn) -> None:
                    line_width=1, render=False)
 
 
-def _frame(p, drawn: _Drawn, disp, twist, colour: str | None = None, norm: float = 1.0):
-    """Move the drawing to the frame's shape (recoloured when `colour` is given) and render."""
-    drawn.move(disp, twist, colour, norm)
-    p.render()
-
-
 def _still(p, path: Path) -> Path:
     """The plotter's picture as a palette PNG file (`png`)."""
+    from .grab import grab
     from .png import write_palette_png
 
-    return write_palette_png(path, p.screenshot(None, return_img=True))
+    return write_palette_png(path, grab(p))
 
 
 def _clock(p, text: str):
@@ -409,9 +406,9 @@ def render_modes(folder: Path, model, modal, length: float, frames: int = MODE_F
         if animate:
             def show(i, drawn=drawn, disp=disp, twist=twist):
                 a = np.sin(2 * np.pi * i / frames)
-                _frame(p, drawn, disp * a, twist * a)
+                drawn.move(disp * a, twist * a)
             p.render_window.SetSize(*moving)
-            _fit(p, span, *view, render=False)
+            _fit(p, span, *view)
             out += _animate(p, show, frames, stem, fps, _clock(p, ""),
                             _cycle_captions(float(modal.modes.period[jj]), frames), size=moving, video=video)
     return out
@@ -425,6 +422,7 @@ def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
     place), so one context serves every frame."""
     from .animation import write_animation
     from .caption import FIXED_FROM, FixedCaption
+    from .grab import grab
 
     p.render_window.SetSize(*size)
     _bar_fonts(p, size)
@@ -438,7 +436,7 @@ def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
         elif clock is not None:
             clock.set_text("lower_left", captions[i])
         show(i)
-        images.append(p.screenshot(None, return_img=True))
+        images.append(grab(p))
     return write_animation(stem, images, fps, video)
 
 
@@ -492,9 +490,9 @@ def render_response(folder: Path, model, name: str, frame_t, frames, animate: bo
 
         def show(i):
             c = member_curves(model, frames[shown[i]], prepared=prepared)
-            _frame(p, drawn, c.disp * k, c.twist * k, "motion (m)", k if k > 0 else 1.0)
+            drawn.move(c.disp * k, c.twist * k, "motion (m)", k if k > 0 else 1.0)
         marks = [f"t = {frame_t[i]:.4g} s" + ("  (largest motion)" if i == worst else "") for i in shown]
         p.render_window.SetSize(*moving)
-        _fit(p, span, *ISO, render=False)
+        _fit(p, span, *ISO)
         out += _animate(p, show, len(shown), folder / name, fps, clock, marks, size=moving, video=video)
     return out
