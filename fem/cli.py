@@ -1,7 +1,7 @@
 """Command line: `quaver check DECK`, `quaver run DECK`, `quaver study FILE` (fem/study/command.py). Heavy imports happen inside commands.
 
 `quaver run` is `run_deck`: read_deck -> solve -> write_results -> the summary; the summary's
-numbers (print_solved) are printed as soon as the tables are staged, before any picture is drawn,
+numbers (print_solved) are printed as soon as results.json is staged, before the tables and pictures,
 and its closing lines (print_written) once the results folder is in place.
 
 Exit statuses: 0 all self-checks pass; 1 results written, a self-check failed; 2 a mistake in

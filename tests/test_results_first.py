@@ -57,7 +57,7 @@ def test_the_numbers_are_printed_before_the_pictures_are_drawn(tmp_path, deck, c
     assert any(" LOAD " in line and "max translation" in line for line in first)
     assert any(" MODES " in line and "first Hz" in line for line in first)
     assert first[-1] == "  self-checks: all pass"
-    # ... the tables and results.json are written (staged), and nothing is in place yet
+    # ... results.json and then the tables are written (staged), and nothing is in place yet
     assert {"results.json", "modes.csv", "displacements.csv"} <= set(seen["staged"])
     assert not seen["in place"]
     # the closing lines follow once the folder is in place: the pictures' notice first
@@ -66,6 +66,22 @@ def test_the_numbers_are_printed_before_the_pictures_are_drawn(tmp_path, deck, c
         "Caution: Results support, and never replace, the judgement of a qualified engineer; local codes and "
         "licensed practice govern."]
     assert (out / "results.json").exists() and not _leftovers(tmp_path)
+
+
+def test_the_summary_waits_for_results_json_alone(tmp_path, deck):
+    # the caller's summary (staged) comes once results.json is written, before the tables, the
+    # files for viewers and the rest (on the rack demo they take about a second, mostly gzip)
+    from fem import read_deck, solve, write_results
+
+    seen = {}
+
+    def staged(doc):
+        here = next(tmp_path.glob(".quaver-*"))
+        seen["files"] = sorted(p.relative_to(here).as_posix() for p in here.rglob("*") if p.is_file())
+        seen["cases"] = sorted(c["name"] for c in doc["cases"])
+    written = write_results(solve(read_deck(deck)), tmp_path / "proj", render=False, staged=staged)
+    assert seen["files"] == ["results.json"] and seen["cases"] == ["LOAD", "MODES"]
+    assert (written.path / "modes.csv").is_file() and (written.path / "modes").is_dir()
 
 
 def test_the_summary_is_one_text_whatever_the_pictures(tmp_path, deck, capsys, monkeypatch):

@@ -96,10 +96,10 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
     video : bool
         Also write each animation as MP4 (when an ffmpeg encoder is installed); WebP always.
     staged : callable, optional
-        Called with the results document once the tables, viewer files and results.json are
-        written (staged, not yet in place), before the pictures and the report: `quaver run`
-        prints the summary there, so the first numbers do not wait for the drawing. What it
-        raises fails the write as any other error does (nothing is moved into place).
+        Called with the results document once results.json is written (staged, not yet in
+        place), before the tables, viewer files, pictures and report: `quaver run` prints the
+        summary there, so the first numbers wait for none of them. What it raises fails the
+        write as any other error does (nothing is moved into place).
     write : {'tables', 'viewers', 'all'}
         What the folder holds: 'tables' results.json and the CSV tables; 'viewers' those and
         the files for VTK viewers (modes/, response/); 'all' (default) also the plots, pictures
@@ -134,15 +134,17 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
 
             # the drawing processes start while the tables are written
             pool = render_pool.start_pool(jobs)
+        # results.json first and the caller's summary at once: the tables and viewer files
+        # (a second on the rack demo, mostly gzip) follow while it is read
+        doc = write_results_json(results, tmp)
+        if staged is not None:
+            staged(doc)
         write_tables(results, tmp)
         if write != "tables":
             for r in results.of_kind("modes"):
                 write_mode_files(tmp / "modes", model, r)
             for r in results.of_kind("free", "history"):
                 write_response_files(tmp / "response", model, r.name, r.frame_t, r.frames)
-        doc = write_results_json(results, tmp)
-        if staged is not None:
-            staged(doc)
         if write == "all":
             # the report's plots are drawn while the pool draws the pictures
             notice, plotted = (pictures.pictures_and_plots(results, tmp, jobs, draw_modes, fps, video, pool=pool)
