@@ -1,18 +1,12 @@
 """Animations written once as animated WebP, response animations capped in frames, and one
 offscreen plotter reused for every picture a process draws."""
 
-import json
-import subprocess
-import sys
-from pathlib import Path
 
 import numpy as np
-import pytest
+from drawing import drawn
 
 from fem.output.animation import write_animation
-from fem.output.render import RESPONSE_FRAMES, can_render, response_frames
-
-ROOT = Path(__file__).parents[1]
+from fem.output.render import RESPONSE_FRAMES, response_frames
 
 
 def test_webp_keeps_every_frame_and_its_timing(tmp_path):
@@ -72,13 +66,7 @@ print(json.dumps({"made": render.plotters_made(), "files": sorted(f.name for f i
 
 
 def test_one_plotter_draws_every_picture_of_a_process(tmp_path):
-    ok, why = can_render()
-    if not ok:
-        pytest.skip(why)
-    r = subprocess.run([sys.executable, "-c", REUSE, str(tmp_path)], capture_output=True, text=True,
-                       timeout=300, cwd=ROOT)
-    assert r.returncode == 0, r.stderr[-2000:]
-    got = json.loads(r.stdout.strip().splitlines()[-1])
+    got = drawn(REUSE, tmp_path)
     assert got["made"] == 1                 # two modes and a response, one context
     assert got["files"] == ["MODES_mode_001.webp", "MODES_mode_001_iso.png", "MODES_mode_001_plane.png",
                             "MODES_mode_002.webp", "MODES_mode_002_iso.png", "MODES_mode_002_plane.png",
@@ -111,9 +99,6 @@ def test_fixed_captions_draw_as_the_annotation(tmp_path):
     same pixels as the corner annotation draws (caption.FixedCaption), the wider caption of the
     largest motion included, each frame taken as the pictures take them (grab.grab); in a child
     process (an offscreen context)."""
-    ok, why = can_render()
-    if not ok:
-        pytest.skip(why)
     code = r'''
 import json, sys
 import numpy as np, pyvista as pv
@@ -139,9 +124,7 @@ b, (found, longest) = frames(True)
 print(json.dumps({"same": [bool(np.array_equal(x, y)) for x, y in zip(a, b)], "found": found,
                   "longest": longest}))
 '''
-    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300, cwd=ROOT)
-    assert r.returncode == 0, r.stderr[-2000:]
-    got = json.loads(r.stdout.strip().splitlines()[-1])
+    got = drawn(code)
     assert got["found"] and all(got["same"])
     assert got["longest"] < len("t = 0.26 s  (largest motion)")      # that one is the annotation's
 

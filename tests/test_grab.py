@@ -3,16 +3,7 @@ in drawing order (render._canvas): the same drawing as VTK's own gamma-weighted 
 order-independent translucency, which are the references here, apart from anti-aliased edge
 pixels. In a child process (an offscreen context)."""
 
-import json
-import subprocess
-import sys
-from pathlib import Path
-
-import pytest
-
-from fem.output.render import can_render
-
-ROOT = Path(__file__).parents[1]
+from drawing import drawn
 
 CODE = r'''
 import json, sys
@@ -64,13 +55,7 @@ print(json.dumps(out))
 
 
 def test_frames_read_back_are_the_drawing(tmp_path):
-    ok, why = can_render()
-    if not ok:
-        pytest.skip(why)
-    r = subprocess.run([sys.executable, "-c", CODE, str(tmp_path)], capture_output=True, text=True,
-                       timeout=300, cwd=ROOT)
-    assert r.returncode == 0, r.stderr[-2000:]
-    got = json.loads(r.stdout.strip().splitlines()[-1])
+    got = drawn(CODE, tmp_path)
     assert got["again"]                             # the same frame read twice: the same pixels
     for what in ("resolve", "oit"):
         c = got[what]

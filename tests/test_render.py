@@ -9,6 +9,7 @@ import sys
 from pathlib import Path
 
 import pytest
+from drawing import drawn
 
 from fem.output.render import can_render
 
@@ -67,13 +68,7 @@ def deck(tmp_path_factory):
 
 
 def test_renders_show_motion(deck, tmp_path):
-    ok, why = can_render()
-    if not ok:
-        pytest.skip(why)
-    r = subprocess.run([sys.executable, "-c", CHECK, str(deck), str(tmp_path)], capture_output=True,
-                       text=True, timeout=300, cwd=ROOT)
-    assert r.returncode == 0, r.stderr[-2000:]
-    got = json.loads(r.stdout.strip().splitlines()[-1])
+    got = drawn(CHECK, deck, tmp_path)
     assert got["size"] == [720, 960]        # a 6 m cantilever is tall: portrait
     assert got["nonwhite"] > 0.005          # something is drawn
     # inside the model's region the deformed picture differs from the undeformed one (the

@@ -2,16 +2,8 @@
 with a ribbon on the twisting channel; its sway mode has none. Rendered in a child process (as
 in test_render) so a broken GL stack cannot take the session down."""
 
-import json
-import subprocess
-import sys
-from pathlib import Path
 
-import pytest
-
-from fem.output.render import can_render
-
-ROOT = Path(__file__).parents[1]
+from drawing import drawn
 
 CHECK = r"""
 import sys, json
@@ -45,16 +37,10 @@ print(json.dumps(got))
 
 
 def test_a_twisting_member_carries_a_ribbon(tmp_path):
-    ok, why = can_render()
-    if not ok:
-        pytest.skip(why)
     from tests.test_mode_shapes_drawn import MAT, MOTOR
 
     deck = tmp_path / "motor.deck"
     deck.write_text(MAT + MOTOR)
-    r = subprocess.run([sys.executable, "-c", CHECK, str(deck), str(tmp_path)], capture_output=True,
-                       text=True, timeout=600, cwd=ROOT)
-    assert r.returncode == 0, r.stderr[-2000:]
-    got = json.loads(r.stdout.strip().splitlines()[-1])
+    got = drawn(CHECK, deck, tmp_path, timeout=600)
     assert got["1"] > 500          # the rolling mode: the channel's ribbon is drawn
     assert got["4"] == 0           # the sway: no member twists enough to carry one
