@@ -92,27 +92,32 @@ def _modes_checks(r) -> dict:
             "mass_target": None if r.target is None else r.target.tolist(), "mass_target_met": r.target_met}
 
 
+def _texts(notes) -> list[str]:
+    """A case's warnings (fem.Note) as the texts results.json holds."""
+    return [str(w) for w in notes]
+
+
 def _free_checks(r) -> dict:
     return {"initial_displacement_captured": r.captured, "start_support_force_error": r.start_force_error,
             "inertia_balance_relative": r.inertia_balance, "inertia_balance_rounding": r.inertia_rounding,
-            "inertia_balance_pass": bool(r.inertia_ok), "warnings": [str(w) for w in r.warnings]}
+            "inertia_balance_pass": bool(r.inertia_ok), "warnings": _texts(r.warnings)}
 
 
 def _history_checks(r) -> dict:
-    return {"static_correction": r.corrected, "warnings": [str(w) for w in r.warnings]}
+    return {"static_correction": r.corrected, "warnings": _texts(r.warnings)}
 
 
 def _harmonic_checks(r) -> dict:
     return {"static_correction": r.corrected, "highest_mode_Hz": r.highest_mode_Hz,
             "modes_complete_to_Hz": r.modes_complete_Hz if np.isfinite(r.modes_complete_Hz) else None,
-            "modes_cover_band": bool(r.modes_complete_Hz >= r.freq[-1]), "warnings": [str(w) for w in r.warnings]}
+            "modes_cover_band": bool(r.modes_complete_Hz >= r.freq[-1]), "warnings": _texts(r.warnings)}
 
 
 def _spectrum_checks(r) -> dict:
     excited = [a for a, f in zip("XYZ", r.directions) if f != 0]     # one fraction per excited direction
     return {"missing_mass_fraction": dict(zip(excited, map(float, r.missing_fraction))),
             "missing_mass_correction": r.missing, "periods_outside_table_s": r.periods_outside,
-            "warnings": [str(w) for w in r.warnings]}
+            "warnings": _texts(r.warnings)}
 
 
 def _buckling_checks(r) -> dict:

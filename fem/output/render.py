@@ -18,6 +18,7 @@ from pathlib import Path
 import numpy as np
 
 from .fmt import percent
+from .grab import grab
 from .vtk import MAX_TURN, drawing_scale
 
 __all__ = ["MODE_FRAMES", "RESPONSE_FRAMES", "can_render", "drawing_scale", "one_line", "plotters_made", "probed",
@@ -318,7 +319,6 @@ def _deformed(p, drawn: _Drawn) -> None:
 
 def _still(p, path: Path) -> Path:
     """The plotter's picture as a palette PNG file (`png`)."""
-    from .grab import grab
     from .png import write_palette_png
 
     return write_palette_png(path, grab(p))
@@ -422,7 +422,6 @@ def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
     place), so one context serves every frame."""
     from .animation import write_animation
     from .caption import FIXED_FROM, FixedCaption
-    from .grab import grab
 
     p.render_window.SetSize(*size)
     _bar_fonts(p, size)
