@@ -44,7 +44,7 @@ def compare(a, b):
             "differ": float((d > 0).mean()), "mean": float(np.abs(a.astype(int) - b.astype(int)).mean()),
             "white": float((a == 255).all(axis=2).mean())}
 read = grab(p)
-out = {"resolve": compare(read, shot())}
+out = {"resolve": compare(read, shot()), "oit_off": not p.renderer.GetUseOIT()}
 p.renderer.SetUseOIT(True)
 oit = grab(p)
 p.renderer.SetUseOIT(False)
@@ -57,6 +57,7 @@ print(json.dumps(out))
 def test_frames_read_back_are_the_drawing(tmp_path):
     got = drawn(CODE, tmp_path)
     assert got["again"]                             # the same frame read twice: the same pixels
+    assert got["oit_off"]                           # the pictures' plotter blends in drawing order
     for what in ("resolve", "oit"):
         c = got[what]
         assert c["shape"][0] == c["shape"][1] and c["shape"][0][2] == 3 and c["dtype"] == ["uint8", "uint8"]
