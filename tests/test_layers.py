@@ -13,7 +13,7 @@ ROOT = Path(fem.__file__).parent
 LAYERS = {
     "base": ["fem.vibration", "fem.errors", "fem.notes", "fem.limits", "fem.geometry", "fem.timefn", "fem.spectrum",
              "fem.excitation", "fem.harmonic_forms", "fem.sections*", "fem.model", "fem.cases", "fem.rules",
-             "fem.damping", "fem.progress", "fem.display"],
+             "fem.damping", "fem.progress", "fem.display", "fem.threads"],
     "deck": ["fem.deck*", "fem.grammar*"],
     "elements": ["fem.elements*", "fem.assembly"],
     "analysis": ["fem.analysis*"],

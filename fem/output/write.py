@@ -119,6 +119,13 @@ def write_results(results, folder, *, render: bool = True, jobs: int = 2, draw_m
     --------
     >>> written = write_results(solve(read_deck("decks/rack.deck")), "results/rack")  # doctest: +SKIP
     """
+    from ..threads import openblas_limited
+
+    with openblas_limited():        # one BLAS thread: the drawing processes have the other cores
+        return _write(results, folder, render, jobs, draw_modes, fps, staged, write, video)
+
+
+def _write(results, folder, render, jobs, draw_modes, fps, staged, write, video) -> Written:
     from .vtk import write_mode_files, write_response_files
 
     if write not in WRITE_CHOICES:
