@@ -1,12 +1,11 @@
-"""Animations written once as animated WebP, response animations capped in frames, and one
-offscreen plotter reused for every picture a process draws."""
+"""Animations written once as animated WebP, and one offscreen plotter reused for every picture
+a process draws (which frames a response animation plays: tests/test_vtk_files.py)."""
 
 
 import numpy as np
 from drawing import drawn
 
 from fem.output.animation import write_animation
-from fem.output.render import RESPONSE_FRAMES, response_frames
 
 
 def test_webp_keeps_every_frame_and_its_timing(tmp_path):
@@ -29,14 +28,6 @@ def test_webp_keeps_every_frame_and_its_timing(tmp_path):
         got = np.asarray(anim.convert("RGB"), float)
         # each frame shows its own bar where it was drawn (dark) and white elsewhere
         assert got[20, 8 + 6 * k].max() < 128 and got[40, 8 + 6 * k].min() > 200
-
-
-def test_response_frames_are_capped_and_keep_first_last_and_largest():
-    assert list(response_frames(50, 7)) == list(range(50))       # under the cap: every frame
-    shown = response_frames(1001, 333)
-    assert RESPONSE_FRAMES <= len(shown) <= RESPONSE_FRAMES + 1
-    assert shown[0] == 0 and shown[-1] == 1000 and 333 in shown
-    assert (np.diff(shown) > 0).all() and np.diff(shown).max() <= 1000 / (RESPONSE_FRAMES - 1) + 1
 
 
 REUSE = r"""

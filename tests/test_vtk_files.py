@@ -126,7 +126,7 @@ def test_response_frames_hold_the_peak_and_follow_the_modes(tmp_path):
     """Every free and history response: one frame is the step of the largest translation
     (equal to results.json's peak to rounding), and frames are at most 1/8 of the shortest
     period among the modes that matter apart, or 200 spread over the run."""
-    from fem.analysis.free_case import FRAMES_PER_PERIOD, MAX_FRAMES
+    from fem.analysis.free_case import ANIMATED, FRAMES_PER_PERIOD, MAX_FRAMES
 
     seen = 0
     for deck in (RACK, MAST):
@@ -154,7 +154,7 @@ def test_response_frames_hold_the_peak_and_follow_the_modes(tmp_path):
             shortest = min(modes["period_s"])
             # either resolving the shortest retained period, or capped at the frame budget
             assert step.max() <= max(shortest / FRAMES_PER_PERIOD * 1.0001 + 1e-12,
-                                     case["duration_s"] / (MAX_FRAMES - 1) * 1.5)
+                                     case["duration_s"] / (MAX_FRAMES - ANIMATED - 1) * 1.5)
     assert seen == 3                       # SURGE, QUAKE, RELEASE
 
 
@@ -167,12 +167,46 @@ def test_frame_spacing_from_the_modes():
     omega = 2 * np.pi / np.array([0.1, 0.01])
     q = np.c_[np.sin(omega[0] * t), 1e-3 * np.sin(omega[1] * t)]
     shapes = np.ones((3, 6, 2))
-    idx = frame_indices(t, q, shapes, omega, must=[503])
+    idx, _ = frame_indices(t, q, shapes, omega, 503)
     assert 503 in idx and idx[0] == 0 and idx[-1] == len(t) - 1
     assert np.diff(idx).max() == 12          # floor(0.1 / 8 / 0.001)
     q[:, 1] *= 100                           # now the 0.01 s mode matters: every step, capped
-    idx = frame_indices(t, q, shapes, omega, cap=50)
-    assert len(idx) <= 51 and np.ptp(np.diff(idx)[:-1]) == 0
+    idx, shown = frame_indices(t, q, shapes, omega, 503, cap=50, animated=10)
+    # 39 spread over the run (1000 steps in 26s), the 10 the animation plays, the last
+    assert np.isin(np.arange(0, len(t), 26), idx).all() and len(idx) <= 50
+
+
+@pytest.mark.parametrize("peak", [0, 7, 3001, 5995, 6000])
+def test_an_animation_plays_every_mode_at_its_own_speed(peak):
+    """A long run (12 s at 2 ms) of a 3.5 Hz mode with a 13.5 Hz one at 3 % of its motion: the
+    animation plays ANIMATED frames in a row, the peak's among them, at one spacing giving the
+    largest mode 8 frames a period and the 13.5 Hz one at least NO_ALIAS (over 2: by the
+    sampling theorem no mode then shows as a slower motion that is not there); they are kept
+    frames. Spread over the run at the frame cap instead (as before), 13.5 Hz would have had a
+    frame every 0.08 s: 0.9 a period, drawn as a slow drift."""
+    from fem.analysis.free_case import ANIMATED, FRAMES_PER_PERIOD, MAX_FRAMES, NO_ALIAS, frame_indices
+
+    t = np.arange(0, 12.0005, 0.002)
+    f = np.array([3.5, 13.5])
+    q = np.c_[np.sin(2 * np.pi * f[0] * t), 0.03 * np.sin(2 * np.pi * f[1] * t)]
+    kept, shown = frame_indices(t, q, np.ones((3, 6, 2)), 2 * np.pi * f, peak)
+    played = kept[shown]
+    assert len(played) == ANIMATED and peak in played and len(kept) <= MAX_FRAMES + 2
+    gap = np.diff(t[played])
+    np.testing.assert_allclose(gap, gap[0], atol=1e-12)
+    assert 1 / (f[1] * gap[0]) >= NO_ALIAS and 1 / (f[0] * gap[0]) >= FRAMES_PER_PERIOD
+    # not the time step: the frames span several cycles of the largest mode (4.96 here)
+    assert t[played[-1]] - t[played[0]] >= 4 / f[0]
+
+
+def test_a_short_run_is_played_whole():
+    # 0.3 s of a 2 Hz mode: a frame every 6 steps (floor(0.5 s / 8 / 0.01 s)), from the start
+    from fem.analysis.free_case import frame_indices
+
+    t = np.arange(0, 0.3005, 0.01)
+    q = np.sin(2 * np.pi * 2.0 * t)[:, None]
+    kept, shown = frame_indices(t, q, np.ones((2, 6, 1)), np.array([4 * np.pi]), 12)
+    np.testing.assert_array_equal(kept[shown], np.arange(0, len(t), 6))
 
 
 ISOLATED = Path(__file__).parents[1] / "decks" / "fanframe-isolated.deck"

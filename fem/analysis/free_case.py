@@ -53,6 +53,7 @@ class FreeCaseResult:
     links: np.ndarray = None        # (d,) largest |force| of the rigid links at their linked DOFs (link_dynamics)
     link_times: np.ndarray = None   # (d,) s, when
     springs: object = None          # fem.analysis.spring_forces.SpringForces: peaks over time (None: no springs)
+    animated: np.ndarray = None     # positions in frame_t of the frames an animation plays (frame_indices)
 
 
 BALANCE_TOL = 1e-6        # per-mode reactions vs inertia forces; limited by the eigen residuals
@@ -101,29 +102,48 @@ def peaks(q, shapes, t, static=None, g=None, block=2000):
 FRAMES_PER_PERIOD = 8     # a sine drawn at 8 points a cycle reads as smooth motion
 MAX_FRAMES = 200          # caps drawing time (~0.1 s a frame) and file size; frames then spread evenly
 MATTERS = 0.01            # a mode matters when its largest motion is >= 1 % of the largest mode's
+ANIMATED = 60             # frames an animation plays: 5 s at 12 a second, around the largest motion (our choice)
+NO_ALIAS = 3              # frames a period of every mode that matters in an animation: over 2, no motion
+                          # shows as a slower one that is not there (the sampling theorem)
 
 
-def frame_indices(t, q, shapes, omega, must=(), per_period: int = FRAMES_PER_PERIOD,
-                  cap: int = MAX_FRAMES) -> np.ndarray:
-    """Time-step indices of the animation frames, sorted: spaced at 1/per_period of the
-    shortest period among the modes that matter (largest |q_k| times largest translation of
-    phi_k at least MATTERS of the largest such product), never closer than the time step, at
-    most about `cap` spread evenly over the run, plus the first and last steps and `must`.
+def frame_indices(t, q, shapes, omega, peak: int, per_period: int = FRAMES_PER_PERIOD,
+                  cap: int = MAX_FRAMES, animated: int = ANIMATED) -> tuple[np.ndarray, np.ndarray]:
+    """Time-step indices of the frames kept, sorted, and the positions among them of the frames
+    an animation plays.
+
+    Kept: spaced at 1/per_period of the shortest period among the modes that matter (largest
+    |q_k| times largest translation of phi_k at least MATTERS of the largest such product),
+    never closer than the time step, at most about `cap` - `animated` spread evenly over the
+    run, plus the first and last steps, step `peak` and the animation's frames.
+    Played: all of those if they are `animated` or fewer, else `animated` steps in a row around
+    `peak`, which is one, spaced at 1/per_period of the period of the mode of largest motion or
+    1/NO_ALIAS of the shortest period that matters, whichever is less, never closer than the
+    time step: every mode that matters is seen at its own speed, however long the run.
 
     t (m,) s; q (m, k) modal coordinates; shapes (n, 6, k); omega (k,) rad/s."""
     m = len(t)
     if m <= 1:
-        return np.arange(m)
+        return np.arange(m), np.arange(m)
     dt = float(t[1] - t[0])
     size = np.abs(q).max(axis=0) * np.abs(shapes[:, :3]).max(axis=(0, 1))
     matter = (omega > 0) & (size >= MATTERS * size.max()) if size.max() > 0 else omega > 0
-    stride = 1
+    stride = played = 1
     if matter.any():
         shortest = 2 * np.pi / float(omega[matter].max())
         stride = max(1, int(shortest / per_period / dt))
-    if (m - 1) / stride + 1 > cap:
-        stride = int(np.ceil((m - 1) / (cap - 1)))
-    return np.union1d(np.arange(0, m, stride), np.array([m - 1, *must], dtype=int))
+        largest = 2 * np.pi / float(omega[np.argmax(np.where(matter, size, -1.0))])
+        played = max(1, int(min(largest / per_period, shortest / NO_ALIAS) / dt))
+    spread = np.union1d(np.arange(0, m, stride), [m - 1, peak])
+    if len(spread) <= animated:               # a short run: every frame kept is played
+        return spread, np.arange(len(spread))
+    before = max(min(animated // 2, peak // played),            # played frames before the peak's
+                 -(-(peak + played * (animated - 1) - (m - 1)) // played))      # room for the rest after it
+    shown = np.arange(peak - played * min(before, peak // played), m, played)[:animated]
+    if (m - 1) / stride + 1 > cap - len(shown):
+        stride = int(np.ceil((m - 1) / max(cap - len(shown) - 1, 1)))
+    kept = np.union1d(np.arange(0, m, stride), np.array([m - 1, peak, *shown], dtype=int))
+    return kept, np.searchsorted(kept, shown)
 
 
 def peak_index(t, peak, peak_time) -> int:
@@ -132,17 +152,11 @@ def peak_index(t, peak, peak_time) -> int:
     return int(np.argmin(np.abs(t - peak_time[node, d])))
 
 
-def animation_frames(t, q, shapes, static=None, g=None, omega=None, must=()):
-    """Frames of the whole deformed shape at frame_indices (evenly about 120 when omega is not
-    given): times (f,), displacements (f, n, 6)."""
-    if omega is None:
-        idx = np.union1d(np.arange(0, len(t), max(1, len(t) // 120)), np.asarray(must, dtype=int))
-    else:
-        idx = frame_indices(t, q, shapes, omega, must)
-    frames = np.einsum("fk,ndk->fnd", q[idx], shapes)
-    if static is not None:
-        frames += g[idx, None, None] * static.reshape(-1, 6)[None]
-    return t[idx], frames
+def animation_frames(t, q, shapes, omega, peak: int):
+    """Frames of the whole deformed shape at frame_indices: times (f,), displacements
+    (f, n, 6), and the positions of those an animation plays."""
+    idx, shown = frame_indices(t, q, shapes, omega, peak)
+    return t[idx], np.einsum("fk,ndk->fnd", q[idx], shapes), shown
 
 
 def free_bytes(steps: int, modes: int, recorded: int) -> float:
@@ -205,8 +219,8 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
                      "are missing from every reaction and member-force peak of this case; keep more "
                      "modes (count or fmax of the modes case) until this is below "
                      f"{100 * START_FORCE_TOL:g} %",)
-    ft, frames = animation_frames(t, q, modal.shapes, omega=omega,
-                                  must=[peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
+    ft, frames, shown = animation_frames(t, q, modal.shapes, omega,
+                                         peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6)))
     warnings = tuple(Note(case.location, w) for w in warnings)
     rel, rounding, ok = inertia_balance_terms(model, asm, modal, Rm)
     from .stress import series_stresses
@@ -221,7 +235,8 @@ def solve_free_case(model: Model, asm: Assembled, case: LoadCase, modal: ModesCa
     return FreeCaseResult(case.name, t, record, u, peak.reshape(-1, 6), peak_t.reshape(-1, 6),
                           captured, zeta, r_peak.reshape(-1, 6), m_peak.reshape(-1, 12),
                           rel, ft, frames, warnings, start_error, rounding, ok, stresses, l_peak, l_time,
-                          springs=series_springs(model, q, modal.shapes.reshape(6 * model.n_nodes, -1), t))
+                          springs=series_springs(model, q, modal.shapes.reshape(6 * model.n_nodes, -1), t),
+                          animated=shown)
 
 
 def inertia_balance(model: Model, asm: Assembled, modal: ModesCaseResult, Rm) -> float:

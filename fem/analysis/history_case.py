@@ -53,6 +53,7 @@ class HistoryResult:
     links: np.ndarray = None        # (d,) largest |force| of the rigid links at their linked DOFs (link_dynamics)
     link_times: np.ndarray = None   # (d,) s, when
     springs: object = None          # fem.analysis.spring_forces.SpringForces: peaks over time (None: no springs)
+    animated: np.ndarray = None     # positions in frame_t of the frames an animation plays (frame_indices)
 
 
 class HistorySeries(NamedTuple):
@@ -204,7 +205,7 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
     warnings += ground_mass_warnings(case, modal, [gr for _, _, gr in groups if gr is not None])
     warnings = tuple(Note(case.location, w) for w in warnings)
     # animation frames spaced by the modes that matter, the step of the largest motion among them
-    frames = frame_indices(t, q, modal.shapes, omega, [peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6))])
+    frames, shown = frame_indices(t, q, modal.shapes, omega, peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6)))
     from .link_dynamics import history_link_peaks, history_link_statics
 
     l_peak, l_time = history_link_peaks(model, asm, groups, shapes, own["displacement"], qg, acc, a_ground,
@@ -218,7 +219,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
                          HistorySeries(qg, {**own, "line_load": np.array(lines).T},
                                        inertia=None if carried is None and l_peak is None else np.hstack([acc, a_ground])),
                          l_peak, l_time,
-                         springs=series_springs(model, qg, np.hstack([shapes, own["displacement"]]), t))
+                         springs=series_springs(model, qg, np.hstack([shapes, own["displacement"]]), t),
+                         animated=shown)
 
 
 def _stresses(model, qg, columns, G, lines, t):

@@ -21,8 +21,8 @@ from .fmt import percent
 from .grab import grab
 from .vtk import MAX_TURN, drawing_scale
 
-__all__ = ["MODE_FRAMES", "RESPONSE_FRAMES", "can_render", "drawing_scale", "one_line", "plotters_made", "probed",
-           "release", "render_modes", "render_response", "response_frames", "start_probe"]
+__all__ = ["MODE_FRAMES", "can_render", "drawing_scale", "one_line", "plotters_made", "probed", "release",
+           "render_modes", "render_response", "start_probe"]
 
 # the pictures' kind of offscreen window, rendered once on VTK alone (0.3 s of CPU; 1.0 s via pyvista)
 _PROBE = ("import vtkmodules.vtkRenderingOpenGL2\nfrom vtkmodules.vtkRenderingCore import vtkRenderWindow, vtkRenderer\n"
@@ -33,7 +33,6 @@ SIZE = (960, 720)           # still pictures
 GIF_SIZE = (640, 480)       # animations: smaller frames keep files and the report light
 FPS = 12.0                  # animation frames a second (quaver run --fps)
 MODE_FRAMES = 16            # frames of a mode's cycle: a sine at 16 points reads as smooth motion
-RESPONSE_FRAMES = 120       # at most this many frames of a response animation, spread evenly (our choice)
 
 
 _ANSI = re.compile(r"\x1b\[[0-9;?]*[ -/]*[@-~]|\x1b[@-_]")
@@ -439,19 +438,12 @@ def _animate(p, show, count: int, stem: Path, fps: float = FPS, clock=None,
     return write_animation(stem, images, fps, video)
 
 
-def response_frames(count: int, worst: int, cap: int = RESPONSE_FRAMES) -> np.ndarray:
-    """Indices of the frames a response animation shows: all of `count` up to `cap`, else about
-    `cap` spread evenly with the first, the last and the one of largest motion (`worst`)."""
-    if count <= cap:
-        return np.arange(count)
-    return np.union1d(np.linspace(0, count - 1, cap).round().astype(int), [worst])
-
-
-def render_response(folder: Path, model, name: str, frame_t, frames, animate: bool = True,
+def render_response(folder: Path, model, name: str, frame_t, frames, shown=None, animate: bool = True,
                     fps: float = FPS, video: bool = False) -> list[Path]:
     """Animation (WebP; MP4 too with `video`) of a free or history response at an exaggerated
-    but constant scale, at most about RESPONSE_FRAMES frames each captioned with its time, and
-    a PNG of the frame with the largest motion. Members follow
+    but constant scale, of the frames at positions `shown` (the result's `animated`, frames in
+    a row around the largest motion; None: all), each captioned with its time, and a PNG of
+    the frame with the largest motion. Members follow
     their interpolated shapes; the scale makes the largest translation 5 % of the model's size
     unless the rotations would then pass MAX_TURN (as for mode shapes)."""
     from ..elements.interpolate import member_curves, points_per_member, prepare_curves
@@ -485,7 +477,7 @@ def render_response(folder: Path, model, name: str, frame_t, frames, animate: bo
     _still(p, png)
     out = [png]
     if animate:
-        shown = response_frames(len(frame_t), worst)
+        shown = np.arange(len(frame_t)) if shown is None else np.asarray(shown)
 
         def show(i):
             c = member_curves(model, frames[shown[i]], prepared=prepared)

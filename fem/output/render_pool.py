@@ -17,7 +17,8 @@ def _render_chunk(args):
     kind, folder, model, item, extra, fps, video = args
     if kind == "modes":
         return render_modes(folder, model, item, extra, fps=fps, video=video)
-    return render_response(folder, model, item.name, item.frame_t, item.frames, fps=fps, video=video)
+    return render_response(folder, model, item.name, item.frame_t, item.frames, item.animated, fps=fps,
+                           video=video)
 
 
 def _warm() -> None:
