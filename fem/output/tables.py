@@ -68,9 +68,10 @@ def write_csv(path: Path, header, rows) -> None:
 
 SERIES_DIGITS = 9     # significant digits of the series tables: round-off far below any engineering use
 _ROWS = 20_000        # rows formatted at a time (bounds the memory of a long series)
-# zlib's default level; gzip's 9 made the rack demo's tables take 1.6 s of CPU against 0.9 s,
-# for files under 1 % smaller (our measurement)
-GZIP_LEVEL = 6
+# the rack demo's five series tables (13.2 MB of text; our measurement): zlib level 6 took 0.55 s
+# of CPU for 5.11 MB, level 4 0.21 s for 5.33 MB (4 % more), level 1 0.10 s for 5.71 MB (12 %
+# more); gzip's 9 took about twice level 6's time for files under 1 % smaller
+GZIP_LEVEL = 4
 
 
 def write_series(path: Path, header, columns) -> None:
