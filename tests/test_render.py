@@ -325,3 +325,57 @@ def test_the_gl_probe_needs_vtk_alone_and_says_why_it_fails(monkeypatch):
     if ok:
         pytest.skip("this machine makes an offscreen window without an X server (an OSMesa fallback)")
     assert why.startswith("no OpenGL context could be created (") and "\n" not in why and "\x1b" not in why
+
+
+def test_the_drawing_processes_test_opengl_themselves(monkeypatch):
+    # with a pool, its processes' start-up (each makes its offscreen context) answers whether
+    # OpenGL works: the probe's own process is not started
+    from fem.output import render, render_pool
+
+    if not can_render()[0]:
+        pytest.skip(can_render()[1])
+    calls = []
+    monkeypatch.delenv("QUAVER_NO_GL", raising=False)
+    monkeypatch.setattr(render.subprocess, "run", lambda *a, **k: calls.append(a))
+    render.can_render.cache_clear()
+    pool = render_pool.start_pool(2)
+    try:
+        assert isinstance(pool, render_pool.Pool) and len(pool.warm) == 2
+        assert render_pool.ready(pool) == (True, "")
+    finally:
+        render_pool.stop_pool(pool)
+        render.can_render.cache_clear()
+    assert calls == []
+
+
+def test_drawing_processes_without_opengl_give_the_probes_reason(monkeypatch):
+    # an X window without an X server cannot be made (as in the probe's own test): the
+    # processes' start-up fails, and only then the probe runs, for its one-line reason
+    from fem.output import render, render_pool
+
+    monkeypatch.delenv("QUAVER_NO_GL", raising=False)
+    monkeypatch.delenv("DISPLAY", raising=False)
+    monkeypatch.setenv("VTK_DEFAULT_OPENGL_WINDOW", "vtkXOpenGLRenderWindow")
+    render.can_render.cache_clear()
+    pool = render_pool.start_pool(2)
+    try:
+        ok, why = render_pool.ready(pool)
+    finally:
+        render_pool.stop_pool(pool)
+        render.can_render.cache_clear()
+    if ok:
+        pytest.skip("this machine makes an offscreen window without an X server (an OSMesa fallback)")
+    assert why.startswith("no OpenGL context could be created (") and "\n" not in why
+
+
+def test_no_pool_with_quaver_no_gl(monkeypatch):
+    from fem.output import render, render_pool
+
+    monkeypatch.setenv("QUAVER_NO_GL", "1")
+    monkeypatch.setattr(render, "_PROBING", [])
+    render.can_render.cache_clear()
+    try:
+        assert render_pool.start_pool(2) is None
+        assert render.probed() == (False, "QUAVER_NO_GL is set")
+    finally:
+        render.can_render.cache_clear()

@@ -36,7 +36,8 @@ def draw_pictures(results, out: Path, jobs: int, draw_modes: int = 6, fps: float
 
     model = results.model
     try:
-        ok, why = render.probed()     # started with the pool (render_pool.start_pool)
+        # the drawing processes' start-up tested OpenGL, or the probe started meanwhile did
+        ok, why = render_pool.ready(pool) if pool is not None else render.probed()
         if not ok:
             return f"pictures skipped: {why}; results are complete"
         files = render_pool.render_all(out / "pictures", model, modes, responses, shape_scale(model), jobs,

@@ -6,11 +6,12 @@ from __future__ import annotations
 
 import os
 import sys
+from dataclasses import dataclass
 from pathlib import Path
 
 from .render import FPS, release, render_modes, render_response
 
-__all__ = ["PARENT_POLL", "render_all", "start_pool", "stop_pool"]
+__all__ = ["PARENT_POLL", "Pool", "ready", "render_all", "start_pool", "stop_pool"]
 
 
 def _render_chunk(args):
@@ -21,37 +22,69 @@ def _render_chunk(args):
                            video=video)
 
 
-def _warm() -> None:
-    """A drawing process's start-up: the libraries every picture needs."""
-    import pyvista  # noqa: F401
+PROBE_WAIT = 120.0     # s the drawing processes' start-up may take (as the probe's own timeout)
+
+
+@dataclass
+class Pool:
+    """Drawing processes (`start_pool`): the executor, and the start-up task of each process,
+    which answers whether it has an OpenGL context (`ready`)."""
+
+    executor: object
+    warm: list
+
+
+def _warm() -> bool:
+    """A drawing process's start-up: the libraries every picture needs and its one offscreen
+    plotter (render._canvas), one empty frame drawn; whether that has an OpenGL context."""
+    import pyvista as pv
 
     from ..elements import interpolate  # noqa: F401
+    from .render import GIF_SIZE, _canvas, grab
+
+    p = _canvas(pv, GIF_SIZE)
+    grab(p)
+    return bool(p.render_window.SupportsOpenGL())
 
 
-def start_pool(jobs: int):
+def start_pool(jobs: int) -> Pool | None:
     """The `jobs` drawing processes, started now so that their start-up (importing pyvista and
-    VTK, 1-2 s each) overlaps the writing of the tables, as does the OpenGL probe
-    (`render.start_probe`); None for one job. Hand it to
-    `render_all`, which ends it; `stop_pool` ends it if it is not used."""
+    VTK and making an offscreen context, about 1 s of CPU each) overlaps the writing of the
+    tables; that start-up is also the test of whether OpenGL works here (`ready`). None for one
+    job or with QUAVER_NO_GL set, when the OpenGL probe (`render.start_probe`) runs meanwhile
+    instead. Hand it to `render_all`, which ends it; `stop_pool` ends it if it is not used."""
     from .render import start_probe
 
-    start_probe()               # whether OpenGL works here, found meanwhile too
-    if jobs <= 1:
+    if jobs <= 1 or os.environ.get("QUAVER_NO_GL"):
+        start_probe()
         return None
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor
 
     ex = ProcessPoolExecutor(max_workers=jobs, mp_context=mp.get_context("spawn"),
                              initializer=_worker_start, initargs=(os.getpid(),))
-    for _ in range(jobs):           # a process is spawned for each task submitted while none is idle
-        ex.submit(_warm)
-    return ex
+    # a process is spawned for each task submitted while none is idle
+    return Pool(ex, [ex.submit(_warm) for _ in range(jobs)])
 
 
-def stop_pool(pool) -> None:
+def ready(pool: Pool) -> tuple[bool, str]:
+    """(True, '') once the drawing processes of `pool` have made their OpenGL contexts, else
+    (False, reason): then, and only then, `render.can_render`'s probe runs, for the reason."""
+    from concurrent.futures import wait
+
+    from .render import can_render
+
+    done, pending = wait(pool.warm, timeout=PROBE_WAIT)
+    if not pending and all(f.exception() is None and f.result() for f in done):
+        return True, ""
+    ok, why = can_render()
+    return (False, why) if not ok else (False, "the drawing processes could not make an OpenGL context")
+
+
+def stop_pool(pool: Pool | None) -> None:
     """End the drawing processes of `start_pool` (None: nothing to do) at once."""
     if pool is not None:
-        _stop_workers(pool)
+        _stop_workers(pool.executor)
 
 
 def render_all(folder: Path, model, modal_cases, responses, length: float, jobs: int = 1,
@@ -78,7 +111,7 @@ def render_all(folder: Path, model, modal_cases, responses, length: float, jobs:
             return [f for t in bar(tasks, len(tasks), "rendering") for f in _render_chunk(t)]
         finally:
             release()
-    ex = pool if pool is not None else start_pool(jobs)
+    ex = (pool if pool is not None else start_pool(jobs)).executor
     try:
         done = bar(ex.map(_render_chunk, tasks), len(tasks), "rendering")
         files = [f for files in done for f in files]
