@@ -70,7 +70,17 @@ def _run(deck: Path, out: Path, *extra: str, code: Path = ROOT) -> float:
     return dt
 
 
+def _compiled(code: Path) -> None:
+    """The checkout's package compiled to bytecode now, as an installed package is: no run then
+    compiles its sources, even where PYTHONDONTWRITEBYTECODE is set (a checkout without its
+    bytecode took 27.6 -> 31.0 s a default rack run here, its drawing processes compiling too)."""
+    import compileall
+
+    compileall.compile_dir(str(code / "fem"), quiet=1)
+
+
 def run_ratio(deck: Path, repeats: int = 1) -> None:
+    _compiled(ROOT)
     print(f"{deck.name}: load average {_load()} (1, 5, 15 min) at the start, {os.cpu_count()} cores")
     with tempfile.TemporaryDirectory() as tmp:
         full, bare = [], []
@@ -96,7 +106,9 @@ def against(other: Path, repeats: int = 2) -> None:
             "(c) this code, this rack.deck": (ROOT, ROOT / "decks" / "rack.deck")}
     head = subprocess.run(["git", "-C", str(other), "log", "-1", "--format=%h %s"],
                           capture_output=True, text=True).stdout.strip()[:90]
-    print(f"against {other} ({head}); {os.cpu_count()} cores")
+    _compiled(other)
+    _compiled(ROOT)
+    print(f"against {other} ({head}); {os.cpu_count()} cores; both packages compiled to bytecode first")
     times: dict[tuple[str, str], list[float]] = {}
     cpus: dict[tuple[str, str], list[float]] = {}
     with tempfile.TemporaryDirectory() as tmp:
