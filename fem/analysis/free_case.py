@@ -43,7 +43,7 @@ class FreeCaseResult:
     reaction_peak: np.ndarray = None
     member_peak: np.ndarray = None
     inertia_balance: float = 0.0
-    frame_t: np.ndarray = None      # (f,) times of the animation frames (frame_indices)
+    frame_t: np.ndarray = None      # (f,) times of the frames kept (frame_indices)
     frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
     warnings: tuple = ()
     start_force_error: float = 0.0  # support forces K u at t = 0: largest |modes - exact|, relative

@@ -45,7 +45,7 @@ class HistoryResult:
     corrected: bool
     reaction_peak: np.ndarray       # (n, 6) largest |reaction| over time, N / N m
     member_peak: np.ndarray         # (e, 12) largest |end force| over time, local axes
-    frame_t: np.ndarray = None      # (f,) animation frame times
+    frame_t: np.ndarray = None      # (f,) times of the frames kept (frame_indices)
     frames: np.ndarray = None       # (f, n, 6) displacements of every node at those times
     warnings: tuple = ()
     stresses: object = None         # fem.analysis.stress.MemberStresses: peaks over time
@@ -204,7 +204,8 @@ def solve_history_case(model: Model, asm: Assembled, case: LoadCase, modal: Mode
                              "each step is integrated exactly for a linear load")
     warnings += ground_mass_warnings(case, modal, [gr for _, _, gr in groups if gr is not None])
     warnings = tuple(Note(case.location, w) for w in warnings)
-    # animation frames spaced by the modes that matter, the step of the largest motion among them
+    # frames spaced by the modes that matter, the step of the largest motion among them, and the
+    # window an animation plays around it
     frames, shown = frame_indices(t, q, modal.shapes, omega, peak_index(t, peak.reshape(-1, 6), peak_t.reshape(-1, 6)))
     from .link_dynamics import history_link_peaks, history_link_statics
 

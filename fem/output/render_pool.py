@@ -108,7 +108,7 @@ def render_all(folder: Path, model, modal_cases, responses, length: float, jobs:
             tasks.append(("modes", folder, model, replace(one, first_mode=j), length, fps, video))
     from ..progress import bar
 
-    if pool is None and (jobs <= 1 or len(tasks) <= 1):
+    if pool is None and (jobs <= 1 or len(tasks) <= 1 or os.environ.get("QUAVER_NO_GL")):   # start_pool: no pool
         try:
             return [f for t in bar(tasks, len(tasks), "rendering") for f in _render_chunk(t)]
         finally:
