@@ -64,8 +64,51 @@ def test_one_plotter_draws_every_picture_of_a_process(tmp_path):
                             "REL.webp", "REL_peak.png"]
 
 
+LONG = r"""
+import json, sys
+import numpy as np
+from pathlib import Path
+from PIL import Image
+from fem import read_text, solve
+from fem.output import render, render_pool
+from fem.output.vtk import shape_scale
+deck = '''
+material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
+section P = pipe(od = 168.3 mm, wall = 7.11 mm)
+for i in 0..3 { node N[i] = (0, 0, i*1.5 m) }
+for i in 0..2 { member M[i] : N[i] -> N[i+1] beam P S }
+support N0 fixed
+mass N3 = 300 kg
+case TIP static { force N3 = (2 kN, 0, 0) }
+case MODES modes { count = 2 }
+case REL free { start = TIP, duration = 20 s, step = 0.005 s, damping = 1 percent }
+'''
+res = solve(read_text(deck))
+r = res["REL"]
+render.can_render()
+out = Path(sys.argv[1])
+render_pool.render_all(out, res.model, [], [r], shape_scale(res.model), jobs=1)
+played = r.frame_t[r.animated]
+print(json.dumps({"kept": len(r.frame_t), "played": played.tolist(), "frames": Image.open(out / "REL.webp").n_frames,
+                  "freq": res["MODES"].modes.freq.tolist()}))
+"""
+
+
+def test_a_long_response_is_animated_around_its_largest_motion(tmp_path):
+    # 20 s of free vibration of a cantilever with its head mass (2 modes): the animation plays
+    # ANIMATED frames in a row from the release (the largest motion), evenly spaced, the
+    # fundamental at 8 frames a period or more, not the whole run spread out
+    from fem.analysis.free_case import ANIMATED, FRAMES_PER_PERIOD
+
+    got = drawn(LONG, tmp_path)
+    played = np.array(got["played"])
+    assert got["frames"] == len(played) == ANIMATED < got["kept"]
+    assert played[0] == 0.0 and np.ptp(np.diff(played)) < 1e-9
+    assert 1 / (got["freq"][0] * np.diff(played)[0]) >= FRAMES_PER_PERIOD
+
+
 def test_webp_frames_decode_close_to_the_drawing(tmp_path):
-    """On one palette, lossless, with the smallest-size search: every frame kept, each within a
+    """On one palette, lossless: every frame kept, each within a
     mean of 3 of 255 a channel of what was drawn (the rack's responses measured 1.07-1.09; our
     bound), identical neighbours merged into one frame of their summed duration."""
     from PIL import Image
