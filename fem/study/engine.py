@@ -106,12 +106,12 @@ class StudyError(QuaverError, RuntimeError):
 
 
 def serial(job: Job, variants, progress: bool = True) -> list[dict]:
-    """Every variant in this process, in order. The numbers agree with the workers' to
-    round-off: a worker's BLAS runs one thread (its nanny sets OPENBLAS_NUM_THREADS=1 and the
-    like before it starts), this process as it was started; measured 1e-12 relative in the
-    mast's frequencies, and the same to the bit on small models. The partners of a repeated
-    frequency may then come out as other combinations of each other (any basis of their plane
-    is a solution)."""
+    """Every variant in this process, in order. The numbers are the workers' to the bit: a
+    worker's BLAS runs one thread (its nanny sets OPENBLAS_NUM_THREADS=1 and the like before it
+    starts, `work.run_chunk` limits it), and every solve holds OpenBLAS to one thread
+    (`fem.threads`); with this process's BLAS as it was started they were 1e-12 relative apart
+    on the demo decks, and the partners of a repeated frequency could come out as other
+    combinations of each other (any basis of their plane is a solution)."""
     seq = bar(variants, total=len(variants), label="variants") if progress else variants
     return [run_variant(job, v.index, v.let) for v in seq]
 
