@@ -30,13 +30,9 @@ def test_webp_keeps_every_frame_and_its_timing(tmp_path):
         assert got[20, 8 + 6 * k].max() < 128 and got[40, 8 + 6 * k].min() > 200
 
 
-REUSE = r"""
-import json, sys
-from pathlib import Path
-from fem import read_text, solve
-from fem.output import render, render_pool
-from fem.output.vtk import shape_scale
-deck = '''
+# a 4.5 m pipe cantilever with a 300 kg head (our own scenario), two modes, released from a tip
+# push; each test adds its free case REL
+CANTILEVER = """
 material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
 section P = pipe(od = 168.3 mm, wall = 7.11 mm)
 for i in 0..3 { node N[i] = (0, 0, i*1.5 m) }
@@ -45,11 +41,19 @@ support N0 fixed
 mass N3 = 300 kg
 case TIP static { force N3 = (2 kN, 0, 0) }
 case MODES modes { count = 2 }
-case REL free { start = TIP, duration = 0.3 s, step = 0.01 s }
-'''
-res = solve(read_text(deck))
+"""
+# a drawing script's start: the deck of its second argument solved, its pictures' folder the first
+SCRIPT = r"""
+import json, sys
+from pathlib import Path
+from fem import read_text, solve
+from fem.output import render, render_pool
+from fem.output.vtk import shape_scale
+res = solve(read_text(sys.argv[2]))
 render.can_render()
 out = Path(sys.argv[1])
+"""
+REUSE = SCRIPT + r"""
 files = render_pool.render_all(out, res.model, res.of_kind("modes"), res.of_kind("free"),
                                shape_scale(res.model), jobs=1, max_modes=2)
 print(json.dumps({"made": render.plotters_made(), "files": sorted(f.name for f in files)}))
@@ -57,36 +61,16 @@ print(json.dumps({"made": render.plotters_made(), "files": sorted(f.name for f i
 
 
 def test_one_plotter_draws_every_picture_of_a_process(tmp_path):
-    got = drawn(REUSE, tmp_path)
+    got = drawn(REUSE, tmp_path, CANTILEVER + "case REL free { start = TIP, duration = 0.3 s, step = 0.01 s }")
     assert got["made"] == 1                 # two modes and a response, one context
     assert got["files"] == ["MODES_mode_001.webp", "MODES_mode_001_iso.png", "MODES_mode_001_plane.png",
                             "MODES_mode_002.webp", "MODES_mode_002_iso.png", "MODES_mode_002_plane.png",
                             "REL.webp", "REL_peak.png"]
 
 
-LONG = r"""
-import json, sys
-import numpy as np
-from pathlib import Path
+LONG = SCRIPT + r"""
 from PIL import Image
-from fem import read_text, solve
-from fem.output import render, render_pool
-from fem.output.vtk import shape_scale
-deck = '''
-material S { E = 200 GPa, nu = 0.3, density = 7850 kg/m^3 }
-section P = pipe(od = 168.3 mm, wall = 7.11 mm)
-for i in 0..3 { node N[i] = (0, 0, i*1.5 m) }
-for i in 0..2 { member M[i] : N[i] -> N[i+1] beam P S }
-support N0 fixed
-mass N3 = 300 kg
-case TIP static { force N3 = (2 kN, 0, 0) }
-case MODES modes { count = 2 }
-case REL free { start = TIP, duration = 20 s, step = 0.005 s, damping = 1 percent }
-'''
-res = solve(read_text(deck))
 r = res["REL"]
-render.can_render()
-out = Path(sys.argv[1])
 render_pool.render_all(out, res.model, [], [r], shape_scale(res.model), jobs=1)
 played = r.frame_t[r.animated]
 print(json.dumps({"kept": len(r.frame_t), "played": played.tolist(), "frames": Image.open(out / "REL.webp").n_frames,
@@ -100,7 +84,8 @@ def test_a_long_response_is_animated_around_its_largest_motion(tmp_path):
     # fundamental at 8 frames a period or more, not the whole run spread out
     from fem.analysis.free_case import ANIMATED, FRAMES_PER_PERIOD
 
-    got = drawn(LONG, tmp_path)
+    got = drawn(LONG, tmp_path, CANTILEVER + "case REL free { start = TIP, duration = 20 s, step = 0.005 s, "
+                                            "damping = 1 percent }")
     played = np.array(got["played"])
     assert got["frames"] == len(played) == ANIMATED < got["kept"]
     assert played[0] == 0.0 and np.ptp(np.diff(played)) < 1e-9
