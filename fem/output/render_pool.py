@@ -55,7 +55,7 @@ def start_pool(jobs: int) -> Pool | None:
     instead. Hand it to `render_all`, which ends it; `stop_pool` ends it if it is not used."""
     from .render import start_probe
 
-    if jobs <= 1 or os.environ.get("QUAVER_NO_GL"):
+    if not _pooled(jobs):
         start_probe()
         return None
     import multiprocessing as mp
@@ -65,6 +65,11 @@ def start_pool(jobs: int) -> Pool | None:
                              initializer=_worker_start, initargs=(os.getpid(),))
     # a process is spawned for each task submitted while none is idle
     return Pool(ex, [ex.submit(_warm) for _ in range(jobs)])
+
+
+def _pooled(jobs: int) -> bool:
+    """Whether `jobs` drawing processes are started (`start_pool`), rather than drawing here."""
+    return jobs > 1 and not os.environ.get("QUAVER_NO_GL")
 
 
 def ready(pool: Pool) -> tuple[bool, str]:
@@ -108,7 +113,7 @@ def render_all(folder: Path, model, modal_cases, responses, length: float, jobs:
             tasks.append(("modes", folder, model, replace(one, first_mode=j), length, fps, video))
     from ..progress import bar
 
-    if pool is None and (jobs <= 1 or len(tasks) <= 1 or os.environ.get("QUAVER_NO_GL")):   # start_pool: no pool
+    if pool is None and (len(tasks) <= 1 or not _pooled(jobs)):
         try:
             return [f for t in bar(tasks, len(tasks), "rendering") for f in _render_chunk(t)]
         finally:
