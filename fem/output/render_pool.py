@@ -9,7 +9,7 @@ import sys
 from dataclasses import dataclass
 from pathlib import Path
 
-from .render import FPS, release, render_modes, render_response
+from .render import FPS, GIF_SIZE, _canvas, can_render, grab, release, render_modes, render_response, start_probe
 
 __all__ = ["PARENT_POLL", "Pool", "ready", "render_all", "start_pool", "stop_pool"]
 
@@ -40,7 +40,6 @@ def _warm() -> bool:
     import pyvista as pv
 
     from ..elements import interpolate  # noqa: F401
-    from .render import GIF_SIZE, _canvas, grab
 
     p = _canvas(pv, GIF_SIZE)
     grab(p)
@@ -53,8 +52,6 @@ def start_pool(jobs: int) -> Pool | None:
     tables; that start-up is also the test of whether OpenGL works here (`ready`). None for one
     job or with QUAVER_NO_GL set, when the OpenGL probe (`render.start_probe`) runs meanwhile
     instead. Hand it to `render_all`, which ends it; `stop_pool` ends it if it is not used."""
-    from .render import start_probe
-
     if not _pooled(jobs):
         start_probe()
         return None
@@ -76,8 +73,6 @@ def ready(pool: Pool) -> tuple[bool, str]:
     """(True, '') once the drawing processes of `pool` have made their OpenGL contexts, else
     (False, reason): then, and only then, `render.can_render`'s probe runs, for the reason."""
     from concurrent.futures import wait
-
-    from .render import can_render
 
     done, pending = wait(pool.warm, timeout=PROBE_WAIT)
     if not pending and all(f.exception() is None and f.result() for f in done):
