@@ -108,10 +108,18 @@ def _overrides(pairs) -> dict[str, str] | None:
 
 def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
-    from .errors import QuaverError
     from .output import folder
 
     folder.begin()
+    restore = _watch_interrupts()
+    try:
+        return _command(args, folder)
+    finally:
+        restore()
+
+
+def _command(args, folder) -> int:
+    from .errors import QuaverError
 
     try:
         if args.command == "check":
@@ -166,7 +174,35 @@ def main(argv: list[str] | None = None) -> int:
         _say(f"interrupted: {folder.where()}")
         return 130
     except Exception as exc:   # noqa: BLE001 - anything else is a fault in Quaver, not the user's
+        if _INTERRUPTED:        # Ctrl-C that a library turned into an error of its own
+            _say(f"interrupted: {folder.where()}")
+            return 130
         return _internal_error(exc, getattr(args, "debug", False))
+
+
+_INTERRUPTED: list = []
+
+
+def _watch_interrupts():
+    """Note every Ctrl-C (SIGINT) of the command, then raise KeyboardInterrupt as Python does:
+    a library's C code that meets the interrupt may report it as an error of its own (matplotlib's
+    drawing as "ValueError: Invalid bounding box"), which `main` then reports as the interrupt,
+    not as an internal error. Returns the function that puts the earlier handler back; nothing
+    is changed where SIGINT is not Python's own handler (ignored, or a thread other than the main)."""
+    import signal
+    import threading
+
+    _INTERRUPTED.clear()
+    if threading.current_thread() is not threading.main_thread() or \
+            signal.getsignal(signal.SIGINT) is not signal.default_int_handler:
+        return lambda: None
+
+    def noted(signum, frame):
+        _INTERRUPTED.append(signum)
+        signal.default_int_handler(signum, frame)
+
+    signal.signal(signal.SIGINT, noted)
+    return lambda: signal.signal(signal.SIGINT, signal.default_int_handler)
 
 
 def run_deck(deck: str, out: str | None = None, render: bool = True, jobs: int = 2,

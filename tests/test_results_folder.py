@@ -3,6 +3,7 @@ step of the swap, killed runs tidied without touching folders still in use, exit
 
 import json
 import os
+import signal
 import subprocess
 import sys
 import time
@@ -295,6 +296,38 @@ def test_interrupt_into_a_new_folder(tmp_path, deck, capsys, monkeypatch):
     assert _run(deck, out) == 130
     assert capsys.readouterr().err == "interrupted: no results were written\n"
     assert not out.exists() and not _leftovers(tmp_path)
+
+
+def _swallowing_interrupt(at):
+    """A folder step that meets Ctrl-C (a real SIGINT to this process) inside library code that
+    turns it into an error of its own, as matplotlib's C drawing code does."""
+    def step(name):
+        if name == at:
+            try:
+                signal.raise_signal(signal.SIGINT)
+            except KeyboardInterrupt:
+                raise ValueError("Invalid bounding box") from None
+    return step
+
+
+def test_an_interrupt_a_library_turned_into_an_error_is_reported_as_the_interrupt(tmp_path, deck, capsys,
+                                                                                    monkeypatch):
+    out = tmp_path / "fresh"
+    monkeypatch.setattr(folder, "_step", _swallowing_interrupt("before-move"))
+    assert _run(deck, out) == 130
+    assert capsys.readouterr().err == "interrupted: no results were written\n"
+    assert not out.exists() and not _leftovers(tmp_path)
+    # the command's handler is gone with it: Python's own again
+    assert signal.getsignal(signal.SIGINT) is signal.default_int_handler
+
+
+def test_the_same_error_without_an_interrupt_is_an_internal_error(tmp_path, deck, capsys, monkeypatch):
+    def step(name):
+        if name == "before-move":
+            raise ValueError("Invalid bounding box")
+    monkeypatch.setattr(folder, "_step", step)
+    assert _run(deck, tmp_path / "fresh") == 70
+    assert capsys.readouterr().err.startswith("internal error (ValueError: Invalid bounding box)")
 
 
 def test_interrupt_while_writing_and_while_printing_the_summary(tmp_path, deck, capsys, monkeypatch):
